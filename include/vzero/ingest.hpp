@@ -1,0 +1,38 @@
+// Reading raw exports into a `Run`, driven by an instrument profile.
+//
+// Three shapes (see DESIGN.md): wide (a row per read, a column per well), grid (a
+// plate-shaped block per read) and long (a row per observation). Errors name
+// file:line:column, what was expected, what was found and the profile key or option to
+// change. Overflow and missing tokens become read statuses, never numbers.
+//
+// **Example**:
+//   auto choice = vzero::choose_profile("plate.csv", "");   // "" = detect the shape
+//   vzero::Run run = vzero::read_run("plate.csv", choice.profile);
+#pragma once
+
+#include <string>
+#include <string_view>
+
+#include "vzero/profile.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero {
+
+// Reads the file at `path`; never modifies it.
+Run read_run(const std::string& path, const Profile& profile);
+// Reads an export held in memory; `name` stands for the file in messages.
+Run read_run_text(const std::string& name, std::string_view text, const Profile& profile);
+
+struct ProfileChoice {
+  Profile profile;
+  bool detected = false;   // true when vzero chose it
+  std::string reason;      // why, in words, e.g. "wide-generic: header at line 7 ..."
+};
+
+// `requested` is a built-in profile name or a path; empty means detect: every built-in
+// profile is tried on the start of the file and the one that reads the most values
+// without error wins (ties go to the first name in sorted order). Throws InputError
+// listing what each profile found when none fits.
+ProfileChoice choose_profile(const std::string& path, const std::string& requested);
+
+}  // namespace vzero

@@ -1,0 +1,62 @@
+// The plate map: what each well holds. One row per well with `well` and `role` (sample |
+// blank | standard | empty); `substrate` (initial substrate concentration), `standard_conc`
+// (a standard's known concentration) and `match` (blanks and samples sharing it pair up)
+// are understood; every other column passes through to every output, in file order.
+//
+// Two forms are read: the tidy table above, or the plate-grid form scientists draw in a
+// spreadsheet — per variable a line naming it, a header of column numbers, and one line
+// per row letter:
+//   role
+//   ,1,2,3
+//   A,sample,sample,blank
+//   substrate
+//   ,1,2,3
+//   A,10,20,10
+// Empty grid cells leave the variable empty; a well whose role is empty is not in the map.
+// Wells absent from the map are `empty` and still reported.
+#pragma once
+
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "vzero/run.hpp"
+
+namespace vzero {
+
+enum class Role { sample, blank, standard, empty };
+std::string_view to_string(Role r);
+
+struct WellInfo {
+  WellId well;
+  Role role = Role::empty;
+  double substrate = NAN;       // NaN when not given
+  double standard_conc = NAN;   // NaN when not given
+  std::string match;            // empty when not given
+  std::vector<std::string> extra;  // values of PlateMap::extra_columns
+  int line = 0;                 // where the well was defined
+};
+
+struct PlateMap {
+  std::string source;
+  std::string form;                        // "table" or "grid"
+  std::vector<std::string> extra_columns;  // pass-through column names, in file order
+  std::map<WellId, WellInfo> wells;
+
+  // The well's entry, or nullptr for wells absent from the map (role empty).
+  const WellInfo* find(WellId w) const;
+};
+
+// Reads either form (detected from the first line). Throws InputError for an unknown well
+// name, a duplicated well, an unknown role, text where a number must be, a negative or
+// zero substrate for a sample, a ragged row.
+PlateMap read_plate_map(const std::string& path);
+PlateMap parse_plate_map(const std::string& name, std::string_view text);
+
+// Checks the map against what a run read: every mapped well must exist in the run's plate
+// format and have been read in at least one channel. Throws InputError naming the well and
+// the map line.
+void check_plate_map(const PlateMap& map, const Run& run);
+
+}  // namespace vzero

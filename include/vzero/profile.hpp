@@ -1,0 +1,98 @@
+// Instrument profiles: how one family of raw exports is laid out (TOML, read with toml++).
+//
+// A profile names the shape (wide, grid or long), the delimiter and decimal mark, the time
+// format, header names, overflow and missing tokens, channel section labels and metadata
+// lines to capture. Regexes are RE2 syntax (linear time, safe on any line). Every key is
+// documented in instrument-profiles/README.md and in `wide-generic.toml`.
+//
+// **Example**:
+//   vzero::Profile p = vzero::load_profile("grid-generic");   // built-in, by name
+//   vzero::Profile q = vzero::load_profile("lab/my-reader.toml");  // or a file
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "vzero/run.hpp"
+
+namespace vzero {
+
+enum class Shape { wide, grid, long_form };
+std::string_view to_string(Shape s);
+
+// Unit of read times written as plain numbers. Text with ':' is always clock time
+// ("h:mm:ss", "mm:ss", "h:mm:ss.s"), whatever the unit.
+enum class TimeUnit { seconds, minutes, hours };
+std::string_view to_string(TimeUnit t);
+
+// A line matching `label` starts a channel section; capture group 1, when the regex has
+// one, is the channel name, else `name` is.
+struct SectionRule {
+  std::string label;
+  std::string name;                   // used when the regex captures nothing
+  std::optional<Quantity> quantity;   // else guessed from the name, else [signal]
+  std::string unit;                   // else guessed with the quantity
+  int line = 0;                       // line in the profile file, for messages
+};
+
+// A line outside the data matching `pattern` stores capture group 1 under `key`; with
+// key "$1" and two groups, group 1 is the key and group 2 the value.
+struct CaptureRule {
+  std::string pattern;
+  std::string key;
+  int line = 0;
+};
+
+struct Profile {
+  std::string name;                   // file stem, e.g. "wide-generic"
+  std::string description;
+  std::string source;                 // "built-in" or the file path
+  Shape shape = Shape::wide;
+  char delimiter = 0;                 // ',', ';', '\t'; 0 = guess per file
+  char decimal = '.';                 // '.' or ','
+  int plate_wells = 0;                // 0 = smallest standard plate holding the wells read
+  TimeUnit time_unit = TimeUnit::seconds;
+  std::vector<std::string> overflow_tokens{"OVER", "overflow", "SAT"};
+  std::vector<std::string> missing_tokens{"", "NA", "N/A", "-", "NaN"};
+  // Header names, compared case-insensitively after trimming.
+  std::vector<std::string> time_columns{"time", "time_s", "time [s]", "time (s)"};
+  std::vector<std::string> temperature_columns{"temperature", "temp", "temperature_c", "temp [c]", "temp (c)"};
+  std::vector<std::string> well_columns{"well"};
+  std::vector<std::string> value_columns{"value", "signal"};
+  std::vector<std::string> channel_columns{"channel"};
+  std::vector<std::string> ignore_columns;   // wide shape: other columns that are not wells
+  // The channel when the file names none.
+  std::string signal_name = "signal";
+  Quantity signal_quantity = Quantity::other;
+  std::string signal_unit;
+  std::vector<SectionRule> sections;
+  std::vector<CaptureRule> captures;
+  std::string grid_read_label;        // grid shape: regex; group 1 read time, group 2 (optional) temperature, C
+  int grid_read_line = 0;
+
+  // Empty if valid, else what is wrong and which key to change (also compiles regexes).
+  std::string validate() const;
+};
+
+// Parses profile TOML. `source` names the file in messages. Unknown keys, wrong types,
+// bad values and regexes that do not compile are InputErrors with the profile's line.
+Profile parse_profile(std::string_view toml_text, const std::string& source, const std::string& name);
+
+// A built-in profile name ("wide-generic") or a path to a .toml file.
+Profile load_profile(const std::string& name_or_path);
+
+// Names of the built-in profiles, sorted.
+std::vector<std::string> builtin_profile_names();
+
+namespace detail {
+struct EmbeddedProfile {
+  const char* name;
+  const char* text;
+};
+// Defined in the generated embedded_profiles.cpp.
+const std::vector<EmbeddedProfile>& embedded_profiles();
+}  // namespace detail
+
+}  // namespace vzero

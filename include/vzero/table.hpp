@@ -1,0 +1,52 @@
+// Tidy tables in and out: RFC 4180 CSV reading for plate maps and result tables, CSV
+// field quoting, round-trip number formatting, and atomic file writes.
+//
+// **Example**:
+//   vzero::Table t = vzero::read_table("rates.csv");
+//   int v0 = t.require_column("v0", "--y");       // InputError naming the option if absent
+//   vzero::write_file_atomic("out.csv", text);     // temp file + rename: no half files
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace vzero {
+
+struct Table {
+  std::string source;                          // file name, for messages
+  char delimiter = ',';
+  std::vector<std::string> header;             // trimmed names, in file order
+  std::vector<std::vector<std::string>> rows;  // each as long as header
+  std::vector<int> line_of_row;                // 1-based file line of each row
+  std::vector<std::vector<int>> column_of_cell;  // 1-based column of each cell's first character
+
+  // Index of the column named `name` (case-insensitive), or -1.
+  int column(std::string_view name) const;
+  // Same, but throws InputError naming the file, the columns found and `fix_hint`.
+  int require_column(std::string_view name, std::string_view fix_hint) const;
+  // Reads cell (row, col) as a number; nothing when empty; InputError with file:line:column
+  // when it is text.
+  std::optional<double> number(std::size_t row, int col) const;
+};
+
+// Reads a CSV (delimiter ',' ';' or tab, guessed from the header), skipping blank lines
+// and lines starting with '#'. UTF-8 with or without BOM, LF or CRLF. Throws InputError on
+// a ragged row, an unclosed quote, an empty file or a duplicated header name.
+Table read_table(const std::string& path);
+Table parse_table(std::string name, std::string_view text);
+
+// Quotes a CSV field when it holds a delimiter, quote, CR or LF (RFC 4180).
+std::string csv_field(std::string_view text);
+
+// Shortest text that reads back to the same double ("0.1", "6.551845646783069",
+// "1e-06"); "" for NaN (an empty CSV cell); "inf"/"-inf" never occur in vzero outputs.
+std::string format_number(double v);
+
+// Writes `content` to `path` through a temporary file in the same folder and a rename,
+// so readers see the old file or the new one, never a partial one. Throws InputError
+// "cannot write PATH: reason" (disk full, folder missing or read-only).
+void write_file_atomic(const std::string& path, std::string_view content);
+
+}  // namespace vzero

@@ -1,0 +1,85 @@
+// vzero: initial rates (v0) from microplate-reader kinetic exports.
+#include <cerrno>
+#include <csignal>
+#include <cstdio>
+#include <cstring>
+#include <exception>
+#include <fmt/format.h>
+
+#include "cli/commands.hpp"
+#include "vzero/error.hpp"
+
+namespace {
+
+constexpr const char* k_help = R"(vzero — initial rates (v0) from microplate-reader kinetic exports
+
+usage: vzero COMMAND [OPTIONS]
+
+commands:
+  inspect FILE        show what vzero reads from a raw export (shape, profile, channels,
+                      reads, times, temperatures, metadata, overflow and missing values)
+  rates FILE...       blank, convert and find the initial rate of every well; writes
+                      rates.csv and datapackage.json (and optional traces and summary)
+  fit TABLE.csv       fit Michaelis–Menten and related models to a rates or summary table
+  report ...          write a self-contained HTML report of a run
+
+  vzero COMMAND --help    options of one command
+  vzero --version         the version
+
+exit status: 0 success, 1 bad input (the message names file:line:column and the fix),
+2 bad usage.
+)";
+
+}  // namespace
+
+namespace vzero::cli {
+
+void print_out(const std::string& text) {
+  if (std::fwrite(text.data(), 1, text.size(), stdout) != text.size() || std::fflush(stdout) != 0) {
+    if (errno == EPIPE) std::exit(0);
+  }
+}
+
+void print_err(const std::string& text) {
+  std::fwrite(text.data(), 1, text.size(), stderr);
+  std::fputc('\n', stderr);
+}
+
+}  // namespace vzero::cli
+
+int main(int argc, char** argv) {
+  std::signal(SIGPIPE, SIG_IGN);  // a closed pipe shows as EPIPE, handled in print_out
+  using namespace vzero::cli;
+  Args args(argv + 1, argv + argc);
+  if (args.empty() || args[0] == "--help" || args[0] == "-h" || args[0] == "help") {
+    print_out(k_help);
+    return args.empty() ? 2 : 0;
+  }
+  if (args[0] == "--version" || args[0] == "-V") {
+    print_out(fmt::format("vzero {}\n", VZERO_VERSION));
+    return 0;
+  }
+  const std::string command = args[0];
+  Args rest(args.begin() + 1, args.end());
+  try {
+    if (command == "inspect") return cmd_inspect(rest);
+    if (command == "rates") return cmd_rates(rest);
+    if (command == "fit") return cmd_fit(rest);
+    if (command == "report") return cmd_report(rest);
+    print_err(fmt::format("vzero: unknown command \"{}\"; commands are inspect, rates, fit, report (see vzero --help)",
+                          command));
+    return 2;
+  } catch (const vzero::UsageError& e) {
+    print_err(fmt::format("vzero {}: {}\n  see: vzero {} --help", command, e.what(), command));
+    return 2;
+  } catch (const vzero::InputError& e) {
+    print_err(e.formatted());
+    return 1;
+  } catch (const std::bad_alloc&) {
+    print_err("vzero: out of memory; process fewer or smaller files at once");
+    return 1;
+  } catch (const std::exception& e) {
+    print_err(fmt::format("vzero: internal error: {} (please report this with the input that caused it)", e.what()));
+    return 3;
+  }
+}

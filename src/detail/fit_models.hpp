@@ -1,0 +1,68 @@
+// Internals of the kinetics fit: the points being fitted, parameter bounds, starting values,
+// the Levenberg–Marquardt solver and the profile-t intervals.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "vzero/fit.hpp"
+
+namespace vzero::detail {
+
+// Points of one fit. `i` is all zero for single-substrate models; sqrt_w = √weight.
+struct FitPoints {
+  std::vector<double> s, i, v, w, sqrt_w;
+  std::size_t size() const { return v.size(); }
+};
+
+// Natural-scale search box per parameter, scaled to the data (see fit_models.cpp).
+struct Bounds {
+  std::vector<double> lo, hi;
+};
+Bounds parameter_bounds(Model m, const FitPoints& pts);
+
+struct Start {
+  std::string method;     // "Hanes-Woolf", "Hill plot", "grid", "given"
+  std::vector<double> p;  // natural scale
+};
+// Candidate starts: the linearisation (when it gives positive values), then the best point
+// of a coarse grid over the nonlinear parameters with Vmax solved by linear least squares.
+std::vector<Start> automatic_starts(Model m, const FitPoints& pts);
+
+// Σ wᵢ (vᵢ − f)², and the per-point model rates when `fitted` is given.
+double weighted_rss(Model m, const FitPoints& pts, const std::vector<double>& p, std::vector<double>* fitted = nullptr);
+
+struct LmResult {
+  std::vector<double> p;  // natural scale
+  double rss = NAN;
+  int iterations = 0;
+  bool converged = false;
+  double relative_offset = NAN;
+  std::vector<int> at_bound;  // per parameter: -1 lower bound, +1 upper bound, 0 inside
+};
+
+struct LmSettings {
+  int max_iterations = 200;
+  double tolerance = 1e-10;
+};
+
+// Levenberg–Marquardt on θ = ln p inside [ln lo, ln hi] (steps are projected onto the box).
+// Parameters with fixed[j] stay at start[j]. Converged when the relative offset of the free
+// parameters falls below tolerance, the residuals vanish, or the step no longer moves θ.
+LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
+                             const std::vector<bool>& fixed, const LmSettings& settings);
+
+// Weighted Jacobian √wᵢ·∂f/∂p on the natural scale (n × p).
+Eigen::MatrixXd natural_jacobian(Model m, const FitPoints& pts, const std::vector<double>& p);
+
+// Profile-t limits for parameter j (as MASS's profile/confint for nls): the values c where
+// τ(c) = sign(c − p̂ⱼ)·√(RSSⱼ(c) − RSS)/s equals ∓cutoff, RSSⱼ(c) the RSS minimised over the
+// other parameters with pⱼ = c. NaN on a side where the profile stays below the cutoff
+// inside the bounds.
+struct ProfileLimits {
+  double low = NAN, high = NAN;
+};
+ProfileLimits profile_limits(Model m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
+                             double se_j, double residual_sd, double cutoff, const LmSettings& settings);
+
+}  // namespace vzero::detail

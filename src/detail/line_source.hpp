@@ -1,0 +1,46 @@
+// Reads a text file line by line (fast-cpp-csv-parser's LineReader) while hashing every
+// byte with SHA-256 and noticing NUL bytes, so the readers stream a file once.
+#pragma once
+
+#include <memory>
+#include <string>
+#include <string_view>
+
+namespace vzero::detail {
+
+class LineSource {
+ public:
+  // Opens `path` read-only. Throws InputError "cannot open PATH: reason".
+  explicit LineSource(const std::string& path);
+  // Reads from memory (tests, fuzzers); `name` is used in messages.
+  LineSource(std::string name, std::string_view bytes);
+  ~LineSource();
+  LineSource(const LineSource&) = delete;
+  LineSource& operator=(const LineSource&) = delete;
+
+  // Next line without its end (LF, CRLF) and, for line 1, without a UTF-8 BOM; false at
+  // the end. Throws InputError on a NUL byte, a line over 16 MiB or bytes that are not UTF-8.
+  bool next(std::string_view& line);
+  int line_number() const { return line_; }
+  const std::string& name() const { return name_; }
+  // Hex SHA-256 of all bytes; reads the rest of the file first if needed.
+  std::string sha256();
+  // Bytes consumed so far.
+  long long bytes_read() const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+  std::string name_;
+  int line_ = 0;
+};
+
+// Hex SHA-256 of a whole file (for provenance of files read by other means).
+std::string sha256_of_file(const std::string& path);
+
+// True when `s` is valid UTF-8.
+bool valid_utf8(std::string_view s);
+// Byte offset of the first byte that does not start a valid UTF-8 sequence, or npos.
+std::size_t first_invalid_utf8(std::string_view s);
+
+}  // namespace vzero::detail

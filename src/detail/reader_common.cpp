@@ -1,0 +1,243 @@
+#include "detail/reader_common.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <numeric>
+
+#include "vzero/error.hpp"
+
+namespace vzero::detail {
+
+CompiledProfile::CompiledProfile(const Profile& p) : profile(p) {
+  RE2::Options opt;
+  opt.set_log_errors(false);
+  for (const auto& s : p.sections) sections.push_back(std::make_unique<RE2>(s.label, opt));
+  for (const auto& c : p.captures) captures.push_back(std::make_unique<RE2>(c.pattern, opt));
+  if (!p.grid_read_label.empty()) read_label = std::make_unique<RE2>(p.grid_read_label, opt);
+}
+
+void guess_quantity(const std::string& name, Quantity& quantity, std::string& unit) {
+  std::string l = lower(name);
+  bool abs_like = (l.size() >= 2 && l[0] == 'a' && std::isdigit(static_cast<unsigned char>(l[1]))) ||
+                  l.rfind("abs", 0) == 0 || l.rfind("od", 0) == 0;
+  if (abs_like) {
+    quantity = Quantity::absorbance;
+    if (unit.empty()) unit = "AU";
+  } else if (l.find("ex") != std::string::npos || l.find("em") != std::string::npos || l.rfind("fl", 0) == 0) {
+    quantity = Quantity::fluorescence;
+    if (unit.empty()) unit = "RFU";
+  } else if (l.find("lum") != std::string::npos) {
+    quantity = Quantity::luminescence;
+    if (unit.empty()) unit = "RLU";
+  }
+}
+
+SectionStart default_section(const Profile& p) {
+  SectionStart s{p.signal_name, p.signal_quantity, p.signal_unit};
+  if (s.quantity == Quantity::other) guess_quantity(s.name, s.quantity, s.unit);
+  return s;
+}
+
+std::optional<SectionStart> match_section(const CompiledProfile& cp, std::string_view line) {
+  for (std::size_t i = 0; i < cp.sections.size(); ++i) {
+    const RE2& re = *cp.sections[i];
+    const SectionRule& rule = cp.profile.sections[i];
+    std::string name;
+    bool hit = re.NumberOfCapturingGroups() >= 1 ? RE2::PartialMatch(line, re, &name) : RE2::PartialMatch(line, re);
+    if (!hit) continue;
+    SectionStart s;
+    s.name = name.empty() ? (rule.name.empty() ? cp.profile.signal_name : rule.name) : name;
+    s.unit = rule.unit;
+    if (rule.quantity) {
+      s.quantity = *rule.quantity;
+    } else {
+      s.quantity = Quantity::other;
+      guess_quantity(s.name, s.quantity, s.unit);
+      if (s.quantity == Quantity::other) {
+        s.quantity = cp.profile.signal_quantity;
+        if (s.unit.empty()) s.unit = cp.profile.signal_unit;
+      }
+    }
+    return s;
+  }
+  return std::nullopt;
+}
+
+bool match_capture(const CompiledProfile& cp, std::string_view line,
+                   std::vector<std::pair<std::string, std::string>>& metadata) {
+  for (std::size_t i = 0; i < cp.captures.size(); ++i) {
+    const RE2& re = *cp.captures[i];
+    const CaptureRule& rule = cp.profile.captures[i];
+    std::string a, b;
+    if (rule.key == "$1") {
+      if (!RE2::PartialMatch(line, re, &a, &b)) continue;
+      metadata.emplace_back(std::string(trim(a)), std::string(trim(b)));
+    } else {
+      if (!RE2::PartialMatch(line, re, &a)) continue;
+      metadata.emplace_back(rule.key, std::string(trim(a)));
+    }
+    return true;
+  }
+  return false;
+}
+
+std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal) {
+  text = trim(text);
+  if (text.find(':') != std::string_view::npos) {
+    // h:mm:ss(.s) or mm:ss(.s)
+    std::vector<std::string_view> parts;
+    std::size_t start = 0;
+    while (true) {
+      auto c = text.find(':', start);
+      parts.push_back(text.substr(start, c == std::string_view::npos ? std::string_view::npos : c - start));
+      if (c == std::string_view::npos) break;
+      start = c + 1;
+    }
+    if (parts.size() < 2 || parts.size() > 3) return std::nullopt;
+    double total = 0;
+    for (std::size_t i = 0; i < parts.size(); ++i) {
+      bool last = i + 1 == parts.size();
+      auto v = parse_number(parts[i], decimal);
+      if (!v || *v < 0) return std::nullopt;
+      if (!last && *v != std::floor(*v)) return std::nullopt;
+      if (i > 0 && *v >= 60) return std::nullopt;
+      total = total * 60 + *v;
+    }
+    return total;
+  }
+  auto v = parse_number(text, decimal);
+  if (!v) return std::nullopt;
+  switch (unit) {
+    case TimeUnit::seconds: return *v;
+    case TimeUnit::minutes: return *v * 60;
+    case TimeUnit::hours: return *v * 3600;
+  }
+  return v;
+}
+
+std::optional<TimeUnit> unit_in_header(std::string_view header) {
+  std::string h = lower(trim(header));
+  auto ends = [&](std::string_view suffix) {
+    return h.size() >= suffix.size() && h.compare(h.size() - suffix.size(), suffix.size(), suffix) == 0;
+  };
+  for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s"}) if (ends(s)) return TimeUnit::seconds;
+  for (auto s : {"[min]", "(min)", "_min", " min"}) if (ends(s)) return TimeUnit::minutes;
+  for (auto s : {"[h]", "(h)", "_h", " h"}) if (ends(s)) return TimeUnit::hours;
+  return std::nullopt;
+}
+
+CellKind read_cell(const Profile& p, std::string_view text, double& value) {
+  std::string_view t = trim(text);
+  for (const auto& tok : p.overflow_tokens)
+    if (iequals(t, tok)) return CellKind::overflow;
+  for (const auto& tok : p.missing_tokens)
+    if (iequals(t, tok)) return CellKind::missing;
+  if (auto v = parse_number(t, p.decimal)) {
+    value = *v;
+    return CellKind::number;
+  }
+  return CellKind::bad;
+}
+
+void bad_value_error(const Profile& p, const std::string& file, int line, int column, std::string_view line_text,
+                     std::string_view cell, const std::string& what_cell) {
+  std::string_view t = trim(cell);
+  std::vector<std::string> fixes;
+  std::string lowered = lower(t);
+  if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
+    fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
+  } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
+    fixes.push_back("set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile wide-semicolon-comma");
+  } else if (p.decimal == ',' && t.find('.') != std::string_view::npos) {
+    fixes.push_back("set decimal = \".\" in the profile; this file mixes decimal marks");
+  } else {
+    fixes.push_back(fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
+  }
+  throw InputError(Where{file, line, column, std::string(line_text)},
+                   fmt::format("expected a number for {}, found \"{}\"", what_cell, t), std::move(fixes));
+}
+
+ChannelBuilder::ChannelBuilder(SectionStart start, std::vector<WellId> wells)
+    : start_(std::move(start)), wells_(std::move(wells)) {}
+
+int ChannelBuilder::add_read(double time_s, double temperature_c, const Where& where) {
+  if (!time_s_.empty()) {
+    double prev = time_s_.back();
+    if (time_s == prev) {
+      throw InputError(where,
+                       fmt::format("read time {} s appears twice in channel {} (first at line {})", time_s, start_.name,
+                                   time_line_.back()),
+                       {"remove the duplicated read, or check that two exports were not pasted together"});
+    }
+    if (time_s < prev) {
+      throw InputError(where,
+                       fmt::format("read time goes backwards in channel {}: {} s after {} s at line {}", start_.name,
+                                   time_s, prev, time_line_.back()),
+                       {"check the time column and the profile's `time_unit`; reads must be in time order"});
+    }
+  }
+  time_s_.push_back(time_s);
+  temperature_c_.push_back(temperature_c);
+  time_line_.push_back(where.line);
+  values_.resize(values_.size() + wells_.size(), std::nan(""));
+  status_.resize(status_.size() + wells_.size(), ReadStatus::missing);
+  return static_cast<int>(time_s_.size()) - 1;
+}
+
+void ChannelBuilder::set(int read, int slot, double value, ReadStatus status) {
+  std::size_t k = static_cast<std::size_t>(read) * wells_.size() + static_cast<std::size_t>(slot);
+  values_[k] = status == ReadStatus::ok ? value : std::nan("");
+  status_[k] = status;
+}
+
+Channel ChannelBuilder::finish(PlateFormat format) && {
+  Channel c;
+  c.name = start_.name;
+  c.quantity = start_.quantity;
+  c.unit = start_.unit;
+  c.time_s = std::move(time_s_);
+  if (std::any_of(temperature_c_.begin(), temperature_c_.end(), [](double t) { return !std::isnan(t); }))
+    c.temperature_c = std::move(temperature_c_);
+  const std::size_t nw = wells_.size();
+  std::vector<std::size_t> order(nw);
+  std::iota(order.begin(), order.end(), std::size_t{0});
+  std::sort(order.begin(), order.end(),
+            [&](std::size_t a, std::size_t b) { return format.index(wells_[a]) < format.index(wells_[b]); });
+  const auto reads = static_cast<Eigen::Index>(c.time_s.size());
+  c.values.resize(reads, static_cast<Eigen::Index>(nw));
+  c.status.resize(reads, static_cast<Eigen::Index>(nw));
+  c.wells.resize(nw);
+  for (std::size_t j = 0; j < nw; ++j) {
+    std::size_t slot = order[j];
+    c.wells[j] = format.index(wells_[slot]);
+    for (Eigen::Index r = 0; r < reads; ++r) {
+      std::size_t k = static_cast<std::size_t>(r) * nw + slot;
+      c.values(r, static_cast<Eigen::Index>(j)) = values_[k];
+      c.status(r, static_cast<Eigen::Index>(j)) = status_[k];
+    }
+  }
+  return c;
+}
+
+PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred) {
+  if (p.plate_wells > 0) {
+    PlateFormat f = *plate_format_for(p.plate_wells);
+    for (const auto& w : wells) {
+      if (!f.holds(w)) {
+        throw InputError(Where{file},
+                         fmt::format("well {} does not exist on a {}-well plate (rows A–{}, columns 1–{})", well_name(w),
+                                     f.wells(), row_label(f.rows - 1), f.columns),
+                         {fmt::format("set `plate` in the profile to the plate used (now {}), or 0 to infer it", f.wells())});
+      }
+    }
+    inferred = false;
+    return f;
+  }
+  inferred = true;
+  if (auto f = smallest_format_holding(wells)) return *f;
+  throw InputError(Where{file}, "wells lie beyond a 1536-well plate (rows A–AF, columns 1–48)",
+                   {"check the well names in the file"});
+}
+
+}  // namespace vzero::detail

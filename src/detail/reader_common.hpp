@@ -1,0 +1,95 @@
+// Internals shared by the three shape readers.
+#pragma once
+
+#include <re2/re2.h>
+
+#include <memory>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "detail/line_source.hpp"
+#include "detail/text.hpp"
+#include "vzero/error.hpp"
+#include "vzero/profile.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero::detail {
+
+// A profile with its regexes compiled once per file.
+struct CompiledProfile {
+  const Profile& profile;
+  std::vector<std::unique_ptr<RE2>> sections;
+  std::vector<std::unique_ptr<RE2>> captures;
+  std::unique_ptr<RE2> read_label;
+  explicit CompiledProfile(const Profile& p);
+};
+
+struct SectionStart {
+  std::string name;
+  Quantity quantity = Quantity::other;
+  std::string unit;
+};
+
+// The channel a line starts, if it matches a section label.
+std::optional<SectionStart> match_section(const CompiledProfile& cp, std::string_view line);
+// Stores metadata if the line matches a capture rule; true when it did.
+bool match_capture(const CompiledProfile& cp, std::string_view line,
+                   std::vector<std::pair<std::string, std::string>>& metadata);
+
+// Guesses quantity and unit from a channel name ("A405" -> absorbance/AU).
+void guess_quantity(const std::string& name, Quantity& quantity, std::string& unit);
+
+// Seconds from a time cell: plain numbers in `unit`, or clock text h:mm:ss / mm:ss.
+std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal);
+// The unit a time header names ("Time [min]", "time_s"), if any.
+std::optional<TimeUnit> unit_in_header(std::string_view header);
+
+enum class CellKind { number, overflow, missing, bad };
+// Classifies one value cell: overflow token, missing token, number, or bad text.
+CellKind read_cell(const Profile& p, std::string_view text, double& value);
+
+// The error for a value cell that is not a number, with fixes suited to what it holds.
+[[noreturn]] void bad_value_error(const Profile& p, const std::string& file, int line, int column,
+                                  std::string_view line_text, std::string_view cell, const std::string& what_cell);
+
+// Collects one channel's reads; wells in any order (columns are sorted by plate index
+// when the channel is finished).
+class ChannelBuilder {
+ public:
+  ChannelBuilder(SectionStart start, std::vector<WellId> wells);
+  // Starts a read; returns its row. Checks that time increases (InputError otherwise).
+  int add_read(double time_s, double temperature_c, const Where& where);
+  void set(int read, int well_slot, double value, ReadStatus status);
+  Channel finish(PlateFormat format) &&;
+  const std::string& name() const { return start_.name; }
+  int reads() const { return static_cast<int>(time_s_.size()); }
+  const std::vector<WellId>& wells() const { return wells_; }
+
+ private:
+  SectionStart start_;
+  std::vector<WellId> wells_;  // slot -> well
+  std::vector<double> time_s_, temperature_c_;
+  std::vector<int> time_line_;
+  std::vector<double> values_;       // read-major while reading
+  std::vector<ReadStatus> status_;
+};
+
+// Plate format from the profile or the wells read; InputError if a well does not fit.
+PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred);
+
+// Default channel when no section label was seen.
+SectionStart default_section(const Profile& p);
+
+struct ReaderInput {
+  LineSource& src;
+  const CompiledProfile& cp;
+  bool prefix_only = false;  // reading the start of a file to detect its shape
+};
+
+Run read_wide(ReaderInput in);
+Run read_grid(ReaderInput in);
+Run read_long(ReaderInput in);
+
+}  // namespace vzero::detail

@@ -1,0 +1,99 @@
+#include "vzero/ingest.hpp"
+
+#include <fmt/format.h>
+
+#include "detail/reader_common.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+namespace {
+
+Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only) {
+  detail::CompiledProfile cp(profile);
+  detail::ReaderInput in{src, cp, prefix_only};
+  Run run;
+  switch (profile.shape) {
+    case Shape::wide: run = detail::read_wide(in); break;
+    case Shape::grid: run = detail::read_grid(in); break;
+    case Shape::long_form: run = detail::read_long(in); break;
+  }
+  run.profile = profile.name;
+  run.shape = std::string(to_string(profile.shape));
+  return run;
+}
+
+long long ok_values(const Run& run) {
+  long long n = 0;
+  for (const auto& c : run.channels)
+    for (Eigen::Index j = 0; j < c.status.size(); ++j) n += c.status.data()[j] == ReadStatus::ok;
+  return n;
+}
+
+}  // namespace
+
+Run read_run(const std::string& path, const Profile& profile) {
+  detail::LineSource src(path);
+  Run run = dispatch(src, profile, false);
+  run.source = path;
+  run.sha256 = src.sha256();
+  return run;
+}
+
+Run read_run_text(const std::string& name, std::string_view text, const Profile& profile) {
+  detail::LineSource src(name, text);
+  Run run = dispatch(src, profile, false);
+  run.source = name;
+  run.sha256 = src.sha256();
+  return run;
+}
+
+ProfileChoice choose_profile(const std::string& path, const std::string& requested) {
+  ProfileChoice choice;
+  if (!requested.empty()) {
+    choice.profile = load_profile(requested);
+    choice.reason = "given with --profile";
+    return choice;
+  }
+  // The first lines of the file are enough to tell the shape: a few reads of a wide or
+  // grid export, or a few hundred rows of a long one.
+  constexpr int k_sniff_lines = 400;
+  std::string head;
+  {
+    detail::LineSource src(path);
+    std::string_view line;
+    for (int i = 0; i < k_sniff_lines && src.next(line); ++i) {
+      head.append(line);
+      head.push_back('\n');
+    }
+  }
+  if (detail::trim(head).empty()) {
+    throw InputError(Where{path}, "the file is empty", {"check that the right file was given"});
+  }
+  std::string tried;
+  long long best = 0;
+  for (const auto& name : builtin_profile_names()) {
+    Profile p = load_profile(name);
+    try {
+      detail::LineSource src(path, head);
+      Run run = dispatch(src, p, true);
+      long long n = ok_values(run);
+      tried += fmt::format("\n    {}: reads {} values", name, n);
+      if (n > best) {
+        best = n;
+        choice.profile = p;
+        choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n, k_sniff_lines);
+      }
+    } catch (const InputError& e) {
+      tried += fmt::format("\n    {}: {}", name, e.message());
+    }
+  }
+  if (best == 0) {
+    throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried,
+                     {"write a profile for this export (see instrument-profiles/README.md) and pass it with --profile"});
+  }
+  choice.detected = true;
+  return choice;
+}
+
+}  // namespace vzero

@@ -1,0 +1,286 @@
+#include "vzero/plate_map.hpp"
+
+#include <fmt/format.h>
+#include <cerrno>
+#include <cmath>
+#include <cstring>
+#include <fstream>
+#include <sstream>
+
+#include "detail/line_source.hpp"
+#include "detail/text.hpp"
+#include "vzero/error.hpp"
+#include "vzero/table.hpp"
+
+namespace vzero {
+
+std::string_view to_string(Role r) {
+  switch (r) {
+    case Role::sample: return "sample";
+    case Role::blank: return "blank";
+    case Role::standard: return "standard";
+    case Role::empty: return "empty";
+  }
+  return "empty";
+}
+
+const WellInfo* PlateMap::find(WellId w) const {
+  auto it = wells.find(w);
+  return it == wells.end() ? nullptr : &it->second;
+}
+
+namespace {
+
+// One value of one well, as read from either form.
+struct Cell {
+  std::string text;
+  int line = 0;
+  int column = 0;
+  std::string line_text;
+};
+
+Role parse_role(const std::string& file, const Cell& c) {
+  std::string l = detail::lower(detail::trim(c.text));
+  if (l == "sample") return Role::sample;
+  if (l == "blank") return Role::blank;
+  if (l == "standard") return Role::standard;
+  if (l == "empty") return Role::empty;
+  throw InputError(Where{file, c.line, c.column, c.line_text},
+                   fmt::format("expected a role (sample, blank, standard or empty), found \"{}\"", c.text),
+                   {"use one of the four roles in the `role` column"});
+}
+
+double parse_conc(const std::string& file, const Cell& c, const std::string& column, bool allow_zero) {
+  if (detail::trim(c.text).empty()) return NAN;
+  auto v = detail::parse_number(c.text);
+  if (!v) {
+    throw InputError(Where{file, c.line, c.column, c.line_text},
+                     fmt::format("expected a number in `{}`, found \"{}\"", column, c.text),
+                     {"write the concentration as a plain number with '.' decimals, no unit (units go in the method)"});
+  }
+  if (*v < 0 || (!allow_zero && *v == 0)) {
+    throw InputError(Where{file, c.line, c.column, c.line_text},
+                     fmt::format("expected a concentration {} 0 in `{}`, found {}", allow_zero ? ">=" : ">", column, c.text),
+                     {"concentrations cannot be negative; leave the cell empty when unknown"});
+  }
+  return *v;
+}
+
+// Builds the map from per-well named values (column name -> cell), in column order.
+class MapBuilder {
+ public:
+  MapBuilder(std::string file, std::vector<std::string> columns) : file_(std::move(file)), columns_(std::move(columns)) {
+    for (const auto& c : columns_) {
+      std::string l = detail::lower(c);
+      if (l != "well" && l != "role" && l != "substrate" && l != "standard_conc" && l != "match")
+        map_.extra_columns.push_back(c);
+    }
+  }
+  void add(WellId w, const std::vector<Cell>& cells, int line, const std::string& line_text, int well_column) {
+    if (auto it = map_.wells.find(w); it != map_.wells.end()) {
+      throw InputError(Where{file_, line, well_column, line_text},
+                       fmt::format("well {} is mapped twice (first at line {})", well_name(w), it->second.line),
+                       {"keep one row per well"});
+    }
+    WellInfo info;
+    info.well = w;
+    info.line = line;
+    for (std::size_t i = 0; i < columns_.size(); ++i) {
+      std::string l = detail::lower(columns_[i]);
+      const Cell& c = cells[i];
+      if (l == "well") continue;
+      if (l == "role") info.role = parse_role(file_, c);
+      else if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i], true);
+      else if (l == "standard_conc") info.standard_conc = parse_conc(file_, c, columns_[i], true);
+      else if (l == "match") info.match = std::string(detail::trim(c.text));
+      else info.extra.push_back(std::string(detail::trim(c.text)));
+    }
+    if (info.role == Role::standard && std::isnan(info.standard_conc)) {
+      throw InputError(Where{file_, line, 0, line_text},
+                       fmt::format("standard well {} has no `standard_conc`", well_name(w)),
+                       {"give every standard well its known concentration in `standard_conc`"});
+    }
+    map_.wells.emplace(w, std::move(info));
+  }
+  PlateMap finish(std::string form) && {
+    map_.source = file_;
+    map_.form = std::move(form);
+    return std::move(map_);
+  }
+
+ private:
+  std::string file_;
+  std::vector<std::string> columns_;
+  PlateMap map_;
+};
+
+PlateMap read_tidy(const std::string& name, std::string_view text) {
+  Table t = parse_table(name, text);
+  int wc = t.require_column("well", "the plate map needs a `well` column (A1, B7, …) and a `role` column");
+  t.require_column("role", "add a `role` column: sample, blank, standard or empty");
+  MapBuilder b(name, t.header);
+  for (std::size_t r = 0; r < t.rows.size(); ++r) {
+    const auto& row = t.rows[r];
+    std::string line_text;
+    for (std::size_t i = 0; i < row.size(); ++i) line_text += (i ? std::string(1, t.delimiter) : "") + row[i];
+    auto w = parse_well(row[static_cast<std::size_t>(wc)]);
+    if (!w) {
+      throw InputError(Where{name, t.line_of_row[r], t.column_of_cell[r][static_cast<std::size_t>(wc)], line_text},
+                       fmt::format("expected a well name (A1 … AF48), found \"{}\"", row[static_cast<std::size_t>(wc)]),
+                       {"write wells as a row letter and a column number, e.g. B7 or B07"});
+    }
+    std::vector<Cell> cells;
+    for (std::size_t i = 0; i < row.size(); ++i)
+      cells.push_back(Cell{row[i], t.line_of_row[r], t.column_of_cell[r][i], line_text});
+    b.add(*w, cells, t.line_of_row[r], line_text, t.column_of_cell[r][static_cast<std::size_t>(wc)]);
+  }
+  return std::move(b).finish("table");
+}
+
+PlateMap read_grid_form(const std::string& name, std::string_view text) {
+  detail::LineSource src(name, text);
+  std::string_view line;
+  std::vector<std::string> variables;
+  // variable -> well -> cell
+  std::map<WellId, std::map<std::string, Cell>> values;
+  std::map<WellId, int> first_line;
+  std::vector<detail::Field> fields;
+  std::string current;
+  char d = 0;
+  std::vector<int> cols;
+  bool expect_header = false;
+  while (src.next(line)) {
+    int ln = src.line_number();
+    auto tl = detail::trim(line);
+    if (tl.empty() || tl.front() == '#') continue;
+    if (d == 0) d = detail::guess_delimiter(line) ? detail::guess_delimiter(line) : ',';
+    detail::split_fields_into(line, d, fields);
+    while (fields.size() > 1 && detail::trim(fields.back().text).empty()) fields.pop_back();
+    if (expect_header) {
+      cols.clear();
+      for (std::size_t i = 1; i < fields.size(); ++i) {
+        auto v = detail::parse_number(fields[i].text);
+        if (!v || *v < 1 || *v > 48 || *v != static_cast<int>(*v)) {
+          throw InputError(Where{name, ln, fields[i].column, std::string(line)},
+                           fmt::format("expected a column number (1–48) in the header of `{}`, found \"{}\"", current,
+                                       fields[i].text),
+                           {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
+        }
+        cols.push_back(static_cast<int>(*v) - 1);
+      }
+      if (!detail::trim(fields[0].text).empty() || cols.empty()) {
+        throw InputError(Where{name, ln, 1, std::string(line)},
+                         fmt::format("expected a header of column numbers after the variable `{}`", current),
+                         {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
+      }
+      expect_header = false;
+      continue;
+    }
+    auto row = parse_row_label(fields[0].text);
+    if (row && !current.empty() && fields.size() > 1) {
+      if (fields.size() > cols.size() + 1) {
+        throw InputError(Where{name, ln, fields[cols.size() + 1].column, std::string(line)},
+                         fmt::format("expected at most {} values in row {} of `{}`, found {}", cols.size(),
+                                     row_label(*row), current, fields.size() - 1),
+                         {"check for an extra delimiter in the row"});
+      }
+      for (std::size_t i = 1; i < fields.size(); ++i) {
+        WellId w{*row, cols[i - 1]};
+        auto& per = values[w];
+        if (per.count(current)) {
+          throw InputError(Where{name, ln, fields[i].column, std::string(line)},
+                           fmt::format("well {} is given twice in `{}`", well_name(w), current),
+                           {"each row letter appears once per variable"});
+        }
+        per[current] = Cell{std::string(detail::trim(fields[i].text)), ln, fields[i].column, std::string(line)};
+        if (!first_line.count(w)) first_line[w] = ln;
+      }
+      continue;
+    }
+    if (fields.size() == 1 && !row) {
+      current = std::string(detail::trim(fields[0].text));
+      for (const auto& v : variables) {
+        if (detail::iequals(v, current))
+          throw InputError(Where{name, ln, 1, std::string(line)}, fmt::format("variable `{}` appears twice", current),
+                           {"give each plate-shaped block its own variable name"});
+      }
+      variables.push_back(current);
+      expect_header = true;
+      continue;
+    }
+    throw InputError(Where{name, ln, 1, std::string(line)},
+                     "expected a variable name, a header of column numbers or a row (A, B, …) of the plate-grid map",
+                     {"see the plate map section of the README for the two map forms"});
+  }
+  bool has_role = false;
+  for (const auto& v : variables) has_role |= detail::iequals(v, "role");
+  if (!has_role) {
+    throw InputError(Where{name}, "the plate-grid map has no `role` block",
+                     {"add a block named role (sample, blank, standard, empty per well)"});
+  }
+  std::vector<std::string> columns{"well"};
+  columns.insert(columns.end(), variables.begin(), variables.end());
+  MapBuilder b(name, columns);
+  for (const auto& [w, per] : values) {
+    std::string role_var;
+    for (const auto& v : variables) if (detail::iequals(v, "role")) role_var = v;
+    auto rit = per.find(role_var);
+    if (rit == per.end() || rit->second.text.empty()) continue;  // not in the map
+    std::vector<Cell> cells{Cell{well_name(w), first_line[w], 1, ""}};
+    for (const auto& v : variables) {
+      auto it = per.find(v);
+      cells.push_back(it == per.end() ? Cell{"", first_line[w], 0, ""} : it->second);
+    }
+    b.add(w, cells, rit->second.line, rit->second.line_text, rit->second.column);
+  }
+  return std::move(b).finish("grid");
+}
+
+}  // namespace
+
+PlateMap parse_plate_map(const std::string& name, std::string_view text) {
+  // The tidy form's first line is a header naming `well`; the grid form's is a variable name.
+  detail::LineSource src(name, text);
+  std::string_view line;
+  while (src.next(line)) {
+    auto tl = detail::trim(line);
+    if (tl.empty() || tl.front() == '#') continue;
+    char d = detail::guess_delimiter(line);
+    auto fields = detail::split_fields(line, d ? d : ',');
+    for (const auto& f : fields)
+      if (detail::iequals(detail::trim(f.text), "well")) return read_tidy(name, text);
+    return read_grid_form(name, text);
+  }
+  throw InputError(Where{name}, "the plate map is empty", {"check that the right file was given"});
+}
+
+PlateMap read_plate_map(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) {
+    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
+                     {"check the --layout path"});
+  }
+  std::stringstream ss;
+  ss << in.rdbuf();
+  return parse_plate_map(path, ss.str());
+}
+
+void check_plate_map(const PlateMap& map, const Run& run) {
+  for (const auto& [w, info] : map.wells) {
+    if (!run.format.holds(w)) {
+      throw InputError(Where{map.source, info.line},
+                       fmt::format("well {} is not on the {}-well plate read from {}", well_name(w), run.format.wells(),
+                                   run.source),
+                       {"check the well name in the plate map, or set `plate` in the profile"});
+    }
+    bool read = false;
+    for (const auto& c : run.channels) read |= c.column_of(run.format.index(w)) >= 0;
+    if (!read) {
+      throw InputError(Where{map.source, info.line},
+                       fmt::format("well {} is in the plate map but {} has no reads for it", well_name(w), run.source),
+                       {"remove the well from the map, or check that the map belongs to this export"});
+    }
+  }
+}
+
+}  // namespace vzero

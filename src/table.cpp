@@ -1,0 +1,205 @@
+#include "vzero/table.hpp"
+
+#include <fcntl.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cmath>
+#include <cstring>
+#include <filesystem>
+#include <fmt/format.h>
+#include <random>
+
+#include "detail/line_source.hpp"
+#include "detail/text.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+int Table::column(std::string_view name) const {
+  for (std::size_t i = 0; i < header.size(); ++i)
+    if (detail::iequals(header[i], name)) return static_cast<int>(i);
+  return -1;
+}
+
+int Table::require_column(std::string_view name, std::string_view fix_hint) const {
+  int c = column(name);
+  if (c >= 0) return c;
+  std::string found;
+  for (const auto& h : header) found += (found.empty() ? "" : ", ") + h;
+  std::vector<std::string> fixes;
+  if (!fix_hint.empty()) fixes.emplace_back(fix_hint);
+  throw InputError(Where{source, 1}, fmt::format("expected a column named \"{}\"; found: {}", name, found),
+                   std::move(fixes));
+}
+
+std::optional<double> Table::number(std::size_t row, int col) const {
+  const std::string& cell = rows[row][static_cast<std::size_t>(col)];
+  if (detail::trim(cell).empty()) return std::nullopt;
+  auto v = detail::parse_number(cell, '.');
+  if (!v) {
+    throw InputError(Where{source, line_of_row[row], column_of_cell[row][static_cast<std::size_t>(col)]},
+                     fmt::format("expected a number in column \"{}\", found \"{}\"", header[static_cast<std::size_t>(col)], cell),
+                     {"write numbers with '.' as the decimal mark and no units or thousands separators"});
+  }
+  return v;
+}
+
+namespace {
+Table parse_lines(detail::LineSource& src) {
+  Table t;
+  t.source = src.name();
+  std::string_view line;
+  std::vector<detail::Field> fields;
+  bool have_header = false;
+  while (src.next(line)) {
+    auto trimmed = detail::trim(line);
+    if (trimmed.empty() || trimmed.front() == '#') continue;
+    if (!have_header) {
+      t.delimiter = detail::guess_delimiter(line);
+      if (t.delimiter == 0) t.delimiter = ',';
+    }
+    bool unclosed = false;
+    detail::split_fields_into(line, t.delimiter, fields, &unclosed);
+    if (unclosed) {
+      throw InputError(Where{t.source, src.line_number(), fields.back().column, std::string(line)},
+                       "a quoted field does not end on this line",
+                       {"close the quote; vzero does not read line breaks inside quoted fields"});
+    }
+    if (!have_header) {
+      for (const auto& f : fields) {
+        std::string name(detail::trim(f.text));
+        if (name.empty()) {
+          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
+                           "expected a column name in the header, found an empty field",
+                           {"give every column a name"});
+        }
+        if (t.column(name) >= 0) {
+          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
+                           fmt::format("column name \"{}\" appears twice in the header", name),
+                           {"rename one of the two columns"});
+        }
+        t.header.push_back(std::move(name));
+      }
+      have_header = true;
+      continue;
+    }
+    if (fields.size() != t.header.size()) {
+      int col = fields.size() > t.header.size() ? fields[t.header.size()].column : static_cast<int>(line.size()) + 1;
+      throw InputError(Where{t.source, src.line_number(), col, std::string(line)},
+                       fmt::format("expected {} fields as in the header, found {}", t.header.size(), fields.size()),
+                       {fmt::format("make every row hold {} fields separated by '{}'", t.header.size(),
+                                    detail::describe_delimiter(t.delimiter))});
+    }
+    std::vector<std::string> row;
+    std::vector<int> cols;
+    row.reserve(fields.size());
+    for (auto& f : fields) {
+      row.emplace_back(detail::trim(f.text));
+      cols.push_back(f.column);
+    }
+    t.rows.push_back(std::move(row));
+    t.column_of_cell.push_back(std::move(cols));
+    t.line_of_row.push_back(src.line_number());
+  }
+  if (!have_header) {
+    throw InputError(Where{t.source}, "the file is empty (expected a header line and rows)",
+                     {"check that the right file was given"});
+  }
+  return t;
+}
+}  // namespace
+
+Table read_table(const std::string& path) {
+  detail::LineSource src(path);
+  return parse_lines(src);
+}
+
+Table parse_table(std::string name, std::string_view text) {
+  detail::LineSource src(std::move(name), text);
+  return parse_lines(src);
+}
+
+std::string csv_field(std::string_view text) {
+  if (text.find_first_of(",;\"\r\n\t") == std::string_view::npos) return std::string(text);
+  std::string out = "\"";
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  out += '"';
+  return out;
+}
+
+std::string format_number(double v) {
+  if (std::isnan(v)) return {};
+  if (v == 0) return "0";  // also for -0
+  return fmt::format("{}", v);
+}
+
+void write_file_atomic(const std::string& path, std::string_view content) {
+  namespace fs = std::filesystem;
+  fs::path target(path);
+  std::error_code ec;
+  // Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename:
+  // write to them directly and report the error they give.
+  if (fs::exists(target, ec) && !fs::is_regular_file(target, ec) && !fs::is_directory(target, ec)) {
+    int dfd = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
+    int err = 0;
+    if (dfd < 0) err = errno;
+    for (std::size_t off = 0; err == 0 && off < content.size();) {
+      ssize_t n = ::write(dfd, content.data() + off, content.size() - off);
+      if (n < 0 && errno == EINTR) continue;
+      if (n < 0) err = errno;
+      else off += static_cast<std::size_t>(n);
+    }
+    if (dfd >= 0 && ::close(dfd) != 0 && err == 0) err = errno;
+    if (err != 0) {
+      throw InputError(Where{path}, fmt::format("cannot write {}: {}", path, std::strerror(err)),
+                       {"check that the output device has free space"});
+    }
+    return;
+  }
+  fs::path dir = target.parent_path();
+  if (dir.empty()) dir = ".";
+  // A name unlikely to collide with another writer; created with O_EXCL.
+  std::random_device rd;
+  std::string tmp;
+  int fd = -1;
+  for (int attempt = 0; attempt < 8 && fd < 0; ++attempt) {
+    tmp = (dir / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd())).string();
+    fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+    if (fd < 0 && errno != EEXIST) break;
+  }
+  auto fail = [&](int err) {
+    if (fd >= 0) ::close(fd);
+    if (!tmp.empty()) ::unlink(tmp.c_str());
+    throw InputError(Where{path}, fmt::format("cannot write {}: {}", path, std::strerror(err)),
+                     {"check that the output folder exists, is writable and has free space"});
+  };
+  if (fd < 0) {
+    int err = errno;
+    tmp.clear();
+    fail(err);
+  }
+  const char* p = content.data();
+  std::size_t left = content.size();
+  while (left > 0) {
+    ssize_t n = ::write(fd, p, left);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      fail(errno);
+    }
+    p += n;
+    left -= static_cast<std::size_t>(n);
+  }
+  if (::fsync(fd) != 0 && errno != EINVAL) fail(errno);
+  if (::close(fd) != 0) {
+    fd = -1;
+    fail(errno);
+  }
+  fd = -1;
+  if (std::rename(tmp.c_str(), path.c_str()) != 0) fail(errno);
+}
+
+}  // namespace vzero
