@@ -72,8 +72,7 @@ class MapBuilder {
   MapBuilder(std::string file, std::vector<std::string> columns) : file_(std::move(file)), columns_(std::move(columns)) {
     for (const auto& c : columns_) {
       std::string l = detail::lower(c);
-      if (l != "well" && l != "role" && l != "substrate" && l != "standard_conc" && l != "match")
-        map_.extra_columns.push_back(c);
+      if (l != "well" && l != "role") map_.columns.push_back(c);
     }
   }
   void add(WellId w, const std::vector<Cell>& cells, int line, const std::string& line_text, int well_column) {
@@ -89,11 +88,14 @@ class MapBuilder {
       std::string l = detail::lower(columns_[i]);
       const Cell& c = cells[i];
       if (l == "well") continue;
-      if (l == "role") info.role = parse_role(file_, c);
-      else if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i], true);
+      if (l == "role") {
+        info.role = parse_role(file_, c);
+        continue;
+      }
+      if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i], true);
       else if (l == "standard_conc") info.standard_conc = parse_conc(file_, c, columns_[i], true);
       else if (l == "match") info.match = std::string(detail::trim(c.text));
-      else info.extra.push_back(std::string(detail::trim(c.text)));
+      info.values.push_back(std::string(detail::trim(c.text)));
     }
     if (info.role == Role::standard && std::isnan(info.standard_conc)) {
       throw InputError(Where{file_, line, 0, line_text},

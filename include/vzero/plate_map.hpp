@@ -34,14 +34,14 @@ struct WellInfo {
   double substrate = NAN;       // NaN when not given
   double standard_conc = NAN;   // NaN when not given
   std::string match;            // empty when not given
-  std::vector<std::string> extra;  // values of PlateMap::extra_columns
+  std::vector<std::string> values;  // text of every PlateMap::columns entry, trimmed
   int line = 0;                 // where the well was defined
 };
 
 struct PlateMap {
   std::string source;
   std::string form;                        // "table" or "grid"
-  std::vector<std::string> extra_columns;  // pass-through column names, in file order
+  std::vector<std::string> columns;  // every column but `well` and `role`, in file order (passed through to outputs)
   std::map<WellId, WellInfo> wells;
 
   // The well's entry, or nullptr for wells absent from the map (role empty).

@@ -1,7 +1,227 @@
-// Placeholder until the fit stage lands (being written now); exits with status 2.
+// vzero fit: kinetics fits (Michaelis–Menten and relatives) of a rates or summary table.
+#include <boost/program_options.hpp>
+#include <fmt/format.h>
+#include <set>
+
 #include "cli/commands.hpp"
+#include "cli/options.hpp"
 #include "vzero/error.hpp"
+#include "vzero/fit.hpp"
+#include "vzero/table.hpp"
 
 namespace vzero::cli {
-int cmd_fit(const Args&) { throw UsageError("the fit command is not built yet"); }
+
+namespace {
+
+constexpr const char* k_usage = R"(usage: vzero fit TABLE.csv --x COLUMN [--y COLUMN] [--group COL,...]
+                 [--model mm|substrate-inhibition|hill|competitive|uncompetitive|mixed|all]
+                 [--inhibitor COLUMN] [--enzyme COLUMN] [--weight none|replicate-sd|relative]
+                 [--include-flagged] [--role ROLE] [-o fit.csv] [--json fit.json]
+                 [--diagnostics FILE]
+
+Fits rate laws to initial rates by nonlinear least squares (Levenberg–Marquardt on the
+rates themselves, never on a linearised plot). TABLE is a rates table or a summary table
+written by vzero rates, or any CSV with a concentration column and a rate column.
+
+Rows used: when the table has a `role` column only rows with --role (default sample);
+rows with a non-empty `flags` cell are skipped unless --include-flagged; rows with an empty
+x, y (or inhibitor) cell are skipped and counted. Each combination of the --group columns
+is fitted separately.
+
+Models (v rate, S substrate, I inhibitor; all parameters > 0):
+  mm                    v = Vmax*S/(Km + S)
+  substrate-inhibition  v = Vmax*S/(Km + S*(1 + S/Ki))
+  hill                  v = Vmax*S^n/(K_half^n + S^n)
+  competitive           v = Vmax*S/(Km*(1 + I/Kic) + S)             (needs --inhibitor)
+  uncompetitive         v = Vmax*S/(Km + S*(1 + I/Kiu))             (needs --inhibitor)
+  mixed                 v = Vmax*S/(Km*(1 + I/Kic) + S*(1 + I/Kiu)) (needs --inhibitor)
+  all                   the first three, and the inhibition models when --inhibitor is given
+--model takes one name or several separated by commas.
+
+Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % Wald-t and
+profile-t intervals, residual SD, df, RSS, AIC (Gaussian log-likelihood form, as R's AIC
+for nls: n*(ln 2pi + 1 - ln n + ln RSS) - sum(ln w) + 2(p + 1)), convergence and
+iterations; with --enzyme also kcat = Vmax/[E] and kcat/Km (delta-method SE). Units come
+from the table (a v0_unit column; "<name>_unit" columns or a unit suffix such as _uM).
+Starting values come from a Hanes–Woolf regression of S/v (Hill: a Hill plot) and a coarse
+grid; the better converged run is kept. A group that cannot be fitted gets a row with an
+empty estimate and a message saying why.
+
+Output: a short table on stdout (not with -q, nor when an output file is '-'); -o writes
+the tidy CSV (one row per group x model x parameter), --json the full results (covariance,
+correlation, starts, options), --diagnostics the linearised coordinates (1/S, 1/v; S, S/v;
+v/S, v) of every point and of the fitted curve. Files are written atomically; '-' writes
+that output to stdout instead. Exit status 0 when at least one fit succeeded, 1 when none
+did (the outputs are still written) or the input is bad, 2 for bad usage.
+
+example:
+  vzero fit summary.csv --x substrate --group group --model mm --enzyme enzyme_nM -o fit.csv
+
+options)";
+
+std::vector<std::string> split_list(const std::vector<std::string>& values) {
+  std::vector<std::string> out;
+  for (const auto& v : values) {
+    std::size_t start = 0;
+    while (start <= v.size()) {
+      std::size_t comma = v.find(',', start);
+      if (comma == std::string::npos) comma = v.size();
+      std::string item = v.substr(start, comma - start);
+      while (!item.empty() && item.front() == ' ') item.erase(item.begin());
+      while (!item.empty() && item.back() == ' ') item.pop_back();
+      if (!item.empty()) out.push_back(item);
+      start = comma + 1;
+    }
+  }
+  return out;
+}
+
+std::vector<Model> parse_models(const std::vector<std::string>& names, bool have_inhibitor) {
+  std::vector<Model> out;
+  auto add = [&](Model m) {
+    for (Model e : out)
+      if (e == m) return;
+    out.push_back(m);
+  };
+  for (const auto& name : split_list(names)) {
+    if (name == "all") {
+      for (Model m : {Model::michaelis_menten, Model::substrate_inhibition, Model::hill}) add(m);
+      if (have_inhibitor)
+        for (Model m : {Model::competitive, Model::uncompetitive, Model::mixed}) add(m);
+      continue;
+    }
+    Model m;
+    if (!parse_model(name, m))
+      throw UsageError(fmt::format("--model {}: unknown model; choose mm, substrate-inhibition, hill, competitive, "
+                                   "uncompetitive, mixed or all",
+                                   name));
+    if (needs_inhibitor(m) && !have_inhibitor)
+      throw UsageError(fmt::format("--model {} needs --inhibitor COLUMN (the inhibitor concentration)", name));
+    add(m);
+  }
+  if (out.empty()) out.push_back(Model::michaelis_menten);
+  return out;
+}
+
+void write_output(const std::string& path, const std::string& content) {
+  if (path == "-") print_out(content);
+  else write_file_atomic(path, content);
+}
+
+}  // namespace
+
+int cmd_fit(const Args& args) {
+  namespace po = boost::program_options;
+  std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag;
+  std::vector<std::string> groups, models{"mm"}, start;
+  FitOptions fit;
+  po::options_description opts(k_usage);
+  opts.add_options()
+      ("x", po::value(&x), "substrate concentration column (required)")
+      ("y", po::value(&y), "rate column (default: v0, or v0_mean in a summary table)")
+      ("group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")
+      ("model", po::value(&models)->composing(), "model(s) to fit, comma-separated, or all (default: mm)")
+      ("inhibitor", po::value(&inhibitor), "inhibitor concentration column (for the inhibition models)")
+      ("enzyme", po::value(&enzyme), "enzyme concentration column: adds kcat and kcat/Km")
+      ("weight", po::value(&weight), "none (default), replicate-sd (1/sd^2) or relative (1/v^2)")
+      ("sd", po::value(&sd), "SD column for replicate-sd (default: v0_sd for v0_mean; else the SD of replicate rows "
+                             "at each concentration)")
+      ("include-flagged", "also use rows whose flags cell is not empty")
+      ("role", po::value(&role), "rows to use when the table has a role column (default: sample; any = all rows)")
+      ("output,o", po::value(&output), "write the tidy fit table here ('-' = stdout)")
+      ("json", po::value(&json), "write all results as JSON here ('-' = stdout)")
+      ("diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")
+      ("start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")
+      ("confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")
+      ("max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")
+      ("no-profile", "skip the profile-t intervals (faster)")
+      ("quiet,q", "do not print the table on stdout")
+      ("help,h", "show this help");
+  po::options_description hidden;
+  hidden.add_options()("file", po::value(&file));
+  po::positional_options_description pos;
+  pos.add("file", 1);
+  auto vm = parse_command_line(args, opts, hidden, pos);
+  if (vm.count("help")) {
+    print_out(help_text(opts));
+    return 0;
+  }
+  if (file.empty()) throw UsageError("expected a TABLE.csv to fit (a rates or summary table)");
+  if (x.empty()) throw UsageError("--x COLUMN is required: the substrate concentration column");
+  FitTableOptions o;
+  o.x_column = x;
+  o.y_column = y;
+  o.group_columns = split_list(groups);
+  o.inhibitor_column = inhibitor;
+  o.enzyme_column = enzyme;
+  o.models = parse_models(models, !inhibitor.empty());
+  if (!parse_weighting(weight, o.weighting))
+    throw UsageError(fmt::format("--weight {}: choose none, replicate-sd or relative", weight));
+  if (!sd.empty() && o.weighting != Weighting::replicate_sd)
+    throw UsageError("--sd is used only with --weight replicate-sd");
+  o.sd_column = sd;
+  o.include_flagged = vm.count("include-flagged") > 0;
+  o.role = role == "any" ? "" : role;
+  fit.profile = vm.count("no-profile") == 0;
+  for (const auto& v : split_list(start)) {
+    try {
+      std::size_t used = 0;
+      fit.start.push_back(std::stod(v, &used));
+      if (used != v.size()) throw std::invalid_argument(v);
+    } catch (const std::exception&) {
+      throw UsageError(fmt::format("--start: cannot read \"{}\" as a number", v));
+    }
+  }
+  if (!fit.start.empty()) {
+    if (o.models.size() != 1) throw UsageError("--start needs exactly one --model");
+    const auto names = parameter_names(o.models.front());
+    if (fit.start.size() != names.size())
+      throw UsageError(fmt::format("--start has {} values; the {} model has {} parameters in this order: {}",
+                                   fit.start.size(), to_string(o.models.front()), names.size(),
+                                   fmt::format("{}", fmt::join(names, ", "))));
+  }
+  o.fit = fit;
+  if (auto why = fit.validate(); !why.empty()) throw UsageError(why);
+  int to_stdout = (output == "-") + (json == "-") + (diag == "-");
+  if (to_stdout > 1) throw UsageError("only one of -o, --json and --diagnostics can be '-' (stdout)");
+
+  Table table = read_table(file);
+  // Column checks here, so a missing column names the option that chose it.
+  table.require_column(x, "pass --x with the substrate concentration column");
+  if (!y.empty()) table.require_column(y, "pass --y with the rate column");
+  else if (table.column("v0") < 0 && table.column("v0_mean") < 0)
+    table.require_column("v0", "pass --y with the rate column (v0 in a rates table, v0_mean in a summary)");
+  if (!inhibitor.empty()) table.require_column(inhibitor, "pass --inhibitor with the inhibitor concentration column");
+  if (!enzyme.empty()) table.require_column(enzyme, "pass --enzyme with the enzyme concentration column");
+  if (!sd.empty()) table.require_column(sd, "pass --sd with the standard deviation column");
+  for (const auto& g : o.group_columns) table.require_column(g, "pass --group with existing column names");
+  if (o.group_columns.empty() && table.column("group") >= 0) {
+    std::set<std::string> values;
+    for (const auto& row : table.rows) values.insert(row[static_cast<std::size_t>(table.column("group"))]);
+    if (values.size() > 1)
+      print_err(fmt::format("vzero fit: note: column \"group\" holds {} values and all rows are fitted together; pass "
+                            "--group group to fit each group separately",
+                            values.size()));
+  }
+
+  TableFit result = fit_table(table, o);
+  if (!output.empty()) write_output(output, fit_csv(result));
+  if (!json.empty()) write_output(json, fit_json(result, o));
+  if (!diag.empty()) write_output(diag, fit_diagnostics_csv(result));
+  if (to_stdout == 0 && vm.count("quiet") == 0) print_out(fit_text(result));
+
+  int ok = 0;
+  const GroupFit* first_failure = nullptr;
+  for (const auto& g : result.fits) {
+    if (g.result.ok) ++ok;
+    else if (!first_failure) first_failure = &g;
+  }
+  if (ok == 0 && first_failure) {
+    throw InputError(Where{file}, fmt::format("no fit succeeded; the first ({}): {}", to_string(first_failure->model),
+                                              first_failure->result.message),
+                     {"see the message of each group in the output"});
+  }
+  return 0;
+}
+
 }  // namespace vzero::cli

@@ -1,0 +1,72 @@
+// One run through the pipeline: blank → convert → rate finder, for every well of every
+// channel. Each well gets a row, whatever happens to it. Wells are processed in parallel
+// and stored by index, so the result does not depend on the thread count.
+//
+// **Example**:
+//   vzero::AnalysisOptions opt;          // plate blank, signal only, auto window, Theil–Sen
+//   vzero::RunAnalysis a = vzero::analyse_run(run, map, opt);
+//   for (const auto& ch : a.channels) for (const auto& row : ch.rows) use(row.v0);
+#pragma once
+
+#include <functional>
+#include <string>
+#include <vector>
+
+#include "vzero/blank.hpp"
+#include "vzero/convert.hpp"
+#include "vzero/plate_map.hpp"
+#include "vzero/rates.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero {
+
+enum class Direction { up, down };  // product formation (signal rises) or consumption (falls)
+
+struct AnalysisOptions {
+  BlankOptions blank;
+  ConvertOptions convert;
+  RateOptions rates;
+  Direction direction = Direction::up;
+  std::vector<std::string> channels;  // channels to analyse; empty = all except water-peak channels
+  double well_volume_ul = NAN;        // for enzyme activity (U, nkat); NaN = not reported
+  int threads = 0;                    // 0 = all cores
+  std::string validate() const;
+};
+
+struct RateRow {
+  WellId well;
+  int plate_index = 0;
+  Role role = Role::empty;
+  const WellInfo* info = nullptr;     // plate-map entry, nullptr when unmapped
+  RateResult rate;                    // the rate finder's result, signal units per second
+  double v0 = NAN, v0_se = NAN, v0_ci_low = NAN, v0_ci_high = NAN;  // concentration (or signal) per minute
+  double slope_per_min = NAN;         // blank-corrected signal per minute (direction applied)
+  double blank_rate_per_min = NAN;    // the blank's rate subtracted in `rate` mode, else the blank's own slope
+  double activity_u = NAN;            // enzyme activity, µmol/min, when a well volume is given
+  double path_cm = NAN;
+  std::vector<std::string> flags;     // blank flags + rate flags + "empty"
+};
+
+struct ChannelAnalysis {
+  const Channel* channel = nullptr;
+  BlankResult blank;
+  Conversion conversion;
+  std::string v0_unit;                // e.g. "uM/min" or "AU/min"
+  std::string slope_unit;             // e.g. "AU/min"
+  double direction_sign = 1.0;        // −1 when the reaction makes the signal fall
+  std::vector<RateRow> rows;          // one per channel column (plate index order)
+};
+
+struct RunAnalysis {
+  const Run* run = nullptr;
+  std::vector<ChannelAnalysis> channels;
+};
+
+// Throws InputError for conversion problems (no standards, missing water channels, …) and
+// UsageError for invalid options or a requested channel the run lacks.
+RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& options);
+
+// Runs `fn(i)` for i in [0, n) on `threads` threads (0 = all cores), in fixed chunks.
+void parallel_for(int n, int threads, const std::function<void(int)>& fn);
+
+}  // namespace vzero

@@ -1,0 +1,64 @@
+// Blank subtraction: what the signal would have been without the enzyme.
+//
+// Strategies: `plate` — the mean of every blank well of the channel at each read;
+// `matched` — the mean of the blank wells sharing the sample's plate-map `match` value
+// (for example a substrate-only blank per substrate concentration, since a substrate that
+// hydrolyses on its own must be subtracted per concentration); `none`.
+// Modes: `trace` subtracts the blank read by read; `rate` leaves the trace alone and
+// subtracts the blank's own rate over the sample's window from the sample's rate (less
+// noise when blanks are few).
+//
+// **Example**:
+//   vzero::BlankOptions opt;  opt.strategy = vzero::BlankStrategy::matched;
+//   vzero::BlankResult b = vzero::apply_blank(run.channels[0], map, run.format, opt);
+//   // b.corrected(read, column) = raw − blank; b.wells[column].blank_wells == "D1;D2"
+#pragma once
+
+#include <Eigen/Core>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "vzero/plate_map.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero {
+
+enum class BlankStrategy { plate, matched, none };
+enum class BlankMode { trace, rate };
+std::string_view to_string(BlankStrategy s);
+std::string_view to_string(BlankMode m);
+bool parse_blank_strategy(std::string_view t, BlankStrategy& out);
+bool parse_blank_mode(std::string_view t, BlankMode& out);
+
+struct BlankOptions {
+  BlankStrategy strategy = BlankStrategy::plate;
+  BlankMode mode = BlankMode::trace;
+  // A blank well is "noisy" when its scatter about its own straight line exceeds this many
+  // times the median scatter of the channel's blank wells (needs 3 or more blank wells).
+  double noisy_factor = 3.0;
+  std::string validate() const;
+};
+
+struct WellBlank {
+  std::string blank_wells;     // ';'-separated wells averaged for this well, "" when none
+  double blank_rate = NAN;     // slope of the blank trace, signal units per second (OLS, all reads)
+  double blank_noise_sd = NAN; // residual SD of the blank wells about their lines, signal units
+  std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"
+};
+
+struct BlankResult {
+  Eigen::MatrixXd blank;      // reads × wells subtracted (0 in rate mode and for none)
+  Eigen::MatrixXd corrected;  // raw − blank; NaN where unusable
+  StatusMatrix status;        // raw status; `excluded` where the blank has no value at that read
+  std::vector<WellBlank> wells;  // one per channel column
+};
+
+BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
+
+// Mean blank trace's OLS slope over [t0_s, t1_s] for channel column `column` (signal units
+// per second), used by the `rate` mode; NaN when the well has no blank or too few reads.
+double blank_rate_between(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options,
+                          int column, double t0_s, double t1_s);
+
+}  // namespace vzero

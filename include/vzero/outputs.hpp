@@ -1,0 +1,59 @@
+// The files `vzero rates` writes: rates.csv, its datapackage.json (Frictionless Data
+// Package with Table Schema field types and units, plus provenance), the per-read traces
+// table and the replicate summary. Text is built in memory and written atomically by the
+// caller (write_file_atomic). RFC 4180, UTF-8, '.' decimals, shortest round-trip numbers.
+#pragma once
+
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "vzero/analysis.hpp"
+#include "vzero/summary.hpp"
+
+namespace vzero {
+
+// One column of an output table, as the Table Schema describes it.
+struct FieldSpec {
+  std::string name;
+  std::string type;         // "string", "number", "integer"
+  std::string unit;         // "" when none or given per row (see description)
+  std::string description;
+};
+
+struct InputRecord {
+  std::string kind;         // "export", "plate-map", "method", "profile"
+  std::string path;
+  std::string sha256;
+  std::string profile;      // for exports
+  std::string shape;        // for exports
+};
+
+struct Provenance {
+  std::string tool_version;
+  std::vector<InputRecord> inputs;
+  std::vector<std::pair<std::string, std::string>> options;  // every option with its value, in order
+  std::vector<std::pair<std::string, std::string>> detected;  // settings vzero chose itself (profiles, …)
+};
+
+std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity);
+std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
+                      bool with_activity);
+
+std::vector<FieldSpec> trace_fields();
+std::string traces_csv(const std::vector<RunAnalysis>& runs);
+
+std::vector<FieldSpec> summary_fields(const SummaryTable& s);
+std::string summary_csv(const SummaryTable& s);
+
+struct PackagedTable {
+  std::string name;          // "rates", "traces", "summary"
+  std::string path;          // file name relative to the package
+  std::vector<FieldSpec> fields;
+};
+
+// The datapackage.json text for the tables written (paths relative to its folder).
+std::string datapackage_json(const std::vector<PackagedTable>& tables, const Provenance& provenance,
+                             const std::vector<RunAnalysis>& runs);
+
+}  // namespace vzero

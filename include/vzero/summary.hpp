@@ -1,0 +1,37 @@
+// Replicate summary: wells grouped by their plate-map columns, with mean, SD, n and CV of
+// the clean v0 values (flagged wells are counted, not averaged).
+//
+// **Example**:
+//   auto groups = vzero::summarise(analyses, map_columns, {"replicate"});
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "vzero/analysis.hpp"
+
+namespace vzero {
+
+struct SummaryGroup {
+  std::string channel;
+  std::string role;
+  std::vector<std::string> key;     // values of SummaryTable::columns
+  std::string v0_unit;
+  int n = 0;                        // clean wells averaged
+  int n_flagged = 0;                // wells in the group left out because flagged
+  double v0_mean = NAN, v0_sd = NAN, v0_sem = NAN, cv_pct = NAN;
+  std::string wells;                // ';'-separated, all wells of the group
+};
+
+struct SummaryTable {
+  std::vector<std::string> columns;  // grouping plate-map columns, in map order
+  std::vector<SummaryGroup> groups;  // in order of first appearance
+};
+
+// Groups sample, blank and standard wells of every channel by all plate-map columns except
+// those in `leave_out` (compared case-insensitively; "replicate" is the usual one). Runs
+// from several files pool into the same groups.
+SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
+                       const std::vector<std::string>& leave_out);
+
+}  // namespace vzero

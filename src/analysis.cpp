@@ -1,0 +1,163 @@
+#include "vzero/analysis.hpp"
+
+#include <algorithm>
+#include <atomic>
+#include <cmath>
+#include <fmt/format.h>
+#include <thread>
+
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+std::string AnalysisOptions::validate() const {
+  if (auto why = blank.validate(); !why.empty()) return why;
+  if (auto why = convert.validate(); !why.empty()) return why;
+  if (auto why = rates.validate(); !why.empty()) return why;
+  if (!std::isnan(well_volume_ul) && !(well_volume_ul > 0)) return fmt::format("well volume is {} µL; it must be above 0", well_volume_ul);
+  if (threads < 0) return fmt::format("threads is {}; use 0 for all cores or a positive number", threads);
+  return {};
+}
+
+void parallel_for(int n, int threads, const std::function<void(int)>& fn) {
+  int t = threads > 0 ? threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  t = std::min(t, std::max(1, n / 16));
+  if (t <= 1) {
+    for (int i = 0; i < n; ++i) fn(i);
+    return;
+  }
+  std::atomic<int> next{0};
+  std::exception_ptr error;
+  std::atomic<bool> failed{false};
+  auto work = [&]() {
+    constexpr int k_chunk = 16;
+    while (!failed) {
+      int start = next.fetch_add(k_chunk);
+      if (start >= n) break;
+      for (int i = start; i < std::min(n, start + k_chunk); ++i) {
+        try {
+          fn(i);
+        } catch (...) {
+          if (!failed.exchange(true)) error = std::current_exception();
+          return;
+        }
+      }
+    }
+  };
+  std::vector<std::thread> pool;
+  for (int k = 1; k < t; ++k) pool.emplace_back(work);
+  work();
+  for (auto& th : pool) th.join();
+  if (error) std::rethrow_exception(error);
+}
+
+namespace {
+
+bool is_water_channel(const ConvertOptions& o, const std::string& name) {
+  return o.water_peak && (name == o.water_high || name == o.water_low);
+}
+
+void add_flag(std::vector<std::string>& flags, const std::string& f) {
+  if (std::find(flags.begin(), flags.end(), f) == flags.end()) flags.push_back(f);
+}
+
+ChannelAnalysis analyse_channel(const Run& run, const Channel& c, const PlateMap& map, const AnalysisOptions& o) {
+  ChannelAnalysis ca;
+  ca.channel = &c;
+  ca.blank = apply_blank(c, map, run.format, o.blank);
+  ca.conversion = plan_conversion(run, c, map, o.convert);
+  const std::string sig_unit = c.unit.empty() ? "signal" : c.unit;
+  ca.slope_unit = sig_unit + "/min";
+  ca.v0_unit = ca.conversion.mode == ConvertMode::signal_only ? ca.slope_unit : ca.conversion.conc_unit + "/min";
+  const int cols = static_cast<int>(c.wells.size());
+  const int reads = c.reads();
+  const double sign = o.direction == Direction::down ? -1.0 : 1.0;
+  ca.direction_sign = sign;
+  ca.rows.resize(static_cast<std::size_t>(cols));
+  parallel_for(cols, o.threads, [&](int j) {
+    RateRow& row = ca.rows[static_cast<std::size_t>(j)];
+    row.plate_index = c.wells[static_cast<std::size_t>(j)];
+    row.well = run.format.well(row.plate_index);
+    row.info = map.find(row.well);
+    row.role = row.info ? row.info->role : Role::empty;
+    const WellBlank& wb = ca.blank.wells[static_cast<std::size_t>(j)];
+    for (const auto& f : wb.flags) add_flag(row.flags, f);
+    std::vector<double> y(static_cast<std::size_t>(reads));
+    for (int i = 0; i < reads; ++i) y[static_cast<std::size_t>(i)] = sign * ca.blank.corrected(i, j);
+    TraceView tv;
+    tv.time_s = c.time_s.data();
+    tv.y = y.data();
+    tv.raw = c.values.col(j).data();
+    tv.status = ca.blank.status.col(j).data();
+    tv.n = reads;
+    const double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
+    row.path_cm = ca.conversion.path_cm[static_cast<std::size_t>(j)];
+    if (ca.conversion.mode != ConvertMode::signal_only) {
+      tv.conc_per_signal = factor;
+      if (row.info) tv.substrate = row.info->substrate;
+    }
+    tv.noise_sd = wb.blank_noise_sd;
+    row.rate = find_rate(tv, o.rates);
+    for (const auto& f : row.rate.flags) add_flag(row.flags, f);
+    if (row.role == Role::empty) add_flag(row.flags, "empty");
+    if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor))) add_flag(row.flags, "no-path");
+    double slope = row.rate.slope;
+    double blank_rate = sign * wb.blank_rate;
+    if (o.blank.mode == BlankMode::rate && o.blank.strategy != BlankStrategy::none && row.role != Role::blank &&
+        !std::isnan(row.rate.t_start_s)) {
+      blank_rate = sign * blank_rate_between(c, map, run.format, o.blank, j, row.rate.t_start_s, row.rate.t_end_s);
+      if (!std::isnan(blank_rate)) slope -= blank_rate;
+      else if (wb.blank_wells.empty() == false) add_flag(row.flags, "blank-missing");
+    }
+    row.blank_rate_per_min = blank_rate * 60;
+    row.slope_per_min = slope * 60;
+    const double to_v0 = 60 * (ca.conversion.mode == ConvertMode::signal_only ? 1.0 : factor);
+    row.v0 = slope * to_v0;
+    row.v0_se = row.rate.slope_se * to_v0;
+    row.v0_ci_low = (row.rate.ci_low - (row.rate.slope - slope)) * to_v0;
+    row.v0_ci_high = (row.rate.ci_high - (row.rate.slope - slope)) * to_v0;
+    if (!std::isnan(o.well_volume_ul) && ca.conversion.mode != ConvertMode::signal_only)
+      row.activity_u = activity_units(row.v0, ca.conversion.conc_unit, o.well_volume_ul);
+  });
+  // Samples whose signal leaves the calibrated range of the standard curve.
+  if (ca.conversion.curve) {
+    const auto& sc = *ca.conversion.curve;
+    for (auto& row : ca.rows) {
+      if (row.role != Role::sample) continue;
+      int j = c.column_of(row.plate_index);
+      for (int i = 0; i < reads; ++i) {
+        if (!row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] && c.status(i, j) == ReadStatus::ok &&
+            (c.values(i, j) > sc.signal_max || c.values(i, j) < sc.signal_min)) {
+          add_flag(row.flags, "outside-standards");
+          break;
+        }
+      }
+    }
+  }
+  return ca;
+}
+
+}  // namespace
+
+RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& o) {
+  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
+  RunAnalysis ra;
+  ra.run = &run;
+  for (const auto& name : o.channels) {
+    if (!run.find_channel(name)) {
+      std::string names;
+      for (const auto& c : run.channels) names += (names.empty() ? "" : ", ") + c.name;
+      throw InputError(Where{run.source}, fmt::format("channel {} is not in this file; it has: {}", name, names),
+                       {"pass one of the listed names with --channel"});
+    }
+  }
+  for (const auto& c : run.channels) {
+    bool wanted = o.channels.empty() ? !is_water_channel(o.convert, c.name)
+                                     : std::find(o.channels.begin(), o.channels.end(), c.name) != o.channels.end();
+    if (!wanted) continue;
+    ra.channels.push_back(analyse_channel(run, c, map, o));
+  }
+  return ra;
+}
+
+}  // namespace vzero

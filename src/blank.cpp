@@ -1,0 +1,195 @@
+#include "vzero/blank.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+
+namespace vzero {
+
+std::string_view to_string(BlankStrategy s) {
+  switch (s) {
+    case BlankStrategy::plate: return "plate";
+    case BlankStrategy::matched: return "matched";
+    case BlankStrategy::none: return "none";
+  }
+  return "plate";
+}
+std::string_view to_string(BlankMode m) { return m == BlankMode::trace ? "trace" : "rate"; }
+
+bool parse_blank_strategy(std::string_view t, BlankStrategy& out) {
+  if (t == "plate") out = BlankStrategy::plate;
+  else if (t == "matched") out = BlankStrategy::matched;
+  else if (t == "none") out = BlankStrategy::none;
+  else return false;
+  return true;
+}
+bool parse_blank_mode(std::string_view t, BlankMode& out) {
+  if (t == "trace") out = BlankMode::trace;
+  else if (t == "rate") out = BlankMode::rate;
+  else return false;
+  return true;
+}
+
+std::string BlankOptions::validate() const {
+  if (!(noisy_factor > 1)) return fmt::format("noisy_factor is {}; it must be above 1", noisy_factor);
+  return {};
+}
+
+namespace {
+
+struct Line {
+  double slope = NAN, intercept = NAN, resid_sd = NAN;
+  int n = 0;
+};
+
+// OLS with centred sums over the ok reads in [t0, t1].
+Line fit_line(const std::vector<double>& t, const double* y, const ReadStatus* st, double t0, double t1) {
+  Line l;
+  double mt = 0, my = 0;
+  for (std::size_t i = 0; i < t.size(); ++i)
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { mt += t[i]; my += y[i]; ++l.n; }
+  if (l.n < 3) return l;
+  mt /= l.n; my /= l.n;
+  double stt = 0, sty = 0;
+  for (std::size_t i = 0; i < t.size(); ++i)
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { stt += (t[i] - mt) * (t[i] - mt); sty += (t[i] - mt) * (y[i] - my); }
+  if (stt <= 0) return l;
+  l.slope = sty / stt;
+  l.intercept = my - l.slope * mt;
+  double rss = 0;
+  for (std::size_t i = 0; i < t.size(); ++i)
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { double e = y[i] - l.intercept - l.slope * t[i]; rss += e * e; }
+  l.resid_sd = std::sqrt(rss / (l.n - 2));
+  return l;
+}
+
+// Channel columns of the blank wells serving `column`, by strategy.
+std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o, int column,
+                            const std::vector<int>& all_blanks) {
+  if (o.strategy == BlankStrategy::none) return {};
+  const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(column)]));
+  if (info && info->role == Role::blank) return {};  // blanks are not blanked
+  if (o.strategy == BlankStrategy::plate) return all_blanks;
+  std::vector<int> out;
+  if (!info || info->match.empty()) return out;
+  for (int b : all_blanks) {
+    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+    if (bi && bi->match == info->match) out.push_back(b);
+  }
+  return out;
+}
+
+}  // namespace
+
+BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
+  const Eigen::Index reads = c.values.rows(), cols = c.values.cols();
+  BlankResult r;
+  r.blank = Eigen::MatrixXd::Zero(reads, cols);
+  r.corrected = c.values;
+  r.status = c.status;
+  r.wells.resize(static_cast<std::size_t>(cols));
+
+  std::vector<int> all_blanks;
+  for (Eigen::Index j = 0; j < cols; ++j) {
+    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
+    if (info && info->role == Role::blank) all_blanks.push_back(static_cast<int>(j));
+  }
+  // Each blank well's own line and scatter.
+  std::map<int, Line> blank_line;
+  std::vector<double> sds;
+  for (int b : all_blanks) {
+    Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), -INFINITY, INFINITY);
+    blank_line[b] = l;
+    if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
+  }
+  double median_sd = NAN;
+  if (sds.size() >= 3) {
+    std::sort(sds.begin(), sds.end());
+    median_sd = sds.size() % 2 ? sds[sds.size() / 2] : 0.5 * (sds[sds.size() / 2 - 1] + sds[sds.size() / 2]);
+  }
+  // Mean blank traces are shared by all wells using the same set of blanks.
+  std::map<std::vector<int>, std::pair<Eigen::VectorXd, std::vector<ReadStatus>>> cache;
+  for (Eigen::Index j = 0; j < cols; ++j) {
+    WellBlank& wb = r.wells[static_cast<std::size_t>(j)];
+    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
+    bool is_blank = info && info->role == Role::blank;
+    if (is_blank) {
+      const Line& l = blank_line[static_cast<int>(j)];
+      wb.blank_rate = l.slope;
+      wb.blank_noise_sd = l.resid_sd;
+      if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) wb.flags.emplace_back("blank-noisy");
+      continue;
+    }
+    if (o.strategy == BlankStrategy::none) continue;
+    std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), all_blanks);
+    bool needs_blank = info && (info->role == Role::sample || info->role == Role::standard);
+    if (use.empty()) {
+      if (needs_blank) wb.flags.emplace_back("blank-missing");
+      continue;
+    }
+    double var = 0;
+    int nsd = 0;
+    for (int b : use) {
+      if (!wb.blank_wells.empty()) wb.blank_wells += ';';
+      wb.blank_wells += well_name(f.well(c.wells[static_cast<std::size_t>(b)]));
+      const Line& l = blank_line[b];
+      if (!std::isnan(l.resid_sd)) { var += l.resid_sd * l.resid_sd; ++nsd; }
+      if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd &&
+          std::find(wb.flags.begin(), wb.flags.end(), "blank-noisy") == wb.flags.end())
+        wb.flags.emplace_back("blank-noisy");
+    }
+    if (nsd > 0) wb.blank_noise_sd = std::sqrt(var / nsd);
+    auto it = cache.find(use);
+    if (it == cache.end()) {
+      Eigen::VectorXd mean = Eigen::VectorXd::Constant(reads, NAN);
+      std::vector<ReadStatus> st(static_cast<std::size_t>(reads), ReadStatus::excluded);
+      for (Eigen::Index i = 0; i < reads; ++i) {
+        double s = 0;
+        int n = 0;
+        for (int b : use)
+          if (c.status(i, b) == ReadStatus::ok) { s += c.values(i, b); ++n; }
+        if (n > 0) { mean(i) = s / n; st[static_cast<std::size_t>(i)] = ReadStatus::ok; }
+      }
+      it = cache.emplace(use, std::make_pair(std::move(mean), std::move(st))).first;
+    }
+    const auto& [mean, st] = it->second;
+    Line ml = fit_line(c.time_s, mean.data(), st.data(), -INFINITY, INFINITY);
+    wb.blank_rate = ml.slope;
+    if (o.mode == BlankMode::rate) continue;
+    for (Eigen::Index i = 0; i < reads; ++i) {
+      if (st[static_cast<std::size_t>(i)] != ReadStatus::ok) {
+        if (r.status(i, j) == ReadStatus::ok) r.status(i, j) = ReadStatus::excluded;
+        r.corrected(i, j) = NAN;
+        r.blank(i, j) = NAN;
+        continue;
+      }
+      r.blank(i, j) = mean(i);
+      r.corrected(i, j) = c.values(i, j) - mean(i);
+    }
+  }
+  return r;
+}
+
+double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o, int column,
+                          double t0, double t1) {
+  std::vector<int> all_blanks;
+  for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
+    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
+    if (info && info->role == Role::blank) all_blanks.push_back(static_cast<int>(j));
+  }
+  std::vector<int> use = blanks_for(c, map, f, o, column, all_blanks);
+  if (use.empty()) return NAN;
+  std::vector<double> mean(c.time_s.size(), NAN);
+  std::vector<ReadStatus> st(c.time_s.size(), ReadStatus::excluded);
+  for (std::size_t i = 0; i < c.time_s.size(); ++i) {
+    double s = 0;
+    int n = 0;
+    for (int b : use)
+      if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) { s += c.values(static_cast<Eigen::Index>(i), b); ++n; }
+    if (n > 0) { mean[i] = s / n; st[i] = ReadStatus::ok; }
+  }
+  return fit_line(c.time_s, mean.data(), st.data(), t0, t1).slope;
+}
+
+}  // namespace vzero

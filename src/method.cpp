@@ -1,0 +1,95 @@
+#include "vzero/method.hpp"
+
+#include <algorithm>
+#include <cerrno>
+#include <cstring>
+#include <fmt/format.h>
+#include <fstream>
+#include <sstream>
+#include <toml++/toml.h>
+
+#include "vzero/error.hpp"
+#include "vzero/table.hpp"
+
+namespace vzero {
+
+namespace {
+
+// Levenshtein distance, to suggest the key the user probably meant.
+std::size_t distance(std::string_view a, std::string_view b) {
+  std::vector<std::size_t> prev(b.size() + 1), cur(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) prev[j] = j;
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    cur[0] = i;
+    for (std::size_t j = 1; j <= b.size(); ++j)
+      cur[j] = std::min({prev[j] + 1, cur[j - 1] + 1, prev[j - 1] + (a[i - 1] == b[j - 1] ? 0 : 1)});
+    std::swap(prev, cur);
+  }
+  return prev[b.size()];
+}
+
+}  // namespace
+
+std::vector<MethodEntry> parse_method(std::string_view text, const std::string& name,
+                                      const std::vector<std::string>& known) {
+  toml::table root;
+  try {
+    root = toml::parse(text, name);
+  } catch (const toml::parse_error& e) {
+    throw InputError(Where{name, static_cast<int>(e.source().begin.line), static_cast<int>(e.source().begin.column)},
+                     fmt::format("the method file is not valid TOML: {}", e.description()),
+                     {"write one `option-name = value` per line (see vzero rates --help for the names)"});
+  }
+  std::vector<MethodEntry> out;
+  for (const auto& [k, v] : root) {
+    MethodEntry e;
+    e.key = std::string(k.str());
+    e.line = static_cast<int>(k.source().begin.line);
+    e.column = static_cast<int>(k.source().begin.column);
+    if (std::find(known.begin(), known.end(), e.key) == known.end()) {
+      std::string best;
+      std::size_t best_d = 99;
+      for (const auto& kk : known) {
+        std::size_t d = distance(e.key, kk);
+        if (d < best_d) { best_d = d; best = kk; }
+      }
+      std::vector<std::string> fixes;
+      if (best_d <= 3) fixes.push_back(fmt::format("did you mean `{}`?", best));
+      fixes.push_back("method keys are the long option names of vzero rates (see vzero rates --help)");
+      throw InputError(Where{name, e.line, e.column}, fmt::format("unknown method key `{}`", e.key), fixes);
+    }
+    if (auto s = v.as_string()) {
+      e.value = s->get();
+      e.type = "string";
+    } else if (auto i = v.as_integer()) {
+      e.value = std::to_string(i->get());
+      e.type = "integer";
+    } else if (auto f = v.as_floating_point()) {
+      e.value = format_number(f->get());
+      e.type = "float";
+    } else if (auto b = v.as_boolean()) {
+      e.value = b->get() ? "true" : "false";
+      e.type = "boolean";
+    } else {
+      throw InputError(Where{name, static_cast<int>(v.source().begin.line), static_cast<int>(v.source().begin.column)},
+                       fmt::format("method key `{}` must be a string, number or true/false", e.key),
+                       {"write lists as one comma-separated string, e.g. channel = \"A405,A340\""});
+    }
+    out.push_back(std::move(e));
+  }
+  std::sort(out.begin(), out.end(), [](const MethodEntry& a, const MethodEntry& b) { return a.line < b.line; });
+  return out;
+}
+
+std::vector<MethodEntry> read_method(const std::string& path, const std::vector<std::string>& known) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) {
+    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
+                     {"check the --method path"});
+  }
+  std::stringstream ss;
+  ss << in.rdbuf();
+  return parse_method(ss.str(), path, known);
+}
+
+}  // namespace vzero

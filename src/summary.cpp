@@ -1,0 +1,68 @@
+#include "vzero/summary.hpp"
+
+#include <cmath>
+#include <map>
+
+#include "detail/text.hpp"
+
+namespace vzero {
+
+SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
+                       const std::vector<std::string>& leave_out) {
+  SummaryTable t;
+  std::vector<std::size_t> keep;
+  for (std::size_t i = 0; i < map_columns.size(); ++i) {
+    bool drop = false;
+    for (const auto& l : leave_out) drop |= detail::iequals(map_columns[i], l);
+    if (!drop) {
+      keep.push_back(i);
+      t.columns.push_back(map_columns[i]);
+    }
+  }
+  std::map<std::vector<std::string>, std::size_t> index;
+  std::vector<std::vector<double>> values;
+  for (const auto& ra : runs) {
+    for (const auto& ca : ra.channels) {
+      for (const auto& row : ca.rows) {
+        if (row.role == Role::empty || !row.info) continue;
+        std::vector<std::string> key{ca.channel->name, std::string(to_string(row.role))};
+        for (std::size_t i : keep) key.push_back(i < row.info->values.size() ? row.info->values[i] : "");
+        auto [it, fresh] = index.emplace(key, t.groups.size());
+        if (fresh) {
+          SummaryGroup g;
+          g.channel = key[0];
+          g.role = key[1];
+          g.key.assign(key.begin() + 2, key.end());
+          g.v0_unit = ca.v0_unit;
+          t.groups.push_back(std::move(g));
+          values.emplace_back();
+        }
+        SummaryGroup& g = t.groups[it->second];
+        if (!g.wells.empty()) g.wells += ';';
+        g.wells += well_name(row.well);
+        if (row.flags.empty() && !std::isnan(row.v0)) values[it->second].push_back(row.v0);
+        else ++g.n_flagged;
+      }
+    }
+  }
+  for (std::size_t k = 0; k < t.groups.size(); ++k) {
+    SummaryGroup& g = t.groups[k];
+    const auto& v = values[k];
+    g.n = static_cast<int>(v.size());
+    if (v.empty()) continue;
+    double m = 0;
+    for (double x : v) m += x;
+    m /= static_cast<double>(v.size());
+    g.v0_mean = m;
+    if (v.size() >= 2) {
+      double ss = 0;
+      for (double x : v) ss += (x - m) * (x - m);
+      g.v0_sd = std::sqrt(ss / static_cast<double>(v.size() - 1));
+      g.v0_sem = g.v0_sd / std::sqrt(static_cast<double>(v.size()));
+      if (m != 0) g.cv_pct = 100 * g.v0_sd / std::fabs(m);
+    }
+  }
+  return t;
+}
+
+}  // namespace vzero
