@@ -209,6 +209,7 @@ FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& op
   for (std::size_t j : {std::size_t{1}, std::size_t{0}, std::size_t{2}, std::size_t{3}}) {
     if (j < np && best.at_bound[j] != 0) {
       r.message = bound_message(m, j, best.at_bound[j], pts, best.p);
+      r.converged = false;  // the run ended on the box, not at an optimum inside it
       return r;
     }
   }

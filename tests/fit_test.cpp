@@ -3,6 +3,7 @@
 #include "vzero/fit.hpp"
 
 #include <array>
+#include <nlohmann/json.hpp>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -436,6 +437,59 @@ TEST_CASE("fit_table: summary table with v0_mean and replicate-sd weights 1/sd^2
   REQUIRE(direct.ok);
   CHECK_REL(t.fits[0].result.parameters[0].estimate, direct.parameters[0].estimate, 1e-12);
   CHECK_REL(t.fits[0].result.parameters[1].se, direct.parameters[1].se, 1e-12);
+}
+
+TEST_CASE("fit_table: replicate SDs from per-well rows, and weights that cannot be formed") {
+  // Puromycin treated: each concentration has 2 wells; weight 1/sd^2 of the pair.
+  std::string text = "substrate,v0\n";
+  std::vector<double> w;
+  for (std::size_t k = 0; k < 12; ++k) {
+    text += vzero::format_number(puro_treated_S[k]) + "," + vzero::format_number(puro_treated_v[k]) + "\n";
+    const double d = puro_treated_v[k - k % 2] - puro_treated_v[k - k % 2 + 1];
+    w.push_back(2 / (d * d));  // sd of a pair = |a - b|/sqrt(2)
+  }
+  vzero::FitTableOptions o;
+  o.x_column = "substrate";
+  o.weighting = vzero::Weighting::replicate_sd;
+  const auto t = vzero::fit_table(vzero::parse_table("wells.csv", text), o);
+  REQUIRE(t.fits.size() == 1);
+  REQUIRE(t.fits[0].result.ok);
+  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, Model::michaelis_menten);
+  CHECK_REL(t.fits[0].result.parameters[1].estimate, direct.parameters[1].estimate, 1e-12);
+
+  const auto single = vzero::fit_table(vzero::parse_table("wells.csv", "substrate,v0\n1,2\n2,3\n2,3.5\n4,4\n"), o);
+  CHECK(single.fits[0].result.message ==
+        "replicate-sd weighting: substrate 1 has 1 replicate(s) with sd 0; every concentration needs at least 2 "
+        "replicates that differ");
+  o.weighting = vzero::Weighting::relative;
+  const auto negative =
+      vzero::fit_table(vzero::parse_table("wells.csv", "substrate,v0\n1,-0.1\n2,3\n2,3.5\n4,4\n"), o);
+  CHECK(negative.fits[0].result.message == "relative weighting (1/v^2) needs positive rates; 1 of 4 rates are <= 0");
+}
+
+TEST_CASE("fit_table: global inhibition fit, JSON and per-level diagnostic curves") {
+  std::vector<double> s, i, v;
+  make_data({Model::competitive, {12, 50, 25}}, s, i, v);
+  std::string text = "substrate,inhibitor_uM,v0\n";
+  for (std::size_t k = 0; k < s.size(); ++k)
+    text += vzero::format_number(s[k]) + "," + vzero::format_number(i[k]) + "," + vzero::format_number(v[k]) + "\n";
+  vzero::FitTableOptions o;
+  o.x_column = "substrate";
+  o.inhibitor_column = "inhibitor_uM";
+  o.models = {Model::competitive, Model::michaelis_menten};
+  const auto t = vzero::fit_table(vzero::parse_table("inh.csv", text), o);
+  REQUIRE(t.fits.size() == 2);
+  REQUIRE(t.fits[0].result.ok);
+  CHECK_REL(t.fits[0].result.parameters[2].estimate, 25, 1e-8);
+  CHECK(t.fits[0].units[2] == "uM");
+  const auto diag = vzero::parse_table("diag.csv", vzero::fit_diagnostics_csv(t));
+  // competitive: 40 points + 4 inhibitor levels x 41; mm (pooled): 40 points + 41.
+  CHECK(diag.rows.size() == 40 + 4 * 41 + 40 + 41);
+  const auto j = nlohmann::json::parse(vzero::fit_json(t, o));
+  CHECK(j["fits"].size() == 2);
+  CHECK(j["fits"][0]["model"] == "competitive");
+  CHECK(j["fits"][0]["parameters"][2]["name"] == "Kic");
+  CHECK(j["fits"][0]["correlation"].size() == 3);
 }
 
 namespace {

@@ -87,7 +87,7 @@ struct FitResult {
   bool ok = false;                    // false: `message` says why and no numbers are given
   std::string message;                // e.g. "too few points: 2 rows for 2 parameters ..."
   std::vector<std::string> warnings;  // remarks on an ok fit (open profile, extrapolated Km)
-  bool converged = false;
+  bool converged = false;             // reached an optimum inside the bounds
   int iterations = 0;                 // Levenberg–Marquardt iterations of the chosen run
   std::string start_method;           // "given", "Hanes-Woolf", "Hill plot", "grid"
   std::vector<double> start;          // the starting values of the chosen run
