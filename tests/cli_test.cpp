@@ -1,0 +1,148 @@
+// The vzero program as a user runs it: help, errors and exit codes, the rates outputs.
+#include <nlohmann/json.hpp>
+
+#include "test_support.hpp"
+#include "vzero/table.hpp"
+
+using namespace vzero::test;
+
+namespace {
+const std::string k_demo = "'" + source("demo-data") + "'";
+std::string demo(const std::string& f) { return "'" + source("demo-data/" + f) + "'"; }
+}  // namespace
+
+TEST_CASE("help explains every command and option") {
+  auto top = run_vzero("--help");
+  INFO(top.describe());
+  CHECK(top.status == 0);
+  CHECK(top.out.find("inspect FILE") != std::string::npos);
+  for (const char* cmd : {"inspect", "rates"}) {
+    auto r = run_vzero(std::string(cmd) + " --help");
+    INFO(r.describe());
+    CHECK(r.status == 0);
+    CHECK(r.out.find("usage: vzero") != std::string::npos);
+  }
+  auto rates = run_vzero("rates --help");
+  for (const char* opt : {"--layout", "--method", "--epsilon", "--path-cm", "--volume-ul", "--well-diameter-mm",
+                          "--water-peak", "--standards", "--signal-only", "--blank", "--blank-mode", "--direction",
+                          "--skip-s", "--min-points", "--max-conversion", "--estimator", "--window", "--traces",
+                          "--summary", "--threads", "--signal-ceiling", "--conc-unit", "--well-volume-ul"}) {
+    CAPTURE(opt);
+    CHECK(rates.out.find(opt) != std::string::npos);
+  }
+  CHECK(rates.out.find("nadh-340") != std::string::npos);
+}
+
+TEST_CASE("bad usage exits 2, bad input exits 1, each with a message") {
+  auto unknown = run_vzero("rates x.csv --layout m.csv --colour red");
+  INFO(unknown.describe());
+  CHECK(unknown.status == 2);
+  CHECK(unknown.err == "vzero rates: unrecognised option '--colour'\n  see: vzero rates --help\n");
+  auto nofile = run_vzero("inspect no-such-file.csv");
+  INFO(nofile.describe());
+  CHECK(nofile.status == 1);
+  CHECK(nofile.err ==
+        "no-such-file.csv: cannot open no-such-file.csv: No such file or directory\n"
+        "  possible fix: check the path and that the file is readable\n");
+  auto nolayout = run_vzero("rates " + demo("hydrolase_wide.csv"));
+  CHECK(nolayout.status == 2);
+  CHECK(nolayout.err.find("--layout MAP.csv is required") != std::string::npos);
+  auto badnum = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
+                          " --epsilon abc --path-cm 0.5");
+  CHECK(badnum.status == 2);
+  CHECK(badnum.err == "vzero rates: --epsilon is \"abc\"; expected a number\n  see: vzero rates --help\n");
+  auto cmd = run_vzero("frobnicate");
+  CHECK(cmd.status == 2);
+}
+
+TEST_CASE("inspect reports what it read") {
+  auto r = run_vzero("inspect " + demo("hydrolase_grid.txt"));
+  INFO(r.describe());
+  CHECK(r.status == 0);
+  CHECK(r.out.find("shape     grid") != std::string::npos);
+  CHECK(r.out.find("profile   grid-generic (built-in; detected") != std::string::npos);
+  CHECK(r.out.find("reads   21, from 0 s to 600 s") != std::string::npos);
+  CHECK(r.out.find("overflow 13 in A12 (13)") != std::string::npos);
+  CHECK(r.out.find("temperature 24.9–25.1 °C") != std::string::npos);
+}
+
+TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical for any thread count") {
+  TempDir dir;
+  std::string common = "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
+                       " --method " + demo("esterase_method.toml") + " --summary summary.csv --traces traces.csv";
+  auto one = run_vzero(common + " -o one.csv --threads 1", dir.path.string());
+  INFO(one.describe());
+  REQUIRE(one.status == 0);
+  std::string first = slurp(dir / "one.csv");
+  std::string package = slurp(dir / "datapackage.json");
+  auto two = run_vzero(common + " -o two.csv --threads 2", dir.path.string());
+  REQUIRE(two.status == 0);
+  CHECK(first == slurp(dir / "two.csv"));
+  vzero::Table t = vzero::read_table(dir / "one.csv");
+  CHECK(t.rows.size() == 96);
+  CHECK(t.header.at(0) == "source");
+  CHECK(t.column("v0_unit") >= 0);
+  CHECK(t.rows[0][static_cast<std::size_t>(t.column("v0_unit"))] == "uM/min");
+  vzero::Table traces = vzero::read_table(dir / "traces.csv");
+  CHECK(traces.rows.size() == 96 * 21);
+  auto j = nlohmann::json::parse(package);
+  CHECK(j["profile"] == "tabular-data-package");
+  CHECK(j["resources"][0]["path"] == "one.csv");
+  CHECK(j["vzero"]["inputs"][0]["kind"] == "plate-map");
+  bool found = false;
+  for (const auto& in : j["vzero"]["inputs"]) {
+    if (in["kind"] == "export") {
+      found = true;
+      // sha256 of demo-data/hydrolase_wide.csv, as `sha256sum` prints it (coreutils).
+      CHECK(in["sha256"].get<std::string>().size() == 64);
+    }
+  }
+  CHECK(found);
+  CHECK(j["vzero"]["options"]["epsilon"] == "18000");
+  CHECK(j["vzero"]["options"]["blank"] == "matched");
+}
+
+TEST_CASE("command-line flags override the method file; method-file mistakes name the line") {
+  TempDir dir;
+  spit(dir / "m.toml", "epsilon = 18000\npath-cm = 0.5\nblank = \"sideways\"\n");
+  auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method m.toml",
+                     dir.path.string());
+  INFO(r.describe());
+  CHECK(r.status == 1);
+  CHECK(r.err ==
+        "m.toml:3:1: method key `blank` is \"sideways\"; use plate, matched or none\n"
+        "  possible fix: correct the value in the method file\n");
+  auto ok = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
+                          " --method m.toml --blank plate -q",
+                      dir.path.string());
+  CHECK(ok.status == 0);
+  spit(dir / "typo.toml", "epsilom = 18000\n");
+  auto typo = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
+                            " --method typo.toml",
+                        dir.path.string());
+  CHECK(typo.status == 1);
+  CHECK(typo.err ==
+        "typo.toml:1:1: unknown method key `epsilom`\n"
+        "  possible fixes:\n"
+        "    - did you mean `epsilon`?\n"
+        "    - method keys are the long option names of vzero rates (see vzero rates --help)\n");
+}
+
+TEST_CASE("a failed write leaves no partial file and an old output intact") {
+  TempDir dir;
+  std::string base = "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " -q";
+  auto full = run_vzero(base + " -o /dev/full", dir.path.string());
+  CHECK(full.status == 1);
+  CHECK(full.err.find("cannot write /dev/full: No space left on device") != std::string::npos);
+  auto missing = run_vzero(base + " -o no-such-dir/rates.csv", dir.path.string());
+  CHECK(missing.status == 1);
+  CHECK(missing.err.find("cannot write no-such-dir/rates.csv") != std::string::npos);
+  spit(dir / "rates.csv", "old\n");
+  auto bad = run_vzero(base + " -o rates.csv --traces /dev/full", dir.path.string());
+  CHECK(bad.status == 1);
+  // rates.csv was replaced whole before the traces failed; no temporary files remain.
+  int leftovers = 0;
+  for (const auto& e : std::filesystem::directory_iterator(dir.path))
+    leftovers += e.path().filename().string().find(".tmp") != std::string::npos;
+  CHECK(leftovers == 0);
+}

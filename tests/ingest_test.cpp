@@ -1,0 +1,183 @@
+// The three shape readers and the profile options, on the demo plate and small inputs.
+#include <cmath>
+
+#include "test_support.hpp"
+#include "vzero/error.hpp"
+#include "vzero/ingest.hpp"
+
+using namespace vzero;
+using vzero::test::source;
+
+namespace {
+
+Run demo(const std::string& name) {
+  std::string path = source("demo-data/" + name);
+  return read_run(path, choose_profile(path, "").profile);
+}
+
+// Same plate, channel, times, statuses and values (values exactly: the demo writes 4 decimals).
+void check_same(const Run& a, const Run& b) {
+  REQUIRE(a.channels.size() == b.channels.size());
+  CHECK(a.format == b.format);
+  for (std::size_t k = 0; k < a.channels.size(); ++k) {
+    const Channel &x = a.channels[k], &y = b.channels[k];
+    CHECK(x.name == y.name);
+    CHECK(x.quantity == y.quantity);
+    CHECK(x.time_s == y.time_s);
+    CHECK(x.wells == y.wells);
+    CHECK(x.temperature_c == y.temperature_c);
+    REQUIRE(x.values.rows() == y.values.rows());
+    REQUIRE(x.values.cols() == y.values.cols());
+    int differ = 0;
+    for (Eigen::Index i = 0; i < x.values.size(); ++i) {
+      if (x.status.data()[i] != y.status.data()[i]) ++differ;
+      else if (x.status.data()[i] == ReadStatus::ok && x.values.data()[i] != y.values.data()[i]) ++differ;
+    }
+    CHECK(differ == 0);
+  }
+}
+
+std::string message_of(const std::function<void()>& f) {
+  try {
+    f();
+  } catch (const InputError& e) {
+    return e.formatted();
+  }
+  return "no error";
+}
+
+Run wide(const std::string& text, const std::string& profile = "wide-generic") {
+  return read_run_text("t.csv", text, load_profile(profile));
+}
+
+}  // namespace
+
+TEST_CASE("the demo plate reads identically in every shape") {
+  Run w = demo("hydrolase_wide.csv");
+  CHECK(w.shape == "wide");
+  CHECK(w.profile == "wide-generic");
+  CHECK(w.format.wells() == 96);
+  REQUIRE(w.channels.size() == 1);
+  CHECK(w.channels[0].name == "A405");
+  CHECK(w.channels[0].quantity == Quantity::absorbance);
+  CHECK(w.channels[0].unit == "AU");
+  CHECK(w.channels[0].reads() == 21);
+  CHECK(w.channels[0].time_s.back() == 600);
+  // The over-concentrated well A12 saturates: its late reads are overflow, never numbers.
+  int a12 = w.channels[0].column_of(11);
+  CHECK(w.channels[0].status(20, a12) == ReadStatus::overflow);
+  CHECK(std::isnan(w.channels[0].values(20, a12)));
+  CHECK(w.channels[0].values(0, 0) == 0.0462);  // demo-data/hydrolase_wide.csv line 8, A1
+  Run g = demo("hydrolase_grid.txt");
+  CHECK(g.shape == "grid");
+  Run l = demo("hydrolase_long.csv");
+  CHECK(l.shape == "long");
+  Run s = demo("hydrolase_wide_semicolon.csv");
+  CHECK(s.profile == "wide-semicolon-comma");
+  check_same(w, g);
+  check_same(w, l);
+  check_same(w, s);
+  CHECK(w.metadata == g.metadata);
+  CHECK(w.metadata.size() == 3);
+  CHECK(w.metadata[0] == std::pair<std::string, std::string>{"Operator", "demo"});
+}
+
+TEST_CASE("CRLF line ends and a UTF-8 BOM read the same as LF") {
+  std::string lf = "Time [s],A1,A2\n0,0.1,0.2\n30,0.15,0.25\n60,0.2,0.3\n";
+  std::string crlf = "\xEF\xBB\xBFTime [s],A1,A2\r\n0,0.1,0.2\r\n30,0.15,0.25\r\n60,0.2,0.3\r\n";
+  check_same(wide(lf), wide(crlf));
+}
+
+TEST_CASE("profile options: delimiter, decimal mark, time units, tokens, temperature") {
+  SUBCASE("tab delimiter, minutes from the header, overflow and missing tokens") {
+    Run r = wide("Time [min]\tTemp\tA1\tB1\n0\t25.0\t0.1\tOVER\n0.5\t25.2\t\t1.5\n");
+    const Channel& c = r.channels[0];
+    CHECK(c.time_s == std::vector<double>{0, 30});
+    CHECK(c.temperature_c == std::vector<double>{25.0, 25.2});
+    CHECK(r.format.wells() == 6);  // the smallest plate holding A1 and B1
+    int a1 = c.column_of(r.format.index(*parse_well("A1")));
+    int bb = c.column_of(r.format.index(*parse_well("B1")));
+    CHECK(c.status(0, bb) == ReadStatus::overflow);
+    CHECK(c.status(1, a1) == ReadStatus::missing);
+    CHECK(c.values(1, bb) == 1.5);
+  }
+  SUBCASE("clock times h:mm:ss and mm:ss") {
+    Run r = wide("Time,A1\n0:00:00,1\n0:00:30,2\n1:00:30.5,3\n");
+    CHECK(r.channels[0].time_s == std::vector<double>{0, 30, 3630.5});
+    Run m = wide("Time,A1\n00:00,1\n01:30,2\n");
+    CHECK(m.channels[0].time_s == std::vector<double>{0, 90});
+  }
+  SUBCASE("decimal comma with semicolons") {
+    Run r = wide("Time [s];A1\n0;0,125\n30;1,5E-1\n", "wide-semicolon-comma");
+    CHECK(r.channels[0].values(0, 0) == 0.125);
+    CHECK(r.channels[0].values(1, 0) == 0.15);
+  }
+  SUBCASE("several channels as labelled sections, each with its own header") {
+    Run r = wide("Channel: A340\nTime [s],A1\n0,1.0\n30,0.9\n\nChannel: ex485/em520\nTime [s],A1\n0,100\n30,150\n");
+    REQUIRE(r.channels.size() == 2);
+    CHECK(r.channels[0].name == "A340");
+    CHECK(r.channels[1].name == "ex485/em520");
+    CHECK(r.channels[1].quantity == Quantity::fluorescence);
+    CHECK(r.channels[1].unit == "RFU");
+  }
+  SUBCASE("a fixed plate size in the profile") {
+    Profile p = parse_profile("shape = \"wide\"\nplate = 384\n", "p.toml", "p");
+    Run r = read_run_text("t.csv", "time,A1\n0,1\n", p);
+    CHECK(r.format.wells() == 384);
+    CHECK_FALSE(r.format_inferred);
+  }
+}
+
+TEST_CASE("long shape: rows in any order, channel column, missing combinations") {
+  Profile p = load_profile("long-generic");
+  Run r = read_run_text("l.csv",
+                        "well,time_s,channel,value\nA2,30,A340,0.8\nA1,0,A340,1.0\nA2,0,A340,0.9\nA1,0,A405,0.5\n", p);
+  REQUIRE(r.channels.size() == 2);
+  const Channel& c = r.channels[0];
+  CHECK(c.name == "A340");
+  CHECK(c.time_s == std::vector<double>{0, 30});
+  CHECK(c.status(1, c.column_of(0)) == ReadStatus::missing);  // A1 has no row at 30 s
+  CHECK(c.values(1, c.column_of(1)) == 0.8);
+}
+
+TEST_CASE("reader errors name file:line:column, what was expected and found, and the fix") {
+  CHECK(message_of([] { wide("Time [s],A1,A2\n0,0.1,0.2\n30,0.1\n"); }) ==
+        "t.csv:3:7: expected 3 fields as in the header at line 1, found 2\n"
+        "  line 3: 30,0.1\n"
+        "  possible fix: check for a truncated or extra field; a file cut off mid-row must be re-exported or the "
+        "incomplete last line deleted");
+  CHECK(message_of([] { wide("Time [s],A1\n0,abc\n"); }) ==
+        "t.csv:2:3: expected a number for well A1, found \"abc\"\n"
+        "  line 2: 0,abc\n"
+        "  possible fix: add \"abc\" to the profile's `overflow` or `missing` list if it marks an unusable read");
+  CHECK(message_of([] { wide("Time [s];A1\n0;0,5\n"); }) ==
+        "t.csv:2:3: expected a number for well A1, found \"0,5\"\n"
+        "  line 2: 0;0,5\n"
+        "  possible fix: set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile "
+        "wide-semicolon-comma");
+  CHECK(message_of([] { wide("Time [s],A1\n30,1\n0,2\n"); }) ==
+        "t.csv:3:1: read time goes backwards in channel signal: 0 s after 30 s at line 2\n"
+        "  line 3: 0,2\n"
+        "  possible fix: check the time column and the profile's `time_unit`; reads must be in time order");
+  CHECK(message_of([] { wide("Time [s],A1\n30,1\n30,2\n"); }) ==
+        "t.csv:3:1: read time 30 s appears twice in channel signal (first at line 2)\n"
+        "  line 3: 30,2\n"
+        "  possible fix: remove the duplicated read, or check that two exports were not pasted together");
+  CHECK(message_of([] { wide("Time [s],A1,A1\n0,1,2\n"); }) ==
+        "t.csv:1:13: well A1 appears twice in the header (columns 10 and 13)\n"
+        "  line 1: Time [s],A1,A1\n"
+        "  possible fix: remove or rename the duplicated column");
+  CHECK(message_of([] { wide("Time [s],A1,Q99\n0,1,2\n"); }) ==
+        "t.csv:1:13: expected a well name (A1 … AF48) or a known column in the header, found \"Q99\"\n"
+        "  line 1: Time [s],A1,Q99\n"
+        "  possible fix: add \"Q99\" to `columns.ignore` (or `columns.temperature`) in the profile");
+  CHECK(message_of([] { wide(""); }).rfind("t.csv: found no data", 0) == 0);
+  CHECK(message_of([] {
+          read_run_text("l.csv", "well,time,value\nZZ9,0,1\n", load_profile("long-generic"));
+        }) == "l.csv:2:1: expected a well name (A1 … AF48), found \"ZZ9\"\n"
+              "  line 2: ZZ9,0,1\n"
+              "  possible fix: check the well column; names are a row letter (A–Z, AA–AF) and a column number");
+  CHECK(message_of([] { wide(std::string("Time [s],A1\n0,1\x00", 16) + "\n30,2\n"); }) ==
+        "t.csv:2: found a NUL byte; this is not a text export\n"
+        "  possible fix: export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8");
+}

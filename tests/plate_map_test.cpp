@@ -1,0 +1,91 @@
+// Plate maps: tidy and plate-grid forms read the same; malformed maps give exact messages.
+#include "test_support.hpp"
+#include "vzero/error.hpp"
+#include "vzero/ingest.hpp"
+#include "vzero/plate_map.hpp"
+
+using namespace vzero;
+using vzero::test::source;
+
+namespace {
+std::string message_of(const std::string& text) {
+  try {
+    parse_plate_map("map.csv", text);
+  } catch (const InputError& e) {
+    return e.formatted();
+  }
+  return "no error";
+}
+}  // namespace
+
+TEST_CASE("the demo map reads the same in tidy and plate-grid form") {
+  PlateMap t = read_plate_map(source("demo-data/hydrolase_map.csv"));
+  PlateMap g = read_plate_map(source("demo-data/hydrolase_map_grid.csv"));
+  CHECK(t.form == "table");
+  CHECK(g.form == "grid");
+  CHECK(t.columns == g.columns);
+  CHECK(t.columns == std::vector<std::string>{"substrate", "match", "group", "inhibitor_uM", "enzyme_nM"});
+  REQUIRE(t.wells.size() == g.wells.size());
+  CHECK(t.wells.size() == 61);  // 8 columns × (3 + 1 + 3 rows) + 4 buffer blanks + A12
+  for (const auto& [w, a] : t.wells) {
+    const WellInfo* b = g.find(w);
+    REQUIRE(b != nullptr);
+    CHECK(a.role == b->role);
+    CHECK(a.values == b->values);
+    CHECK(a.match == b->match);
+  }
+  const WellInfo* d3 = t.find(*parse_well("D3"));
+  REQUIRE(d3);
+  CHECK(d3->role == Role::blank);
+  CHECK(d3->substrate == 40);
+  CHECK(t.find(*parse_well("A9")) == nullptr);  // unmapped: reported as empty
+}
+
+TEST_CASE("plate map errors") {
+  CHECK(message_of("well,role\nA1,sample\nA01,blank\n") ==
+        "map.csv:3:1: well A1 is mapped twice (first at line 2)\n"
+        "  line 3: A01,blank\n"
+        "  possible fix: keep one row per well");
+  CHECK(message_of("well,role\nA1,enzyme\n") ==
+        "map.csv:2:4: expected a role (sample, blank, standard or empty), found \"enzyme\"\n"
+        "  line 2: A1,enzyme\n"
+        "  possible fix: use one of the four roles in the `role` column");
+  CHECK(message_of("well,role,substrate\nA1,sample,-5\n") ==
+        "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -5\n"
+        "  line 2: A1,sample,-5\n"
+        "  possible fix: concentrations cannot be negative; leave the cell empty when unknown");
+  CHECK(message_of("well,role,substrate\nA1,sample,lots\n") ==
+        "map.csv:2:11: expected a number in `substrate`, found \"lots\"\n"
+        "  line 2: A1,sample,lots\n"
+        "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
+  CHECK(message_of("well,role\nX99,sample\n") ==
+        "map.csv:2:1: expected a well name (A1 … AF48), found \"X99\"\n"
+        "  line 2: X99,sample\n"
+        "  possible fix: write wells as a row letter and a column number, e.g. B7 or B07");
+  CHECK(message_of("well,role\nA1,sample,extra\n") ==
+        "map.csv:2:11: expected 2 fields as in the header, found 3\n"
+        "  line 2: A1,sample,extra\n"
+        "  possible fix: make every row hold 2 fields separated by ','");
+  CHECK(message_of("well,role\nA1,standard\n") ==
+        "map.csv:2: standard well A1 has no `standard_conc`\n"
+        "  line 2: A1,standard\n"
+        "  possible fix: give every standard well its known concentration in `standard_conc`");
+  CHECK(message_of("") == "map.csv: the plate map is empty\n  possible fix: check that the right file was given");
+}
+
+TEST_CASE("a map naming wells the export lacks is an error") {
+  Run run = read_run_text("plate.csv", "Time [s],A1,A2\n0,1,2\n30,1,2\n", load_profile("wide-generic"));
+  PlateMap ok = parse_plate_map("map.csv", "well,role\nA1,sample\n");
+  CHECK_NOTHROW(check_plate_map(ok, run));
+  PlateMap extra = parse_plate_map("map.csv", "well,role\nA1,sample\nB3,blank\n");
+  try {
+    check_plate_map(extra, run);
+    FAIL("expected an error");
+  } catch (const InputError& e) {
+    CHECK(e.formatted() ==
+          "map.csv:3: well B3 is in the plate map but plate.csv has no reads for it\n"
+          "  possible fix: remove the well from the map, or check that the map belongs to this export");
+  }
+  PlateMap beyond = parse_plate_map("map.csv", "well,role\nA1,sample\nH12,blank\n");
+  CHECK_THROWS_AS(check_plate_map(beyond, run), InputError);
+}
