@@ -3,7 +3,7 @@
 
 The scenario is made up for the demo: a hypothetical esterase ("EstD", not a real
 enzyme) hydrolyses a p-nitrophenyl ester; the plate reader follows p-nitrophenolate at
-405 nm every 30 s for 10 min, 200 uL per well (about 0.5 cm path), 25 C. Eight substrate
+405 nm every 10 s for 10 min, 200 uL per well (about 0.5 cm path), 25 C. Eight substrate
 concentrations in triplicate, without and with 50 uM of an invented competitive inhibitor,
 substrate-only blanks per concentration (the ester hydrolyses on its own), buffer blanks,
 one over-concentrated enzyme well that saturates the detector, and one well with a
@@ -20,10 +20,10 @@ INHIBITOR_UM = 50.0
 EPS_L_PER_UM = 18000 * 0.5 * 1e-6   # AU per uM: epsilon 18000 /M/cm (literature range), 0.5 cm
 SPONT_PER_MIN = 0.0005             # spontaneous hydrolysis, fraction of S0 per min (invented)
 BASE_AU = 0.045
-NOISE_AU = 0.0012
+NOISE_AU = 0.0008
 CEILING_AU = 3.5
 SERIES_UM = [10, 20, 40, 80, 160, 320, 640, 1280]
-TIMES_S = [30 * i for i in range(21)]
+TIMES_S = [10 * i for i in range(61)]
 ROWS = "ABCDEFGH"
 
 
@@ -84,7 +84,7 @@ def simulate():
                     vmax = VMAX_UM_MIN * info["enzyme"] / 5
                     a += EPS_L_PER_UM * product_um(t / 60, s0, vmax, km)
             a += rng.gauss(0, NOISE_AU)
-            if w == "B5" and i == 9:
+            if w == "B5" and i == 12:
                 a += 0.25  # a bubble
             trace.append(a)
         data[w] = trace
@@ -136,10 +136,10 @@ def write_grid(wells, data, path):
 def write_long(wells, data, path):
     with open(path, "w", newline="\n") as f:
         f.write(HEADER_NOTE + "\n")
-        f.write("well,channel,time_min,temperature_c,value\n")
+        f.write("well,channel,time_s,temperature_c,value\n")
         for w in wells:
             for i, t in enumerate(TIMES_S):
-                f.write(f"{w},A405,{t / 60:g},{temperature(i):.1f},{cell(data[w][i])}\n")
+                f.write(f"{w},A405,{t},{temperature(i):.1f},{cell(data[w][i])}\n")
 
 
 def write_maps(layout, tidy_path, grid_path):

@@ -6,6 +6,7 @@
 #include <fmt/format.h>
 #include <thread>
 
+#include "detail/text.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero {
@@ -15,6 +16,9 @@ std::string AnalysisOptions::validate() const {
   if (auto why = convert.validate(); !why.empty()) return why;
   if (auto why = rates.validate(); !why.empty()) return why;
   if (!std::isnan(well_volume_ul) && !(well_volume_ul > 0)) return fmt::format("well volume is {} µL; it must be above 0", well_volume_ul);
+  if (!enzyme_mg_column.empty() && std::isnan(well_volume_ul))
+    return "specific activity (--enzyme-mg-column) needs the well volume (--well-volume-ul)";
+  if (inner_filter_ex.empty() != inner_filter_em.empty()) return "the inner-filter correction needs two channels, EX and EM";
   if (threads < 0) return fmt::format("threads is {}; use 0 for all cores or a positive number", threads);
   return {};
 }
@@ -61,9 +65,69 @@ void add_flag(std::vector<std::string>& flags, const std::string& f) {
   if (std::find(flags.begin(), flags.end(), f) == flags.end()) flags.push_back(f);
 }
 
-ChannelAnalysis analyse_channel(const Run& run, const Channel& c, const PlateMap& map, const AnalysisOptions& o) {
+// Mean of the ok reads of one well in a channel, NaN when it has none.
+double well_mean(const Channel& c, int plate_index) {
+  int j = c.column_of(plate_index);
+  if (j < 0) return NAN;
+  double s = 0;
+  int n = 0;
+  for (int i = 0; i < c.reads(); ++i)
+    if (c.status(i, j) == ReadStatus::ok) { s += c.values(i, j); ++n; }
+  return n ? s / n : NAN;
+}
+
+std::shared_ptr<const Channel> inner_filter_copy(const Run& run, const Channel& c, const AnalysisOptions& o) {
+  const Channel* ex = run.find_channel(o.inner_filter_ex);
+  const Channel* em = run.find_channel(o.inner_filter_em);
+  if (!ex || !em) {
+    std::string names;
+    for (const auto& ch : run.channels) names += (names.empty() ? "" : ", ") + ch.name;
+    throw InputError(Where{run.source},
+                     fmt::format("the inner-filter correction needs absorbance channels {} and {}; the file has: {}",
+                                 o.inner_filter_ex, o.inner_filter_em, names),
+                     {"name the channels read at the excitation and emission wavelengths with --inner-filter EX,EM"});
+  }
+  auto copy = std::make_shared<Channel>(c);
+  for (Eigen::Index j = 0; j < copy->values.cols(); ++j) {
+    int plate_index = copy->wells[static_cast<std::size_t>(j)];
+    double a_ex = well_mean(*ex, plate_index), a_em = well_mean(*em, plate_index);
+    for (Eigen::Index i = 0; i < copy->values.rows(); ++i) {
+      if (copy->status(i, j) != ReadStatus::ok) continue;
+      if (std::isnan(a_ex) || std::isnan(a_em)) {
+        copy->status(i, j) = ReadStatus::excluded;  // no absorbance to correct with
+        copy->values(i, j) = NAN;
+      } else {
+        copy->values(i, j) = inner_filter_corrected(copy->values(i, j), a_ex, a_em);
+      }
+    }
+  }
+  return copy;
+}
+
+// The numeric value of a plate-map column for a well (NaN when empty or unmapped).
+double map_number(const PlateMap& map, const WellInfo* info, int column) {
+  if (!info || column < 0) return NAN;
+  const std::string& text = info->values[static_cast<std::size_t>(column)];
+  if (text.empty()) return NAN;
+  auto v = detail::parse_number(text);
+  if (!v) {
+    throw InputError(Where{map.source, info->line},
+                     fmt::format("expected a number in `{}` for well {}, found \"{}\"", map.columns[static_cast<std::size_t>(column)],
+                                 well_name(info->well), text),
+                     {"write the enzyme amount in mg as a plain number"});
+  }
+  return *v;
+}
+
+ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, const PlateMap& map, const AnalysisOptions& o) {
   ChannelAnalysis ca;
+  if (!o.inner_filter_ex.empty() && raw_channel.quantity == Quantity::fluorescence)
+    ca.corrected = inner_filter_copy(run, raw_channel, o);
+  const Channel& c = ca.corrected ? *ca.corrected : raw_channel;
   ca.channel = &c;
+  int enzyme_col = -1;
+  for (std::size_t k = 0; k < map.columns.size(); ++k)
+    if (!o.enzyme_mg_column.empty() && map.columns[k] == o.enzyme_mg_column) enzyme_col = static_cast<int>(k);
   ca.blank = apply_blank(c, map, run.format, o.blank);
   ca.conversion = plan_conversion(run, c, map, o.convert);
   const std::string sig_unit = c.unit.empty() ? "signal" : c.unit;
@@ -118,6 +182,10 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& c, const PlateMap
     row.v0_ci_high = (row.rate.ci_high - (row.rate.slope - slope)) * to_v0;
     if (!std::isnan(o.well_volume_ul) && ca.conversion.mode != ConvertMode::signal_only)
       row.activity_u = activity_units(row.v0, ca.conversion.conc_unit, o.well_volume_ul);
+    if (enzyme_col >= 0) {
+      double mg = map_number(map, row.info, enzyme_col);
+      if (mg > 0) row.specific_activity = row.activity_u / mg;
+    }
   });
   // Samples whose signal leaves the calibrated range of the standard curve.
   if (ca.conversion.curve) {
@@ -143,6 +211,11 @@ RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptio
   if (auto why = o.validate(); !why.empty()) throw UsageError(why);
   RunAnalysis ra;
   ra.run = &run;
+  if (!o.enzyme_mg_column.empty() &&
+      std::find(map.columns.begin(), map.columns.end(), o.enzyme_mg_column) == map.columns.end()) {
+    throw InputError(Where{map.source, 1}, fmt::format("the plate map has no column `{}`", o.enzyme_mg_column),
+                     {"name the plate-map column holding the enzyme mass per well (mg) with --enzyme-mg-column"});
+  }
   for (const auto& name : o.channels) {
     if (!run.find_channel(name)) {
       std::string names;

@@ -38,7 +38,7 @@ bool numeric_map_column(const std::string& name) {
 
 }  // namespace
 
-std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity) {
+std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity, bool with_specific) {
   std::vector<FieldSpec> f = {
       {"source", "string", "", "export file the well was read from"},
       {"channel", "string", "", "channel (wavelength pair or read name)"},
@@ -77,13 +77,14 @@ std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, 
     f.push_back({"activity_U", "number", "U", "enzyme activity in the well, µmol/min"});
     f.push_back({"activity_nkat", "number", "nkat", "enzyme activity in the well, nmol/s"});
   }
+  if (with_specific) f.push_back({"specific_activity_U_per_mg", "number", "U/mg", "activity per mg of enzyme"});
   return f;
 }
 
 std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                      bool with_activity) {
+                      bool with_activity, bool with_specific) {
   fmt::memory_buffer b;
-  header(b, rate_fields(map_columns, with_activity));
+  header(b, rate_fields(map_columns, with_activity, with_specific));
   for (const auto& ra : runs) {
     for (const auto& ca : ra.channels) {
       for (const auto& r : ca.rows) {
@@ -122,6 +123,9 @@ std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<st
         if (with_activity) {
           put(b, ","); put_num(b, r.activity_u);
           put(b, ","); put_num(b, r.activity_u * k_nkat_per_unit);
+        }
+        if (with_specific) {
+          put(b, ","); put_num(b, r.specific_activity);
         }
         put(b, "\n");
       }

@@ -61,8 +61,8 @@ TEST_CASE("inspect reports what it read") {
   CHECK(r.status == 0);
   CHECK(r.out.find("shape     grid") != std::string::npos);
   CHECK(r.out.find("profile   grid-generic (built-in; detected") != std::string::npos);
-  CHECK(r.out.find("reads   21, from 0 s to 600 s") != std::string::npos);
-  CHECK(r.out.find("overflow 13 in A12 (13)") != std::string::npos);
+  CHECK(r.out.find("reads   61, from 0 s to 600 s") != std::string::npos);
+  CHECK(r.out.find("overflow 39 in A12 (39)") != std::string::npos);
   CHECK(r.out.find("temperature 24.9–25.1 °C") != std::string::npos);
 }
 
@@ -84,7 +84,7 @@ TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical
   CHECK(t.column("v0_unit") >= 0);
   CHECK(t.rows[0][static_cast<std::size_t>(t.column("v0_unit"))] == "uM/min");
   vzero::Table traces = vzero::read_table(dir / "traces.csv");
-  CHECK(traces.rows.size() == 96 * 21);
+  CHECK(traces.rows.size() == 96 * 61);
   auto j = nlohmann::json::parse(package);
   CHECK(j["profile"] == "tabular-data-package");
   CHECK(j["resources"][0]["path"] == "one.csv");

@@ -61,13 +61,13 @@ TEST_CASE("the demo plate reads identically in every shape") {
   CHECK(w.channels[0].name == "A405");
   CHECK(w.channels[0].quantity == Quantity::absorbance);
   CHECK(w.channels[0].unit == "AU");
-  CHECK(w.channels[0].reads() == 21);
+  CHECK(w.channels[0].reads() == 61);
   CHECK(w.channels[0].time_s.back() == 600);
   // The over-concentrated well A12 saturates: its late reads are overflow, never numbers.
   int a12 = w.channels[0].column_of(11);
-  CHECK(w.channels[0].status(20, a12) == ReadStatus::overflow);
-  CHECK(std::isnan(w.channels[0].values(20, a12)));
-  CHECK(w.channels[0].values(0, 0) == 0.0462);  // demo-data/hydrolase_wide.csv line 8, A1
+  CHECK(w.channels[0].status(60, a12) == ReadStatus::overflow);
+  CHECK(std::isnan(w.channels[0].values(60, a12)));
+  CHECK(w.channels[0].values(0, 0) == 0.0463);  // demo-data/hydrolase_wide.csv line 8, A1
   Run g = demo("hydrolase_grid.txt");
   CHECK(g.shape == "grid");
   Run l = demo("hydrolase_long.csv");
@@ -178,6 +178,6 @@ TEST_CASE("reader errors name file:line:column, what was expected and found, and
               "  line 2: ZZ9,0,1\n"
               "  possible fix: check the well column; names are a row letter (A–Z, AA–AF) and a column number");
   CHECK(message_of([] { wide(std::string("Time [s],A1\n0,1\x00", 16) + "\n30,2\n"); }) ==
-        "t.csv:2: found a NUL byte; this is not a text export\n"
+        "t.csv:2:4: found a NUL byte; this is not a text export\n"
         "  possible fix: export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8");
 }

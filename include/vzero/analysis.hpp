@@ -9,6 +9,7 @@
 #pragma once
 
 #include <functional>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -29,6 +30,10 @@ struct AnalysisOptions {
   Direction direction = Direction::up;
   std::vector<std::string> channels;  // channels to analyse; empty = all except water-peak channels
   double well_volume_ul = NAN;        // for enzyme activity (U, nkat); NaN = not reported
+  std::string enzyme_mg_column;       // plate-map column with enzyme mass per well, mg: specific activity (U/mg)
+  // Inner-filter correction of fluorescence channels, F·10^((A_ex + A_em)/2), from the mean
+  // absorbance of each well in these two channels (empty = no correction).
+  std::string inner_filter_ex, inner_filter_em;
   int threads = 0;                    // 0 = all cores
   std::string validate() const;
 };
@@ -43,12 +48,14 @@ struct RateRow {
   double slope_per_min = NAN;         // blank-corrected signal per minute (direction applied)
   double blank_rate_per_min = NAN;    // the blank's rate subtracted in `rate` mode, else the blank's own slope
   double activity_u = NAN;            // enzyme activity, µmol/min, when a well volume is given
+  double specific_activity = NAN;     // activity_u per mg of enzyme (U/mg), with enzyme_mg_column
   double path_cm = NAN;
   std::vector<std::string> flags;     // blank flags + rate flags + "empty"
 };
 
 struct ChannelAnalysis {
-  const Channel* channel = nullptr;
+  const Channel* channel = nullptr;   // the run's channel, or `corrected` when a correction applied
+  std::shared_ptr<const Channel> corrected;  // inner-filter corrected copy, when made
   BlankResult blank;
   Conversion conversion;
   std::string v0_unit;                // e.g. "uM/min" or "AU/min"

@@ -36,9 +36,11 @@ struct Provenance {
   std::vector<std::pair<std::string, std::string>> detected;  // settings vzero chose itself (profiles, …)
 };
 
-std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity);
+// with_activity adds activity_U and activity_nkat; with_specific adds specific_activity_U_per_mg.
+std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity,
+                                   bool with_specific = false);
 std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                      bool with_activity);
+                      bool with_activity, bool with_specific = false);
 
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);

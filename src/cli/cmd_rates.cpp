@@ -79,6 +79,7 @@ int cmd_rates(const Args& args) {
   for (const auto& r : runs) analyses.push_back(analyse_run(r, map, s.analysis));
 
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
+  const bool with_specific = !s.analysis.enzyme_mg_column.empty();
   namespace fs = std::filesystem;
   fs::path out_dir = fs::path(s.output).parent_path();
   std::vector<PackagedTable> tables;
@@ -87,8 +88,8 @@ int cmd_rates(const Args& args) {
     fs::path r = fs::relative(fs::absolute(p), fs::absolute(out_dir.empty() ? "." : out_dir), ec);
     return ec || r.empty() ? p : r.string();
   };
-  write_file_atomic(s.output, rates_csv(analyses, map.columns, with_activity));
-  tables.push_back({"rates", rel(s.output), rate_fields(map.columns, with_activity)});
+  write_file_atomic(s.output, rates_csv(analyses, map.columns, with_activity, with_specific));
+  tables.push_back({"rates", rel(s.output), rate_fields(map.columns, with_activity, with_specific)});
   if (!s.traces.empty()) {
     write_file_atomic(s.traces, traces_csv(analyses));
     tables.push_back({"traces", rel(s.traces), trace_fields()});

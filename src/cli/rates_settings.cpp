@@ -61,7 +61,9 @@ void add_rates_options(po::options_description& opts) {
       ("standard-read", po::value<Str>()->default_value("mean"), "read used for the standard curve: mean, or a read number from 1")
       ("signal-only", "no conversion: rates in signal units per minute")
       ("conc-unit", po::value<Str>()->default_value("uM"), "concentration unit of v0 and of the map's substrate: M, mM, uM, nM")
-      ("well-volume-ul", po::value<Str>(), "reaction volume per well, µL: adds enzyme activity in U and nkat");
+      ("well-volume-ul", po::value<Str>(), "reaction volume per well, µL: adds enzyme activity in U and nkat")
+      ("enzyme-mg-column", po::value<Str>(), "plate-map column with the enzyme mass per well, mg: adds specific activity, U/mg")
+      ("inner-filter", po::value<Str>(), "EX,EM: correct fluorescence by F·10^((A_ex + A_em)/2) with these absorbance channels");
   po::options_description blank("blanks and direction");
   blank.add_options()
       ("blank", po::value<Str>()->default_value("plate"), "plate (all blank wells), matched (same `match` value) or none")
@@ -188,6 +190,13 @@ RatesSettings settings_from(po::variables_map& vm, const po::options_description
     c.standard_read = r - 1;
   }
   if (has("well-volume-ul")) s.analysis.well_volume_ul = number("well-volume-ul");
+  if (has("enzyme-mg-column")) s.analysis.enzyme_mg_column = text("enzyme-mg-column");
+  if (has("inner-filter")) {
+    auto pair = list("inner-filter");
+    if (pair.size() != 2) throw bad("inner-filter", "expected two channel names, EX,EM");
+    s.analysis.inner_filter_ex = pair[0];
+    s.analysis.inner_filter_em = pair[1];
+  }
 
   // Blanks and direction.
   if (!parse_blank_strategy(text("blank"), s.analysis.blank.strategy)) throw bad("blank", "use plate, matched or none");
@@ -219,21 +228,23 @@ RatesSettings settings_from(po::variables_map& vm, const po::options_description
 
 std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RatesSettings& s,
                        const std::string& package_path) {
-  int wells = 0, flagged = 0;
+  int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0;
   std::map<Str, int> by_flag;
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels)
       for (const auto& row : ca.rows) {
         ++wells;
-        bool counted = false;
-        for (const auto& f : row.flags) {
-          if (f == "empty") continue;
-          ++by_flag[f];
-          counted = true;
-        }
-        flagged += counted;
+        blanks += row.role == Role::blank;
+        standards += row.role == Role::standard;
+        empty += row.role == Role::empty;
+        if (row.role != Role::sample) continue;
+        ++samples;
+        for (const auto& f : row.flags) ++by_flag[f];
+        flagged += !row.flags.empty();
       }
-  Str out = fmt::format("{} file{}, {} well rows, {} flagged\n", runs.size(), runs.size() == 1 ? "" : "s", wells, flagged);
+  Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty\n", runs.size(),
+                        runs.size() == 1 ? "" : "s", wells, samples, blanks, standards, empty);
+  out += fmt::format("{} sample well{} flagged{}\n", flagged, flagged == 1 ? "" : "s", flagged ? " (a well may have several reasons):" : "");
   for (const auto& [f, n] : by_flag) out += fmt::format("  {:<22} {}\n", f, n);
   // Median v0 per sample condition (the summary's groups), as a short table.
   Str head = "condition";
@@ -251,7 +262,7 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
                                                                 g.v0_sd, g.n, g.n_flagged ? fmt::format(", {} flagged", g.n_flagged) : ""));
   }
   if (!lines.empty()) {
-    out += "mean v0 of clean replicate wells per condition:\n";
+    out += "mean v0 of the clean replicate wells per condition:\n";
     std::size_t w = head.size();
     for (const auto& l : lines) w = std::max(w, l.first.size());
     for (const auto& l : lines) out += fmt::format("  {:<{}}  {}\n", l.first, w, l.second);
