@@ -3,7 +3,53 @@
 //
 // Works on one trace at a time, in the trace's own signal units per second; the caller
 // converts to concentration per minute. Pure function, no shared state: safe to call
-// from many threads at once.
+// from many threads at once; the same input and options give bit-identical results.
+//
+// How the automatic window is chosen (the README explains it in these words):
+//   1. Reads that are not `ok`, reads before `skip_s`, and everything from the first read
+//      that overflowed or reached `signal_ceiling` onwards are set aside. (If every read is
+//      above the ceiling, they are used anyway and flagged `ceiling`.)
+//   2. Spikes are kept out of the search: a read more than `outlier_k` robust SDs from the
+//      Theil–Sen line through its six nearest neighbours, while those neighbours agree with
+//      their line (at a sharp bend they do not, and nothing is a spike there).
+//   3. Lag (`detect_lag`): the slopes of runs of `min_points` reads starting at each of the
+//      first half of the reads are compared. If the steepest run is steeper than the first
+//      by more than 4 standard errors (from `noise_sd`, else the spike screen's noise
+//      estimate), the rate rises at the start: the window starts at the first run within
+//      one standard error of the steepest.
+//   4. From there the window grows one read at a time. Each candidate is fitted with a
+//      straight line and with a parabola. It is "curved" when the parabola's square term is
+//      significant (two-sided t-test at `linearity_alpha`, residual SD never below
+//      `noise_sd`), changes the slope across the window by more than `slope_drift` of the
+//      slope, and stays so without the window's first read (mixing often disturbs it).
+//      Three curved candidates in a row, bending the same way, end the growth at the last
+//      straight one; one curved candidate among straight ones is noise. A window bending
+//      upwards (rate rising) moves the start one read later instead (a lag the scan missed),
+//      up to half the usable reads. Growth also stops before the candidate's line implies
+//      more than `max_conversion` of `substrate` converted since `time_zero_s`
+//      (slope × (end − time zero) × conc_per_signal / substrate).
+//   5. In the window, a read whose residual from the Theil–Sen line (fitted to the window's
+//      reads that passed the spike screen) exceeds `outlier_k` × 1.4826 × MAD of the
+//      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from
+//      the remaining reads with `estimator`.
+//   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
+// Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen is O(w²) in the w
+// reads of the window.
+//
+// Flags (short words; `empty` is set by the caller for wells without a sample):
+//   overflow        the trace holds reads the instrument reported as overflow
+//   ceiling         reads reached `signal_ceiling`; the window stops before them
+//   too-few-reads   fewer than `min_points` usable reads (or less than `min_span_s`); the
+//                   rate, if any, is from all usable reads
+//   nonlinear       even the shortest window (`min_points`, `min_span_s`) is curved: no
+//                   straight stretch long enough
+//   depleted        the conversion limit is passed before the shortest window ends
+//   lag             the rate rose over the first reads; they were skipped
+//   outliers        reads in the window were rejected as outliers (count in n_outliers)
+//   noise           the rate is not distinguishable from noise: its 95 % interval holds 0,
+//                   or it is below `lod_factor` × the slope SD that blank noise alone gives
+//                   over the window (`noise_sd`)
+//   negative        the rate is below zero (reaction direction opposite to the one given)
 //
 // **Example**:
 //   vzero::RateOptions opt;             // defaults: see the fields
@@ -34,6 +80,24 @@ enum class WindowMethod { automatic, leading, steepest };
 std::string_view to_string(WindowMethod m);
 bool parse_window_method(std::string_view text, WindowMethod& out);
 
+// When v0 is the initial tangent of a parabola instead of the straight-line slope.
+//   never:  always the straight-line slope of the window
+//   curved: the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
+//           the window's kept reads and the usable reads after it, up to `tangent_reach`
+//           times the window's length (one pass of the outlier rule against the parabola).
+//           Used only when (a) the parabola bends down significantly (one-sided t-test at
+//           `tangent_alpha`) and (b) the tangent lies above the line slope by no more than
+//           depletion allows: tangent ≤ slope / (1 − f), f the fraction of substrate
+//           converted at the window's end (`max_conversion` when the substrate is not
+//           known), since a reaction cannot slow by more than its substrate is used up.
+//           Depletion makes the straight line underestimate v0 by about half the slope drop
+//           across the window; the tangent removes that bias at the cost of a larger SE.
+//           Not used with the steepest window.
+//   always: the tangent whenever the parabola can be fitted (≥ 5 reads)
+enum class TangentMode { never, curved, always };
+std::string_view to_string(TangentMode m);
+bool parse_tangent_mode(std::string_view text, TangentMode& out);
+
 struct RateOptions {
   int min_points = 5;              // fewest reads a window may hold
   double min_span_s = 0.0;         // shortest time a window may span, seconds
@@ -42,7 +106,16 @@ struct RateOptions {
   double signal_ceiling = NAN;     // detector linear limit in raw signal units; NaN = none
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
-  // Empty if valid, else e.g. "min_points is 1; a slope needs at least 3 reads".
+  double linearity_alpha = 0.01;   // significance level of the curvature test; 0 = no test
+  double slope_drift = 0.02;       // curvature matters only above this fractional slope change
+  bool detect_lag = true;          // skip an initial stretch where the rate rises
+  double outlier_k = 3.5;          // outlier cut in robust SDs (1.4826·MAD) of the residuals
+  double lod_factor = 3.0;         // limit of detection in blank-noise slope SDs (`noise` flag)
+  double time_zero_s = NAN;        // when the reaction started on the trace clock; NaN = first read
+  TangentMode tangent = TangentMode::curved;
+  double tangent_reach = 4.0;      // parabola window length as a multiple of the line window
+  double tangent_alpha = 0.05;     // one-sided significance the parabola's bend needs (tangent = curved)
+  // Empty if valid, else e.g. "min_points is 1; a slope with an uncertainty needs at least 3 reads".
   std::string validate() const;
 };
 
@@ -59,12 +132,12 @@ struct TraceView {
 };
 
 struct RateResult {
-  double slope = NAN;        // signal units per second
+  double slope = NAN;        // v0 estimate, signal units per second (the line or the tangent)
   double slope_se = NAN;     // standard error of slope
   double ci_low = NAN;       // 95 % interval of slope
   double ci_high = NAN;
-  double intercept = NAN;    // signal at t = 0 s
-  double r2 = NAN;
+  double intercept = NAN;    // signal at t = 0 s of the straight line
+  double r2 = NAN;           // of the straight line on the reads used
   int n_points = 0;          // reads in the window (outliers included)
   int n_outliers = 0;        // reads in the window rejected as outliers
   double t_start_s = NAN;
@@ -72,9 +145,20 @@ struct RateResult {
   double conversion = NAN;   // fraction of substrate converted at the window's end; NaN if unknown
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
-  std::string tangent;       // which estimate v0 is: "slope" (straight line) or another named method
-  std::vector<std::string> flags;        // short words; empty = clean (documented in README)
+  std::string tangent;       // which estimate `slope` is: "slope" (straight line) or "parabola" (initial tangent)
+  std::vector<std::string> flags;        // short words; empty = clean (documented above)
   std::vector<std::uint8_t> used;        // per read: 1 when the read is in the window and not an outlier
+
+  // Detail for the audit trail.
+  double line_slope = NAN;      // straight-line slope of the window with `estimator`
+  double line_slope_se = NAN;
+  double tangent_slope = NAN;   // initial tangent of the parabola; NaN when not fitted
+  double tangent_se = NAN;
+  double tangent_end_s = NAN;   // last read of the parabola's window
+  double lag_s = NAN;           // time skipped as lag (start of window − first usable read); 0 when none
+  double noise_sd = NAN;        // read noise SD used for the tests (given, or robust estimate)
+  std::string window_end;       // what ended the window: curvature, conversion, ceiling, overflow,
+                                // reads (ran out), fixed (leading/steepest)
 };
 
 RateResult find_rate(const TraceView& trace, const RateOptions& options);

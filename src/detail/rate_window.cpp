@@ -1,0 +1,316 @@
+#include "detail/rate_window.hpp"
+
+#include <algorithm>
+#include <array>
+#include <map>
+
+#include "detail/robust.hpp"
+#include "detail/window_stats.hpp"
+
+namespace vzero::detail {
+namespace {
+
+// A bend must show in this many consecutive candidate windows before it ends the growth
+// (or moves the start): one significant test in a long sequence of tests is expected by
+// chance, three in a row are not.
+constexpr int k_confirm = 3;
+// Fewest reads on which the curvature test is run (2 residual degrees of freedom).
+constexpr int k_min_test_reads = 5;
+
+std::size_t z(int i) { return static_cast<std::size_t>(i); }
+
+// Two-sided critical t values, computed once per degree of freedom per call.
+class CriticalT {
+ public:
+  explicit CriticalT(double p) : p_(p) {}
+  double operator()(int df) {
+    auto it = cache_.find(df);
+    if (it != cache_.end()) return it->second;
+    const double v = student_t_quantile(p_, df);
+    cache_.emplace(df, v);
+    return v;
+  }
+
+ private:
+  double p_;
+  std::map<int, double> cache_;
+};
+
+// Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
+// reads (seven consecutive reads holding it, shifted inward at the ends), so one other spike
+// among the neighbours does not move the line. Its residual, scaled by √(1 + leverage), is a
+// spike when it exceeds k times the larger of the trace's robust SD (1.4826·MAD of these
+// residuals) and the neighbours' own robust residual SD: at a sharp bend (end of a lag, onset
+// of saturation) the neighbours do not agree with one line, and the read there is no spike.
+void screen_spikes(Usable& u, double k, double floor) {
+  constexpr int k_nb = 6;
+  const int m = static_cast<int>(u.t.size());
+  u.spike.assign(z(m), 0);
+  if (m < k_nb + 1) return;
+  std::vector<double> d(z(m)), nb_sd(z(m));
+  std::array<double, k_nb * (k_nb - 1) / 2> slopes{};
+  std::array<double, k_nb> res{};
+  for (int j = 0; j < m; ++j) {
+    const int lo = std::clamp(j - k_nb / 2, 0, m - k_nb - 1);
+    std::array<int, k_nb> nb{};
+    int c = 0;
+    for (int i = lo; i <= lo + k_nb; ++i)
+      if (i != j) nb[z(c++)] = i;
+    int ns = 0;
+    for (int a = 0; a < k_nb; ++a)
+      for (int b = a + 1; b < k_nb; ++b)
+        slopes[z(ns++)] = (u.y[z(nb[z(b)])] - u.y[z(nb[z(a)])]) / (u.t[z(nb[z(b)])] - u.t[z(nb[z(a)])]);
+    std::nth_element(slopes.begin(), slopes.begin() + ns / 2, slopes.begin() + ns);
+    const double slope = slopes[z(ns / 2)];
+    double mt = 0;
+    for (int i = 0; i < k_nb; ++i) {
+      res[z(i)] = u.y[z(nb[z(i)])] - slope * u.t[z(nb[z(i)])];
+      mt += u.t[z(nb[z(i)])];
+    }
+    mt /= k_nb;
+    std::vector<double> tmp(res.begin(), res.end());
+    const double icpt = median_inplace(tmp);
+    double stt = 0;
+    for (int i = 0; i < k_nb; ++i) {
+      const double dt = u.t[z(nb[z(i)])] - mt;
+      stt += dt * dt;
+      tmp[z(i)] = std::fabs(res[z(i)] - icpt);
+    }
+    nb_sd[z(j)] = 1.4826 * median_inplace(tmp);
+    const double dt = u.t[z(j)] - mt;
+    const double lev = 1.0 / k_nb + dt * dt / stt;
+    d[z(j)] = (u.y[z(j)] - (icpt + slope * u.t[z(j)])) / std::sqrt(1 + lev);
+  }
+  std::vector<double> a(z(m));
+  for (int j = 0; j < m; ++j) a[z(j)] = std::fabs(d[z(j)]);
+  u.local_sd = 1.4826 * median_inplace(a);
+  const double scale = std::max(u.local_sd, floor);
+  for (int j = 0; j < m; ++j)
+    if (std::fabs(d[z(j)]) > k * std::max(scale, nb_sd[z(j)])) u.spike[z(j)] = 1;
+}
+
+// Lag scan: slopes of the blocks of `p` reads starting at 0 … lag_max. A lag is present when
+// the steepest block is steeper than the first by more than k_lag_z standard errors of the
+// difference (read noise `sd`); the window then starts at the first block within one SE of
+// the steepest. Returns that start (0 = no lag).
+constexpr double k_lag_z = 4.0;
+int lag_scan(const WindowStats& stats, const std::vector<double>& t, int p, int lag_max, double sd) {
+  if (lag_max < 1 || !(sd > 0)) return 0;
+  std::vector<double> b, se;
+  for (int j = 0; j <= lag_max && j + p <= static_cast<int>(t.size()); ++j) {
+    b.push_back(stats.slope(j, j + p));
+    se.push_back(sd / std::sqrt(stats.stt(j, j + p)));
+  }
+  if (b.size() < 2) return 0;
+  const auto top = static_cast<std::size_t>(std::max_element(b.begin(), b.end()) - b.begin());
+  if (top == 0) return 0;
+  if (!(b[top] - b[0] > k_lag_z * std::hypot(se[0], se[top]))) return 0;
+  for (std::size_t j = 1; j <= top; ++j)
+    if (b[top] - b[j] <= std::hypot(se[j], se[top])) return static_cast<int>(j);
+  return static_cast<int>(top);
+}
+
+}  // namespace
+
+double tiny_floor(const Usable& u) {
+  double range = 0;
+  for (double y : u.y) range = std::max(range, std::fabs(y - u.y.front()));
+  return range > 0 ? 1e-9 * range : 1e-300;
+}
+
+Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
+  Usable u;
+  const bool ceiling = std::isfinite(opt.signal_ceiling);
+  for (int i = 0; i < tr.n; ++i) {
+    const ReadStatus st = tr.status ? tr.status[i] : ReadStatus::ok;
+    const double level = tr.raw ? tr.raw[i] : tr.y[i];
+    const bool over = st == ReadStatus::overflow;
+    const bool high = st == ReadStatus::ok && ceiling && level >= opt.signal_ceiling;
+    u.any_overflow |= over;
+    u.any_ceiling |= high;
+    if (!u.truncated_by.empty()) continue;
+    if (over || high) {
+      if (!u.idx.empty()) u.truncated_by = over ? "overflow" : "ceiling";
+      continue;
+    }
+    if (st != ReadStatus::ok || !std::isfinite(tr.y[i]) || !std::isfinite(tr.time_s[i])) continue;
+    if (tr.time_s[i] < opt.skip_s) continue;
+    u.idx.push_back(i);
+    u.t.push_back(tr.time_s[i]);
+    u.y.push_back(tr.y[i]);
+  }
+  const double floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : tiny_floor(u);
+  screen_spikes(u, opt.outlier_k, floor);
+  return u;
+}
+
+double noise_estimate(const Usable& u, double noise_sd) { return std::isfinite(noise_sd) ? noise_sd : u.local_sd; }
+
+WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref) {
+  WindowChoice w;
+  const int m = static_cast<int>(u.t.size());
+  const int p = opt.min_points;
+  const std::string run_out = u.truncated_by.empty() ? "reads" : u.truncated_by;
+
+  if (opt.window == WindowMethod::leading) {
+    int last = std::min(p, m) - 1;
+    while (last + 1 < m && u.t[z(last)] - u.t[0] < opt.min_span_s) ++last;
+    w.first = 0;
+    w.last = last;
+    w.too_few = last + 1 < p || u.t[z(last)] - u.t[0] < opt.min_span_s;
+    w.end = "fixed";
+    return w;
+  }
+
+  // The search runs on the reads the spike screen let through.
+  std::vector<double> ct, cy;
+  std::vector<int> cpos;
+  for (int i = 0; i < m; ++i)
+    if (!u.spike[z(i)]) {
+      ct.push_back(u.t[z(i)]);
+      cy.push_back(u.y[z(i)]);
+      cpos.push_back(i);
+    }
+  const int mc = static_cast<int>(ct.size());
+  // Smallest end (exclusive) of a window starting at s that meets min_points and min_span_s.
+  const auto min_end = [&](int s) {
+    int e = s + p;
+    while (e <= mc && ct[z(e - 1)] - ct[z(s)] < opt.min_span_s) ++e;
+    return e;
+  };
+  const auto as_usable = [&](int s, int e) {
+    w.first = cpos[z(s)];
+    w.last = cpos[z(e - 1)];
+  };
+  if (mc < 2 || min_end(0) > mc) {
+    w.too_few = true;
+    w.end = run_out;
+    if (mc >= 2) as_usable(0, mc);
+    else { w.first = 0; w.last = m - 1; }
+    return w;
+  }
+  const WindowStats stats(ct.data(), cy.data(), mc);
+
+  if (opt.window == WindowMethod::steepest) {
+    int best = 0;
+    double best_slope = -INFINITY;
+    for (int s = 0; min_end(s) <= mc; ++s) {
+      const double b = stats.slope(s, min_end(s));
+      if (b > best_slope) { best_slope = b; best = s; }
+    }
+    as_usable(best, min_end(best));
+    w.end = "fixed";
+    return w;
+  }
+
+  CriticalT t_crit(1 - opt.linearity_alpha / 2);
+  const int lag_max = (mc - p) / 2;  // latest start a lag may push the window to
+  int s = 0;
+  if (opt.detect_lag) {
+    s = lag_scan(stats, ct, p, lag_max, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
+    w.lag = s > 0;
+  }
+  int e = min_end(s), accepted = -1, fails = 0, fail_sign = 0, first_fail = -1;
+  std::string end;
+  bool conversion_stop = false;
+  while (true) {
+    if (e > mc) { end = run_out; break; }
+    const WindowTest wt = stats.test(s, e, sd_floor, t_ref);
+    if (std::isfinite(limit_signal) && wt.slope * (ct[z(e - 1)] - t_ref) > limit_signal) {
+      end = "conversion";
+      conversion_stop = true;
+      break;
+    }
+    // Curved when the parabola's square term is significant and matters; the first read of
+    // the window must not carry the verdict alone (mixing often disturbs it), so the window
+    // without its first read must be curved the same way.
+    const auto is_curved = [&](const WindowTest& x) {
+      return x.n >= k_min_test_reads && x.curvature_se > 0 &&
+             std::fabs(x.curvature) > t_crit(x.n - 3) * x.curvature_se &&
+             std::fabs(x.drift) > opt.slope_drift * std::fabs(x.slope);
+    };
+    bool curved = false;
+    if (opt.linearity_alpha > 0 && is_curved(wt)) {
+      const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
+      curved = rest.n < k_min_test_reads || (is_curved(rest) && (rest.curvature > 0) == (wt.curvature > 0));
+    }
+    if (!curved) {
+      accepted = e;
+      fails = 0;
+      ++e;
+      continue;
+    }
+    const int sign = wt.curvature > 0 ? 1 : -1;
+    if (fails == 0 || sign != fail_sign) { fails = 1; fail_sign = sign; first_fail = e; }
+    else ++fails;
+    if (fails < k_confirm) { ++e; continue; }
+    if (sign > 0 && opt.detect_lag && s + 1 <= lag_max) {
+      // The rate rises: skip one more read at the start.
+      ++s;
+      w.lag = true;
+      accepted = -1;
+      fails = 0;
+      e = std::max(first_fail, min_end(s));
+      continue;
+    }
+    end = "curvature";
+    break;
+  }
+  if (accepted < 0) {
+    // Not even the shortest window from s passed.
+    const int e0 = std::min(min_end(s), mc);
+    as_usable(s, e0);
+    if (conversion_stop) w.depleted = true;
+    else if (end == "curvature") w.nonlinear = true;
+    else w.too_few = e0 - s < p;
+  } else {
+    as_usable(s, accepted);
+  }
+  w.end = end;
+  return w;
+}
+
+TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
+                       double sd_floor, double t_ref) {
+  TangentFit f;
+  const int m = static_cast<int>(u.t.size());
+  const int len = w.last - w.first + 1;
+  const int ext_last = std::min(m - 1, w.first + static_cast<int>(std::ceil(opt.tangent_reach * len)) - 1);
+  std::vector<double> x, y;
+  for (int p : kept) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
+  for (int p = w.last + 1; p <= ext_last; ++p)
+    if (!u.spike[z(p)]) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
+  if (x.size() < 5) return f;
+  QuadFit q = quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
+  // One robust pass: drop reads far from the parabola by the outlier rule, refit.
+  {
+    std::vector<double> r(x.size()), a;
+    for (std::size_t i = 0; i < x.size(); ++i) {
+      const double dt = x[i] - t_ref;
+      r[i] = y[i] - (q.c0 + q.c1 * dt + q.c2 * dt * dt);
+    }
+    a = r;
+    for (double& v : a) v = std::fabs(v);
+    const double scale = std::max(1.4826 * median_inplace(a), sd_floor);
+    std::vector<double> x2, y2;
+    for (std::size_t i = 0; i < x.size(); ++i)
+      if (std::fabs(r[i]) <= opt.outlier_k * scale) { x2.push_back(x[i]); y2.push_back(y[i]); }
+    if (x2.size() >= 5 && x2.size() < x.size()) {
+      x.swap(x2);
+      y.swap(y2);
+      q = quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
+    }
+  }
+  const int n = static_cast<int>(x.size());
+  f.slope = q.c1;
+  f.se = q.c1_se;
+  f.end_s = x.back();
+  const double tq = student_t_quantile(0.975, n - 3);
+  f.ci_low = f.slope - tq * f.se;
+  f.ci_high = f.slope + tq * f.se;
+  if (opt.tangent_alpha > 0 && q.c2_se > 0)
+    f.bends_down = q.c2 < 0 && q.c2 / q.c2_se < -student_t_quantile(1 - opt.tangent_alpha, n - 3);
+  return f;
+}
+
+}  // namespace vzero::detail
