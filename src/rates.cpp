@@ -100,24 +100,31 @@ void add_flag(RateResult& r, const char* word) {
 struct Kept {
   std::vector<int> pos;  // usable positions kept
   int outliers = 0;
+  LineFit line;          // the rule's Theil–Sen line
+  bool line_on_kept = false;  // that line was fitted to exactly the kept reads
 };
 
 // Outlier rule: residuals from the Theil–Sen line of the window's reads that passed the spike
 // screen; a read is out when |r| > k·max(1.4826·MAD of those reads' residuals, noise floor).
 // Never leaves fewer than 3 reads.
-Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor) {
+Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor, bool with_interval) {
   Kept kept;
   std::vector<double> ct, cy;
+  std::vector<int> cpos;
   for (int i = first; i <= last; ++i)
     if (!u.spike[static_cast<std::size_t>(i)]) {
       ct.push_back(u.t[static_cast<std::size_t>(i)]);
       cy.push_back(u.y[static_cast<std::size_t>(i)]);
+      cpos.push_back(i);
     }
   if (ct.size() < 3) {
     ct.assign(u.t.begin() + first, u.t.begin() + last + 1);
     cy.assign(u.y.begin() + first, u.y.begin() + last + 1);
+    cpos.clear();
+    for (int i = first; i <= last; ++i) cpos.push_back(i);
   }
-  const LineFit ts = detail::theil_sen(ct.data(), cy.data(), static_cast<int>(ct.size()));
+  const LineFit ts = detail::theil_sen(ct.data(), cy.data(), static_cast<int>(ct.size()), nullptr, with_interval);
+  kept.line = ts;
   std::vector<double> a;
   for (std::size_t i = 0; i < ct.size(); ++i) a.push_back(std::fabs(cy[i] - (ts.intercept + ts.slope * ct[i])));
   const double scale = std::max(1.4826 * detail::median_inplace(a), sd_floor);
@@ -131,6 +138,7 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
     for (int i = first; i <= last; ++i) kept.pos.push_back(i);
     kept.outliers = 0;
   }
+  kept.line_on_kept = with_interval && kept.pos == cpos;
   return kept;
 }
 
@@ -180,7 +188,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.lag_s = w.lag ? u.t[static_cast<std::size_t>(w.first)] - u.t[0] : 0.0;
 
   // Outlier rule on every usable read of the window, then the estimator on the rest.
-  const Kept kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor);
+  const bool theil_sen = opt.estimator == Estimator::theil_sen;
+  const Kept kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
   std::vector<double> kt, ky;
   for (int p : kept.pos) {
     kt.push_back(u.t[static_cast<std::size_t>(p)]);
@@ -188,7 +197,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
   }
   const int nk = static_cast<int>(kt.size());
-  const LineFit line = fit_line(opt.estimator, kt.data(), ky.data(), nk);
+  // The rule's line is the Theil–Sen estimate when it was fitted to exactly these reads.
+  const LineFit line = theil_sen && kept.line_on_kept ? kept.line : fit_line(opt.estimator, kt.data(), ky.data(), nk);
   r.n_points = w.last - w.first + 1;
   r.n_outliers = kept.outliers;
   if (kept.outliers > 0) add_flag(r, "outliers");
@@ -217,7 +227,12 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
     const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible;
     if (use) {
+      // v0 now rests on the parabola's reads: they are the ones used, and reads it held out
+      // are outliers too.
       r.tangent = "parabola";
+      for (int p : tf.pos) r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
+      r.n_outliers += tf.rejected;
+      if (tf.rejected > 0) add_flag(r, "outliers");
       r.slope = tf.slope;
       r.slope_se = tf.se;
       r.ci_low = tf.ci_low;

@@ -212,6 +212,9 @@ TEST_CASE("a 10 % conversion limit picks exactly the first four reads of the pro
     CHECK(c.tangent == "parabola");
     CHECK_REL(c.line_slope * 60, 6.55184564678307, 1e-12);
     CHECK(std::fabs(c.slope * 60 - 6.666666666666667) < std::fabs(c.line_slope * 60 - 6.666666666666667));
+    // v0 now rests on the parabola's reads (4 × the 4-read window).
+    CHECK(c.tangent_end_s == 450.0);
+    CHECK(std::count(c.used.begin(), c.used.end(), 1) == 16);
   }
   SUBCASE("a limit passed inside the shortest window is flagged") {
     opt.min_points = 6;

@@ -109,7 +109,7 @@ struct RateOptions {
   double linearity_alpha = 0.01;   // significance level of the curvature test; 0 = no test
   double slope_drift = 0.02;       // curvature matters only above this fractional slope change
   bool detect_lag = true;          // skip an initial stretch where the rate rises
-  double outlier_k = 3.5;          // outlier cut in robust SDs (1.4826·MAD) of the residuals
+  double outlier_k = 4.0;          // outlier cut in robust SDs (1.4826·MAD) of the residuals
   double lod_factor = 3.0;         // limit of detection in blank-noise slope SDs (`noise` flag)
   double time_zero_s = NAN;        // when the reaction started on the trace clock; NaN = first read
   TangentMode tangent = TangentMode::curved;
@@ -138,8 +138,9 @@ struct RateResult {
   double ci_high = NAN;
   double intercept = NAN;    // signal at t = 0 s of the straight line
   double r2 = NAN;           // of the straight line on the reads used
-  int n_points = 0;          // reads in the window (outliers included)
-  int n_outliers = 0;        // reads in the window rejected as outliers
+  int n_points = 0;          // reads in the straight-line window (outliers included)
+  int n_outliers = 0;        // reads rejected as outliers in the window (and, when v0 is the
+                             // parabola's tangent, in the parabola's window)
   double t_start_s = NAN;
   double t_end_s = NAN;
   double conversion = NAN;   // fraction of substrate converted at the window's end; NaN if unknown
@@ -147,7 +148,8 @@ struct RateResult {
   WindowMethod window = WindowMethod::automatic;
   std::string tangent;       // which estimate `slope` is: "slope" (straight line) or "parabola" (initial tangent)
   std::vector<std::string> flags;        // short words; empty = clean (documented above)
-  std::vector<std::uint8_t> used;        // per read: 1 when the read is in the window and not an outlier
+  std::vector<std::uint8_t> used;        // per read: 1 when v0 rests on it (in the window, or the
+                                         // parabola's window when the tangent is used; not an outlier)
 
   // Detail for the audit trail.
   double line_slope = NAN;      // straight-line slope of the window with `estimator`

@@ -276,40 +276,45 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
   const int m = static_cast<int>(u.t.size());
   const int len = w.last - w.first + 1;
   const int ext_last = std::min(m - 1, w.first + static_cast<int>(std::ceil(opt.tangent_reach * len)) - 1);
-  std::vector<double> x, y;
-  for (int p : kept) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
-  for (int p = w.last + 1; p <= ext_last; ++p)
-    if (!u.spike[z(p)]) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
-  if (x.size() < 5) return f;
-  QuadFit q = quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
-  // One robust pass: drop reads far from the parabola by the outlier rule, refit.
-  {
-    std::vector<double> r(x.size()), a;
-    for (std::size_t i = 0; i < x.size(); ++i) {
-      const double dt = x[i] - t_ref;
-      r[i] = y[i] - (q.c0 + q.c1 * dt + q.c2 * dt * dt);
-    }
-    a = r;
-    for (double& v : a) v = std::fabs(v);
+  std::vector<int> pos = kept, held;
+  for (int p = w.last + 1; p <= ext_last; ++p) (u.spike[z(p)] ? held : pos).push_back(p);
+  if (pos.size() < 5) return f;
+  const auto fit = [&](const std::vector<int>& ps) {
+    std::vector<double> x, y;
+    for (int p : ps) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
+    return quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
+  };
+  QuadFit q = fit(pos);
+  if (!held.empty()) {
+    // Reads the spike screen held out of the extension face the outlier rule against the
+    // parabola, as the window's reads face it against the line; those that pass rejoin.
+    const auto resid = [&](int p) {
+      const double dt = u.t[z(p)] - t_ref;
+      return u.y[z(p)] - (q.c0 + q.c1 * dt + q.c2 * dt * dt);
+    };
+    std::vector<double> a;
+    for (int p : pos) a.push_back(std::fabs(resid(p)));
     const double scale = std::max(1.4826 * median_inplace(a), sd_floor);
-    std::vector<double> x2, y2;
-    for (std::size_t i = 0; i < x.size(); ++i)
-      if (std::fabs(r[i]) <= opt.outlier_k * scale) { x2.push_back(x[i]); y2.push_back(y[i]); }
-    if (x2.size() >= 5 && x2.size() < x.size()) {
-      x.swap(x2);
-      y.swap(y2);
-      q = quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
+    const std::size_t before = pos.size();
+    for (int p : held) {
+      if (std::fabs(resid(p)) > opt.outlier_k * scale) ++f.rejected;
+      else pos.push_back(p);
+    }
+    if (pos.size() > before) {
+      std::sort(pos.begin(), pos.end());
+      q = fit(pos);
     }
   }
-  const int n = static_cast<int>(x.size());
+  const int n = static_cast<int>(pos.size());
   f.slope = q.c1;
   f.se = q.c1_se;
-  f.end_s = x.back();
+  f.end_s = u.t[z(pos.back())];
   const double tq = student_t_quantile(0.975, n - 3);
   f.ci_low = f.slope - tq * f.se;
   f.ci_high = f.slope + tq * f.se;
   if (opt.tangent_alpha > 0 && q.c2_se > 0)
     f.bends_down = q.c2 < 0 && q.c2 / q.c2_se < -student_t_quantile(1 - opt.tangent_alpha, n - 3);
+  f.pos = std::move(pos);
   return f;
 }
 

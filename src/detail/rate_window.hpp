@@ -37,11 +37,14 @@ struct WindowChoice {
 // `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit).
 WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref);
 
-// Parabola over the window's kept reads and the usable reads after it, up to
-// `tangent_reach` times the window's length; tangent at t_ref.
+// Least-squares parabola over the window's kept reads and the usable reads after it, up to
+// `tangent_reach` times the window's length, except reads the spike screen held out that
+// also fail the outlier rule against the parabola; tangent at t_ref.
 struct TangentFit {
   double slope = NAN, se = NAN, ci_low = NAN, ci_high = NAN, end_s = NAN;
-  bool bends_down = false;  // curvature < 0, one-sided t-test at linearity_alpha
+  bool bends_down = false;  // curvature < 0, one-sided t-test at tangent_alpha
+  std::vector<int> pos;     // usable positions the parabola used
+  int rejected = 0;         // reads after the line window rejected (spike screen and outlier rule)
 };
 TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
                        double sd_floor, double t_ref);

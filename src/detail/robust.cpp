@@ -3,7 +3,9 @@
 #include <Eigen/Dense>
 #include <algorithm>
 #include <array>
+#include <map>
 #include <numbers>
+#include <utility>
 
 namespace vzero::detail {
 namespace {
@@ -90,6 +92,8 @@ double invert_upper_tail(double target, double start, Sf sf, Pdf pdf) {
 
 }  // namespace
 
+static double student_t_quantile_uncached(double p, double df);
+
 double student_t_sf(double t, double df) {
   if (std::isnan(t)) return NAN;
   const double half = 0.5 * inc_beta(df / 2, 0.5, df / (df + t * t));
@@ -107,6 +111,16 @@ double normal_quantile(double p) {
 double student_t_quantile(double p, double df) {
   if (!(p > 0 && p < 1) || !(df > 0)) return NAN;
   if (p < 0.5) return -student_t_quantile(1 - p, df);
+  // The rate finder asks for the same few (p, df) pairs many times per well: remember them.
+  // One cache per thread, so no locking; the values do not depend on the cache.
+  thread_local std::map<std::pair<double, double>, double> cache;
+  if (const auto it = cache.find({p, df}); it != cache.end()) return it->second;
+  const double v = student_t_quantile_uncached(p, df);
+  if (cache.size() < 100000) cache.emplace(std::make_pair(p, df), v);
+  return v;
+}
+
+static double student_t_quantile_uncached(double p, double df) {
   if (df == 1) return std::tan(std::numbers::pi * (p - 0.5));
   if (df == 2) return (2 * p - 1) / std::sqrt(2 * p * (1 - p));
   // Cornish–Fisher start, then exact inversion of the upper tail.
@@ -214,7 +228,7 @@ double tie_term(const double* v, int n) {
 
 }  // namespace
 
-LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate) {
+LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate, bool interval) {
   LineFit f;
   f.n = n;
   if (n < 2) return f;
@@ -231,6 +245,10 @@ LineFit theil_sen(const double* x, const double* y, int n, double* intercept_sep
   if (intercept_separate) {
     std::vector<double> xs(x, x + n), ys(y, y + n);
     *intercept_separate = median_inplace(ys) - f.slope * median_inplace(xs);
+  }
+  if (!interval) {
+    fill_residual_stats(x, y, n, f);
+    return f;
   }
   // Sen (1968) eq. 2.6 with SciPy 1.10's index rule; std::nearbyint rounds half to even in
   // the default rounding mode, as np.round does.

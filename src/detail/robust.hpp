@@ -41,8 +41,8 @@ void wls(const double* x, const double* y, const double* w, int n, double& slope
 // z = 1.959963984540054, low = sorted[round((N − zσ)/2) − 1], high = sorted[round((N + zσ)/2)]
 // (0-based, round half to even as NumPy does, clamped into the array). SE is the interval
 // half-width divided by z. `intercept_separate` receives median(y) − b·median(x) (SciPy's
-// default) when not null.
-LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate = nullptr);
+// default) when not null. With `interval` false the interval and SE are skipped (NaN).
+LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate = nullptr, bool interval = true);
 
 // Huber M-estimate by iteratively reweighted least squares, exactly as MASS::rlm with
 // psi.huber: start from OLS; repeat { s = median(|r|)/0.6745 (not centred);

@@ -111,6 +111,7 @@ struct WellTruth {
   double lag_s = 0;            // coupling time constant, 0 = none
   unsigned artefacts = 0;
   std::vector<int> spike_reads;  // reads carrying a spike
+  std::vector<double> spike_size; // the spike added at each of them, AU
   int first_saturated_read = -1; // first read beyond the linear limit, −1 = none
   double conversion_end = 0;     // fraction of S0 converted at the last read
 };
@@ -194,6 +195,7 @@ class LaggedProduct {
 
 inline Plate simulate_plate(const PlateSpec& spec, std::uint64_t seed) {
   Rng rng(seed);
+  Rng spike_rng(seed ^ 0x9e3779b97f4a7c15ULL);
   Plate plate;
   plate.rows = spec.rows;
   plate.columns = spec.sample_columns + spec.blank_columns;
@@ -240,9 +242,14 @@ inline Plate simulate_plate(const PlateSpec& spec, std::uint64_t seed) {
       }
       if (rng.chance(spec.turbid_probability)) { base += rng.uniform(spec.turbid_min, spec.turbid_max); tr.artefacts |= k_turbid; }
       if (rng.chance(spec.mixing_probability)) { mixing = spec.mixing_sd * plate.noise_sd * rng.normal(); tr.artefacts |= k_mixing; }
-      if (rng.chance(spec.spike_probability)) {
-        const int count = rng.chance(0.3) ? 2 : 1;
-        for (int k = 0; k < count; ++k) tr.spike_reads.push_back(rng.integer(0, reads - 1));
+      // Spikes draw from their own stream, so a plate simulated with spike_probability = 0
+      // is the same plate without its spikes (a twin to compare against).
+      if (spike_rng.chance(spec.spike_probability)) {
+        const int count = spike_rng.chance(0.3) ? 2 : 1;
+        for (int k = 0; k < count; ++k) {
+          tr.spike_reads.push_back(spike_rng.integer(0, reads - 1));
+          tr.spike_size.push_back((spike_rng.chance(0.8) ? 1 : -1) * spike_rng.uniform(spec.spike_min, spec.spike_max));
+        }
         tr.artefacts |= k_spike;
       }
     }
@@ -255,8 +262,8 @@ inline Plate simulate_plate(const PlateSpec& spec, std::uint64_t seed) {
       double a = base + g * (p + ne) + drift_amp * -std::expm1(-t / 200.0) + well_drift * t;
       if (a > spec.linear_limit && tr.first_saturated_read < 0) { tr.first_saturated_read = i; tr.artefacts |= k_saturated; }
       a += mixing * std::exp(-t / (0.5 * plate.read_interval_s));
-      for (int sr : tr.spike_reads)
-        if (sr == i) a += (rng.chance(0.8) ? 1 : -1) * rng.uniform(spec.spike_min, spec.spike_max);
+      for (std::size_t k = 0; k < tr.spike_reads.size(); ++k)
+        if (tr.spike_reads[k] == i) a += tr.spike_size[k];
       const double sd = std::hypot(plate.noise_sd, spec.noise_proportional * a);
       a += sd * rng.normal();
       if (a >= spec.overflow_true) {
