@@ -14,6 +14,7 @@
 #include "vzero/ingest.hpp"
 #include "vzero/outputs.hpp"
 #include "vzero/plate_map.hpp"
+#include "vzero/report.hpp"
 #include "vzero/summary.hpp"
 #include "vzero/table.hpp"
 
@@ -101,6 +102,9 @@ int cmd_rates(const Args& args) {
   }
   std::string package = (out_dir / "datapackage.json").string();
   write_file_atomic(package, datapackage_json(tables, prov, analyses));
+  if (!s.report.empty())
+    write_file_atomic(s.report, render_report(report_input(analyses, map.columns, with_activity, summary,
+                                                           datapackage_json(tables, prov, analyses))));
 
   if (!s.quiet) print_out(run_digest(analyses, summary, s, package));
   return 0;

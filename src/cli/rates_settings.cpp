@@ -40,6 +40,7 @@ void add_rates_options(po::options_description& opts) {
       ("output,o", po::value<Str>()->default_value("rates.csv"), "rates table; datapackage.json is written beside it")
       ("traces", po::value<Str>(), "also write the per-read traces table here")
       ("summary", po::value<Str>(), "also write the replicate summary here")
+      ("report", po::value<Str>(), "also write the HTML run report here (see vzero report --help)")
       ("summary-leave-out", po::value<Str>()->default_value("replicate"),
        "comma-separated plate-map columns not used to group replicates")
       ("channel", po::value<Str>(), "comma-separated channels to analyse (default: all but water-peak channels)")
@@ -152,6 +153,7 @@ RatesSettings settings_from(po::variables_map& vm, const po::options_description
   s.output = text("output");
   if (has("traces")) s.traces = text("traces");
   if (has("summary")) s.summary = text("summary");
+  if (has("report")) s.report = text("report");
   s.leave_out = list("summary-leave-out");
   s.quiet = has("quiet");
   if (has("channel")) s.analysis.channels = list("channel");
@@ -270,7 +272,9 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
   out += fmt::format("wrote {}", s.output);
   if (!s.traces.empty()) out += ", " + s.traces;
   if (!s.summary.empty()) out += ", " + s.summary;
-  out += ", " + package_path + "\n";
+  out += ", " + package_path;
+  if (!s.report.empty()) out += ", " + s.report;
+  out += "\n";
   return out;
 }
 

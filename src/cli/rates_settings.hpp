@@ -14,7 +14,7 @@ namespace vzero::cli {
 
 struct RatesSettings {
   std::vector<std::string> files;
-  std::string layout, method, profile, output = "rates.csv", traces, summary;
+  std::string layout, method, profile, output = "rates.csv", traces, summary, report;
   std::vector<std::string> leave_out{"replicate"};
   bool quiet = false;
   AnalysisOptions analysis;

@@ -1,0 +1,93 @@
+// The run report: one self-contained HTML page (inline CSS and SVG; no script, no font,
+// no image and no URL of any kind) that a scientist reads after a run.
+//
+// It is drawn from plain tables — the files `vzero rates` and `vzero fit` write — so the
+// same renderer serves `vzero rates --report` (tables built in memory from the analysis)
+// and `vzero report` (tables read from disk); the same tables give the same bytes.
+//
+// Contents, in order:
+//   - header: exports, sha256 of every input, profiles, every option, tool version (all
+//     from datapackage.json when given), and the date only when ReportOptions::date is
+//     set — the page holds no clock time by default, so rerunning on the same inputs gives
+//     a byte-identical file;
+//   - flags: how many wells carry each flag, with what the flag means;
+//   - per export and channel: a rate heat map in plate geometry with a colour scale (the
+//     sequential palette of svg.hpp; flagged, empty and rate-less wells marked apart), and
+//     the well panels: one small plot per well of the processed trace (concentration, or
+//     the blank-corrected signal in the reaction direction when unconverted) on a time axis
+//     shared by the plate, the accepted window shaded, its fitted line, the reads left out
+//     as outliers and the reads the instrument could not give marked, and the well's flags
+//     in words. Plates above ReportOptions::panel_wells wells (384, 1536) show the heat map
+//     as the overview and the panels in blocks of block_rows × block_columns wells; every
+//     heat-map cell links to its well's panel;
+//   - the standard curve of each channel that used one (points from the standard wells'
+//     traces when the traces table is given);
+//   - the replicate summary table (wells link to their panels);
+//   - per fit in fit.json: the parameter table, v against S with the fitted curve and its
+//     pointwise 95 % confidence band (delta method: var v̂(S) = gᵀ C g, g = ∂v/∂θ from
+//     model_rate, C the covariance in fit.json, half-width t(df)·√var), the residuals
+//     against S, and the double-reciprocal plot as a diagnostic with the lines implied by
+//     the nonlinear estimate.
+//
+// Structure the tests rely on: every well panel is `<g class="well" id="P-WELL"
+// data-well="A1" data-t0-s data-t1-s data-x0 data-x1>` (the panel's time axis: t0..t1
+// seconds map to x0..x1), and its accepted window is `<rect class="window"
+// data-t-start-s data-t-end-s>` with the cell text of rates.csv.
+//
+// **Example**:
+//   vzero::ReportFiles f;  f.rates = "rates.csv";  f.traces = "traces.csv";
+//   std::string html = vzero::render_report(vzero::read_report_input(f));
+//   vzero::write_file_atomic("report.html", html);
+#pragma once
+
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "vzero/analysis.hpp"
+#include "vzero/summary.hpp"
+#include "vzero/table.hpp"
+
+namespace vzero {
+
+struct ReportInput {
+  Table rates;                       // rates table (required): one row per well and channel
+  std::optional<Table> traces;       // per-read traces; without it panels show no curve
+  std::optional<Table> summary;      // replicate summary
+  std::optional<Table> diagnostics;  // fit diagnostics (observed points of each fit)
+  std::string fit_json;              // text of fit.json; "" = no fit section
+  std::string fit_source;            // its name, for messages
+  std::string package_json;          // text of datapackage.json; "" = provenance unknown
+  std::string package_source;        // its name, for messages
+};
+
+// Paths of the files a run wrote; "" = not given. `rates` is required.
+struct ReportFiles {
+  std::string rates, traces, summary, fit, diagnostics, package;
+};
+
+// Reads the given files. InputError for a file that cannot be read or parsed (CSV shape,
+// JSON syntax); column checks happen in render_report.
+ReportInput read_report_input(const ReportFiles& files);
+
+// The same tables from an analysis in memory, as `vzero rates` would write them.
+// `package_json` is the datapackage.json text (provenance), "" for none.
+ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
+                         bool with_activity, const SummaryTable& summary, std::string package_json);
+
+struct ReportOptions {
+  std::string title;        // page title; "" = "vzero run report: " + the export names
+  std::string date;         // shown in the header as given; "" = no date (byte-identical reruns)
+  int panel_wells = 96;     // plates with more wells get a heat-map overview and panel blocks
+  int block_rows = 8;       // rows per panel block on large plates
+  int block_columns = 12;   // columns per panel block on large plates
+  // Empty if valid, else e.g. "block_rows is 0; a block needs at least one row".
+  std::string validate() const;
+};
+
+// The whole page. Throws InputError (file:line:column) when a table lacks a column the
+// report needs or holds text where a number must be, or when fit.json / datapackage.json
+// lacks a field; UsageError for invalid options.
+std::string render_report(const ReportInput& input, const ReportOptions& options = {});
+
+}  // namespace vzero
