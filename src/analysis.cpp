@@ -162,7 +162,18 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     }
     tv.noise_sd = wb.blank_noise_sd;
     row.rate = find_rate(tv, o.rates);
-    for (const auto& f : row.rate.flags) add_flag(row.flags, f);
+    // Corrections the finder made are notes; the rest withhold trust. Overflow and ceiling
+    // reads are notes when the window simply leaves them out; a rate taken from reads at or
+    // above the ceiling (because no read was below it) keeps `ceiling` as a flag.
+    bool used_high = false;
+    if (!std::isnan(o.rates.signal_ceiling))
+      for (int i = 0; i < reads; ++i)
+        used_high |= !row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] &&
+                     c.values(i, j) >= o.rates.signal_ceiling;
+    for (const auto& f : row.rate.flags) {
+      bool note = f == "lag" || f == "outliers" || f == "overflow" || (f == "ceiling" && !used_high);
+      add_flag(note ? row.notes : row.flags, f);
+    }
     if (row.role == Role::empty) add_flag(row.flags, "empty");
     if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor))) add_flag(row.flags, "no-path");
     double slope = row.rate.slope;

@@ -64,6 +64,7 @@ std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, 
       {"conversion_pct", "number", "%", "percent of the well's substrate converted by the window's end"},
       {"estimator", "string", "", "slope estimator: theil-sen, ols or huber"},
       {"flags", "string", "", "';'-separated reasons to distrust the rate; empty when clean"},
+      {"notes", "string", "", "';'-separated corrections made on the way to v0 (lag skipped, outliers removed, overflow or ceiling reads left out)"},
       {"v0_ci_low", "number", "", "lower end of the 95 % interval of v0, unit in v0_unit"},
       {"v0_ci_high", "number", "", "upper end of the 95 % interval of v0, unit in v0_unit"},
       {"window", "string", "", "how the window was chosen: auto, leading or steepest"},
@@ -113,6 +114,7 @@ std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<st
         put(b, ","); put_num(b, x.conversion * 100);
         put(b, ","); put(b, to_string(x.estimator));
         put(b, ","); put_field(b, join_flags(r.flags));
+        put(b, ","); put_field(b, join_flags(r.notes));
         put(b, ","); put_num(b, r.v0_ci_low);
         put(b, ","); put_num(b, r.v0_ci_high);
         put(b, ","); put(b, to_string(x.window));

@@ -4,6 +4,7 @@
 
 #include "test_support.hpp"
 #include "vzero/analysis.hpp"
+#include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 #include "vzero/outputs.hpp"
 #include "vzero/table.hpp"
@@ -89,4 +90,48 @@ TEST_CASE("results do not depend on the thread count") {
   o.threads = 2;
   RunAnalysis two = analyse_run(run, map, o);
   CHECK(rates_csv({one}, map.columns, false) == rates_csv({two}, map.columns, false));
+}
+
+TEST_CASE("inner-filter correction of a fluorescence channel") {
+  // F rises 10 RFU/s; the well absorbs 0.10 at the excitation and 0.05 at the emission
+  // wavelength, so every read is multiplied by 10^(0.15/2) = 1.1885022274370185 (Lakowicz,
+  // Principles of Fluorescence Spectroscopy, 3rd ed., ch. 2): slope 11.885 RFU/s = 713.1 RFU/min.
+  std::string s = "Channel: ex360/em460\nTime [s],A1\n";
+  for (int i = 0; i < 10; ++i) s += fmt::format("{},{}\n", 10 * i, 1000 + 100 * i);
+  s += "\nChannel: A360\nTime [s],A1\n0,0.10\n\nChannel: A460\nTime [s],A1\n0,0.05\n";
+  Run run = read_run_text("f.csv", s, load_profile("wide-generic"));
+  PlateMap map = parse_plate_map("map.csv", "well,role\nA1,sample\n");
+  AnalysisOptions o;
+  o.blank.strategy = BlankStrategy::none;
+  o.rates.estimator = Estimator::ols;
+  o.rates.tangent = TangentMode::never;
+  o.channels = {"ex360/em460"};
+  o.inner_filter_ex = "A360";
+  o.inner_filter_em = "A460";
+  RunAnalysis a = analyse_run(run, map, o);
+  CHECK_REL(a.channels[0].rows[0].v0, 600 * 1.1885022274370185, 1e-9);
+  CHECK(a.channels[0].v0_unit == "RFU/min");
+}
+
+TEST_CASE("enzyme activity and specific activity") {
+  // 0.0622 AU/min with ε = 6220 M⁻¹·cm⁻¹ and l = 1 cm is 10 µM/min (shared REFERENCES.md §6);
+  // in 200 µL that is 0.002 U (1 U = 1 µmol/min); with 0.0005 mg of enzyme, 4 U/mg.
+  std::string s = "Time [s],A1\n";
+  for (int i = 0; i < 10; ++i) s += fmt::format("{},{}\n", 30 * i, format_number(0.05 + 0.0622 / 60 * 30 * i));
+  Run run = read_run_text("a.csv", s, load_profile("wide-generic"));
+  PlateMap map = parse_plate_map("map.csv", "well,role,enzyme_mg\nA1,sample,0.0005\n");
+  AnalysisOptions o;
+  o.blank.strategy = BlankStrategy::none;
+  o.convert.mode = ConvertMode::beer_lambert;
+  o.convert.epsilon_per_m_cm = 6220;
+  o.convert.path_cm = 1;
+  o.well_volume_ul = 200;
+  o.enzyme_mg_column = "enzyme_mg";
+  RunAnalysis a = analyse_run(run, map, o);
+  const RateRow& r = a.channels[0].rows[0];
+  CHECK_REL(r.v0, 10, 1e-9);
+  CHECK_REL(r.activity_u, 0.002, 1e-9);
+  CHECK_REL(r.specific_activity, 4, 1e-9);
+  o.enzyme_mg_column = "enzyme";
+  CHECK_THROWS_AS(analyse_run(run, map, o), InputError);
 }

@@ -171,9 +171,11 @@ TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
   CHECK(find(*tables[0], "tr").size() == summary.rows.size() + 1);
 
   // The fit: parameters, three charts, one band and one curve per inhibitor level (0, 50 µM).
+  // Two fit groups: enzyme 5 nM (fitted) and the single 50 nM well (A12, too few points).
   auto fits = find(root, "article", "fit");
-  REQUIRE(fits.size() == 1);
+  REQUIRE(fits.size() == 2);
   const std::string fit_text = fits[0]->all_text();
+  CHECK(fits[1]->all_text().find("too few") != std::string::npos);
   for (const char* p : {"Vmax", "Km", "Kic", "v = Vmax*S/(Km*(1 + I/Kic) + S)"})
     CHECK_MESSAGE(fit_text.find(p) != std::string::npos, p);
   CHECK(find(*fits[0], "figure", "chart").size() == 3);

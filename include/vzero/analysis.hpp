@@ -50,7 +50,9 @@ struct RateRow {
   double activity_u = NAN;            // enzyme activity, µmol/min, when a well volume is given
   double specific_activity = NAN;     // activity_u per mg of enzyme (U/mg), with enzyme_mg_column
   double path_cm = NAN;
-  std::vector<std::string> flags;     // blank flags + rate flags + "empty"
+  std::vector<std::string> flags;     // reasons to distrust v0 (blank, rate, "empty"); empty = trusted
+  std::vector<std::string> notes;     // what was done to get v0 that does not withhold trust:
+                                      // "lag" skipped, "outliers" removed, "overflow"/"ceiling" reads left out
 };
 
 struct ChannelAnalysis {

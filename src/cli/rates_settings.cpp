@@ -231,7 +231,7 @@ RatesSettings settings_from(po::variables_map& vm, const po::options_description
 std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RatesSettings& s,
                        const std::string& package_path) {
   int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0;
-  std::map<Str, int> by_flag;
+  std::map<Str, int> by_flag, by_note;
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels)
       for (const auto& row : ca.rows) {
@@ -242,12 +242,18 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
         if (row.role != Role::sample) continue;
         ++samples;
         for (const auto& f : row.flags) ++by_flag[f];
+        for (const auto& f : row.notes) ++by_note[f];
         flagged += !row.flags.empty();
       }
   Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty\n", runs.size(),
                         runs.size() == 1 ? "" : "s", wells, samples, blanks, standards, empty);
   out += fmt::format("{} sample well{} flagged{}\n", flagged, flagged == 1 ? "" : "s", flagged ? " (a well may have several reasons):" : "");
   for (const auto& [f, n] : by_flag) out += fmt::format("  {:<22} {}\n", f, n);
+  if (!by_note.empty()) {
+    out += "corrections made (notes; these wells keep their rate):";
+    for (const auto& [f, n] : by_note) out += fmt::format(" {} {},", f, n);
+    out.back() = '\n';
+  }
   // Median v0 per sample condition (the summary's groups), as a short table.
   Str head = "condition";
   std::vector<std::pair<Str, Str>> lines;
