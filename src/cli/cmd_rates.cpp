@@ -58,6 +58,9 @@ int cmd_rates(const Args& args) {
   }
   RatesSettings s = settings_from(vm, opts);
 
+  if (s.analysis.convert.mode == ConvertMode::signal_only && !vm.count("signal-only") && !s.quiet)
+    print_err("note: no conversion given (--epsilon with a path length, --standards, or --signal-only); "
+              "rates stay in signal units per minute");
   PlateMap map = read_plate_map(s.layout);
   Provenance prov;
   prov.tool_version = VZERO_VERSION;
