@@ -171,6 +171,74 @@ def write_maps(layout, tidy_path, grid_path):
             f.write("\n")
 
 
+def write_wide_water_peak(wells, data, path):
+    """The A405 plate followed by a water-band pair read once at the end (for --water-peak).
+
+    Fill volumes scatter around 200 uL, so the path lengths scatter around 0.5 cm; water
+    absorbs 0.18 AU per cm more at 977 nm than at 900 nm (common practice value).
+    """
+    rng = random.Random(977900)
+    write_wide(wells, data, path)
+    with open(path, "a", newline="\n") as f:
+        for name in ("A977", "A900"):
+            f.write(f"\nChannel: {name}\n")
+            f.write(",".join(["Time [s]"] + wells) + "\n")
+            cells = []
+            for w in wells:
+                path_cm = 0.5 * (1 + rng.uniform(-0.04, 0.04))
+                base = 0.040 + rng.uniform(-0.002, 0.002)
+                cells.append(f"{base + (0.18 * path_cm if name == 'A977' else 0):.4f}")
+            f.write(",".join(["610"] + cells) + "\n")
+
+
+# A second invented scenario: a hypothetical protease ("PrtD") cuts a peptide releasing an
+# aminocoumarin-type fluorophore (ex 360 / em 460 nm); free fluorophore standards calibrate it.
+FL_VMAX, FL_KM = 2.0, 40.0           # uM/min and uM, invented
+FL_BASE, FL_PER_UM = 120.0, 850.0    # RFU and RFU per uM, invented
+FL_SERIES = [5, 10, 20, 40, 80, 160, 320, 640]
+FL_STANDARDS = [0, 1, 2, 5, 10, 20, 50, 100]
+
+
+def write_fluorescence(path, map_path):
+    rng = random.Random(360460)
+    wells = [f"{r}{c}" for r in ROWS for c in range(1, 13)]
+    layout = {}
+    for ci, conc in enumerate(FL_STANDARDS):
+        for r in "AB":
+            layout[f"{r}{ci + 1}"] = dict(role="standard", std=conc, substrate="", match="", group="standard")
+    for ci, s0 in enumerate(FL_SERIES):
+        for r in "CDE":
+            layout[f"{r}{ci + 1}"] = dict(role="sample", std="", substrate=s0, match=f"S{s0}", group="protease")
+        layout[f"F{ci + 1}"] = dict(role="blank", std="", substrate=s0, match=f"S{s0}", group="substrate-only")
+    times = [20 * i for i in range(31)]
+    with open(path, "w", newline="\n") as f:
+        f.write("# vzero demo data (invented): hypothetical protease PrtD, fluorogenic peptide, ex360/em460\n")
+        f.write("Operator: demo\nPlate ID: DEMO-0002\n\nChannel: ex360/em460\n")
+        f.write(",".join(["Time [s]"] + wells) + "\n")
+        rows = {w: [] for w in wells}
+        for w in wells:
+            info = layout.get(w)
+            for t in times:
+                v = FL_BASE + rng.gauss(0, 12)
+                if info and info["role"] == "standard":
+                    v += FL_PER_UM * info["std"]
+                elif info and info["substrate"] != "":
+                    s0 = info["substrate"]
+                    v += 2.0 * s0 * 0.0004 * t / 60 * FL_PER_UM  # substrate autofluorescence drift, invented
+                    if info["role"] == "sample":
+                        v += FL_PER_UM * product_um(t / 60, s0, FL_VMAX, FL_KM)
+                rows[w].append(v)
+        for i, t in enumerate(times):
+            f.write(",".join([str(t)] + [f"{rows[w][i]:.1f}" for w in wells]) + "\n")
+    with open(map_path, "w", newline="\n") as f:
+        f.write("# vzero demo plate map for protease_fluor_wide.csv (invented scenario, see README.md)\n")
+        f.write("well,role,standard_conc,substrate,match,group\n")
+        for w in wells:
+            if w in layout:
+                i = layout[w]
+                f.write(f"{w},{i['role']},{i['std']},{i['substrate']},{i['match']},{i['group']}\n")
+
+
 if __name__ == "__main__":
     wells, data, layout = simulate()
     write_wide(wells, data, "hydrolase_wide.csv")
@@ -178,3 +246,5 @@ if __name__ == "__main__":
     write_grid(wells, data, "hydrolase_grid.txt")
     write_long(wells, data, "hydrolase_long.csv")
     write_maps(layout, "hydrolase_map.csv", "hydrolase_map_grid.csv")
+    write_wide_water_peak(wells, data, "hydrolase_wide_waterpeak.csv")
+    write_fluorescence("protease_fluor_wide.csv", "protease_fluor_map.csv")

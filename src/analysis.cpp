@@ -198,19 +198,27 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
       if (mg > 0) row.specific_activity = row.activity_u / mg;
     }
   });
-  // Samples whose signal leaves the calibrated range of the standard curve.
+  // Samples whose signal leaves the calibrated range of the standard curve. Above the top
+  // standard the curve is extrapolated (detectors and inner filters bend it there): any
+  // window read beyond it flags the well. Below the lowest standard only matters when that
+  // standard is not a zero standard, and then the window's mean signal is compared, since
+  // single reads scatter around the blank level.
   if (ca.conversion.curve) {
     const auto& sc = *ca.conversion.curve;
     for (auto& row : ca.rows) {
-      if (row.role != Role::sample) continue;
+      if (row.role != Role::sample || row.rate.used.empty()) continue;
       int j = c.column_of(row.plate_index);
+      double sum = 0;
+      int n = 0;
+      bool above = false;
       for (int i = 0; i < reads; ++i) {
-        if (!row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] && c.status(i, j) == ReadStatus::ok &&
-            (c.values(i, j) > sc.signal_max || c.values(i, j) < sc.signal_min)) {
-          add_flag(row.flags, "outside-standards");
-          break;
-        }
+        if (!row.rate.used[static_cast<std::size_t>(i)] || c.status(i, j) != ReadStatus::ok) continue;
+        above |= c.values(i, j) > sc.signal_max;
+        sum += c.values(i, j);
+        ++n;
       }
+      bool below = sc.conc_min > 0 && n > 0 && sum / n < sc.signal_min;
+      if (above || below) add_flag(row.flags, "outside-standards");
     }
   }
   return ca;

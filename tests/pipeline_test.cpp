@@ -135,3 +135,26 @@ TEST_CASE("enzyme activity and specific activity") {
   o.enzyme_mg_column = "enzyme";
   CHECK_THROWS_AS(analyse_run(run, map, o), InputError);
 }
+
+TEST_CASE("a sample rising past the top standard is flagged outside-standards") {
+  // Standards 0–2 µM at RFU = 100 + 1000·c (top standard 2100 RFU). Sample A5 climbs 5 RFU/s
+  // from 100 to 1450 RFU and stays inside; A6 climbs from 2000 to 3350 RFU and leaves the range.
+  std::string s = "Time [s],A1,A2,A3,A4,A5,A6\n";
+  for (int i = 0; i < 10; ++i)
+    s += fmt::format("{},100,600,1100,2100,{},{}\n", 30 * i, 100 + 150 * i, 2000 + 150 * i);
+  Run run = read_run_text("f.csv", s, load_profile("wide-generic"));
+  PlateMap map = parse_plate_map("map.csv",
+                                 "well,role,standard_conc\nA1,standard,0\nA2,standard,0.5\nA3,standard,1\n"
+                                 "A4,standard,2\nA5,sample,\nA6,sample,\n");
+  AnalysisOptions o;
+  o.blank.strategy = BlankStrategy::none;
+  o.convert.mode = ConvertMode::standard_curve;
+  o.rates.estimator = Estimator::ols;
+  o.rates.tangent = TangentMode::never;
+  RunAnalysis a = analyse_run(run, map, o);
+  const auto& rows = a.channels[0].rows;
+  // 150 RFU per 30 s = 300 RFU/min, / 1000 RFU per µM = 0.3 µM/min.
+  CHECK_REL(rows[4].v0, 0.3, 1e-9);
+  CHECK(rows[4].flags.empty());
+  CHECK(rows[5].flags == std::vector<std::string>{"outside-standards"});
+}

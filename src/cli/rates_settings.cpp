@@ -254,6 +254,15 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
     for (const auto& [f, n] : by_note) out += fmt::format(" {} {},", f, n);
     out.back() = '\n';
   }
+  for (const auto& ra : runs)
+    for (const auto& ca : ra.channels)
+      if (ca.conversion.curve) {
+        const auto& sc = *ca.conversion.curve;
+        out += fmt::format("standard curve {}: signal = {:.6g} + {:.6g}·c (r² {:.6f}, {} wells), calibrated {:g}–{:g} {}, "
+                           "LOD {:.3g} {} ({})\n",
+                           ca.channel->name, sc.intercept, sc.slope, sc.r2, sc.n, sc.conc_min, sc.conc_max,
+                           ca.conversion.conc_unit, sc.lod, ca.conversion.conc_unit, sc.lod_basis);
+      }
   // Median v0 per sample condition (the summary's groups), as a short table.
   Str head = "condition";
   std::vector<std::pair<Str, Str>> lines;
