@@ -162,6 +162,10 @@ void write_file_atomic(const std::string& path, std::string_view content) {
   }
   fs::path dir = target.parent_path();
   if (dir.empty()) dir = ".";
+  if (!fs::is_directory(dir, ec)) {
+    throw InputError(Where{path}, fmt::format("cannot write {}: the folder {} does not exist", path, dir.string()),
+                     {fmt::format("create it first (mkdir -p {}) or choose another output path", dir.string())});
+  }
   // A name unlikely to collide with another writer; created with O_EXCL.
   std::random_device rd;
   std::string tmp;
