@@ -1,6 +1,7 @@
 #include "vzero/ingest.hpp"
 
 #include <fmt/format.h>
+#include <optional>
 
 #include "detail/reader_common.hpp"
 #include "vzero/error.hpp"
@@ -72,6 +73,9 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   }
   std::string tried;
   long long best = 0;
+  // The error of the profile that got furthest into the file (a line, not "found no header").
+  std::optional<InputError> furthest;
+  std::string furthest_name;
   for (const auto& name : builtin_profile_names()) {
     Profile p = load_profile(name);
     try {
@@ -86,7 +90,22 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
       }
     } catch (const InputError& e) {
       tried += fmt::format("\n    {}: {}", name, e.message());
+      const Where& w = e.where();
+      if (w.line > 0 && (!furthest || w.line > furthest->where().line ||
+                         (w.line == furthest->where().line && w.column > furthest->where().column))) {
+        furthest = e;
+        furthest_name = name;
+      }
     }
+  }
+  if (best == 0 && furthest) {
+    // One profile recognised the layout and stopped at a line: that error, with its place
+    // and fixes, tells the user more than the list of what every profile found.
+    std::vector<std::string> fixes = furthest->fixes();
+    fixes.push_back(fmt::format("this file was read with the built-in profile {} (detected); if that is the wrong "
+                                "layout, pass --profile NAME or a .toml path",
+                                furthest_name));
+    throw InputError(furthest->where(), furthest->message(), std::move(fixes));
   }
   if (best == 0) {
     throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried,

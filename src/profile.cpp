@@ -3,6 +3,7 @@
 #include <re2/re2.h>
 
 #include <algorithm>
+#include <cmath>
 #include <filesystem>
 #include <fmt/format.h>
 #include <fstream>
@@ -64,10 +65,24 @@ class ProfileParser {
       if (*v == "." || *v == ",") p.decimal = (*v)[0];
       else bad_value(root_, "decimal", *v, "\".\" or \",\"");
     }
+    if (p.decimal == p.delimiter) {
+      fail(*root_.get(root_.contains("delimiter") ? "delimiter" : "decimal"),
+           fmt::format("profile keys `decimal` and `delimiter` are both \"{}\"", p.decimal),
+           "set delimiter = \";\" or \"tab\" when decimal = \",\"");
+    }
     if (auto n = root_.get("plate")) {
-      auto v = n->value<int64_t>();
-      if (!v || (*v != 0 && !plate_format_for(static_cast<int>(*v))))
-        bad_value(root_, "plate", n->is_integer() ? std::to_string(*v) : "a non-integer",
+      // toml++ 3.3 casts a float to int64 without a range check (undefined for 1e80), so a
+      // float is converted here, and only when it is a small whole number (96.0).
+      std::optional<int64_t> v;
+      if (n->is_integer()) v = n->value<int64_t>();
+      if (auto d = n->as_floating_point(); d && std::fabs(d->get()) <= 1e6 && d->get() == std::floor(d->get()))
+        v = static_cast<int64_t>(d->get());
+      // Range first: the int cast of 2^32 + 96 would be 96.
+      if (!v || *v < 0 || *v > 1536 || (*v != 0 && !plate_format_for(static_cast<int>(*v))))
+        bad_value(root_, "plate",
+                  n->is_integer()          ? std::to_string(*v)
+                  : n->is_floating_point() ? fmt::format("{}", n->as_floating_point()->get())
+                                           : "not a number",
                   "0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
       p.plate_wells = static_cast<int>(*v);
     }

@@ -164,7 +164,7 @@ TEST_CASE("reader errors name file:line:column, what was expected and found, and
         "  line 3: 30,2\n"
         "  possible fix: remove the duplicated read, or check that two exports were not pasted together");
   CHECK(message_of([] { wide("Time [s],A1,A1\n0,1,2\n"); }) ==
-        "t.csv:1:13: well A1 appears twice in the header (columns 10 and 13)\n"
+        "t.csv:1:13: well A1 appears twice in the header (fields 2 and 3)\n"
         "  line 1: Time [s],A1,A1\n"
         "  possible fix: remove or rename the duplicated column");
   CHECK(message_of([] { wide("Time [s],A1,Q99\n0,1,2\n"); }) ==

@@ -4,9 +4,11 @@
 #include <openssl/evp.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cerrno>
 #include <cstdio>
 #include <cstring>
+#include <limits>
 #include <fmt/format.h>
 
 #include "vzero/error.hpp"
@@ -36,11 +38,13 @@ class Sha256 {
   EVP_MD_CTX* ctx_;
 };
 
+// Written by read() on LineReader's read-ahead thread; `total` and `nul_line` are also read
+// by the caller's thread while a read-ahead may run, hence atomic.
 struct Counters {
   Sha256 hash;
-  long long total = 0;
-  long long newlines = 0;   // '\n' seen before the first NUL
-  long long nul_line = 0;   // 1-based line of the first NUL byte, 0 if none seen yet
+  std::atomic<long long> total = 0;
+  long long newlines = 0;               // '\n' seen before the first NUL
+  std::atomic<long long> nul_line = 0;  // 1-based line of the first NUL byte, 0 if none seen yet
 };
 
 // A byte source for LineReader that hashes what passes through, counts bytes and finds
@@ -70,6 +74,18 @@ class HashingSource : public io::ByteSourceBase {
       c_->newlines += std::count(static_cast<const char*>(buffer), end, '\n');
       if (nul) c_->nul_line = c_->newlines + 1;
     }
+    if (n > 0) {
+      last_ = buffer[n - 1];
+      any_ = true;
+    }
+    // LineReader reads one byte past the data when the last line has no '\n': if that
+    // stale byte is a '\n' left from an earlier block, it returns lines that are not in the
+    // file and then waits forever for its read-ahead thread. So the data always ends with
+    // a '\n': one is added (not hashed, not counted) when the file lacks it.
+    if (n < static_cast<std::size_t>(size) && !newline_added_ && any_ && last_ != '\n') {
+      buffer[n++] = '\n';
+      newline_added_ = true;
+    }
     return static_cast<int>(n);
   }
 
@@ -77,6 +93,9 @@ class HashingSource : public io::ByteSourceBase {
   std::FILE* file_;
   std::string_view memory_;
   Counters* c_;
+  char last_ = 0;  // last byte read
+  bool any_ = false;
+  bool newline_added_ = false;
 };
 
 }  // namespace
@@ -105,22 +124,33 @@ LineSource::LineSource(std::string name, std::string_view bytes)
 
 LineSource::~LineSource() = default;
 
-bool LineSource::next(std::string_view& line) {
-  if (impl_->done) return false;
-  char* p = nullptr;
+// LineReader's next line; its line-limit exception becomes an InputError. LineReader cannot
+// step over such a line, so every later call must fail the same way, never loop.
+static char* next_raw(io::LineReader& reader, const std::string& name, int line) {
   try {
-    p = impl_->reader->next_line();
+    return reader.next_line();
   } catch (const io::error::line_length_limit_exceeded&) {
-    throw InputError(Where{name_, line_ + 1}, "line is longer than 16 MiB (the longest line vzero reads)",
+    throw InputError(Where{name, line + 1}, "line is longer than 16 MiB (the longest line vzero reads)",
                      {"check that this is a text export and not a binary file"});
   }
+}
+
+bool LineSource::next(std::string_view& line) {
+  if (impl_->done) return false;
+  char* p = next_raw(*impl_->reader, name_, line_);
   if (!p) {
     impl_->done = true;
     return false;
   }
+  if (line_ == std::numeric_limits<int>::max()) {
+    throw InputError(Where{name_, line_}, fmt::format("the file has more than {} lines, the most vzero reads", line_),
+                     {"split the export into smaller files"});
+  }
   ++line_;
   if (impl_->counters.nul_line != 0 && line_ >= impl_->counters.nul_line) {
-    throw InputError(Where{name_, line_}, "found a NUL byte; this is not a text export",
+    // LineReader hands out C strings, so this line's text stops at the NUL.
+    int column = line_ == impl_->counters.nul_line ? static_cast<int>(std::strlen(p)) + 1 : 0;
+    throw InputError(Where{name_, line_, column}, "found a NUL byte; this is not a text export",
                      {"export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8"});
   }
   line = std::string_view(p, std::strlen(p));
@@ -141,13 +171,8 @@ bool LineSource::next(std::string_view& line) {
 std::string LineSource::sha256() {
   // Drain the rest without validating it: the digest covers every byte.
   while (!impl_->done) {
-    char* p = nullptr;
-    try {
-      p = impl_->reader->next_line();
-    } catch (const io::error::line_length_limit_exceeded&) {
-      continue;
-    }
-    if (!p) impl_->done = true;
+    if (!next_raw(*impl_->reader, name_, line_)) impl_->done = true;
+    else ++line_;
   }
   return impl_->counters.hash.hex();
 }

@@ -112,7 +112,16 @@ Run read_grid(ReaderInput in) {
                                        ln, sv),
                            {"check that `grid.read_label` matches only read labels"});
         }
-        cols.push_back(static_cast<int>(*v) - 1);
+        int col = static_cast<int>(*v) - 1;
+        for (std::size_t k = 0; k < cols.size(); ++k) {
+          if (cols[k] == col)
+            throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+                             fmt::format("column {} appears twice in the header after the read label at line {} "
+                                         "(fields {} and {})",
+                                         col + 1, ln, k + 2, i + 1),
+                             {"remove the duplicated column; each well may appear once per read"});
+        }
+        cols.push_back(col);
       }
       if (cols.empty()) {
         throw InputError(Where{file, hl, 1, std::string(hline)},
@@ -199,8 +208,11 @@ Run read_grid(ReaderInput in) {
 end_of_input:
   close_channel();
   if (done.empty()) {
+    std::string at = p.source == "built-in" ? "built-in profile " + p.name
+                                            : fmt::format("{}:{}", p.source, p.grid_read_line);
     throw InputError(Where{file}, "found no reads: no line matches the profile's `grid.read_label`",
-                     {"set `grid.read_label` to a regex matching this file's read labels",
+                     {fmt::format("set `grid.read_label` ('{}', {}) to a regex matching this file's read labels",
+                                  p.grid_read_label, at),
                       "try another profile with --profile"});
   }
   std::vector<WellId> all;

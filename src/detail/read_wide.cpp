@@ -57,15 +57,15 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.roles.push_back(ColumnRole::temperature);
       h.slot.push_back(-1);
     } else if (auto w = parse_well(name)) {
-      for (const auto& [prev, prev_col] : seen) {
+      for (const auto& [prev, prev_field] : seen) {
         if (prev == *w) {
           throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
-                           fmt::format("well {} appears twice in the header (columns {} and {})", well_name(*w),
-                                       prev_col, fields[i].column),
+                           fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w),
+                                       prev_field, i + 1),
                            {"remove or rename the duplicated column"});
         }
       }
-      seen.emplace_back(*w, fields[i].column);
+      seen.emplace_back(*w, static_cast<int>(i) + 1);
       h.roles.push_back(ColumnRole::well);
       h.slot.push_back(static_cast<int>(h.wells.size()));
       h.wells.push_back(*w);
@@ -88,6 +88,7 @@ Run read_wide(ReaderInput in) {
   const std::string& file = in.src.name();
   Run run;
   std::vector<ChannelBuilder> done;
+  std::vector<int> done_header_line;  // header line of each finished channel, for messages
   std::optional<SectionStart> section;
   std::optional<Header> header;
   std::optional<ChannelBuilder> current;
@@ -104,6 +105,7 @@ Run read_wide(ReaderInput in) {
         }
       }
       done.push_back(std::move(*current));
+      done_header_line.push_back(header->line);
       current.reset();
     }
     header.reset();
@@ -196,12 +198,13 @@ Run read_wide(ReaderInput in) {
   std::vector<WellId> all;
   for (const auto& b : done) all.insert(all.end(), b.wells().begin(), b.wells().end());
   run.format = decide_format(p, all, file, run.format_inferred);
-  for (auto& b : done) {
-    if (b.reads() == 0) {
-      throw InputError(Where{file}, fmt::format("channel {} has a header but no reads", b.name()),
-                       {"check that the export is complete"});
+  for (std::size_t i = 0; i < done.size(); ++i) {
+    if (done[i].reads() == 0) {
+      throw InputError(Where{file, done_header_line[i]},
+                       fmt::format("channel {} has a header but no reads", done[i].name()),
+                       {"check that the export is complete; delete the header if the channel was not read"});
     }
-    run.channels.push_back(std::move(b).finish(run.format));
+    run.channels.push_back(std::move(done[i]).finish(run.format));
   }
   return run;
 }

@@ -1,6 +1,7 @@
 #include "detail/reader_common.hpp"
 
 #include <algorithm>
+#include <charconv>
 #include <cmath>
 #include <fmt/format.h>
 #include <numeric>
@@ -104,16 +105,20 @@ std::optional<double> parse_time(std::string_view text, TimeUnit unit, char deci
       if (i > 0 && *v >= 60) return std::nullopt;
       total = total * 60 + *v;
     }
+    // 1e308 minutes is a number but no time: seconds must stay finite.
+    if (!std::isfinite(total)) return std::nullopt;
     return total;
   }
   auto v = parse_number(text, decimal);
   if (!v) return std::nullopt;
+  double s = *v;
   switch (unit) {
-    case TimeUnit::seconds: return *v;
-    case TimeUnit::minutes: return *v * 60;
-    case TimeUnit::hours: return *v * 3600;
+    case TimeUnit::seconds: break;
+    case TimeUnit::minutes: s *= 60; break;
+    case TimeUnit::hours: s *= 3600; break;
   }
-  return v;
+  if (!std::isfinite(s)) return std::nullopt;
+  return s;
 }
 
 std::optional<TimeUnit> unit_in_header(std::string_view header) {
@@ -145,12 +150,21 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
   std::string_view t = trim(cell);
   std::vector<std::string> fixes;
   std::string lowered = lower(t);
-  if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
+  double ignored = 0;
+  auto [end, ec] = std::from_chars(t.data(), t.data() + t.size(), ignored);
+  if (ec == std::errc::result_out_of_range && end == t.data() + t.size()) {
+    fixes.push_back("the number is beyond the range vzero reads (about 1e-308 to 1e308 in size): correct the "
+                    "cell, or mark it with an `overflow` or `missing` token");
+  } else if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
     fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
   } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
-    fixes.push_back("set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile wide-semicolon-comma");
+    std::string builtin = p.shape == Shape::long_form ? "long-semicolon-comma" : "wide-semicolon-comma";
+    fixes.push_back(p.shape == Shape::grid
+                        ? std::string("set decimal = \",\" (and delimiter = \";\" or \"tab\") in the profile")
+                        : "set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile " + builtin);
   } else if (p.decimal == ',' && t.find('.') != std::string_view::npos) {
-    fixes.push_back("set decimal = \".\" in the profile; this file mixes decimal marks");
+    fixes.push_back("if only some cells use '.', the file mixes decimal marks: correct them or re-export the file; "
+                    "if all do, set decimal = \".\" in the profile");
   } else {
     fixes.push_back(fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
   }
