@@ -108,8 +108,20 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     throw InputError(furthest->where(), furthest->message(), std::move(fixes));
   }
   if (best == 0) {
-    throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried,
-                     {"write a profile for this export (see instrument-profiles/README.md) and pass it with --profile"});
+    std::vector<std::string> fixes;
+    // A plate map given where the export belongs is a common slip.
+    std::string first;
+    for (std::size_t at = 0; at < head.size() && first.empty();) {
+      std::size_t end = head.find('\n', at);
+      std::string_view l = detail::trim(std::string_view(head).substr(at, end - at));
+      if (!l.empty() && l.front() != '#') first = std::string(l);
+      at = end == std::string::npos ? head.size() : end + 1;
+    }
+    std::string lowered = detail::lower(first);
+    if (lowered.find("well") != std::string::npos && lowered.find("role") != std::string::npos)
+      fixes.emplace_back("this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
+    fixes.emplace_back("write a profile for this export (see instrument-profiles/README.md) and pass it with --profile");
+    throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
   }
   choice.detected = true;
   return choice;

@@ -181,3 +181,13 @@ TEST_CASE("reader errors name file:line:column, what was expected and found, and
         "t.csv:2:4: found a NUL byte; this is not a text export\n"
         "  possible fix: export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8");
 }
+
+TEST_CASE("a plate map given as the export is recognised") {
+  try {
+    choose_profile(source("demo-data/hydrolase_map.csv"), "");
+    FAIL("expected an error");
+  } catch (const InputError& e) {
+    REQUIRE(e.fixes().size() == 2);
+    CHECK(e.fixes()[0] == "this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
+  }
+}
