@@ -1,5 +1,7 @@
 #include "detail/robust.hpp"
 
+#include "detail/pair_slopes.hpp"
+
 #include <Eigen/Dense>
 #include <algorithm>
 #include <array>
@@ -228,10 +230,83 @@ double tie_term(const double* v, int n) {
 
 }  // namespace
 
+namespace {
+
+// Sen (1968) eq. 2.6 interval ranks as SciPy 1.10 computes them (0-based, clamped into the
+// array; std::nearbyint rounds half to even in the default rounding mode, as np.round does).
+// Returns false when the variance is not positive.
+const double& z975() {
+  static const double z = normal_quantile(0.975);
+  return z;
+}
+
+bool sen_ranks(double sig2, long count, long& lo, long& up) {
+  const double z = z975();
+  const double sigma = std::sqrt(sig2);
+  up = std::min(static_cast<long>(std::nearbyint((static_cast<double>(count) + z * sigma) / 2)), count - 1);
+  lo = std::max(static_cast<long>(std::nearbyint((static_cast<double>(count) - z * sigma) / 2)) - 1, 0L);
+  return sig2 > 0 && up >= 0 && lo < count;
+}
+
+bool increasing_and_finite(const double* x, const double* y, int n) {
+  for (int i = 0; i < n; ++i)
+    if (!std::isfinite(x[i]) || !std::isfinite(y[i]) || (i > 0 && !(x[i] > x[i - 1]))) return false;
+  return true;
+}
+
+// Theil–Sen for x strictly increasing (the rate finder's case): the same numbers as the
+// general code below, with the order statistics of the slopes from pair_slope_ranks
+// (O(n log n) for long windows instead of forming all n(n−1)/2 slopes).
+LineFit theil_sen_increasing(const double* x, const double* y, int n, double* intercept_separate, bool interval) {
+  LineFit f;
+  f.n = n;
+  const long count = static_cast<long>(n) * (n - 1) / 2;
+  std::int64_t ranks[4];
+  double v[4];
+  int k = 0;
+  if (count % 2 == 0) ranks[k++] = count / 2 - 1;
+  ranks[k++] = count / 2;
+  const int n_median = k;
+  long lo = 0, up = 0;
+  bool have_interval = false;
+  if (interval) {
+    const double nn = n;
+    // x has no ties, so its tie term is 0.
+    const double sig2 = (nn * (nn - 1) * (2 * nn + 5) - 0.0 - tie_term(y, n)) / 18.0;
+    have_interval = sen_ranks(sig2, count, lo, up);
+    if (have_interval) {
+      ranks[k++] = lo;
+      ranks[k++] = up;
+    }
+  }
+  pair_slope_ranks(x, y, n, ranks, k, v);
+  f.slope = n_median == 2 ? (v[0] + v[1]) / 2 : v[0];
+  thread_local std::vector<double> tmp;
+  tmp.resize(static_cast<std::size_t>(n));
+  for (int i = 0; i < n; ++i) tmp[static_cast<std::size_t>(i)] = y[i] - f.slope * x[i];
+  f.intercept = median_inplace(tmp);
+  if (intercept_separate) {
+    tmp.assign(y, y + n);
+    const double my = median_inplace(tmp);
+    tmp.assign(x, x + n);
+    *intercept_separate = my - f.slope * median_inplace(tmp);
+  }
+  if (have_interval) {
+    f.ci_low = v[n_median];
+    f.ci_high = v[n_median + 1];
+    f.slope_se = (f.ci_high - f.ci_low) / (2 * z975());
+  }
+  fill_residual_stats(x, y, n, f);
+  return f;
+}
+
+}  // namespace
+
 LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate, bool interval) {
   LineFit f;
   f.n = n;
   if (n < 2) return f;
+  if (increasing_and_finite(x, y, n)) return theil_sen_increasing(x, y, n, intercept_separate, interval);
   std::vector<double> slopes;
   slopes.reserve(static_cast<std::size_t>(n) * static_cast<std::size_t>(n - 1) / 2);
   for (int j = 0; j < n; ++j)

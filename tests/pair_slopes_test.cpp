@@ -1,0 +1,143 @@
+// Exact order statistics of pairwise slopes (src/detail/pair_slopes.hpp), the core of
+// Theil–Sen for long windows. References: the definition (every slope formed and sorted with
+// std::sort), the general Theil–Sen code on the same points in another order, and SciPy
+// 1.10.1 scipy.stats.theilslopes (Debian python3-scipy) for two pinned cases.
+#include <algorithm>
+#include <cstdint>
+#include <random>
+#include <vector>
+
+#include "detail/pair_slopes.hpp"
+#include "detail/robust.hpp"
+#include "test_support.hpp"
+
+namespace {
+
+using vzero::detail::pair_slope_ranks;
+
+std::vector<double> all_slopes_sorted(const std::vector<double>& x, const std::vector<double>& y) {
+  std::vector<double> s;
+  for (std::size_t i = 0; i < x.size(); ++i)
+    for (std::size_t j = i + 1; j < x.size(); ++j) s.push_back((y[j] - y[i]) / (x[j] - x[i]));
+  std::sort(s.begin(), s.end());
+  return s;
+}
+
+// Checks a spread of ranks against the full sort, bit for bit.
+// `expect_bracketed`: the bracketing method must not decline (else it is never tested); it
+// may on data where most slopes are equal (then every slope is formed).
+void check_ranks(const std::vector<double>& x, const std::vector<double>& y, bool expect_bracketed) {
+  const auto sorted = all_slopes_sorted(x, y);
+  const auto n_pairs = static_cast<std::int64_t>(sorted.size());
+  std::vector<std::int64_t> ranks = {0, n_pairs - 1, n_pairs / 2, (n_pairs - 1) / 2, n_pairs / 3, n_pairs / 2 - 7,
+                                     n_pairs / 2 + 11, (n_pairs * 97) / 100};
+  for (auto& r : ranks) r = std::clamp<std::int64_t>(r, 0, n_pairs - 1);
+  std::vector<double> got(ranks.size());
+  pair_slope_ranks(x.data(), y.data(), static_cast<int>(x.size()), ranks.data(), static_cast<int>(ranks.size()),
+                   got.data());
+  std::vector<double> bracketed(ranks.size(), -1);
+  const bool used = vzero::detail::pair_slope_ranks_bracketed(x.data(), y.data(), static_cast<int>(x.size()),
+                                                              ranks.data(), static_cast<int>(ranks.size()),
+                                                              bracketed.data());
+  if (expect_bracketed && x.size() >= 50) CHECK(used);
+  for (std::size_t k = 0; k < ranks.size(); ++k) {
+    INFO("n = ", x.size(), ", rank ", ranks[k]);
+    CHECK(got[k] == sorted[static_cast<std::size_t>(ranks[k])]);
+    if (used) CHECK(bracketed[k] == sorted[static_cast<std::size_t>(ranks[k])]);
+  }
+}
+
+// Integer noise in [-100, 100] from a fixed formula, the same in NumPy and C++.
+std::vector<double> quantised_trace(int n, std::vector<double>& x) {
+  std::vector<double> y;
+  x.clear();
+  for (std::int64_t i = 0; i < n; ++i) {
+    const std::int64_t k = 500 + 2 * i + ((i * 7919 + 13) * 104729 % 201) - 100;
+    x.push_back(10.0 * static_cast<double>(i));
+    y.push_back(static_cast<double>(k) / 10000.0);
+  }
+  return y;
+}
+
+}  // namespace
+
+TEST_CASE("pairwise slope ranks equal the full sort, bit for bit") {
+  std::mt19937_64 rng(2024);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (int n : {2, 3, 7, 50, 159, 160, 161, 257, 600, 1500}) {
+    std::vector<double> x, y;
+    bool ties_only = false;
+    SUBCASE("noisy straight line") {
+      for (int i = 0; i < n; ++i) {
+        x.push_back(15.0 * i + 3);
+        y.push_back(0.05 + 3e-5 * x.back() + 0.001 * noise(rng));
+      }
+    }
+    SUBCASE("four-decimal reads (many tied slopes)") {
+      y = quantised_trace(n, x);
+    }
+    SUBCASE("constant signal (every slope 0)") {
+      for (int i = 0; i < n; ++i) { x.push_back(i); y.push_back(1.25); }
+      ties_only = true;
+    }
+    SUBCASE("falling curve with gross outliers and uneven times") {
+      double t = 0;
+      for (int i = 0; i < n; ++i) {
+        t += 1 + (i % 7) * 0.37;
+        x.push_back(t);
+        y.push_back(2.0 * std::exp(-t / 500) + (i % 29 == 3 ? 50.0 : 0.0) + 1e-3 * noise(rng));
+      }
+    }
+    SUBCASE("large offsets") {
+      for (int i = 0; i < n; ++i) {
+        x.push_back(1e6 + 0.5 * i);
+        y.push_back(4e4 + 1e-3 * i + 1e-4 * noise(rng));
+      }
+    }
+    if (!x.empty()) check_ranks(x, y, !ties_only);
+  }
+}
+
+TEST_CASE("Theil–Sen gives the same numbers on the fast and the general path") {
+  // The general code (any x order, pairs with x_j > x_i) on the points in reverse order
+  // is the reference for the fast code on increasing x.
+  for (int n : {12, 160, 400, 1200}) {
+    std::vector<double> x;
+    const std::vector<double> y = quantised_trace(n, x);
+    std::vector<double> xr(x.rbegin(), x.rend()), yr(y.rbegin(), y.rend());
+    double sep_fast = 0, sep_general = 0;
+    const auto fast = vzero::detail::theil_sen(x.data(), y.data(), n, &sep_fast);
+    const auto general = vzero::detail::theil_sen(xr.data(), yr.data(), n, &sep_general);
+    INFO("n = ", n);
+    CHECK(fast.slope == general.slope);
+    CHECK(fast.intercept == general.intercept);
+    CHECK(sep_fast == sep_general);
+    CHECK(fast.ci_low == general.ci_low);
+    CHECK(fast.ci_high == general.ci_high);
+    CHECK(fast.slope_se == general.slope_se);
+  }
+}
+
+TEST_CASE("Theil–Sen on long quantised traces matches SciPy 1.10.1 theilslopes") {
+  // x = 10·i s, y = (500 + 2i + ((7919 i + 13)·104729 mod 201) − 100) / 10000; values from
+  // scipy.stats.theilslopes(y, x, alpha=0.95, method='joint' / 'separate'), SciPy 1.10.1.
+  struct Case {
+    int n;
+    double slope, intercept_joint, intercept_separate, low, high;
+  };
+  for (const Case& c : {Case{400, 2.0027472527472527e-05, 0.049985851648351655, 0.050195192307692316,
+                             1.9556313993174062e-05, 2.0514705882352946e-05},
+                        Case{1000, 1.9999999999999998e-05, 0.05, 0.04980000000000001, 1.986013986013986e-05,
+                             2.0121065375302664e-05}}) {
+    std::vector<double> x;
+    const std::vector<double> y = quantised_trace(c.n, x);
+    double separate = 0;
+    const auto f = vzero::detail::theil_sen(x.data(), y.data(), c.n, &separate);
+    INFO("n = ", c.n);
+    CHECK_REL(f.slope, c.slope, 1e-12);
+    CHECK_REL(f.intercept, c.intercept_joint, 1e-12);
+    CHECK_REL(separate, c.intercept_separate, 1e-12);
+    CHECK_REL(f.ci_low, c.low, 1e-12);
+    CHECK_REL(f.ci_high, c.high, 1e-12);
+  }
+}
