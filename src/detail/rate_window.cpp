@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <array>
 #include <map>
+#include <utility>
 
 #include "detail/robust.hpp"
 #include "detail/window_stats.hpp"
@@ -19,21 +20,34 @@ constexpr int k_min_test_reads = 5;
 
 std::size_t z(int i) { return static_cast<std::size_t>(i); }
 
-// Two-sided critical t values, computed once per degree of freedom per call.
+// Two-sided critical t values by degree of freedom, remembered per thread for the last
+// probability asked (the rate finder asks the same one for every well).
 class CriticalT {
  public:
-  explicit CriticalT(double p) : p_(p) {}
+  explicit CriticalT(double p) : cache_(table()) {
+    if (cache_.p != p) {
+      cache_.p = p;
+      cache_.by_df.clear();
+    }
+  }
   double operator()(int df) {
-    auto it = cache_.find(df);
-    if (it != cache_.end()) return it->second;
-    const double v = student_t_quantile(p_, df);
-    cache_.emplace(df, v);
+    if (df < 0 || df > 100000) return student_t_quantile(cache_.p, df);
+    if (z(df) >= cache_.by_df.size()) cache_.by_df.resize(z(df) + 1, NAN);
+    double& v = cache_.by_df[z(df)];
+    if (std::isnan(v)) v = student_t_quantile(cache_.p, df);
     return v;
   }
 
  private:
-  double p_;
-  std::map<int, double> cache_;
+  struct Table {
+    double p = NAN;
+    std::vector<double> by_df;
+  };
+  static Table& table() {
+    thread_local Table t;
+    return t;
+  }
+  Table& cache_;
 };
 
 // Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
@@ -42,14 +56,78 @@ class CriticalT {
 // spike when it exceeds k times the larger of the trace's robust SD (1.4826·MAD of these
 // residuals) and the neighbours' own robust residual SD: at a sharp bend (end of a lag, onset
 // of saturation) the neighbours do not agree with one line, and the read there is no spike.
+// Batcher's odd–even merge sorting network on N = 2^k inputs (Knuth, TAOCP vol. 3,
+// §5.3.4): a fixed list of compare-exchange pairs, so small arrays sort without branches.
+template <int N>
+constexpr auto batcher_pairs() {
+  constexpr int count = [] {
+    int c = 0;
+    for (int p = 1; p < N; p <<= 1)
+      for (int k = p; k >= 1; k >>= 1)
+        for (int j = k % p; j + k < N; j += 2 * k)
+          for (int i = 0; i < std::min(k, N - j - k); ++i)
+            if ((i + j) / (2 * p) == (i + j + k) / (2 * p)) ++c;
+    return c;
+  }();
+  std::array<std::pair<int, int>, count> out{};
+  int c = 0;
+  for (int p = 1; p < N; p <<= 1)
+    for (int k = p; k >= 1; k >>= 1)
+      for (int j = k % p; j + k < N; j += 2 * k)
+        for (int i = 0; i < std::min(k, N - j - k); ++i)
+          if ((i + j) / (2 * p) == (i + j + k) / (2 * p)) out[static_cast<std::size_t>(c++)] = {i + j, i + j + k};
+  return out;
+}
+
+template <int N>
+inline constexpr auto k_batcher = batcher_pairs<N>();
+
+inline void compare_exchange(double& a, double& b) {
+  const double lo = std::min(a, b), hi = std::max(a, b);
+  a = lo;
+  b = hi;
+}
+
+// The network unrolled at compile time, so the values stay in registers.
+template <int N, std::size_t... I>
+void apply_network(std::array<double, N>& w, std::index_sequence<I...>) {
+  (compare_exchange(w[z(k_batcher<N>[I].first)], w[z(k_batcher<N>[I].second)]), ...);
+}
+
+// Sorts the first `count` values (count ≤ N, N a power of 2), padding with +inf.
+template <int N, std::size_t M>
+void sort_small(std::array<double, M>& v, int count) {
+  static_assert(M <= static_cast<std::size_t>(N));
+  const std::size_t c = std::min(static_cast<std::size_t>(count), M);
+  std::array<double, N> w;
+  w.fill(INFINITY);
+  std::copy(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(c), w.begin());
+  apply_network<N>(w, std::make_index_sequence<k_batcher<N>.size()>{});
+  std::copy(w.begin(), w.begin() + static_cast<std::ptrdiff_t>(c), v.begin());
+}
+
+// Median of six values, as median_inplace gives it: the mean of the two middle ones.
+double median_of_six(std::array<double, 6> v) {
+  sort_small<8>(v, 6);
+  return (v[2] + v[3]) / 2;
+}
+
 void screen_spikes(Usable& u, double k, double floor) {
   constexpr int k_nb = 6;
   const int m = static_cast<int>(u.t.size());
   u.spike.assign(z(m), 0);
   if (m < k_nb + 1) return;
-  std::vector<double> d(z(m)), nb_sd(z(m));
+  // Scratch reused by each thread: the screen runs once per well.
+  thread_local std::vector<double> d, nb_sd, a, gap_slope;
+  d.resize(z(m));
+  nb_sd.resize(z(m));
+  // Slope of reads (i, i + g), g = 1 … 6: every neighbour pair below lies within 6 reads.
+  gap_slope.resize(z(m) * k_nb);
+  for (int i = 0; i < m; ++i)
+    for (int g = 1; g <= k_nb && i + g < m; ++g)
+      gap_slope[z(i) * k_nb + z(g - 1)] = (u.y[z(i + g)] - u.y[z(i)]) / (u.t[z(i + g)] - u.t[z(i)]);
   std::array<double, k_nb * (k_nb - 1) / 2> slopes{};
-  std::array<double, k_nb> res{};
+  std::array<double, k_nb> res{}, tmp{};
   for (int j = 0; j < m; ++j) {
     const int lo = std::clamp(j - k_nb / 2, 0, m - k_nb - 1);
     std::array<int, k_nb> nb{};
@@ -57,10 +135,9 @@ void screen_spikes(Usable& u, double k, double floor) {
     for (int i = lo; i <= lo + k_nb; ++i)
       if (i != j) nb[z(c++)] = i;
     int ns = 0;
-    for (int a = 0; a < k_nb; ++a)
-      for (int b = a + 1; b < k_nb; ++b)
-        slopes[z(ns++)] = (u.y[z(nb[z(b)])] - u.y[z(nb[z(a)])]) / (u.t[z(nb[z(b)])] - u.t[z(nb[z(a)])]);
-    std::nth_element(slopes.begin(), slopes.begin() + ns / 2, slopes.begin() + ns);
+    for (int p = 0; p < k_nb; ++p)
+      for (int q = p + 1; q < k_nb; ++q) slopes[z(ns++)] = gap_slope[z(nb[z(p)]) * k_nb + z(nb[z(q)] - nb[z(p)] - 1)];
+    sort_small<16>(slopes, ns);
     const double slope = slopes[z(ns / 2)];
     double mt = 0;
     for (int i = 0; i < k_nb; ++i) {
@@ -68,20 +145,19 @@ void screen_spikes(Usable& u, double k, double floor) {
       mt += u.t[z(nb[z(i)])];
     }
     mt /= k_nb;
-    std::vector<double> tmp(res.begin(), res.end());
-    const double icpt = median_inplace(tmp);
+    const double icpt = median_of_six(res);
     double stt = 0;
     for (int i = 0; i < k_nb; ++i) {
       const double dt = u.t[z(nb[z(i)])] - mt;
       stt += dt * dt;
       tmp[z(i)] = std::fabs(res[z(i)] - icpt);
     }
-    nb_sd[z(j)] = 1.4826 * median_inplace(tmp);
+    nb_sd[z(j)] = 1.4826 * median_of_six(tmp);
     const double dt = u.t[z(j)] - mt;
     const double lev = 1.0 / k_nb + dt * dt / stt;
     d[z(j)] = (u.y[z(j)] - (icpt + slope * u.t[z(j)])) / std::sqrt(1 + lev);
   }
-  std::vector<double> a(z(m));
+  a.resize(z(m));
   for (int j = 0; j < m; ++j) a[z(j)] = std::fabs(d[z(j)]);
   u.local_sd = 1.4826 * median_inplace(a);
   const double scale = std::max(u.local_sd, floor);
