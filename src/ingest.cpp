@@ -1,5 +1,6 @@
 #include "vzero/ingest.hpp"
 
+#include <algorithm>
 #include <fmt/format.h>
 #include <optional>
 
@@ -57,15 +58,42 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     return choice;
   }
   // The first lines of the file are enough to tell the shape: a few reads of a wide or
-  // grid export, or a few hundred rows of a long one.
+  // grid export, or a few hundred rows of a long one. At most 400 lines, and no more once
+  // 64 KiB are held besides the longest line (a 1536-well wide export has ~10 KiB lines):
+  // every built-in profile parses this head, so its size is paid five times per file.
   constexpr int k_sniff_lines = 400;
+  constexpr std::size_t k_sniff_bytes = 64 * 1024;
   std::string head;
-  {
-    detail::LineSource src(path);
+  int sniffed = 0;
+  bool capped = false;
+  // Lines from the start of the file; false when `src` ran out at a byte limit (the last
+  // line may then be cut short).
+  auto sniff = [&](detail::LineSource& src) {
+    head.clear();
+    sniffed = 0;
+    capped = false;
     std::string_view line;
-    for (int i = 0; i < k_sniff_lines && src.next(line); ++i) {
+    bool more = true;
+    std::size_t longest = 0;  // one huge line (a long preamble cell) does not count
+    while (sniffed < k_sniff_lines && (more = src.next(line))) {
+      if (head.size() - longest >= k_sniff_bytes) {
+        capped = true;
+        break;
+      }
+      longest = std::max(longest, line.size() + 1);
       head.append(line);
       head.push_back('\n');
+      ++sniffed;
+    }
+    return more || !src.cut();
+  };
+  {
+    // The first MiB is read, not the whole file as a full LineSource does; only when the
+    // lines run past it (lines of 100s of KiB) is the file read again without a limit.
+    detail::LineSource src(path, 1024 * 1024);
+    if (!sniff(src)) {
+      detail::LineSource whole(path);
+      sniff(whole);
     }
   }
   if (detail::trim(head).empty()) {
@@ -86,7 +114,8 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
       if (n > best) {
         best = n;
         choice.profile = p;
-        choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n, k_sniff_lines);
+        choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n,
+                                    capped ? sniffed : k_sniff_lines);
       }
     } catch (const InputError& e) {
       tried += fmt::format("\n    {}: {}", name, e.message());

@@ -45,6 +45,7 @@ struct Counters {
   std::atomic<long long> total = 0;
   long long newlines = 0;               // '\n' seen before the first NUL
   std::atomic<long long> nul_line = 0;  // 1-based line of the first NUL byte, 0 if none seen yet
+  std::atomic<bool> cut = false;        // a byte limit stopped the reading before the end
 };
 
 // A byte source for LineReader that hashes what passes through, counts bytes and finds
@@ -53,13 +54,19 @@ struct Counters {
 // reading thread is joined before next_line() returns the data.
 class HashingSource : public io::ByteSourceBase {
  public:
-  HashingSource(std::FILE* file, std::string_view memory, Counters* c) : file_(file), memory_(memory), c_(c) {}
+  HashingSource(std::FILE* file, std::string_view memory, Counters* c, long long max_bytes = -1)
+      : file_(file), memory_(memory), c_(c), left_(max_bytes) {}
   ~HashingSource() override {
     if (file_) std::fclose(file_);
   }
   int read(char* buffer, int size) override {
     std::size_t n = 0;
-    if (file_) {
+    if (file_ && left_ >= 0) {
+      // A prefix of the file only: stop after max_bytes, noting whether more follows.
+      n = std::fread(buffer, 1, static_cast<std::size_t>(std::min<long long>(size, left_)), file_);
+      left_ -= static_cast<long long>(n);
+      if (left_ == 0 && !c_->cut) c_->cut = std::fgetc(file_) != EOF;
+    } else if (file_) {
       n = std::fread(buffer, 1, static_cast<std::size_t>(size), file_);
     } else {
       n = std::min(memory_.size(), static_cast<std::size_t>(size));
@@ -93,6 +100,7 @@ class HashingSource : public io::ByteSourceBase {
   std::FILE* file_;
   std::string_view memory_;
   Counters* c_;
+  long long left_;  // bytes still allowed from the file; −1 = no limit
   char last_ = 0;  // last byte read
   bool any_ = false;
   bool newline_added_ = false;
@@ -115,6 +123,18 @@ LineSource::LineSource(const std::string& path) : impl_(std::make_unique<Impl>()
   impl_->reader = std::make_unique<io::LineReader>(
       path, std::make_unique<HashingSource>(f, std::string_view{}, &impl_->counters));
 }
+
+LineSource::LineSource(const std::string& path, long long max_bytes) : impl_(std::make_unique<Impl>()), name_(path) {
+  std::FILE* f = std::fopen(path.c_str(), "rb");
+  if (!f) {
+    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
+                     {"check the path and that the file is readable"});
+  }
+  impl_->reader = std::make_unique<io::LineReader>(
+      path, std::make_unique<HashingSource>(f, std::string_view{}, &impl_->counters, std::max(0LL, max_bytes)));
+}
+
+bool LineSource::cut() const { return impl_->counters.cut; }
 
 LineSource::LineSource(std::string name, std::string_view bytes)
     : impl_(std::make_unique<Impl>()), name_(std::move(name)) {

@@ -12,6 +12,9 @@ class LineSource {
  public:
   // Opens `path` read-only. Throws InputError "cannot open PATH: reason".
   explicit LineSource(const std::string& path);
+  // Reads only the first `max_bytes` bytes of `path` (the last line may then be cut short;
+  // cut() tells). For a quick look at the start of a file.
+  LineSource(const std::string& path, long long max_bytes);
   // Reads from memory (tests, fuzzers); `name` is used in messages.
   LineSource(std::string name, std::string_view bytes);
   ~LineSource();
@@ -27,6 +30,8 @@ class LineSource {
   std::string sha256();
   // Bytes consumed so far.
   long long bytes_read() const;
+  // True when a byte limit stopped the reading before the end of the file.
+  bool cut() const;
 
  private:
   struct Impl;
