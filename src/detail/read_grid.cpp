@@ -35,6 +35,10 @@ Run read_grid(ReaderInput in) {
   std::optional<ChannelBuilder> current;
   Layout layout;
   std::vector<Field> fields;
+  std::vector<FieldView> rf;      // a row line's fields (views: no allocation per value)
+  std::string scratch;
+  std::vector<double> vals;       // one read's values and statuses, row by row
+  std::vector<ReadStatus> stats;
   std::string_view line;
   bool pending_line = false;  // `line` must be handled again as an outside line
 
@@ -129,15 +133,14 @@ Run read_grid(ReaderInput in) {
       }
       // Row lines.
       std::vector<int> rows;
-      std::vector<std::vector<double>> vals;
-      std::vector<std::vector<ReadStatus>> stats;
+      vals.clear();  // rows × columns, row by row
+      stats.clear();
       std::vector<int> row_lines;
       std::string_view rl;
       bool more = false;
       while ((more = in.src.next(rl))) {
         if (trim(rl).empty()) break;
-        std::vector<Field> rf;
-        split_fields_into(rl, d, rf);
+        split_views_into(rl, d, rf, scratch);
         auto row = parse_row_label(rf[0].text);
         if (!row) {
           line = rl;
@@ -163,14 +166,15 @@ Run read_grid(ReaderInput in) {
         }
         rows.push_back(*row);
         row_lines.push_back(rln);
-        vals.emplace_back(cols.size());
-        stats.emplace_back(cols.size());
+        const std::size_t at = vals.size();
+        vals.resize(at + cols.size(), 0.0);
+        stats.resize(at + cols.size(), ReadStatus::missing);
         for (std::size_t c = 0; c < cols.size(); ++c) {
           double v = 0;
-          switch (read_cell(p, rf[c + 1].text, v)) {
-            case CellKind::number: vals.back()[c] = v; stats.back()[c] = ReadStatus::ok; break;
-            case CellKind::overflow: stats.back()[c] = ReadStatus::overflow; break;
-            case CellKind::missing: stats.back()[c] = ReadStatus::missing; break;
+          switch (read_cell(in.cp, rf[c + 1].text, v)) {
+            case CellKind::number: vals[at + c] = v; stats[at + c] = ReadStatus::ok; break;
+            case CellKind::overflow: stats[at + c] = ReadStatus::overflow; break;
+            case CellKind::missing: stats[at + c] = ReadStatus::missing; break;
             case CellKind::bad:
               bad_value_error(p, file, rln, rf[c + 1].column, rl, rf[c + 1].text,
                               "well " + well_name(WellId{*row, cols[c]}));
@@ -202,7 +206,7 @@ Run read_grid(ReaderInput in) {
       int read = current->add_read(b.time_s, b.temp_c, Where{file, ln, 1, b.label_text});
       for (std::size_t r = 0; r < rows.size(); ++r)
         for (std::size_t c = 0; c < cols.size(); ++c)
-          current->set(read, static_cast<int>(r * cols.size() + c), vals[r][c], stats[r][c]);
+          current->set(read, static_cast<int>(r * cols.size() + c), vals[r * cols.size() + c], stats[r * cols.size() + c]);
     }
   }
 end_of_input:

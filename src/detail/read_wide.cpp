@@ -23,8 +23,9 @@ struct Header {
 };
 
 bool matches_any(std::string_view text, const std::vector<std::string>& names) {
+  const std::string_view t = trim(text);
   for (const auto& n : names)
-    if (iequals(trim(text), n)) return true;
+    if (iequals(t, n)) return true;
   return false;
 }
 
@@ -45,7 +46,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   h.line = line_no;
   h.time_col = time_col;
   h.time_unit = unit_in_header(fields[static_cast<std::size_t>(time_col)].text).value_or(p.time_unit);
-  std::vector<std::pair<WellId, int>> seen;
+  std::vector<int> seen_at(32 * 48, 0);  // field where each well was first seen, 0 = not yet
   for (std::size_t i = 0; i < fields.size(); ++i) {
     std::string_view name = trim(fields[i].text);
     int col = static_cast<int>(i);
@@ -57,15 +58,14 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.roles.push_back(ColumnRole::temperature);
       h.slot.push_back(-1);
     } else if (auto w = parse_well(name)) {
-      for (const auto& [prev, prev_field] : seen) {
-        if (prev == *w) {
-          throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
-                           fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w),
-                                       prev_field, i + 1),
-                           {"remove or rename the duplicated column"});
-        }
+      int& prev_field = seen_at[static_cast<std::size_t>(w->row * 48 + w->column)];
+      if (prev_field != 0) {
+        throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
+                         fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w),
+                                     prev_field, i + 1),
+                         {"remove or rename the duplicated column"});
       }
-      seen.emplace_back(*w, static_cast<int>(i) + 1);
+      prev_field = static_cast<int>(i) + 1;
       h.roles.push_back(ColumnRole::well);
       h.slot.push_back(static_cast<int>(h.wells.size()));
       h.wells.push_back(*w);
@@ -93,6 +93,8 @@ Run read_wide(ReaderInput in) {
   std::optional<Header> header;
   std::optional<ChannelBuilder> current;
   std::vector<Field> fields;
+  std::vector<FieldView> fields_v;  // data lines: views, no allocation per value
+  std::string scratch;
   std::string_view line;
 
   auto close_block = [&]() {
@@ -124,15 +126,15 @@ Run read_wide(ReaderInput in) {
         section = *s;
         continue;
       }
-      split_fields_into(line, header->delimiter, fields);
+      split_views_into(line, header->delimiter, fields_v, scratch);
       auto tcol = static_cast<std::size_t>(header->time_col);
       std::optional<double> t;
-      if (tcol < fields.size()) t = parse_time(fields[tcol].text, header->time_unit, p.decimal);
+      if (tcol < fields_v.size()) t = parse_time(fields_v[tcol].text, header->time_unit, p.decimal);
       if (!t) {
-        if (fields.size() == header->roles.size()) {
-          throw InputError(Where{file, ln, tcol < fields.size() ? fields[tcol].column : 1, std::string(line)},
+        if (fields_v.size() == header->roles.size()) {
+          throw InputError(Where{file, ln, tcol < fields_v.size() ? fields_v[tcol].column : 1, std::string(line)},
                            fmt::format("expected a read time, found \"{}\"",
-                                       tcol < fields.size() ? std::string(trim(fields[tcol].text)) : std::string()),
+                                       tcol < fields_v.size() ? std::string(trim(fields_v[tcol].text)) : std::string()),
                            {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss",
                             "end the data block with an empty line before any trailing text"});
         }
@@ -142,35 +144,35 @@ Run read_wide(ReaderInput in) {
         continue;
       }
       std::size_t expected = header->roles.size();
-      if (fields.size() == expected + 1 && trim(fields.back().text).empty()) fields.pop_back();
-      if (fields.size() != expected) {
+      if (fields_v.size() == expected + 1 && trim(fields_v.back().text).empty()) fields_v.pop_back();
+      if (fields_v.size() != expected) {
         if (in.prefix_only) break;
-        int col = fields.size() > expected ? fields[expected].column : static_cast<int>(line.size()) + 1;
+        int col = fields_v.size() > expected ? fields_v[expected].column : static_cast<int>(line.size()) + 1;
         throw InputError(Where{file, ln, col, std::string(line)},
                          fmt::format("expected {} fields as in the header at line {}, found {}", expected,
-                                     header->line, fields.size()),
+                                     header->line, fields_v.size()),
                          {"check for a truncated or extra field; a file cut off mid-row must be re-exported or "
                           "the incomplete last line deleted"});
       }
       double temp = std::nan("");
       if (header->temp_col >= 0) {
-        const auto& f = fields[static_cast<std::size_t>(header->temp_col)];
+        const auto& f = fields_v[static_cast<std::size_t>(header->temp_col)];
         double v = 0;
-        CellKind k = read_cell(p, f.text, v);
+        CellKind k = read_cell(in.cp, f.text, v);
         if (k == CellKind::number) temp = v;
         else if (k == CellKind::bad)
           bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
       }
-      int read = current->add_read(*t, temp, Where{file, ln, fields[tcol].column, std::string(line)});
-      for (std::size_t i = 0; i < fields.size(); ++i) {
+      int read = current->add_read(*t, temp, Where{file, ln, fields_v[tcol].column, std::string(line)});
+      for (std::size_t i = 0; i < fields_v.size(); ++i) {
         if (header->roles[i] != ColumnRole::well) continue;
         double v = 0;
-        switch (read_cell(p, fields[i].text, v)) {
+        switch (read_cell(in.cp, fields_v[i].text, v)) {
           case CellKind::number: current->set(read, header->slot[i], v, ReadStatus::ok); break;
           case CellKind::overflow: current->set(read, header->slot[i], 0, ReadStatus::overflow); break;
           case CellKind::missing: current->set(read, header->slot[i], 0, ReadStatus::missing); break;
           case CellKind::bad:
-            bad_value_error(p, file, ln, fields[i].column, line, fields[i].text,
+            bad_value_error(p, file, ln, fields_v[i].column, line, fields_v[i].text,
                             "well " + well_name(header->wells[static_cast<std::size_t>(header->slot[i])]));
         }
       }

@@ -26,6 +26,18 @@ std::vector<Field> split_fields(std::string_view line, char delimiter, bool* unc
 void split_fields_into(std::string_view line, char delimiter, std::vector<Field>& out,
                        bool* unclosed_quote = nullptr);
 
+// A field as a view: into the line itself, or (quoted fields with "" or text after the
+// closing quote) into a scratch buffer. Valid while the line and the scratch are.
+struct FieldView {
+  std::string_view text;
+  int column = 1;
+};
+
+// split_fields_into without allocating per field: the same texts and columns, as views.
+// `scratch` holds unescaped quoted fields; it is reset on each call.
+void split_views_into(std::string_view line, char delimiter, std::vector<FieldView>& out, std::string& scratch,
+                      bool* unclosed_quote = nullptr);
+
 // Parses a decimal number with std::from_chars (locale-independent). `decimal` is '.' or
 // ','; with ',' the text "1,5" reads as 1.5. Surrounding blanks are ignored; "+1" is
 // accepted; "nan", "inf" and anything with trailing text are rejected.
