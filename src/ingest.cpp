@@ -25,6 +25,16 @@ Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only) 
   return run;
 }
 
+// The built-in profiles, parsed once per process: detection tries each on every file.
+const std::vector<Profile>& builtin_profiles() {
+  static const std::vector<Profile> all = [] {
+    std::vector<Profile> v;
+    for (const auto& name : builtin_profile_names()) v.push_back(load_profile(name));
+    return v;
+  }();
+  return all;
+}
+
 long long ok_values(const Run& run) {
   long long n = 0;
   for (const auto& c : run.channels)
@@ -104,8 +114,11 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   // The error of the profile that got furthest into the file (a line, not "found no header").
   std::optional<InputError> furthest;
   std::string furthest_name;
-  for (const auto& name : builtin_profile_names()) {
-    Profile p = load_profile(name);
+  const auto& names = builtin_profile_names();
+  const auto& profiles = builtin_profiles();
+  for (std::size_t k = 0; k < names.size(); ++k) {
+    const std::string& name = names[k];
+    const Profile& p = profiles[k];
     try {
       detail::LineSource src(path, head);
       Run run = dispatch(src, p, true);

@@ -1,14 +1,14 @@
 #include "detail/line_source.hpp"
 
-#include <libfccp/csv.h>
 #include <openssl/evp.h>
 
 #include <algorithm>
-#include <atomic>
+#include <cstdint>
 #include <cerrno>
 #include <cstdio>
 #include <cstring>
 #include <limits>
+#include <vector>
 #include <fmt/format.h>
 
 #include "vzero/error.hpp"
@@ -38,127 +38,157 @@ class Sha256 {
   EVP_MD_CTX* ctx_;
 };
 
-// Written by read() on LineReader's read-ahead thread; `total` and `nul_line` are also read
-// by the caller's thread while a read-ahead may run, hence atomic.
-struct Counters {
-  Sha256 hash;
-  std::atomic<long long> total = 0;
-  long long newlines = 0;               // '\n' seen before the first NUL
-  std::atomic<long long> nul_line = 0;  // 1-based line of the first NUL byte, 0 if none seen yet
-  std::atomic<bool> cut = false;        // a byte limit stopped the reading before the end
-};
+// Lines of 16 MiB or more are refused. A fuzzing build may define a smaller limit (so that
+// the limit and the buffer refills are reached by small inputs).
+#ifndef VZERO_MAX_LINE_BYTES
+#define VZERO_MAX_LINE_BYTES (1 << 24)
+#endif
+constexpr std::size_t k_max_line = VZERO_MAX_LINE_BYTES;
+constexpr std::size_t k_chunk = std::min<std::size_t>(std::size_t{1} << 20, k_max_line);  // bytes read at a time
 
-// A byte source for LineReader that hashes what passes through, counts bytes and finds
-// the first NUL byte (LineReader hands out C strings, so a NUL would silently cut a line).
-// LineReader may call read() from its read-ahead thread; calls never overlap, and the
-// reading thread is joined before next_line() returns the data.
-class HashingSource : public io::ByteSourceBase {
- public:
-  HashingSource(std::FILE* file, std::string_view memory, Counters* c, long long max_bytes = -1)
-      : file_(file), memory_(memory), c_(c), left_(max_bytes) {}
-  ~HashingSource() override {
-    if (file_) std::fclose(file_);
+// True when no byte has its top bit set (8 bytes at a time).
+bool all_ascii(std::string_view s) {
+  std::size_t i = 0;
+  std::uint64_t bits = 0;
+  for (; i + 8 <= s.size(); i += 8) {
+    std::uint64_t w = 0;
+    std::memcpy(&w, s.data() + i, 8);
+    bits |= w;
   }
-  int read(char* buffer, int size) override {
-    std::size_t n = 0;
-    if (file_ && left_ >= 0) {
-      // A prefix of the file only: stop after max_bytes, noting whether more follows.
-      n = std::fread(buffer, 1, static_cast<std::size_t>(std::min<long long>(size, left_)), file_);
-      left_ -= static_cast<long long>(n);
-      if (left_ == 0 && !c_->cut) c_->cut = std::fgetc(file_) != EOF;
-    } else if (file_) {
-      n = std::fread(buffer, 1, static_cast<std::size_t>(size), file_);
-    } else {
-      n = std::min(memory_.size(), static_cast<std::size_t>(size));
-      std::memcpy(buffer, memory_.data(), n);
-      memory_.remove_prefix(n);
-    }
-    c_->hash.update(buffer, n);
-    c_->total += static_cast<long long>(n);
-    if (c_->nul_line == 0) {
-      const char* nul = static_cast<const char*>(std::memchr(buffer, '\0', n));
-      const char* end = nul ? nul : buffer + n;
-      c_->newlines += std::count(static_cast<const char*>(buffer), end, '\n');
-      if (nul) c_->nul_line = c_->newlines + 1;
-    }
-    if (n > 0) {
-      last_ = buffer[n - 1];
-      any_ = true;
-    }
-    // LineReader reads one byte past the data when the last line has no '\n': if that
-    // stale byte is a '\n' left from an earlier block, it returns lines that are not in the
-    // file and then waits forever for its read-ahead thread. So the data always ends with
-    // a '\n': one is added (not hashed, not counted) when the file lacks it.
-    if (n < static_cast<std::size_t>(size) && !newline_added_ && any_ && last_ != '\n') {
-      buffer[n++] = '\n';
-      newline_added_ = true;
-    }
-    return static_cast<int>(n);
-  }
-
- private:
-  std::FILE* file_;
-  std::string_view memory_;
-  Counters* c_;
-  long long left_;  // bytes still allowed from the file; −1 = no limit
-  char last_ = 0;  // last byte read
-  bool any_ = false;
-  bool newline_added_ = false;
-};
+  for (; i < s.size(); ++i) bits |= static_cast<unsigned char>(s[i]);
+  return (bits & 0x8080808080808080ULL) == 0;
+}
 
 }  // namespace
 
+// The bytes pass through one buffer: read a chunk at a time, hashed as they arrive, split
+// at '\n' with memchr. The stream behaves as if it ended with '\n' (one is supplied, not
+// hashed, when the file lacks it), a UTF-8 BOM at the start is skipped, and a '\r' before
+// the '\n' is dropped. The first NUL byte's line is noted as it is read.
 struct LineSource::Impl {
-  Counters counters;
-  std::unique_ptr<io::LineReader> reader;
-  bool done = false;
+  std::FILE* file = nullptr;
+  std::string_view memory;  // the bytes, when reading from memory
+  long long left = -1;      // bytes still allowed from the file; −1 = no limit
+  Sha256 hash;
+  long long total = 0;      // bytes read and hashed
+  long long newlines = 0;   // '\n' seen before the first NUL
+  long long nul_line = 0;   // 1-based line of the first NUL byte, 0 if none seen yet
+  bool cut = false;         // the byte limit stopped the reading before the end
+  std::unique_ptr<char[]> buf;  // not a vector: growing it must not clear it
+  std::size_t capacity = 0;
+  std::size_t begin = 0, end = 0, scanned = 0;  // unread bytes [begin, end); no '\n' in [begin, scanned)
+  bool eof = false, started = false, done = false;
+  char last = 0;
+  bool any = false;
+
+  ~Impl() {
+    if (file) std::fclose(file);
+  }
+
+  // Reads the next chunk after the unread bytes; false at the end of the input.
+  bool fill() {
+    if (eof) return false;
+    if (begin > 0) {
+      std::memmove(buf.get(), buf.get() + begin, end - begin);
+      end -= begin;
+      scanned -= begin;
+      begin = 0;
+    }
+    if (capacity < end + k_chunk + 1) {
+      const std::size_t grown = std::max(end + k_chunk + 1, 2 * capacity);
+      auto bigger = std::make_unique_for_overwrite<char[]>(grown);
+      if (end > 0) std::memcpy(bigger.get(), buf.get(), end);
+      buf = std::move(bigger);
+      capacity = grown;
+    }
+    char* at = buf.get() + end;
+    std::size_t n = 0;
+    if (file && left >= 0) {
+      // A prefix of the file only: stop after max_bytes, noting whether more follows.
+      // (in small steps: a quick look reads only what it looks at)
+      n = std::fread(at, 1, static_cast<std::size_t>(std::min<long long>(std::min<long long>(k_chunk, 1 << 16), left)), file);
+      left -= static_cast<long long>(n);
+      if (left == 0 && !cut) cut = std::fgetc(file) != EOF;
+    } else if (file) {
+      n = std::fread(at, 1, k_chunk, file);
+    } else {
+      n = std::min(memory.size(), k_chunk);
+      std::memcpy(at, memory.data(), n);
+      memory.remove_prefix(n);
+    }
+    hash.update(at, n);
+    total += static_cast<long long>(n);
+    if (nul_line == 0) {
+      const char* nul = static_cast<const char*>(std::memchr(at, '\0', n));
+      const char* stop = nul ? nul : at + n;
+      newlines += std::count(static_cast<const char*>(at), stop, '\n');
+      if (nul) nul_line = newlines + 1;
+    }
+    if (n > 0) {
+      last = at[n - 1];
+      any = true;
+      end += n;
+      return true;
+    }
+    eof = true;
+    if (any && last != '\n') buf[end++] = '\n';  // the file lacks a final '\n'
+    return end > begin;
+  }
+
+  // The next line without its '\n' (and a '\r' before it); false at the end. Throws for a
+  // line of 16 MiB or more, every time it is asked (the reading cannot step over it).
+  bool raw_next(std::string_view& line, const std::string& name, int line_no) {
+    if (!started) {
+      started = true;
+      while (end - begin < 3 && fill()) {
+      }
+      if (end - begin >= 3 && buf[begin] == '\xEF' && buf[begin + 1] == '\xBB' && buf[begin + 2] == '\xBF') begin += 3;
+      scanned = begin;
+    }
+    while (true) {
+      const char* nl = static_cast<const char*>(std::memchr(buf.get() + scanned, '\n', end - scanned));
+      const std::size_t length = nl ? static_cast<std::size_t>(nl - (buf.get() + begin)) : end - begin;
+      if (length + 1 > k_max_line) {
+        throw InputError(Where{name, line_no + 1}, "line is longer than 16 MiB (the longest line vzero reads)",
+                         {"check that this is a text export and not a binary file"});
+      }
+      if (nl) {
+        line = std::string_view(buf.get() + begin, length);
+        if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+        begin += length + 1;
+        scanned = begin;
+        return true;
+      }
+      scanned = end;
+      if (!fill()) return false;
+    }
+  }
 };
 
 LineSource::LineSource(const std::string& path) : impl_(std::make_unique<Impl>()), name_(path) {
-  std::FILE* f = std::fopen(path.c_str(), "rb");
-  if (!f) {
+  impl_->file = std::fopen(path.c_str(), "rb");
+  if (!impl_->file) {
     throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
                      {"check the path and that the file is readable"});
   }
-  impl_->reader = std::make_unique<io::LineReader>(
-      path, std::make_unique<HashingSource>(f, std::string_view{}, &impl_->counters));
 }
 
-LineSource::LineSource(const std::string& path, long long max_bytes) : impl_(std::make_unique<Impl>()), name_(path) {
-  std::FILE* f = std::fopen(path.c_str(), "rb");
-  if (!f) {
-    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
-                     {"check the path and that the file is readable"});
-  }
-  impl_->reader = std::make_unique<io::LineReader>(
-      path, std::make_unique<HashingSource>(f, std::string_view{}, &impl_->counters, std::max(0LL, max_bytes)));
+LineSource::LineSource(const std::string& path, long long max_bytes) : LineSource(path) {
+  impl_->left = std::max(0LL, max_bytes);
 }
 
-bool LineSource::cut() const { return impl_->counters.cut; }
+bool LineSource::cut() const { return impl_->cut; }
 
 LineSource::LineSource(std::string name, std::string_view bytes)
     : impl_(std::make_unique<Impl>()), name_(std::move(name)) {
-  impl_->reader =
-      std::make_unique<io::LineReader>(name_, std::make_unique<HashingSource>(nullptr, bytes, &impl_->counters));
+  impl_->memory = bytes;
 }
 
 LineSource::~LineSource() = default;
 
-// LineReader's next line; its line-limit exception becomes an InputError. LineReader cannot
-// step over such a line, so every later call must fail the same way, never loop.
-static char* next_raw(io::LineReader& reader, const std::string& name, int line) {
-  try {
-    return reader.next_line();
-  } catch (const io::error::line_length_limit_exceeded&) {
-    throw InputError(Where{name, line + 1}, "line is longer than 16 MiB (the longest line vzero reads)",
-                     {"check that this is a text export and not a binary file"});
-  }
-}
-
 bool LineSource::next(std::string_view& line) {
   if (impl_->done) return false;
-  char* p = next_raw(*impl_->reader, name_, line_);
-  if (!p) {
+  if (!impl_->raw_next(line, name_, line_)) {
     impl_->done = true;
     return false;
   }
@@ -167,17 +197,16 @@ bool LineSource::next(std::string_view& line) {
                      {"split the export into smaller files"});
   }
   ++line_;
-  if (impl_->counters.nul_line != 0 && line_ >= impl_->counters.nul_line) {
-    // LineReader hands out C strings, so this line's text stops at the NUL.
-    int column = line_ == impl_->counters.nul_line ? static_cast<int>(std::strlen(p)) + 1 : 0;
+  if (impl_->nul_line != 0 && line_ >= impl_->nul_line) {
+    // The line's text is taken to stop at the NUL.
+    const auto nul = line.find('\0');
+    int column = line_ == impl_->nul_line ? static_cast<int>(nul == std::string_view::npos ? line.size() : nul) + 1 : 0;
     throw InputError(Where{name_, line_, column}, "found a NUL byte; this is not a text export",
                      {"export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8"});
   }
-  line = std::string_view(p, std::strlen(p));
   if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
   // Fast path: pure ASCII lines need no UTF-8 check.
-  bool ascii = std::all_of(line.begin(), line.end(), [](char c) { return static_cast<unsigned char>(c) < 0x80; });
-  if (!ascii) {
+  if (!all_ascii(line)) {
     std::size_t bad = first_invalid_utf8(line);
     if (bad != std::string_view::npos) {
       throw InputError(Where{name_, line_, static_cast<int>(bad) + 1, std::string(line)},
@@ -190,14 +219,15 @@ bool LineSource::next(std::string_view& line) {
 
 std::string LineSource::sha256() {
   // Drain the rest without validating it: the digest covers every byte.
+  std::string_view ignored;
   while (!impl_->done) {
-    if (!next_raw(*impl_->reader, name_, line_)) impl_->done = true;
+    if (!impl_->raw_next(ignored, name_, line_)) impl_->done = true;
     else ++line_;
   }
-  return impl_->counters.hash.hex();
+  return impl_->hash.hex();
 }
 
-long long LineSource::bytes_read() const { return impl_->counters.total; }
+long long LineSource::bytes_read() const { return impl_->total; }
 
 std::string sha256_of_file(const std::string& path) {
   LineSource src(path);

@@ -1,5 +1,6 @@
-// Reads a text file line by line (fast-cpp-csv-parser's LineReader) while hashing every
-// byte with SHA-256 and noticing NUL bytes, so the readers stream a file once.
+// Reads a text file line by line while hashing every byte with SHA-256 and noticing NUL
+// bytes, so the readers stream a file once. (It follows the line rules of fast-cpp-csv-
+// parser's LineReader, which it replaced: one buffer, no read-ahead thread, memchr.)
 #pragma once
 
 #include <memory>
