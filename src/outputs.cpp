@@ -12,16 +12,49 @@ namespace vzero {
 namespace {
 
 void put(fmt::memory_buffer& b, std::string_view s) { b.append(s.data(), s.data() + s.size()); }
-void put_field(fmt::memory_buffer& b, std::string_view s) { put(b, csv_field(s)); }
-void put_num(fmt::memory_buffer& b, double v) { put(b, format_number(v)); }
-
-std::string join_flags(const std::vector<std::string>& f) {
-  std::string out;
-  for (const auto& x : f) {
-    if (!out.empty()) out += ';';
-    out += x;
+// csv_field and format_number, written straight into the buffer (no string per value).
+void put_field(fmt::memory_buffer& b, std::string_view s) {
+  if (s.find_first_of(",;\"\r\n\t") == std::string_view::npos) {
+    put(b, s);
+    return;
   }
-  return out;
+  b.push_back('"');
+  for (char c : s) {
+    if (c == '"') b.push_back('"');
+    b.push_back(c);
+  }
+  b.push_back('"');
+}
+void put_num(fmt::memory_buffer& b, double v) {
+  if (std::isnan(v)) return;
+  if (v == 0) put(b, "0");  // also for -0
+  else fmt::format_to(std::back_inserter(b), "{}", v);
+}
+void put_int(fmt::memory_buffer& b, long long v) { fmt::format_to(std::back_inserter(b), "{}", v); }
+void put_well(fmt::memory_buffer& b, WellId w) {
+  put(b, row_label(w.row));
+  put_int(b, w.column + 1);
+}
+void put_flags(fmt::memory_buffer& b, const std::vector<std::string>& f) {
+  std::size_t length = 0;
+  for (const auto& x : f) length += x.size() + 1;
+  if (length <= 256) {
+    char text[256];
+    std::size_t n = 0;
+    for (const auto& x : f) {
+      if (n) text[n++] = ';';
+      std::copy(x.begin(), x.end(), text + n);
+      n += x.size();
+    }
+    put_field(b, std::string_view(text, n));
+  } else {
+    std::string out;
+    for (const auto& x : f) {
+      if (!out.empty()) out += ';';
+      out += x;
+    }
+    put_field(b, out);
+  }
 }
 
 void header(fmt::memory_buffer& b, const std::vector<FieldSpec>& fields) {
@@ -82,57 +115,71 @@ std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, 
   return f;
 }
 
+namespace {
+
+void rates_rows(fmt::memory_buffer& b, const RunAnalysis& ra, const std::vector<std::string>& map_columns,
+                bool with_activity, bool with_specific) {
+  for (const auto& ca : ra.channels) {
+    for (const auto& r : ca.rows) {
+      put_field(b, ra.run->source); put(b, ",");
+      put_field(b, ca.channel->name); put(b, ",");
+      put_well(b, r.well); put(b, ",");
+      put(b, row_label(r.well.row)); put(b, ",");
+      put_int(b, r.well.column + 1); put(b, ",");
+      put(b, to_string(r.role));
+      for (std::size_t i = 0; i < map_columns.size(); ++i) {
+        put(b, ",");
+        if (r.info && i < r.info->values.size()) put_field(b, r.info->values[i]);
+      }
+      const RateResult& x = r.rate;
+      put(b, ","); put_num(b, r.v0);
+      put(b, ","); put_num(b, r.v0_se);
+      put(b, ","); put_field(b, ca.v0_unit);
+      put(b, ","); put_num(b, r.slope_per_min);
+      put(b, ","); put_field(b, ca.slope_unit);
+      put(b, ","); put_num(b, x.intercept);
+      put(b, ","); put_num(b, x.r2);
+      put(b, ","); put_int(b, x.n_points);
+      put(b, ","); put_int(b, x.n_outliers);
+      put(b, ","); put_num(b, x.t_start_s);
+      put(b, ","); put_num(b, x.t_end_s);
+      put(b, ","); put_num(b, x.conversion * 100);
+      put(b, ","); put(b, to_string(x.estimator));
+      put(b, ","); put_flags(b, r.flags);
+      put(b, ","); put_flags(b, r.notes);
+      put(b, ","); put_num(b, r.v0_ci_low);
+      put(b, ","); put_num(b, r.v0_ci_high);
+      put(b, ","); put(b, to_string(x.window));
+      put(b, ","); put_field(b, x.tangent);
+      put(b, ","); put_field(b, ca.blank.wells[static_cast<std::size_t>(ca.channel->column_of(r.plate_index))].blank_wells);
+      put(b, ","); put_num(b, r.blank_rate_per_min);
+      put(b, ","); put_num(b, r.path_cm);
+      if (with_activity) {
+        put(b, ","); put_num(b, r.activity_u);
+        put(b, ","); put_num(b, r.activity_u * k_nkat_per_unit);
+      }
+      if (with_specific) {
+        put(b, ","); put_num(b, r.specific_activity);
+      }
+      put(b, "\n");
+    }
+  }
+}
+
+}  // namespace
+
 std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
                       bool with_activity, bool with_specific) {
   fmt::memory_buffer b;
   header(b, rate_fields(map_columns, with_activity, with_specific));
-  for (const auto& ra : runs) {
-    for (const auto& ca : ra.channels) {
-      for (const auto& r : ca.rows) {
-        put_field(b, ra.run->source); put(b, ",");
-        put_field(b, ca.channel->name); put(b, ",");
-        put(b, well_name(r.well)); put(b, ",");
-        put(b, row_label(r.well.row)); put(b, ",");
-        put(b, std::to_string(r.well.column + 1)); put(b, ",");
-        put(b, to_string(r.role));
-        for (std::size_t i = 0; i < map_columns.size(); ++i) {
-          put(b, ",");
-          if (r.info && i < r.info->values.size()) put_field(b, r.info->values[i]);
-        }
-        const RateResult& x = r.rate;
-        put(b, ","); put_num(b, r.v0);
-        put(b, ","); put_num(b, r.v0_se);
-        put(b, ","); put_field(b, ca.v0_unit);
-        put(b, ","); put_num(b, r.slope_per_min);
-        put(b, ","); put_field(b, ca.slope_unit);
-        put(b, ","); put_num(b, x.intercept);
-        put(b, ","); put_num(b, x.r2);
-        put(b, ","); put(b, std::to_string(x.n_points));
-        put(b, ","); put(b, std::to_string(x.n_outliers));
-        put(b, ","); put_num(b, x.t_start_s);
-        put(b, ","); put_num(b, x.t_end_s);
-        put(b, ","); put_num(b, x.conversion * 100);
-        put(b, ","); put(b, to_string(x.estimator));
-        put(b, ","); put_field(b, join_flags(r.flags));
-        put(b, ","); put_field(b, join_flags(r.notes));
-        put(b, ","); put_num(b, r.v0_ci_low);
-        put(b, ","); put_num(b, r.v0_ci_high);
-        put(b, ","); put(b, to_string(x.window));
-        put(b, ","); put_field(b, x.tangent);
-        put(b, ","); put_field(b, ca.blank.wells[static_cast<std::size_t>(ca.channel->column_of(r.plate_index))].blank_wells);
-        put(b, ","); put_num(b, r.blank_rate_per_min);
-        put(b, ","); put_num(b, r.path_cm);
-        if (with_activity) {
-          put(b, ","); put_num(b, r.activity_u);
-          put(b, ","); put_num(b, r.activity_u * k_nkat_per_unit);
-        }
-        if (with_specific) {
-          put(b, ","); put_num(b, r.specific_activity);
-        }
-        put(b, "\n");
-      }
-    }
-  }
+  for (const auto& ra : runs) rates_rows(b, ra, map_columns, with_activity, with_specific);
+  return fmt::to_string(b);
+}
+
+std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string>& map_columns, bool with_activity,
+                           bool with_specific) {
+  fmt::memory_buffer b;
+  rates_rows(b, run, map_columns, with_activity, with_specific);
   return fmt::to_string(b);
 }
 
@@ -151,32 +198,44 @@ std::vector<FieldSpec> trace_fields() {
   };
 }
 
-std::string traces_csv(const std::vector<RunAnalysis>& runs) {
-  fmt::memory_buffer b;
-  header(b, trace_fields());
-  for (const auto& ra : runs) {
-    for (const auto& ca : ra.channels) {
-      const Channel& c = *ca.channel;
-      for (const auto& r : ca.rows) {
-        int j = c.column_of(r.plate_index);
-        double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
-        for (int i = 0; i < c.reads(); ++i) {
-          put_field(b, ra.run->source); put(b, ",");
-          put_field(b, c.name); put(b, ",");
-          put(b, well_name(r.well)); put(b, ",");
-          put_num(b, c.time_s[static_cast<std::size_t>(i)]); put(b, ",");
-          put(b, to_string(ca.blank.status(i, j))); put(b, ",");
-          put_num(b, c.values(i, j)); put(b, ",");
-          put_num(b, ca.blank.blank(i, j)); put(b, ",");
-          put_num(b, ca.blank.corrected(i, j)); put(b, ",");
-          put_num(b, ca.conversion.mode == ConvertMode::signal_only ? NAN : ca.direction_sign * ca.blank.corrected(i, j) * factor);
-          put(b, ",");
-          put(b, !r.rate.used.empty() && r.rate.used[static_cast<std::size_t>(i)] ? "1" : "0");
-          put(b, "\n");
-        }
+namespace {
+
+void trace_rows(fmt::memory_buffer& b, const RunAnalysis& ra) {
+  for (const auto& ca : ra.channels) {
+    const Channel& c = *ca.channel;
+    for (const auto& r : ca.rows) {
+      int j = c.column_of(r.plate_index);
+      double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
+      for (int i = 0; i < c.reads(); ++i) {
+        put_field(b, ra.run->source); put(b, ",");
+        put_field(b, c.name); put(b, ",");
+        put_well(b, r.well); put(b, ",");
+        put_num(b, c.time_s[static_cast<std::size_t>(i)]); put(b, ",");
+        put(b, to_string(ca.blank.status(i, j))); put(b, ",");
+        put_num(b, c.values(i, j)); put(b, ",");
+        put_num(b, ca.blank.blank(i, j)); put(b, ",");
+        put_num(b, ca.blank.corrected(i, j)); put(b, ",");
+        put_num(b, ca.conversion.mode == ConvertMode::signal_only ? NAN : ca.direction_sign * ca.blank.corrected(i, j) * factor);
+        put(b, ",");
+        put(b, !r.rate.used.empty() && r.rate.used[static_cast<std::size_t>(i)] ? "1" : "0");
+        put(b, "\n");
       }
     }
   }
+}
+
+}  // namespace
+
+std::string traces_csv(const std::vector<RunAnalysis>& runs) {
+  fmt::memory_buffer b;
+  header(b, trace_fields());
+  for (const auto& ra : runs) trace_rows(b, ra);
+  return fmt::to_string(b);
+}
+
+std::string traces_csv_rows(const RunAnalysis& run) {
+  fmt::memory_buffer b;
+  trace_rows(b, run);
   return fmt::to_string(b);
 }
 

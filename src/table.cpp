@@ -138,6 +138,10 @@ std::string format_number(double v) {
 }
 
 void write_file_atomic(const std::string& path, std::string_view content) {
+  write_file_atomic(path, std::vector<std::string_view>{content});
+}
+
+void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts) {
   namespace fs = std::filesystem;
   fs::path target(path);
   std::error_code ec;
@@ -147,11 +151,13 @@ void write_file_atomic(const std::string& path, std::string_view content) {
     int dfd = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
     int err = 0;
     if (dfd < 0) err = errno;
-    for (std::size_t off = 0; err == 0 && off < content.size();) {
-      ssize_t n = ::write(dfd, content.data() + off, content.size() - off);
-      if (n < 0 && errno == EINTR) continue;
-      if (n < 0) err = errno;
-      else off += static_cast<std::size_t>(n);
+    for (std::string_view content : parts) {
+      for (std::size_t off = 0; err == 0 && off < content.size();) {
+        ssize_t n = ::write(dfd, content.data() + off, content.size() - off);
+        if (n < 0 && errno == EINTR) continue;
+        if (n < 0) err = errno;
+        else off += static_cast<std::size_t>(n);
+      }
     }
     if (dfd >= 0 && ::close(dfd) != 0 && err == 0) err = errno;
     if (err != 0) {
@@ -186,16 +192,18 @@ void write_file_atomic(const std::string& path, std::string_view content) {
     tmp.clear();
     fail(err);
   }
-  const char* p = content.data();
-  std::size_t left = content.size();
-  while (left > 0) {
-    ssize_t n = ::write(fd, p, left);
-    if (n < 0) {
-      if (errno == EINTR) continue;
-      fail(errno);
+  for (std::string_view content : parts) {
+    const char* p = content.data();
+    std::size_t left = content.size();
+    while (left > 0) {
+      ssize_t n = ::write(fd, p, left);
+      if (n < 0) {
+        if (errno == EINTR) continue;
+        fail(errno);
+      }
+      p += n;
+      left -= static_cast<std::size_t>(n);
     }
-    p += n;
-    left -= static_cast<std::size_t>(n);
   }
   if (::fsync(fd) != 0 && errno != EINVAL) fail(errno);
   if (::close(fd) != 0) {

@@ -42,8 +42,13 @@ std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, 
 std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
                       bool with_activity, bool with_specific = false);
 
+// The rows of one run without the header line (batches format each run as it finishes).
+std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string>& map_columns, bool with_activity,
+                           bool with_specific = false);
+
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);
+std::string traces_csv_rows(const RunAnalysis& run);
 
 std::vector<FieldSpec> summary_fields(const SummaryTable& s);
 std::string summary_csv(const SummaryTable& s);

@@ -48,5 +48,7 @@ std::string format_number(double v);
 // so readers see the old file or the new one, never a partial one. Throws InputError
 // "cannot write PATH: reason" (disk full, folder missing or read-only).
 void write_file_atomic(const std::string& path, std::string_view content);
+// The same for content held in several pieces, written one after the other.
+void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts);
 
 }  // namespace vzero

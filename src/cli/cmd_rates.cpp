@@ -1,6 +1,10 @@
 // vzero rates: blank, convert and find the initial rate of every well.
+#include <unistd.h>
+
 #include <boost/program_options.hpp>
+#include <chrono>
 #include <cmath>
+#include <cstdio>
 #include <filesystem>
 #include <fmt/format.h>
 #include <map>
@@ -10,6 +14,7 @@
 #include "cli/rates_settings.hpp"
 #include "detail/line_source.hpp"
 #include "vzero/analysis.hpp"
+#include "vzero/batch.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 #include "vzero/outputs.hpp"
@@ -21,6 +26,41 @@
 namespace vzero::cli {
 
 namespace {
+
+// "37/100 files, 61,000 wells/s, 0:02 left" on one terminal line of stderr, rewritten at
+// most ten times a second and wiped at the end; nothing when off (stderr not a terminal,
+// --quiet, or a single file).
+class ProgressLine {
+ public:
+  explicit ProgressLine(bool on) : on_(on) {}
+  std::function<void(const BatchProgress&)> callback() {
+    if (!on_) return {};
+    return [this](const BatchProgress& p) {
+      const auto now = std::chrono::steady_clock::now();
+      if (p.files_done < p.files_total && now - last_ < std::chrono::milliseconds(100)) return;
+      last_ = now;
+      const double rate = p.elapsed_s > 0 ? static_cast<double>(p.wells_done) / p.elapsed_s : 0.0;
+      const double left = p.files_done > 0 ? p.elapsed_s / p.files_done * (p.files_total - p.files_done) : 0.0;
+      const auto secs = static_cast<long>(std::lround(left));
+      std::string text = fmt::format("\r{}/{} files, {:.0f} wells/s, {}:{:02} left", p.files_done, p.files_total, rate,
+                                     secs / 60, secs % 60);
+      width_ = std::max(width_, text.size());
+      text.resize(width_, ' ');
+      std::fputs(text.c_str(), stderr);
+      std::fflush(stderr);
+    };
+  }
+  void finish() {
+    if (!on_ || width_ == 0) return;
+    std::fputs(("\r" + std::string(width_, ' ') + "\r").c_str(), stderr);
+    std::fflush(stderr);
+  }
+
+ private:
+  bool on_;
+  std::size_t width_ = 0;
+  std::chrono::steady_clock::time_point last_{};
+};
 
 constexpr const char* k_usage = R"(usage: vzero rates FILE... --layout MAP.csv [options]
 
@@ -68,22 +108,29 @@ int cmd_rates(const Args& args) {
   prov.inputs.push_back({"plate-map", s.layout, detail::sha256_of_file(s.layout), "", ""});
   if (!s.method.empty()) prov.inputs.push_back({"method", s.method, detail::sha256_of_file(s.method), "", ""});
 
-  std::vector<Run> runs;
-  runs.reserve(s.files.size());
-  for (const auto& f : s.files) {
-    ProfileChoice choice = choose_profile(f, s.profile);
-    if (choice.detected) prov.detected.emplace_back("profile:" + f, choice.profile.name);
-    runs.push_back(read_run(f, choice.profile));
-    check_plate_map(map, runs.back());
-    prov.inputs.push_back({"export", f, runs.back().sha256, runs.back().profile, runs.back().shape});
-    if (choice.profile.source != "built-in")
-      prov.inputs.push_back({"profile", choice.profile.source, detail::sha256_of_file(choice.profile.source), "", ""});
-  }
-  std::vector<RunAnalysis> analyses;
-  for (const auto& r : runs) analyses.push_back(analyse_run(r, map, s.analysis));
-
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
+  // Files run in parallel, one per thread; each keeps only its results once its rows are
+  // formatted, unless the report needs the reads.
+  BatchOptions batch;
+  batch.profile = s.profile;
+  batch.analysis = s.analysis;
+  batch.map_columns = map.columns;
+  batch.with_activity = with_activity;
+  batch.with_specific = with_specific;
+  batch.trace_rows = !s.traces.empty();
+  batch.keep_data = !s.report.empty();
+  ProgressLine meter(!s.quiet && s.files.size() > 1 && isatty(STDERR_FILENO));
+  std::vector<BatchFile> files = analyse_files(s.files, map, batch, meter.callback());
+  meter.finish();
+  std::vector<RunAnalysis> analyses;
+  for (auto& f : files) {
+    if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape});
+    if (f.choice.profile.source != "built-in")
+      prov.inputs.push_back({"profile", f.choice.profile.source, detail::sha256_of_file(f.choice.profile.source), "", ""});
+    analyses.push_back(std::move(f.analysis));
+  }
   namespace fs = std::filesystem;
   fs::path out_dir = fs::path(s.output).parent_path();
   std::vector<PackagedTable> tables;
@@ -92,10 +139,18 @@ int cmd_rates(const Args& args) {
     fs::path r = fs::relative(fs::absolute(p), fs::absolute(out_dir.empty() ? "." : out_dir), ec);
     return ec || r.empty() ? p : r.string();
   };
-  write_file_atomic(s.output, rates_csv(analyses, map.columns, with_activity, with_specific));
+  {
+    const std::string head = rates_csv({}, map.columns, with_activity, with_specific);
+    std::vector<std::string_view> parts{head};
+    for (const auto& f : files) parts.emplace_back(f.rates_rows);
+    write_file_atomic(s.output, parts);
+  }
   tables.push_back({"rates", rel(s.output), rate_fields(map.columns, with_activity, with_specific)});
   if (!s.traces.empty()) {
-    write_file_atomic(s.traces, traces_csv(analyses));
+    const std::string head = traces_csv({});
+    std::vector<std::string_view> parts{head};
+    for (const auto& f : files) parts.emplace_back(f.trace_rows);
+    write_file_atomic(s.traces, parts);
     tables.push_back({"traces", rel(s.traces), trace_fields()});
   }
   SummaryTable summary = summarise(analyses, map.columns, s.leave_out);

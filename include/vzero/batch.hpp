@@ -1,0 +1,63 @@
+// Many exports through the pipeline at once: each file is read (profile given or detected),
+// checked against the plate map, analysed and formatted on one thread of a fixed pool, so
+// that a batch of plates uses every core and holds about one plate per thread, not the whole
+// batch. Results come back in the order of the files, whatever the thread count; with one
+// file its wells are spread over the threads instead.
+//
+// Errors: the file that fails first in the list decides (its InputError or UsageError is
+// rethrown once the pool has stopped); files after it are not started.
+//
+// **Example**:
+//   vzero::BatchOptions opt;                     // detect each file's profile, all cores
+//   opt.map_columns = map.columns;
+//   auto files = vzero::analyse_files({"p1.csv", "p2.csv"}, map, opt);
+//   for (const auto& f : files) out += f.rates_rows;   // rates.csv without its header
+#pragma once
+
+#include <functional>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "vzero/analysis.hpp"
+#include "vzero/ingest.hpp"
+#include "vzero/plate_map.hpp"
+
+namespace vzero {
+
+struct BatchOptions {
+  std::string profile;                   // built-in name or .toml path for every file; "" = detect per file
+  AnalysisOptions analysis;              // analysis.threads is the pool size (0 = all cores)
+  std::vector<std::string> map_columns;  // plate-map columns, for the rates rows
+  bool with_activity = false;            // rates rows with activity_U / activity_nkat
+  bool with_specific = false;            // rates rows with specific_activity_U_per_mg
+  bool trace_rows = false;               // also format the traces rows
+  // Keep every run's reads and matrices (a report draws them). Otherwise each file keeps
+  // only what rates.csv, the summary and datapackage.json need once its rows are written.
+  bool keep_data = false;
+  std::string validate() const;
+};
+
+struct BatchFile {
+  std::string path;
+  ProfileChoice choice;
+  std::unique_ptr<Run> run;  // stays at one address: the analysis points into it
+  RunAnalysis analysis;
+  std::string rates_rows;    // rates.csv rows of this file (no header)
+  std::string trace_rows;    // traces rows (no header), when asked
+};
+
+struct BatchProgress {
+  int files_done = 0;
+  int files_total = 0;
+  long long wells_done = 0;
+  double elapsed_s = 0;
+};
+
+// `progress`, when given, is called after each file, from the worker thread that finished
+// it, one call at a time.
+std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
+                                     const BatchOptions& options,
+                                     const std::function<void(const BatchProgress&)>& progress = {});
+
+}  // namespace vzero

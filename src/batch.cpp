@@ -1,0 +1,114 @@
+#include "vzero/batch.hpp"
+
+#include <algorithm>
+#include <atomic>
+#include <chrono>
+#include <exception>
+#include <mutex>
+#include <thread>
+
+#include "vzero/error.hpp"
+#include "vzero/outputs.hpp"
+
+namespace vzero {
+
+std::string BatchOptions::validate() const { return analysis.validate(); }
+
+namespace {
+
+// Drops what only the traces and the report use: reads, blank matrices, per-read flags.
+void keep_results_only(BatchFile& f) {
+  for (auto& ch : f.run->channels) {
+    ch.values.resize(0, 0);
+    ch.status.resize(0, 0);
+    ch.temperature_c.clear();
+    ch.temperature_c.shrink_to_fit();
+  }
+  for (auto& ca : f.analysis.channels) {
+    if (ca.corrected) {
+      // An inner-filter copy: keep its name and wells only.
+      auto slim = std::make_shared<Channel>();
+      slim->name = ca.corrected->name;
+      slim->quantity = ca.corrected->quantity;
+      slim->unit = ca.corrected->unit;
+      slim->wells = ca.corrected->wells;
+      slim->time_s = ca.corrected->time_s;
+      ca.corrected = slim;
+      ca.channel = slim.get();
+    }
+    ca.blank.blank.resize(0, 0);
+    ca.blank.corrected.resize(0, 0);
+    ca.blank.status.resize(0, 0);
+    std::vector<WellBlank>().swap(ca.blank.wells);
+    for (auto& row : ca.rows) std::vector<std::uint8_t>().swap(row.rate.used);
+  }
+}
+
+long long wells_of(const RunAnalysis& a) {
+  long long n = 0;
+  for (const auto& ca : a.channels) n += static_cast<long long>(ca.rows.size());
+  return n;
+}
+
+}  // namespace
+
+std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
+                                     const BatchOptions& o, const std::function<void(const BatchProgress&)>& progress) {
+  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
+  const int n = static_cast<int>(paths.size());
+  std::vector<BatchFile> out(paths.size());
+  const int cores = o.analysis.threads > 0 ? o.analysis.threads
+                                           : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  // Files in parallel, each on one thread; a single file spreads its wells instead.
+  const int workers = std::max(1, std::min(cores, n));
+  const int inner = workers > 1 ? 1 : cores;
+
+  std::atomic<int> next{0};
+  std::atomic<int> first_failed{n};  // lowest index that failed; later files are not started
+  std::vector<std::exception_ptr> errors(paths.size());
+  std::mutex report;
+  BatchProgress state;
+  state.files_total = n;
+  const auto start = std::chrono::steady_clock::now();
+
+  auto work = [&]() {
+    while (true) {
+      const int i = next.fetch_add(1);
+      if (i >= n || i > first_failed.load()) return;
+      BatchFile& f = out[static_cast<std::size_t>(i)];
+      try {
+        f.path = paths[static_cast<std::size_t>(i)];
+        f.choice = choose_profile(f.path, o.profile);
+        f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile));
+        check_plate_map(map, *f.run);
+        AnalysisOptions ao = o.analysis;
+        ao.threads = inner;
+        f.analysis = analyse_run(*f.run, map, ao);
+        f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific);
+        if (o.trace_rows) f.trace_rows = traces_csv_rows(f.analysis);
+        if (!o.keep_data) keep_results_only(f);
+      } catch (...) {
+        errors[static_cast<std::size_t>(i)] = std::current_exception();
+        int seen = first_failed.load();
+        while (i < seen && !first_failed.compare_exchange_weak(seen, i)) {
+        }
+        continue;
+      }
+      if (progress) {
+        std::lock_guard<std::mutex> hold(report);
+        ++state.files_done;
+        state.wells_done += wells_of(f.analysis);
+        state.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+        progress(state);
+      }
+    }
+  };
+  std::vector<std::thread> pool;
+  for (int k = 1; k < workers; ++k) pool.emplace_back(work);
+  work();
+  for (auto& t : pool) t.join();
+  if (first_failed.load() < n) std::rethrow_exception(errors[static_cast<std::size_t>(first_failed.load())]);
+  return out;
+}
+
+}  // namespace vzero
