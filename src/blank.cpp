@@ -109,7 +109,15 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     median_sd = sds.size() % 2 ? sds[sds.size() / 2] : 0.5 * (sds[sds.size() / 2 - 1] + sds[sds.size() / 2]);
   }
   // Mean blank traces are shared by all wells using the same set of blanks.
-  std::map<std::vector<int>, std::pair<Eigen::VectorXd, std::vector<ReadStatus>>> cache;
+  struct SharedBlank {
+    Eigen::VectorXd mean;
+    std::vector<ReadStatus> st;
+    std::string names;       // ';'-separated
+    double noise_sd = NAN;   // pooled residual SD of the blanks
+    bool noisy = false;      // one of them is blank-noisy
+    double rate = NAN;       // slope of the mean trace
+  };
+  std::map<std::vector<int>, SharedBlank> cache;
   for (Eigen::Index j = 0; j < cols; ++j) {
     WellBlank& wb = r.wells[static_cast<std::size_t>(j)];
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
@@ -128,34 +136,40 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       if (needs_blank) wb.flags.emplace_back("blank-missing");
       continue;
     }
-    double var = 0;
-    int nsd = 0;
-    for (int b : use) {
-      if (!wb.blank_wells.empty()) wb.blank_wells += ';';
-      wb.blank_wells += well_name(f.well(c.wells[static_cast<std::size_t>(b)]));
-      const Line& l = blank_line[b];
-      if (!std::isnan(l.resid_sd)) { var += l.resid_sd * l.resid_sd; ++nsd; }
-      if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd &&
-          std::find(wb.flags.begin(), wb.flags.end(), "blank-noisy") == wb.flags.end())
-        wb.flags.emplace_back("blank-noisy");
-    }
-    if (nsd > 0) wb.blank_noise_sd = std::sqrt(var / nsd);
+    // What depends only on the set of blanks is worked out once per set (a plate blank
+    // serves every well): the mean trace, the names, the pooled scatter, its line.
     auto it = cache.find(use);
     if (it == cache.end()) {
-      Eigen::VectorXd mean = Eigen::VectorXd::Constant(reads, NAN);
-      std::vector<ReadStatus> st(static_cast<std::size_t>(reads), ReadStatus::excluded);
+      SharedBlank sb;
+      double var = 0;
+      int nsd = 0;
+      for (int b : use) {
+        if (!sb.names.empty()) sb.names += ';';
+        sb.names += well_name(f.well(c.wells[static_cast<std::size_t>(b)]));
+        const Line& l = blank_line[b];
+        if (!std::isnan(l.resid_sd)) { var += l.resid_sd * l.resid_sd; ++nsd; }
+        if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) sb.noisy = true;
+      }
+      if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
+      sb.mean = Eigen::VectorXd::Constant(reads, NAN);
+      sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
       for (Eigen::Index i = 0; i < reads; ++i) {
         double s = 0;
         int n = 0;
         for (int b : use)
           if (c.status(i, b) == ReadStatus::ok) { s += c.values(i, b); ++n; }
-        if (n > 0) { mean(i) = s / n; st[static_cast<std::size_t>(i)] = ReadStatus::ok; }
+        if (n > 0) { sb.mean(i) = s / n; sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok; }
       }
-      it = cache.emplace(use, std::make_pair(std::move(mean), std::move(st))).first;
+      sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
+      it = cache.emplace(use, std::move(sb)).first;
     }
-    const auto& [mean, st] = it->second;
-    Line ml = fit_line(c.time_s, mean.data(), st.data(), -INFINITY, INFINITY);
-    wb.blank_rate = ml.slope;
+    const SharedBlank& sb = it->second;
+    wb.blank_wells = sb.names;
+    if (sb.noisy) wb.flags.emplace_back("blank-noisy");
+    wb.blank_noise_sd = sb.noise_sd;
+    wb.blank_rate = sb.rate;
+    const Eigen::VectorXd& mean = sb.mean;
+    const std::vector<ReadStatus>& st = sb.st;
     if (o.mode == BlankMode::rate) continue;
     for (Eigen::Index i = 0; i < reads; ++i) {
       if (st[static_cast<std::size_t>(i)] != ReadStatus::ok) {

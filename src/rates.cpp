@@ -111,6 +111,11 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   Kept kept;
   std::vector<double> ct, cy;
   std::vector<int> cpos;
+  const auto width = static_cast<std::size_t>(last - first + 1);
+  ct.reserve(width);
+  cy.reserve(width);
+  cpos.reserve(width);
+  kept.pos.reserve(width);
   for (int i = first; i <= last; ++i)
     if (!u.spike[static_cast<std::size_t>(i)]) {
       ct.push_back(u.t[static_cast<std::size_t>(i)]);
@@ -126,6 +131,7 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   const LineFit ts = detail::theil_sen(ct.data(), cy.data(), static_cast<int>(ct.size()), nullptr, with_interval);
   kept.line = ts;
   std::vector<double> a;
+  a.reserve(ct.size());
   for (std::size_t i = 0; i < ct.size(); ++i) a.push_back(std::fabs(cy[i] - (ts.intercept + ts.slope * ct[i])));
   const double scale = std::max(1.4826 * detail::median_inplace(a), sd_floor);
   for (int i = first; i <= last; ++i) {
@@ -191,6 +197,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   const bool theil_sen = opt.estimator == Estimator::theil_sen;
   const Kept kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
   std::vector<double> kt, ky;
+  kt.reserve(kept.pos.size());
+  ky.reserve(kept.pos.size());
   for (int p : kept.pos) {
     kt.push_back(u.t[static_cast<std::size_t>(p)]);
     ky.push_back(u.y[static_cast<std::size_t>(p)]);

@@ -409,6 +409,44 @@ bool select_all(const Points& p, const std::vector<i64>& sorted, double* values,
 
 }  // namespace
 
+void select_kth(double* a, std::size_t n, std::size_t k) {
+  std::size_t lo = 0, hi = n;  // the k-th lies in [lo, hi)
+  for (int round = 0; hi - lo > 16; ++round) {
+    if (round > 40) {
+      std::nth_element(a + lo, a + k, a + hi);
+      return;
+    }
+    // Median of three as the pivot, moved to the end.
+    const std::size_t mid = lo + (hi - lo) / 2;
+    double& x = a[lo];
+    double& y = a[mid];
+    double& z = a[hi - 1];
+    if (y < x) std::swap(x, y);
+    if (z < y) std::swap(y, z);
+    if (y < x) std::swap(x, y);
+    std::swap(y, a[hi - 1]);
+    const double pivot = a[hi - 1];
+    std::size_t i = lo;
+    for (std::size_t j = lo; j + 1 < hi; ++j) {
+      const double v = a[j];
+      a[j] = a[i];
+      a[i] = v;
+      i += v < pivot;
+    }
+    std::swap(a[i], a[hi - 1]);  // the pivot at its place: [lo, i) < pivot ≤ [i + 1, hi)
+    if (k == i) return;
+    if (k < i) hi = i;
+    else lo = i + 1;
+  }
+  // A few left: insertion sort.
+  for (std::size_t p = lo + 1; p < hi; ++p) {
+    const double v = a[p];
+    std::size_t q = p;
+    for (; q > lo && a[q - 1] > v; --q) a[q] = a[q - 1];
+    a[q] = v;
+  }
+}
+
 bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                                 double* out) {
   if (n < 2) return false;
@@ -436,50 +474,75 @@ bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const s
 void pair_slope_ranks_direct(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                              double* out) {
   const auto n_pairs = static_cast<std::size_t>(n) * static_cast<std::size_t>(n - 1) / 2;
+  // Ranks in ascending order, each selected in what is left above the previous one.
+  std::array<int, 8> small_order{};
+  std::vector<int> big_order;
+  int* order = small_order.data();
+  if (count > 8) {
+    big_order.resize(static_cast<std::size_t>(count));
+    order = big_order.data();
+  }
+  std::iota(order, order + count, 0);
+  std::sort(order, order + count, [&](int a, int b) { return ranks[a] < ranks[b]; });
+  const auto select = [&](std::vector<double>& v, std::int64_t offset) {
+    std::int64_t start = 0;
+    for (int r = 0; r < count; ++r) {
+      const std::int64_t local = ranks[order[r]] - offset;
+      select_kth(v.data() + start, v.size() - static_cast<std::size_t>(start), static_cast<std::size_t>(local - start));
+      start = local;
+      out[order[r]] = v[static_cast<std::size_t>(local)];
+    }
+  };
   // Reused per thread for the small sizes the rate finder asks for most.
   thread_local std::vector<double> reused;
   std::vector<double> own;
   std::vector<double>& s = n_pairs <= (1u << 16) ? reused : own;
-  s.resize(n_pairs);
-  std::size_t k = 0;
-  for (int i = 0; i < n; ++i)
-    for (int j = i + 1; j < n; ++j) s[k++] = slope_of(x, y, i, j);
-  // Ranks in ascending order, each selected in what is left above the previous one.
-  std::vector<int> order(static_cast<std::size_t>(count));
-  std::iota(order.begin(), order.end(), 0);
-  std::sort(order.begin(), order.end(), [&](int a, int b) { return ranks[a] < ranks[b]; });
-  const auto select = [&](std::vector<double>& v, std::int64_t offset) {
-    std::int64_t start = 0;
-    for (int r : order) {
-      const std::int64_t local = ranks[r] - offset;
-      std::nth_element(v.begin() + start, v.begin() + local, v.end());
-      start = local;
-      out[r] = v[static_cast<std::size_t>(local)];
-    }
+  const auto every_slope = [&] {
+    s.resize(n_pairs);
+    std::size_t k = 0;
+    for (int i = 0; i < n; ++i)
+      for (int j = i + 1; j < n; ++j) s[k++] = slope_of(x, y, i, j);
   };
   if (n_pairs >= 600 && n_pairs <= (1u << 16)) {
-    // Pivots a ≤ b from a spread-out sample of the slopes, 3 binomial SDs beyond the ranks'
-    // expected places; one pass keeps the slopes in [a, b] and counts those below a. When
-    // the ranks fall inside, they are selected among the kept ones only.
+    // Pivots a ≤ b from the slopes of 128 pseudo-random pairs, 3 binomial SDs beyond the
+    // ranks' expected places; the slopes are then formed keeping those in [a, b] and
+    // counting those below a. When the ranks fall inside, they are selected among the kept
+    // ones only; otherwise every slope is formed again and kept.
     constexpr std::size_t k_sample = 128;
     std::array<double, k_sample> smp{};
-    for (std::size_t i = 0; i < k_sample; ++i) smp[i] = s[(i * 2654435761u) % n_pairs];
-    std::sort(smp.begin(), smp.end());
-    const std::int64_t k_lo = ranks[order.front()], k_hi = ranks[order.back()];
+    Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
+    for (auto& v : smp) {
+      int i = static_cast<int>(mix.next() % static_cast<std::uint64_t>(n));
+      int j = static_cast<int>(mix.next() % static_cast<std::uint64_t>(n - 1));
+      if (j >= i) ++j;
+      v = i < j ? slope_of(x, y, i, j) : slope_of(x, y, j, i);
+    }
+    const std::int64_t k_lo = ranks[order[0]], k_hi = ranks[order[count - 1]];
     const double ms = k_sample, big_n = static_cast<double>(n_pairs);
     const double ql = static_cast<double>(k_lo) / big_n, qh = static_cast<double>(k_hi) / big_n;
     const double ia = std::floor(ql * ms - 3 * std::sqrt(ms * ql * (1 - ql)) - 1);
     const double ib = std::ceil(qh * ms + 3 * std::sqrt(ms * qh * (1 - qh)) + 1);
-    const double a = ia >= 0 ? smp[static_cast<std::size_t>(ia)] : -INFINITY;
-    const double b = ib < ms ? smp[static_cast<std::size_t>(ib)] : INFINITY;
+    double a = -INFINITY, b = INFINITY;
+    std::size_t from = 0;
+    if (ia >= 0) {
+      select_kth(smp.data(), k_sample, static_cast<std::size_t>(ia));
+      a = smp[static_cast<std::size_t>(ia)];
+      from = static_cast<std::size_t>(ia) + 1;
+    }
+    if (ib < ms && static_cast<std::size_t>(ib) >= from) {
+      select_kth(smp.data() + from, k_sample - from, static_cast<std::size_t>(ib) - from);
+      b = smp[static_cast<std::size_t>(ib)];
+    }
     thread_local std::vector<double> kept;
     kept.resize(n_pairs);
     std::size_t nk = 0, below = 0;
-    for (std::size_t i = 0; i < n_pairs; ++i) {
-      const double v = s[i];
-      kept[nk] = v;
-      nk += (v >= a) & (v <= b);
-      below += v < a;
+    for (int i = 0; i < n; ++i) {
+      for (int j = i + 1; j < n; ++j) {
+        const double v = slope_of(x, y, i, j);
+        kept[nk] = v;
+        nk += (v >= a) & (v <= b);
+        below += v < a;
+      }
     }
     if (static_cast<std::int64_t>(below) <= k_lo && static_cast<std::int64_t>(below + nk) > k_hi) {
       kept.resize(nk);
@@ -487,6 +550,7 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
       return;
     }
   }
+  every_slope();
   select(s, 0);
 }
 

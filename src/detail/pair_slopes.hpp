@@ -2,6 +2,7 @@
 // forming all n(n−1)/2 slopes when n is large. Internal to vzero (src/detail).
 #pragma once
 
+#include <cstddef>
 #include <cstdint>
 
 namespace vzero::detail {
@@ -35,6 +36,12 @@ constexpr int k_pair_slopes_direct = 160;
 // a value that is not finite, x not strictly increasing, or the brackets do not close.
 bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                                 double* out);
+
+// Quickselect with a branch-free Lomuto partition (the comparison feeds an index, not a
+// jump): a[k] becomes the k-th smallest (0-based) of a[0, n), smaller ones before it, larger
+// after, as std::nth_element leaves them. Falls back to std::nth_element when the pivots do
+// badly (many equal values), so the cost stays O(n).
+void select_kth(double* a, std::size_t n, std::size_t k);
 
 // Forms every slope and selects (the reference; also the fallback).
 void pair_slope_ranks_direct(const double* x, const double* y, int n, const std::int64_t* ranks, int count,

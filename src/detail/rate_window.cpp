@@ -79,36 +79,93 @@ constexpr auto batcher_pairs() {
   return out;
 }
 
-template <int N>
-inline constexpr auto k_batcher = batcher_pairs<N>();
-
 inline void compare_exchange(double& a, double& b) {
   const double lo = std::min(a, b), hi = std::max(a, b);
   a = lo;
   b = hi;
 }
 
+// The comparators of Batcher's 16-input network that decide output 7 (the median) of 15
+// values: those on wire 15 (an implicit +inf) never move anything, and those feeding no
+// wire that reaches output 7 are left out (49 of 63).
+constexpr int median15_count() {
+  constexpr auto all = batcher_pairs<16>();
+  std::array<bool, 16> need{};
+  need[7] = true;
+  int count = 0;
+  for (int c = static_cast<int>(all.size()) - 1; c >= 0; --c) {
+    const auto [a, b] = all[static_cast<std::size_t>(c)];
+    if (a == 15 || b == 15 || !(need[static_cast<std::size_t>(a)] || need[static_cast<std::size_t>(b)])) continue;
+    need[static_cast<std::size_t>(a)] = need[static_cast<std::size_t>(b)] = true;
+    ++count;
+  }
+  return count;
+}
+
+constexpr auto median15_pairs() {
+  constexpr auto all = batcher_pairs<16>();
+  std::array<std::pair<int, int>, median15_count()> out{};
+  std::array<bool, 16> need{};
+  need[7] = true;
+  int k = static_cast<int>(out.size());
+  for (int c = static_cast<int>(all.size()) - 1; c >= 0; --c) {
+    const auto [a, b] = all[static_cast<std::size_t>(c)];
+    if (a == 15 || b == 15 || !(need[static_cast<std::size_t>(a)] || need[static_cast<std::size_t>(b)])) continue;
+    need[static_cast<std::size_t>(a)] = need[static_cast<std::size_t>(b)] = true;
+    out[static_cast<std::size_t>(--k)] = {a, b};  // kept in network order
+  }
+  return out;
+}
+
+inline constexpr auto k_median15 = median15_pairs();
+
 // The network unrolled at compile time, so the values stay in registers.
-template <int N, std::size_t... I>
-void apply_network(std::array<double, N>& w, std::index_sequence<I...>) {
-  (compare_exchange(w[z(k_batcher<N>[I].first)], w[z(k_batcher<N>[I].second)]), ...);
+template <std::size_t... I>
+double median15(std::array<double, 15> w, std::index_sequence<I...>) {
+  (compare_exchange(w[z(k_median15[I].first)], w[z(k_median15[I].second)]), ...);
+  return w[7];
 }
 
-// Sorts the first `count` values (count ≤ N, N a power of 2), padding with +inf.
-template <int N, std::size_t M>
-void sort_small(std::array<double, M>& v, int count) {
-  static_assert(M <= static_cast<std::size_t>(N));
-  const std::size_t c = std::min(static_cast<std::size_t>(count), M);
-  std::array<double, N> w;
-  w.fill(INFINITY);
-  std::copy(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(c), w.begin());
-  apply_network<N>(w, std::make_index_sequence<k_batcher<N>.size()>{});
-  std::copy(w.begin(), w.begin() + static_cast<std::ptrdiff_t>(c), v.begin());
+// The 8th smallest of 15 values (what std::nth_element at index 7 gives).
+inline double median_of_fifteen(const std::array<double, 15>& v) {
+  return median15(v, std::make_index_sequence<k_median15.size()>{});
 }
 
-// Median of six values, as median_inplace gives it: the mean of the two middle ones.
-double median_of_six(std::array<double, 6> v) {
-  sort_small<8>(v, 6);
+// For the read at offset e of its 7-read window: its 15 neighbour pairs (a, b) as indices
+// a·6 + (b − a − 1) into the gap slopes from the window's start.
+constexpr auto pair_offsets() {
+  std::array<std::array<int, 15>, 7> t{};
+  for (int e = 0; e < 7; ++e) {
+    std::array<int, 6> nb{};
+    int c = 0;
+    for (int i = 0; i < 7; ++i)
+      if (i != e) nb[static_cast<std::size_t>(c++)] = i;
+    int n = 0;
+    for (int p = 0; p < 6; ++p)
+      for (int q = p + 1; q < 6; ++q)
+        t[static_cast<std::size_t>(e)][static_cast<std::size_t>(n++)] =
+            nb[static_cast<std::size_t>(p)] * 6 + (nb[static_cast<std::size_t>(q)] - nb[static_cast<std::size_t>(p)] - 1);
+  }
+  return t;
+}
+inline constexpr auto k_pair_offsets = pair_offsets();
+
+// Median of six values, as median_inplace gives it: the mean of the two middle ones. The
+// 12-comparator network for six inputs (Knuth, TAOCP vol. 3, §5.3.4; checked on all 64
+// 0–1 inputs, which suffices by the 0–1 principle).
+inline double median_of_six(std::array<double, 6> v) {
+  compare_exchange(v[0], v[5]);
+  compare_exchange(v[1], v[3]);
+  compare_exchange(v[2], v[4]);
+  compare_exchange(v[1], v[2]);
+  compare_exchange(v[3], v[4]);
+  compare_exchange(v[0], v[3]);
+  compare_exchange(v[2], v[5]);
+  compare_exchange(v[0], v[1]);
+  compare_exchange(v[2], v[3]);
+  compare_exchange(v[4], v[5]);
+  compare_exchange(v[1], v[2]);
+  compare_exchange(v[3], v[4]);
   return (v[2] + v[3]) / 2;
 }
 
@@ -134,11 +191,10 @@ void screen_spikes(Usable& u, double k, double floor) {
     int c = 0;
     for (int i = lo; i <= lo + k_nb; ++i)
       if (i != j) nb[z(c++)] = i;
-    int ns = 0;
-    for (int p = 0; p < k_nb; ++p)
-      for (int q = p + 1; q < k_nb; ++q) slopes[z(ns++)] = gap_slope[z(nb[z(p)]) * k_nb + z(nb[z(q)] - nb[z(p)] - 1)];
-    sort_small<16>(slopes, ns);
-    const double slope = slopes[z(ns / 2)];
+    const double* gs = gap_slope.data() + z(lo) * k_nb;
+    const auto& offsets = k_pair_offsets[z(j - lo)];
+    for (std::size_t t = 0; t < slopes.size(); ++t) slopes[t] = gs[offsets[t]];
+    const double slope = median_of_fifteen(slopes);
     double mt = 0;
     for (int i = 0; i < k_nb; ++i) {
       res[z(i)] = u.y[z(nb[z(i)])] - slope * u.t[z(nb[z(i)])];
@@ -173,6 +229,8 @@ constexpr double k_lag_z = 4.0;
 int lag_scan(const WindowStats& stats, const std::vector<double>& t, int p, int lag_max, double sd) {
   if (lag_max < 1 || !(sd > 0)) return 0;
   std::vector<double> b, se;
+  b.reserve(z(lag_max) + 1);
+  se.reserve(z(lag_max) + 1);
   for (int j = 0; j <= lag_max && j + p <= static_cast<int>(t.size()); ++j) {
     b.push_back(stats.slope(j, j + p));
     se.push_back(sd / std::sqrt(stats.stt(j, j + p)));
@@ -196,6 +254,9 @@ double tiny_floor(const Usable& u) {
 
 Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
   Usable u;
+  u.idx.reserve(static_cast<std::size_t>(std::max(tr.n, 0)));
+  u.t.reserve(u.idx.capacity());
+  u.y.reserve(u.idx.capacity());
   const bool ceiling = std::isfinite(opt.signal_ceiling);
   for (int i = 0; i < tr.n; ++i) {
     const ReadStatus st = tr.status ? tr.status[i] : ReadStatus::ok;
@@ -241,6 +302,9 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   // The search runs on the reads the spike screen let through.
   std::vector<double> ct, cy;
   std::vector<int> cpos;
+  ct.reserve(z(m));
+  cy.reserve(z(m));
+  cpos.reserve(z(m));
   for (int i = 0; i < m; ++i)
     if (!u.spike[z(i)]) {
       ct.push_back(u.t[z(i)]);
@@ -352,11 +416,15 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
   const int m = static_cast<int>(u.t.size());
   const int len = w.last - w.first + 1;
   const int ext_last = std::min(m - 1, w.first + static_cast<int>(std::ceil(opt.tangent_reach * len)) - 1);
-  std::vector<int> pos = kept, held;
+  std::vector<int> pos, held;
+  pos.reserve(kept.size() + z(std::max(0, ext_last - w.last)));
+  pos = kept;
   for (int p = w.last + 1; p <= ext_last; ++p) (u.spike[z(p)] ? held : pos).push_back(p);
   if (pos.size() < 5) return f;
   const auto fit = [&](const std::vector<int>& ps) {
     std::vector<double> x, y;
+    x.reserve(ps.size());
+    y.reserve(ps.size());
     for (int p : ps) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
     return quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
   };
@@ -369,6 +437,7 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
       return u.y[z(p)] - (q.c0 + q.c1 * dt + q.c2 * dt * dt);
     };
     std::vector<double> a;
+    a.reserve(pos.size());
     for (int p : pos) a.push_back(std::fabs(resid(p)));
     const double scale = std::max(1.4826 * median_inplace(a), sd_floor);
     const std::size_t before = pos.size();

@@ -136,7 +136,7 @@ double median_inplace(std::vector<double>& v) {
   if (v.empty()) return NAN;
   const auto n = v.size();
   const auto mid = v.begin() + static_cast<std::ptrdiff_t>(n / 2);
-  std::nth_element(v.begin(), mid, v.end());
+  select_kth(v.data(), n, n / 2);
   const double upper = *mid;
   if (n % 2 == 1) return upper;
   const double lower = *std::max_element(v.begin(), mid);
@@ -215,7 +215,8 @@ void fill_residual_stats(const double* x, const double* y, int n, LineFit& f) {
 
 // Σ k(k−1)(2k+5) over groups of equal values (Sen 1968 tie correction).
 double tie_term(const double* v, int n) {
-  std::vector<double> s(v, v + n);
+  thread_local std::vector<double> s;
+  s.assign(v, v + n);
   std::sort(s.begin(), s.end());
   double sum = 0;
   for (std::size_t i = 0; i < s.size();) {
