@@ -53,7 +53,8 @@ long long wells_of(const RunAnalysis& a) {
 }  // namespace
 
 std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
-                                     const BatchOptions& o, const std::function<void(const BatchProgress&)>& progress) {
+                                     const BatchOptions& o, const std::function<void(const BatchProgress&)>& progress,
+                                     const std::function<void(BatchFile&)>& ready) {
   if (auto why = o.validate(); !why.empty()) throw UsageError(why);
   const int n = static_cast<int>(paths.size());
   std::vector<BatchFile> out(paths.size());
@@ -67,6 +68,8 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
   std::atomic<int> first_failed{n};  // lowest index that failed; later files are not started
   std::vector<std::exception_ptr> errors(paths.size());
   std::mutex report;
+  std::vector<char> finished(paths.size(), 0);
+  std::size_t next_ready = 0;  // first file not yet handed to `ready`
   BatchProgress state;
   state.files_total = n;
   const auto start = std::chrono::steady_clock::now();
@@ -94,12 +97,14 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
         }
         continue;
       }
-      if (progress) {
+      if (progress || ready) {
         std::lock_guard<std::mutex> hold(report);
         ++state.files_done;
         state.wells_done += wells_of(f.analysis);
         state.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-        progress(state);
+        if (progress) progress(state);
+        finished[static_cast<std::size_t>(i)] = 1;
+        for (; ready && next_ready < out.size() && finished[next_ready]; ++next_ready) ready(out[next_ready]);
       }
     }
   };

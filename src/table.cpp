@@ -137,33 +137,16 @@ std::string format_number(double v) {
   return fmt::format("{}", v);
 }
 
-void write_file_atomic(const std::string& path, std::string_view content) {
-  write_file_atomic(path, std::vector<std::string_view>{content});
-}
-
-void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts) {
+// Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename: they
+// are written directly and report the error they give.
+AtomicFile::AtomicFile(const std::string& path) : path_(path) {
   namespace fs = std::filesystem;
   fs::path target(path);
   std::error_code ec;
-  // Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename:
-  // write to them directly and report the error they give.
   if (fs::exists(target, ec) && !fs::is_regular_file(target, ec) && !fs::is_directory(target, ec)) {
-    int dfd = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
-    int err = 0;
-    if (dfd < 0) err = errno;
-    for (std::string_view content : parts) {
-      for (std::size_t off = 0; err == 0 && off < content.size();) {
-        ssize_t n = ::write(dfd, content.data() + off, content.size() - off);
-        if (n < 0 && errno == EINTR) continue;
-        if (n < 0) err = errno;
-        else off += static_cast<std::size_t>(n);
-      }
-    }
-    if (dfd >= 0 && ::close(dfd) != 0 && err == 0) err = errno;
-    if (err != 0) {
-      throw InputError(Where{path}, fmt::format("cannot write {}: {}", path, std::strerror(err)),
-                       {"check that the output device has free space"});
-    }
+    device_ = true;
+    fd_ = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
+    if (fd_ < 0) fail(errno);
     return;
   }
   fs::path dir = target.parent_path();
@@ -174,44 +157,83 @@ void write_file_atomic(const std::string& path, const std::vector<std::string_vi
   }
   // A name unlikely to collide with another writer; created with O_EXCL.
   std::random_device rd;
-  std::string tmp;
-  int fd = -1;
-  for (int attempt = 0; attempt < 8 && fd < 0; ++attempt) {
-    tmp = (dir / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd())).string();
-    fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
-    if (fd < 0 && errno != EEXIST) break;
+  for (int attempt = 0; attempt < 8 && fd_ < 0; ++attempt) {
+    tmp_ = (dir / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd())).string();
+    fd_ = ::open(tmp_.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+    if (fd_ < 0 && errno != EEXIST) break;
   }
-  auto fail = [&](int err) {
-    if (fd >= 0) ::close(fd);
-    if (!tmp.empty()) ::unlink(tmp.c_str());
-    throw InputError(Where{path}, fmt::format("cannot write {}: {}", path, std::strerror(err)),
-                     {"check that the output folder exists, is writable and has free space"});
-  };
-  if (fd < 0) {
+  if (fd_ < 0) {
     int err = errno;
-    tmp.clear();
+    tmp_.clear();
     fail(err);
   }
-  for (std::string_view content : parts) {
-    const char* p = content.data();
-    std::size_t left = content.size();
-    while (left > 0) {
-      ssize_t n = ::write(fd, p, left);
-      if (n < 0) {
-        if (errno == EINTR) continue;
-        fail(errno);
-      }
-      p += n;
-      left -= static_cast<std::size_t>(n);
+}
+
+AtomicFile::~AtomicFile() {
+  if (fd_ >= 0) ::close(fd_);
+  if (!done_ && !tmp_.empty()) ::unlink(tmp_.c_str());
+}
+
+void AtomicFile::fail(int err) {
+  if (fd_ >= 0) ::close(fd_);
+  fd_ = -1;
+  if (!tmp_.empty()) ::unlink(tmp_.c_str());
+  tmp_.clear();
+  if (device_) {
+    throw InputError(Where{path_}, fmt::format("cannot write {}: {}", path_, std::strerror(err)),
+                     {"check that the output device has free space"});
+  }
+  throw InputError(Where{path_}, fmt::format("cannot write {}: {}", path_, std::strerror(err)),
+                   {"check that the output folder exists, is writable and has free space"});
+}
+
+void AtomicFile::append(std::string_view text) {
+  const char* p = text.data();
+  std::size_t left = text.size();
+  while (left > 0) {
+    ssize_t n = ::write(fd_, p, left);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      fail(errno);
     }
+    p += n;
+    left -= static_cast<std::size_t>(n);
   }
-  if (::fsync(fd) != 0 && errno != EINVAL) fail(errno);
-  if (::close(fd) != 0) {
-    fd = -1;
-    fail(errno);
+#ifdef __linux__
+  // Let the disk start on what is written while the rest is computed, so the final fsync
+  // has little left to wait for.
+  written_ += text.size();
+  if (!device_ && written_ - started_ >= (std::size_t{8} << 20)) {
+    ::sync_file_range(fd_, static_cast<off_t>(started_), static_cast<off_t>(written_ - started_), SYNC_FILE_RANGE_WRITE);
+    started_ = written_;
   }
-  fd = -1;
-  if (std::rename(tmp.c_str(), path.c_str()) != 0) fail(errno);
+#endif
+}
+
+void AtomicFile::commit() {
+  if (device_) {
+    const int fd = fd_;
+    fd_ = -1;
+    done_ = true;
+    if (::close(fd) != 0) fail(errno);
+    return;
+  }
+  if (::fsync(fd_) != 0 && errno != EINVAL) fail(errno);
+  const int fd = fd_;
+  fd_ = -1;
+  if (::close(fd) != 0) fail(errno);
+  if (std::rename(tmp_.c_str(), path_.c_str()) != 0) fail(errno);
+  done_ = true;
+}
+
+void write_file_atomic(const std::string& path, std::string_view content) {
+  write_file_atomic(path, std::vector<std::string_view>{content});
+}
+
+void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts) {
+  AtomicFile file(path);
+  for (std::string_view p : parts) file.append(p);
+  file.commit();
 }
 
 }  // namespace vzero

@@ -38,6 +38,8 @@ struct BatchOptions {
   std::string validate() const;
 };
 
+struct BatchFile;
+
 struct BatchFile {
   std::string path;
   ProfileChoice choice;
@@ -55,9 +57,13 @@ struct BatchProgress {
 };
 
 // `progress`, when given, is called after each file, from the worker thread that finished
-// it, one call at a time.
+// it, one call at a time. `ready`, when given, is called with each file in list order as
+// soon as it and every file before it are done (same threads, same one-at-a-time rule), so
+// that its rows can be written out (and moved away) while later files are analysed; it must
+// not throw.
 std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
                                      const BatchOptions& options,
-                                     const std::function<void(const BatchProgress&)>& progress = {});
+                                     const std::function<void(const BatchProgress&)>& progress = {},
+                                     const std::function<void(BatchFile&)>& ready = {});
 
 }  // namespace vzero

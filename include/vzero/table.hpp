@@ -51,4 +51,28 @@ void write_file_atomic(const std::string& path, std::string_view content);
 // The same for content held in several pieces, written one after the other.
 void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts);
 
+// An output written piece by piece and put in place at once, as write_file_atomic does:
+// append() to a temporary file beside `path`, commit() to fsync and rename it; a file never
+// committed is removed. Devices and pipes are written directly. Errors as write_file_atomic.
+//
+// **Example**:
+//   vzero::AtomicFile out("rates.csv");
+//   out.append(header);  for (...) out.append(rows);  out.commit();
+class AtomicFile {
+ public:
+  explicit AtomicFile(const std::string& path);
+  ~AtomicFile();
+  AtomicFile(const AtomicFile&) = delete;
+  AtomicFile& operator=(const AtomicFile&) = delete;
+  void append(std::string_view text);
+  void commit();
+
+ private:
+  [[noreturn]] void fail(int err);
+  std::string path_, tmp_;
+  int fd_ = -1;
+  bool device_ = false, done_ = false;
+  std::size_t written_ = 0, started_ = 0;  // bytes written; bytes handed to the disk so far
+};
+
 }  // namespace vzero

@@ -8,6 +8,7 @@
 #include <filesystem>
 #include <fmt/format.h>
 #include <map>
+#include <optional>
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
@@ -121,8 +122,35 @@ int cmd_rates(const Args& args) {
   batch.trace_rows = !s.traces.empty();
   batch.keep_data = !s.report.empty();
   ProgressLine meter(!s.quiet && s.files.size() > 1 && isatty(STDERR_FILENO));
-  std::vector<BatchFile> files = analyse_files(s.files, map, batch, meter.callback());
+  // rates.csv (and the traces) are written as the files finish, in order; they are opened
+  // with the first file, and an output error waits until every input has been read (input
+  // errors are reported first, as before).
+  std::optional<AtomicFile> rates_out, traces_out;
+  std::exception_ptr write_error;
+  auto ready = [&](BatchFile& f) {
+    if (write_error) return;
+    try {
+      if (!rates_out) {
+        rates_out.emplace(s.output);
+        rates_out->append(rates_csv({}, map.columns, with_activity, with_specific));
+      }
+      rates_out->append(f.rates_rows);
+      std::string().swap(f.rates_rows);
+      if (!s.traces.empty()) {
+        if (!traces_out) {
+          traces_out.emplace(s.traces);
+          traces_out->append(traces_csv({}));
+        }
+        traces_out->append(f.trace_rows);
+        std::string().swap(f.trace_rows);
+      }
+    } catch (...) {
+      write_error = std::current_exception();
+    }
+  };
+  std::vector<BatchFile> files = analyse_files(s.files, map, batch, meter.callback(), ready);
   meter.finish();
+  if (write_error) std::rethrow_exception(write_error);
   std::vector<RunAnalysis> analyses;
   for (auto& f : files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
@@ -139,18 +167,10 @@ int cmd_rates(const Args& args) {
     fs::path r = fs::relative(fs::absolute(p), fs::absolute(out_dir.empty() ? "." : out_dir), ec);
     return ec || r.empty() ? p : r.string();
   };
-  {
-    const std::string head = rates_csv({}, map.columns, with_activity, with_specific);
-    std::vector<std::string_view> parts{head};
-    for (const auto& f : files) parts.emplace_back(f.rates_rows);
-    write_file_atomic(s.output, parts);
-  }
+  rates_out->commit();
   tables.push_back({"rates", rel(s.output), rate_fields(map.columns, with_activity, with_specific)});
   if (!s.traces.empty()) {
-    const std::string head = traces_csv({});
-    std::vector<std::string_view> parts{head};
-    for (const auto& f : files) parts.emplace_back(f.trace_rows);
-    write_file_atomic(s.traces, parts);
+    traces_out->commit();
     tables.push_back({"traces", rel(s.traces), trace_fields()});
   }
   SummaryTable summary = summarise(analyses, map.columns, s.leave_out);
