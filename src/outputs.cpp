@@ -1,6 +1,8 @@
 #include "vzero/outputs.hpp"
 
 #include <cmath>
+#include <array>
+#include <fmt/compile.h>
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
@@ -13,8 +15,17 @@ namespace {
 
 void put(fmt::memory_buffer& b, std::string_view s) { b.append(s.data(), s.data() + s.size()); }
 // csv_field and format_number, written straight into the buffer (no string per value).
+// Bytes that make a CSV field need quotes (as csv_field decides).
+constexpr auto k_quote_bytes = [] {
+  std::array<bool, 256> t{};
+  for (unsigned char c : std::string_view(",;\"\r\n\t")) t[c] = true;
+  return t;
+}();
+
 void put_field(fmt::memory_buffer& b, std::string_view s) {
-  if (s.find_first_of(",;\"\r\n\t") == std::string_view::npos) {
+  bool quote = false;
+  for (char c : s) quote |= k_quote_bytes[static_cast<unsigned char>(c)];
+  if (!quote) {
     put(b, s);
     return;
   }
@@ -28,9 +39,12 @@ void put_field(fmt::memory_buffer& b, std::string_view s) {
 void put_num(fmt::memory_buffer& b, double v) {
   if (std::isnan(v)) return;
   if (v == 0) put(b, "0");  // also for -0
-  else fmt::format_to(std::back_inserter(b), "{}", v);
+  else fmt::format_to(std::back_inserter(b), FMT_COMPILE("{}"), v);  // format_number's text, parsed at compile time
 }
-void put_int(fmt::memory_buffer& b, long long v) { fmt::format_to(std::back_inserter(b), "{}", v); }
+void put_int(fmt::memory_buffer& b, long long v) {
+  const fmt::format_int text(v);
+  b.append(text.data(), text.data() + text.size());
+}
 void put_well(fmt::memory_buffer& b, WellId w) {
   put(b, row_label(w.row));
   put_int(b, w.column + 1);
