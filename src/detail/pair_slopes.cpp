@@ -104,33 +104,45 @@ void order_at(const Points& p, double t, Order& o, Scratch& s) {
   for (std::size_t q = 0; q < n; ++q) o.idx[q] = s.rk[q].second;
 }
 
-// Pairs p < q with v[p] > v[q], by merge sort (v is reordered).
-i64 inversions(std::vector<int>& v, std::vector<int>& buf) {
-  const std::size_t n = v.size();
-  buf.resize(n);
-  i64 count = 0;
-  for (std::size_t width = 1; width < n; width *= 2) {
-    for (std::size_t lo = 0; lo < n; lo += 2 * width) {
-      const std::size_t mid = std::min(lo + width, n), hi = std::min(lo + 2 * width, n);
-      std::size_t a = lo, b = mid, k = lo;
-      while (a < mid && b < hi) {
-        const bool right = v[b] < v[a];
-        buf[k++] = right ? v[b] : v[a];
-        count += right ? static_cast<i64>(mid - a) : 0;
-        b += right;
-        a += !right;
+// Fenwick tree over 0..n−1 (counts of values inserted).
+struct Fenwick {
+  std::vector<int> t;
+  int top = 1;
+  explicit Fenwick(int n) : t(static_cast<std::size_t>(n) + 1, 0) {
+    while (top * 2 <= n) top *= 2;
+  }
+  void add(int v) {
+    for (int i = v + 1; i < static_cast<int>(t.size()); i += i & -i) ++t[static_cast<std::size_t>(i)];
+  }
+  int below(int v) const {  // inserted values < v
+    int c = 0;
+    for (int i = v; i > 0; i -= i & -i) c += t[static_cast<std::size_t>(i)];
+    return c;
+  }
+  int kth(int k) const {  // the k-th smallest inserted value (1-based k)
+    int pos = 0;
+    for (int step = top; step > 0; step /= 2) {
+      const int nxt = pos + step;
+      if (nxt < static_cast<int>(t.size()) && t[static_cast<std::size_t>(nxt)] < k) {
+        pos = nxt;
+        k -= t[static_cast<std::size_t>(nxt)];
       }
-      while (a < mid) buf[k++] = v[a++];
-      while (b < hi) buf[k++] = v[b++];
     }
-    v.swap(buf);
+    return pos;  // value = index − 1 + 1
+  }
+};
+
+// Pairs p < q with idx[p] > idx[q], with a Fenwick tree (cheaper than merging here).
+i64 count_below(const Order& o, Scratch& s) {
+  (void)s;
+  Fenwick f(static_cast<int>(o.idx.size()));
+  i64 count = 0;
+  for (std::size_t q = 0; q < o.idx.size(); ++q) {
+    const int v = o.idx[q];
+    count += static_cast<i64>(q) - f.below(v);
+    f.add(v);
   }
   return count;
-}
-
-i64 count_below(const Order& o, Scratch& s) {
-  s.a = o.idx;
-  return inversions(s.a, s.b);
 }
 
 // Slopes of the pairs ordered one way at `lo` and the other way at `hi`, appended to `out`.
@@ -170,7 +182,10 @@ bool between(const Points& p, const Order& lo, const Order& hi, std::vector<doub
 
 // splitmix64: a fixed pseudo-random sequence, so the same input always takes the same path.
 struct Mix {
+  __extension__ typedef unsigned __int128 u128;
   std::uint64_t state;
+  // Uniform on [0, bound) by a multiply-high (no division).
+  std::uint64_t below(std::uint64_t bound) { return static_cast<std::uint64_t>((static_cast<u128>(next()) * bound) >> 64); }
   std::uint64_t next() {
     std::uint64_t z = (state += 0x9e3779b97f4a7c15ULL);
     z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
@@ -184,41 +199,13 @@ void sample_all(const Points& p, std::size_t m, Mix& mix, std::vector<double>& o
   out.clear();
   const auto n = static_cast<std::uint64_t>(p.n);
   for (std::size_t k = 0; k < m; ++k) {
-    int i = static_cast<int>(mix.next() % n);
-    int j = static_cast<int>(mix.next() % (n - 1));
+    int i = static_cast<int>(mix.below(n));
+    int j = static_cast<int>(mix.below(n - 1));
     if (j >= i) ++j;
     if (i > j) std::swap(i, j);
     out.push_back(slope_of(p.x, p.y, i, j));
   }
 }
-
-// Fenwick tree over 0..n−1 (counts of values inserted).
-struct Fenwick {
-  std::vector<int> t;
-  int top = 1;
-  explicit Fenwick(int n) : t(static_cast<std::size_t>(n) + 1, 0) {
-    while (top * 2 <= n) top *= 2;
-  }
-  void add(int v) {
-    for (int i = v + 1; i < static_cast<int>(t.size()); i += i & -i) ++t[static_cast<std::size_t>(i)];
-  }
-  int below(int v) const {  // inserted values < v
-    int c = 0;
-    for (int i = v; i > 0; i -= i & -i) c += t[static_cast<std::size_t>(i)];
-    return c;
-  }
-  int kth(int k) const {  // the k-th smallest inserted value (1-based k)
-    int pos = 0;
-    for (int step = top; step > 0; step /= 2) {
-      const int nxt = pos + step;
-      if (nxt < static_cast<int>(t.size()) && t[static_cast<std::size_t>(nxt)] < k) {
-        pos = nxt;
-        k -= t[static_cast<std::size_t>(nxt)];
-      }
-    }
-    return pos;  // value = index − 1 + 1
-  }
-};
 
 struct Bracket {
   Order lo, hi;      // orders at the thresholds lo.t = a − band, hi.t = b + band
@@ -255,7 +242,7 @@ bool sample_between(const Points& p, const Bracket& br, std::size_t m, Mix& mix,
   std::vector<i64> rank_of(m);
   std::vector<std::size_t> start(un + 1, 0);
   for (std::size_t k = 0; k < m; ++k) {
-    const i64 r = static_cast<i64>(mix.next() % static_cast<std::uint64_t>(total));
+    const i64 r = static_cast<i64>(mix.below(static_cast<std::uint64_t>(total)));
     const auto q = static_cast<int>(std::upper_bound(first.begin(), first.end(), r) - first.begin()) - 1;
     q_of[k] = q;
     rank_of[k] = r - first[static_cast<std::size_t>(q)];
@@ -331,7 +318,7 @@ bool refine(const Points& p, Bracket& br, std::vector<double>& smp, i64 k_lo, i6
   return moved;
 }
 
-std::size_t sample_size(const Points& p) { return static_cast<std::size_t>(std::max(p.n, 512)); }
+std::size_t sample_size(const Points& p) { return static_cast<std::size_t>(std::max(p.n / 2, 256)); }
 
 // Narrows until at most `cap` pairs are inside, drawing fresh samples from inside.
 bool narrow(const Points& p, Bracket& br, i64 k_lo, i64 k_hi, i64 cap, Mix& mix, Scratch& s) {
@@ -496,14 +483,14 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
   // Reused per thread for the small sizes the rate finder asks for most.
   thread_local std::vector<double> reused;
   std::vector<double> own;
-  std::vector<double>& s = n_pairs <= (1u << 16) ? reused : own;
+  std::vector<double>& s = n_pairs <= (1u << 18) ? reused : own;
   const auto every_slope = [&] {
     s.resize(n_pairs);
     std::size_t k = 0;
     for (int i = 0; i < n; ++i)
       for (int j = i + 1; j < n; ++j) s[k++] = slope_of(x, y, i, j);
   };
-  if (n_pairs >= 600 && n_pairs <= (1u << 16)) {
+  if (n_pairs >= 600 && n_pairs <= (1u << 18)) {
     // Pivots a ≤ b from the slopes of 128 pseudo-random pairs, 3 binomial SDs beyond the
     // ranks' expected places; the slopes are then formed keeping those in [a, b] and
     // counting those below a. When the ranks fall inside, they are selected among the kept
@@ -512,8 +499,8 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
     std::array<double, k_sample> smp{};
     Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
     for (auto& v : smp) {
-      int i = static_cast<int>(mix.next() % static_cast<std::uint64_t>(n));
-      int j = static_cast<int>(mix.next() % static_cast<std::uint64_t>(n - 1));
+      int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
+      int j = static_cast<int>(mix.below(static_cast<std::uint64_t>(n - 1)));
       if (j >= i) ++j;
       v = i < j ? slope_of(x, y, i, j) : slope_of(x, y, j, i);
     }

@@ -12,7 +12,8 @@ namespace vzero::detail {
 // computed in double exactly as written, so the values are bit for bit those a full sort of
 // all slopes gives. `ranks` must lie in [0, n(n−1)/2); any order, repeats allowed.
 //
-// Below k_pair_slopes_direct points every slope is formed and selected (std::nth_element);
+// Below k_pair_slopes_direct points every slope is formed and selected (a sampled bracket,
+// then quickselect);
 // above, the method is randomised bracketing with exact counting, after Dillencourt, Mount &
 // Netanyahu (1992, Int. J. Comput. Geom. Appl. 2, 1–27) and Matoušek (1991, Inf. Process.
 // Lett. 39, 183–187) (citations from memory):
@@ -30,7 +31,7 @@ namespace vzero::detail {
 void pair_slope_ranks(const double* x, const double* y, int n, const std::int64_t* ranks, int count, double* out);
 
 // Below this many points pair_slope_ranks forms every slope (cheaper there).
-constexpr int k_pair_slopes_direct = 160;
+constexpr int k_pair_slopes_direct = 500;
 
 // The bracketing method alone; false (out untouched) when it declines: fewer than 2 points,
 // a value that is not finite, x not strictly increasing, or the brackets do not close.
