@@ -5,6 +5,10 @@
 #include <map>
 #include <utility>
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 #include "detail/robust.hpp"
 #include "detail/window_stats.hpp"
 
@@ -79,8 +83,35 @@ constexpr auto batcher_pairs() {
   return out;
 }
 
-inline void compare_exchange(double& a, double& b) {
-  const double lo = std::min(a, b), hi = std::max(a, b);
+// The spike screen works on one read (double) or, with SSE2, two reads at once (V2: one
+// read per lane). Every lane operation is the IEEE operation the scalar code does (min and
+// max as std::min/std::max give them, |x| by clearing the sign, correctly rounded sqrt and
+// division), so both give the same bits.
+inline double lane_min(double a, double b) { return std::min(a, b); }
+inline double lane_max(double a, double b) { return std::max(a, b); }
+inline double lane_abs(double a) { return std::fabs(a); }
+inline double lane_sqrt(double a) { return std::sqrt(a); }
+inline double splat(double a, double) { return a; }
+
+#if defined(__SSE2__)
+struct V2 {
+  __m128d v;
+  friend V2 operator+(V2 a, V2 b) { return {_mm_add_pd(a.v, b.v)}; }
+  friend V2 operator-(V2 a, V2 b) { return {_mm_sub_pd(a.v, b.v)}; }
+  friend V2 operator*(V2 a, V2 b) { return {_mm_mul_pd(a.v, b.v)}; }
+  friend V2 operator/(V2 a, V2 b) { return {_mm_div_pd(a.v, b.v)}; }
+};
+// std::min(a, b) is b < a ? b : a, which MINPD(b, a) computes; likewise for max.
+inline V2 lane_min(V2 a, V2 b) { return {_mm_min_pd(b.v, a.v)}; }
+inline V2 lane_max(V2 a, V2 b) { return {_mm_max_pd(b.v, a.v)}; }
+inline V2 lane_abs(V2 a) { return {_mm_andnot_pd(_mm_set1_pd(-0.0), a.v)}; }
+inline V2 lane_sqrt(V2 a) { return {_mm_sqrt_pd(a.v)}; }
+inline V2 splat(double a, V2) { return {_mm_set1_pd(a)}; }
+#endif
+
+template <class V>
+inline void compare_exchange(V& a, V& b) {
+  const V lo = lane_min(a, b), hi = lane_max(a, b);
   a = lo;
   b = hi;
 }
@@ -120,14 +151,15 @@ constexpr auto median15_pairs() {
 inline constexpr auto k_median15 = median15_pairs();
 
 // The network unrolled at compile time, so the values stay in registers.
-template <std::size_t... I>
-double median15(std::array<double, 15> w, std::index_sequence<I...>) {
+template <class V, std::size_t... I>
+V median15(std::array<V, 15> w, std::index_sequence<I...>) {
   (compare_exchange(w[z(k_median15[I].first)], w[z(k_median15[I].second)]), ...);
   return w[7];
 }
 
 // The 8th smallest of 15 values (what std::nth_element at index 7 gives).
-inline double median_of_fifteen(const std::array<double, 15>& v) {
+template <class V>
+inline V median_of_fifteen(const std::array<V, 15>& v) {
   return median15(v, std::make_index_sequence<k_median15.size()>{});
 }
 
@@ -153,7 +185,8 @@ inline constexpr auto k_pair_offsets = pair_offsets();
 // Median of six values, as median_inplace gives it: the mean of the two middle ones. The
 // 12-comparator network for six inputs (Knuth, TAOCP vol. 3, §5.3.4; checked on all 64
 // 0–1 inputs, which suffices by the 0–1 principle).
-inline double median_of_six(std::array<double, 6> v) {
+template <class V>
+inline V median_of_six(std::array<V, 6> v) {
   compare_exchange(v[0], v[5]);
   compare_exchange(v[1], v[3]);
   compare_exchange(v[2], v[4]);
@@ -166,7 +199,35 @@ inline double median_of_six(std::array<double, 6> v) {
   compare_exchange(v[4], v[5]);
   compare_exchange(v[1], v[2]);
   compare_exchange(v[3], v[4]);
-  return (v[2] + v[3]) / 2;
+  return (v[2] + v[3]) / splat(2.0, v[0]);
+}
+
+// One read's (or, in lanes, two reads') neighbour line: `slopes` the 15 neighbour-pair
+// slopes, (tn, yn) the six neighbours, (tj, yj) the read. Gives its scaled residual and the
+// neighbours' robust SD.
+template <class V>
+inline void screen_read(const std::array<V, 15>& slopes, const std::array<V, 6>& tn, const std::array<V, 6>& yn, V tj,
+                        V yj, V& d, V& nb_sd) {
+  constexpr int k_nb = 6;
+  const V slope = median_of_fifteen(slopes);
+  std::array<V, k_nb> res{}, tmp{};
+  V mt = splat(0.0, tj);
+  for (int i = 0; i < k_nb; ++i) {
+    res[z(i)] = yn[z(i)] - slope * tn[z(i)];
+    mt = mt + tn[z(i)];
+  }
+  mt = mt / splat(static_cast<double>(k_nb), tj);
+  const V icpt = median_of_six(res);
+  V stt = splat(0.0, tj);
+  for (int i = 0; i < k_nb; ++i) {
+    const V dt = tn[z(i)] - mt;
+    stt = stt + dt * dt;
+    tmp[z(i)] = lane_abs(res[z(i)] - icpt);
+  }
+  nb_sd = splat(1.4826, tj) * median_of_six(tmp);
+  const V dt = tj - mt;
+  const V lev = splat(1.0 / k_nb, tj) + dt * dt / stt;
+  d = (yj - (icpt + slope * tj)) / lane_sqrt(splat(1.0, tj) + lev);
 }
 
 void screen_spikes(Usable& u, double k, double floor) {
@@ -183,42 +244,51 @@ void screen_spikes(Usable& u, double k, double floor) {
   for (int i = 0; i < m; ++i)
     for (int g = 1; g <= k_nb && i + g < m; ++g)
       gap_slope[z(i) * k_nb + z(g - 1)] = (u.y[z(i + g)] - u.y[z(i)]) / (u.t[z(i + g)] - u.t[z(i)]);
-  std::array<double, k_nb * (k_nb - 1) / 2> slopes{};
-  std::array<double, k_nb> res{}, tmp{};
-  for (int j = 0; j < m; ++j) {
+  // Read j's neighbours: the 7-read window from lo(j), less j itself.
+  const auto gather = [&](int j, std::array<double, 15>& slopes, std::array<double, 6>& tn, std::array<double, 6>& yn) {
     const int lo = std::clamp(j - k_nb / 2, 0, m - k_nb - 1);
-    std::array<int, k_nb> nb{};
-    int c = 0;
-    for (int i = lo; i <= lo + k_nb; ++i)
-      if (i != j) nb[z(c++)] = i;
     const double* gs = gap_slope.data() + z(lo) * k_nb;
     const auto& offsets = k_pair_offsets[z(j - lo)];
     for (std::size_t t = 0; t < slopes.size(); ++t) slopes[t] = gs[offsets[t]];
-    const double slope = median_of_fifteen(slopes);
-    double mt = 0;
-    for (int i = 0; i < k_nb; ++i) {
-      res[z(i)] = u.y[z(nb[z(i)])] - slope * u.t[z(nb[z(i)])];
-      mt += u.t[z(nb[z(i)])];
+    int c = 0;
+    for (int i = lo; i <= lo + k_nb; ++i)
+      if (i != j) {
+        tn[z(c)] = u.t[z(i)];
+        yn[z(c++)] = u.y[z(i)];
+      }
+  };
+  std::array<double, 15> s0{}, s1{};
+  std::array<double, 6> t0{}, t1{}, y0{}, y1{};
+  int j = 0;
+#if defined(__SSE2__)
+  for (; j + 1 < m; j += 2) {
+    gather(j, s0, t0, y0);
+    gather(j + 1, s1, t1, y1);
+    std::array<V2, 15> sv{};
+    std::array<V2, 6> tv{}, yv{};
+    for (std::size_t i = 0; i < 15; ++i) sv[i] = {_mm_set_pd(s1[i], s0[i])};
+    for (std::size_t i = 0; i < 6; ++i) {
+      tv[i] = {_mm_set_pd(t1[i], t0[i])};
+      yv[i] = {_mm_set_pd(y1[i], y0[i])};
     }
-    mt /= k_nb;
-    const double icpt = median_of_six(res);
-    double stt = 0;
-    for (int i = 0; i < k_nb; ++i) {
-      const double dt = u.t[z(nb[z(i)])] - mt;
-      stt += dt * dt;
-      tmp[z(i)] = std::fabs(res[z(i)] - icpt);
-    }
-    nb_sd[z(j)] = 1.4826 * median_of_six(tmp);
-    const double dt = u.t[z(j)] - mt;
-    const double lev = 1.0 / k_nb + dt * dt / stt;
-    d[z(j)] = (u.y[z(j)] - (icpt + slope * u.t[z(j)])) / std::sqrt(1 + lev);
+    V2 dv, sdv;
+    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])}, dv, sdv);
+    _mm_storel_pd(&d[z(j)], dv.v);
+    _mm_storeh_pd(&d[z(j + 1)], dv.v);
+    _mm_storel_pd(&nb_sd[z(j)], sdv.v);
+    _mm_storeh_pd(&nb_sd[z(j + 1)], sdv.v);
+  }
+#endif
+  for (; j < m; ++j) {
+    gather(j, s0, t0, y0);
+    screen_read(s0, t0, y0, u.t[z(j)], u.y[z(j)], d[z(j)], nb_sd[z(j)]);
   }
   a.resize(z(m));
-  for (int j = 0; j < m; ++j) a[z(j)] = std::fabs(d[z(j)]);
+  for (int i = 0; i < m; ++i) a[z(i)] = std::fabs(d[z(i)]);
   u.local_sd = 1.4826 * median_inplace(a);
   const double scale = std::max(u.local_sd, floor);
-  for (int j = 0; j < m; ++j)
-    if (std::fabs(d[z(j)]) > k * std::max(scale, nb_sd[z(j)])) u.spike[z(j)] = 1;
+  for (int i = 0; i < m; ++i)
+    if (std::fabs(d[z(i)]) > k * std::max(scale, nb_sd[z(i)])) u.spike[z(i)] = 1;
 }
 
 // Lag scan: slopes of the blocks of `p` reads starting at 0 … lag_max. A lag is present when
