@@ -1,6 +1,7 @@
 #include "vzero/outputs.hpp"
 
 #include <cmath>
+#include <cstring>
 #include <array>
 #include <fmt/compile.h>
 #include <fmt/format.h>
@@ -24,7 +25,12 @@ constexpr auto k_quote_bytes = [] {
 
 void put_field(fmt::memory_buffer& b, std::string_view s) {
   bool quote = false;
-  for (char c : s) quote |= k_quote_bytes[static_cast<unsigned char>(c)];
+  if (s.size() < 32) {
+    for (char c : s) quote |= k_quote_bytes[static_cast<unsigned char>(c)];
+  } else {  // long fields (lists of blank wells): memchr per byte value is quicker
+    for (char c : std::string_view(",;\"\r\n\t"))
+      if (!quote && std::memchr(s.data(), c, s.size())) quote = true;
+  }
   if (!quote) {
     put(b, s);
     return;
