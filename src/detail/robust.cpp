@@ -413,14 +413,25 @@ QuadFit quadratic(const double* x, const double* y, int n, double x_eval) {
   double h = 0;
   for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
   if (!(h > 0)) return q;
-  Eigen::Matrix3d g = Eigen::Matrix3d::Zero();
-  Eigen::Vector3d rhs = Eigen::Vector3d::Zero();
+  // Normal equations over b = (1, z, z²): the six distinct sums of b_i·b_j and the three of
+  // b_i·y, accumulated in point order (the same products and sums as g += b·bᵀ, rhs += b·y).
+  double g01 = 0, g02 = 0, g11 = 0, g12 = 0, g22 = 0, g00 = 0, r0 = 0, r1 = 0, r2 = 0;
   for (int i = 0; i < n; ++i) {
     const double z = (x[i] - mx) / h;
-    const Eigen::Vector3d b(1.0, z, z * z);
-    g += b * b.transpose();
-    rhs += b * y[i];
+    const double z2 = z * z;
+    g00 += 1.0 * 1.0;
+    g01 += 1.0 * z;
+    g02 += 1.0 * z2;
+    g11 += z * z;
+    g12 += z * z2;
+    g22 += z2 * z2;
+    r0 += 1.0 * y[i];
+    r1 += z * y[i];
+    r2 += z2 * y[i];
   }
+  Eigen::Matrix3d g;
+  g << g00, g01, g02, g01, g11, g12, g02, g12, g22;
+  const Eigen::Vector3d rhs(r0, r1, r2);
   const Eigen::Matrix3d ginv = g.inverse();
   const Eigen::Vector3d a = ginv * rhs;
   double rss = 0;
