@@ -48,11 +48,19 @@ std::string row_label(int row) {
 
 std::string well_name(WellId w) { return row_label(w.row) + std::to_string(w.column + 1); }
 
+namespace {
+// ASCII letters and digits, as <cctype> classifies them in the "C" locale vzero runs in
+// (no locale call per character: readers parse a well name per value of a long export).
+bool ascii_alpha(char c) { return (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z'); }
+bool ascii_digit(char c) { return c >= '0' && c <= '9'; }
+char ascii_upper(char c) { return c >= 'a' && c <= 'z' ? static_cast<char>(c - 'a' + 'A') : c; }
+}  // namespace
+
 std::optional<int> parse_row_label(std::string_view t) {
   while (!t.empty() && (t.front() == ' ' || t.front() == '\t')) t.remove_prefix(1);
   while (!t.empty() && (t.back() == ' ' || t.back() == '\t')) t.remove_suffix(1);
-  auto up = [](char c) { return static_cast<char>(std::toupper(static_cast<unsigned char>(c))); };
-  if (t.size() == 1 && std::isalpha(static_cast<unsigned char>(t[0]))) return up(t[0]) - 'A';
+  auto up = [](char c) { return ascii_upper(c); };
+  if (t.size() == 1 && ascii_alpha(t[0])) return up(t[0]) - 'A';
   if (t.size() == 2 && up(t[0]) == 'A' && up(t[1]) >= 'A' && up(t[1]) <= 'F') return 26 + (up(t[1]) - 'A');
   return std::nullopt;
 }
@@ -61,13 +69,13 @@ std::optional<WellId> parse_well(std::string_view t) {
   while (!t.empty() && (t.front() == ' ' || t.front() == '\t')) t.remove_prefix(1);
   while (!t.empty() && (t.back() == ' ' || t.back() == '\t')) t.remove_suffix(1);
   std::size_t letters = 0;
-  while (letters < t.size() && std::isalpha(static_cast<unsigned char>(t[letters]))) ++letters;
+  while (letters < t.size() && ascii_alpha(t[letters])) ++letters;
   if (letters == 0 || letters > 2 || letters == t.size() || t.size() - letters > 3) return std::nullopt;
   auto row = parse_row_label(t.substr(0, letters));
   if (!row) return std::nullopt;
   int col = 0;
   for (std::size_t i = letters; i < t.size(); ++i) {
-    if (!std::isdigit(static_cast<unsigned char>(t[i]))) return std::nullopt;
+    if (!ascii_digit(t[i])) return std::nullopt;
     col = col * 10 + (t[i] - '0');
   }
   if (col < 1 || col > 48) return std::nullopt;

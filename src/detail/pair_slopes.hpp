@@ -31,7 +31,7 @@ namespace vzero::detail {
 void pair_slope_ranks(const double* x, const double* y, int n, const std::int64_t* ranks, int count, double* out);
 
 // Below this many points pair_slope_ranks forms every slope (cheaper there).
-constexpr int k_pair_slopes_direct = 500;
+constexpr int k_pair_slopes_direct = 650;
 
 // The bracketing method alone; false (out untouched) when it declines: fewer than 2 points,
 // a value that is not finite, x not strictly increasing, or the brackets do not close.
