@@ -120,7 +120,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     const std::string& name = names[k];
     const Profile& p = profiles[k];
     try {
-      detail::LineSource src(path, head);
+      detail::LineSource src(path, head, detail::LineSource::NoHash{});
       Run run = dispatch(src, p, true);
       long long n = ok_values(run);
       tried += fmt::format("\n    {}: reads {} values", name, n);

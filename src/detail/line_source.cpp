@@ -78,6 +78,7 @@ struct LineSource::Impl {
   std::size_t capacity = 0;
   std::size_t begin = 0, end = 0, scanned = 0;  // unread bytes [begin, end); no '\n' in [begin, scanned)
   bool eof = false, started = false, done = false;
+  bool hashing = true;
   char last = 0;
   bool any = false;
 
@@ -116,7 +117,7 @@ struct LineSource::Impl {
       std::memcpy(at, memory.data(), n);
       memory.remove_prefix(n);
     }
-    hash.update(at, n);
+    if (hashing) hash.update(at, n);
     total += static_cast<long long>(n);
     if (nul_line == 0) {
       const char* nul = static_cast<const char*>(std::memchr(at, '\0', n));
@@ -179,6 +180,10 @@ LineSource::LineSource(const std::string& path, long long max_bytes) : LineSourc
 
 bool LineSource::cut() const { return impl_->cut; }
 
+LineSource::LineSource(std::string name, std::string_view bytes, NoHash) : LineSource(std::move(name), bytes) {
+  impl_->hashing = false;
+}
+
 LineSource::LineSource(std::string name, std::string_view bytes)
     : impl_(std::make_unique<Impl>()), name_(std::move(name)) {
   impl_->memory = bytes;
@@ -224,7 +229,7 @@ std::string LineSource::sha256() {
     if (!impl_->raw_next(ignored, name_, line_)) impl_->done = true;
     else ++line_;
   }
-  return impl_->hash.hex();
+  return impl_->hashing ? impl_->hash.hex() : std::string();
 }
 
 long long LineSource::bytes_read() const { return impl_->total; }

@@ -114,6 +114,24 @@ struct Columns {
   int line = 0;
 };
 
+// True when one of `names` occurs in `line`, ignoring ASCII case: a line that lacks every
+// well-column name cannot be the header, and is passed over without splitting it (detection
+// tries this reader on every file, wide ones included).
+bool mentions_any(std::string_view line, const std::vector<std::string>& names) {
+  thread_local std::string lowered;
+  lowered.assign(line);
+  for (char& c : lowered)
+    if (c >= 'A' && c <= 'Z') c = static_cast<char>(c - 'A' + 'a');
+  for (const auto& n : names) {
+    std::string name(trim(n));
+    if (name.empty()) return true;  // an empty name matches an empty field: split to see
+    for (char& c : name)
+      if (c >= 'A' && c <= 'Z') c = static_cast<char>(c - 'A' + 'a');
+    if (lowered.find(name) != std::string::npos) return true;
+  }
+  return false;
+}
+
 int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names) {
   for (const auto& n : names)
     for (std::size_t i = 0; i < f.size(); ++i)
@@ -146,7 +164,7 @@ Run read_long(ReaderInput in) {
     }
     if (!cols) {
       char d = p.delimiter ? p.delimiter : guess_delimiter(line);
-      if (d != 0 && tl.front() != '#') {
+      if (d != 0 && tl.front() != '#' && mentions_any(line, p.well_columns)) {
         split_views_into(line, d, views, scratch);
         Columns c;
         c.delimiter = d;
