@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <map>
+#include <unordered_map>
 
 #include "detail/text.hpp"
 
@@ -21,26 +22,37 @@ SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<s
   }
   std::map<std::vector<std::string>, std::size_t> index;
   std::vector<std::vector<double>> values;
+  // A row's group follows from its channel's name and its plate-map entry alone (the role
+  // is the entry's): found once per pair, not once per row of every plate.
+  std::map<std::string, std::unordered_map<const WellInfo*, std::size_t>> known;
   for (const auto& ra : runs) {
     for (const auto& ca : ra.channels) {
+      auto& group_of = known[ca.channel->name];
       for (const auto& row : ca.rows) {
         if (row.role == Role::empty || !row.info) continue;
-        std::vector<std::string> key{ca.channel->name, std::string(to_string(row.role))};
-        for (std::size_t i : keep) key.push_back(i < row.info->values.size() ? row.info->values[i] : "");
-        auto [it, fresh] = index.emplace(key, t.groups.size());
-        if (fresh) {
-          SummaryGroup g;
-          g.channel = key[0];
-          g.role = key[1];
-          g.key.assign(key.begin() + 2, key.end());
-          g.v0_unit = ca.v0_unit;
-          t.groups.push_back(std::move(g));
-          values.emplace_back();
+        std::size_t group = 0;
+        if (auto hit = group_of.find(row.info); hit != group_of.end()) {
+          group = hit->second;
+        } else {
+          std::vector<std::string> key{ca.channel->name, std::string(to_string(row.role))};
+          for (std::size_t i : keep) key.push_back(i < row.info->values.size() ? row.info->values[i] : "");
+          auto [it, fresh] = index.emplace(key, t.groups.size());
+          if (fresh) {
+            SummaryGroup g;
+            g.channel = key[0];
+            g.role = key[1];
+            g.key.assign(key.begin() + 2, key.end());
+            g.v0_unit = ca.v0_unit;
+            t.groups.push_back(std::move(g));
+            values.emplace_back();
+          }
+          group = it->second;
+          group_of.emplace(row.info, group);
         }
-        SummaryGroup& g = t.groups[it->second];
+        SummaryGroup& g = t.groups[group];
         if (!g.wells.empty()) g.wells += ';';
         g.wells += well_name(row.well);
-        if (row.flags.empty() && !std::isnan(row.v0)) values[it->second].push_back(row.v0);
+        if (row.flags.empty() && !std::isnan(row.v0)) values[group].push_back(row.v0);
         else ++g.n_flagged;
       }
     }
