@@ -33,8 +33,9 @@
 //      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from
 //      the remaining reads with `estimator`.
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
-// Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen is O(w²) in the w
-// reads of the window.
+// Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
+// window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
+// is quicker (src/detail/pair_slopes.hpp).
 //
 // Flags (short words; `empty` is set by the caller for wells without a sample):
 //   overflow        the trace holds reads the instrument reported as overflow

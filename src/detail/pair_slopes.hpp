@@ -18,7 +18,7 @@ namespace vzero::detail {
 // Netanyahu (1992, Int. J. Comput. Geom. Appl. 2, 1–27) and Matoušek (1991, Inf. Process.
 // Lett. 39, 183–187) (citations from memory):
 //   the number of slopes ≤ t is the number of inversions between the order of the points by
-//   x and their order by y − t·x (merge sort, O(n log n)); slopes drawn from pseudo-random
+//   x and their order by y − t·x (a Fenwick tree, O(n log n)); slopes drawn from pseudo-random
 //   pairs (a fixed seed: same input, same work) give values a < b that bracket the wanted
 //   rank; the pairs whose slope lies between are those ordered differently by y − a·x and
 //   y − b·x, listed in O(n log n + their number), and the rank is selected among them. Two

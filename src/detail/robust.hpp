@@ -2,8 +2,10 @@
 // distribution quantiles they need. Internal to vzero (src/detail).
 //
 // Every function takes parallel arrays x[0..n), y[0..n) and returns a plain struct; none
-// allocates more than O(n) except theil_sen (n(n−1)/2 pairwise slopes). Results are
-// deterministic: no randomness, fixed summation order.
+// allocates more than O(n) except theil_sen below 650 points (it forms all pairwise slopes
+// there; above, O(n) memory, see pair_slopes.hpp). Results are deterministic: fixed
+// summation order, and the slope selection's pseudo-random samples have fixed seeds (they
+// change only its speed, never its result).
 #pragma once
 
 #include <cmath>
