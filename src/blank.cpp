@@ -112,7 +112,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   struct SharedBlank {
     Eigen::VectorXd mean;
     std::vector<ReadStatus> st;
-    std::string names;       // ';'-separated
+    std::string names;       // well_set_text of the blanks
     double noise_sd = NAN;   // pooled residual SD of the blanks
     bool noisy = false;      // one of them is blank-noisy
     double rate = NAN;       // slope of the mean trace
@@ -143,9 +143,11 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       SharedBlank sb;
       double var = 0;
       int nsd = 0;
+      std::vector<WellId> ids;
+      ids.reserve(use.size());
+      for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
+      sb.names = well_set_text(std::move(ids));
       for (int b : use) {
-        if (!sb.names.empty()) sb.names += ';';
-        sb.names += well_name(f.well(c.wells[static_cast<std::size_t>(b)]));
         const Line& l = blank_line[b];
         if (!std::isnan(l.resid_sd)) { var += l.resid_sd * l.resid_sd; ++nsd; }
         if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) sb.noisy = true;

@@ -132,7 +132,7 @@ std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, 
       {"v0_ci_high", "number", "", "upper end of the 95 % interval of v0, unit in v0_unit"},
       {"window", "string", "", "how the window was chosen: auto, leading or steepest"},
       {"tangent", "string", "", "which estimate v0 is (slope of the line, or an initial tangent)"},
-      {"blank_wells", "string", "", "';'-separated blank wells subtracted"},
+      {"blank_wells", "string", "", "blank wells subtracted, ';'-separated; a rectangle of 3 or more as its corners (A45:AF48 = rows A to AF, columns 45 to 48)"},
       {"blank_rate", "number", "", "the blank's rate, unit in slope_unit (subtracted in rate mode)"},
       {"path_cm", "number", "cm", "optical path length used for Beer–Lambert"},
   };

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <array>
 #include <cctype>
+#include <stdexcept>
 
 namespace vzero {
 
@@ -47,6 +48,47 @@ std::string row_label(int row) {
 }
 
 std::string well_name(WellId w) { return row_label(w.row) + std::to_string(w.column + 1); }
+
+std::string well_set_text(std::vector<WellId> wells) {
+  std::sort(wells.begin(), wells.end());
+  wells.erase(std::unique(wells.begin(), wells.end()), wells.end());
+  std::string out;
+  if (wells.empty()) return out;
+  int rows = 0, cols = 0;
+  for (const WellId& w : wells) {
+    if (w.row < 0 || w.column < 0) throw std::invalid_argument("well_set_text: negative row or column");
+    rows = std::max(rows, w.row + 1);
+    cols = std::max(cols, w.column + 1);
+  }
+  // 0: not in the set, 1: in it and not yet written, 2: written.
+  std::vector<unsigned char> cell(static_cast<std::size_t>(rows) * static_cast<std::size_t>(cols), 0);
+  const auto at = [&](int r, int c) -> unsigned char& { return cell[static_cast<std::size_t>(r) * static_cast<std::size_t>(cols) + static_cast<std::size_t>(c)]; };
+  for (const WellId& w : wells) at(w.row, w.column) = 1;
+  for (const WellId& w : wells) {
+    if (at(w.row, w.column) != 1) continue;
+    int c1 = w.column;
+    while (c1 + 1 < cols && at(w.row, c1 + 1) == 1) ++c1;
+    int r1 = w.row;
+    const auto row_free = [&](int r) {
+      for (int c = w.column; c <= c1; ++c)
+        if (at(r, c) != 1) return false;
+      return true;
+    };
+    while (r1 + 1 < rows && row_free(r1 + 1)) ++r1;
+    if (!out.empty()) out += ';';
+    if ((r1 - w.row + 1) * (c1 - w.column + 1) >= 3) {
+      for (int r = w.row; r <= r1; ++r)
+        for (int c = w.column; c <= c1; ++c) at(r, c) = 2;
+      out += well_name(w);
+      out += ':';
+      out += well_name(WellId{r1, c1});
+    } else {
+      at(w.row, w.column) = 2;
+      out += well_name(w);
+    }
+  }
+  return out;
+}
 
 namespace {
 // ASCII letters and digits, as <cctype> classifies them in the "C" locale vzero runs in

@@ -2,6 +2,10 @@
 #include "test_support.hpp"
 #include "vzero/run.hpp"
 
+#include <algorithm>
+#include <cstdint>
+#include <vector>
+
 using namespace vzero;
 
 TEST_CASE("well names follow the ANSI/SLAS 4-2004 row/column convention") {
@@ -55,5 +59,53 @@ TEST_CASE("well centres from ANSI/SLAS 4-2004 offsets") {
     auto z = *well_centre_mm(f, WellId{f.rows - 1, f.columns - 1});
     CHECK_ABS((a.first + z.first) / 2, 127.76 / 2, 1e-9);
     CHECK_ABS((a.second + z.second) / 2, 85.48 / 2, 1e-9);
+  }
+}
+
+namespace {
+// Expands well_set_text's output back into wells (each block to its rectangle).
+std::vector<WellId> expand_set_text(const std::string& text) {
+  std::vector<WellId> out;
+  std::size_t start = 0;
+  while (start < text.size()) {
+    std::size_t end = text.find(';', start);
+    if (end == std::string::npos) end = text.size();
+    const std::string item = text.substr(start, end - start);
+    const std::size_t colon = item.find(':');
+    const WellId a = *parse_well(item.substr(0, colon));
+    const WellId b = colon == std::string::npos ? a : *parse_well(item.substr(colon + 1));
+    for (int r = a.row; r <= b.row; ++r)
+      for (int c = a.column; c <= b.column; ++c) out.push_back(WellId{r, c});
+    start = end + 1;
+  }
+  return out;
+}
+}  // namespace
+
+TEST_CASE("sets of wells as text: lists, and rectangles as their corners") {
+  std::vector<WellId> block;  // columns 45–48 of a 1536-well plate, every row
+  for (int r = 0; r < 32; ++r)
+    for (int c = 44; c < 48; ++c) block.push_back(WellId{r, c});
+  CHECK(well_set_text(block) == "A45:AF48");
+  CHECK(well_set_text({*parse_well("D2"), *parse_well("D1")}) == "D1;D2");  // two wells stay a list
+  CHECK(well_set_text({*parse_well("A1"), *parse_well("B1"), *parse_well("C1"), *parse_well("A1")}) == "A1:C1");
+  CHECK(well_set_text({*parse_well("H1"), *parse_well("H12"), *parse_well("A1"), *parse_well("A12")}) == "A1;A12;H1;H12");
+  // An L shape: the top row's run first, then the column below it.
+  CHECK(well_set_text({*parse_well("A1"), *parse_well("A2"), *parse_well("A3"), *parse_well("B1"), *parse_well("C1")}) ==
+        "A1:A3;B1;C1");
+  CHECK(well_set_text({}).empty());
+  // Property: the text names exactly the wells of the set, each once, for pseudo-random sets.
+  std::uint64_t state = 12345;
+  for (int trial = 0; trial < 200; ++trial) {
+    std::vector<WellId> set;
+    for (int r = 0; r < 16; ++r)
+      for (int c = 0; c < 24; ++c) {
+        state = state * 6364136223846793005ULL + 1442695040888963407ULL;
+        if ((state >> 33) % 3 == 0) set.push_back(WellId{r, c});
+      }
+    std::vector<WellId> back = expand_set_text(well_set_text(set));
+    std::sort(back.begin(), back.end());
+    CHECK(std::adjacent_find(back.begin(), back.end()) == back.end());
+    CHECK(back == set);
   }
 }

@@ -41,7 +41,7 @@ struct BlankOptions {
 };
 
 struct WellBlank {
-  std::string blank_wells;     // ';'-separated wells averaged for this well, "" when none
+  std::string blank_wells;     // wells averaged for this well (well_set_text: "D1;D2", "A45:AF48"), "" when none
   double blank_rate = NAN;     // slope of the blank trace, signal units per second (OLS, all reads)
   double blank_noise_sd = NAN; // residual SD of the blank wells about their lines, signal units
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"

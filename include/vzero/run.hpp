@@ -49,6 +49,12 @@ std::optional<std::pair<double, double>> well_centre_mm(PlateFormat format, Well
 // "A".."Z", "AA".."AF" for rows 0..31.
 std::string row_label(int row);
 std::string well_name(WellId w);
+// A set of wells as text, ';'-separated in row-major order of their first well; a rectangle
+// of 3 or more wells all in the set is written as its corners, top left and bottom right:
+// {A45..A48, B45..B48, …, AF45..AF48} gives "A45:AF48", {D1, D2} gives "D1;D2". Rectangles
+// are taken greedily (from the first well not yet written, as far right, then as far down,
+// as the set allows), so the same set always gives the same text. Repeats are ignored.
+std::string well_set_text(std::vector<WellId> wells);
 // Parses "A1", "a1", "A01", "AF48"; nothing when the text is not a well name (surrounding
 // spaces are allowed). Rows beyond AF and column 0 are rejected.
 std::optional<WellId> parse_well(std::string_view text);
