@@ -38,6 +38,14 @@ TEST_CASE("bad usage exits 2, bad input exits 1, each with a message") {
   INFO(unknown.describe());
   CHECK(unknown.status == 2);
   CHECK(unknown.err == "vzero rates: unrecognised option '--colour'\n  see: vzero rates --help\n");
+  // A mistyped option gets the nearest one named (2 edits or fewer).
+  auto typo = run_vzero("rates x.csv --layot m.csv");
+  CHECK(typo.status == 2);
+  CHECK(typo.err == "vzero rates: unrecognised option '--layot'; did you mean --layout?\n  see: vzero rates --help\n");
+  auto swapped = run_vzero("fit r.csv --x substrate --modle mm");
+  CHECK(swapped.err == "vzero fit: unrecognised option '--modle'; did you mean --model?\n  see: vzero fit --help\n");
+  auto far = run_vzero("rates x.csv --layout m.csv --temperature 30");  // nothing close: no guess
+  CHECK(far.err == "vzero rates: unrecognised option '--temperature'\n  see: vzero rates --help\n");
   auto nofile = run_vzero("inspect no-such-file.csv");
   INFO(nofile.describe());
   CHECK(nofile.status == 1);

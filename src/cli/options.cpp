@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <fmt/format.h>
 #include <sstream>
+#include <string_view>
+#include <vector>
 
 #include "vzero/error.hpp"
 #include "vzero/profile.hpp"
@@ -10,6 +12,46 @@
 namespace vzero::cli {
 
 namespace po = boost::program_options;
+
+namespace {
+// Edit distance (insertions, deletions, substitutions; each costs 1).
+std::size_t edit_distance(std::string_view a, std::string_view b) {
+  std::vector<std::size_t> row(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    std::size_t diag = row[0];
+    row[0] = i;
+    for (std::size_t j = 1; j <= b.size(); ++j) {
+      const std::size_t up = row[j];
+      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diag + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      diag = up;
+    }
+  }
+  return row[b.size()];
+}
+
+// The option a mistyped name most likely meant: the nearest long name within 2 edits (ties:
+// the first in the help's order); "" when none is that close. (The start of a long name is
+// already taken for it by program_options when only one option starts so.)
+std::string nearest_option(const std::string& typed, const po::options_description& visible) {
+  std::string name = typed;
+  while (!name.empty() && name.front() == '-') name.erase(0, 1);
+  if (const auto eq = name.find('='); eq != std::string::npos) name.resize(eq);
+  if (name.size() < 3) return "";
+  std::string best;
+  std::size_t best_d = 3;
+  for (const auto& o : visible.options()) {
+    const std::string& candidate = o->long_name();
+    if (candidate.empty()) continue;
+    const std::size_t d = edit_distance(name, candidate);
+    if (d < best_d) {
+      best_d = d;
+      best = candidate;
+    }
+  }
+  return best.empty() ? "" : "--" + best;
+}
+}  // namespace
 
 po::variables_map parse_command_line(const Args& args, const po::options_description& visible,
                                      const po::options_description& hidden,
@@ -22,6 +64,9 @@ po::variables_map parse_command_line(const Args& args, const po::options_descrip
     po::notify(vm);
   } catch (const po::too_many_positional_options_error&) {
     throw UsageError("too many file names; see the usage line");
+  } catch (const po::unknown_option& e) {
+    const std::string near = nearest_option(e.get_option_name(), visible);
+    throw UsageError(near.empty() ? std::string(e.what()) : fmt::format("{}; did you mean {}?", e.what(), near));
   } catch (const po::error& e) {
     throw UsageError(e.what());
   }
