@@ -50,7 +50,9 @@ Role parse_role(const std::string& file, const Cell& c) {
                    {"use one of the four roles in the `role` column"});
 }
 
-double parse_conc(const std::string& file, const Cell& c, const std::string& column, bool allow_zero) {
+// A concentration: empty (NaN) or a number >= 0. Zero is kept for every role: a sample at
+// substrate 0 is the no-substrate control of a kinetics series.
+double parse_conc(const std::string& file, const Cell& c, const std::string& column) {
   if (detail::trim(c.text).empty()) return NAN;
   auto v = detail::parse_number(c.text);
   if (!v) {
@@ -58,9 +60,9 @@ double parse_conc(const std::string& file, const Cell& c, const std::string& col
                      fmt::format("expected a number in `{}`, found \"{}\"", column, c.text),
                      {"write the concentration as a plain number with '.' decimals, no unit (units go in the method)"});
   }
-  if (*v < 0 || (!allow_zero && *v == 0)) {
+  if (*v < 0) {
     throw InputError(Where{file, c.line, c.column, c.line_text},
-                     fmt::format("expected a concentration {} 0 in `{}`, found {}", allow_zero ? ">=" : ">", column, c.text),
+                     fmt::format("expected a concentration >= 0 in `{}`, found {}", column, c.text),
                      {"concentrations cannot be negative; leave the cell empty when unknown"});
   }
   return *v;
@@ -92,8 +94,8 @@ class MapBuilder {
         info.role = parse_role(file_, c);
         continue;
       }
-      if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i], true);
-      else if (l == "standard_conc") info.standard_conc = parse_conc(file_, c, columns_[i], true);
+      if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i]);
+      else if (l == "standard_conc") info.standard_conc = parse_conc(file_, c, columns_[i]);
       else if (l == "match") info.match = std::string(detail::trim(c.text));
       info.values.push_back(std::string(detail::trim(c.text)));
     }

@@ -467,6 +467,57 @@ TEST_CASE("fit_table: replicate SDs from per-well rows, and weights that cannot 
   CHECK(negative.fits[0].result.message == "relative weighting (1/v^2) needs positive rates; 1 of 4 rates are <= 0");
 }
 
+TEST_CASE("no-substrate controls: v(0) = 0 is a data point, left out only under relative weighting") {
+  // Puromycin treated (R nls, REFERENCES.md §4a) plus two rows at S = 0 with v = 0. Every
+  // model gives v(0) = 0 whatever its parameters (closed form), so these points leave the
+  // estimates and the RSS as R has them and add one degree of freedom each.
+  std::vector<double> s = puro_treated_S, v = puro_treated_v;
+  s.insert(s.begin(), {0.0, 0.0});
+  v.insert(v.begin(), {0.0, 0.0});
+  const auto r = vzero::fit_model(s, v, {}, Model::michaelis_menten);
+  REQUIRE(r.ok);
+  CHECK(r.n == 14);
+  CHECK(r.df == 12);
+  CHECK_REL(r.parameters[0].estimate, 212.683743142536, 1e-6);
+  CHECK_REL(r.parameters[1].estimate, 0.0641212816815671, 1e-6);
+  CHECK_REL(r.rss, 1195.4488144393588, 1e-9);
+  CHECK_REL(r.residual_sd, std::sqrt(1195.4488144393588 / 12), 1e-7);
+
+  // As a table: the controls (here a rate 0.8 and one of -0.4, as blank-corrected controls
+  // read) are kept unweighted; with relative weights 1/v^2 they have no weight, so they are
+  // left out and counted, and the fit equals the weighted fit of the other 12 rows. (They
+  // made the whole fit fail before: "relative weighting (1/v^2) needs positive rates".)
+  std::string text = "substrate,v0\n0,0.8\n0,-0.4\n";
+  std::vector<double> w;
+  for (std::size_t k = 0; k < 12; ++k) {
+    text += vzero::format_number(puro_treated_S[k]) + "," + vzero::format_number(puro_treated_v[k]) + "\n";
+    w.push_back(1 / (puro_treated_v[k] * puro_treated_v[k]));
+  }
+  const auto table = vzero::parse_table("rates.csv", text);
+  vzero::FitTableOptions o;
+  o.x_column = "substrate";
+  const auto plain = vzero::fit_table(table, o);
+  CHECK(plain.rows_used == 14);
+  CHECK(plain.notes.empty());
+  REQUIRE(plain.fits[0].result.ok);
+  CHECK(plain.fits[0].result.df == 12);
+  CHECK_REL(plain.fits[0].result.parameters[0].estimate, 212.683743142536, 1e-6);
+  CHECK_REL(plain.fits[0].result.rss, 1195.4488144393588 + 0.8 * 0.8 + 0.4 * 0.4, 1e-9);
+  o.weighting = vzero::Weighting::relative;
+  const auto relative = vzero::fit_table(table, o);
+  CHECK(relative.rows_read == 14);
+  CHECK(relative.rows_used == 12);
+  CHECK(relative.notes == std::vector<std::string>{"skipped 2 rows with substrate = 0 (no-substrate controls): every "
+                                                   "model gives v = 0 there, and relative weighting (1/v^2) has no "
+                                                   "weight for them"});
+  REQUIRE(relative.fits[0].result.ok);
+  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, Model::michaelis_menten);
+  REQUIRE(direct.ok);
+  CHECK(relative.fits[0].result.n == 12);
+  CHECK_REL(relative.fits[0].result.parameters[0].estimate, direct.parameters[0].estimate, 1e-12);
+  CHECK_REL(relative.fits[0].result.parameters[1].se, direct.parameters[1].se, 1e-12);
+}
+
 TEST_CASE("fit_table: global inhibition fit, JSON and per-level diagnostic curves") {
   std::vector<double> s, i, v;
   make_data({Model::competitive, {12, 50, 25}}, s, i, v);

@@ -89,3 +89,17 @@ TEST_CASE("a map naming wells the export lacks is an error") {
   PlateMap beyond = parse_plate_map("map.csv", "well,role\nA1,sample\nH12,blank\n");
   CHECK_THROWS_AS(check_plate_map(beyond, run), InputError);
 }
+
+TEST_CASE("a sample at substrate 0 is read: the no-substrate control of a kinetics series") {
+  // Common practice: a series of substrate concentrations includes a no-substrate control.
+  PlateMap m = parse_plate_map("map.csv", "well,role,substrate\nA1,sample,0\nA2,sample,20\nB1,blank,0\n");
+  REQUIRE(m.find(*parse_well("A1")) != nullptr);
+  CHECK(m.find(*parse_well("A1"))->role == Role::sample);
+  CHECK(m.find(*parse_well("A1"))->substrate == 0);
+  CHECK(m.find(*parse_well("B1"))->substrate == 0);
+  // Only a negative concentration is refused.
+  CHECK(message_of("well,role,substrate\nA1,sample,-0.5\n") ==
+        "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -0.5\n"
+        "  line 2: A1,sample,-0.5\n"
+        "  possible fix: concentrations cannot be negative; leave the cell empty when unknown");
+}

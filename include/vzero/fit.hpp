@@ -111,6 +111,10 @@ struct FitResult {
 // Fits a single-substrate model (michaelis_menten, substrate_inhibition, hill). `weights`
 // empty = all 1. Values must be finite, s ≥ 0, weights > 0; UsageError otherwise (and for
 // an inhibition model). A fit the data cannot support returns ok = false with a message.
+// Points at s = 0 (no-substrate controls) are valid data: every model gives v(0) = 0 for
+// any parameters, so they add their v² to the RSS and one degree of freedom each, and leave
+// the estimates as they are; the starting values and the count of distinct concentrations
+// use s > 0 only. (fit_table leaves them out under relative weighting, 1/v².)
 FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, const std::vector<double>& weights,
                     Model model, const FitOptions& options = {});
 // Fits any model globally over substrate and inhibitor (inhibitor ≥ 0).

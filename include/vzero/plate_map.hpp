@@ -49,8 +49,11 @@ struct PlateMap {
 };
 
 // Reads either form (detected from the first line). Throws InputError for an unknown well
-// name, a duplicated well, an unknown role, text where a number must be, a negative or
-// zero substrate for a sample, a ragged row.
+// name, a duplicated well, an unknown role, text where a number must be, a negative
+// concentration, a ragged row. Substrate 0 is read for every role: a sample at 0 is the
+// no-substrate control of a kinetics series, analysed like any sample (its rate is the
+// reaction without substrate); `vzero fit` keeps it as the point v(0) = 0 of every model (see
+// fit.hpp).
 PlateMap read_plate_map(const std::string& path);
 PlateMap parse_plate_map(const std::string& name, std::string_view text);
 

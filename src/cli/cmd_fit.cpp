@@ -25,8 +25,11 @@ written by vzero rates, or any CSV with a concentration column and a rate column
 
 Rows used: when the table has a `role` column only rows with --role (default sample);
 rows with a non-empty `flags` cell are skipped unless --include-flagged; rows with an empty
-x, y (or inhibitor) cell are skipped and counted. Each combination of the --group columns
-is fitted separately.
+x, y (or inhibitor) cell are skipped and counted. Rows at substrate 0 (no-substrate
+controls) are kept as points of the curve, where every model gives v = 0: they add to the
+residuals and degrees of freedom, not to the parameters; with --weight relative they are
+skipped and counted, as 1/v^2 has no weight for a rate near 0. Each combination of the
+--group columns is fitted separately.
 
 Models (v rate, S substrate, I inhibitor; all parameters > 0):
   mm                    v = Vmax*S/(Km + S)

@@ -158,6 +158,7 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   std::vector<std::vector<std::string>> keys;
   std::vector<std::vector<Row>> points;
   std::vector<std::size_t> used_rows;
+  int zero_substrate = 0;  // rows at S = 0 left out under relative weighting
   for (std::size_t r = 0; r < table.rows.size(); ++r) {
     ++out.rows_read;
     const auto& cells = table.rows[r];
@@ -186,6 +187,13 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
     };
     if (*x < 0) negative(x_col, *x);
     if (inh && *inh < 0) negative(i_col, *inh);
+    if (*x == 0 && options.weighting == Weighting::relative) {
+      // Every model gives v = 0 at S = 0 whatever its parameters, so such a point only adds
+      // to the residuals; weighted 1/v^2 by a rate near 0 it would swamp them (or, v <= 0,
+      // have no weight at all). Unweighted or weighted by replicate SDs it is kept.
+      ++zero_substrate;
+      continue;
+    }
     row.s = *x;
     row.v = *y;
     row.i = inh.value_or(0.0);
@@ -211,6 +219,10 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   if (out.rows_missing > 0)
     out.notes.push_back(fmt::format("skipped {} rows with an empty {}, {}{} cell", out.rows_missing, out.x_column,
                                     out.y_column, any_inhibition ? " or " + out.inhibitor_column : ""));
+  if (zero_substrate > 0)
+    out.notes.push_back(fmt::format("skipped {} rows with {} = 0 (no-substrate controls): every model gives v = 0 "
+                                    "there, and relative weighting (1/v^2) has no weight for them",
+                                    zero_substrate, out.x_column));
 
   const int v_unit_col = std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"),
                                    table.column("v0_unit")});
