@@ -57,7 +57,7 @@ double parse_conc(const std::string& file, const Cell& c, const std::string& col
   auto v = detail::parse_number(c.text);
   if (!v) {
     throw InputError(Where{file, c.line, c.column, c.line_text},
-                     fmt::format("expected a number in `{}`, found \"{}\"", column, c.text),
+                     fmt::format("expected a number in `{}`, found {}", column, detail::describe_found(c.text)),
                      {"write the concentration as a plain number with '.' decimals, no unit (units go in the method)"});
   }
   if (*v < 0) {

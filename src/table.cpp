@@ -39,7 +39,8 @@ std::optional<double> Table::number(std::size_t row, int col) const {
   auto v = detail::parse_number(cell, '.');
   if (!v) {
     throw InputError(Where{source, line_of_row[row], column_of_cell[row][static_cast<std::size_t>(col)]},
-                     fmt::format("expected a number in column \"{}\", found \"{}\"", header[static_cast<std::size_t>(col)], cell),
+                     fmt::format("expected a number in column \"{}\", found {}", header[static_cast<std::size_t>(col)],
+                                 detail::describe_found(cell)),
                      {"write numbers with '.' as the decimal mark and no units or thousands separators"});
   }
   return v;

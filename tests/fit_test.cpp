@@ -518,6 +518,24 @@ TEST_CASE("no-substrate controls: v(0) = 0 is a data point, left out only under 
   CHECK_REL(relative.fits[0].result.parameters[1].se, direct.parameters[1].se, 1e-12);
 }
 
+TEST_CASE("fit_table: a rate too large for a double says so; one too small for a double reads as 0") {
+  // DBL_MAX = 1.7976931348623157e308 (C11 §5.2.4.2.2); 1e-400 rounds to 0 (IEEE 754, from memory).
+  vzero::FitTableOptions o;
+  o.x_column = "substrate";
+  try {
+    vzero::fit_table(vzero::parse_table("rates.csv", "substrate,v0\n1,2\n2,1e999\n"), o);
+    FAIL("expected an InputError");
+  } catch (const vzero::InputError& e) {
+    CHECK(e.formatted() ==
+          "rates.csv:3:3: expected a number in column \"v0\", found \"1e999\", which is too large for a double (the "
+          "largest is 1.7976931348623157e308)\n"
+          "  possible fix: write numbers with '.' as the decimal mark and no units or thousands separators");
+  }
+  const auto t = vzero::fit_table(vzero::parse_table("rates.csv", "substrate,v0\n1e-400,1\n2,3\n"), o);
+  REQUIRE(t.fits.at(0).s.size() == 2);
+  CHECK(t.fits[0].s[0] == 0.0);
+}
+
 TEST_CASE("fit_table: global inhibition fit, JSON and per-level diagnostic curves") {
   std::vector<double> s, i, v;
   make_data({Model::competitive, {12, 50, 25}}, s, i, v);

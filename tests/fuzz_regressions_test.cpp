@@ -111,16 +111,19 @@ TEST_CASE("regression: a grid header naming a column twice is refused, not read 
 }
 
 TEST_CASE("regression: a read time that overflows to infinity in seconds is refused") {
-  // 1e307 min is 6e308 s: beyond a double. Found while checking the fuzz invariants.
+  // 1e307 min is 6e308 s: beyond a double. Found while checking the fuzz invariants. The
+  // message says what is wrong: the time is out of range (beyond 1e10 s).
   auto p = vzero::load_profile("wide-generic");
   CHECK(outcome("Time [min],A1\n0,0.1\n1e307,0.2\n", p) ==
-        "input:3:1: expected a read time, found \"1e307\"\n"
+        "input:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found \"1e307\" min, which is "
+        "out of range\n"
         "  line 3: 1e307,0.2\n"
-        "  possible fixes:\n"
-        "    - write times as numbers (unit from the header or `time_unit`) or as h:mm:ss\n"
-        "    - end the data block with an empty line before any trailing text");
-  CHECK(outcome("Time [s],A1\n0,0.1\n1e308:00:00,0.2\n", p).rfind("input:3:1: expected a read time, found \"1e308:00:00\"", 0) ==
-        0);
+        "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+        "`time_unit`) and that the column holds read times");
+  CHECK(outcome("Time [s],A1\n0,0.1\n1e308:00:00,0.2\n", p)
+            .rfind("input:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found \"1e308:00:00\", "
+                   "which is out of range\n",
+                   0) == 0);
 }
 
 TEST_CASE("regression: a plate given as a float beyond int64 is refused without undefined behaviour") {

@@ -1,5 +1,6 @@
 // The three shape readers and the profile options, on the demo plate and small inputs.
 #include <cmath>
+#include <limits>
 
 #include "test_support.hpp"
 #include "vzero/error.hpp"
@@ -190,4 +191,69 @@ TEST_CASE("a plate map given as the export is recognised") {
     REQUIRE(e.fixes().size() == 2);
     CHECK(e.fixes()[0] == "this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
   }
+}
+
+TEST_CASE("a number too small for a double reads as 0; one too large is refused, saying so") {
+  // IEEE 754 round to nearest: below half the smallest subnormal (2^-1075, about 2.5e-324)
+  // a decimal rounds to a zero of its sign (from memory); std::from_chars reports it as
+  // result_out_of_range all the same. 1.7976931348623157e308 is DBL_MAX (C11 §5.2.4.2.2).
+  Run r = wide("Time [s],A1,A2,A3\n0,1e-400,-1e-400,4.9e-324\n30,0.000000000000000000000000000000001e-300,1,2\n");
+  const Channel& c = r.channels.at(0);
+  CHECK(c.status(0, 0) == ReadStatus::ok);
+  CHECK(c.values(0, 0) == 0.0);
+  CHECK_FALSE(std::signbit(c.values(0, 0)));
+  CHECK(c.values(0, 1) == 0.0);
+  CHECK(std::signbit(c.values(0, 1)));
+  CHECK(c.values(0, 2) == std::numeric_limits<double>::denorm_min());
+  CHECK(c.values(1, 0) == 0.0);
+  CHECK(message_of([] { wide("Time [s],A1\n0,1e400\n"); }) ==
+        "t.csv:2:3: expected a number for well A1, found \"1e400\", which is too large for a double (the largest is "
+        "1.7976931348623157e308)\n"
+        "  line 2: 0,1e400\n"
+        "  possible fix: correct the cell; if the instrument writes \"1e400\" for a saturated read, add it to the "
+        "profile's `overflow` list");
+  CHECK(message_of([] { wide("Time [s];A1\n0;-2,5e999\n", "wide-semicolon-comma"); }) ==
+        "t.csv:2:3: expected a number for well A1, found \"-2,5e999\", which is too large for a double (the largest is "
+        "1.7976931348623157e308)\n"
+        "  line 2: 0;-2,5e999\n"
+        "  possible fix: correct the cell; if the instrument writes \"-2,5e999\" for a saturated read, add it to the "
+        "profile's `overflow` list");
+}
+
+TEST_CASE("a read time beyond 1e10 s is out of range, and the message says so") {
+  // 1e10 s is the limit (reader_common.hpp, k_max_time_s); 1e10 s = 166666666.67 min.
+  CHECK(wide("Time [s],A1\n0,1\n1e10,2\n").channels.at(0).time_s.back() == 1e10);
+  CHECK(wide("Time [s],A1\n-1e10,1\n0,2\n").channels.at(0).time_s.front() == -1e10);
+  CHECK(message_of([] { wide("Time [min],A1\n0,1\n166666667,2\n"); }) ==
+        "t.csv:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found \"166666667\" min, which is "
+        "out of range\n"
+        "  line 3: 166666667,2\n"
+        "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+        "`time_unit`) and that the column holds read times");
+  // h:mm:ss: 2777777:46:40 is 1e10 s exactly, one second more is out of range.
+  CHECK(wide("Time [s],A1\n0,1\n2777777:46:40,2\n").channels.at(0).time_s.back() == 1e10);
+  CHECK(message_of([] { wide("Time [s],A1\n0,1\n2777777:46:41,2\n"); }).rfind(
+            "t.csv:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found \"2777777:46:41\", which "
+            "is out of range\n",
+            0) == 0);
+  // Not a time at all: the message stays as it was.
+  CHECK(message_of([] { wide("Time [s],A1\n0,1\n1.5:00:00,2\n"); }).rfind(
+            "t.csv:3:1: expected a read time, found \"1.5:00:00\"\n", 0) == 0);
+  CHECK(message_of([] { wide("Time [s],A1\n0,1\n1:75,2\n"); }).rfind("t.csv:3:1: expected a read time, found \"1:75\"\n",
+                                                                    0) == 0);
+  // The grid shape's read label, and the long shape.
+  CHECK(message_of([] {
+          read_run_text("g.txt", "Read 1 at 99999999999 s\n\t1\nA\t0.5\n", load_profile("grid-generic"));
+        }) == "g.txt:1:1: expected a read time in the read label between -1e10 and 1e10 s (about 317 years), found "
+              "\"99999999999\" s, which is out of range\n"
+              "  line 1: Read 1 at 99999999999 s\n"
+              "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+              "`time_unit`) and that the column holds read times");
+  CHECK(message_of([] {
+          read_run_text("l.csv", "well,time_min,value\nA1,0,1\nA1,1e300,2\n", load_profile("long-generic"));
+        }) == "l.csv:3:4: expected a read time between -1e10 and 1e10 s (about 317 years), found \"1e300\" min, which is "
+              "out of range\n"
+              "  line 3: A1,1e300,2\n"
+              "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+              "`time_unit`) and that the column holds read times");
 }

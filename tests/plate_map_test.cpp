@@ -102,4 +102,10 @@ TEST_CASE("a sample at substrate 0 is read: the no-substrate control of a kineti
         "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -0.5\n"
         "  line 2: A1,sample,-0.5\n"
         "  possible fix: concentrations cannot be negative; leave the cell empty when unknown");
+  // A concentration too large for a double says so (1.7976931348623157e308 = DBL_MAX, C11 §5.2.4.2.2).
+  CHECK(message_of("well,role,substrate\nA1,sample,1e400\n") ==
+        "map.csv:2:11: expected a number in `substrate`, found \"1e400\", which is too large for a double (the largest "
+        "is 1.7976931348623157e308)\n"
+        "  line 2: A1,sample,1e400\n"
+        "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
 }

@@ -3,6 +3,7 @@
 // generated lines (a property test).
 #include <charconv>
 #include <cstring>
+#include <limits>
 #include <random>
 #include <string>
 #include <vector>
@@ -89,4 +90,37 @@ TEST_CASE("numbers read bit for bit as std::from_chars reads them") {
     INFO(t);
     CHECK(vzero::detail::parse_number(t).has_value() == (ec == std::errc() && p == e));
   }
+}
+
+TEST_CASE("a number too small for a double reads as a zero of its sign; one too large is refused") {
+  // IEEE 754 round to nearest: a value below half the smallest subnormal (2^-1075, about
+  // 2.47e-324) rounds to 0 with its sign (from memory); std::from_chars reads the subnormals
+  // and reports the rest as result_out_of_range. DBL_MAX = 1.7976931348623157e308 (C11 §5.2.4.2.2).
+  auto same_bits = [](double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; };
+  for (std::string t : {"1e-400", "2e-324", "0.0000000000000000000000000000001e-300", "1e-99999999999999999999",
+                        "+1e-400", " 1E-400 "}) {
+    INFO(t);
+    auto v = vzero::detail::parse_number(t);
+    REQUIRE(v.has_value());
+    CHECK(same_bits(*v, 0.0));
+    CHECK_FALSE(vzero::detail::number_too_large(t));
+  }
+  CHECK(same_bits(*vzero::detail::parse_number("-1e-400"), -0.0));
+  CHECK(same_bits(*vzero::detail::parse_number("-1,5e-400", ','), -0.0));
+  CHECK(*vzero::detail::parse_number("4.9406564584124654e-324") == std::numeric_limits<double>::denorm_min());
+  CHECK(*vzero::detail::parse_number("1.7976931348623157e308") == std::numeric_limits<double>::max());
+  for (std::string t : {"1e400", "-1e400", "1.8e308", "123456789e301", "0.00001e314", "1e99999999999999999999"}) {
+    INFO(t);
+    CHECK_FALSE(vzero::detail::parse_number(t).has_value());
+    CHECK(vzero::detail::number_too_large(t));
+  }
+  CHECK(vzero::detail::number_too_large("1,5e400", ','));
+  CHECK_FALSE(vzero::detail::number_too_large("1.5e400", ','));  // a '.' in a decimal-comma file is no number
+  for (std::string t : {"inf", "nan", "abc", "1e", "", "1e400x"}) {
+    INFO(t);
+    CHECK_FALSE(vzero::detail::number_too_large(t));
+  }
+  CHECK(vzero::detail::describe_found(" 1e999 ") ==
+        "\"1e999\", which is too large for a double (the largest is 1.7976931348623157e308)");
+  CHECK(vzero::detail::describe_found("abc") == "\"abc\"");
 }

@@ -76,16 +76,17 @@ Run read_grid(ReaderInput in) {
     b.label_text = std::string(line);
     auto t = parse_time(time_text, p.time_unit, p.decimal);
     if (!t) {
-      throw InputError(Where{file, ln, 1, std::string(line)},
-                       fmt::format("expected a read time in the read label, found \"{}\"", time_text),
-                       {"make group 1 of `grid.read_label` capture the time (number or h:mm:ss)"});
+      bad_time_error(Where{file, ln, 1, std::string(line)}, time_text, p.time_unit, p.decimal,
+                     "a read time in the read label",
+                     {"make group 1 of `grid.read_label` capture the time (number or h:mm:ss)"});
     }
     b.time_s = *t;
     if (!temp_text.empty()) {
       auto v = parse_number(temp_text, p.decimal);
       if (!v) {
         throw InputError(Where{file, ln, 1, std::string(line)},
-                         fmt::format("expected a temperature in the read label, found \"{}\"", temp_text),
+                         fmt::format("expected a temperature in the read label, found {}",
+                                     describe_found(temp_text, p.decimal)),
                          {"make group 2 of `grid.read_label` capture only the number"});
       }
       b.temp_c = *v;

@@ -210,9 +210,8 @@ Run read_long(ReaderInput in) {
     const FieldView& tf = views[static_cast<std::size_t>(cols->time)];
     auto t = parse_time(tf.text, cols->time_unit, p.decimal);
     if (!t) {
-      throw InputError(Where{file, ln, tf.column, std::string(line)},
-                       fmt::format("expected a read time, found \"{}\"", trim(tf.text)),
-                       {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss"});
+      bad_time_error(Where{file, ln, tf.column, std::string(line)}, tf.text, cols->time_unit, p.decimal,
+                     "a read time", {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss"});
     }
     Row r{};
     r.well = static_cast<std::uint16_t>(w->row * 48 + w->column);

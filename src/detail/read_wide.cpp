@@ -132,11 +132,11 @@ Run read_wide(ReaderInput in) {
       if (tcol < fields_v.size()) t = parse_time(fields_v[tcol].text, header->time_unit, p.decimal);
       if (!t) {
         if (fields_v.size() == header->roles.size()) {
-          throw InputError(Where{file, ln, tcol < fields_v.size() ? fields_v[tcol].column : 1, std::string(line)},
-                           fmt::format("expected a read time, found \"{}\"",
-                                       tcol < fields_v.size() ? std::string(trim(fields_v[tcol].text)) : std::string()),
-                           {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss",
-                            "end the data block with an empty line before any trailing text"});
+          bad_time_error(Where{file, ln, tcol < fields_v.size() ? fields_v[tcol].column : 1, std::string(line)},
+                         tcol < fields_v.size() ? fields_v[tcol].text : std::string_view(), header->time_unit,
+                         p.decimal, "a read time",
+                         {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss",
+                          "end the data block with an empty line before any trailing text"});
         }
         // A line of another shape ends the block (trailing notes, a new preamble).
         close_block();

@@ -1,7 +1,6 @@
 #include "detail/reader_common.hpp"
 
 #include <algorithm>
-#include <charconv>
 #include <cmath>
 #include <fmt/format.h>
 #include <map>
@@ -123,8 +122,8 @@ std::optional<double> parse_time(std::string_view text, TimeUnit unit, char deci
       if (i > 0 && *v >= 60) return std::nullopt;
       total = total * 60 + *v;
     }
-    // 1e308 minutes is a number but no time: seconds must stay finite.
-    if (!std::isfinite(total)) return std::nullopt;
+    // 1e308 hours is a number but no time (nor finite in seconds).
+    if (!(total <= k_max_time_s)) return std::nullopt;
     return total;
   }
   auto v = parse_number(text, decimal);
@@ -135,8 +134,42 @@ std::optional<double> parse_time(std::string_view text, TimeUnit unit, char deci
     case TimeUnit::minutes: s *= 60; break;
     case TimeUnit::hours: s *= 3600; break;
   }
-  if (!std::isfinite(s)) return std::nullopt;
+  if (!(std::fabs(s) <= k_max_time_s)) return std::nullopt;
   return s;
+}
+
+bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal) {
+  text = trim(text);
+  if (parse_time(text, unit, decimal)) return false;
+  const auto colon = text.find(':');
+  if (colon == std::string_view::npos) return number_too_large(text, decimal) || parse_number(text, decimal).has_value();
+  // A clock time is out of range when it reads as one with 0 as its first part, and that
+  // part is a whole number of hours (or minutes) >= 0.
+  const std::string_view first = trim(text.substr(0, colon));
+  const auto v = parse_number(first, decimal);
+  const bool whole = v ? *v >= 0 && *v == std::floor(*v) : !first.empty() && first.front() != '-' &&
+                                                               number_too_large(first, decimal);
+  if (!whole) return false;
+  std::string small(text);
+  small.replace(0, colon, "0");
+  return parse_time(small, unit, decimal).has_value();
+}
+
+std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal, std::string_view what) {
+  text = trim(text);
+  if (!time_out_of_range(text, unit, decimal)) return fmt::format("expected {}, found \"{}\"", what, text);
+  static_assert(k_max_time_s == 1e10, "the message below states the limit");
+  const bool clock = text.find(':') != std::string_view::npos;
+  return fmt::format("expected {} between -1e10 and 1e10 s (about 317 years), found \"{}\"{}, which is out of range",
+                     what, text, clock ? "" : fmt::format(" {}", to_string(unit)));
+}
+
+void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal, std::string_view what,
+                    std::vector<std::string> fixes) {
+  if (time_out_of_range(text, unit, decimal))
+    fixes = {"check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's `time_unit`) "
+             "and that the column holds read times"};
+  throw InputError(std::move(where), bad_time_message(text, unit, decimal, what), std::move(fixes));
 }
 
 std::optional<TimeUnit> unit_in_header(std::string_view header) {
@@ -178,11 +211,10 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
   std::string_view t = trim(cell);
   std::vector<std::string> fixes;
   std::string lowered = lower(t);
-  double ignored = 0;
-  auto [end, ec] = std::from_chars(t.data(), t.data() + t.size(), ignored);
-  if (ec == std::errc::result_out_of_range && end == t.data() + t.size()) {
-    fixes.push_back("the number is beyond the range vzero reads (about 1e-308 to 1e308 in size): correct the "
-                    "cell, or mark it with an `overflow` or `missing` token");
+  if (number_too_large(t, p.decimal)) {
+    fixes.push_back(fmt::format("correct the cell; if the instrument writes \"{}\" for a saturated read, add it to "
+                                "the profile's `overflow` list",
+                                t));
   } else if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
     fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
   } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
@@ -197,7 +229,8 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
     fixes.push_back(fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
   }
   throw InputError(Where{file, line, column, std::string(line_text)},
-                   fmt::format("expected a number for {}, found \"{}\"", what_cell, t), std::move(fixes));
+                   fmt::format("expected a number for {}, found {}", what_cell, describe_found(t, p.decimal)),
+                   std::move(fixes));
 }
 
 ChannelBuilder::ChannelBuilder(SectionStart start, std::vector<WellId> wells)

@@ -46,8 +46,24 @@ bool match_capture(const CompiledProfile& cp, std::string_view line,
 // Guesses quantity and unit from a channel name ("A405" -> absorbance/AU).
 void guess_quantity(const std::string& name, Quantity& quantity, std::string& unit);
 
-// Seconds from a time cell: plain numbers in `unit`, or clock text h:mm:ss / mm:ss.
+// The largest read time accepted, in seconds, on either side of 0: about 317 years, far
+// beyond any kinetic run (and beyond clock stamps in seconds since 1970), so a larger time
+// is a wrong unit or a wrong column; it also keeps every time finite in seconds.
+inline constexpr double k_max_time_s = 1e10;
+
+// Seconds from a time cell: plain numbers in `unit`, or clock text h:mm:ss / mm:ss; nullopt
+// when the text is no time or lies beyond k_max_time_s.
 std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal);
+// True when parse_time refuses `text` only because it lies beyond k_max_time_s (or beyond a
+// double).
+bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal);
+// The message for a time cell parse_time refused: `expected WHAT, found "TEXT"`, or for a
+// time out of range what is wrong and the largest time accepted.
+std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal, std::string_view what);
+// Throws the InputError for such a cell: bad_time_message, with `fixes`, or for a time out of
+// range a fix about the time unit.
+[[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal,
+                                 std::string_view what, std::vector<std::string> fixes);
 // The unit a time header names ("Time [min]", "time_s"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
 

@@ -200,30 +200,100 @@ bool parse_plain_decimal(std::string_view t, char decimal, double& out) {
   return true;
 }
 
-}  // namespace
+// The decimal exponent of the first significant digit of a number that std::from_chars read
+// whole (digits, an optional '.', an optional exponent), saturated far beyond a double's
+// range: 2 for "123.4", -3 for "0.00123", -400 for "1e-400". Meaningful only when a digit
+// other than 0 is present (the numbers std::from_chars finds out of range).
+long long leading_exponent(std::string_view t) {
+  std::size_t i = 0;
+  if (i < t.size() && t[i] == '-') ++i;
+  long long lead = 0;
+  bool found = false;
+  long long int_digits = 0;  // significant digits before the mark
+  for (; i < t.size() && t[i] >= '0' && t[i] <= '9'; ++i) {
+    if (found || t[i] != '0') {
+      found = true;
+      ++int_digits;
+    }
+  }
+  if (found) lead = int_digits - 1;
+  if (i < t.size() && t[i] == '.') {
+    ++i;
+    long long zeros = 0;
+    for (; i < t.size() && t[i] >= '0' && t[i] <= '9'; ++i) {
+      if (!found && t[i] == '0') ++zeros;
+      else if (!found) {
+        found = true;
+        lead = -(zeros + 1);
+      }
+    }
+  }
+  if (i < t.size() && (t[i] == 'e' || t[i] == 'E')) {
+    ++i;
+    bool minus = false;
+    if (i < t.size() && (t[i] == '-' || t[i] == '+')) minus = t[i++] == '-';
+    long long e = 0;
+    for (; i < t.size() && t[i] >= '0' && t[i] <= '9'; ++i) e = std::min(e * 10 + (t[i] - '0'), 1'000'000'000LL);
+    lead += minus ? -e : e;
+  }
+  return lead;
+}
 
-std::optional<double> parse_number(std::string_view text, char decimal) {
+enum class NumberKind { ok, bad, too_large };
+
+NumberKind read_number(std::string_view text, char decimal, double& out) {
   text = trim(text);
-  if (text.empty()) return std::nullopt;
+  if (text.empty()) return NumberKind::bad;
   if (text.front() == '+') text.remove_prefix(1);
-  if (text.empty() || text.front() == '+') return std::nullopt;
-  if (double v = 0; parse_plain_decimal(text, decimal, v)) return v;
+  if (text.empty() || text.front() == '+') return NumberKind::bad;
+  if (parse_plain_decimal(text, decimal, out)) return NumberKind::ok;
   char buf[64];
   if (decimal != '.') {
-    if (text.size() >= sizeof buf) return std::nullopt;
+    if (text.size() >= sizeof buf) return NumberKind::bad;
     // A '.' in a decimal-comma file is not a decimal mark; refuse rather than guess.
-    if (text.find('.') != std::string_view::npos) return std::nullopt;
+    if (text.find('.') != std::string_view::npos) return NumberKind::bad;
     std::copy(text.begin(), text.end(), buf);
     std::replace(buf, buf + text.size(), decimal, '.');
     text = std::string_view(buf, text.size());
   } else if (text.find(',') != std::string_view::npos) {
-    return std::nullopt;
+    return NumberKind::bad;
   }
   double v = 0;
   auto [p, ec] = std::from_chars(text.data(), text.data() + text.size(), v, std::chars_format::general);
-  if (ec != std::errc() || p != text.data() + text.size()) return std::nullopt;
-  if (!std::isfinite(v)) return std::nullopt;  // "inf"/"nan" text, or out of range
-  return v;
+  if (p != text.data() + text.size()) return NumberKind::bad;
+  if (ec == std::errc::result_out_of_range) {
+    // The whole text is a number beyond a double. Below the smallest subnormal it rounds to
+    // a zero of its sign; above the largest double it is an error.
+    if (leading_exponent(text) < 0) {
+      out = text.front() == '-' ? -0.0 : 0.0;
+      return NumberKind::ok;
+    }
+    return NumberKind::too_large;
+  }
+  if (ec != std::errc()) return NumberKind::bad;
+  if (!std::isfinite(v)) return NumberKind::bad;  // "inf"/"nan" text
+  out = v;
+  return NumberKind::ok;
+}
+
+}  // namespace
+
+std::optional<double> parse_number(std::string_view text, char decimal) {
+  double v = 0;
+  if (read_number(text, decimal, v) == NumberKind::ok) return v;
+  return std::nullopt;
+}
+
+bool number_too_large(std::string_view text, char decimal) {
+  double v = 0;
+  return read_number(text, decimal, v) == NumberKind::too_large;
+}
+
+std::string describe_found(std::string_view text, char decimal) {
+  std::string_view t = trim(text);
+  std::string out = "\"" + std::string(t) + "\"";
+  if (number_too_large(t, decimal)) out += ", which is too large for a double (the largest is 1.7976931348623157e308)";
+  return out;
 }
 
 char guess_delimiter(std::string_view line) {

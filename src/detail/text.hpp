@@ -40,8 +40,21 @@ void split_views_into(std::string_view line, char delimiter, std::vector<FieldVi
 
 // Parses a decimal number with std::from_chars (locale-independent). `decimal` is '.' or
 // ','; with ',' the text "1,5" reads as 1.5. Surrounding blanks are ignored; "+1" is
-// accepted; "nan", "inf" and anything with trailing text are rejected.
+// accepted; "nan", "inf" and anything with trailing text are rejected. A number too small
+// for a double (below about 4.9e-324 in size, e.g. "1e-400") is a tiny number, not garbage:
+// it reads as 0 with its sign, as IEEE 754 rounding gives it (std::from_chars reports it as
+// result_out_of_range). A number too large for a double ("1e400") is rejected: see
+// number_too_large.
 std::optional<double> parse_number(std::string_view text, char decimal = '.');
+
+// True when `text` is a well-formed number that parse_number rejects only because it is too
+// large in size for a double (beyond about 1.8e308).
+bool number_too_large(std::string_view text, char decimal = '.');
+
+// The "found ..." part of a message about a cell that should hold a number: the text in
+// quotes, and for a number too large for a double that it is, e.g.
+// `"1e999", which is too large for a double (the largest is 1.7976931348623157e308)`.
+std::string describe_found(std::string_view text, char decimal = '.');
 
 // Guesses the delimiter of a line: the most frequent of ';', tab and ',' outside quotes
 // (',' loses ties to ';' so that decimal-comma exports are read right). 0 when none.
