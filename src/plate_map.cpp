@@ -86,6 +86,8 @@ class MapBuilder {
     WellInfo info;
     info.well = w;
     info.line = line;
+    info.column = well_column;
+    info.line_text = line_text;
     for (std::size_t i = 0; i < columns_.size(); ++i) {
       std::string l = detail::lower(columns_[i]);
       const Cell& c = cells[i];
@@ -271,16 +273,18 @@ PlateMap read_plate_map(const std::string& path) {
 
 void check_plate_map(const PlateMap& map, const Run& run) {
   for (const auto& [w, info] : map.wells) {
+    const Where where{map.source, info.line, info.column, info.line_text};
     if (!run.format.holds(w)) {
-      throw InputError(Where{map.source, info.line},
-                       fmt::format("well {} is not on the {}-well plate read from {}", well_name(w), run.format.wells(),
-                                   run.source),
+      throw InputError(where,
+                       fmt::format("well {} is not on the {}-well plate (rows A–{}, columns 1–{}) read from {}",
+                                   well_name(w), run.format.wells(), row_label(run.format.rows - 1),
+                                   run.format.columns, run.source),
                        {"check the well name in the plate map, or set `plate` in the profile"});
     }
     bool read = false;
     for (const auto& c : run.channels) read |= c.column_of(run.format.index(w)) >= 0;
     if (!read) {
-      throw InputError(Where{map.source, info.line},
+      throw InputError(where,
                        fmt::format("well {} is in the plate map but {} has no reads for it", well_name(w), run.source),
                        {"remove the well from the map, or check that the map belongs to this export"});
     }

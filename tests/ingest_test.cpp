@@ -257,3 +257,29 @@ TEST_CASE("a read time beyond 1e10 s is out of range, and the message says so") 
               "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
               "`time_unit`) and that the column holds read times");
 }
+
+TEST_CASE("a well off a fixed plate is named with file:line:column in every shape") {
+  // Common practice: a 6-well plate has rows A–B and columns 1–3.
+  Profile w = load_profile("wide-generic");
+  w.plate_wells = 6;
+  CHECK(message_of([&] { read_run_text("w.csv", "Time [s],A1,B4\n0,1,2\n", w); }) ==
+        "w.csv:1:13: well B4 does not exist on a 6-well plate (rows A–B, columns 1–3)\n"
+        "  line 1: Time [s],A1,B4\n"
+        "  possible fix: set `plate` in the profile to the plate used (now 6), or 0 to infer it");
+  Profile l = load_profile("long-generic");
+  l.plate_wells = 6;
+  CHECK(message_of([&] { read_run_text("l.csv", "well,time,value\nA1,0,1\nC1,0,2\n", l); }) ==
+        "l.csv:3:1: well C1 does not exist on a 6-well plate (rows A–B, columns 1–3)\n"
+        "  line 3: C1,0,2\n"
+        "  possible fix: set `plate` in the profile to the plate used (now 6), or 0 to infer it");
+  Profile g = load_profile("grid-generic");
+  g.plate_wells = 6;
+  CHECK(message_of([&] { read_run_text("g.txt", "Read 1 at 0 s\n\t1\t4\nA\t1\t2\n", g); }) ==
+        "g.txt:2:4: column 4 does not exist on a 6-well plate (rows A–B, columns 1–3)\n"
+        "  line 2: \t1\t4\n"
+        "  possible fix: set `plate` in the profile to the plate used (now 6), or 0 to infer it");
+  CHECK(message_of([&] { read_run_text("g.txt", "Read 1 at 0 s\n\t1\t2\nA\t1\t2\nC\t3\t4\n", g); }) ==
+        "g.txt:4:1: row C does not exist on a 6-well plate (rows A–B, columns 1–3)\n"
+        "  line 4: C\t3\t4\n"
+        "  possible fix: set `plate` in the profile to the plate used (now 6), or 0 to infer it");
+}

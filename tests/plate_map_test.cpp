@@ -83,11 +83,31 @@ TEST_CASE("a map naming wells the export lacks is an error") {
     FAIL("expected an error");
   } catch (const InputError& e) {
     CHECK(e.formatted() ==
-          "map.csv:3: well B3 is in the plate map but plate.csv has no reads for it\n"
+          "map.csv:3:1: well B3 is in the plate map but plate.csv has no reads for it\n"
+          "  line 3: B3,blank\n"
           "  possible fix: remove the well from the map, or check that the map belongs to this export");
   }
-  PlateMap beyond = parse_plate_map("map.csv", "well,role\nA1,sample\nH12,blank\n");
-  CHECK_THROWS_AS(check_plate_map(beyond, run), InputError);
+  // A well beyond the plate: file:line:column of its well name (the audit found only file:line).
+  PlateMap beyond = parse_plate_map("map.csv", "role,well\nsample,A1\nblank,H12\n");
+  try {
+    check_plate_map(beyond, run);
+    FAIL("expected an error");
+  } catch (const InputError& e) {
+    CHECK(e.formatted() ==
+          "map.csv:3:7: well H12 is not on the 6-well plate (rows A–B, columns 1–3) read from plate.csv\n"
+          "  line 3: blank,H12\n"
+          "  possible fix: check the well name in the plate map, or set `plate` in the profile");
+  }
+  // Plate-grid form: the place of the well's role cell.
+  PlateMap grid = parse_plate_map("map.csv", "role\n,1,2,3\nA,sample,,\nC,,blank,\n");
+  try {
+    check_plate_map(grid, run);
+    FAIL("expected an error");
+  } catch (const InputError& e) {
+    CHECK(e.where().line == 4);
+    CHECK(e.where().column == 4);
+    CHECK(e.message() == "well C2 is not on the 6-well plate (rows A–B, columns 1–3) read from plate.csv");
+  }
 }
 
 TEST_CASE("a sample at substrate 0 is read: the no-substrate control of a kinetics series") {

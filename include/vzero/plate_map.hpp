@@ -35,7 +35,9 @@ struct WellInfo {
   double standard_conc = NAN;   // NaN when not given
   std::string match;            // empty when not given
   std::vector<std::string> values;  // text of every PlateMap::columns entry, trimmed
-  int line = 0;                 // where the well was defined
+  int line = 0;                 // where the well was defined: line, column of its well name
+  int column = 0;               // (grid form: of its role cell) and the line's text
+  std::string line_text;
 };
 
 struct PlateMap {

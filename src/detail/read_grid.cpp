@@ -41,6 +41,7 @@ Run read_grid(ReaderInput in) {
   std::vector<ReadStatus> stats;
   std::string_view line;
   bool pending_line = false;  // `line` must be handled again as an outside line
+  const std::optional<PlateFormat> fixed = fixed_format(p);
 
   auto close_channel = [&]() {
     if (!current) return;
@@ -118,6 +119,8 @@ Run read_grid(ReaderInput in) {
                            {"check that `grid.read_label` matches only read labels"});
         }
         int col = static_cast<int>(*v) - 1;
+        if (fixed && col >= fixed->columns)
+          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, std::string(hline)});
         for (std::size_t k = 0; k < cols.size(); ++k) {
           if (cols[k] == col)
             throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
@@ -165,6 +168,7 @@ Run read_grid(ReaderInput in) {
                                          ln, row_lines[k]),
                              {"remove the duplicated row"});
         }
+        if (fixed && *row >= fixed->rows) off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
         rows.push_back(*row);
         row_lines.push_back(rln);
         const std::size_t at = vals.size();

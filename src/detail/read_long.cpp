@@ -154,6 +154,7 @@ Run read_long(ReaderInput in) {
   std::vector<std::size_t> skipped_at;  // rows read before each blank or comment line of the table
   std::string last_channel_text;
   std::size_t last_channel = 0;
+  const std::optional<PlateFormat> fixed = fixed_format(p);
 
   while (in.src.next(line)) {
     const int ln = in.src.line_number();
@@ -207,6 +208,7 @@ Run read_long(ReaderInput in) {
                        fmt::format("expected a well name (A1 … AF48), found \"{}\"", trim(wf.text)),
                        {"check the well column; names are a row letter (A–Z, AA–AF) and a column number"});
     }
+    if (fixed && !fixed->holds(*w)) off_plate_error(*fixed, *w, Where{file, ln, wf.column, std::string(line)});
     const FieldView& tf = views[static_cast<std::size_t>(cols->time)];
     auto t = parse_time(tf.text, cols->time_unit, p.decimal);
     if (!t) {

@@ -47,6 +47,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   h.time_col = time_col;
   h.time_unit = unit_in_header(fields[static_cast<std::size_t>(time_col)].text).value_or(p.time_unit);
   std::vector<int> seen_at(32 * 48, 0);  // field where each well was first seen, 0 = not yet
+  const std::optional<PlateFormat> fixed = fixed_format(p);
   for (std::size_t i = 0; i < fields.size(); ++i) {
     std::string_view name = trim(fields[i].text);
     int col = static_cast<int>(i);
@@ -66,6 +67,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
                          {"remove or rename the duplicated column"});
       }
       prev_field = static_cast<int>(i) + 1;
+      if (fixed && !fixed->holds(*w)) off_plate_error(*fixed, *w, Where{file, line_no, fields[i].column, std::string(line)});
       h.roles.push_back(ColumnRole::well);
       h.slot.push_back(static_cast<int>(h.wells.size()));
       h.wells.push_back(*w);

@@ -300,19 +300,45 @@ Channel ChannelBuilder::finish(PlateFormat format) && {
   return c;
 }
 
+std::optional<PlateFormat> fixed_format(const Profile& p) {
+  if (p.plate_wells > 0) return plate_format_for(p.plate_wells);
+  return std::nullopt;
+}
+
+namespace {
+
+std::string plate_text(const PlateFormat& f) {
+  return fmt::format("a {}-well plate (rows A–{}, columns 1–{})", f.wells(), row_label(f.rows - 1), f.columns);
+}
+
+std::vector<std::string> plate_fixes(const PlateFormat& f) {
+  return {fmt::format("set `plate` in the profile to the plate used (now {}), or 0 to infer it", f.wells())};
+}
+
+}  // namespace
+
+void off_plate_error(const PlateFormat& f, WellId w, Where where) {
+  throw InputError(std::move(where), fmt::format("well {} does not exist on {}", well_name(w), plate_text(f)),
+                   plate_fixes(f));
+}
+
+void off_plate_row_error(const PlateFormat& f, int row, Where where) {
+  throw InputError(std::move(where), fmt::format("row {} does not exist on {}", row_label(row), plate_text(f)),
+                   plate_fixes(f));
+}
+
+void off_plate_column_error(const PlateFormat& f, int column, Where where) {
+  throw InputError(std::move(where), fmt::format("column {} does not exist on {}", column + 1, plate_text(f)),
+                   plate_fixes(f));
+}
+
 PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred) {
-  if (p.plate_wells > 0) {
-    PlateFormat f = *plate_format_for(p.plate_wells);
-    for (const auto& w : wells) {
-      if (!f.holds(w)) {
-        throw InputError(Where{file},
-                         fmt::format("well {} does not exist on a {}-well plate (rows A–{}, columns 1–{})", well_name(w),
-                                     f.wells(), row_label(f.rows - 1), f.columns),
-                         {fmt::format("set `plate` in the profile to the plate used (now {}), or 0 to infer it", f.wells())});
-      }
-    }
+  if (auto f = fixed_format(p)) {
+    // The readers refuse a well off a fixed plate where they meet it, with its place.
+    for (const auto& w : wells)
+      if (!f->holds(w)) off_plate_error(*f, w, Where{file});
     inferred = false;
-    return f;
+    return *f;
   }
   inferred = true;
   if (auto f = smallest_format_holding(wells)) return *f;

@@ -99,6 +99,14 @@ class ChannelBuilder {
   std::vector<ReadStatus> status_;
 };
 
+// The plate format the profile fixes (`plate` > 0), if any.
+std::optional<PlateFormat> fixed_format(const Profile& p);
+// The errors for a well, a plate row or a plate column (0-based) that a fixed plate format
+// lacks, at the place the file names it.
+[[noreturn]] void off_plate_error(const PlateFormat& f, WellId w, Where where);
+[[noreturn]] void off_plate_row_error(const PlateFormat& f, int row, Where where);
+[[noreturn]] void off_plate_column_error(const PlateFormat& f, int column, Where where);
+
 // Plate format from the profile or the wells read; InputError if a well does not fit.
 PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred);
 
