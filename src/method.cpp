@@ -1,7 +1,9 @@
 #include "vzero/method.hpp"
 
 #include <algorithm>
+#include <cctype>
 #include <cerrno>
+#include <cmath>
 #include <cstring>
 #include <fmt/format.h>
 #include <fstream>
@@ -26,6 +28,34 @@ std::size_t distance(std::string_view a, std::string_view b) {
     std::swap(prev, cur);
   }
   return prev[b.size()];
+}
+
+// Line `line` (1-based) of `text`, without its end.
+std::string line_text(std::string_view text, int line) {
+  std::size_t at = 0;
+  for (int k = 1; k < line && at != std::string_view::npos; ++k) {
+    at = text.find('\n', at);
+    if (at != std::string_view::npos) ++at;
+  }
+  if (at == std::string_view::npos || at > text.size()) return {};
+  std::string_view l = text.substr(at, text.find('\n', at) == std::string_view::npos ? std::string_view::npos
+                                                                                    : text.find('\n', at) - at);
+  if (!l.empty() && l.back() == '\r') l.remove_suffix(1);
+  return std::string(l);
+}
+
+// A non-finite TOML float as the file writes it: nan, +nan, -nan, inf, +inf or -inf.
+std::string as_written(std::string_view text, int line, int column, double value) {
+  const std::string l = line_text(text, line);
+  if (column >= 1 && static_cast<std::size_t>(column) <= l.size()) {
+    std::size_t end = static_cast<std::size_t>(column) - 1;
+    while (end < l.size() && (l[end] == '+' || l[end] == '-' || std::isalpha(static_cast<unsigned char>(l[end]))))
+      ++end;
+    std::string token = l.substr(static_cast<std::size_t>(column) - 1, end - (static_cast<std::size_t>(column) - 1));
+    std::string bare = token.empty() || std::isalpha(static_cast<unsigned char>(token[0])) ? token : token.substr(1);
+    if (bare == "nan" || bare == "inf") return token;
+  }
+  return std::string(std::signbit(value) ? "-" : "") + (std::isnan(value) ? "nan" : "inf");
 }
 
 }  // namespace
@@ -65,6 +95,15 @@ std::vector<MethodEntry> parse_method(std::string_view text, const std::string& 
       e.value = std::to_string(i->get());
       e.type = "integer";
     } else if (auto f = v.as_floating_point()) {
+      if (!std::isfinite(f->get())) {
+        // TOML's nan and inf are floats, but no setting of vzero rates takes one.
+        const int line = static_cast<int>(v.source().begin.line), column = static_cast<int>(v.source().begin.column);
+        const std::string written = as_written(text, line, column, f->get());
+        throw InputError(Where{name, line, column, line_text(text, line)},
+                         fmt::format("method key `{}` is {}; expected a finite number", e.key, written),
+                         {"write the value as a plain number (no option takes nan or inf), or remove the key to "
+                          "use the default"});
+      }
       e.value = format_number(f->get());
       e.type = "float";
     } else if (auto b = v.as_boolean()) {
