@@ -73,6 +73,10 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   // every built-in profile parses this head, so its size is paid five times per file.
   constexpr int k_sniff_lines = 400;
   constexpr std::size_t k_sniff_bytes = 64 * 1024;
+  // Bytes read for it: the first MiB; past it only when its lines run on (see below), and
+  // then no more than the lines kept, so at most about 64 KiB + 2 lines of < 16 MiB each
+  // (LineSource's longest) are held, whatever the size of the file.
+  constexpr long long k_sniff_prefix_bytes = 1024 * 1024;
   std::string head;
   int sniffed = 0;
   bool capped = false;
@@ -100,7 +104,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   {
     // The first MiB is read, not the whole file as a full LineSource does; only when the
     // lines run past it (lines of 100s of KiB) is the file read again without a limit.
-    detail::LineSource src(path, 1024 * 1024);
+    detail::LineSource src(path, k_sniff_prefix_bytes);
     if (!sniff(src)) {
       detail::LineSource whole(path);
       sniff(whole);

@@ -2,6 +2,7 @@
 // fast-cpp-csv-parser's LineReader), the largest plate (1536 wells, AF48), the most lines
 // of a file (2^31 - 1, stated, not written here), and files larger than the reader's
 // 32 MiB first read, where the read-ahead thread takes over.
+#include <algorithm>
 #include <cstdio>
 #include <filesystem>
 #include <string>
@@ -122,4 +123,46 @@ TEST_CASE("a wide header may name all 1536 wells; a well named twice is refused"
             "input.csv:1:", 0) == 0);
   CHECK(message_of(header + ",A1\n" + row0 + ",0.1\n", p).find("well A1 appears twice in the header (fields 2 and 1538)") !=
         std::string::npos);
+}
+
+TEST_CASE("profile detection reads a bounded start of the file, however long the file is") {
+  // choose_profile (src/ingest.cpp) reads the first MiB (k_sniff_prefix_bytes), and further
+  // only while its lines run past that, keeping at most 400 lines and 64 KiB besides the
+  // longest line; lines are at most 16 MiB. So a NUL byte beyond that start is not seen by
+  // detection, while reading the whole file finds it.
+  TempDir dir;
+  // The NUL is on the last line of each file.
+  const auto nul_line = [](const std::string& t) { return static_cast<int>(std::count(t.begin(), t.end(), '\n')); };
+  const auto check_detected_then_refused = [&](const std::string& name, const std::string& text) {
+    CAPTURE(name);
+    spit(dir / name, text);
+    const auto choice = vzero::choose_profile(dir / name, "");
+    CHECK(choice.detected);
+    CHECK(choice.profile.name == "wide-generic");
+    try {
+      vzero::read_run(dir / name, choice.profile);
+      FAIL("expected an InputError");
+    } catch (const vzero::InputError& e) {
+      CHECK(e.where().line == nul_line(text));
+      CHECK(e.message() == "found a NUL byte; this is not a text export");
+    }
+  };
+  // Short lines: 2 MiB of reads, then the NUL.
+  std::string text = "Time [s],A1,A2\n";
+  for (int t = 0; text.size() < 2 * 1024 * 1024; ++t) text += std::to_string(t) + ",0.1000,0.2000\n";
+  check_detected_then_refused("short.csv", text + std::string(1, '\0') + "\n");
+  // A preamble line of 2 MiB: past the first MiB, detection reads on, but only 400 lines.
+  text = "# " + std::string(2 * 1024 * 1024, 'p') + "\nTime [s],A1,A2\n";
+  for (int t = 0; t < 500; ++t) text += std::to_string(t) + ",0.1000,0.2000\n";
+  check_detected_then_refused("preamble.csv", text + std::string(1, '\0') + "\n");
+  // Lines of 15 MiB: detection stops at the third (64 KiB besides the longest line), so
+  // it never meets the NUL on the fourth, and reports what the profiles found instead.
+  const std::string huge = "# " + std::string(15 * 1024 * 1024, 'h') + "\n";
+  spit(dir / "huge.csv", huge + huge + huge + std::string(1, '\0') + "\n");
+  try {
+    vzero::choose_profile(dir / "huge.csv", "");
+    FAIL("expected an InputError");
+  } catch (const vzero::InputError& e) {
+    CHECK(e.message().rfind("no built-in profile reads this file; what each found:", 0) == 0);
+  }
 }

@@ -32,7 +32,9 @@ struct ProfileChoice {
 // `requested` is a built-in profile name or a path; empty means detect: every built-in
 // profile is tried on the start of the file and the one that reads the most values
 // without error wins (ties go to the first name in sorted order). Throws InputError
-// listing what each profile found when none fits.
+// listing what each profile found when none fits. The start is bounded whatever the file's
+// size: the first 400 lines, no more than 64 KiB of them besides the longest, read from the
+// first MiB (further only when its lines run past it; a line is at most 16 MiB).
 ProfileChoice choose_profile(const std::string& path, const std::string& requested);
 
 }  // namespace vzero
