@@ -108,6 +108,24 @@ TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical
   CHECK(found);
   CHECK(j["vzero"]["options"]["epsilon"] == "18000");
   CHECK(j["vzero"]["options"]["blank"] == "matched");
+  // The map's substrate is in --conc-unit (uM by default): the schema says so, and vzero fit
+  // gives Km that unit from the package beside the table (two.csv, the package's last run).
+  int with_unit = 0;
+  for (const auto& f : j["resources"][0]["schema"]["fields"])
+    if (f["name"] == "substrate") with_unit += f.value("unit", "") == "uM";
+  CHECK(with_unit == 1);
+  auto fit = run_vzero("fit two.csv --x substrate --inhibitor inhibitor_uM --model competitive --group enzyme_nM -o fit.csv --quiet",
+                       dir.path.string());
+  INFO(fit.describe());
+  REQUIRE(fit.status == 0);
+  vzero::Table ft = vzero::read_table(dir / "fit.csv");
+  int km_rows = 0;
+  for (const auto& row : ft.rows)
+    if (row[static_cast<std::size_t>(ft.column("parameter"))] == "Km") {
+      ++km_rows;
+      CHECK(row[static_cast<std::size_t>(ft.column("unit"))] == "uM");
+    }
+  CHECK(km_rows == 1);
 }
 
 TEST_CASE("command-line flags override the method file; method-file mistakes name the line") {

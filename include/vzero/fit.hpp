@@ -28,6 +28,7 @@
 
 #include <Eigen/Core>
 #include <cmath>
+#include <map>
 #include <span>
 #include <string>
 #include <string_view>
@@ -169,6 +170,9 @@ struct FitTableOptions {
                                            // "<stem>_sd" for "<stem>_mean"; else replicate SDs
   bool include_flagged = false;            // also use rows whose `flags` cell is not empty
   std::string role = "sample";             // rows kept when a `role` column exists; "" = all
+  // Units known from outside the table (`vzero fit` reads them from the datapackage.json
+  // beside it), by column name; used for a column whose unit the table does not give.
+  std::map<std::string, std::string> column_units;
   FitOptions fit;
   // Empty if valid, else e.g. "x_column is empty; name the substrate column".
   std::string validate() const;

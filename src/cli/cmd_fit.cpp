@@ -1,7 +1,12 @@
 // vzero fit: kinetics fits (Michaelis–Menten and relatives) of a rates or summary table.
 #include <boost/program_options.hpp>
+#include <filesystem>
 #include <fmt/format.h>
+#include <fstream>
+#include <map>
+#include <nlohmann/json.hpp>
 #include <set>
+#include <sstream>
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
@@ -45,7 +50,8 @@ Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % W
 profile-t intervals, residual SD, df, RSS, AIC (Gaussian log-likelihood form, as R's AIC
 for nls: n*(ln 2pi + 1 - ln n + ln RSS) - sum(ln w) + 2(p + 1)), convergence and
 iterations; with --enzyme also kcat = Vmax/[E] and kcat/Km (delta-method SE). Units come
-from the table (a v0_unit column; "<name>_unit" columns or a unit suffix such as _uM).
+from the table (a v0_unit column; "<name>_unit" columns or a unit suffix such as _uM),
+else from the datapackage.json beside it (vzero rates gives the substrate --conc-unit there).
 Starting values come from a Hanes–Woolf regression of S/v (Hill: a Hill plot) and a coarse
 grid; the better converged run is kept. A group that cannot be fitted gets a row with an
 empty estimate and a message saying why.
@@ -111,6 +117,32 @@ void write_output(const std::string& path, const std::string& content) {
   else write_file_atomic(path, content);
 }
 
+
+// Units the data package beside the table gives its columns (`vzero rates` writes one next
+// to rates.csv; the map's substrate carries --conc-unit there): the fields of the resource
+// whose path is this table. No package, an unreadable one, or one that does not list the
+// table gives none; the table's own unit columns and name suffixes still apply.
+std::map<std::string, std::string> package_units(const std::string& table_path) {
+  namespace fs = std::filesystem;
+  std::map<std::string, std::string> units;
+  const fs::path dir = fs::path(table_path).parent_path();
+  std::ifstream in(dir / "datapackage.json", std::ios::binary);
+  if (!in) return units;
+  std::ostringstream text;
+  text << in.rdbuf();
+  const nlohmann::json pkg = nlohmann::json::parse(text.str(), nullptr, false);
+  if (!pkg.is_object() || !pkg.contains("resources") || !pkg["resources"].is_array()) return units;
+  for (const auto& r : pkg["resources"]) {
+    if (!r.is_object() || !r.contains("path") || !r["path"].is_string()) continue;
+    std::error_code ec;
+    if (!fs::equivalent(dir / r["path"].get<std::string>(), table_path, ec) || ec) continue;
+    if (!r.contains("schema") || !r["schema"].is_object() || !r["schema"].contains("fields")) continue;
+    for (const auto& f : r["schema"]["fields"])
+      if (f.is_object() && f.contains("name") && f["name"].is_string() && f.contains("unit") && f["unit"].is_string())
+        units[f["name"].get<std::string>()] = f["unit"].get<std::string>();
+  }
+  return units;
+}
 }  // namespace
 
 int cmd_fit(const Args& args) {
@@ -189,6 +221,7 @@ int cmd_fit(const Args& args) {
   if (to_stdout > 1) throw UsageError("only one of -o, --json and --diagnostics can be '-' (stdout)");
 
   Table table = read_table(file);
+  o.column_units = package_units(file);
   // Column checks here, so a missing column names the option that chose it.
   table.require_column(x, "pass --x with the substrate concentration column");
   if (!y.empty()) table.require_column(y, "pass --y with the rate column");

@@ -17,6 +17,7 @@
 #include "cli/options.hpp"
 #include "cli/rates_settings.hpp"
 #include "detail/line_source.hpp"
+#include "detail/text.hpp"
 #include "vzero/analysis.hpp"
 #include "vzero/batch.hpp"
 #include "vzero/error.hpp"
@@ -177,8 +178,14 @@ int cmd_rates(const Args& args) {
     fs::path r = fs::relative(fs::absolute(p), fs::absolute(out_dir.empty() ? "." : out_dir), ec);
     return ec || r.empty() ? p : r.string();
   };
+  // The map's substrate is in --conc-unit: the schema says so (vzero fit reads it for Km).
+  const auto substrate_unit = [&](std::vector<FieldSpec> fields) {
+    for (FieldSpec& f : fields)
+      if (detail::iequals(f.name, "substrate") && f.unit.empty()) f.unit = s.analysis.convert.conc_unit;
+    return fields;
+  };
   rates_out->commit();
-  tables.push_back({"rates", rel(s.output), rate_fields(map.columns, with_activity, with_specific)});
+  tables.push_back({"rates", rel(s.output), substrate_unit(rate_fields(map.columns, with_activity, with_specific))});
   if (!s.traces.empty()) {
     traces_out->commit();
     tables.push_back({"traces", rel(s.traces), trace_fields()});
@@ -186,7 +193,7 @@ int cmd_rates(const Args& args) {
   SummaryTable summary = summarise(analyses, map.columns, s.leave_out);
   if (!s.summary.empty()) {
     write_file_atomic(s.summary, summary_csv(summary));
-    tables.push_back({"summary", rel(s.summary), summary_fields(summary)});
+    tables.push_back({"summary", rel(s.summary), substrate_unit(summary_fields(summary))});
   }
   std::string package = (out_dir / "datapackage.json").string();
   write_file_atomic(package, datapackage_json(tables, prov, analyses));

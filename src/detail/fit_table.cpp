@@ -52,11 +52,15 @@ std::string unique_text(const Table& t, int col, const std::vector<std::size_t>&
   return found;
 }
 
-// Unit of a value column: a companion "<name>_unit" column, else the name's suffix.
-std::string column_unit(const Table& t, const std::string& name, const std::vector<std::size_t>& rows) {
+// Unit of a value column: a companion "<name>_unit" column, else the name's suffix, else
+// what the options know from outside the table (the data package's schema).
+std::string column_unit(const Table& t, const std::string& name, const std::vector<std::size_t>& rows,
+                        const std::map<std::string, std::string>& known) {
   if (name.empty()) return {};
   if (auto u = unique_text(t, t.column(name + "_unit"), rows); !u.empty()) return u;
-  return unit_suffix(name);
+  if (auto u = unit_suffix(name); !u.empty()) return u;
+  const auto it = known.find(name);
+  return it == known.end() ? std::string() : it->second;
 }
 
 std::string stem_of(const std::string& y) { return ends_with(y, "_mean") ? y.substr(0, y.size() - 5) : y; }
@@ -227,9 +231,9 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   const int v_unit_col = std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"),
                                    table.column("v0_unit")});
   out.v_unit = unique_text(table, v_unit_col, used_rows);
-  out.x_unit = column_unit(table, out.x_column, used_rows);
-  out.inhibitor_unit = column_unit(table, out.inhibitor_column, used_rows);
-  out.enzyme_unit = column_unit(table, out.enzyme_column, used_rows);
+  out.x_unit = column_unit(table, out.x_column, used_rows, options.column_units);
+  out.inhibitor_unit = column_unit(table, out.inhibitor_column, used_rows, options.column_units);
+  out.enzyme_unit = column_unit(table, out.enzyme_column, used_rows, options.column_units);
   if (keys.empty()) {
     // Nothing survived the filters: still one failed fit per model, so the output says why.
     keys.emplace_back(g_cols.size(), std::string());
