@@ -6,7 +6,7 @@
 #include <fmt/format.h>
 #include <thread>
 
-#include "detail/text.hpp"
+#include "core/text.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero {

@@ -7,7 +7,7 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
-#include "detail/text.hpp"
+#include "core/text.hpp"
 #include "vzero/table.hpp"
 
 namespace vzero {

@@ -7,8 +7,8 @@
 #include <fstream>
 #include <sstream>
 
-#include "detail/line_source.hpp"
-#include "detail/text.hpp"
+#include "core/line_source.hpp"
+#include "core/text.hpp"
 #include "vzero/error.hpp"
 #include "vzero/table.hpp"
 

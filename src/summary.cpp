@@ -4,7 +4,7 @@
 #include <map>
 #include <unordered_map>
 
-#include "detail/text.hpp"
+#include "core/text.hpp"
 
 namespace vzero {
 

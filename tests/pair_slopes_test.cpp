@@ -1,4 +1,4 @@
-// Exact order statistics of pairwise slopes (src/detail/pair_slopes.hpp), the core of
+// Exact order statistics of pairwise slopes (src/rates/pair_slopes.hpp), the core of
 // Theil–Sen for long windows. References: the definition (every slope formed and sorted with
 // std::sort), the general Theil–Sen code on the same points in another order, and SciPy
 // 1.10.1 scipy.stats.theilslopes (Debian python3-scipy) for two pinned cases.
@@ -7,8 +7,8 @@
 #include <random>
 #include <vector>
 
-#include "detail/pair_slopes.hpp"
-#include "detail/robust.hpp"
+#include "rates/pair_slopes.hpp"
+#include "rates/robust.hpp"
 #include "test_support.hpp"
 
 namespace {

@@ -1,11 +1,11 @@
-// Tests of the rate finder (include/vzero/rates.hpp) and its estimators (src/detail/robust.hpp).
+// Tests of the rate finder (include/vzero/rates.hpp) and its estimators (src/rates/robust.hpp).
 // Reference values and their sources are in /work/shared/REFERENCES.md; each check names its
 // source beside it.
 #include <cstring>
 #include <thread>
 
-#include "detail/robust.hpp"
-#include "detail/window_stats.hpp"
+#include "rates/robust.hpp"
+#include "rates/window_stats.hpp"
 #include "sim/plate_sim.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"

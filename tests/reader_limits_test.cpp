@@ -7,7 +7,7 @@
 #include <filesystem>
 #include <string>
 
-#include "detail/line_source.hpp"
+#include "core/line_source.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"

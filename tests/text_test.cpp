@@ -1,4 +1,4 @@
-// Field splitting of the readers (src/detail/text.hpp): the allocation-free view splitter
+// Field splitting of the readers (src/core/text.hpp): the allocation-free view splitter
 // gives the same fields as the string splitter, on RFC 4180 examples (RFC 4180 §2) and on
 // generated lines (a property test).
 #include <charconv>
@@ -8,7 +8,7 @@
 #include <string>
 #include <vector>
 
-#include "detail/text.hpp"
+#include "core/text.hpp"
 #include "test_support.hpp"
 
 namespace {

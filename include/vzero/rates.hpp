@@ -35,7 +35,7 @@
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
-// is quicker (src/detail/pair_slopes.hpp).
+// is quicker (src/rates/pair_slopes.hpp).
 //
 // Flags (short words; `empty` is set by the caller for wells without a sample):
 //   overflow        the trace holds reads the instrument reported as overflow

@@ -5,7 +5,7 @@
 #include <fmt/format.h>
 #include <map>
 
-#include "detail/text.hpp"
+#include "core/text.hpp"
 #include "vzero/convert.hpp"
 #include "vzero/error.hpp"
 #include "vzero/method.hpp"

@@ -31,7 +31,7 @@
 #include <fmt/format.h>
 
 #include "../sim/plate_sim.hpp"
-#include "detail/robust.hpp"
+#include "rates/robust.hpp"
 #include "vzero/rates.hpp"
 
 namespace {

@@ -30,7 +30,7 @@
 #include <vector>
 
 #include "bench_files.hpp"
-#include "detail/robust.hpp"
+#include "rates/robust.hpp"
 #include "vzero/analysis.hpp"
 #include "vzero/ingest.hpp"
 #include "vzero/outputs.hpp"

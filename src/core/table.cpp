@@ -1,0 +1,240 @@
+#include "vzero/table.hpp"
+
+#include <fcntl.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cmath>
+#include <cstring>
+#include <filesystem>
+#include <fmt/format.h>
+#include <random>
+
+#include "core/line_source.hpp"
+#include "core/text.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+int Table::column(std::string_view name) const {
+  for (std::size_t i = 0; i < header.size(); ++i)
+    if (detail::iequals(header[i], name)) return static_cast<int>(i);
+  return -1;
+}
+
+int Table::require_column(std::string_view name, std::string_view fix_hint) const {
+  int c = column(name);
+  if (c >= 0) return c;
+  std::string found;
+  for (const auto& h : header) found += (found.empty() ? "" : ", ") + h;
+  std::vector<std::string> fixes;
+  if (!fix_hint.empty()) fixes.emplace_back(fix_hint);
+  throw InputError(Where{source, 1}, fmt::format("expected a column named \"{}\"; found: {}", name, found),
+                   std::move(fixes));
+}
+
+std::optional<double> Table::number(std::size_t row, int col) const {
+  const std::string& cell = rows[row][static_cast<std::size_t>(col)];
+  if (detail::trim(cell).empty()) return std::nullopt;
+  auto v = detail::parse_number(cell, '.');
+  if (!v) {
+    throw InputError(Where{source, line_of_row[row], column_of_cell[row][static_cast<std::size_t>(col)]},
+                     fmt::format("expected a number in column \"{}\", found {}", header[static_cast<std::size_t>(col)],
+                                 detail::describe_found(cell)),
+                     {"write numbers with '.' as the decimal mark and no units or thousands separators"});
+  }
+  return v;
+}
+
+namespace {
+Table parse_lines(detail::LineSource& src) {
+  Table t;
+  t.source = src.name();
+  std::string_view line;
+  std::vector<detail::Field> fields;
+  bool have_header = false;
+  while (src.next(line)) {
+    auto trimmed = detail::trim(line);
+    if (trimmed.empty() || trimmed.front() == '#') continue;
+    if (!have_header) {
+      t.delimiter = detail::guess_delimiter(line);
+      if (t.delimiter == 0) t.delimiter = ',';
+    }
+    bool unclosed = false;
+    detail::split_fields_into(line, t.delimiter, fields, &unclosed);
+    if (unclosed) {
+      throw InputError(Where{t.source, src.line_number(), fields.back().column, std::string(line)},
+                       "a quoted field does not end on this line",
+                       {"close the quote; vzero does not read line breaks inside quoted fields"});
+    }
+    if (!have_header) {
+      for (const auto& f : fields) {
+        std::string name(detail::trim(f.text));
+        if (name.empty()) {
+          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
+                           "expected a column name in the header, found an empty field",
+                           {"give every column a name"});
+        }
+        if (t.column(name) >= 0) {
+          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
+                           fmt::format("column name \"{}\" appears twice in the header", name),
+                           {"rename one of the two columns"});
+        }
+        t.header.push_back(std::move(name));
+      }
+      have_header = true;
+      continue;
+    }
+    if (fields.size() != t.header.size()) {
+      int col = fields.size() > t.header.size() ? fields[t.header.size()].column : static_cast<int>(line.size()) + 1;
+      throw InputError(Where{t.source, src.line_number(), col, std::string(line)},
+                       fmt::format("expected {} fields as in the header, found {}", t.header.size(), fields.size()),
+                       {fmt::format("make every row hold {} fields separated by '{}'", t.header.size(),
+                                    detail::describe_delimiter(t.delimiter))});
+    }
+    std::vector<std::string> row;
+    std::vector<int> cols;
+    row.reserve(fields.size());
+    for (auto& f : fields) {
+      row.emplace_back(detail::trim(f.text));
+      cols.push_back(f.column);
+    }
+    t.rows.push_back(std::move(row));
+    t.column_of_cell.push_back(std::move(cols));
+    t.line_of_row.push_back(src.line_number());
+  }
+  if (!have_header) {
+    throw InputError(Where{t.source}, "the file is empty (expected a header line and rows)",
+                     {"check that the right file was given"});
+  }
+  return t;
+}
+}  // namespace
+
+Table read_table(const std::string& path) {
+  detail::LineSource src(path);
+  return parse_lines(src);
+}
+
+Table parse_table(std::string name, std::string_view text) {
+  detail::LineSource src(std::move(name), text);
+  return parse_lines(src);
+}
+
+std::string csv_field(std::string_view text) {
+  if (text.find_first_of(",;\"\r\n\t") == std::string_view::npos) return std::string(text);
+  std::string out = "\"";
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  out += '"';
+  return out;
+}
+
+std::string format_number(double v) {
+  if (std::isnan(v)) return {};
+  if (v == 0) return "0";  // also for -0
+  return fmt::format("{}", v);
+}
+
+// Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename: they
+// are written directly and report the error they give.
+AtomicFile::AtomicFile(const std::string& path) : path_(path) {
+  namespace fs = std::filesystem;
+  fs::path target(path);
+  std::error_code ec;
+  if (fs::exists(target, ec) && !fs::is_regular_file(target, ec) && !fs::is_directory(target, ec)) {
+    device_ = true;
+    fd_ = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
+    if (fd_ < 0) fail(errno);
+    return;
+  }
+  fs::path dir = target.parent_path();
+  if (dir.empty()) dir = ".";
+  if (!fs::is_directory(dir, ec)) {
+    throw InputError(Where{path}, fmt::format("cannot write {}: the folder {} does not exist", path, dir.string()),
+                     {fmt::format("create it first (mkdir -p {}) or choose another output path", dir.string())});
+  }
+  // A name unlikely to collide with another writer; created with O_EXCL.
+  std::random_device rd;
+  for (int attempt = 0; attempt < 8 && fd_ < 0; ++attempt) {
+    tmp_ = (dir / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd())).string();
+    fd_ = ::open(tmp_.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+    if (fd_ < 0 && errno != EEXIST) break;
+  }
+  if (fd_ < 0) {
+    int err = errno;
+    tmp_.clear();
+    fail(err);
+  }
+}
+
+AtomicFile::~AtomicFile() {
+  if (fd_ >= 0) ::close(fd_);
+  if (!done_ && !tmp_.empty()) ::unlink(tmp_.c_str());
+}
+
+void AtomicFile::fail(int err) {
+  if (fd_ >= 0) ::close(fd_);
+  fd_ = -1;
+  if (!tmp_.empty()) ::unlink(tmp_.c_str());
+  tmp_.clear();
+  if (device_) {
+    throw InputError(Where{path_}, fmt::format("cannot write {}: {}", path_, std::strerror(err)),
+                     {"check that the output device has free space"});
+  }
+  throw InputError(Where{path_}, fmt::format("cannot write {}: {}", path_, std::strerror(err)),
+                   {"check that the output folder exists, is writable and has free space"});
+}
+
+void AtomicFile::append(std::string_view text) {
+  const char* p = text.data();
+  std::size_t left = text.size();
+  while (left > 0) {
+    ssize_t n = ::write(fd_, p, left);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      fail(errno);
+    }
+    p += n;
+    left -= static_cast<std::size_t>(n);
+  }
+#ifdef __linux__
+  // Let the disk start on what is written while the rest is computed, so the final fsync
+  // has little left to wait for.
+  written_ += text.size();
+  if (!device_ && written_ - started_ >= (std::size_t{8} << 20)) {
+    ::sync_file_range(fd_, static_cast<off_t>(started_), static_cast<off_t>(written_ - started_), SYNC_FILE_RANGE_WRITE);
+    started_ = written_;
+  }
+#endif
+}
+
+void AtomicFile::commit() {
+  if (device_) {
+    const int fd = fd_;
+    fd_ = -1;
+    done_ = true;
+    if (::close(fd) != 0) fail(errno);
+    return;
+  }
+  if (::fsync(fd_) != 0 && errno != EINVAL) fail(errno);
+  const int fd = fd_;
+  fd_ = -1;
+  if (::close(fd) != 0) fail(errno);
+  if (std::rename(tmp_.c_str(), path_.c_str()) != 0) fail(errno);
+  done_ = true;
+}
+
+void write_file_atomic(const std::string& path, std::string_view content) {
+  write_file_atomic(path, std::vector<std::string_view>{content});
+}
+
+void write_file_atomic(const std::string& path, const std::vector<std::string_view>& parts) {
+  AtomicFile file(path);
+  for (std::string_view p : parts) file.append(p);
+  file.commit();
+}
+
+}  // namespace vzero

@@ -1,0 +1,355 @@
+// The kinetics fit of one set of points: checks, the Levenberg–Marquardt runs, standard
+// errors, intervals, and the messages for fits the data cannot support.
+#include "vzero/fit.hpp"
+
+#include <Eigen/QR>
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <set>
+
+#include "fit/fit_models.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+std::string FitOptions::validate() const {
+  if (max_iterations < 1) return fmt::format("max_iterations is {}; it must be at least 1", max_iterations);
+  if (!(tolerance > 0 && tolerance < 1)) return fmt::format("tolerance is {}; it must lie between 0 and 1", tolerance);
+  if (!(confidence > 0 && confidence < 1))
+    return fmt::format("confidence is {}; it must lie strictly between 0 and 1", confidence);
+  for (double e : start)
+    if (!(e > 0) || !std::isfinite(e)) return fmt::format("start holds {}; every starting value must be > 0", e);
+  return {};
+}
+
+const ParameterEstimate* FitResult::find(std::string_view name) const {
+  for (const auto& p : parameters)
+    if (p.name == name) return &p;
+  return nullptr;
+}
+
+namespace {
+
+std::string join(const std::vector<std::string>& v) {
+  std::string out;
+  for (const auto& e : v) {
+    if (!out.empty()) out += ", ";
+    out += e;
+  }
+  return out;
+}
+
+// {:g} with 6 significant digits, for messages.
+std::string num(double x) { return fmt::format("{:.6g}", x); }
+
+detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s, const std::vector<double>* inh,
+                              const std::vector<double>& v, const std::vector<double>& w) {
+  if (s.size() != v.size() || (inh && inh->size() != v.size()) || (!w.empty() && w.size() != v.size()))
+    throw UsageError(fmt::format("{}: s, inhibitor, v and weights must have the same length (s {}, v {}, weights {})",
+                                 fn, s.size(), v.size(), w.size()));
+  detail::FitPoints pts;
+  pts.s = s;
+  pts.v = v;
+  pts.i = inh ? *inh : std::vector<double>(v.size(), 0.0);
+  pts.w = w.empty() ? std::vector<double>(v.size(), 1.0) : w;
+  for (std::size_t k = 0; k < v.size(); ++k) {
+    if (!std::isfinite(s[k]) || s[k] < 0 || !std::isfinite(pts.i[k]) || pts.i[k] < 0)
+      throw UsageError(fmt::format("{}: point {} has s = {}, inhibitor = {}; concentrations must be finite and >= 0",
+                                   fn, k, s[k], pts.i[k]));
+    if (!std::isfinite(v[k])) throw UsageError(fmt::format("{}: point {} has v = {}; rates must be finite", fn, k, v[k]));
+    if (!(pts.w[k] > 0) || !std::isfinite(pts.w[k]))
+      throw UsageError(fmt::format("{}: point {} has weight {}; weights must be finite and > 0", fn, k, pts.w[k]));
+    pts.sqrt_w.push_back(std::sqrt(pts.w[k]));
+  }
+  return pts;
+}
+
+// Distinct substrate concentrations a model needs: one per parameter that S alone carries.
+std::size_t substrate_levels_needed(Model m) {
+  return m == Model::substrate_inhibition || m == Model::hill ? 3 : 2;
+}
+
+// Why these points cannot give the model's parameters, or "" when they can.
+std::string pre_check(Model m, const detail::FitPoints& pts) {
+  const auto names = parameter_names(m);
+  const std::size_t p = names.size(), n = pts.size();
+  if (n == 0) return "no points to fit";
+  if (n < p + 1)
+    return fmt::format("too few points: {} for {} parameters ({}); at least {} are needed", n, p, join(names), p + 1);
+  std::set<double> s_all(pts.s.begin(), pts.s.end()), s_pos;
+  for (double s : pts.s)
+    if (s > 0) s_pos.insert(s);
+  const std::size_t need = substrate_levels_needed(m);
+  if (s_all.size() == 1)
+    return fmt::format("all {} points have the same substrate concentration ({}); a saturation curve needs at least {} "
+                       "different concentrations",
+                       n, num(*s_all.begin()), need);
+  if (s_pos.size() < need)
+    return fmt::format("only {} different positive substrate concentrations for the {} model; at least {} are needed",
+                       s_pos.size(), to_string(m), need);
+  if (needs_inhibitor(m)) {
+    std::set<double> i_all(pts.i.begin(), pts.i.end());
+    if (i_all.size() == 1)
+      return fmt::format("all {} points have the same inhibitor concentration ({}); the {} model needs at least 2 "
+                         "inhibitor levels",
+                         n, num(*i_all.begin()), to_string(m));
+    std::set<std::pair<double, double>> cells;
+    for (std::size_t k = 0; k < n; ++k)
+      if (pts.s[k] > 0) cells.insert({pts.s[k], pts.i[k]});
+    if (cells.size() < p)
+      return fmt::format("only {} different (substrate, inhibitor) combinations for {} parameters ({}); at least {} are "
+                         "needed",
+                         cells.size(), p, join(names), p);
+  }
+  const double v_max = *std::max_element(pts.v.begin(), pts.v.end());
+  if (!(v_max > 0))
+    return fmt::format("no positive rate: all {} rates are <= 0 (the largest is {}); check the reaction direction and "
+                       "the blank subtraction",
+                       n, num(v_max));
+  return {};
+}
+
+// What a parameter stuck at its search bound means, in the data's terms.
+std::string bound_message(Model m, std::size_t j, int side, const detail::FitPoints& pts,
+                          const std::vector<double>& p) {
+  const auto names = parameter_names(m);
+  const std::string& name = names[j];
+  const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
+  if (j == 1 && side > 0)
+    return fmt::format("no curvature: the rates rise in proportion to substrate up to the highest concentration ({}), "
+                       "so {} and Vmax run off to infinity together and only Vmax/{} = {} is determined; measure at "
+                       "concentrations above {}",
+                       num(s_max), name, name, num(p[0] / p[1]), name);
+  if (j == 1 && side < 0) {
+    double s_min = INFINITY;
+    for (double s : pts.s)
+      if (s > 0) s_min = std::min(s_min, s);
+    return fmt::format("{} runs to 0: the rates do not rise with substrate, already saturated at the lowest "
+                       "concentration ({}); measure at lower concentrations",
+                       name, num(s_min));
+  }
+  if (side > 0) {
+    if (m == Model::substrate_inhibition)
+      return "no substrate inhibition: Ki runs off to infinity (the rates do not fall at high substrate); fit the mm "
+             "model instead";
+    if (m == Model::competitive)
+      return "no competitive inhibition: Kic runs off to infinity (the inhibitor does not raise the apparent Km)";
+    if (m == Model::uncompetitive)
+      return "no uncompetitive inhibition: Kiu runs off to infinity (the inhibitor does not lower the apparent Vmax)";
+    if (m == Model::mixed && name == "Kic")
+      return "Kic runs off to infinity: the inhibition has no competitive part; fit the uncompetitive model instead";
+    if (m == Model::mixed && name == "Kiu")
+      return "Kiu runs off to infinity: the inhibition has no uncompetitive part; fit the competitive model instead";
+  }
+  return fmt::format("{} runs to its {} search bound ({}); the data do not determine it", name,
+                     side < 0 ? "lower" : "upper", num(p[j]));
+}
+
+void add_warnings(FitResult& r, const detail::FitPoints& pts, bool profiled) {
+  const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
+  const double i_max = *std::max_element(pts.i.begin(), pts.i.end());
+  for (std::size_t j = 1; j < r.parameters.size(); ++j) {
+    const auto& e = r.parameters[j];
+    const bool inhibitor_constant = e.name == "Kic" || e.name == "Kiu";
+    const double top = inhibitor_constant ? i_max : s_max;
+    if (e.name != "n" && e.estimate > 10 * top)
+      r.warnings.push_back(fmt::format("{} ({}) is above 10 times the highest {} concentration ({}): an extrapolation",
+                                       e.name, num(e.estimate), inhibitor_constant ? "inhibitor" : "substrate",
+                                       num(top)));
+  }
+  for (const auto& e : r.parameters) {
+    if (!profiled) break;
+    if (std::isnan(e.profile_low) && r.residual_sd > 0)
+      r.warnings.push_back(fmt::format("the profile interval of {} has no lower limit inside the search bounds", e.name));
+    if (std::isnan(e.profile_high) && r.residual_sd > 0)
+      r.warnings.push_back(fmt::format("the profile interval of {} has no upper limit inside the search bounds", e.name));
+  }
+}
+
+FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& options) {
+  if (auto why = options.validate(); !why.empty()) throw UsageError("FitOptions: " + why);
+  const auto names = parameter_names(m);
+  const std::size_t np = names.size();
+  if (!options.start.empty() && options.start.size() != np)
+    throw UsageError(fmt::format("FitOptions: start has {} values; the {} model has {} parameters ({})",
+                                 options.start.size(), to_string(m), np, join(names)));
+  FitResult r;
+  r.model = m;
+  r.n = static_cast<int>(pts.size());
+  r.df = r.n - static_cast<int>(np);
+  if (r.message = pre_check(m, pts); !r.message.empty()) return r;
+
+  const detail::Bounds bounds = detail::parameter_bounds(m, pts);
+  std::vector<detail::Start> starts;
+  if (!options.start.empty()) starts.push_back({"given", options.start});
+  else starts = detail::automatic_starts(m, pts);
+  const detail::LmSettings settings{options.max_iterations, options.tolerance};
+  const std::vector<bool> none_fixed(np, false);
+  detail::LmResult best;
+  int chosen = -1;
+  for (std::size_t k = 0; k < starts.size(); ++k) {
+    detail::LmResult run = detail::levenberg_marquardt(m, pts, bounds, starts[k].p, none_fixed, settings);
+    const bool better = chosen < 0 || (run.converged && !best.converged) ||
+                        (run.converged == best.converged && run.rss < best.rss * (1 - 1e-12));
+    if (better) best = run, chosen = static_cast<int>(k);
+  }
+  if (chosen < 0) {
+    r.message = "no starting values: the linearisations and the grid give no positive Vmax";
+    return r;
+  }
+  r.start_method = starts[static_cast<std::size_t>(chosen)].method;
+  r.start = starts[static_cast<std::size_t>(chosen)].p;
+  r.iterations = best.iterations;
+  r.converged = best.converged;
+  r.relative_offset = best.relative_offset;
+  // A parameter at its bound explains the fit better than "not converged" does (the run
+  // often stalls there). Km (index 1) first: when the rates never level off, Km and Vmax
+  // run off together.
+  for (std::size_t j : {std::size_t{1}, std::size_t{0}, std::size_t{2}, std::size_t{3}}) {
+    if (j < np && best.at_bound[j] != 0) {
+      r.message = bound_message(m, j, best.at_bound[j], pts, best.p);
+      r.converged = false;  // the run ended on the box, not at an optimum inside it
+      return r;
+    }
+  }
+  if (!best.converged) {
+    r.message = fmt::format("did not converge in {} iterations (relative offset {}); give other starting values",
+                            best.iterations, num(best.relative_offset));
+    return r;
+  }
+  const Eigen::MatrixXd jac = detail::natural_jacobian(m, pts, best.p);
+  Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(jac);
+  if (qr.rank() < static_cast<Eigen::Index>(np)) {
+    r.message = fmt::format("the parameters cannot be told apart at the optimum (the Jacobian has rank {} of {})",
+                            qr.rank(), np);
+    return r;
+  }
+  const auto p_idx = static_cast<Eigen::Index>(np);
+  const Eigen::MatrixXd rr = qr.matrixR().topLeftCorner(p_idx, p_idx).triangularView<Eigen::Upper>();
+  const Eigen::MatrixXd r_inv = rr.triangularView<Eigen::Upper>().solve(Eigen::MatrixXd::Identity(p_idx, p_idx));
+  const Eigen::MatrixXd unscaled = qr.colsPermutation() * (r_inv * r_inv.transpose()) * qr.colsPermutation().transpose();
+
+  r.ok = true;
+  r.rss = best.rss;
+  r.residual_sd = std::sqrt(best.rss / r.df);
+  r.covariance = unscaled * (best.rss / r.df);
+  r.correlation = r.covariance;
+  for (Eigen::Index a = 0; a < p_idx; ++a)
+    for (Eigen::Index b = 0; b < p_idx; ++b)
+      r.correlation(a, b) = r.covariance(a, b) / std::sqrt(r.covariance(a, a) * r.covariance(b, b));
+  r.t_quantile = student_t_quantile(1 - (1 - options.confidence) / 2, r.df);
+  double sum_log_w = 0;
+  for (double w : pts.w) sum_log_w += std::log(w);
+  if (best.rss > 0)
+    r.aic = r.n * (std::log(2 * M_PI) + 1 - std::log(r.n) + std::log(best.rss)) - sum_log_w + 2.0 * static_cast<double>(np + 1);
+  detail::weighted_rss(m, pts, best.p, &r.fitted);
+  for (std::size_t k = 0; k < pts.size(); ++k) r.residuals.push_back(pts.v[k] - r.fitted[k]);
+  const bool exact = !(r.residual_sd > 0);
+  for (std::size_t j = 0; j < np; ++j) {
+    ParameterEstimate e;
+    e.name = names[j];
+    e.estimate = best.p[j];
+    e.se = std::sqrt(r.covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j)));
+    e.ci_low = e.estimate - r.t_quantile * e.se;
+    e.ci_high = e.estimate + r.t_quantile * e.se;
+    if (exact) {
+      e.profile_low = e.profile_high = e.estimate;
+    } else if (options.profile) {
+      const auto lim = detail::profile_limits(m, pts, bounds, best, j, e.se, r.residual_sd, r.t_quantile, settings);
+      e.profile_low = lim.low;
+      e.profile_high = lim.high;
+    }
+    r.parameters.push_back(e);
+  }
+  add_warnings(r, pts, options.profile && !exact);
+  if (exact) r.warnings.push_back("the model passes through every point: residual SD 0, no interval width");
+  return r;
+}
+
+}  // namespace
+
+FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, const std::vector<double>& weights,
+                    Model model, const FitOptions& options) {
+  if (needs_inhibitor(model))
+    throw UsageError(fmt::format("fit_model: the {} model needs inhibitor concentrations; call fit_inhibition",
+                                 to_string(model)));
+  return fit_points(model, make_points("fit_model", s, nullptr, v, weights), options);
+}
+
+FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>& inhibitor,
+                         const std::vector<double>& v, const std::vector<double>& weights, Model model,
+                         const FitOptions& options) {
+  return fit_points(model, make_points("fit_inhibition", s, &inhibitor, v, weights), options);
+}
+
+std::vector<ParameterEstimate> turnover(const FitResult& fit, double enzyme_conc) {
+  if (!fit.ok || fit.parameters.size() < 2) return {};
+  if (!(enzyme_conc > 0) || !std::isfinite(enzyme_conc))
+    throw UsageError(fmt::format("turnover: enzyme concentration is {}; it must be > 0", enzyme_conc));
+  const double vmax = fit.parameters[0].estimate, km = fit.parameters[1].estimate;
+  const double t = fit.t_quantile;
+  ParameterEstimate kcat{"kcat", vmax / enzyme_conc, fit.parameters[0].se / enzyme_conc};
+  kcat.ci_low = kcat.estimate - t * kcat.se;
+  kcat.ci_high = kcat.estimate + t * kcat.se;
+  kcat.profile_low = fit.parameters[0].profile_low / enzyme_conc;
+  kcat.profile_high = fit.parameters[0].profile_high / enzyme_conc;
+  // Delta method: ∇(V/(E·K)) = (1/(E·K), −V/(E·K²)).
+  const double g0 = 1 / (enzyme_conc * km), g1 = -vmax / (enzyme_conc * km * km);
+  const auto& c = fit.covariance;
+  const double var = g0 * g0 * c(0, 0) + 2 * g0 * g1 * c(0, 1) + g1 * g1 * c(1, 1);
+  ParameterEstimate eff{"kcat/" + fit.parameters[1].name, vmax / (enzyme_conc * km), std::sqrt(std::max(var, 0.0))};
+  eff.ci_low = eff.estimate - t * eff.se;
+  eff.ci_high = eff.estimate + t * eff.se;
+  return {kcat, eff};
+}
+
+std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::vector<double>& inhibitor,
+                                       const std::vector<double>& v, const std::vector<double>& weights,
+                                       const FitResult& fit, int curve_points) {
+  if (!fit.ok) throw UsageError("diagnostics: the fit has no estimate (" + fit.message + ")");
+  const detail::FitPoints pts = make_points("diagnostics", s, inhibitor.empty() ? nullptr : &inhibitor, v, weights);
+  std::vector<double> p;
+  for (const auto& e : fit.parameters) p.push_back(e.estimate);
+  const bool has_i = needs_inhibitor(fit.model) && !inhibitor.empty();
+  auto finite_or_nan = [](double x) { return std::isfinite(x) ? x : NAN; };
+  auto fill = [&](DiagnosticRow& d) {
+    d.inv_s = finite_or_nan(1 / d.s);
+    d.inv_v = finite_or_nan(1 / d.v);
+    d.s_over_v = finite_or_nan(d.s / d.v);
+    d.v_over_s = finite_or_nan(d.v / d.s);
+  };
+  std::vector<DiagnosticRow> out;
+  for (std::size_t k = 0; k < pts.size(); ++k) {
+    DiagnosticRow d;
+    d.s = pts.s[k];
+    d.inhibitor = has_i ? pts.i[k] : NAN;
+    d.v = pts.v[k];
+    d.fitted = model_rate(fit.model, p, pts.s[k], pts.i[k]);
+    d.residual = d.v - d.fitted;
+    d.weight = pts.w[k];
+    fill(d);
+    out.push_back(d);
+  }
+  double s_lo = INFINITY, s_hi = 0;
+  for (double e : pts.s)
+    if (e > 0) s_lo = std::min(s_lo, e), s_hi = std::max(s_hi, e);
+  std::set<double> levels;
+  if (has_i) levels.insert(pts.i.begin(), pts.i.end());
+  else levels.insert(NAN);
+  const int count = std::max(curve_points, 2);
+  for (double level : levels) {
+    for (int k = 0; k < count; ++k) {
+      DiagnosticRow d;
+      d.curve = true;
+      d.s = s_lo * std::pow(s_hi / s_lo, static_cast<double>(k) / (count - 1));
+      d.inhibitor = level;
+      d.fitted = d.v = model_rate(fit.model, p, d.s, has_i ? level : 0.0);
+      fill(d);
+      out.push_back(d);
+    }
+  }
+  return out;
+}
+
+}  // namespace vzero

@@ -1,0 +1,195 @@
+// Levenberg–Marquardt on log-parameters with a projected box, and profile-t intervals.
+#include <Eigen/Cholesky>
+#include <Eigen/QR>
+#include <algorithm>
+#include <cmath>
+
+#include "fit/fit_models.hpp"
+
+namespace vzero::detail {
+
+namespace {
+std::vector<double> to_natural(const std::vector<double>& th, const std::vector<bool>& fixed,
+                               const std::vector<double>& fixed_values) {
+  std::vector<double> p(th.size());
+  // Fixed parameters keep their exact given value (no exp(log(c)) rounding).
+  for (std::size_t j = 0; j < th.size(); ++j) p[j] = fixed[j] ? fixed_values[j] : std::exp(th[j]);
+  return p;
+}
+
+// Bates & Watts (1981) relative offset: |Q₁ᵀr| / |Q₂ᵀr|, the size of the residual's
+// projection onto the tangent plane relative to the part orthogonal to it.
+double relative_offset(const Eigen::MatrixXd& j, const Eigen::VectorXd& r) {
+  Eigen::HouseholderQR<Eigen::MatrixXd> qr(j);
+  const Eigen::VectorXd qtr = qr.householderQ().transpose() * r;
+  const Eigen::Index pf = j.cols();
+  const double along = qtr.head(pf).squaredNorm();
+  const double across = qtr.tail(qtr.size() - pf).squaredNorm();
+  if (across <= 0) return along > 0 ? INFINITY : 0.0;
+  return std::sqrt(along / across);
+}
+}  // namespace
+
+LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
+                             const std::vector<bool>& fixed, const LmSettings& settings) {
+  const std::size_t np = start.size();
+  const auto n = static_cast<Eigen::Index>(pts.size());
+  std::vector<double> th(np), lo(np), hi(np);
+  for (std::size_t j = 0; j < np; ++j) {
+    lo[j] = std::log(bounds.lo[j]);
+    hi[j] = std::log(bounds.hi[j]);
+    th[j] = fixed[j] ? std::log(start[j]) : std::clamp(std::log(start[j]), lo[j], hi[j]);
+  }
+  double scale = 0;  // Σ w v²: residuals below ~1e-14 of the data are an exact fit
+  for (std::size_t k = 0; k < pts.size(); ++k) scale += pts.w[k] * pts.v[k] * pts.v[k];
+
+  LmResult out;
+  std::vector<double> p = to_natural(th, fixed, start);
+  double rss = weighted_rss(m, pts, p);
+  double lambda = 1e-3;
+  int it = 0;
+  bool stalled = false;
+  double crit = INFINITY;
+  for (;;) {
+    Eigen::MatrixXd jac = natural_jacobian(m, pts, p);
+    for (std::size_t j = 0; j < np; ++j) jac.col(static_cast<Eigen::Index>(j)) *= p[j];  // ∂f/∂θ = p·∂f/∂p
+    Eigen::VectorXd r(n);
+    for (Eigen::Index k = 0; k < n; ++k) {
+      const auto kk = static_cast<std::size_t>(k);
+      r(k) = pts.sqrt_w[kk] * (pts.v[kk] - model_rate(m, p, pts.s[kk], pts.i[kk]));
+    }
+    const Eigen::VectorXd g = jac.transpose() * r;  // descent direction of RSS in θ
+    std::vector<Eigen::Index> free;
+    for (std::size_t j = 0; j < np; ++j) {
+      if (fixed[j]) continue;
+      const auto jj = static_cast<Eigen::Index>(j);
+      if (th[j] <= lo[j] && g(jj) <= 0) continue;  // pinned at the lower bound
+      if (th[j] >= hi[j] && g(jj) >= 0) continue;  // pinned at the upper bound
+      free.push_back(jj);
+    }
+    if (rss <= 1e-28 * scale || free.empty()) {
+      crit = 0;
+      out.converged = true;
+      break;
+    }
+    Eigen::MatrixXd jf(n, static_cast<Eigen::Index>(free.size()));
+    Eigen::VectorXd gf(static_cast<Eigen::Index>(free.size()));
+    for (std::size_t c = 0; c < free.size(); ++c) {
+      jf.col(static_cast<Eigen::Index>(c)) = jac.col(free[c]);
+      gf(static_cast<Eigen::Index>(c)) = g(free[c]);
+    }
+    crit = relative_offset(jf, r);
+    if (crit < settings.tolerance) {
+      out.converged = true;
+      break;
+    }
+    if (it >= settings.max_iterations) break;
+    const Eigen::MatrixXd a = jf.transpose() * jf;
+    bool accepted = false;
+    double max_move = 0;
+    while (!accepted) {
+      Eigen::MatrixXd mtx = a;
+      for (Eigen::Index c = 0; c < mtx.rows(); ++c) mtx(c, c) += lambda * std::max(a(c, c), 1e-300);  // Marquardt scaling
+      const Eigen::VectorXd step = mtx.ldlt().solve(gf);
+      std::vector<double> th_new = th;
+      for (std::size_t c = 0; c < free.size(); ++c) {
+        const auto j = static_cast<std::size_t>(free[c]);
+        th_new[j] = std::clamp(th[j] + step(static_cast<Eigen::Index>(c)), lo[j], hi[j]);
+      }
+      const std::vector<double> p_new = to_natural(th_new, fixed, start);
+      const double rss_new = weighted_rss(m, pts, p_new);
+      if (std::isfinite(rss_new) && rss_new < rss) {
+        max_move = 0;
+        for (std::size_t j = 0; j < np; ++j)
+          max_move = std::max(max_move, std::fabs(th_new[j] - th[j]) / (1.0 + std::fabs(th[j])));
+        th = th_new, p = p_new, rss = rss_new;
+        lambda = std::max(lambda * 0.1, 1e-12);
+        accepted = true;
+      } else {
+        lambda *= 10;
+        if (lambda > 1e14) break;
+      }
+    }
+    ++it;
+    if (!accepted) {
+      // No step lowers the RSS any more: the optimum is reached to rounding when the
+      // relative offset is already small.
+      stalled = true;
+      break;
+    }
+    if (max_move <= 1e-15) {
+      out.converged = true;
+      break;
+    }
+  }
+  if (stalled) out.converged = crit < 1e-6;
+  out.p = p;
+  out.rss = rss;
+  out.iterations = it;
+  out.relative_offset = crit;
+  out.at_bound.assign(np, 0);
+  for (std::size_t j = 0; j < np; ++j) {
+    if (fixed[j]) continue;
+    // A run creeping along a valley towards a bound may never land on it exactly.
+    constexpr double k_near = 1e-6;  // in ln p: within 1e-6 relative of the bound
+    if (th[j] <= lo[j] + k_near) out.at_bound[j] = -1;
+    if (th[j] >= hi[j] - k_near) out.at_bound[j] = 1;
+  }
+  return out;
+}
+
+ProfileLimits profile_limits(Model m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
+                             double se_j, double residual_sd, double cutoff, const LmSettings& settings) {
+  ProfileLimits out;
+  std::vector<bool> fixed(best.p.size(), false);
+  fixed[j] = true;
+  const double pj = best.p[j];
+  // Steps are taken in ln pⱼ, starting from the relative standard error.
+  const double h = std::clamp(se_j / pj, 1e-4, 1.0);
+  for (int side : {-1, 1}) {
+    std::vector<double> warm = best.p;
+    const double room = side < 0 ? std::log(pj / bounds.lo[j]) : std::log(bounds.hi[j] / pj);
+    // |τ| at ln pⱼ + side·d, refitting the other parameters from the last solution.
+    auto tau = [&](double d) {
+      std::vector<double> st = warm;
+      st[j] = pj * std::exp(side * d);
+      const LmResult r = levenberg_marquardt(m, pts, bounds, st, fixed, settings);
+      warm = r.p;
+      return std::sqrt(std::max(r.rss - best.rss, 0.0)) / residual_sd;
+    };
+    double a = 0, ta = 0, b = std::min(h, room), tb = tau(b);
+    bool bracketed = tb >= cutoff;
+    for (int k = 0; k < 60 && !bracketed && b < room; ++k) {
+      a = b, ta = tb;
+      b = std::min(room, b * 2);
+      tb = tau(b);
+      bracketed = tb >= cutoff;
+    }
+    if (!bracketed) continue;
+    // Illinois regula falsi on |τ|(d) − cutoff over [a, b].
+    double fa = ta - cutoff, fb = tb - cutoff;
+    int last = 0;
+    for (int k = 0; k < 200 && std::fabs(b - a) > 1e-12 * (1.0 + b); ++k) {
+      const double c = b - fb * (b - a) / (fb - fa);
+      const double fc = tau(c) - cutoff;
+      if (std::fabs(fc) <= 1e-13 * cutoff) {
+        a = b = c;
+        break;
+      }
+      if ((fc < 0) == (fa < 0)) {
+        a = c, fa = fc;
+        if (last == -1) fb /= 2;
+        last = -1;
+      } else {
+        b = c, fb = fc;
+        if (last == 1) fa /= 2;
+        last = 1;
+      }
+    }
+    const double d = std::fabs(fa) < std::fabs(fb) ? a : b;
+    (side < 0 ? out.low : out.high) = pj * std::exp(side * d);
+  }
+  return out;
+}
+
+}  // namespace vzero::detail

@@ -1,0 +1,303 @@
+// Fitting a rates or summary table: row filters, groups, weights, units, and one fit per
+// group × model.
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+
+#include "core/text.hpp"
+#include "vzero/error.hpp"
+#include "vzero/fit.hpp"
+
+namespace vzero {
+
+std::string FitTableOptions::validate() const {
+  if (x_column.empty()) return "x_column is empty; name the substrate concentration column";
+  if (models.empty()) return "models is empty; give at least one model";
+  for (Model m : models)
+    if (needs_inhibitor(m) && inhibitor_column.empty())
+      return fmt::format("model {} needs inhibitor_column, which is empty", to_string(m));
+  return fit.validate();
+}
+
+namespace {
+
+std::string num(double x) { return fmt::format("{:.6g}", x); }
+
+bool ends_with(std::string_view s, std::string_view tail) {
+  return s.size() >= tail.size() && s.substr(s.size() - tail.size()) == tail;
+}
+
+// The concentration unit a column name carries as its last "_" word ("inhibitor_uM" → "uM").
+std::string unit_suffix(std::string_view name) {
+  static const char* const k_units[] = {"M", "mM", "uM", "µM", "nM", "pM", "fM", "ppm", "ppb", "mg_ml", "ug_ml"};
+  for (const char* u : k_units) {
+    const std::string tail = std::string("_") + u;
+    if (ends_with(name, tail) && name.size() > tail.size()) return u;
+  }
+  return {};
+}
+
+// One distinct value of column `col` over `rows` (empty cells ignored); "" when the column
+// is absent, empty or holds several values.
+std::string unique_text(const Table& t, int col, const std::vector<std::size_t>& rows) {
+  if (col < 0) return {};
+  std::string found;
+  for (std::size_t r : rows) {
+    const std::string& cell = t.rows[r][static_cast<std::size_t>(col)];
+    if (cell.empty()) continue;
+    if (!found.empty() && cell != found) return {};
+    found = cell;
+  }
+  return found;
+}
+
+// Unit of a value column: a companion "<name>_unit" column, else the name's suffix, else
+// what the options know from outside the table (the data package's schema).
+std::string column_unit(const Table& t, const std::string& name, const std::vector<std::size_t>& rows,
+                        const std::map<std::string, std::string>& known) {
+  if (name.empty()) return {};
+  if (auto u = unique_text(t, t.column(name + "_unit"), rows); !u.empty()) return u;
+  if (auto u = unit_suffix(name); !u.empty()) return u;
+  const auto it = known.find(name);
+  return it == known.end() ? std::string() : it->second;
+}
+
+std::string stem_of(const std::string& y) { return ends_with(y, "_mean") ? y.substr(0, y.size() - 5) : y; }
+
+std::string per(const std::string& a, const std::string& b) { return a.empty() || b.empty() ? "" : a + " per " + b; }
+
+struct Row {
+  double s = NAN, i = 0, v = NAN, sd = NAN, e = NAN;
+  int line = 0;
+};
+
+// Weights for one group, or a message saying why they cannot be formed.
+std::string group_weights(const std::vector<Row>& rows, Weighting w, bool sd_from_column, const std::string& sd_name,
+                          std::vector<double>& out) {
+  out.assign(rows.size(), 1.0);
+  if (w == Weighting::none) return {};
+  if (w == Weighting::relative) {
+    int bad = 0;
+    for (std::size_t k = 0; k < rows.size(); ++k) {
+      if (rows[k].v > 0) out[k] = 1 / (rows[k].v * rows[k].v);
+      else ++bad;
+    }
+    if (bad > 0)
+      return fmt::format("relative weighting (1/v^2) needs positive rates; {} of {} rates are <= 0", bad, rows.size());
+    return {};
+  }
+  if (sd_from_column) {
+    for (std::size_t k = 0; k < rows.size(); ++k) {
+      if (!(rows[k].sd > 0))
+        return fmt::format("replicate-sd weighting: column \"{}\" is empty or not > 0 on line {}; a weight 1/sd^2 needs "
+                           "an sd from at least 2 replicates",
+                           sd_name, rows[k].line);
+      out[k] = 1 / (rows[k].sd * rows[k].sd);
+    }
+    return {};
+  }
+  std::map<std::pair<double, double>, std::vector<std::size_t>> cells;
+  for (std::size_t k = 0; k < rows.size(); ++k) cells[{rows[k].s, rows[k].i}].push_back(k);
+  for (const auto& [key, idx] : cells) {
+    double mean = 0;
+    for (std::size_t k : idx) mean += rows[k].v;
+    mean /= static_cast<double>(idx.size());
+    double ss = 0;
+    for (std::size_t k : idx) ss += (rows[k].v - mean) * (rows[k].v - mean);
+    const double sd = idx.size() > 1 ? std::sqrt(ss / static_cast<double>(idx.size() - 1)) : 0.0;
+    if (!(sd > 0))
+      return fmt::format("replicate-sd weighting: substrate {} has {} replicate(s) with sd {}; every concentration "
+                         "needs at least 2 replicates that differ",
+                         num(key.first), idx.size(), num(sd));
+    for (std::size_t k : idx) out[k] = 1 / (sd * sd);
+  }
+  return {};
+}
+
+}  // namespace
+
+TableFit fit_table(const Table& table, const FitTableOptions& options) {
+  if (auto why = options.validate(); !why.empty()) throw UsageError("FitTableOptions: " + why);
+  TableFit out;
+  out.source = table.source;
+  out.weighting = options.weighting;
+  out.group_columns = options.group_columns;
+  const int x_col = table.require_column(options.x_column, "name the substrate concentration column as x");
+  std::string y_name = options.y_column;
+  if (y_name.empty()) y_name = table.column("v0") < 0 && table.column("v0_mean") >= 0 ? "v0_mean" : "v0";
+  const int y_col = table.require_column(y_name, "name the rate column as y");
+  bool any_inhibition = false;
+  for (Model m : options.models) any_inhibition = any_inhibition || needs_inhibitor(m);
+  const int i_col = options.inhibitor_column.empty()
+                        ? -1
+                        : table.require_column(options.inhibitor_column, "name the inhibitor concentration column");
+  const int e_col = options.enzyme_column.empty()
+                        ? -1
+                        : table.require_column(options.enzyme_column, "name the enzyme concentration column");
+  std::vector<int> g_cols;
+  for (const auto& g : options.group_columns) g_cols.push_back(table.require_column(g, "name an existing group column"));
+  const int role_col = table.column("role"), flags_col = table.column("flags");
+  int sd_col = -1;
+  if (options.weighting == Weighting::replicate_sd) {
+    if (!options.sd_column.empty()) {
+      sd_col = table.require_column(options.sd_column, "name the standard deviation column");
+      out.sd_column = options.sd_column;
+    } else {
+      for (const std::string& c : {stem_of(y_name) + "_sd", y_name + "_sd"}) {
+        if (table.column(c) >= 0) {
+          sd_col = table.column(c);
+          out.sd_column = table.header[static_cast<std::size_t>(sd_col)];
+          break;
+        }
+      }
+    }
+  }
+  out.x_column = table.header[static_cast<std::size_t>(x_col)];
+  out.y_column = table.header[static_cast<std::size_t>(y_col)];
+  if (i_col >= 0) out.inhibitor_column = table.header[static_cast<std::size_t>(i_col)];
+  if (e_col >= 0) out.enzyme_column = table.header[static_cast<std::size_t>(e_col)];
+
+  // Rows kept, grouped in first-seen order.
+  std::vector<std::vector<std::string>> keys;
+  std::vector<std::vector<Row>> points;
+  std::vector<std::size_t> used_rows;
+  int zero_substrate = 0;  // rows at S = 0 left out under relative weighting
+  for (std::size_t r = 0; r < table.rows.size(); ++r) {
+    ++out.rows_read;
+    const auto& cells = table.rows[r];
+    if (role_col >= 0 && !options.role.empty() &&
+        !detail::iequals(cells[static_cast<std::size_t>(role_col)], options.role)) {
+      ++out.rows_other_role;
+      continue;
+    }
+    if (flags_col >= 0 && !options.include_flagged && !cells[static_cast<std::size_t>(flags_col)].empty()) {
+      ++out.rows_flagged;
+      continue;
+    }
+    Row row;
+    row.line = table.line_of_row[r];
+    auto x = table.number(r, x_col), y = table.number(r, y_col);
+    std::optional<double> inh = i_col >= 0 ? table.number(r, i_col) : std::optional<double>(0.0);
+    if (!x || !y || (any_inhibition && !inh)) {
+      ++out.rows_missing;
+      continue;
+    }
+    auto negative = [&](int col, double value) {
+      throw InputError(Where{table.source, row.line, table.column_of_cell[r][static_cast<std::size_t>(col)]},
+                       fmt::format("expected a concentration >= 0 in column \"{}\", found {}",
+                                   table.header[static_cast<std::size_t>(col)], num(value)),
+                       {"correct the plate map; concentrations cannot be negative"});
+    };
+    if (*x < 0) negative(x_col, *x);
+    if (inh && *inh < 0) negative(i_col, *inh);
+    if (*x == 0 && options.weighting == Weighting::relative) {
+      // Every model gives v = 0 at S = 0 whatever its parameters, so such a point only adds
+      // to the residuals; weighted 1/v^2 by a rate near 0 it would swamp them (or, v <= 0,
+      // have no weight at all). Unweighted or weighted by replicate SDs it is kept.
+      ++zero_substrate;
+      continue;
+    }
+    row.s = *x;
+    row.v = *y;
+    row.i = inh.value_or(0.0);
+    if (sd_col >= 0) row.sd = table.number(r, sd_col).value_or(NAN);
+    if (e_col >= 0) row.e = table.number(r, e_col).value_or(NAN);
+    std::vector<std::string> key;
+    for (int c : g_cols) key.push_back(cells[static_cast<std::size_t>(c)]);
+    auto it = std::find(keys.begin(), keys.end(), key);
+    if (it == keys.end()) {
+      keys.push_back(key);
+      points.emplace_back();
+      it = keys.end() - 1;
+    }
+    const auto g = static_cast<std::size_t>(it - keys.begin());
+    points[g].push_back(row);
+    used_rows.push_back(r);
+    ++out.rows_used;
+  }
+  if (out.rows_other_role > 0)
+    out.notes.push_back(fmt::format("skipped {} rows whose role is not {}", out.rows_other_role, options.role));
+  if (out.rows_flagged > 0)
+    out.notes.push_back(fmt::format("skipped {} flagged rows (a non-empty flags cell)", out.rows_flagged));
+  if (out.rows_missing > 0)
+    out.notes.push_back(fmt::format("skipped {} rows with an empty {}, {}{} cell", out.rows_missing, out.x_column,
+                                    out.y_column, any_inhibition ? " or " + out.inhibitor_column : ""));
+  if (zero_substrate > 0)
+    out.notes.push_back(fmt::format("skipped {} rows with {} = 0 (no-substrate controls): every model gives v = 0 "
+                                    "there, and relative weighting (1/v^2) has no weight for them",
+                                    zero_substrate, out.x_column));
+
+  const int v_unit_col = std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"),
+                                   table.column("v0_unit")});
+  out.v_unit = unique_text(table, v_unit_col, used_rows);
+  out.x_unit = column_unit(table, out.x_column, used_rows, options.column_units);
+  out.inhibitor_unit = column_unit(table, out.inhibitor_column, used_rows, options.column_units);
+  out.enzyme_unit = column_unit(table, out.enzyme_column, used_rows, options.column_units);
+  if (keys.empty()) {
+    // Nothing survived the filters: still one failed fit per model, so the output says why.
+    keys.emplace_back(g_cols.size(), std::string());
+    points.emplace_back();
+  }
+
+  for (std::size_t g = 0; g < keys.size(); ++g) {
+    std::vector<double> w;
+    const std::string weight_problem =
+        group_weights(points[g], options.weighting, sd_col >= 0, out.sd_column, w);
+    double enzyme = NAN;
+    std::string enzyme_problem;
+    if (e_col >= 0) {
+      std::vector<double> levels;
+      for (const Row& row : points[g])
+        if (std::isfinite(row.e) && std::find(levels.begin(), levels.end(), row.e) == levels.end())
+          levels.push_back(row.e);
+      if (levels.size() == 1 && levels[0] > 0) enzyme = levels[0];
+      else if (levels.size() > 1)
+        enzyme_problem = fmt::format("{} differs within the group ({} values); kcat not computed: group by {}",
+                                     out.enzyme_column, levels.size(), out.enzyme_column);
+      else
+        enzyme_problem = fmt::format("{} is empty or not > 0 in this group; kcat not computed", out.enzyme_column);
+    }
+    for (Model m : options.models) {
+      GroupFit gf;
+      gf.group_values = keys[g];
+      gf.model = m;
+      gf.enzyme_conc = enzyme;
+      for (const Row& row : points[g]) {
+        gf.s.push_back(row.s);
+        gf.v.push_back(row.v);
+        gf.lines.push_back(row.line);
+        if (needs_inhibitor(m)) gf.inhibitor.push_back(row.i);
+      }
+      gf.weights = w;
+      if (!weight_problem.empty()) {
+        gf.result.model = m;
+        gf.result.n = static_cast<int>(gf.v.size());
+        gf.result.message = weight_problem;
+      } else if (needs_inhibitor(m)) {
+        gf.result = fit_inhibition(gf.s, gf.inhibitor, gf.v, gf.weights, m, options.fit);
+      } else {
+        gf.result = fit_model(gf.s, gf.v, gf.weights, m, options.fit);
+      }
+      for (const auto& name : parameter_names(m)) {
+        if (name == "Vmax") gf.units.push_back(out.v_unit);
+        else if (name == "n") gf.units.push_back("1");
+        else if (name == "Kic" || name == "Kiu") gf.units.push_back(out.inhibitor_unit);
+        else gf.units.push_back(out.x_unit);
+      }
+      if (gf.result.ok && e_col >= 0) {
+        if (enzyme_problem.empty()) {
+          gf.derived = turnover(gf.result, enzyme);
+          gf.units.push_back(per(out.v_unit, out.enzyme_unit));
+          gf.units.push_back(per(per(out.v_unit, out.enzyme_unit), out.x_unit));
+        } else {
+          gf.result.warnings.push_back(enzyme_problem);
+        }
+      }
+      out.fits.push_back(std::move(gf));
+    }
+  }
+  return out;
+}
+
+}  // namespace vzero

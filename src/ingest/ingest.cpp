@@ -1,0 +1,176 @@
+#include "vzero/ingest.hpp"
+
+#include <algorithm>
+#include <fmt/format.h>
+#include <optional>
+
+#include "ingest/reader_common.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+namespace {
+
+Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only) {
+  detail::CompiledProfile cp(profile);
+  detail::ReaderInput in{src, cp, prefix_only};
+  Run run;
+  switch (profile.shape) {
+    case Shape::wide: run = detail::read_wide(in); break;
+    case Shape::grid: run = detail::read_grid(in); break;
+    case Shape::long_form: run = detail::read_long(in); break;
+  }
+  run.profile = profile.name;
+  run.shape = std::string(to_string(profile.shape));
+  return run;
+}
+
+// The built-in profiles, parsed once per process: detection tries each on every file.
+const std::vector<Profile>& builtin_profiles() {
+  static const std::vector<Profile> all = [] {
+    std::vector<Profile> v;
+    for (const auto& name : builtin_profile_names()) v.push_back(load_profile(name));
+    return v;
+  }();
+  return all;
+}
+
+long long ok_values(const Run& run) {
+  long long n = 0;
+  for (const auto& c : run.channels)
+    for (Eigen::Index j = 0; j < c.status.size(); ++j) n += c.status.data()[j] == ReadStatus::ok;
+  return n;
+}
+
+}  // namespace
+
+Run read_run(const std::string& path, const Profile& profile) {
+  detail::LineSource src(path);
+  Run run = dispatch(src, profile, false);
+  run.source = path;
+  run.sha256 = src.sha256();
+  return run;
+}
+
+Run read_run_text(const std::string& name, std::string_view text, const Profile& profile) {
+  detail::LineSource src(name, text);
+  Run run = dispatch(src, profile, false);
+  run.source = name;
+  run.sha256 = src.sha256();
+  return run;
+}
+
+ProfileChoice choose_profile(const std::string& path, const std::string& requested) {
+  ProfileChoice choice;
+  if (!requested.empty()) {
+    choice.profile = load_profile(requested);
+    choice.reason = "given with --profile";
+    return choice;
+  }
+  // The first lines of the file are enough to tell the shape: a few reads of a wide or
+  // grid export, or a few hundred rows of a long one. At most 400 lines, and no more once
+  // 64 KiB are held besides the longest line (a 1536-well wide export has ~10 KiB lines):
+  // every built-in profile parses this head, so its size is paid five times per file.
+  constexpr int k_sniff_lines = 400;
+  constexpr std::size_t k_sniff_bytes = 64 * 1024;
+  // Bytes read for it: the first MiB; past it only when its lines run on (see below), and
+  // then no more than the lines kept, so at most about 64 KiB + 2 lines of < 16 MiB each
+  // (LineSource's longest) are held, whatever the size of the file.
+  constexpr long long k_sniff_prefix_bytes = 1024 * 1024;
+  std::string head;
+  int sniffed = 0;
+  bool capped = false;
+  // Lines from the start of the file; false when `src` ran out at a byte limit (the last
+  // line may then be cut short).
+  auto sniff = [&](detail::LineSource& src) {
+    head.clear();
+    sniffed = 0;
+    capped = false;
+    std::string_view line;
+    bool more = true;
+    std::size_t longest = 0;  // one huge line (a long preamble cell) does not count
+    while (sniffed < k_sniff_lines && (more = src.next(line))) {
+      if (head.size() - longest >= k_sniff_bytes) {
+        capped = true;
+        break;
+      }
+      longest = std::max(longest, line.size() + 1);
+      head.append(line);
+      head.push_back('\n');
+      ++sniffed;
+    }
+    return more || !src.cut();
+  };
+  {
+    // The first MiB is read, not the whole file as a full LineSource does; only when the
+    // lines run past it (lines of 100s of KiB) is the file read again without a limit.
+    detail::LineSource src(path, k_sniff_prefix_bytes);
+    if (!sniff(src)) {
+      detail::LineSource whole(path);
+      sniff(whole);
+    }
+  }
+  if (detail::trim(head).empty()) {
+    throw InputError(Where{path}, "the file is empty", {"check that the right file was given"});
+  }
+  std::string tried;
+  long long best = 0;
+  // The error of the profile that got furthest into the file (a line, not "found no header").
+  std::optional<InputError> furthest;
+  std::string furthest_name;
+  const auto& names = builtin_profile_names();
+  const auto& profiles = builtin_profiles();
+  for (std::size_t k = 0; k < names.size(); ++k) {
+    const std::string& name = names[k];
+    const Profile& p = profiles[k];
+    try {
+      detail::LineSource src(path, head, detail::LineSource::NoHash{});
+      Run run = dispatch(src, p, true);
+      long long n = ok_values(run);
+      tried += fmt::format("\n    {}: reads {} values", name, n);
+      if (n > best) {
+        best = n;
+        choice.profile = p;
+        choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n,
+                                    capped ? sniffed : k_sniff_lines);
+      }
+    } catch (const InputError& e) {
+      tried += fmt::format("\n    {}: {}", name, e.message());
+      const Where& w = e.where();
+      if (w.line > 0 && (!furthest || w.line > furthest->where().line ||
+                         (w.line == furthest->where().line && w.column > furthest->where().column))) {
+        furthest = e;
+        furthest_name = name;
+      }
+    }
+  }
+  if (best == 0 && furthest) {
+    // One profile recognised the layout and stopped at a line: that error, with its place
+    // and fixes, tells the user more than the list of what every profile found.
+    std::vector<std::string> fixes = furthest->fixes();
+    fixes.push_back(fmt::format("this file was read with the built-in profile {} (detected); if that is the wrong "
+                                "layout, pass --profile NAME or a .toml path",
+                                furthest_name));
+    throw InputError(furthest->where(), furthest->message(), std::move(fixes));
+  }
+  if (best == 0) {
+    std::vector<std::string> fixes;
+    // A plate map given where the export belongs is a common slip.
+    std::string first;
+    for (std::size_t at = 0; at < head.size() && first.empty();) {
+      std::size_t end = head.find('\n', at);
+      std::string_view l = detail::trim(std::string_view(head).substr(at, end - at));
+      if (!l.empty() && l.front() != '#') first = std::string(l);
+      at = end == std::string::npos ? head.size() : end + 1;
+    }
+    std::string lowered = detail::lower(first);
+    if (lowered.find("well") != std::string::npos && lowered.find("role") != std::string::npos)
+      fixes.emplace_back("this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
+    fixes.emplace_back("write a profile for this export (see instrument-profiles/README.md) and pass it with --profile");
+    throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
+  }
+  choice.detected = true;
+  return choice;
+}
+
+}  // namespace vzero

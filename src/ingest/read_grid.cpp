@@ -1,0 +1,234 @@
+// Grid shape: per read a label line with the read time (grid.read_label, group 1; group 2
+// the temperature), a header of column numbers, then one line per plate row.
+#include <cmath>
+#include <fmt/format.h>
+
+#include "ingest/reader_common.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero::detail {
+
+namespace {
+
+struct Layout {
+  std::vector<int> columns;        // 0-based plate columns, in header order
+  std::vector<int> rows;           // 0-based plate rows, in the order of the first read
+  std::vector<WellId> wells;       // slot order: row-major over rows × columns
+  int first_line = 0;
+};
+
+struct Block {
+  double time_s = 0;
+  double temp_c = std::nan("");
+  int label_line = 0;
+  std::string label_text;
+};
+
+}  // namespace
+
+Run read_grid(ReaderInput in) {
+  const Profile& p = in.cp.profile;
+  const std::string& file = in.src.name();
+  Run run;
+  std::vector<std::pair<ChannelBuilder, Layout>> done;
+  std::optional<SectionStart> section;
+  std::optional<ChannelBuilder> current;
+  Layout layout;
+  std::vector<Field> fields;
+  std::vector<FieldView> rf;      // a row line's fields (views: no allocation per value)
+  std::string scratch;
+  std::vector<double> vals;       // one read's values and statuses, row by row
+  std::vector<ReadStatus> stats;
+  std::string_view line;
+  bool pending_line = false;  // `line` must be handled again as an outside line
+  const std::optional<PlateFormat> fixed = fixed_format(p);
+
+  auto close_channel = [&]() {
+    if (!current) return;
+    for (const auto& d : done) {
+      if (d.first.name() == current->name())
+        throw InputError(Where{file, layout.first_line}, fmt::format("channel {} appears twice in the file", current->name()),
+                         {"give each channel section its own label, or split the file"});
+    }
+    done.emplace_back(std::move(*current), layout);
+    current.reset();
+    layout = Layout{};
+  };
+
+  while (pending_line || in.src.next(line)) {
+    pending_line = false;
+    int ln = in.src.line_number();
+    if (trim(line).empty()) continue;
+    if (auto s = match_section(in.cp, line)) {
+      close_channel();
+      section = *s;
+      continue;
+    }
+    std::string time_text, temp_text;
+    bool is_label = in.cp.read_label->NumberOfCapturingGroups() >= 2
+                        ? RE2::PartialMatch(line, *in.cp.read_label, &time_text, &temp_text)
+                        : RE2::PartialMatch(line, *in.cp.read_label, &time_text);
+    if (!is_label) {
+      match_capture(in.cp, line, run.metadata);
+      continue;
+    }
+    Block b;
+    b.label_line = ln;
+    b.label_text = std::string(line);
+    auto t = parse_time(time_text, p.time_unit, p.decimal);
+    if (!t) {
+      bad_time_error(Where{file, ln, 1, std::string(line)}, time_text, p.time_unit, p.decimal,
+                     "a read time in the read label",
+                     {"make group 1 of `grid.read_label` capture the time (number or h:mm:ss)"});
+    }
+    b.time_s = *t;
+    if (!temp_text.empty()) {
+      auto v = parse_number(temp_text, p.decimal);
+      if (!v) {
+        throw InputError(Where{file, ln, 1, std::string(line)},
+                         fmt::format("expected a temperature in the read label, found {}",
+                                     describe_found(temp_text, p.decimal)),
+                         {"make group 2 of `grid.read_label` capture only the number"});
+      }
+      b.temp_c = *v;
+    }
+    // Header of column numbers.
+    std::string_view hline;
+    do {
+      if (!in.src.next(hline)) {
+        if (in.prefix_only) goto end_of_input;
+        throw InputError(Where{file, ln, 0, b.label_text},
+                         "the file ends after a read label; expected a header of column numbers",
+                         {"the export looks truncated: re-export it or delete the incomplete last read"});
+      }
+    } while (trim(hline).empty());
+    {
+      int hl = in.src.line_number();
+      char d = p.delimiter ? p.delimiter : guess_delimiter(hline);
+      if (d == 0) d = '\t';
+      split_fields_into(hline, d, fields);
+      std::vector<int> cols;
+      for (std::size_t i = 1; i < fields.size(); ++i) {
+        auto sv = trim(fields[i].text);
+        if (sv.empty() && i + 1 == fields.size()) break;
+        auto v = parse_number(sv);
+        if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
+          throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+                           fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
+                                       ln, sv),
+                           {"check that `grid.read_label` matches only read labels"});
+        }
+        int col = static_cast<int>(*v) - 1;
+        if (fixed && col >= fixed->columns)
+          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, std::string(hline)});
+        for (std::size_t k = 0; k < cols.size(); ++k) {
+          if (cols[k] == col)
+            throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+                             fmt::format("column {} appears twice in the header after the read label at line {} "
+                                         "(fields {} and {})",
+                                         col + 1, ln, k + 2, i + 1),
+                             {"remove the duplicated column; each well may appear once per read"});
+        }
+        cols.push_back(col);
+      }
+      if (cols.empty()) {
+        throw InputError(Where{file, hl, 1, std::string(hline)},
+                         "expected a header of column numbers (empty first field, then 1, 2, …)", {});
+      }
+      // Row lines.
+      std::vector<int> rows;
+      vals.clear();  // rows × columns, row by row
+      stats.clear();
+      std::vector<int> row_lines;
+      std::string_view rl;
+      bool more = false;
+      while ((more = in.src.next(rl))) {
+        if (trim(rl).empty()) break;
+        split_views_into(rl, d, rf, scratch);
+        auto row = parse_row_label(rf[0].text);
+        if (!row) {
+          line = rl;
+          pending_line = true;
+          break;
+        }
+        int rln = in.src.line_number();
+        if (rf.size() == cols.size() + 2 && trim(rf.back().text).empty()) rf.pop_back();
+        if (rf.size() != cols.size() + 1) {
+          if (in.prefix_only) goto end_of_input;
+          int col = rf.size() > cols.size() + 1 ? rf[cols.size() + 1].column : static_cast<int>(rl.size()) + 1;
+          throw InputError(Where{file, rln, col, std::string(rl)},
+                           fmt::format("expected {} values in row {} as in the header at line {}, found {}", cols.size(),
+                                       row_label(*row), hl, rf.size() - 1),
+                           {"check for a truncated or extra field; delete an incomplete last read to use the rest"});
+        }
+        for (std::size_t k = 0; k < rows.size(); ++k) {
+          if (rows[k] == *row)
+            throw InputError(Where{file, rln, 1, std::string(rl)},
+                             fmt::format("row {} appears twice in the read at line {} (first at line {})", row_label(*row),
+                                         ln, row_lines[k]),
+                             {"remove the duplicated row"});
+        }
+        if (fixed && *row >= fixed->rows) off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
+        rows.push_back(*row);
+        row_lines.push_back(rln);
+        const std::size_t at = vals.size();
+        vals.resize(at + cols.size(), 0.0);
+        stats.resize(at + cols.size(), ReadStatus::missing);
+        for (std::size_t c = 0; c < cols.size(); ++c) {
+          double v = 0;
+          switch (read_cell(in.cp, rf[c + 1].text, v)) {
+            case CellKind::number: vals[at + c] = v; stats[at + c] = ReadStatus::ok; break;
+            case CellKind::overflow: stats[at + c] = ReadStatus::overflow; break;
+            case CellKind::missing: stats[at + c] = ReadStatus::missing; break;
+            case CellKind::bad:
+              bad_value_error(p, file, rln, rf[c + 1].column, rl, rf[c + 1].text,
+                              "well " + well_name(WellId{*row, cols[c]}));
+          }
+        }
+      }
+      if (rows.empty()) {
+        if (in.prefix_only && !more) goto end_of_input;
+        throw InputError(Where{file, hl, 0, std::string(hline)},
+                         fmt::format("expected plate rows (A, B, …) after the header of the read at line {}", ln),
+                         {"check that the export is complete"});
+      }
+      if (!current) {
+        layout.columns = cols;
+        layout.rows = rows;
+        layout.first_line = ln;
+        for (int r : rows)
+          for (int c : cols) layout.wells.push_back(WellId{r, c});
+        current.emplace(section ? *section : default_section(p), layout.wells);
+      } else if (cols != layout.columns || rows != layout.rows) {
+        if (in.prefix_only && !more) goto end_of_input;
+        throw InputError(Where{file, ln, 0, b.label_text},
+                         fmt::format("the read at line {} has {} rows × {} columns; the first read of channel {} "
+                                     "(line {}) has {} × {}",
+                                     ln, rows.size(), cols.size(), current->name(), layout.first_line,
+                                     layout.rows.size(), layout.columns.size()),
+                         {"every read of a channel must cover the same wells; re-export, or delete the incomplete read"});
+      }
+      int read = current->add_read(b.time_s, b.temp_c, Where{file, ln, 1, b.label_text});
+      for (std::size_t r = 0; r < rows.size(); ++r)
+        for (std::size_t c = 0; c < cols.size(); ++c)
+          current->set(read, static_cast<int>(r * cols.size() + c), vals[r * cols.size() + c], stats[r * cols.size() + c]);
+    }
+  }
+end_of_input:
+  close_channel();
+  if (done.empty()) {
+    std::string at = p.source == "built-in" ? "built-in profile " + p.name
+                                            : fmt::format("{}:{}", p.source, p.grid_read_line);
+    throw InputError(Where{file}, "found no reads: no line matches the profile's `grid.read_label`",
+                     {fmt::format("set `grid.read_label` ('{}', {}) to a regex matching this file's read labels",
+                                  p.grid_read_label, at),
+                      "try another profile with --profile"});
+  }
+  std::vector<WellId> all;
+  for (const auto& d : done) all.insert(all.end(), d.first.wells().begin(), d.first.wells().end());
+  run.format = decide_format(p, all, file, run.format_inferred);
+  for (auto& d : done) run.channels.push_back(std::move(d.first).finish(run.format));
+  return run;
+}
+
+}  // namespace vzero::detail

@@ -1,0 +1,126 @@
+// Internals shared by the three shape readers.
+#pragma once
+
+#include <re2/re2.h>
+
+#include <memory>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "core/line_source.hpp"
+#include "core/text.hpp"
+#include "vzero/error.hpp"
+#include "vzero/profile.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero::detail {
+
+// A profile with its regexes compiled (once per pattern per process: RE2 objects are
+// immutable and safe to share between threads; profile detection would otherwise compile
+// every built-in profile's regexes for every file).
+struct CompiledProfile {
+  const Profile& profile;
+  std::vector<std::shared_ptr<const RE2>> sections;
+  std::vector<std::shared_ptr<const RE2>> captures;
+  std::shared_ptr<const RE2> read_label;
+  // True when an overflow or missing token reads as a number; otherwise a cell that reads as
+  // a number is one, and read_cell tries that first (the tokens only for the rest).
+  bool numeric_token = false;
+  explicit CompiledProfile(const Profile& p);
+};
+
+struct SectionStart {
+  std::string name;
+  Quantity quantity = Quantity::other;
+  std::string unit;
+};
+
+// The channel a line starts, if it matches a section label.
+std::optional<SectionStart> match_section(const CompiledProfile& cp, std::string_view line);
+// Stores metadata if the line matches a capture rule; true when it did.
+bool match_capture(const CompiledProfile& cp, std::string_view line,
+                   std::vector<std::pair<std::string, std::string>>& metadata);
+
+// Guesses quantity and unit from a channel name ("A405" -> absorbance/AU).
+void guess_quantity(const std::string& name, Quantity& quantity, std::string& unit);
+
+// The largest read time accepted, in seconds, on either side of 0: about 317 years, far
+// beyond any kinetic run (and beyond clock stamps in seconds since 1970), so a larger time
+// is a wrong unit or a wrong column; it also keeps every time finite in seconds.
+inline constexpr double k_max_time_s = 1e10;
+
+// Seconds from a time cell: plain numbers in `unit`, or clock text h:mm:ss / mm:ss; nullopt
+// when the text is no time or lies beyond k_max_time_s.
+std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal);
+// True when parse_time refuses `text` only because it lies beyond k_max_time_s (or beyond a
+// double).
+bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal);
+// The message for a time cell parse_time refused: `expected WHAT, found "TEXT"`, or for a
+// time out of range what is wrong and the largest time accepted.
+std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal, std::string_view what);
+// Throws the InputError for such a cell: bad_time_message, with `fixes`, or for a time out of
+// range a fix about the time unit.
+[[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal,
+                                 std::string_view what, std::vector<std::string> fixes);
+// The unit a time header names ("Time [min]", "time_s"), if any.
+std::optional<TimeUnit> unit_in_header(std::string_view header);
+
+enum class CellKind { number, overflow, missing, bad };
+// Classifies one value cell: overflow token, missing token, number, or bad text.
+CellKind read_cell(const Profile& p, std::string_view text, double& value);
+// The same result, quicker for numbers.
+CellKind read_cell(const CompiledProfile& cp, std::string_view text, double& value);
+
+// The error for a value cell that is not a number, with fixes suited to what it holds.
+[[noreturn]] void bad_value_error(const Profile& p, const std::string& file, int line, int column,
+                                  std::string_view line_text, std::string_view cell, const std::string& what_cell);
+
+// Collects one channel's reads; wells in any order (columns are sorted by plate index
+// when the channel is finished).
+class ChannelBuilder {
+ public:
+  ChannelBuilder(SectionStart start, std::vector<WellId> wells);
+  // Starts a read; returns its row. Checks that time increases (InputError otherwise).
+  int add_read(double time_s, double temperature_c, const Where& where);
+  void set(int read, int well_slot, double value, ReadStatus status);
+  Channel finish(PlateFormat format) &&;
+  const std::string& name() const { return start_.name; }
+  int reads() const { return static_cast<int>(time_s_.size()); }
+  const std::vector<WellId>& wells() const { return wells_; }
+
+ private:
+  SectionStart start_;
+  std::vector<WellId> wells_;  // slot -> well
+  std::vector<double> time_s_, temperature_c_;
+  std::vector<int> time_line_;
+  std::vector<double> values_;       // read-major while reading
+  std::vector<ReadStatus> status_;
+};
+
+// The plate format the profile fixes (`plate` > 0), if any.
+std::optional<PlateFormat> fixed_format(const Profile& p);
+// The errors for a well, a plate row or a plate column (0-based) that a fixed plate format
+// lacks, at the place the file names it.
+[[noreturn]] void off_plate_error(const PlateFormat& f, WellId w, Where where);
+[[noreturn]] void off_plate_row_error(const PlateFormat& f, int row, Where where);
+[[noreturn]] void off_plate_column_error(const PlateFormat& f, int column, Where where);
+
+// Plate format from the profile or the wells read; InputError if a well does not fit.
+PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred);
+
+// Default channel when no section label was seen.
+SectionStart default_section(const Profile& p);
+
+struct ReaderInput {
+  LineSource& src;
+  const CompiledProfile& cp;
+  bool prefix_only = false;  // reading the start of a file to detect its shape
+};
+
+Run read_wide(ReaderInput in);
+Run read_grid(ReaderInput in);
+Run read_long(ReaderInput in);
+
+}  // namespace vzero::detail

@@ -1,0 +1,536 @@
+#include "rates/rate_window.hpp"
+
+#include <algorithm>
+#include <array>
+#include <map>
+#include <utility>
+
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
+#include "rates/robust.hpp"
+#include "rates/window_stats.hpp"
+
+namespace vzero::detail {
+namespace {
+
+// A bend must show in this many consecutive candidate windows before it ends the growth
+// (or moves the start): one significant test in a long sequence of tests is expected by
+// chance, three in a row are not.
+constexpr int k_confirm = 3;
+// Fewest reads on which the curvature test is run (2 residual degrees of freedom).
+constexpr int k_min_test_reads = 5;
+
+std::size_t z(int i) { return static_cast<std::size_t>(i); }
+
+// Two-sided critical t values by degree of freedom, remembered per thread for the last
+// probability asked (the rate finder asks the same one for every well).
+class CriticalT {
+ public:
+  explicit CriticalT(double p) : cache_(table()) {
+    if (cache_.p != p) {
+      cache_.p = p;
+      cache_.by_df.clear();
+    }
+  }
+  double operator()(int df) {
+    if (df < 0 || df > 100000) return student_t_quantile(cache_.p, df);
+    if (z(df) >= cache_.by_df.size()) cache_.by_df.resize(z(df) + 1, NAN);
+    double& v = cache_.by_df[z(df)];
+    if (std::isnan(v)) v = student_t_quantile(cache_.p, df);
+    return v;
+  }
+
+ private:
+  struct Table {
+    double p = NAN;
+    std::vector<double> by_df;
+  };
+  static Table& table() {
+    thread_local Table t;
+    return t;
+  }
+  Table& cache_;
+};
+
+// Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
+// reads (seven consecutive reads holding it, shifted inward at the ends), so one other spike
+// among the neighbours does not move the line. Its residual, scaled by √(1 + leverage), is a
+// spike when it exceeds k times the larger of the trace's robust SD (1.4826·MAD of these
+// residuals) and the neighbours' own robust residual SD: at a sharp bend (end of a lag, onset
+// of saturation) the neighbours do not agree with one line, and the read there is no spike.
+// Batcher's odd–even merge sorting network on N = 2^k inputs (Knuth, TAOCP vol. 3,
+// §5.3.4): a fixed list of compare-exchange pairs, so small arrays sort without branches.
+template <int N>
+constexpr auto batcher_pairs() {
+  constexpr int count = [] {
+    int c = 0;
+    for (int p = 1; p < N; p <<= 1)
+      for (int k = p; k >= 1; k >>= 1)
+        for (int j = k % p; j + k < N; j += 2 * k)
+          for (int i = 0; i < std::min(k, N - j - k); ++i)
+            if ((i + j) / (2 * p) == (i + j + k) / (2 * p)) ++c;
+    return c;
+  }();
+  std::array<std::pair<int, int>, count> out{};
+  int c = 0;
+  for (int p = 1; p < N; p <<= 1)
+    for (int k = p; k >= 1; k >>= 1)
+      for (int j = k % p; j + k < N; j += 2 * k)
+        for (int i = 0; i < std::min(k, N - j - k); ++i)
+          if ((i + j) / (2 * p) == (i + j + k) / (2 * p)) out[static_cast<std::size_t>(c++)] = {i + j, i + j + k};
+  return out;
+}
+
+// The spike screen works on one read (double) or, with SSE2, two reads at once (V2: one
+// read per lane). Every lane operation is the IEEE operation the scalar code does (min and
+// max as std::min/std::max give them, |x| by clearing the sign, correctly rounded sqrt and
+// division), so both give the same bits.
+inline double lane_min(double a, double b) { return std::min(a, b); }
+inline double lane_max(double a, double b) { return std::max(a, b); }
+inline double lane_abs(double a) { return std::fabs(a); }
+inline double lane_sqrt(double a) { return std::sqrt(a); }
+inline double splat(double a, double) { return a; }
+
+#if defined(__SSE2__)
+struct V2 {
+  __m128d v;
+  friend V2 operator+(V2 a, V2 b) { return {_mm_add_pd(a.v, b.v)}; }
+  friend V2 operator-(V2 a, V2 b) { return {_mm_sub_pd(a.v, b.v)}; }
+  friend V2 operator*(V2 a, V2 b) { return {_mm_mul_pd(a.v, b.v)}; }
+  friend V2 operator/(V2 a, V2 b) { return {_mm_div_pd(a.v, b.v)}; }
+};
+// std::min(a, b) is b < a ? b : a, which MINPD(b, a) computes; likewise for max.
+inline V2 lane_min(V2 a, V2 b) { return {_mm_min_pd(b.v, a.v)}; }
+inline V2 lane_max(V2 a, V2 b) { return {_mm_max_pd(b.v, a.v)}; }
+inline V2 lane_abs(V2 a) { return {_mm_andnot_pd(_mm_set1_pd(-0.0), a.v)}; }
+inline V2 lane_sqrt(V2 a) { return {_mm_sqrt_pd(a.v)}; }
+inline V2 splat(double a, V2) { return {_mm_set1_pd(a)}; }
+#endif
+
+template <class V>
+inline void compare_exchange(V& a, V& b) {
+  const V lo = lane_min(a, b), hi = lane_max(a, b);
+  a = lo;
+  b = hi;
+}
+
+// The comparators of Batcher's 16-input network that decide output 7 (the median) of 15
+// values: those on wire 15 (an implicit +inf) never move anything, and those feeding no
+// wire that reaches output 7 are left out (49 of 63).
+constexpr int median15_count() {
+  constexpr auto all = batcher_pairs<16>();
+  std::array<bool, 16> need{};
+  need[7] = true;
+  int count = 0;
+  for (int c = static_cast<int>(all.size()) - 1; c >= 0; --c) {
+    const auto [a, b] = all[static_cast<std::size_t>(c)];
+    if (a == 15 || b == 15 || !(need[static_cast<std::size_t>(a)] || need[static_cast<std::size_t>(b)])) continue;
+    need[static_cast<std::size_t>(a)] = need[static_cast<std::size_t>(b)] = true;
+    ++count;
+  }
+  return count;
+}
+
+constexpr auto median15_pairs() {
+  constexpr auto all = batcher_pairs<16>();
+  std::array<std::pair<int, int>, median15_count()> out{};
+  std::array<bool, 16> need{};
+  need[7] = true;
+  int k = static_cast<int>(out.size());
+  for (int c = static_cast<int>(all.size()) - 1; c >= 0; --c) {
+    const auto [a, b] = all[static_cast<std::size_t>(c)];
+    if (a == 15 || b == 15 || !(need[static_cast<std::size_t>(a)] || need[static_cast<std::size_t>(b)])) continue;
+    need[static_cast<std::size_t>(a)] = need[static_cast<std::size_t>(b)] = true;
+    out[static_cast<std::size_t>(--k)] = {a, b};  // kept in network order
+  }
+  return out;
+}
+
+inline constexpr auto k_median15 = median15_pairs();
+
+// The network unrolled at compile time, so the values stay in registers.
+template <class V, std::size_t... I>
+V median15(std::array<V, 15> w, std::index_sequence<I...>) {
+  (compare_exchange(w[z(k_median15[I].first)], w[z(k_median15[I].second)]), ...);
+  return w[7];
+}
+
+// The 8th smallest of 15 values (what std::nth_element at index 7 gives).
+template <class V>
+inline V median_of_fifteen(const std::array<V, 15>& v) {
+  return median15(v, std::make_index_sequence<k_median15.size()>{});
+}
+
+// For the read at offset e of its 7-read window: its 15 neighbour pairs (a, b) as indices
+// a·6 + (b − a − 1) into the gap slopes from the window's start.
+constexpr auto pair_offsets() {
+  std::array<std::array<int, 15>, 7> t{};
+  for (int e = 0; e < 7; ++e) {
+    std::array<int, 6> nb{};
+    int c = 0;
+    for (int i = 0; i < 7; ++i)
+      if (i != e) nb[static_cast<std::size_t>(c++)] = i;
+    int n = 0;
+    for (int p = 0; p < 6; ++p)
+      for (int q = p + 1; q < 6; ++q)
+        t[static_cast<std::size_t>(e)][static_cast<std::size_t>(n++)] =
+            nb[static_cast<std::size_t>(p)] * 6 + (nb[static_cast<std::size_t>(q)] - nb[static_cast<std::size_t>(p)] - 1);
+  }
+  return t;
+}
+inline constexpr auto k_pair_offsets = pair_offsets();
+
+// Median of six values, as median_inplace gives it: the mean of the two middle ones. The
+// 12-comparator network for six inputs (Knuth, TAOCP vol. 3, §5.3.4; checked on all 64
+// 0–1 inputs, which suffices by the 0–1 principle).
+template <class V>
+inline V median_of_six(std::array<V, 6> v) {
+  compare_exchange(v[0], v[5]);
+  compare_exchange(v[1], v[3]);
+  compare_exchange(v[2], v[4]);
+  compare_exchange(v[1], v[2]);
+  compare_exchange(v[3], v[4]);
+  compare_exchange(v[0], v[3]);
+  compare_exchange(v[2], v[5]);
+  compare_exchange(v[0], v[1]);
+  compare_exchange(v[2], v[3]);
+  compare_exchange(v[4], v[5]);
+  compare_exchange(v[1], v[2]);
+  compare_exchange(v[3], v[4]);
+  return (v[2] + v[3]) / splat(2.0, v[0]);
+}
+
+// One read's (or, in lanes, two reads') neighbour line: `slopes` the 15 neighbour-pair
+// slopes, (tn, yn) the six neighbours, (tj, yj) the read. Gives its scaled residual and the
+// neighbours' robust SD.
+template <class V>
+inline void screen_read(const std::array<V, 15>& slopes, const std::array<V, 6>& tn, const std::array<V, 6>& yn, V tj,
+                        V yj, V& d, V& nb_sd) {
+  constexpr int k_nb = 6;
+  const V slope = median_of_fifteen(slopes);
+  std::array<V, k_nb> res{}, tmp{};
+  V mt = splat(0.0, tj);
+  for (int i = 0; i < k_nb; ++i) {
+    res[z(i)] = yn[z(i)] - slope * tn[z(i)];
+    mt = mt + tn[z(i)];
+  }
+  mt = mt / splat(static_cast<double>(k_nb), tj);
+  const V icpt = median_of_six(res);
+  V stt = splat(0.0, tj);
+  for (int i = 0; i < k_nb; ++i) {
+    const V dt = tn[z(i)] - mt;
+    stt = stt + dt * dt;
+    tmp[z(i)] = lane_abs(res[z(i)] - icpt);
+  }
+  nb_sd = splat(1.4826, tj) * median_of_six(tmp);
+  const V dt = tj - mt;
+  const V lev = splat(1.0 / k_nb, tj) + dt * dt / stt;
+  d = (yj - (icpt + slope * tj)) / lane_sqrt(splat(1.0, tj) + lev);
+}
+
+void screen_spikes(Usable& u, double k, double floor) {
+  constexpr int k_nb = 6;
+  const int m = static_cast<int>(u.t.size());
+  u.spike.assign(z(m), 0);
+  if (m < k_nb + 1) return;
+  // Scratch reused by each thread: the screen runs once per well.
+  thread_local std::vector<double> d, nb_sd, a, gap_slope;
+  d.resize(z(m));
+  nb_sd.resize(z(m));
+  // Slope of reads (i, i + g), g = 1 … 6: every neighbour pair below lies within 6 reads.
+  gap_slope.resize(z(m) * k_nb);
+  for (int i = 0; i < m; ++i)
+    for (int g = 1; g <= k_nb && i + g < m; ++g)
+      gap_slope[z(i) * k_nb + z(g - 1)] = (u.y[z(i + g)] - u.y[z(i)]) / (u.t[z(i + g)] - u.t[z(i)]);
+  // Read j's neighbours: the 7-read window from lo(j), less j itself.
+  const auto gather = [&](int j, std::array<double, 15>& slopes, std::array<double, 6>& tn, std::array<double, 6>& yn) {
+    const int lo = std::clamp(j - k_nb / 2, 0, m - k_nb - 1);
+    const double* gs = gap_slope.data() + z(lo) * k_nb;
+    const auto& offsets = k_pair_offsets[z(j - lo)];
+    for (std::size_t t = 0; t < slopes.size(); ++t) slopes[t] = gs[offsets[t]];
+    int c = 0;
+    for (int i = lo; i <= lo + k_nb; ++i)
+      if (i != j) {
+        tn[z(c)] = u.t[z(i)];
+        yn[z(c++)] = u.y[z(i)];
+      }
+  };
+  std::array<double, 15> s0{}, s1{};
+  std::array<double, 6> t0{}, t1{}, y0{}, y1{};
+  int j = 0;
+#if defined(__SSE2__)
+  for (; j + 1 < m; j += 2) {
+    gather(j, s0, t0, y0);
+    gather(j + 1, s1, t1, y1);
+    std::array<V2, 15> sv{};
+    std::array<V2, 6> tv{}, yv{};
+    for (std::size_t i = 0; i < 15; ++i) sv[i] = {_mm_set_pd(s1[i], s0[i])};
+    for (std::size_t i = 0; i < 6; ++i) {
+      tv[i] = {_mm_set_pd(t1[i], t0[i])};
+      yv[i] = {_mm_set_pd(y1[i], y0[i])};
+    }
+    V2 dv, sdv;
+    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])}, dv, sdv);
+    _mm_storel_pd(&d[z(j)], dv.v);
+    _mm_storeh_pd(&d[z(j + 1)], dv.v);
+    _mm_storel_pd(&nb_sd[z(j)], sdv.v);
+    _mm_storeh_pd(&nb_sd[z(j + 1)], sdv.v);
+  }
+#endif
+  for (; j < m; ++j) {
+    gather(j, s0, t0, y0);
+    screen_read(s0, t0, y0, u.t[z(j)], u.y[z(j)], d[z(j)], nb_sd[z(j)]);
+  }
+  a.resize(z(m));
+  for (int i = 0; i < m; ++i) a[z(i)] = std::fabs(d[z(i)]);
+  u.local_sd = 1.4826 * median_inplace(a);
+  const double scale = std::max(u.local_sd, floor);
+  for (int i = 0; i < m; ++i)
+    if (std::fabs(d[z(i)]) > k * std::max(scale, nb_sd[z(i)])) u.spike[z(i)] = 1;
+}
+
+// Lag scan: slopes of the blocks of `p` reads starting at 0 … lag_max. A lag is present when
+// the steepest block is steeper than the first by more than k_lag_z standard errors of the
+// difference (read noise `sd`); the window then starts at the first block within one SE of
+// the steepest. Returns that start (0 = no lag).
+constexpr double k_lag_z = 4.0;
+int lag_scan(const WindowStats& stats, const std::vector<double>& t, int p, int lag_max, double sd) {
+  if (lag_max < 1 || !(sd > 0)) return 0;
+  std::vector<double> b, se;
+  b.reserve(z(lag_max) + 1);
+  se.reserve(z(lag_max) + 1);
+  for (int j = 0; j <= lag_max && j + p <= static_cast<int>(t.size()); ++j) {
+    b.push_back(stats.slope(j, j + p));
+    se.push_back(sd / std::sqrt(stats.stt(j, j + p)));
+  }
+  if (b.size() < 2) return 0;
+  const auto top = static_cast<std::size_t>(std::max_element(b.begin(), b.end()) - b.begin());
+  if (top == 0) return 0;
+  if (!(b[top] - b[0] > k_lag_z * std::hypot(se[0], se[top]))) return 0;
+  for (std::size_t j = 1; j <= top; ++j)
+    if (b[top] - b[j] <= std::hypot(se[j], se[top])) return static_cast<int>(j);
+  return static_cast<int>(top);
+}
+
+}  // namespace
+
+double tiny_floor(const Usable& u) {
+  double range = 0;
+  for (double y : u.y) range = std::max(range, std::fabs(y - u.y.front()));
+  return range > 0 ? 1e-9 * range : 1e-300;
+}
+
+Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
+  Usable u;
+  u.idx.reserve(static_cast<std::size_t>(std::max(tr.n, 0)));
+  u.t.reserve(u.idx.capacity());
+  u.y.reserve(u.idx.capacity());
+  const bool ceiling = std::isfinite(opt.signal_ceiling);
+  for (int i = 0; i < tr.n; ++i) {
+    const ReadStatus st = tr.status ? tr.status[i] : ReadStatus::ok;
+    const double level = tr.raw ? tr.raw[i] : tr.y[i];
+    const bool over = st == ReadStatus::overflow;
+    const bool high = st == ReadStatus::ok && ceiling && level >= opt.signal_ceiling;
+    u.any_overflow |= over;
+    u.any_ceiling |= high;
+    if (!u.truncated_by.empty()) continue;
+    if (over || high) {
+      if (!u.idx.empty()) u.truncated_by = over ? "overflow" : "ceiling";
+      continue;
+    }
+    if (st != ReadStatus::ok || !std::isfinite(tr.y[i]) || !std::isfinite(tr.time_s[i])) continue;
+    if (tr.time_s[i] < opt.skip_s) continue;
+    u.idx.push_back(i);
+    u.t.push_back(tr.time_s[i]);
+    u.y.push_back(tr.y[i]);
+  }
+  const double floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : tiny_floor(u);
+  screen_spikes(u, opt.outlier_k, floor);
+  return u;
+}
+
+double noise_estimate(const Usable& u, double noise_sd) { return std::isfinite(noise_sd) ? noise_sd : u.local_sd; }
+
+WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref) {
+  WindowChoice w;
+  const int m = static_cast<int>(u.t.size());
+  const int p = opt.min_points;
+  const std::string run_out = u.truncated_by.empty() ? "reads" : u.truncated_by;
+
+  if (opt.window == WindowMethod::leading) {
+    int last = std::min(p, m) - 1;
+    while (last + 1 < m && u.t[z(last)] - u.t[0] < opt.min_span_s) ++last;
+    w.first = 0;
+    w.last = last;
+    w.too_few = last + 1 < p || u.t[z(last)] - u.t[0] < opt.min_span_s;
+    w.end = "fixed";
+    return w;
+  }
+
+  // The search runs on the reads the spike screen let through.
+  std::vector<double> ct, cy;
+  std::vector<int> cpos;
+  ct.reserve(z(m));
+  cy.reserve(z(m));
+  cpos.reserve(z(m));
+  for (int i = 0; i < m; ++i)
+    if (!u.spike[z(i)]) {
+      ct.push_back(u.t[z(i)]);
+      cy.push_back(u.y[z(i)]);
+      cpos.push_back(i);
+    }
+  const int mc = static_cast<int>(ct.size());
+  // Smallest end (exclusive) of a window starting at s that meets min_points and min_span_s.
+  const auto min_end = [&](int s) {
+    int e = s + p;
+    while (e <= mc && ct[z(e - 1)] - ct[z(s)] < opt.min_span_s) ++e;
+    return e;
+  };
+  const auto as_usable = [&](int s, int e) {
+    w.first = cpos[z(s)];
+    w.last = cpos[z(e - 1)];
+  };
+  if (mc < 2 || min_end(0) > mc) {
+    w.too_few = true;
+    w.end = run_out;
+    if (mc >= 2) as_usable(0, mc);
+    else { w.first = 0; w.last = m - 1; }
+    return w;
+  }
+  const WindowStats stats(ct.data(), cy.data(), mc);
+
+  if (opt.window == WindowMethod::steepest) {
+    int best = 0;
+    double best_slope = -INFINITY;
+    for (int s = 0; min_end(s) <= mc; ++s) {
+      const double b = stats.slope(s, min_end(s));
+      if (b > best_slope) { best_slope = b; best = s; }
+    }
+    as_usable(best, min_end(best));
+    w.end = "fixed";
+    return w;
+  }
+
+  CriticalT t_crit(1 - opt.linearity_alpha / 2);
+  const int lag_max = (mc - p) / 2;  // latest start a lag may push the window to
+  int s = 0;
+  if (opt.detect_lag) {
+    s = lag_scan(stats, ct, p, lag_max, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
+    w.lag = s > 0;
+  }
+  int e = min_end(s), accepted = -1, fails = 0, fail_sign = 0, first_fail = -1;
+  std::string end;
+  bool conversion_stop = false;
+  while (true) {
+    if (e > mc) { end = run_out; break; }
+    const WindowTest wt = stats.test(s, e, sd_floor, t_ref);
+    if (std::isfinite(limit_signal) && wt.slope * (ct[z(e - 1)] - t_ref) > limit_signal) {
+      end = "conversion";
+      conversion_stop = true;
+      break;
+    }
+    // Curved when the parabola's square term is significant and matters; the first read of
+    // the window must not carry the verdict alone (mixing often disturbs it), so the window
+    // without its first read must be curved the same way.
+    const auto is_curved = [&](const WindowTest& x) {
+      return x.n >= k_min_test_reads && x.curvature_se > 0 &&
+             std::fabs(x.curvature) > t_crit(x.n - 3) * x.curvature_se &&
+             std::fabs(x.drift) > opt.slope_drift * std::fabs(x.slope);
+    };
+    bool curved = false;
+    if (opt.linearity_alpha > 0 && is_curved(wt)) {
+      const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
+      curved = rest.n < k_min_test_reads || (is_curved(rest) && (rest.curvature > 0) == (wt.curvature > 0));
+    }
+    if (!curved) {
+      accepted = e;
+      fails = 0;
+      ++e;
+      continue;
+    }
+    const int sign = wt.curvature > 0 ? 1 : -1;
+    if (fails == 0 || sign != fail_sign) { fails = 1; fail_sign = sign; first_fail = e; }
+    else ++fails;
+    if (fails < k_confirm) { ++e; continue; }
+    if (sign > 0 && opt.detect_lag && s + 1 <= lag_max) {
+      // The rate rises: skip one more read at the start.
+      ++s;
+      w.lag = true;
+      accepted = -1;
+      fails = 0;
+      e = std::max(first_fail, min_end(s));
+      continue;
+    }
+    end = "curvature";
+    break;
+  }
+  if (accepted < 0) {
+    // Not even the shortest window from s passed.
+    const int e0 = std::min(min_end(s), mc);
+    as_usable(s, e0);
+    if (conversion_stop) w.depleted = true;
+    else if (end == "curvature") w.nonlinear = true;
+    else w.too_few = e0 - s < p;
+  } else {
+    as_usable(s, accepted);
+  }
+  w.end = end;
+  return w;
+}
+
+TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
+                       double sd_floor, double t_ref) {
+  TangentFit f;
+  const int m = static_cast<int>(u.t.size());
+  const int len = w.last - w.first + 1;
+  const int ext_last = std::min(m - 1, w.first + static_cast<int>(std::ceil(opt.tangent_reach * len)) - 1);
+  std::vector<int> pos, held;
+  pos.reserve(kept.size() + z(std::max(0, ext_last - w.last)));
+  pos = kept;
+  for (int p = w.last + 1; p <= ext_last; ++p) (u.spike[z(p)] ? held : pos).push_back(p);
+  if (pos.size() < 5) return f;
+  const auto fit = [&](const std::vector<int>& ps) {
+    std::vector<double> x, y;
+    x.reserve(ps.size());
+    y.reserve(ps.size());
+    for (int p : ps) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
+    return quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
+  };
+  QuadFit q = fit(pos);
+  if (!held.empty()) {
+    // Reads the spike screen held out of the extension face the outlier rule against the
+    // parabola, as the window's reads face it against the line; those that pass rejoin.
+    const auto resid = [&](int p) {
+      const double dt = u.t[z(p)] - t_ref;
+      return u.y[z(p)] - (q.c0 + q.c1 * dt + q.c2 * dt * dt);
+    };
+    std::vector<double> a;
+    a.reserve(pos.size());
+    for (int p : pos) a.push_back(std::fabs(resid(p)));
+    const double scale = std::max(1.4826 * median_inplace(a), sd_floor);
+    const std::size_t before = pos.size();
+    for (int p : held) {
+      if (std::fabs(resid(p)) > opt.outlier_k * scale) ++f.rejected;
+      else pos.push_back(p);
+    }
+    if (pos.size() > before) {
+      std::sort(pos.begin(), pos.end());
+      q = fit(pos);
+    }
+  }
+  const int n = static_cast<int>(pos.size());
+  f.slope = q.c1;
+  f.se = q.c1_se;
+  f.end_s = u.t[z(pos.back())];
+  const double tq = student_t_quantile(0.975, n - 3);
+  f.ci_low = f.slope - tq * f.se;
+  f.ci_high = f.slope + tq * f.se;
+  if (opt.tangent_alpha > 0 && q.c2_se > 0)
+    f.bends_down = q.c2 < 0 && q.c2 / q.c2_se < -student_t_quantile(1 - opt.tangent_alpha, n - 3);
+  f.pos = std::move(pos);
+  return f;
+}
+
+}  // namespace vzero::detail

@@ -1,0 +1,52 @@
+// Steps of the rate finder (src/rates.cpp): which reads are usable, the spike screen, the
+// window search and the initial tangent. Internal to the rate finder (src/rates).
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "vzero/rates.hpp"
+
+namespace vzero::detail {
+
+// The reads a window may use, in time order: status ok, finite, not before skip_s, and
+// before the first overflow or ceiling read that follows a usable read.
+struct Usable {
+  std::vector<int> idx;      // index of each usable read in the trace
+  std::vector<double> t, y;  // its time and signal
+  std::vector<char> spike;   // 1 when the spike screen holds the read out of the search
+  double local_sd = NAN;     // robust read-noise SD from the spike screen (NaN below 6 reads)
+  bool any_overflow = false; // an overflow read anywhere in the trace
+  bool any_ceiling = false;  // an ok read at or above the ceiling anywhere in the trace
+  std::string truncated_by;  // "overflow", "ceiling" or empty
+};
+Usable usable_reads(const TraceView& tr, const RateOptions& opt);
+
+// The noise SD reported: the caller's noise_sd if given, else the spike screen's estimate.
+double noise_estimate(const Usable& u, double noise_sd);
+// A floor for residual SDs when the caller gives no noise_sd: 1e-9 of the signal range, so
+// that noise-free (synthetic) traces do not make rounding errors look significant.
+double tiny_floor(const Usable& u);
+
+// The chosen window as usable positions [first, last] (spikes inside included).
+struct WindowChoice {
+  int first = 0, last = 0;
+  bool too_few = false, nonlinear = false, depleted = false, lag = false;
+  std::string end;  // what ended it: curvature, conversion, ceiling, overflow, reads, fixed
+};
+// `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit).
+WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref);
+
+// Least-squares parabola over the window's kept reads and the usable reads after it, up to
+// `tangent_reach` times the window's length, except reads the spike screen held out that
+// also fail the outlier rule against the parabola; tangent at t_ref.
+struct TangentFit {
+  double slope = NAN, se = NAN, ci_low = NAN, ci_high = NAN, end_s = NAN;
+  bool bends_down = false;  // curvature < 0, one-sided t-test at tangent_alpha
+  std::vector<int> pos;     // usable positions the parabola used
+  int rejected = 0;         // reads after the line window rejected (spike screen and outlier rule)
+};
+TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
+                       double sd_floor, double t_ref);
+
+}  // namespace vzero::detail

@@ -1,0 +1,267 @@
+#include "vzero/rates.hpp"
+
+#include <algorithm>
+#include <fmt/format.h>
+
+#include "rates/rate_window.hpp"
+#include "rates/robust.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero {
+
+std::string_view to_string(Estimator e) {
+  switch (e) {
+    case Estimator::theil_sen: return "theil-sen";
+    case Estimator::ols: return "ols";
+    case Estimator::huber: return "huber";
+  }
+  return "theil-sen";
+}
+
+bool parse_estimator(std::string_view t, Estimator& out) {
+  if (t == "theil-sen") out = Estimator::theil_sen;
+  else if (t == "ols") out = Estimator::ols;
+  else if (t == "huber") out = Estimator::huber;
+  else return false;
+  return true;
+}
+
+std::string_view to_string(WindowMethod m) {
+  switch (m) {
+    case WindowMethod::automatic: return "auto";
+    case WindowMethod::leading: return "leading";
+    case WindowMethod::steepest: return "steepest";
+  }
+  return "auto";
+}
+
+bool parse_window_method(std::string_view t, WindowMethod& out) {
+  if (t == "auto") out = WindowMethod::automatic;
+  else if (t == "leading") out = WindowMethod::leading;
+  else if (t == "steepest") out = WindowMethod::steepest;
+  else return false;
+  return true;
+}
+
+std::string_view to_string(TangentMode m) {
+  switch (m) {
+    case TangentMode::never: return "never";
+    case TangentMode::curved: return "curved";
+    case TangentMode::always: return "always";
+  }
+  return "curved";
+}
+
+bool parse_tangent_mode(std::string_view t, TangentMode& out) {
+  if (t == "never") out = TangentMode::never;
+  else if (t == "curved") out = TangentMode::curved;
+  else if (t == "always") out = TangentMode::always;
+  else return false;
+  return true;
+}
+
+std::string RateOptions::validate() const {
+  if (min_points < 3) return fmt::format("min_points is {}; a slope with an uncertainty needs at least 3 reads", min_points);
+  if (!(skip_s >= 0)) return fmt::format("skip_s is {}; the dead time must be 0 s or more", skip_s);
+  if (!(max_conversion > 0 && max_conversion <= 1))
+    return fmt::format("max_conversion is {}; it must be a fraction above 0 and at most 1", max_conversion);
+  if (!(min_span_s >= 0)) return fmt::format("min_span_s is {}; it must be 0 s or more", min_span_s);
+  if (!std::isnan(signal_ceiling) && !std::isfinite(signal_ceiling)) return "signal_ceiling must be a finite number";
+  if (!(linearity_alpha >= 0 && linearity_alpha < 0.5))
+    return fmt::format("linearity_alpha is {}; it must be at least 0 (no test) and below 0.5", linearity_alpha);
+  if (!(slope_drift >= 0)) return fmt::format("slope_drift is {}; it must be 0 or more", slope_drift);
+  if (!(outlier_k > 0)) return fmt::format("outlier_k is {}; it must be above 0", outlier_k);
+  if (!(lod_factor >= 0)) return fmt::format("lod_factor is {}; it must be 0 or more", lod_factor);
+  if (!std::isnan(time_zero_s) && !std::isfinite(time_zero_s)) return "time_zero_s must be a finite number";
+  if (!(tangent_reach >= 1)) return fmt::format("tangent_reach is {}; it must be 1 or more", tangent_reach);
+  if (!(tangent_alpha >= 0 && tangent_alpha < 0.5))
+    return fmt::format("tangent_alpha is {}; it must be at least 0 (never) and below 0.5", tangent_alpha);
+  return {};
+}
+
+namespace {
+
+using detail::LineFit;
+
+LineFit fit_line(Estimator e, const double* t, const double* y, int n) {
+  switch (e) {
+    case Estimator::ols: return detail::ols(t, y, n);
+    case Estimator::huber: return detail::huber(t, y, n);
+    case Estimator::theil_sen: break;
+  }
+  return detail::theil_sen(t, y, n);
+}
+
+void add_flag(RateResult& r, const char* word) {
+  if (std::find(r.flags.begin(), r.flags.end(), word) == r.flags.end()) r.flags.emplace_back(word);
+}
+
+// Reads of the window [first, last] (usable positions) that the outlier rule keeps.
+struct Kept {
+  std::vector<int> pos;  // usable positions kept
+  int outliers = 0;
+  LineFit line;          // the rule's Theil–Sen line
+  bool line_on_kept = false;  // that line was fitted to exactly the kept reads
+};
+
+// Outlier rule: residuals from the Theil–Sen line of the window's reads that passed the spike
+// screen; a read is out when |r| > k·max(1.4826·MAD of those reads' residuals, noise floor).
+// Never leaves fewer than 3 reads.
+Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor, bool with_interval) {
+  Kept kept;
+  std::vector<double> ct, cy;
+  std::vector<int> cpos;
+  const auto width = static_cast<std::size_t>(last - first + 1);
+  ct.reserve(width);
+  cy.reserve(width);
+  cpos.reserve(width);
+  kept.pos.reserve(width);
+  for (int i = first; i <= last; ++i)
+    if (!u.spike[static_cast<std::size_t>(i)]) {
+      ct.push_back(u.t[static_cast<std::size_t>(i)]);
+      cy.push_back(u.y[static_cast<std::size_t>(i)]);
+      cpos.push_back(i);
+    }
+  if (ct.size() < 3) {
+    ct.assign(u.t.begin() + first, u.t.begin() + last + 1);
+    cy.assign(u.y.begin() + first, u.y.begin() + last + 1);
+    cpos.clear();
+    for (int i = first; i <= last; ++i) cpos.push_back(i);
+  }
+  const LineFit ts = detail::theil_sen(ct.data(), cy.data(), static_cast<int>(ct.size()), nullptr, with_interval);
+  kept.line = ts;
+  std::vector<double> a;
+  a.reserve(ct.size());
+  for (std::size_t i = 0; i < ct.size(); ++i) a.push_back(std::fabs(cy[i] - (ts.intercept + ts.slope * ct[i])));
+  const double scale = std::max(1.4826 * detail::median_inplace(a), sd_floor);
+  for (int i = first; i <= last; ++i) {
+    const double r = u.y[static_cast<std::size_t>(i)] - (ts.intercept + ts.slope * u.t[static_cast<std::size_t>(i)]);
+    if (std::isfinite(ts.slope) && std::fabs(r) > k * scale) ++kept.outliers;
+    else kept.pos.push_back(i);
+  }
+  if (kept.pos.size() < 3) {
+    kept.pos.clear();
+    for (int i = first; i <= last; ++i) kept.pos.push_back(i);
+    kept.outliers = 0;
+  }
+  kept.line_on_kept = with_interval && kept.pos == cpos;
+  return kept;
+}
+
+}  // namespace
+
+RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
+  if (std::string why = opt.validate(); !why.empty()) throw UsageError(why);
+  RateResult r;
+  r.estimator = opt.estimator;
+  r.window = opt.window;
+  r.tangent = "slope";
+  r.lag_s = 0;
+  r.used.assign(static_cast<std::size_t>(std::max(tr.n, 0)), 0);
+  const double t_ref = std::isnan(opt.time_zero_s) ? (tr.n > 0 ? tr.time_s[0] : 0.0) : opt.time_zero_s;
+
+  detail::Usable u = detail::usable_reads(tr, opt);
+  if (u.t.size() < 2 && u.any_ceiling) {
+    // Every read is above the ceiling: a rate from them is better than none, and the
+    // `ceiling` flag says it is not to be trusted.
+    RateOptions no_ceiling = opt;
+    no_ceiling.signal_ceiling = NAN;
+    u = detail::usable_reads(tr, no_ceiling);
+    u.any_ceiling = true;
+  }
+  if (u.any_overflow) add_flag(r, "overflow");
+  if (u.any_ceiling) add_flag(r, "ceiling");
+  const int m = static_cast<int>(u.t.size());
+  if (m < 2) {
+    add_flag(r, "too-few-reads");
+    r.window_end = u.truncated_by.empty() ? "reads" : u.truncated_by;
+    return r;
+  }
+  const double noise = detail::noise_estimate(u, tr.noise_sd);
+  r.noise_sd = noise;
+  const double sd_floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : detail::tiny_floor(u);
+  const double limit_per_signal =
+      (std::isfinite(tr.substrate) && tr.substrate > 0 && std::isfinite(tr.conc_per_signal))
+          ? opt.max_conversion * tr.substrate / tr.conc_per_signal
+          : NAN;  // signal change allowed since time zero
+
+  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref);
+  if (w.too_few) add_flag(r, "too-few-reads");
+  if (w.nonlinear) add_flag(r, "nonlinear");
+  if (w.depleted) add_flag(r, "depleted");
+  if (w.lag) add_flag(r, "lag");
+  r.window_end = w.end;
+  r.lag_s = w.lag ? u.t[static_cast<std::size_t>(w.first)] - u.t[0] : 0.0;
+
+  // Outlier rule on every usable read of the window, then the estimator on the rest.
+  const bool theil_sen = opt.estimator == Estimator::theil_sen;
+  const Kept kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
+  std::vector<double> kt, ky;
+  kt.reserve(kept.pos.size());
+  ky.reserve(kept.pos.size());
+  for (int p : kept.pos) {
+    kt.push_back(u.t[static_cast<std::size_t>(p)]);
+    ky.push_back(u.y[static_cast<std::size_t>(p)]);
+    r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
+  }
+  const int nk = static_cast<int>(kt.size());
+  // The rule's line is the Theil–Sen estimate when it was fitted to exactly these reads.
+  const LineFit line = theil_sen && kept.line_on_kept ? kept.line : fit_line(opt.estimator, kt.data(), ky.data(), nk);
+  r.n_points = w.last - w.first + 1;
+  r.n_outliers = kept.outliers;
+  if (kept.outliers > 0) add_flag(r, "outliers");
+  r.t_start_s = u.t[static_cast<std::size_t>(w.first)];
+  r.t_end_s = u.t[static_cast<std::size_t>(w.last)];
+  r.line_slope = line.slope;
+  r.line_slope_se = line.slope_se;
+  r.slope = line.slope;
+  r.slope_se = line.slope_se;
+  r.ci_low = line.ci_low;
+  r.ci_high = line.ci_high;
+  r.intercept = line.intercept;
+  r.r2 = line.r2;
+  if (std::isfinite(limit_per_signal))
+    r.conversion = line.slope * (r.t_end_s - t_ref) * tr.conc_per_signal / tr.substrate;
+
+  // Initial tangent of a parabola, for curving wells.
+  if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest) {
+    const detail::TangentFit tf = detail::fit_tangent(u, w, kept.pos, opt, sd_floor, t_ref);
+    r.tangent_slope = tf.slope;
+    r.tangent_se = tf.se;
+    r.tangent_end_s = tf.end_s;
+    // Depletion cannot make the line fall further below v0 than the substrate used allows:
+    // with a fraction f converted by the window's end, v0/line ≤ 1/(1 − f).
+    const double f = std::isfinite(r.conversion) ? std::clamp(r.conversion, 0.0, 0.5) : opt.max_conversion;
+    const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
+    const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible;
+    if (use) {
+      // v0 now rests on the parabola's reads: they are the ones used, and reads it held out
+      // are outliers too.
+      r.tangent = "parabola";
+      for (int p : tf.pos) r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
+      r.n_outliers += tf.rejected;
+      if (tf.rejected > 0) add_flag(r, "outliers");
+      r.slope = tf.slope;
+      r.slope_se = tf.se;
+      r.ci_low = tf.ci_low;
+      r.ci_high = tf.ci_high;
+    }
+  }
+
+  // Distinguishable from noise?
+  if (std::isfinite(r.slope)) {
+    bool noise_only = !(r.ci_low > 0 || r.ci_high < 0);
+    if (std::isfinite(tr.noise_sd) && opt.lod_factor > 0) {
+      double mt = 0, stt = 0;
+      for (double t : kt) mt += t;
+      mt /= nk;
+      for (double t : kt) stt += (t - mt) * (t - mt);
+      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * tr.noise_sd / std::sqrt(stt)) noise_only = true;
+    }
+    if (noise_only) add_flag(r, "noise");
+    if (r.slope < 0) add_flag(r, "negative");
+  }
+  return r;
+}
+
+}  // namespace vzero

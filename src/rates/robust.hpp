@@ -1,0 +1,79 @@
+// Straight-line and quadratic estimators used by the rate finder, and the few
+// distribution quantiles they need. Internal to the rate finder (src/rates).
+//
+// Every function takes parallel arrays x[0..n), y[0..n) and returns a plain struct; none
+// allocates more than O(n) except theil_sen below 650 points (it forms all pairwise slopes
+// there; above, O(n) memory, see pair_slopes.hpp). Results are deterministic: fixed
+// summation order, and the slope selection's pseudo-random samples have fixed seeds (they
+// change only its speed, never its result).
+#pragma once
+
+#include <cmath>
+#include <vector>
+
+namespace vzero::detail {
+
+// A fitted line y = intercept + slope·x with its uncertainty.
+struct LineFit {
+  double slope = NAN;
+  double intercept = NAN;
+  double slope_se = NAN;      // standard error of the slope
+  double intercept_se = NAN;  // OLS only; NaN for the robust estimators
+  double ci_low = NAN;        // 95 % interval of the slope
+  double ci_high = NAN;
+  double resid_sd = NAN;      // √(RSS/(n−2)) of the plain residuals
+  double rss = NAN;           // Σ (y − ŷ)² of the plain residuals
+  double r2 = NAN;            // 1 − RSS/Σ(y − ȳ)²
+  int n = 0;
+  int iterations = 0;         // Huber: IRLS iterations used
+};
+
+// Ordinary least squares with centred two-pass sums: means first, then Σ(x−x̄)(y−ȳ),
+// residuals recomputed from the fitted line (NIST StRD Norris to ≥ 12 digits).
+// 95 % interval: slope ± t(0.975, n−2)·SE. Needs n ≥ 2 and x not all equal; with n = 2
+// the SE is NaN.
+LineFit ols(const double* x, const double* y, int n);
+
+// Weighted least squares (weights w ≥ 0), centred two-pass; slope/intercept only.
+void wls(const double* x, const double* y, const double* w, int n, double& slope, double& intercept);
+
+// Theil–Sen: the median of the slopes of all pairs with x_j > x_i (pairs with equal x are
+// skipped), intercept median(y − b·x). 95 % interval after Sen (1968) eq. 2.6 as in SciPy
+// 1.10 `theilslopes`: σ² = [n(n−1)(2n+5) − Σ ties] / 18 over tied groups of x and of y,
+// z = 1.959963984540054, low = sorted[round((N − zσ)/2) − 1], high = sorted[round((N + zσ)/2)]
+// (0-based, round half to even as NumPy does, clamped into the array). SE is the interval
+// half-width divided by z. `intercept_separate` receives median(y) − b·median(x) (SciPy's
+// default) when not null. With `interval` false the interval and SE are skipped (NaN).
+LineFit theil_sen(const double* x, const double* y, int n, double* intercept_separate = nullptr, bool interval = true);
+
+// Huber M-estimate by iteratively reweighted least squares, exactly as MASS::rlm with
+// psi.huber: start from OLS; repeat { s = median(|r|)/0.6745 (not centred);
+// w = min(1, k/|r/s|); weighted LS } until √(Σ(r_old − r_new)²/max(1e-20, Σ r_old²)) ≤ tol.
+// SE from Huber's asymptotic formula with the κ correction, as MASS `summary.rlm` computes
+// it by default (from memory): SE² = κ²/m̄² · Σ(ψ(r/s)·s)²/(n−2) · [(XᵀX)⁻¹]₁₁,
+// κ = 1 + 2·var(ψ')/(n·m̄²), m̄ = mean ψ', s the scale of the last iteration. 95 % interval slope ± t(0.975, n−2)·SE.
+LineFit huber(const double* x, const double* y, int n, double k = 1.345, double tol = 1e-12,
+              int max_iter = 500);
+
+// Least-squares parabola y = c0 + c1·(x − x_eval) + c2·(x − x_eval)², solved on centred and
+// scaled x (two-pass), so c1 is the tangent at x_eval.
+struct QuadFit {
+  double c0 = NAN, c1 = NAN, c2 = NAN;
+  double c1_se = NAN, c2_se = NAN;
+  double resid_sd = NAN;  // √(RSS/(n−3))
+  int n = 0;
+};
+QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
+
+// Median of v (reorders v; std::nth_element). NaN for an empty vector. Even sizes give the
+// mean of the two middle values, as NumPy's median.
+double median_inplace(std::vector<double>& v);
+
+// Quantiles. normal_quantile(0.975) = 1.959963984540054; student_t_quantile(0.975, 10) =
+// 2.228138851986274 (R qt). df may be any positive number; both are accurate to ~1e-14.
+double normal_quantile(double p);
+double student_t_quantile(double p, double df);
+// Upper tail P(T > t) of Student's t with df degrees of freedom.
+double student_t_sf(double t, double df);
+
+}  // namespace vzero::detail

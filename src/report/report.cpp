@@ -1,0 +1,109 @@
+#include "vzero/report.hpp"
+
+#include <cerrno>
+#include <cstring>
+#include <fmt/format.h>
+#include <fstream>
+#include <sstream>
+
+#include "report/report_model.hpp"
+#include "vzero/error.hpp"
+#include "vzero/outputs.hpp"
+#include "vzero/svg.hpp"
+
+namespace vzero {
+
+namespace {
+
+std::string read_text(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) {
+    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
+                     {"check the path and that the file is readable"});
+  }
+  std::stringstream ss;
+  ss << in.rdbuf();
+  return ss.str();
+}
+
+// What the page says about itself: how to read it and why it holds no clock time.
+std::string about_section() {
+  return "<section id=\"about\">\n<h2>About this page</h2>\n<ul class=\"notes\">"
+         "<li>One self-contained file: styles and drawings are inline; it loads nothing and runs no script, so it "
+         "opens offline and from removable media.</li>"
+         "<li>The page carries no clock time unless a date was passed (vzero report --date), so the same inputs give "
+         "the same bytes. Checksums above identify the inputs.</li>"
+         "<li>Heat-map colours come from a sequential palette whose lightness falls with the rate, readable in grey "
+         "and with any colour vision; marks and curves use the colours of Okabe &amp; Ito (2008).</li>"
+         "<li>Confidence bands of fitted curves are pointwise 95 % intervals of the mean rate from the fit's "
+         "covariance (delta method, Student t with the fit's degrees of freedom). Linearised plots are diagnostics "
+         "drawn from the nonlinear estimate, never the estimate itself.</li>"
+         "<li>Hover over a well panel or a heat-map cell for its plate-map entries, v0 with its standard error, the "
+         "window and the flags.</li>"
+         "</ul>\n</section>\n";
+}
+
+}  // namespace
+
+std::string ReportOptions::validate() const {
+  if (panel_wells < 1) return fmt::format("panel_wells is {}; it must be at least 1", panel_wells);
+  if (block_rows < 1) return fmt::format("block_rows is {}; a block needs at least one row", block_rows);
+  if (block_columns < 1) return fmt::format("block_columns is {}; a block needs at least one column", block_columns);
+  return {};
+}
+
+ReportInput read_report_input(const ReportFiles& f) {
+  if (f.rates.empty()) throw UsageError("the report needs the rates table (--rates rates.csv)");
+  ReportInput in;
+  in.rates = read_table(f.rates);
+  if (!f.traces.empty()) in.traces = read_table(f.traces);
+  if (!f.summary.empty()) in.summary = read_table(f.summary);
+  if (!f.diagnostics.empty()) in.diagnostics = read_table(f.diagnostics);
+  if (!f.fit.empty()) {
+    in.fit_json = read_text(f.fit);
+    in.fit_source = f.fit;
+  }
+  if (!f.package.empty()) {
+    in.package_json = read_text(f.package);
+    in.package_source = f.package;
+  }
+  return in;
+}
+
+ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
+                         bool with_activity, const SummaryTable& summary, std::string package_json) {
+  ReportInput in;
+  in.rates = parse_table("rates table", rates_csv(runs, map_columns, with_activity));
+  in.traces = parse_table("traces table", traces_csv(runs));
+  in.summary = parse_table("summary table", summary_csv(summary));
+  in.package_json = std::move(package_json);
+  in.package_source = "datapackage.json";
+  return in;
+}
+
+std::string render_report(const ReportInput& input, const ReportOptions& options) {
+  if (auto why = options.validate(); !why.empty()) throw UsageError(why);
+  namespace r = detail::report;
+  const r::PageData m = r::build_model(input);
+  const std::string title = options.title.empty() ? "Run report: " + r::export_names(m) : options.title;
+  std::string h;
+  h.reserve(1 << 20);
+  h += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
+       "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n";
+  h += "<meta name=\"generator\" content=\"vzero " + std::string(VZERO_VERSION) + "\"/>\n";
+  h += "<title>" + svg::escape(title) + "</title>\n<style>" + r::page_css() + "</style>\n</head>\n<body>\n<main>\n";
+  h += r::render_header(m, options);
+  h += r::render_flags(m);
+  for (const auto& p : m.plates) h += r::render_plate(p, options);
+  h += r::render_standard_curves(m);
+  if (input.summary) h += r::render_summary(m, *input.summary);
+  else
+    h += "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"note\">No summary table was given (pass "
+         "--summary).</p>\n</section>\n";
+  h += r::render_fits(m, input);
+  h += about_section();
+  h += "</main>\n</body>\n</html>\n";
+  return h;
+}
+
+}  // namespace vzero

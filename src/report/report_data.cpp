@@ -1,0 +1,298 @@
+// The report's tables read into plates of wells with their traces.
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <unordered_map>
+
+#include "report/report_model.hpp"
+#include "core/text.hpp"
+#include "vzero/error.hpp"
+
+namespace vzero::detail::report {
+
+namespace {
+
+std::vector<std::string> split_flags(const std::string& text) {
+  std::vector<std::string> out;
+  for (const auto& f : split_fields(text, ';')) {
+    auto t = trim(f.text);
+    if (!t.empty()) out.emplace_back(t);
+  }
+  return out;
+}
+
+// Column lookups of one table with the report's fix hint.
+struct Columns {
+  const Table& t;
+  int need(std::string_view name) const {
+    return t.require_column(name, "give the table vzero rates wrote (it has this column)");
+  }
+  int opt(std::string_view name) const { return t.column(name); }
+  const std::string& cell(std::size_t r, int c) const { return t.rows[r][static_cast<std::size_t>(c)]; }
+  double number(std::size_t r, int c) const {
+    if (c < 0) return NAN;
+    auto v = t.number(r, c);
+    return v ? *v : NAN;
+  }
+};
+
+std::string key_of(std::string_view source, std::string_view channel, std::string_view well) {
+  std::string k;
+  k.reserve(source.size() + channel.size() + well.size() + 2);
+  k.append(source).append(1, '\x1f').append(channel).append(1, '\x1f').append(well);
+  return k;
+}
+
+void read_rates(const Table& t, PageData& m, std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
+  Columns c{t};
+  const int source = c.need("source"), channel = c.need("channel"), well = c.need("well"), role = c.need("role");
+  const int v0 = c.need("v0"), unit = c.need("v0_unit"), slope = c.need("slope"), intercept = c.need("intercept");
+  const int t0 = c.need("t_start_s"), t1 = c.need("t_end_s"), flags = c.need("flags");
+  const int se = c.opt("v0_se"), r2 = c.opt("r2"), conv = c.opt("conversion_pct"), np = c.opt("n_points");
+  const int no = c.opt("n_outliers"), tangent = c.opt("tangent"), slope_unit = c.opt("slope_unit");
+  // Plate-map columns sit between `role` and `v0` (the layout rates_csv writes).
+  std::vector<int> map_cols;
+  for (int k = role + 1; k < v0; ++k) {
+    map_cols.push_back(k);
+    m.map_columns.push_back(t.header[static_cast<std::size_t>(k)]);
+  }
+  std::map<std::string, std::size_t> plate_of;
+  for (std::size_t r = 0; r < t.rows.size(); ++r) {
+    const std::string& src = c.cell(r, source);
+    const std::string& ch = c.cell(r, channel);
+    auto id = parse_well(c.cell(r, well));
+    if (!id)
+      throw InputError(Where{t.source, t.line_of_row[r], t.column_of_cell[r][static_cast<std::size_t>(well)]},
+                       fmt::format("\"{}\" is not a well name", c.cell(r, well)), {"wells are named A1 … AF48"});
+    std::string pk = key_of(src, ch, "");
+    auto it = plate_of.find(pk);
+    if (it == plate_of.end()) {
+      PlateView p;
+      p.id = fmt::format("p{}", m.plates.size() + 1);
+      p.source = src;
+      p.channel = ch;
+      p.v0_unit = c.cell(r, unit);
+      if (slope_unit >= 0) p.signal_unit = per_min_stem(c.cell(r, slope_unit));
+      m.plates.push_back(std::move(p));
+      it = plate_of.emplace(pk, m.plates.size() - 1).first;
+    }
+    PlateView& p = m.plates[it->second];
+    WellView w;
+    w.name = well_name(*id);
+    w.id = *id;
+    w.anchor = p.id + "-" + w.name;
+    w.role = c.cell(r, role);
+    w.flags = split_flags(c.cell(r, flags));
+    for (std::size_t k = 0; k < map_cols.size(); ++k)
+      if (!trim(c.cell(r, map_cols[k])).empty()) w.map_values.emplace_back(m.map_columns[k], c.cell(r, map_cols[k]));
+    w.v0 = c.number(r, v0);
+    w.v0_se = c.number(r, se);
+    w.slope_per_min = c.number(r, slope);
+    w.intercept = c.number(r, intercept);
+    w.r2 = c.number(r, r2);
+    w.conversion_pct = c.number(r, conv);
+    w.t_start_s = c.number(r, t0);
+    w.t_end_s = c.number(r, t1);
+    w.t_start_text = std::string(trim(c.cell(r, t0)));
+    w.t_end_text = std::string(trim(c.cell(r, t1)));
+    w.n_points = np >= 0 ? static_cast<int>(c.number(r, np)) : 0;
+    w.n_outliers = no >= 0 ? static_cast<int>(c.number(r, no)) : 0;
+    if (tangent >= 0) w.tangent = c.cell(r, tangent);
+    w.line = t.line_of_row[r];
+    index[key_of(src, ch, w.name)] = {it->second, p.wells.size()};
+    p.wells.push_back(std::move(w));
+  }
+  for (auto& p : m.plates) {
+    std::vector<WellId> ids;
+    for (std::size_t k = 0; k < p.wells.size(); ++k) ids.push_back(p.wells[k].id);
+    auto f = smallest_format_holding(ids);
+    p.format = f ? *f : PlateFormat{32, 48};
+    for (std::size_t k = 0; k < p.wells.size(); ++k) p.by_index[p.format.index(p.wells[k].id)] = k;
+  }
+}
+
+// `direction`: +1 up, −1 down, 0 unknown (then inferred for unconverted channels).
+void read_traces(const Table& t, PageData& m,
+                 const std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index, int direction) {
+  Columns c{t};
+  const int source = c.need("source"), channel = c.need("channel"), well = c.need("well"), time = c.need("time_s");
+  const int corrected = c.need("corrected"), used = c.need("used");
+  const int status = c.opt("status"), conc = c.opt("concentration"), raw = c.opt("raw");
+  // Corrected signal and concentration per plate and well, until the plate's sign is known.
+  std::vector<std::vector<std::vector<double>>> corr(m.plates.size());
+  for (std::size_t p = 0; p < m.plates.size(); ++p) corr[p].resize(m.plates[p].wells.size());
+  std::vector<std::vector<std::vector<double>>> concs = corr;
+  for (std::size_t r = 0; r < t.rows.size(); ++r) {
+    auto id = parse_well(c.cell(r, well));
+    if (!id) continue;
+    auto it = index.find(key_of(c.cell(r, source), c.cell(r, channel), well_name(*id)));
+    if (it == index.end()) continue;  // a well the rates table does not hold
+    auto [pi, wi] = it->second;
+    WellView& w = m.plates[pi].wells[wi];
+    m.plates[pi].has_traces = true;
+    w.time_s.push_back(c.number(r, time));
+    w.raw.push_back(c.number(r, raw));
+    w.status.push_back(status >= 0 ? std::string(trim(c.cell(r, status))) : "ok");
+    w.used.push_back(trim(c.cell(r, used)) == "1" ? 1 : 0);
+    corr[pi][wi].push_back(c.number(r, corrected));
+    concs[pi][wi].push_back(c.number(r, conc));
+  }
+  for (std::size_t pi = 0; pi < m.plates.size(); ++pi) {
+    PlateView& p = m.plates[pi];
+    // Converted when any concentration is given; the sign of concentration/corrected is
+    // the reaction direction (concentrations are written in the reaction direction).
+    bool sign_known = false;
+    for (std::size_t wi = 0; wi < p.wells.size(); ++wi)
+      for (std::size_t i = 0; i < concs[pi][wi].size(); ++i) {
+        double a = concs[pi][wi][i], b = corr[pi][wi][i];
+        if (std::isfinite(a)) p.converted = true;
+        if (!sign_known && std::isfinite(a) && std::isfinite(b) && a != 0 && b != 0) {
+          p.sign = (a / b) < 0 ? -1 : 1;
+          sign_known = true;
+        }
+      }
+    if (!p.converted && direction != 0) {
+      p.sign = direction;
+    } else if (!p.converted && !sign_known) {
+      // Unconverted: the direction decides whether the line (in the reaction direction)
+      // matches +corrected or −corrected; take the one the wells' lines fit better.
+      double plus = 0, minus = 0;
+      for (std::size_t wi = 0; wi < p.wells.size(); ++wi) {
+        const WellView& w = p.wells[wi];
+        for (std::size_t i = 0; i < w.time_s.size(); ++i) {
+          if (!w.used[i] || !std::isfinite(corr[pi][wi][i])) continue;
+          double line = w.intercept + w.slope_per_min / 60.0 * w.time_s[i];
+          if (!std::isfinite(line)) continue;
+          plus += std::fabs(line - corr[pi][wi][i]);
+          minus += std::fabs(line + corr[pi][wi][i]);
+        }
+      }
+      p.sign = minus < plus ? -1 : 1;
+    }
+    for (std::size_t wi = 0; wi < p.wells.size(); ++wi) {
+      WellView& w = p.wells[wi];
+      for (std::size_t i = 0; p.converted && i < w.time_s.size() && std::isnan(w.factor); ++i) {
+        double a = concs[pi][wi][i], b = corr[pi][wi][i];
+        if (std::isfinite(a) && std::isfinite(b) && b != 0) w.factor = std::fabs(a / b);
+      }
+      w.y.resize(w.time_s.size());
+      for (std::size_t i = 0; i < w.time_s.size(); ++i) w.y[i] = p.converted ? concs[pi][wi][i] : p.sign * corr[pi][wi][i];
+    }
+  }
+}
+
+// Sets the drawn-units factor of every well and the plates' units and time axes.
+void finish_plates(PageData& m) {
+  for (auto& p : m.plates) {
+    std::string stem = per_min_stem(p.v0_unit);
+    p.y_unit = stem.empty() ? p.v0_unit : stem;
+    double t0 = INFINITY, t1 = -INFINITY;
+    for (auto& w : p.wells) {
+      for (double t : w.time_s)
+        if (std::isfinite(t)) t0 = std::min(t0, t), t1 = std::max(t1, t);
+      for (double t : {w.t_start_s, w.t_end_s})
+        if (std::isfinite(t)) t0 = std::min(t0, t), t1 = std::max(t1, t);
+      if (!p.converted) {
+        w.factor = 1;
+        continue;
+      }
+      // v0 = slope · factor, both per minute; when the slope is 0 or missing, the ratio of
+      // the drawn concentration to the corrected signal (read_traces) stands.
+      if (std::isfinite(w.v0) && std::isfinite(w.slope_per_min) && w.slope_per_min != 0) w.factor = w.v0 / w.slope_per_min;
+    }
+    p.t_min_s = std::isfinite(t0) ? std::min(t0, 0.0) : 0;
+    p.t_max_s = std::isfinite(t1) && t1 > p.t_min_s ? t1 : p.t_min_s + 1;
+  }
+}
+
+}  // namespace
+
+const nlohmann::json& member(const nlohmann::json& j, const char* key) {
+  static const nlohmann::json null_value;
+  if (!j.is_object()) return null_value;
+  auto it = j.find(key);
+  return it == j.end() ? null_value : *it;
+}
+
+bool WellView::flagged() const {
+  for (const auto& f : flags)
+    if (f != "empty") return true;
+  return false;
+}
+
+const PlateView* PageData::plate(const std::string& source, const std::string& channel) const {
+  for (const auto& p : plates)
+    if (p.source == source && p.channel == channel) return &p;
+  return nullptr;
+}
+
+std::string PageData::anchor_of(const std::string& channel, const std::string& well) const {
+  auto id = parse_well(well);
+  if (!id) return {};
+  for (const auto& p : plates) {
+    if (p.channel != channel) continue;
+    auto it = p.by_index.find(p.format.holds(*id) ? p.format.index(*id) : -1);
+    if (it != p.by_index.end()) return p.wells[it->second].anchor;
+  }
+  return {};
+}
+
+std::string display_unit(const std::string& unit) {
+  std::string out = unit;
+  // "u" as the micro prefix of the concentration units vzero writes.
+  for (const char* u : {"uM", "umol", "uL", "ug"}) {
+    std::string from = u;
+    std::size_t p = 0;
+    while ((p = out.find(from, p)) != std::string::npos) {
+      bool starts = p == 0 || !std::isalpha(static_cast<unsigned char>(out[p - 1]));
+      bool ends = p + from.size() == out.size() || !std::isalpha(static_cast<unsigned char>(out[p + from.size()]));
+      if (starts && ends) out.replace(p, 1, "\u00b5");
+      p += from.size();
+    }
+  }
+  return out;
+}
+
+std::string per_min_stem(const std::string& unit) {
+  const std::string tail = "/min";
+  if (unit.size() > tail.size() && unit.compare(unit.size() - tail.size(), tail.size(), tail) == 0)
+    return unit.substr(0, unit.size() - tail.size());
+  return {};
+}
+
+std::string export_names(const PageData& m) {
+  std::vector<std::string> names;
+  for (const auto& p : m.plates)
+    if (std::find(names.begin(), names.end(), p.source) == names.end()) names.push_back(p.source);
+  std::string out;
+  for (const auto& n : names) out += (out.empty() ? "" : ", ") + n;
+  return out;
+}
+
+PageData build_model(const ReportInput& in) {
+  PageData m;
+  auto parse = [](const std::string& text, const std::string& name) {
+    try {
+      return nlohmann::json::parse(text);
+    } catch (const nlohmann::json::parse_error& e) {
+      throw InputError(Where{name}, fmt::format("cannot read the JSON: {}", e.what()),
+                       {"give the file vzero wrote, unchanged"});
+    }
+  };
+  if (!in.package_json.empty()) m.package = parse(in.package_json, in.package_source);
+  if (!in.fit_json.empty()) m.fit = parse(in.fit_json, in.fit_source);
+  // The direction the run was analysed in, when the package records it (0 = unknown).
+  int direction = 0;
+  if (m.package.is_object()) {
+    const auto& opts = member(member(m.package, "vzero"), "options");
+    if (opts.is_object() && opts.contains("direction") && opts["direction"].is_string())
+      direction = opts["direction"].get<std::string>() == "down" ? -1 : 1;
+  }
+  std::unordered_map<std::string, std::pair<std::size_t, std::size_t>> index;
+  read_rates(in.rates, m, index);
+  if (in.traces) read_traces(*in.traces, m, index, direction);
+  finish_plates(m);
+  return m;
+}
+
+}  // namespace vzero::detail::report

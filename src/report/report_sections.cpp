@@ -1,0 +1,178 @@
+// The report's text sections: header with provenance, flag counts, replicate summary.
+#include <algorithm>
+#include <cmath>
+#include <fmt/format.h>
+#include <map>
+
+#include "report/report_model.hpp"
+#include "core/text.hpp"
+#include "vzero/svg.hpp"
+
+namespace vzero::detail::report {
+
+namespace {
+
+using nlohmann::json;
+using svg::escape;
+
+std::string text_of(const json& j) {
+  if (j.is_string()) return j.get<std::string>();
+  if (j.is_null()) return {};
+  return j.dump();
+}
+
+// A definition list of key → value pairs in their order.
+std::string pairs_list(const json& obj, const char* cls) {
+  std::string h = fmt::format("<dl class=\"{}\">", cls);
+  for (const auto& [k, v] : obj.items())
+    h += "<div><dt>" + escape(k) + "</dt><dd>" + escape(text_of(v)) + "</dd></div>";
+  return h + "</dl>";
+}
+
+}  // namespace
+
+std::string flag_meaning(const std::string& flag) {
+  static const std::map<std::string, std::string> meanings = {
+      {"overflow", "the instrument reported reads beyond its range"},
+      {"ceiling", "reads reached the detector's linear limit; the window ends before them"},
+      {"too-few-reads", "fewer usable reads than a window needs; any rate uses all of them"},
+      {"nonlinear", "no straight stretch long enough: even the shortest window is curved"},
+      {"depleted", "the conversion limit was passed before the shortest window ended"},
+      {"lag", "the rate rose over the first reads; they were skipped"},
+      {"outliers", "reads inside the window were left out as outliers"},
+      {"noise", "the rate cannot be told apart from the noise"},
+      {"negative", "the rate runs against the reaction direction given"},
+      {"empty", "the plate map puts nothing in this well"},
+      {"blank-missing", "no blank well to subtract"},
+      {"blank-noisy", "a blank well scatters far more than the other blanks"},
+      {"no-path", "no usable path length, so no concentration"},
+      {"outside-standards", "window reads lie outside the standard curve's calibrated signal range"},
+  };
+  auto it = meanings.find(flag);
+  return it == meanings.end() ? std::string() : it->second;
+}
+
+std::string render_header(const PageData& m, const ReportOptions& o) {
+  const json& prov = member(m.package, "vzero");
+  std::string title = o.title.empty() ? "Run report: " + export_names(m) : o.title;
+  std::string h = "<header>\n<p class=\"kicker\">vzero \u00b7 initial rates</p>\n<h1>" + escape(title) + "</h1>\n";
+  std::string meta = "Drawn by vzero " + std::string(VZERO_VERSION);
+  if (prov.is_object()) meta += "; rates computed by " + escape(text_of(member(prov, "tool"))) + " " + escape(text_of(member(prov, "version")));
+  meta += o.date.empty() ? "" : "; date: " + escape(o.date);
+  h += "<p class=\"meta\">" + meta + ".</p>\n";
+  h += "<nav class=\"toc\"><a href=\"#provenance\">Provenance</a><a href=\"#flags\">Flags</a>";
+  for (const auto& p : m.plates)
+    h += fmt::format("<a href=\"#{}\">{} \u00b7 {}</a>", p.id, escape(p.source), escape(p.channel));
+  if (m.package.is_object()) {
+    for (const auto& ch : member(prov, "channels"))
+      if (member(ch, "standard_curve").is_object()) {
+        h += "<a href=\"#standards\">Standard curve</a>";
+        break;
+      }
+  }
+  h += "<a href=\"#summary\">Replicates</a>";
+  if (m.fit.is_object()) h += "<a href=\"#fits\">Kinetics fit</a>";
+  h += "</nav>\n</header>\n";
+
+  h += "<section id=\"provenance\">\n<h2>Provenance</h2>\n";
+  if (!prov.is_object()) {
+    h += "<p class=\"warn\">No datapackage.json was given: the inputs, their checksums and the options are not "
+         "known to this report (pass --package).</p>\n</section>\n";
+    return h;
+  }
+  h += "<table class=\"inputs\"><thead><tr><th>input</th><th>file</th><th>read as</th><th>sha256</th></tr></thead><tbody>";
+  for (const auto& in : member(prov, "inputs")) {
+    std::string as = text_of(member(in, "profile"));
+    if (!text_of(member(in, "shape")).empty()) as += (as.empty() ? "" : ", ") + text_of(member(in, "shape"));
+    h += "<tr><td>" + escape(text_of(member(in, "kind"))) + "</td><td>" + escape(text_of(member(in, "path"))) +
+         "</td><td>" + escape(as) + "</td><td class=\"hash\">" + escape(text_of(member(in, "sha256"))) + "</td></tr>";
+  }
+  h += "</tbody></table>\n";
+  h += "<table class=\"inputs\"><thead><tr><th>export</th><th>channel</th><th>conversion</th><th>v0 unit</th></tr></thead><tbody>";
+  for (const auto& ch : member(prov, "channels")) {
+    std::string conv = text_of(member(ch, "conversion"));
+    if (!text_of(member(ch, "formula")).empty()) conv += ": " + text_of(member(ch, "formula"));
+    h += "<tr><td>" + escape(text_of(member(ch, "source"))) + "</td><td>" + escape(text_of(member(ch, "channel"))) +
+         "</td><td>" + escape(conv) + "</td><td>" + escape(display_unit(text_of(member(ch, "v0_unit")))) + "</td></tr>";
+  }
+  h += "</tbody></table>\n";
+  h += "<h3>Options used</h3>\n" + pairs_list(member(prov, "options"), "options") + "\n";
+  if (member(prov, "detected").is_object() && !member(prov, "detected").empty())
+    h += "<h3>Chosen by vzero</h3>\n" + pairs_list(member(prov, "detected"), "options") + "\n";
+  h += "</section>\n";
+  return h;
+}
+
+std::string render_flags(const PageData& m) {
+  std::map<std::string, std::vector<std::pair<std::string, std::string>>> wells;  // flag → (anchor, label)
+  std::size_t total = 0, clean = 0;
+  for (const auto& p : m.plates)
+    for (const auto& w : p.wells) {
+      ++total;
+      if (w.flags.empty()) ++clean;
+      for (const auto& f : w.flags)
+        wells[f].emplace_back(w.anchor, m.plates.size() > 1 ? p.id + " " + w.name : w.name);
+    }
+  std::vector<std::string> order;
+  for (const auto& [f, list] : wells) order.push_back(f);
+  std::stable_sort(order.begin(), order.end(),
+                   [&](const std::string& a, const std::string& b) { return wells[a].size() > wells[b].size(); });
+  std::string h = "<section id=\"flags\">\n<h2>Flags</h2>\n";
+  h += fmt::format("<p class=\"lede\">{} well rows; {} without any flag.</p>\n", total, clean);
+  if (order.empty()) return h + "</section>\n";
+  h += "<table class=\"flags\"><thead><tr><th>flag</th><th class=\"num\">wells</th><th>meaning</th><th>which</th></tr>"
+       "</thead><tbody>";
+  for (const auto& f : order) {
+    const auto& list = wells[f];
+    std::string which;
+    const std::size_t shown = std::min<std::size_t>(list.size(), 24);
+    for (std::size_t k = 0; k < shown; ++k)
+      which += (k ? " " : "") + fmt::format("<a href=\"#{}\">{}</a>", escape(list[k].first), escape(list[k].second));
+    if (list.size() > shown) which += fmt::format(" \u2026 and {} more", list.size() - shown);
+    std::string meaning = flag_meaning(f);
+    h += fmt::format("<tr><td class=\"flag\">{}</td><td class=\"num\">{}</td><td>{}</td><td class=\"which\">{}</td></tr>",
+                     escape(f), list.size(), meaning.empty() ? "\u2013" : escape(meaning), which);
+  }
+  return h + "</tbody></table>\n</section>\n";
+}
+
+std::string render_summary(const PageData& m, const Table& t) {
+  const int channel = t.column("channel"), wells = t.column("wells");
+  auto numeric = [](const std::string& name) {
+    for (const char* n : {"n", "n_flagged", "v0_mean", "v0_sd", "v0_sem", "cv_pct"})
+      if (iequals(name, n)) return true;
+    return false;
+  };
+  std::string h = "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"lede\">Mean, SD, SEM and CV of the clean "
+                  "wells of each condition; flagged wells are counted, not averaged.</p>\n<div class=\"scroll\">"
+                  "<table class=\"summary\"><thead><tr>";
+  for (std::size_t c = 0; c < t.header.size(); ++c)
+    h += std::string(numeric(t.header[c]) ? "<th class=\"num\">" : "<th>") + escape(t.header[c]) + "</th>";
+  h += "</tr></thead><tbody>";
+  for (std::size_t r = 0; r < t.rows.size(); ++r) {
+    h += "<tr>";
+    for (std::size_t c = 0; c < t.header.size(); ++c) {
+      const std::string& cell = t.rows[r][c];
+      if (static_cast<int>(c) == wells) {
+        std::string links;
+        for (const auto& f : split_fields(cell, ';')) {
+          std::string w(trim(f.text));
+          if (w.empty()) continue;
+          std::string a = channel >= 0 ? m.anchor_of(t.rows[r][static_cast<std::size_t>(channel)], w) : "";
+          links += (links.empty() ? "" : " ") + (a.empty() ? escape(w) : "<a href=\"#" + escape(a) + "\">" + escape(w) + "</a>");
+        }
+        h += "<td class=\"which\">" + links + "</td>";
+      } else if (numeric(t.header[c])) {
+        auto v = parse_number(cell);
+        std::string text = v ? svg::human(*v, iequals(t.header[c], "cv_pct") ? 3 : 4) : "\u2013";
+        h += "<td class=\"num\">" + text + "</td>";
+      } else {
+        h += "<td>" + escape(iequals(t.header[c], "v0_unit") ? display_unit(cell) : cell) + "</td>";
+      }
+    }
+    h += "</tr>";
+  }
+  return h + "</tbody></table></div>\n</section>\n";
+}
+
+}  // namespace vzero::detail::report
