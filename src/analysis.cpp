@@ -1,6 +1,7 @@
 #include "vzero/analysis.hpp"
 
 #include <algorithm>
+#include <cassert>
 #include <atomic>
 #include <cmath>
 #include <fmt/format.h>
@@ -10,18 +11,6 @@
 #include "vzero/error.hpp"
 
 namespace vzero {
-
-std::string AnalysisOptions::validate() const {
-  if (auto why = blank.validate(); !why.empty()) return why;
-  if (auto why = convert.validate(); !why.empty()) return why;
-  if (auto why = rates.validate(); !why.empty()) return why;
-  if (!std::isnan(well_volume_ul) && !(well_volume_ul > 0)) return fmt::format("well volume is {} µL; it must be above 0", well_volume_ul);
-  if (!enzyme_mg_column.empty() && std::isnan(well_volume_ul))
-    return "specific activity (--enzyme-mg-column) needs the well volume (--well-volume-ul)";
-  if (inner_filter_ex.empty() != inner_filter_em.empty()) return "the inner-filter correction needs two channels, EX and EM";
-  if (threads < 0) return fmt::format("threads is {}; use 0 for all cores or a positive number", threads);
-  return {};
-}
 
 void parallel_for(int n, int threads, const std::function<void(int)>& fn) {
   int t = threads > 0 ? threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
@@ -227,7 +216,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
 }  // namespace
 
 RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& o) {
-  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
+  assert(o.rates.min_points >= 3 && o.threads >= 0);  // checked where the run starts (check_analysis_options)
   RunAnalysis ra;
   ra.run = &run;
   if (!o.enzyme_mg_column.empty() &&

@@ -1,4 +1,5 @@
 #include "vzero/batch.hpp"
+#include "vzero/settings.hpp"
 
 #include <algorithm>
 #include <atomic>
@@ -12,7 +13,6 @@
 
 namespace vzero {
 
-std::string BatchOptions::validate() const { return analysis.validate(); }
 
 namespace {
 
@@ -55,7 +55,8 @@ long long wells_of(const RunAnalysis& a) {
 std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
                                      const BatchOptions& o, const std::function<void(const BatchProgress&)>& progress,
                                      const std::function<void(BatchFile&)>& ready) {
-  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
+  // The one check of the options, where the batch starts (the option table's rules).
+  if (auto why = check_analysis_options(o.analysis); !why.empty()) throw UsageError(why);
   const int n = static_cast<int>(paths.size());
   std::vector<BatchFile> out(paths.size());
   const int cores = o.analysis.threads > 0 ? o.analysis.threads

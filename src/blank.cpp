@@ -31,11 +31,6 @@ bool parse_blank_mode(std::string_view t, BlankMode& out) {
   return true;
 }
 
-std::string BlankOptions::validate() const {
-  if (!(noisy_factor > 1)) return fmt::format("noisy_factor is {}; it must be above 1", noisy_factor);
-  return {};
-}
-
 namespace {
 
 struct Line {

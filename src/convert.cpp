@@ -40,25 +40,6 @@ double molar_per_unit(std::string_view u) {
   return NAN;
 }
 
-std::string ConvertOptions::validate() const {
-  if (std::isnan(molar_per_unit(conc_unit)))
-    return fmt::format("conc_unit is \"{}\"; use M, mM, uM or nM", conc_unit);
-  if (mode == ConvertMode::beer_lambert) {
-    if (!(epsilon_per_m_cm > 0) || !std::isfinite(epsilon_per_m_cm))
-      return fmt::format("epsilon is {}; the molar absorption coefficient must be above 0 M⁻¹·cm⁻¹", epsilon_per_m_cm);
-    int ways = !std::isnan(path_cm) + (!std::isnan(volume_ul) || !std::isnan(well_diameter_mm)) + water_peak;
-    if (ways == 0) return "Beer–Lambert needs a path length: give --path-cm, or --volume-ul with --well-diameter-mm, or --water-peak";
-    if (ways > 1) return "give only one way to the path length: --path-cm, --volume-ul/--well-diameter-mm, or --water-peak";
-    if (!std::isnan(path_cm) && !(path_cm > 0 && std::isfinite(path_cm)))
-      return fmt::format("path_cm is {}; the path length must be above 0 cm", path_cm);
-    if ((!std::isnan(volume_ul) || !std::isnan(well_diameter_mm)) &&
-        !(volume_ul > 0 && well_diameter_mm > 0 && std::isfinite(volume_ul) && std::isfinite(well_diameter_mm)))
-      return "the cylinder path needs both --volume-ul and --well-diameter-mm above 0";
-    if (water_peak && !(water_k_per_cm > 0)) return fmt::format("water_k_per_cm is {}; it must be above 0", water_k_per_cm);
-  }
-  return {};
-}
-
 double inner_filter_corrected(double f, double a_ex, double a_em) { return f * std::pow(10.0, (a_ex + a_em) / 2); }
 
 double activity_units(double v_per_min, std::string_view unit, double volume_ul) {
@@ -138,7 +119,6 @@ double well_level(const Channel& c, int col, int read) {
 }  // namespace
 
 Conversion plan_conversion(const Run& run, const Channel& c, const PlateMap& map, const ConvertOptions& o) {
-  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
   Conversion cv;
   cv.mode = o.mode;
   const std::size_t cols = c.wells.size();

@@ -58,7 +58,7 @@ TEST_CASE("bad usage exits 2, bad input exits 1, each with a message") {
   auto badnum = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
                           " --epsilon abc --path-cm 0.5");
   CHECK(badnum.status == 2);
-  CHECK(badnum.err == "vzero rates: --epsilon is \"abc\"; expected a number\n  see: vzero rates --help\n");
+  CHECK(badnum.err == "vzero rates: --epsilon is \"abc\"; expected a number above 0\n  see: vzero rates --help\n");
   auto cmd = run_vzero("frobnicate");
   CHECK(cmd.status == 2);
 }
@@ -137,7 +137,7 @@ TEST_CASE("command-line flags override the method file; method-file mistakes nam
   CHECK(r.status == 1);
   CHECK(r.err ==
         "m.toml:3:1: method key `blank` is \"sideways\"; use plate, matched or none\n"
-        "  possible fix: correct the value in the method file\n");
+        "  possible fix: correct the value in the method file, or remove the key to use the default\n");
   auto ok = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
                           " --method m.toml --blank plate -q",
                       dir.path.string());

@@ -3,6 +3,7 @@
 
 #include "test_support.hpp"
 #include "vzero/convert.hpp"
+#include "vzero/settings.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 
@@ -129,16 +130,17 @@ TEST_CASE("a standard curve from the map's standard wells converts rates by 1/b"
 TEST_CASE("conversion errors") {
   Run run = plate(k_two_wells);
   PlateMap map = parse_plate_map("map.csv", "well,role\nA1,sample\n");
-  ConvertOptions o;
+  AnalysisOptions a;
+  ConvertOptions& o = a.convert;
   o.mode = ConvertMode::beer_lambert;
   o.epsilon_per_m_cm = 0;
   o.path_cm = 0.5;
-  CHECK(o.validate() == "epsilon is 0; the molar absorption coefficient must be above 0 M⁻¹·cm⁻¹");
+  CHECK(check_analysis_options(a) == "epsilon is 0; expected a number above 0");
   o.epsilon_per_m_cm = 6220;
   o.path_cm = -1;
-  CHECK(o.validate() == "path_cm is -1; the path length must be above 0 cm");
+  CHECK(check_analysis_options(a) == "path-cm is -1; expected a number above 0");
   o.path_cm = NAN;
-  CHECK(o.validate() ==
+  CHECK(check_analysis_options(a) ==
         "Beer–Lambert needs a path length: give --path-cm, or --volume-ul with --well-diameter-mm, or --water-peak");
   ConvertOptions f;
   f.mode = ConvertMode::standard_curve;

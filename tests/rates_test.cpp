@@ -7,6 +7,7 @@
 #include "rates/robust.hpp"
 #include "rates/window_stats.hpp"
 #include "sim/plate_sim.hpp"
+#include "vzero/settings.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
@@ -347,23 +348,28 @@ TEST_CASE("flags") {
   }
 }
 
-TEST_CASE("options are validated with full messages") {
+TEST_CASE("rate options built in code are checked by the option table's rules, with full messages") {
+  auto check = [](const vzero::RateOptions& r) {
+    vzero::AnalysisOptions a;
+    a.rates = r;
+    return vzero::check_analysis_options(a);
+  };
   vzero::RateOptions opt;
-  CHECK(opt.validate().empty());
+  CHECK(check(opt).empty());
   opt.min_points = 1;
-  CHECK(opt.validate() == "min_points is 1; a slope with an uncertainty needs at least 3 reads");
-  Trace tr = noisy_line(10, 10, 0, 0.001, 1e-4, 1);
-  CHECK_THROWS_WITH_AS(vzero::find_rate(tr.view(), opt), "min_points is 1; a slope with an uncertainty needs at least 3 reads",
-                       vzero::UsageError);
+  CHECK(check(opt) == "min-points is 1; expected a whole number of at least 3");
   opt = {};
   opt.linearity_alpha = 0.7;
-  CHECK(opt.validate() == "linearity_alpha is 0.7; it must be at least 0 (no test) and below 0.5");
+  CHECK(check(opt) == "curvature-alpha is 0.7; expected a number of at least 0 and below 0.5");
   opt = {};
   opt.tangent_reach = 0.5;
-  CHECK(opt.validate() == "tangent_reach is 0.5; it must be 1 or more");
+  CHECK(check(opt) == "tangent-span is 0.5; expected a number of at least 1");
   opt = {};
-  opt.max_conversion = 0;
-  CHECK(opt.validate() == "max_conversion is 0; it must be a fraction above 0 and at most 1");
+  opt.max_conversion = 0;  // a fraction in the struct, percent in the option
+  CHECK(check(opt) == "max-conversion is 0; expected a number above 0 and at most 100");
+  opt = {};
+  opt.signal_ceiling = INFINITY;
+  CHECK(check(opt) == "signal-ceiling is inf; expected a number");
 }
 
 TEST_CASE("prefix-sum window statistics agree with the two-pass fits") {

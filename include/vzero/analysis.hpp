@@ -35,7 +35,6 @@ struct AnalysisOptions {
   // absorbance of each well in these two channels (empty = no correction).
   std::string inner_filter_ex, inner_filter_em;
   int threads = 0;                    // 0 = all cores
-  std::string validate() const;
 };
 
 struct RateRow {
@@ -72,7 +71,9 @@ struct RunAnalysis {
 };
 
 // Throws InputError for conversion problems (no standards, missing water channels, …) and
-// UsageError for invalid options or a requested channel the run lacks.
+// UsageError for a requested channel the run lacks. The options must pass
+// check_analysis_options (include/vzero/settings.hpp), which resolve_settings and
+// analyse_files run once where a run starts; here they are assumed.
 RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& options);
 
 // Runs `fn(i)` for i in [0, n) on `threads` threads (0 = all cores), in fixed chunks.

@@ -35,7 +35,6 @@ struct BatchOptions {
   // Keep every run's reads and matrices (a report draws them). Otherwise each file keeps
   // only what rates.csv, the summary and datapackage.json need once its rows are written.
   bool keep_data = false;
-  std::string validate() const;
 };
 
 struct BatchFile;

@@ -37,7 +37,6 @@ struct BlankOptions {
   // A blank well is "noisy" when its scatter about its own straight line exceeds this many
   // times the median scatter of the channel's blank wells (needs 3 or more blank wells).
   double noisy_factor = 3.0;
-  std::string validate() const;
 };
 
 struct WellBlank {

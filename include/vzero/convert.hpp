@@ -54,7 +54,6 @@ struct ConvertOptions {
   double water_k_per_cm = 0.18;        // (A977 − A900) of water per cm of path
   std::string conc_unit = "uM";        // "M", "mM", "uM" or "nM"
   int standard_read = -1;              // read (0-based) used for the standard curve; -1 = mean of ok reads
-  std::string validate() const;
 };
 
 struct StandardCurve {
@@ -80,9 +79,9 @@ struct Conversion {
   std::string formula;               // the conversion in words, for provenance
 };
 
-// Plans the conversion for one channel. Throws InputError for ε ≤ 0, path ≤ 0, missing
-// water channels, no standard wells, fewer than 2 distinct standard concentrations, or
-// standards that do not rise.
+// Plans the conversion for one channel (options checked beforehand: check_analysis_options).
+// Throws InputError for missing water channels, no standard wells, fewer than 2 distinct
+// standard concentrations, or standards that do not rise.
 Conversion plan_conversion(const Run& run, const Channel& channel, const PlateMap& map, const ConvertOptions& options);
 
 // Fits signal = a + b·c (OLS) to the points; throws InputError when fewer than 3 points or

@@ -116,8 +116,6 @@ struct RateOptions {
   TangentMode tangent = TangentMode::curved;
   double tangent_reach = 4.0;      // parabola window length as a multiple of the line window
   double tangent_alpha = 0.05;     // one-sided significance the parabola's bend needs (tangent = curved)
-  // Empty if valid, else e.g. "min_points is 1; a slope with an uncertainty needs at least 3 reads".
-  std::string validate() const;
 };
 
 // One well's trace. Pointers stay owned by the caller; all arrays have `n` entries.

@@ -108,7 +108,7 @@ int cmd_rates(const Args& args) {
               epsilon_preset_list() + "\n");
     return 0;
   }
-  RatesSettings s = settings_from(vm, opts);
+  RatesSettings s = settings_from(vm);
 
   if (s.analysis.convert.mode == ConvertMode::signal_only && !vm.count("signal-only") && !s.quiet)
     print_err("note: no conversion given (--epsilon with a path length, --standards, or --signal-only); "

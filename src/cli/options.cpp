@@ -60,7 +60,14 @@ po::variables_map parse_command_line(const Args& args, const po::options_descrip
   all.add(visible).add(hidden);
   po::variables_map vm;
   try {
-    po::store(po::command_line_parser(args).options(all).positional(positional).run(), vm);
+    // Exact option names only: a prefix (--path for --path-cm) is an unknown option, with a
+    // suggestion, never a guess.
+    po::store(po::command_line_parser(args)
+                  .options(all)
+                  .positional(positional)
+                  .style(po::command_line_style::default_style & ~po::command_line_style::allow_guessing)
+                  .run(),
+              vm);
     po::notify(vm);
   } catch (const po::too_many_positional_options_error&) {
     throw UsageError("too many file names; see the usage line");

@@ -1,6 +1,7 @@
 #include "vzero/rates.hpp"
 
 #include <algorithm>
+#include <cassert>
 #include <fmt/format.h>
 
 #include "rates/rate_window.hpp"
@@ -58,25 +59,6 @@ bool parse_tangent_mode(std::string_view t, TangentMode& out) {
   else if (t == "always") out = TangentMode::always;
   else return false;
   return true;
-}
-
-std::string RateOptions::validate() const {
-  if (min_points < 3) return fmt::format("min_points is {}; a slope with an uncertainty needs at least 3 reads", min_points);
-  if (!(skip_s >= 0)) return fmt::format("skip_s is {}; the dead time must be 0 s or more", skip_s);
-  if (!(max_conversion > 0 && max_conversion <= 1))
-    return fmt::format("max_conversion is {}; it must be a fraction above 0 and at most 1", max_conversion);
-  if (!(min_span_s >= 0)) return fmt::format("min_span_s is {}; it must be 0 s or more", min_span_s);
-  if (!std::isnan(signal_ceiling) && !std::isfinite(signal_ceiling)) return "signal_ceiling must be a finite number";
-  if (!(linearity_alpha >= 0 && linearity_alpha < 0.5))
-    return fmt::format("linearity_alpha is {}; it must be at least 0 (no test) and below 0.5", linearity_alpha);
-  if (!(slope_drift >= 0)) return fmt::format("slope_drift is {}; it must be 0 or more", slope_drift);
-  if (!(outlier_k > 0)) return fmt::format("outlier_k is {}; it must be above 0", outlier_k);
-  if (!(lod_factor >= 0)) return fmt::format("lod_factor is {}; it must be 0 or more", lod_factor);
-  if (!std::isnan(time_zero_s) && !std::isfinite(time_zero_s)) return "time_zero_s must be a finite number";
-  if (!(tangent_reach >= 1)) return fmt::format("tangent_reach is {}; it must be 1 or more", tangent_reach);
-  if (!(tangent_alpha >= 0 && tangent_alpha < 0.5))
-    return fmt::format("tangent_alpha is {}; it must be at least 0 (never) and below 0.5", tangent_alpha);
-  return {};
 }
 
 namespace {
@@ -151,7 +133,7 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
 }  // namespace
 
 RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
-  if (std::string why = opt.validate(); !why.empty()) throw UsageError(why);
+  assert(opt.min_points >= 3 && opt.max_conversion > 0 && opt.outlier_k > 0 && opt.tangent_reach >= 1);
   RateResult r;
   r.estimator = opt.estimator;
   r.window = opt.window;

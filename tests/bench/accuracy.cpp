@@ -33,6 +33,7 @@
 #include "../sim/plate_sim.hpp"
 #include "rates/robust.hpp"
 #include "vzero/rates.hpp"
+#include "vzero/settings.hpp"
 
 namespace {
 
@@ -291,7 +292,14 @@ int main(int argc, char** argv) {
       return 2;
     }
   }
-  if (const std::string why = opt.validate(); !why.empty()) { std::fprintf(stderr, "%s\n", why.c_str()); return 2; }
+  {
+    vzero::AnalysisOptions checked;
+    checked.rates = opt;
+    if (const std::string why = vzero::check_analysis_options(checked); !why.empty()) {
+      std::fprintf(stderr, "%s\n", why.c_str());
+      return 2;
+    }
+  }
   if (dump_well >= 0) {
     Totals t;
     run_plate(dump_seed, opt, give_substrate, t, dump_well, spec);
