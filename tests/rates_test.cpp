@@ -4,6 +4,7 @@
 #include <cstring>
 #include <thread>
 
+#include "core/stats.hpp"
 #include "rates/robust.hpp"
 #include "rates/window_stats.hpp"
 #include "sim/plate_sim.hpp"
@@ -97,10 +98,14 @@ TEST_CASE("quantiles match R qt and the normal quantile") {
   CHECK_REL(vzero::detail::normal_quantile(0.975), 1.959963984540054, 1e-13);
   // Self-consistency: the upper tail at the quantile gives back the probability.
   CHECK_REL(vzero::detail::student_t_sf(vzero::detail::student_t_quantile(0.99, 4.5), 4.5), 0.01, 1e-10);
-  // t(0.975, 45) = 2.014103388880846695… by mpmath 1.2.1 (Debian python3-mpmath, 40 digits:
-  // the root of betainc(22.5, 0.5, 0, 45/(45 + t²), regularized)/2 = 0.025). The fit's public
-  // quantile is the same code, so the fit's intervals and the rate finder's agree to the bit.
-  CHECK_REL(vzero::detail::student_t_quantile(0.975, 45), 2.014103388880846695, 2e-16);
+  // t(0.975, df) by mpmath 1.3.0 (Debian python3-mpmath, 40 digits: the root of
+  // betainc(df/2, 0.5, 0, df/(df + t²), regularized)/2 = 0.025): 2.014103388880846695 at
+  // df = 45, 1.959987707534609639 at df = 1e5 (the old own implementation was 1.8e-11 off
+  // there), 2.867520707191189404 at df = 3.7. The fit's public quantile is the same code, so
+  // the fit's intervals and the rate finder's agree to the bit.
+  CHECK_REL(vzero::detail::student_t_quantile(0.975, 45), 2.014103388880846695, 4e-16);
+  CHECK_REL(vzero::detail::student_t_quantile(0.975, 1e5), 1.959987707534609639, 4e-16);
+  CHECK_REL(vzero::detail::student_t_quantile(0.975, 3.7), 2.867520707191189404, 4e-16);
   CHECK(vzero::student_t_quantile(0.975, 45) == vzero::detail::student_t_quantile(0.975, 45));
   CHECK(vzero::student_t_cdf(-1.5, 7) == vzero::detail::student_t_sf(1.5, 7));
 }

@@ -1,10 +1,9 @@
 // Student t distribution function and quantile for the fit's interval half-widths: the
-// public checked entry points over the one implementation the rate finder also uses
-// (detail/robust.cpp: regularised incomplete beta with a thread-safe ln Γ, exact forms for
-// df = 1 and 2, Newton steps on the upper tail).
+// public checked entry points over the one implementation every stage uses (core/stats,
+// Boost.Math).
 #include <cmath>
 
-#include "rates/robust.hpp"
+#include "core/stats.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 

@@ -10,6 +10,7 @@
 #endif
 
 #include "rates/robust.hpp"
+#include "core/stats.hpp"
 #include "rates/window_stats.hpp"
 
 namespace vzero::detail {

@@ -1,136 +1,14 @@
 #include "rates/robust.hpp"
+#include "core/stats.hpp"
 
 #include "rates/pair_slopes.hpp"
 
 #include <Eigen/Dense>
 #include <algorithm>
 #include <array>
-#include <map>
-#include <numbers>
 #include <utility>
 
 namespace vzero::detail {
-namespace {
-
-// ln Γ(x) for x > 0 by the Lanczos approximation (g = 7, 9 terms; the coefficients are the
-// widely published ones, relative error ~1e-15). Used instead of std::lgamma, which writes
-// the global `signgam` in glibc and so is not safe to call from several threads.
-double log_gamma(double x) {
-  static constexpr std::array<double, 9> c = {
-      0.99999999999980993,  676.5203681218851,     -1259.1392167224028,
-      771.32342877765313,   -176.61502916214059,   12.507343278686905,
-      -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7};
-  if (x < 0.5) return std::log(std::numbers::pi / std::sin(std::numbers::pi * x)) - log_gamma(1 - x);
-  x -= 1;
-  double a = c[0];
-  const double t = x + 7.5;
-  for (int i = 1; i < 9; ++i) a += c[static_cast<std::size_t>(i)] / (x + i);
-  return 0.5 * std::log(2 * std::numbers::pi) + (x + 0.5) * std::log(t) - t + std::log(a);
-}
-
-// Continued fraction of the incomplete beta function (modified Lentz).
-double beta_cf(double a, double b, double x) {
-  constexpr double tiny = 1e-300, eps = 1e-16;
-  const double qab = a + b, qap = a + 1, qam = a - 1;
-  double c = 1, d = 1 - qab * x / qap;
-  if (std::fabs(d) < tiny) d = tiny;
-  d = 1 / d;
-  double h = d;
-  for (int m = 1; m <= 1000; ++m) {
-    const double m2 = 2.0 * m;
-    double aa = m * (b - m) * x / ((qam + m2) * (a + m2));
-    d = 1 + aa * d;
-    if (std::fabs(d) < tiny) d = tiny;
-    c = 1 + aa / c;
-    if (std::fabs(c) < tiny) c = tiny;
-    d = 1 / d;
-    h *= d * c;
-    aa = -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2));
-    d = 1 + aa * d;
-    if (std::fabs(d) < tiny) d = tiny;
-    c = 1 + aa / c;
-    if (std::fabs(c) < tiny) c = tiny;
-    d = 1 / d;
-    const double del = d * c;
-    h *= del;
-    if (std::fabs(del - 1) < eps) break;
-  }
-  return h;
-}
-
-// Regularised incomplete beta I_x(a, b).
-double inc_beta(double a, double b, double x) {
-  if (x <= 0) return 0;
-  if (x >= 1) return 1;
-  const double ln_bt = log_gamma(a + b) - log_gamma(a) - log_gamma(b) + a * std::log(x) + b * std::log1p(-x);
-  const double bt = std::exp(ln_bt);
-  if (x < (a + 1) / (a + b + 2)) return bt * beta_cf(a, b, x) / a;
-  return 1 - bt * beta_cf(b, a, 1 - x) / b;
-}
-
-double student_t_pdf(double t, double df) {
-  const double ln = log_gamma((df + 1) / 2) - log_gamma(df / 2) - 0.5 * std::log(df * std::numbers::pi) -
-                    (df + 1) / 2 * std::log1p(t * t / df);
-  return std::exp(ln);
-}
-
-// Solves decreasing f(x) = target on x ≥ 0 by bracketing and Newton steps that fall back to
-// bisection when they leave the bracket.
-template <class Sf, class Pdf>
-double invert_upper_tail(double target, double start, Sf sf, Pdf pdf) {
-  double lo = 0, hi = std::max(start, 1.0);
-  while (sf(hi) > target) { lo = hi; hi *= 2; }
-  double x = std::clamp(start, lo, hi);
-  for (int i = 0; i < 200; ++i) {
-    const double f = sf(x) - target;
-    if (f > 0) lo = x; else hi = x;
-    double next = x + f / pdf(x);
-    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
-    if (std::fabs(next - x) <= 1e-15 * std::max(1.0, std::fabs(x))) return next;
-    x = next;
-  }
-  return x;
-}
-
-}  // namespace
-
-static double student_t_quantile_uncached(double p, double df);
-
-double student_t_sf(double t, double df) {
-  if (std::isnan(t)) return NAN;
-  const double half = 0.5 * inc_beta(df / 2, 0.5, df / (df + t * t));
-  return t >= 0 ? half : 1 - half;
-}
-
-double normal_quantile(double p) {
-  if (!(p > 0 && p < 1)) return NAN;
-  if (p < 0.5) return -normal_quantile(1 - p);
-  const auto sf = [](double x) { return 0.5 * std::erfc(x / std::numbers::sqrt2); };
-  const auto pdf = [](double x) { return std::exp(-0.5 * x * x) / std::sqrt(2 * std::numbers::pi); };
-  return invert_upper_tail(1 - p, 1.0, sf, pdf);
-}
-
-double student_t_quantile(double p, double df) {
-  if (!(p > 0 && p < 1) || !(df > 0)) return NAN;
-  if (p < 0.5) return -student_t_quantile(1 - p, df);
-  // The rate finder asks for the same few (p, df) pairs many times per well: remember them.
-  // One cache per thread, so no locking; the values do not depend on the cache.
-  thread_local std::map<std::pair<double, double>, double> cache;
-  if (const auto it = cache.find({p, df}); it != cache.end()) return it->second;
-  const double v = student_t_quantile_uncached(p, df);
-  if (cache.size() < 100000) cache.emplace(std::make_pair(p, df), v);
-  return v;
-}
-
-static double student_t_quantile_uncached(double p, double df) {
-  if (df == 1) return std::tan(std::numbers::pi * (p - 0.5));
-  if (df == 2) return (2 * p - 1) / std::sqrt(2 * p * (1 - p));
-  // Cornish–Fisher start, then exact inversion of the upper tail.
-  const double z = normal_quantile(p);
-  const double start = z + (z * z * z + z) / (4 * df) + (5 * std::pow(z, 5) + 16 * z * z * z + 3 * z) / (96 * df * df);
-  return invert_upper_tail(
-      1 - p, start, [df](double t) { return student_t_sf(t, df); }, [df](double t) { return student_t_pdf(t, df); });
-}
 
 double median_inplace(std::vector<double>& v) {
   if (v.empty()) return NAN;

@@ -69,11 +69,5 @@ QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
 // mean of the two middle values, as NumPy's median.
 double median_inplace(std::vector<double>& v);
 
-// Quantiles. normal_quantile(0.975) = 1.959963984540054; student_t_quantile(0.975, 10) =
-// 2.228138851986274 (R qt). df may be any positive number; both are accurate to ~1e-14.
-double normal_quantile(double p);
-double student_t_quantile(double p, double df);
-// Upper tail P(T > t) of Student's t with df degrees of freedom.
-double student_t_sf(double t, double df);
 
 }  // namespace vzero::detail
