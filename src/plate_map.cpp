@@ -1,4 +1,5 @@
 #include "vzero/plate_map.hpp"
+#include "core/files.hpp"
 
 #include <fmt/format.h>
 #include <cerrno>
@@ -261,14 +262,10 @@ PlateMap parse_plate_map(const std::string& name, std::string_view text) {
 }
 
 PlateMap read_plate_map(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
-    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
-                     {"check the --layout path"});
-  }
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return parse_plate_map(path, ss.str());
+  detail::FileBytes f = detail::read_whole_file(path, "check the --layout path");
+  PlateMap map = parse_plate_map(path, f.text);
+  map.sha256 = std::move(f.sha256);
+  return map;
 }
 
 void check_plate_map(const PlateMap& map, const Run& run) {

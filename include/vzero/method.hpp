@@ -24,9 +24,14 @@ struct MethodEntry {
   int column = 0;
 };
 
+struct MethodFile {
+  std::vector<MethodEntry> entries;  // in file order
+  std::string sha256;                // of the file's bytes (provenance)
+};
+
 // Reads a method file. Throws InputError (file:line:column) for invalid TOML, nested
 // tables, arrays and keys not in `known_keys`, naming the closest known key.
-std::vector<MethodEntry> read_method(const std::string& path, const std::vector<std::string>& known_keys);
+MethodFile read_method(const std::string& path, const std::vector<std::string>& known_keys);
 std::vector<MethodEntry> parse_method(std::string_view text, const std::string& name,
                                       const std::vector<std::string>& known_keys);
 

@@ -42,6 +42,7 @@ struct WellInfo {
 
 struct PlateMap {
   std::string source;
+  std::string sha256;                      // of the file's bytes ("" when parsed from memory)
   std::string form;                        // "table" or "grid"
   std::vector<std::string> columns;  // every column but `well` and `role`, in file order (passed through to outputs)
   std::map<WellId, WellInfo> wells;

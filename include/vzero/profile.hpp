@@ -49,6 +49,7 @@ struct Profile {
   std::string name;                   // file stem, e.g. "wide-generic"
   std::string description;
   std::string source;                 // "built-in" or the file path
+  std::string sha256;                 // of the profile file ("" for built-in profiles)
   Shape shape = Shape::wide;
   char delimiter = 0;                 // ',', ';', '\t'; 0 = guess per file
   char decimal = '.';                 // '.' or ','

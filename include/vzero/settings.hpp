@@ -102,10 +102,12 @@ struct ResolvedSettings {
   // the rest at their defaults (options without a default and not given are left out).
   std::vector<std::pair<std::string, std::string>> recorded;
   std::vector<std::string> given;    // names given (command line or method file)
+  std::string method_sha256;         // of the method file read, "" when none
 };
 
-// Applies the given options (later entries of the same name are ignored: put the command
-// line first) over the defaults, checks every value and the combinations, and records them.
+// Applies the given options over the defaults, checks every value and the combinations, and
+// records them. When `method` is among them, that method file is read and its keys come
+// after the given options (the first value of a name wins: the caller's override the file's).
 // A bad command-line value throws UsageError ("--NAME is \"X\"; …"); a bad method-file
 // value throws InputError at its file:line:column.
 ResolvedSettings resolve_settings(const std::vector<GivenOption>& given);

@@ -6,26 +6,16 @@
 
 #include <boost/program_options.hpp>
 #include <chrono>
-#include <cmath>
 #include <cstdio>
-#include <filesystem>
 #include <fmt/format.h>
 #include <map>
-#include <optional>
+#include <memory>
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
 #include "cli/rates_settings.hpp"
-#include "core/line_source.hpp"
-#include "core/text.hpp"
-#include "vzero/analysis.hpp"
-#include "vzero/batch.hpp"
 #include "vzero/error.hpp"
-#include "vzero/ingest.hpp"
-#include "vzero/outputs.hpp"
-#include "vzero/plate_map.hpp"
-#include "vzero/report.hpp"
-#include "vzero/summary.hpp"
+#include "vzero/rates_run.hpp"
 #include "vzero/table.hpp"
 
 namespace vzero::cli {
@@ -65,6 +55,31 @@ class ProgressLine {
   bool on_;
   std::size_t width_ = 0;
   std::chrono::steady_clock::time_point last_{};
+};
+
+// The run's outputs as files: each streamed table (rates, traces) and each whole output goes
+// to a temporary file beside its destination, and publish() puts them all in place at the end.
+class FileSink : public OutputSink {
+ public:
+  explicit FileSink(std::map<std::string, std::string> table_paths) : table_paths_(std::move(table_paths)) {}
+  void append(std::string_view table, std::string_view text) override { file(table_paths_.at(std::string(table))).append(text); }
+  void write(const std::string& path, std::string_view text) { file(path).append(text); }
+  void publish() {
+    for (const auto& path : order_) files_.at(path)->commit();
+  }
+
+ private:
+  AtomicFile& file(const std::string& path) {
+    auto it = files_.find(path);
+    if (it == files_.end()) {
+      order_.push_back(path);
+      it = files_.emplace(path, std::make_unique<AtomicFile>(path)).first;
+    }
+    return *it->second;
+  }
+  std::map<std::string, std::string> table_paths_;
+  std::map<std::string, std::unique_ptr<AtomicFile>> files_;
+  std::vector<std::string> order_;
 };
 
 constexpr const char* k_usage = R"(usage: vzero rates FILE... --layout MAP.csv [options]
@@ -108,100 +123,20 @@ int cmd_rates(const Args& args) {
               epsilon_preset_list() + "\n");
     return 0;
   }
-  RatesSettings s = settings_from(vm);
-
-  if (s.analysis.convert.mode == ConvertMode::signal_only && !vm.count("signal-only") && !s.quiet)
-    print_err("note: no conversion given (--epsilon with a path length, --standards, or --signal-only); "
-              "rates stay in signal units per minute");
-  PlateMap map = read_plate_map(s.layout);
-  Provenance prov;
-  prov.tool_version = VZERO_VERSION;
-  prov.options = s.recorded;
-  prov.inputs.push_back({"plate-map", s.layout, detail::sha256_of_file(s.layout), "", ""});
-  if (!s.method.empty()) prov.inputs.push_back({"method", s.method, detail::sha256_of_file(s.method), "", ""});
-
-  const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
-  const bool with_specific = !s.analysis.enzyme_mg_column.empty();
-  // Files run in parallel, one per thread; each keeps only its results once its rows are
-  // formatted, unless the report needs the reads.
-  BatchOptions batch;
-  batch.profile = s.profile;
-  batch.analysis = s.analysis;
-  batch.map_columns = map.columns;
-  batch.with_activity = with_activity;
-  batch.with_specific = with_specific;
-  batch.trace_rows = !s.traces.empty();
-  batch.keep_data = !s.report.empty();
+  const ResolvedSettings resolved = settings_from(vm);
+  const RunSettings& s = resolved.settings;
+  FileSink sink({{"rates", s.output}, {"traces", s.traces}});
   ProgressLine meter(!s.quiet && s.files.size() > 1 && isatty(STDERR_FILENO));
-  // rates.csv (and the traces) are written as the files finish, in order; they are opened
-  // with the first file, and an output error waits until every input has been read (input
-  // errors are reported first, as before).
-  std::optional<AtomicFile> rates_out, traces_out;
-  std::exception_ptr write_error;
-  auto ready = [&](BatchFile& f) {
-    if (write_error) return;
-    try {
-      if (!rates_out) {
-        rates_out.emplace(s.output);
-        rates_out->append(rates_csv({}, map.columns, with_activity, with_specific));
-      }
-      rates_out->append(f.rates_rows);
-      std::string().swap(f.rates_rows);
-      if (!s.traces.empty()) {
-        if (!traces_out) {
-          traces_out.emplace(s.traces);
-          traces_out->append(traces_csv({}));
-        }
-        traces_out->append(f.trace_rows);
-        std::string().swap(f.trace_rows);
-      }
-    } catch (...) {
-      write_error = std::current_exception();
-    }
-  };
-  std::vector<BatchFile> files = analyse_files(s.files, map, batch, meter.callback(), ready);
+  RatesOutputs out = run_rates(resolved, sink, meter.callback());
   meter.finish();
-  if (write_error) std::rethrow_exception(write_error);
-  std::vector<RunAnalysis> analyses;
-  for (auto& f : files) {
-    if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape});
-    if (f.choice.profile.source != "built-in")
-      prov.inputs.push_back({"profile", f.choice.profile.source, detail::sha256_of_file(f.choice.profile.source), "", ""});
-    analyses.push_back(std::move(f.analysis));
-  }
-  namespace fs = std::filesystem;
-  fs::path out_dir = fs::path(s.output).parent_path();
-  std::vector<PackagedTable> tables;
-  auto rel = [&](const std::string& p) {
-    std::error_code ec;
-    fs::path r = fs::relative(fs::absolute(p), fs::absolute(out_dir.empty() ? "." : out_dir), ec);
-    return ec || r.empty() ? p : r.string();
-  };
-  // The map's substrate is in --conc-unit: the schema says so (vzero fit reads it for Km).
-  const auto substrate_unit = [&](std::vector<FieldSpec> fields) {
-    for (FieldSpec& f : fields)
-      if (detail::iequals(f.name, "substrate") && f.unit.empty()) f.unit = s.analysis.convert.conc_unit;
-    return fields;
-  };
-  rates_out->commit();
-  tables.push_back({"rates", rel(s.output), substrate_unit(rate_fields(map.columns, with_activity, with_specific))});
-  if (!s.traces.empty()) {
-    traces_out->commit();
-    tables.push_back({"traces", rel(s.traces), trace_fields()});
-  }
-  SummaryTable summary = summarise(analyses, map.columns, s.leave_out);
-  if (!s.summary.empty()) {
-    write_file_atomic(s.summary, summary_csv(summary));
-    tables.push_back({"summary", rel(s.summary), substrate_unit(summary_fields(summary))});
-  }
-  std::string package = (out_dir / "datapackage.json").string();
-  write_file_atomic(package, datapackage_json(tables, prov, analyses));
-  if (!s.report.empty())
-    write_file_atomic(s.report, render_report(report_input(analyses, map.columns, with_activity, summary,
-                                                           datapackage_json(tables, prov, analyses))));
-
-  if (!s.quiet) print_out(run_digest(analyses, summary, s, package));
+  if (!s.quiet)
+    for (const auto& n : out.notes) print_err("note: " + n);
+  // Every output is written in full to its temporary file first; then all are put in place.
+  if (!s.summary.empty()) sink.write(s.summary, out.summary_csv);
+  sink.write(out.datapackage_path, out.datapackage_json);
+  if (!s.report.empty()) sink.write(s.report, out.report_html);
+  sink.publish();
+  if (!s.quiet) print_out(run_digest(out.analyses, out.summary, s, out.datapackage_path));
   return 0;
 }
 

@@ -7,6 +7,7 @@
 #include <fmt/format.h>
 
 #include "cli/commands.hpp"
+#include "core/text.hpp"
 #include "vzero/error.hpp"
 
 namespace {
@@ -66,8 +67,9 @@ int main(int argc, char** argv) {
     if (command == "rates") return cmd_rates(rest);
     if (command == "fit") return cmd_fit(rest);
     if (command == "report") return cmd_report(rest);
-    print_err(fmt::format("vzero: unknown command \"{}\"; commands are inspect, rates, fit, report (see vzero --help)",
-                          command));
+    const std::string near = vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report"}, 2);
+    print_err(fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report (see vzero --help)",
+                          command, near.empty() ? "" : "did you mean " + near + "? "));
     return 2;
   } catch (const vzero::UsageError& e) {
     print_err(fmt::format("vzero {}: {}\n  see: vzero {} --help", command, e.what(), command));

@@ -6,6 +6,7 @@
 #include <string_view>
 #include <vector>
 
+#include "core/text.hpp"
 #include "vzero/error.hpp"
 #include "vzero/profile.hpp"
 
@@ -14,22 +15,6 @@ namespace vzero::cli {
 namespace po = boost::program_options;
 
 namespace {
-// Edit distance (insertions, deletions, substitutions; each costs 1).
-std::size_t edit_distance(std::string_view a, std::string_view b) {
-  std::vector<std::size_t> row(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    std::size_t diag = row[0];
-    row[0] = i;
-    for (std::size_t j = 1; j <= b.size(); ++j) {
-      const std::size_t up = row[j];
-      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diag + (a[i - 1] == b[j - 1] ? 0 : 1)});
-      diag = up;
-    }
-  }
-  return row[b.size()];
-}
-
 // The option a mistyped name most likely meant: the nearest long name within 2 edits (ties:
 // the first in the help's order); "" when none is that close. (The start of a long name is
 // already taken for it by program_options when only one option starts so.)
@@ -38,17 +23,10 @@ std::string nearest_option(const std::string& typed, const po::options_descripti
   while (!name.empty() && name.front() == '-') name.erase(0, 1);
   if (const auto eq = name.find('='); eq != std::string::npos) name.resize(eq);
   if (name.size() < 3) return "";
-  std::string best;
-  std::size_t best_d = 3;
-  for (const auto& o : visible.options()) {
-    const std::string& candidate = o->long_name();
-    if (candidate.empty()) continue;
-    const std::size_t d = edit_distance(name, candidate);
-    if (d < best_d) {
-      best_d = d;
-      best = candidate;
-    }
-  }
+  std::vector<std::string> names;
+  for (const auto& o : visible.options())
+    if (!o->long_name().empty()) names.push_back(o->long_name());
+  const std::string best = detail::nearest_name(name, names, 2);
   return best.empty() ? "" : "--" + best;
 }
 }  // namespace

@@ -39,41 +39,21 @@ std::string epsilon_preset_list() {
   return out;
 }
 
-RatesSettings settings_from(po::variables_map& vm) {
-  // The command line first: the first value of a name wins, so it overrides the method file.
+ResolvedSettings settings_from(po::variables_map& vm) {
+  // Only what the command line says; the library reads the method file (--method) and puts
+  // its keys after these, so the command line wins.
   std::vector<GivenOption> given;
   for (const OptionSpec& o : option_table()) {
     const std::string name(o.name);
     if (!vm.count(name)) continue;
     given.push_back({name, o.kind == OptionKind::flag ? "true" : vm[name].as<std::string>(), "", 0, 0});
   }
-  if (vm.count("method")) {
-    const std::string method = vm["method"].as<std::string>();
-    std::vector<std::string> known;
-    for (const OptionSpec& o : option_table())
-      if (o.name != "method") known.emplace_back(o.name);
-    for (const auto& e : read_method(method, known)) {
-      const OptionSpec* o = find_option(e.key);
-      if (o->kind == OptionKind::flag && e.type != "boolean")
-        throw InputError(Where{method, e.line, e.column}, fmt::format("method key `{}` must be true or false", e.key),
-                         {fmt::format("write {} = true", e.key)});
-      if (o->kind != OptionKind::flag && e.type == "boolean")
-        throw InputError(Where{method, e.line, e.column},
-                         fmt::format("method key `{}` takes a value, not true/false", e.key), {"see vzero rates --help"});
-      given.push_back({e.key, e.value, method, e.line, e.column});
-    }
-  }
   ResolvedSettings r = resolve_settings(given);
-  RatesSettings s;
-  static_cast<RunSettings&>(s) = std::move(r.settings);
-  s.recorded = std::move(r.recorded);
-  if (vm.count("file")) s.files = vm["file"].as<std::vector<std::string>>();
-  if (s.files.empty()) throw UsageError("expected one or more export FILEs");
-  if (s.layout.empty()) throw UsageError("--layout MAP.csv is required (the plate map: which well holds what)");
-  return s;
+  if (vm.count("file")) r.settings.files = vm["file"].as<std::vector<std::string>>();
+  return r;
 }
 
-std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RatesSettings& s,
+std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RunSettings& s,
                        const std::string& package_path) {
   int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0;
   std::map<Str, int> by_flag, by_note;

@@ -1,4 +1,5 @@
 #include "core/line_source.hpp"
+#include "core/files.hpp"
 
 #include <openssl/evp.h>
 
@@ -233,6 +234,12 @@ std::string LineSource::sha256() {
 }
 
 long long LineSource::bytes_read() const { return impl_->total; }
+
+std::string sha256_hex(std::string_view bytes) {
+  Sha256 h;
+  h.update(bytes.data(), bytes.size());
+  return h.hex();
+}
 
 std::string sha256_of_file(const std::string& path) {
   LineSource src(path);

@@ -10,6 +10,11 @@ namespace vzero::detail {
 
 std::string_view trim(std::string_view s);
 bool iequals(std::string_view a, std::string_view b);
+// Edit distance: insertions, deletions and substitutions, each costing 1.
+std::size_t edit_distance(std::string_view a, std::string_view b);
+// The candidate nearest to `typed`, at most `max_edits` edits away (ties: the first in the
+// list); "" when none is that close. For "did you mean …?" suggestions.
+std::string nearest_name(std::string_view typed, const std::vector<std::string>& candidates, std::size_t max_edits);
 std::string lower(std::string_view s);
 
 // One field of a split line: its text (quotes removed, "" unescaped) and the 1-based

@@ -1,4 +1,5 @@
 #include "vzero/profile.hpp"
+#include "core/files.hpp"
 
 #include <re2/re2.h>
 
@@ -299,10 +300,10 @@ Profile load_profile(const std::string& name_or_path) {
     throw InputError(Where{}, fmt::format("no profile named \"{}\" and no such file", name_or_path),
                      {fmt::format("use a built-in profile ({}) or the path of a .toml profile", names)});
   }
-  std::ifstream in(name_or_path, std::ios::binary);
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return parse_profile(ss.str(), name_or_path, fs::path(name_or_path).stem().string());
+  detail::FileBytes f = detail::read_whole_file(name_or_path, "check the --profile path");
+  Profile p = parse_profile(f.text, name_or_path, fs::path(name_or_path).stem().string());
+  p.sha256 = std::move(f.sha256);
+  return p;
 }
 
 }  // namespace vzero

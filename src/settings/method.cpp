@@ -1,4 +1,6 @@
 #include "vzero/method.hpp"
+#include "core/files.hpp"
+#include "core/text.hpp"
 
 #include <algorithm>
 #include <cctype>
@@ -16,19 +18,6 @@
 namespace vzero {
 
 namespace {
-
-// Levenshtein distance, to suggest the key the user probably meant.
-std::size_t distance(std::string_view a, std::string_view b) {
-  std::vector<std::size_t> prev(b.size() + 1), cur(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) prev[j] = j;
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    cur[0] = i;
-    for (std::size_t j = 1; j <= b.size(); ++j)
-      cur[j] = std::min({prev[j] + 1, cur[j - 1] + 1, prev[j - 1] + (a[i - 1] == b[j - 1] ? 0 : 1)});
-    std::swap(prev, cur);
-  }
-  return prev[b.size()];
-}
 
 // Line `line` (1-based) of `text`, without its end.
 std::string line_text(std::string_view text, int line) {
@@ -77,14 +66,9 @@ std::vector<MethodEntry> parse_method(std::string_view text, const std::string& 
     e.line = static_cast<int>(k.source().begin.line);
     e.column = static_cast<int>(k.source().begin.column);
     if (std::find(known.begin(), known.end(), e.key) == known.end()) {
-      std::string best;
-      std::size_t best_d = 99;
-      for (const auto& kk : known) {
-        std::size_t d = distance(e.key, kk);
-        if (d < best_d) { best_d = d; best = kk; }
-      }
+      const std::string best = detail::nearest_name(e.key, known, 3);
       std::vector<std::string> fixes;
-      if (best_d <= 3) fixes.push_back(fmt::format("did you mean `{}`?", best));
+      if (!best.empty()) fixes.push_back(fmt::format("did you mean `{}`?", best));
       fixes.push_back("method keys are the long option names of vzero rates (see vzero rates --help)");
       throw InputError(Where{name, e.line, e.column}, fmt::format("unknown method key `{}`", e.key), fixes);
     }
@@ -120,15 +104,9 @@ std::vector<MethodEntry> parse_method(std::string_view text, const std::string& 
   return out;
 }
 
-std::vector<MethodEntry> read_method(const std::string& path, const std::vector<std::string>& known) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
-    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
-                     {"check the --method path"});
-  }
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return parse_method(ss.str(), path, known);
+MethodFile read_method(const std::string& path, const std::vector<std::string>& known) {
+  detail::FileBytes f = detail::read_whole_file(path, "check the --method path");
+  return MethodFile{parse_method(f.text, path, known), std::move(f.sha256)};
 }
 
 }  // namespace vzero

@@ -5,6 +5,7 @@
 
 #include "core/text.hpp"
 #include "vzero/error.hpp"
+#include "vzero/method.hpp"
 #include "vzero/settings.hpp"
 
 namespace vzero {
@@ -133,7 +134,38 @@ std::string check_combinations(const AnalysisOptions& a) {
 
 }  // namespace
 
-ResolvedSettings resolve_settings(const std::vector<GivenOption>& given) {
+namespace {
+
+// The method file's keys as given options, after the caller's.
+std::vector<GivenOption> with_method_file(std::vector<GivenOption> given, std::string& sha256) {
+  const GivenOption* method = nullptr;
+  for (const auto& g : given)
+    if (g.name == "method") method = &g;
+  if (!method) return given;
+  const std::string path = method->text;
+  std::vector<std::string> known;
+  for (const OptionSpec& o : option_table())
+    if (o.name != "method") known.emplace_back(o.name);
+  MethodFile file = read_method(path, known);
+  sha256 = file.sha256;
+  for (const auto& e : file.entries) {
+    const OptionSpec* o = find_option(e.key);
+    if (o->kind == OptionKind::flag && e.type != "boolean")
+      throw InputError(Where{path, e.line, e.column}, fmt::format("method key `{}` must be true or false", e.key),
+                       {fmt::format("write {} = true", e.key)});
+    if (o->kind != OptionKind::flag && e.type == "boolean")
+      throw InputError(Where{path, e.line, e.column}, fmt::format("method key `{}` takes a value, not true/false", e.key),
+                       {"see vzero rates --help"});
+    given.push_back({e.key, e.value, path, e.line, e.column});
+  }
+  return given;
+}
+
+}  // namespace
+
+ResolvedSettings resolve_settings(const std::vector<GivenOption>& caller_given) {
+  ResolvedSettings r;
+  const std::vector<GivenOption> given = with_method_file(caller_given, r.method_sha256);
   std::map<std::string, const GivenOption*> by_name;
   for (const auto& g : given) {
     if (!find_option(g.name)) {
@@ -143,7 +175,6 @@ ResolvedSettings resolve_settings(const std::vector<GivenOption>& given) {
     }
     by_name.emplace(g.name, &g);  // the first of a name wins
   }
-  ResolvedSettings r;
   for (const auto& o : option_table()) {
     auto it = by_name.find(std::string(o.name));
     if (it == by_name.end()) {

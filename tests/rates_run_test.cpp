@@ -1,0 +1,57 @@
+// The library's whole-run entry point (include/vzero/rates_run.hpp): the same outputs as the
+// program, byte for byte, with nothing written to disk by the library.
+#include "test_support.hpp"
+#include "vzero/rates_run.hpp"
+
+using namespace vzero;
+using namespace vzero::test;
+
+TEST_CASE("run_rates gives exactly what vzero rates writes") {
+  TempDir dir;
+  const std::string wide = source("demo-data/hydrolase_wide.csv"), map = source("demo-data/hydrolase_map.csv");
+  const std::string method = source("demo-data/esterase_method.toml");
+  auto cli = run_vzero("rates '" + wide + "' --layout '" + map + "' --method '" + method +
+                           "' -o rates.csv --traces traces.csv --summary summary.csv -q",
+                       dir.path.string());
+  INFO(cli.describe());
+  REQUIRE(cli.status == 0);
+
+  const std::string out = (dir.path / "rates.csv").string();
+  ResolvedSettings s = resolve_settings({{"layout", map},
+                                         {"method", method},
+                                         {"output", out},
+                                         {"traces", (dir.path / "traces.csv").string()},
+                                         {"summary", (dir.path / "summary.csv").string()}});
+  s.settings.files = {wide};
+  StringSink sink;
+  RatesOutputs r = run_rates(s, sink);
+  CHECK(sink.text().at("rates") == slurp((dir.path / "rates.csv").string()));
+  CHECK(sink.text().at("traces") == slurp((dir.path / "traces.csv").string()));
+  CHECK(r.summary_csv == slurp((dir.path / "summary.csv").string()));
+  CHECK(r.datapackage_path == (dir.path / "datapackage.json").string());
+  CHECK(r.datapackage_json == slurp((dir.path / "datapackage.json").string()));
+  CHECK(r.report_html.empty());
+  // Provenance: each input once, with the method file's checksum read where it was parsed.
+  int methods = 0;
+  for (const auto& in : r.provenance.inputs) methods += in.kind == "method";
+  CHECK(methods == 1);
+  CHECK(r.provenance.inputs.size() == 3);  // plate map, method, export
+  CHECK(!s.method_sha256.empty());
+}
+
+TEST_CASE("a profile file read by several exports is one input") {
+  TempDir dir;
+  spit((dir.path / "p.toml").string(), slurp(source("instrument-profiles/wide-generic.toml")));
+  const std::string wide = source("demo-data/hydrolase_wide.csv");
+  ResolvedSettings s = resolve_settings({{"layout", source("demo-data/hydrolase_map.csv")},
+                                         {"profile", (dir.path / "p.toml").string()},
+                                         {"output", (dir.path / "rates.csv").string()},
+                                         {"signal-only", "true"}});
+  s.settings.files = {wide, wide};
+  StringSink sink;
+  RatesOutputs r = run_rates(s, sink);
+  int profiles = 0;
+  for (const auto& in : r.provenance.inputs) profiles += in.kind == "profile";
+  CHECK(profiles == 1);
+  CHECK(r.analyses.size() == 2);
+}
