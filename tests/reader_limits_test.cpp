@@ -1,5 +1,5 @@
-// The readers' limits, at their edges: the longest line (16 MiB, the line reader's block,
-// fast-cpp-csv-parser's LineReader), the largest plate (1536 wells, AF48), the most lines
+// The readers' limits, at their edges: the longest line (16 MiB, the line reader's block),
+// the largest plate (1536 wells, AF48), the most lines
 // of a file (2^31 - 1, stated, not written here), and files larger than the reader's
 // 32 MiB first read, where the read-ahead thread takes over.
 #include <algorithm>
@@ -18,7 +18,7 @@ using namespace vzero::test;
 
 namespace {
 
-constexpr std::size_t k_block = std::size_t{1} << 24;  // LineReader::block_len in libfccp/csv.h
+constexpr std::size_t k_block = std::size_t{1} << 24;  // the longest line LineSource reads, with its end
 
 std::string message_of(const std::string& text, const vzero::Profile& p) {
   try {
@@ -38,7 +38,7 @@ TEST_CASE("a line of 16 MiB - 1 bytes is read; one of 16 MiB is refused with its
   REQUIRE(longest.size() == k_block - 1);
   auto run = vzero::read_run_text("input.csv", longest + "\n" + data, p);
   CHECK(run.channels.at(0).reads() == 2);
-  // One byte more: LineReader needs room for the line and its end in one block.
+  // One byte more: the line and its end must fit in one block.
   CHECK(message_of("Note\n" + longest + "x\n" + data, p) ==
         "input.csv:2: line is longer than 16 MiB (the longest line vzero reads)");
   // With CRLF the '\r' counts towards the limit too.
