@@ -176,7 +176,7 @@ void run_plate(std::uint64_t seed, const vzero::RateOptions& opt, bool give_subs
                                             "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
                                             "line {:+.4f} tan {:+.4f} | {}",
                                             seed, w, truth.s0_uM / truth.km_uM, t10, p.read_interval_s, p.dead_time_s, reads,
-                                            truth.artefacts, err, naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers,
+                                            truth.artefacts & sim::k_default_scenario_bits, err, naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers,
                                             r.tangent, r.window_end, r.lag_s, r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1,
                                             r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1, fl)});
     }
@@ -230,7 +230,7 @@ void run_plate(std::uint64_t seed, const vzero::RateOptions& opt, bool give_subs
     if (truth.artefacts & sim::k_mixing) account("mixing", has_flag(r, "outliers") || has_flag(r, "lag"), true);
     if (truth.artefacts & sim::k_turbid) account("turbid", has_flag(r, "overflow") || has_flag(r, "nonlinear"), true);
     if (truth.artefacts & sim::k_depletion) account("depletion", false, true);
-    if (truth.artefacts == 0) account("none", false, true);
+    if ((truth.artefacts & sim::k_default_scenario_bits) == 0) account("none", false, true);
   }
 }
 
