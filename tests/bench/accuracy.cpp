@@ -30,8 +30,9 @@
 // substrate-only blanks (the matched blanks), takes the blanks' read noise (robust SD of
 // second differences), and passes the substrate and the known conversion factor 1/(ε·l).
 // find_rate runs with default options except signal_ceiling, set to the simulated detector's
-// linear limit (2.5 AU), as an instrument profile or method file would; without --mix a
-// second pass without it is summarised at the end. The finder is not told when the reaction
+// linear limit (2.5 AU; with --mix, the limit the plate's instrument profile states), as an
+// instrument profile or method file would; without --mix a second pass without it is
+// summarised at the end. The finder is not told when the reaction
 // started (the rates command has no such option), so time zero is the first read.
 // Exit status 0 when every target is met, 1 otherwise.
 //
@@ -166,6 +167,7 @@ PlateRun plate_run(const Args& a, std::uint64_t seed) {
   if (a.mix) {
     run.kind = a.forced_kind >= 0 ? sim::k_plate_kinds[static_cast<std::size_t>(a.forced_kind)] : sim::kind_for_seed(seed);
     run.spec = sim::mix_spec(run.kind);
+    if (std::isfinite(run.options.signal_ceiling)) run.options.signal_ceiling = run.spec.stated_limit;
     run.spec.noise_sd_min *= a.noise_scale;
     run.spec.noise_sd_max *= a.noise_scale;
   }
@@ -223,7 +225,10 @@ std::string mix_head(const Args& a, const Totals& tot) {
     if (n > 0) kinds += fmt::format("{}{} {}", kinds.empty() ? "" : ", ", to_string(kind), n);
   }
   out += fmt::format("plates: {}; {} sample wells, {} blank wells\n", kinds, tot.sample_wells, tot.blank_wells);
-  out += options_text(a) + "\n";
+  out += options_text(a);
+  if (std::isfinite(a.opt.signal_ceiling))
+    out += "  (signal_ceiling: the linear limit each plate's instrument profile states, 2.5 AU; 3 AU on high-absorbance plates)\n";
+  out += "\n";
   return out;
 }
 

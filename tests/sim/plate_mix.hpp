@@ -15,9 +15,12 @@
 //   3–4 screening8       384 wells (16 × 22 samples + 2 blanks), 8 reads every 30/45/60 s,
 //                        fastest well at 10 % after 2–6 reads, read noise × 1.5
 //   5   low-signal       a low-ε channel: 10 % of the lowest S0 is 2–6 read-noise SDs
-//   6   high-absorbance  stray light s = 5·10⁻⁴ … 2·10⁻³ (readings compress towards 2.7–3.3
-//                        AU), detector maximum 3.0 AU, overflow past 3.5 AU true; 30 % of
-//                        sample wells start high (1.2–2.8 AU)
+//   6   high-absorbance  stray light s = 2·10⁻⁴ … 10⁻³ (readings compress towards 3.0–3.7
+//                        AU; 10 % slope loss from 2.0–2.7 AU), readings stop at the detector
+//                        maximum 3.0 AU, overflow past 3.6 AU true; the profile states the
+//                        data sheet's range, 3.0 AU, as the linear limit; a strong chromophore
+//                        (1.0–2.5 AU per Km converted); 30 % of sample wells start high
+//                        (turbid, 1.2–2.8 AU)
 //   7   depleting        fastest well at 10 % conversion after 1–3 reads
 //   8   late-start       the reaction started 2–6 read intervals before the first read
 //   9   slow-onset       every sample well lags, one τ per plate (20–180 s, ≤ a third of the run)
@@ -90,10 +93,13 @@ inline PlateSpec mix_spec(PlateKind kind) {
       s.low_signal_snr_max = 6;
       break;
     case PlateKind::high_absorbance:
-      s.stray_light_min = 5e-4;
-      s.stray_light_max = 2e-3;
+      s.stray_light_min = 2e-4;
+      s.stray_light_max = 1e-3;
       s.detector_max = 3.0;
-      s.overflow_true = 3.5;
+      s.overflow_true = 3.6;
+      s.stated_limit = 3.0;  // the profile copies the data sheet's range; stray light is not in it
+      s.signal_at_km_min = 1.0;
+      s.signal_at_km_max = 2.5;
       s.turbid_probability = 0.30;
       s.turbid_min = 1.2;
       s.turbid_max = 2.8;

@@ -94,6 +94,9 @@ struct PlateSpec {
   double lag_probability = 0.08, lag_min_s = 20, lag_max_s = 90, lag_fraction_of_t10 = 0.25;
   double turbid_probability = 0.04, turbid_min = 1.8, turbid_max = 3.0;
   double linear_limit = 2.5, detector_max = 3.5, overflow_true = 4.0;
+  // The linear limit the instrument profile states, which the accuracy program passes to the
+  // rate finder as signal_ceiling (the default scenario: the detector's true linear limit).
+  double stated_limit = 2.5;
 
   // --- Further artefacts, off by default (drawn from their own random stream).
   int fixed_reads = 0;  // reads per plate (8: a screening plate); 0 = from the run length
