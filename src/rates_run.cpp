@@ -6,6 +6,7 @@
 #include <filesystem>
 #include <set>
 
+#include "core/files.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
 #include "vzero/method.hpp"
@@ -31,6 +32,23 @@ std::vector<FieldSpec> with_substrate_unit(std::vector<FieldSpec> fields, const 
   return fields;
 }
 
+// Before anything is read: no output may replace an input or another output, and every
+// output's folder must exist and be writable.
+void check_output_paths(const RunSettings& s, const std::string& package) {
+  std::vector<detail::NamedPath> inputs, outputs;
+  for (const auto& f : s.files) inputs.push_back({"the export", f});
+  inputs.push_back({"the plate map (--layout)", s.layout});
+  if (!s.method.empty()) inputs.push_back({"the method file (--method)", s.method});
+  std::error_code ec;
+  if (!s.profile.empty() && fs::is_regular_file(s.profile, ec)) inputs.push_back({"the profile (--profile)", s.profile});
+  outputs.push_back({"--output", s.output});
+  if (!s.traces.empty()) outputs.push_back({"--traces", s.traces});
+  if (!s.summary.empty()) outputs.push_back({"--summary", s.summary});
+  if (!s.report.empty()) outputs.push_back({"--report", s.report});
+  outputs.push_back({"datapackage.json (written beside --output)", package});
+  detail::check_outputs(inputs, outputs);
+}
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
@@ -38,6 +56,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   const RunSettings& s = resolved.settings;
   if (s.files.empty()) throw UsageError("expected one or more export FILEs");
   if (s.layout.empty()) throw UsageError("--layout MAP.csv is required (the plate map: which well holds what)");
+  const fs::path dir = fs::path(s.output).parent_path();
+  check_output_paths(s, (dir / "datapackage.json").string());
   RatesOutputs out;
   if (s.analysis.convert.mode == ConvertMode::signal_only &&
       std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end())
@@ -95,7 +115,6 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
     out.analyses.push_back(std::move(f.analysis));
   }
 
-  const fs::path dir = fs::path(s.output).parent_path();
   const std::string& unit = s.analysis.convert.conc_unit;
   std::vector<PackagedTable> tables;
   tables.push_back({"rates", relative_to(s.output, dir),

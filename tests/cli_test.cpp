@@ -174,3 +174,53 @@ TEST_CASE("a failed write leaves no partial file and an old output intact") {
     leftovers += e.path().filename().string().find(".tmp") != std::string::npos;
   CHECK(leftovers == 0);
 }
+
+TEST_CASE("no output replaces an input or another output; a missing output folder is found before any reading") {
+  TempDir dir;
+  const std::string wide = dir.path / "plate.csv", map = dir.path / "map.csv", method = dir.path / "m.toml";
+  spit(wide, slurp(source("demo-data/hydrolase_wide.csv")));
+  spit(map, slurp(source("demo-data/hydrolase_map.csv")));
+  spit(method, "signal-only = true\n");
+  const std::string base = "rates plate.csv --layout map.csv --method m.toml -q";
+  struct Case {
+    std::string args, err;
+  };
+  const std::vector<Case> cases = {
+      {" -o plate.csv", "vzero rates: --output (plate.csv) is the export plate.csv; vzero never overwrites an input: "
+                        "choose another output path\n  see: vzero rates --help\n"},
+      {" -o map.csv", "vzero rates: --output (map.csv) is the plate map (--layout) map.csv; vzero never overwrites an "
+                      "input: choose another output path\n  see: vzero rates --help\n"},
+      {" --summary ./m.toml", "vzero rates: --summary (./m.toml) is the method file (--method) m.toml; vzero never "
+                              "overwrites an input: choose another output path\n  see: vzero rates --help\n"},
+      {" -o r.csv --traces ./r.csv", "vzero rates: --output and --traces both name ./r.csv; each output needs its own "
+                                     "file\n  see: vzero rates --help\n"},
+      {" -o datapackage.json", "vzero rates: --output and datapackage.json (written beside --output) both name "
+                               "datapackage.json; each output needs its own file\n  see: vzero rates --help\n"},
+  };
+  for (const auto& c : cases) {
+    auto r = run_vzero(base + c.args, dir.path.string());
+    INFO(r.describe());
+    CHECK(r.status == 2);
+    CHECK(r.err == c.err);
+  }
+  // A link to an input is the input.
+  std::filesystem::create_symlink(wide, dir.path / "link.csv");
+  auto link = run_vzero(base + " -o link.csv", dir.path.string());
+  CHECK(link.status == 2);
+  CHECK(link.err.find("--output (link.csv) is the export plate.csv") != std::string::npos);
+  // Nothing was replaced.
+  CHECK(slurp(wide) == slurp(source("demo-data/hydrolase_wide.csv")));
+  CHECK(slurp(method) == "signal-only = true\n");
+  // The folder check comes before the export is read: a broken export is not reached.
+  spit(dir.path / "broken.csv", "Time [s],A1\n0,abc\n");
+  auto folder = run_vzero("rates broken.csv --layout map.csv -q -o nowhere/r.csv", dir.path.string());
+  CHECK(folder.status == 1);
+  CHECK(folder.err.rfind("nowhere/r.csv: cannot write nowhere/r.csv: the folder nowhere does not exist", 0) == 0);
+  // vzero fit onto its own table.
+  auto ok = run_vzero(base + " -o rates.csv", dir.path.string());
+  REQUIRE(ok.status == 0);
+  auto fit = run_vzero("fit rates.csv --x substrate -o rates.csv", dir.path.string());
+  CHECK(fit.status == 2);
+  CHECK(fit.err == "vzero fit: -o (rates.csv) is the table rates.csv; vzero never overwrites an input: choose another "
+                   "output path\n  see: vzero fit --help\n");
+}

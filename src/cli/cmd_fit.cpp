@@ -10,6 +10,7 @@
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
+#include "core/files.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 #include "vzero/table.hpp"
@@ -220,6 +221,13 @@ int cmd_fit(const Args& args) {
   int to_stdout = (output == "-") + (json == "-") + (diag == "-");
   if (to_stdout > 1) throw UsageError("only one of -o, --json and --diagnostics can be '-' (stdout)");
 
+  {
+    std::vector<detail::NamedPath> outs;
+    if (!output.empty() && output != "-") outs.push_back({"-o", output});
+    if (!json.empty() && json != "-") outs.push_back({"--json", json});
+    if (!diag.empty() && diag != "-") outs.push_back({"--diagnostics", diag});
+    detail::check_outputs({{"the table", file}}, outs);
+  }
   Table table = read_table(file);
   o.column_units = package_units(file);
   // Column checks here, so a missing column names the option that chose it.
