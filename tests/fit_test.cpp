@@ -11,13 +11,15 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include "kinetic_check.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/table.hpp"
 
 namespace {
 
-using vzero::Model;
+// A built-in model by its CLI word.
+const vzero::KineticModel& builtin(std::string_view name) { return vzero::kinetic_model(name); }
 
 // R datasets::Puromycin (Treloar 1974, as given by Bates & Watts 1988, Nonlinear
 // Regression Analysis and Its Applications, Appendix A1.3). conc ppm, rate counts/min/min.
@@ -57,7 +59,7 @@ TEST_CASE("t quantile matches R qt and the closed forms for df 1 and 2") {
 }
 
 TEST_CASE("Puromycin treated: nls estimates, SEs, intervals (R datasets::Puromycin, REFERENCES.md §4a)") {
-  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
   CHECK(r.converged);
   CHECK(r.start_method == "Hanes-Woolf");
@@ -93,7 +95,7 @@ TEST_CASE("Puromycin treated: nls estimates, SEs, intervals (R datasets::Puromyc
 }
 
 TEST_CASE("Puromycin untreated: nls estimates, SEs, intervals (R datasets::Puromycin, REFERENCES.md §4a)") {
-  const auto r = vzero::fit_model(puro_untreated_S, puro_untreated_v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(puro_untreated_S, puro_untreated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
   const auto& vmax = r.parameters[0];
   const auto& km = r.parameters[1];
@@ -121,7 +123,7 @@ TEST_CASE("Puromycin untreated: nls estimates, SEs, intervals (R datasets::Purom
 TEST_CASE("Puromycin from the R help-page start (Vmax 200, Km 0.05) reaches the same optimum") {
   vzero::FitOptions o;
   o.start = {200, 0.05};  // R ?Puromycin example
-  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten, o);
+  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"), o);
   REQUIRE(r.ok);
   CHECK(r.start_method == "given");
   CHECK_REL(r.parameters[0].estimate, 212.683743142536, 1e-6);
@@ -147,7 +149,7 @@ TEST_CASE("the reported estimate is not the Lineweaver-Burk one (REFERENCES.md �
   CHECK_REL(lb_vmax, 195.80270884775004, 1e-10);
   CHECK_REL(lb_km, 0.048406533867254145, 1e-10);
 
-  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
   CHECK(r.parameters[0].estimate > lb_vmax * 1.07);  // LB is 7.9 % low on Vmax
   CHECK(r.parameters[1].estimate > lb_km * 1.25);    // and 24.5 % low on Km
@@ -167,7 +169,7 @@ TEST_CASE("NIST StRD Misra1d from both certified start vectors (REFERENCES.md §
     CAPTURE(start[0]);
     vzero::FitOptions o;
     o.start = {start[0], start[1]};
-    const auto r = vzero::fit_model(misra1d_x, misra1d_y, {}, Model::michaelis_menten, o);
+    const auto r = vzero::fit_model(misra1d_x, misra1d_y, {}, builtin("mm"), o);
     REQUIRE(r.ok);
     CHECK(r.converged);
     const auto& vmax = r.parameters[0];
@@ -186,19 +188,19 @@ TEST_CASE("NIST StRD Misra1d from both certified start vectors (REFERENCES.md §
 
 namespace {
 struct Truth {
-  Model model;
+  const vzero::KineticModel& model;
   std::vector<double> p;
 };
 
 void make_data(const Truth& t, std::vector<double>& s, std::vector<double>& i, std::vector<double>& v) {
   const std::vector<double> s_levels = {2.5, 5, 10, 20, 40, 80, 160, 320, 640, 1280};
   const std::vector<double> i_levels =
-      vzero::needs_inhibitor(t.model) ? std::vector<double>{0, 10, 30, 90} : std::vector<double>{0};
+      t.model.needs_inhibitor() ? std::vector<double>{0, 10, 30, 90} : std::vector<double>{0};
   for (double il : i_levels) {
     for (double sl : s_levels) {
       s.push_back(sl);
       i.push_back(il);
-      v.push_back(vzero::model_rate(t.model, t.p, sl, il));
+      v.push_back(t.model.rate(t.p, sl, il, {}));
     }
   }
 }
@@ -206,19 +208,21 @@ void make_data(const Truth& t, std::vector<double>& s, std::vector<double>& i, s
 
 TEST_CASE("exact recovery on noiseless simulated data, every model (simulation with known truth)") {
   const std::vector<Truth> truths = {
-      {Model::michaelis_menten, {12, 50}},
-      {Model::substrate_inhibition, {10, 40, 300}},
-      {Model::hill, {5, 30, 2.2}},
-      {Model::competitive, {12, 50, 25}},
-      {Model::uncompetitive, {12, 50, 60}},
-      {Model::mixed, {12, 50, 25, 60}},
+      {builtin("mm"), {12, 50}},
+      {builtin("substrate-inhibition"), {10, 40, 300}},
+      {builtin("hill"), {5, 30, 2.2}},
+      {builtin("competitive"), {12, 50, 25}},
+      {builtin("uncompetitive"), {12, 50, 60}},
+      {builtin("mixed"), {12, 50, 25, 60}},
   };
+  // Every built-in model has a truth here (a new one must add its own).
+  CHECK(truths.size() == vzero::kinetic_models().size());
   for (const auto& t : truths) {
-    CAPTURE(vzero::to_string(t.model));
+    CAPTURE(t.model.name);
     std::vector<double> s, i, v;
     make_data(t, s, i, v);
-    const auto r = vzero::needs_inhibitor(t.model) ? vzero::fit_inhibition(s, i, v, {}, t.model)
-                                                   : vzero::fit_model(s, v, {}, t.model);
+    const auto r = t.model.needs_inhibitor() ? vzero::fit_inhibition(s, i, v, {}, t.model)
+                                             : vzero::fit_model(s, v, {}, t.model);
     INFO(r.message);
     REQUIRE(r.ok);
     CHECK(r.converged);
@@ -231,33 +235,12 @@ TEST_CASE("exact recovery on noiseless simulated data, every model (simulation w
   }
 }
 
-TEST_CASE("analytic gradients match central finite differences (as Ceres checks its cost functions)") {
-  const std::vector<Truth> points = {
-      {Model::michaelis_menten, {12, 50}},   {Model::substrate_inhibition, {10, 40, 300}},
-      {Model::hill, {5, 30, 2.2}},           {Model::competitive, {12, 50, 25}},
-      {Model::uncompetitive, {12, 50, 60}},  {Model::mixed, {12, 50, 25, 60}},
-  };
-  for (const auto& t : points) {
-    CAPTURE(vzero::to_string(t.model));
-    for (double s : {3.0, 45.0, 700.0}) {
-      for (double inh : {0.0, 20.0}) {
-        std::vector<double> g(t.p.size());
-        vzero::model_rate(t.model, t.p, s, inh, g);
-        for (std::size_t k = 0; k < t.p.size(); ++k) {
-          const double h = 1e-6 * t.p[k];
-          auto up = t.p, down = t.p;
-          up[k] += h;
-          down[k] -= h;
-          const double fd = (vzero::model_rate(t.model, up, s, inh) - vzero::model_rate(t.model, down, s, inh)) / (2 * h);
-          CAPTURE(k);
-          CAPTURE(s);
-          CAPTURE(inh);
-          if (std::fabs(g[k]) < 1e-12) CHECK_ABS(fd, 0.0, 1e-9);
-          else CHECK_REL(g[k], fd, 1e-6);
-        }
-      }
-    }
-  }
+TEST_CASE("analytic gradients match central finite differences, every registered model") {
+  REQUIRE(vzero::kinetic_models().size() >= 6);
+  for (const vzero::KineticModel* m : vzero::kinetic_models()) vzero::test::check_gradient(*m, vzero::test::probe_parameters(*m));
+  // And at the simulation truths above (Hill n = 2.2, substrate-inhibition Km 40).
+  vzero::test::check_gradient(builtin("hill"), {5, 30, 2.2});
+  vzero::test::check_gradient(builtin("substrate-inhibition"), {10, 40, 300});
 }
 
 TEST_CASE("fits the data cannot support give a message, not a number") {
@@ -267,50 +250,50 @@ TEST_CASE("fits the data cannot support give a message, not a number") {
     CHECK(r.parameters.empty());
     return r.message;
   };
-  CHECK(msg(fit_model({0.1, 0.2}, {5, 8}, {}, Model::michaelis_menten)) ==
+  CHECK(msg(fit_model({0.1, 0.2}, {5, 8}, {}, builtin("mm"))) ==
         "too few points: 2 for 2 parameters (Vmax, Km); at least 3 are needed");
-  CHECK(msg(fit_model({0.5, 0.5, 0.5, 0.5}, {5, 6, 5.5, 5.2}, {}, Model::michaelis_menten)) ==
+  CHECK(msg(fit_model({0.5, 0.5, 0.5, 0.5}, {5, 6, 5.5, 5.2}, {}, builtin("mm"))) ==
         "all 4 points have the same substrate concentration (0.5); a saturation curve needs at least 2 different "
         "concentrations");
-  CHECK(msg(fit_model({1, 1, 2, 2, 0}, {5, 6, 5.5, 5.2, 0}, {}, Model::hill)) ==
+  CHECK(msg(fit_model({1, 1, 2, 2, 0}, {5, 6, 5.5, 5.2, 0}, {}, builtin("hill"))) ==
         "only 2 different positive substrate concentrations for the hill model; at least 3 are needed");
-  CHECK(msg(fit_model({1, 2, 4, 8}, {-1, -2, -0.5, -3}, {}, Model::michaelis_menten)) ==
+  CHECK(msg(fit_model({1, 2, 4, 8}, {-1, -2, -0.5, -3}, {}, builtin("mm"))) ==
         "no positive rate: all 4 rates are <= 0 (the largest is -0.5); check the reaction direction and the blank "
         "subtraction");
   // Rates exactly proportional to S: no saturation, so Km and Vmax are not determined.
-  CHECK(msg(fit_model({1, 2, 4, 8, 16}, {2, 4, 8, 16, 32}, {}, Model::michaelis_menten)) ==
+  CHECK(msg(fit_model({1, 2, 4, 8, 16}, {2, 4, 8, 16, 32}, {}, builtin("mm"))) ==
         "no curvature: the rates rise in proportion to substrate up to the highest concentration (16), so Km and Vmax "
         "run off to infinity together and only Vmax/Km = 2 is determined; measure at concentrations above Km");
   // Puromycin shows no substrate inhibition.
-  CHECK(msg(fit_model(puro_treated_S, puro_treated_v, {}, Model::substrate_inhibition)) ==
+  CHECK(msg(fit_model(puro_treated_S, puro_treated_v, {}, builtin("substrate-inhibition"))) ==
         "no substrate inhibition: Ki runs off to infinity (the rates do not fall at high substrate); fit the mm model "
         "instead");
-  CHECK(msg(vzero::fit_inhibition({1, 2, 4, 8}, {5, 5, 5, 5}, {1, 2, 3, 3.5}, {}, Model::competitive)) ==
+  CHECK(msg(vzero::fit_inhibition({1, 2, 4, 8}, {5, 5, 5, 5}, {1, 2, 3, 3.5}, {}, builtin("competitive"))) ==
         "all 4 points have the same inhibitor concentration (5); the competitive model needs at least 2 inhibitor "
         "levels");
   // An inhibitor that changes nothing: Kic runs off.
   {
     std::vector<double> s, i, v;
-    make_data({Model::michaelis_menten, {12, 50}}, s, i, v);
+    make_data({builtin("mm"), {12, 50}}, s, i, v);
     std::vector<double> s2 = s, i2(s.size(), 40.0), v2 = v;
     s.insert(s.end(), s2.begin(), s2.end());
     i.insert(i.end(), i2.begin(), i2.end());
     v.insert(v.end(), v2.begin(), v2.end());
-    CHECK(msg(vzero::fit_inhibition(s, i, v, {}, Model::competitive)) ==
+    CHECK(msg(vzero::fit_inhibition(s, i, v, {}, builtin("competitive"))) ==
           "no competitive inhibition: Kic runs off to infinity (the inhibitor does not raise the apparent Km)");
   }
-  CHECK_THROWS_WITH_AS(fit_model({1, 2}, {1}, {}, Model::michaelis_menten),
+  CHECK_THROWS_WITH_AS(fit_model({1, 2}, {1}, {}, builtin("mm")),
                        "fit_model: s, inhibitor, v and weights must have the same length (s 2, v 1, weights 0)",
                        vzero::UsageError);
-  CHECK_THROWS_WITH_AS(fit_model({1, 2, 3}, {1, 2, 3}, {}, Model::mixed),
+  CHECK_THROWS_WITH_AS(fit_model({1, 2, 3}, {1, 2, 3}, {}, builtin("mixed")),
                        "fit_model: the mixed model needs inhibitor concentrations; call fit_inhibition",
                        vzero::UsageError);
 }
 
 TEST_CASE("weights: a common factor changes nothing; weight 2 equals a duplicated point") {
-  const auto plain = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten);
+  const auto plain = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   const auto scaled = vzero::fit_model(puro_treated_S, puro_treated_v, std::vector<double>(12, 4.0),
-                                       Model::michaelis_menten);
+                                       builtin("mm"));
   REQUIRE(plain.ok);
   REQUIRE(scaled.ok);
   for (std::size_t k = 0; k < 2; ++k) {
@@ -323,8 +306,8 @@ TEST_CASE("weights: a common factor changes nothing; weight 2 equals a duplicate
   auto s = puro_treated_S, v = puro_treated_v;
   s.push_back(s[4]);
   v.push_back(v[4]);
-  const auto weighted = vzero::fit_model(puro_treated_S, puro_treated_v, w, Model::michaelis_menten);
-  const auto duplicated = vzero::fit_model(s, v, {}, Model::michaelis_menten);
+  const auto weighted = vzero::fit_model(puro_treated_S, puro_treated_v, w, builtin("mm"));
+  const auto duplicated = vzero::fit_model(s, v, {}, builtin("mm"));
   REQUIRE(weighted.ok);
   REQUIRE(duplicated.ok);
   CHECK_REL(weighted.parameters[0].estimate, duplicated.parameters[0].estimate, 1e-9);
@@ -333,7 +316,7 @@ TEST_CASE("weights: a common factor changes nothing; weight 2 equals a duplicate
 }
 
 TEST_CASE("kcat and kcat/Km: Vmax/[E] and the delta method") {
-  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
   const auto d = vzero::turnover(r, 2.0);
   REQUIRE(d.size() == 2);
@@ -350,7 +333,7 @@ TEST_CASE("kcat and kcat/Km: Vmax/[E] and the delta method") {
 }
 
 TEST_CASE("diagnostics: linearised coordinates with the line implied by the nonlinear estimate") {
-  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
   const auto rows = vzero::diagnostics(puro_treated_S, {}, puro_treated_v, {}, r, 5);
   REQUIRE(rows.size() == 12 + 5);
@@ -433,7 +416,7 @@ TEST_CASE("fit_table: summary table with v0_mean and replicate-sd weights 1/sd^2
   CHECK(t.sd_column == "v0_sd");
   REQUIRE(t.fits.size() == 1);
   REQUIRE(t.fits[0].result.ok);
-  const auto direct = vzero::fit_model(s, m, w, Model::michaelis_menten);
+  const auto direct = vzero::fit_model(s, m, w, builtin("mm"));
   REQUIRE(direct.ok);
   CHECK_REL(t.fits[0].result.parameters[0].estimate, direct.parameters[0].estimate, 1e-12);
   CHECK_REL(t.fits[0].result.parameters[1].se, direct.parameters[1].se, 1e-12);
@@ -454,7 +437,7 @@ TEST_CASE("fit_table: replicate SDs from per-well rows, and weights that cannot 
   const auto t = vzero::fit_table(vzero::parse_table("wells.csv", text), o);
   REQUIRE(t.fits.size() == 1);
   REQUIRE(t.fits[0].result.ok);
-  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, Model::michaelis_menten);
+  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, builtin("mm"));
   CHECK_REL(t.fits[0].result.parameters[1].estimate, direct.parameters[1].estimate, 1e-12);
 
   const auto single = vzero::fit_table(vzero::parse_table("wells.csv", "substrate,v0\n1,2\n2,3\n2,3.5\n4,4\n"), o);
@@ -474,7 +457,7 @@ TEST_CASE("no-substrate controls: v(0) = 0 is a data point, left out only under 
   std::vector<double> s = puro_treated_S, v = puro_treated_v;
   s.insert(s.begin(), {0.0, 0.0});
   v.insert(v.begin(), {0.0, 0.0});
-  const auto r = vzero::fit_model(s, v, {}, Model::michaelis_menten);
+  const auto r = vzero::fit_model(s, v, {}, builtin("mm"));
   REQUIRE(r.ok);
   CHECK(r.n == 14);
   CHECK(r.df == 12);
@@ -511,7 +494,7 @@ TEST_CASE("no-substrate controls: v(0) = 0 is a data point, left out only under 
                                                    "model gives v = 0 there, and relative weighting (1/v^2) has no "
                                                    "weight for them"});
   REQUIRE(relative.fits[0].result.ok);
-  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, Model::michaelis_menten);
+  const auto direct = vzero::fit_model(puro_treated_S, puro_treated_v, w, builtin("mm"));
   REQUIRE(direct.ok);
   CHECK(relative.fits[0].result.n == 12);
   CHECK_REL(relative.fits[0].result.parameters[0].estimate, direct.parameters[0].estimate, 1e-12);
@@ -538,14 +521,14 @@ TEST_CASE("fit_table: a rate too large for a double says so; one too small for a
 
 TEST_CASE("fit_table: global inhibition fit, JSON and per-level diagnostic curves") {
   std::vector<double> s, i, v;
-  make_data({Model::competitive, {12, 50, 25}}, s, i, v);
+  make_data({builtin("competitive"), {12, 50, 25}}, s, i, v);
   std::string text = "substrate,inhibitor_uM,v0\n";
   for (std::size_t k = 0; k < s.size(); ++k)
     text += vzero::format_number(s[k]) + "," + vzero::format_number(i[k]) + "," + vzero::format_number(v[k]) + "\n";
   vzero::FitTableOptions o;
   o.x_column = "substrate";
   o.inhibitor_column = "inhibitor_uM";
-  o.models = {Model::competitive, Model::michaelis_menten};
+  o.models = {&builtin("competitive"), &builtin("mm")};
   const auto t = vzero::fit_table(vzero::parse_table("inh.csv", text), o);
   REQUIRE(t.fits.size() == 2);
   REQUIRE(t.fits[0].result.ok);

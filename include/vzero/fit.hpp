@@ -2,7 +2,8 @@
 // (weighted) nonlinear least squares, with standard errors, Wald-t and profile-t intervals,
 // AIC, and the linearised coordinates kept as diagnostics only.
 //
-// Models (v: rate, S: substrate, I: inhibitor; every parameter is > 0):
+// Models: any registered KineticModel (include/vzero/kinetic_model.hpp); the built-in ones
+// (v: rate, S: substrate, I: inhibitor; every parameter is > 0):
 //   michaelis_menten      v = Vmax·S / (Km + S)
 //   substrate_inhibition  v = Vmax·S / (Km + S·(1 + S/Ki))
 //   hill                  v = Vmax·S^n / (K_half^n + S^n)
@@ -21,7 +22,7 @@
 //
 // **Example**:
 //   std::vector<double> s = {0.02, 0.06, 0.11, 0.22, 0.56, 1.10}, v = {...};
-//   vzero::FitResult r = vzero::fit_model(s, v, {}, vzero::Model::michaelis_menten);
+//   vzero::FitResult r = vzero::fit_model(s, v, {}, vzero::kinetic_model("mm"));
 //   if (r.ok) use(r.parameters[0].estimate, r.parameters[0].se);  // Vmax
 //   else      show(r.message);                                      // why there is no number
 #pragma once
@@ -34,26 +35,10 @@
 #include <string_view>
 #include <vector>
 
+#include "vzero/kinetic_model.hpp"
 #include "vzero/table.hpp"
 
 namespace vzero {
-
-enum class Model { michaelis_menten, substrate_inhibition, hill, competitive, uncompetitive, mixed };
-
-// "mm", "substrate-inhibition", "hill", "competitive", "uncompetitive", "mixed".
-std::string_view to_string(Model m);
-bool parse_model(std::string_view text, Model& out);
-// True for the three models that need inhibitor concentrations.
-bool needs_inhibitor(Model m);
-// Parameter names in order, e.g. {"Vmax", "Km"}; Vmax is always first.
-std::vector<std::string> parameter_names(Model m);
-// The rate law as text, e.g. "v = Vmax*S/(Km + S)".
-std::string_view formula(Model m);
-
-// Model rate at (s, inhibitor) for natural-scale `params` (parameter_names order). When
-// `gradient` is not empty (same size as params) it receives ∂v/∂params (analytic).
-double model_rate(Model m, std::span<const double> params, double s, double inhibitor = 0.0,
-                  std::span<double> gradient = {});
 
 enum class Weighting {
   none,          // every point weight 1
@@ -84,7 +69,7 @@ struct ParameterEstimate {
 };
 
 struct FitResult {
-  Model model = Model::michaelis_menten;
+  const KineticModel* model = nullptr;  // the model fitted (registered models never move)
   bool ok = false;                    // false: `message` says why and no numbers are given
   std::string message;                // e.g. "too few points: 2 rows for 2 parameters ..."
   std::vector<std::string> warnings;  // remarks on an ok fit (open profile, extrapolated Km)
@@ -109,7 +94,7 @@ struct FitResult {
   const ParameterEstimate* find(std::string_view name) const;
 };
 
-// Fits a single-substrate model (michaelis_menten, substrate_inhibition, hill). `weights`
+// Fits a single-substrate model (one that needs no inhibitor: mm, substrate-inhibition, hill). `weights`
 // empty = all 1. Values must be finite, s ≥ 0, weights > 0; UsageError otherwise (and for
 // an inhibition model). A fit the data cannot support returns ok = false with a message.
 // Points at s = 0 (no-substrate controls) are valid data: every model gives v(0) = 0 for
@@ -117,10 +102,10 @@ struct FitResult {
 // the estimates as they are; the starting values and the count of distinct concentrations
 // use s > 0 only. (fit_table leaves them out under relative weighting, 1/v².)
 FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, const std::vector<double>& weights,
-                    Model model, const FitOptions& options = {});
+                    const KineticModel& model, const FitOptions& options = {});
 // Fits any model globally over substrate and inhibitor (inhibitor ≥ 0).
 FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>& inhibitor,
-                         const std::vector<double>& v, const std::vector<double>& weights, Model model,
+                         const std::vector<double>& v, const std::vector<double>& weights, const KineticModel& model,
                          const FitOptions& options = {});
 
 // kcat = Vmax/[E] and kcat/Km = Vmax/([E]·Km) (Km: the second parameter: Km or K_half),
@@ -162,7 +147,7 @@ struct FitTableOptions {
   std::string x_column;                    // substrate concentration (required)
   std::string y_column;                    // rate; empty = "v0", else "v0_mean" if present
   std::vector<std::string> group_columns;  // fit each combination of values separately
-  std::vector<Model> models = {Model::michaelis_menten};
+  std::vector<const KineticModel*> models = {&kinetic_model("mm")};  // registered models
   std::string inhibitor_column;            // required by the inhibition models
   std::string enzyme_column;               // when set: kcat and kcat/Km per fit
   Weighting weighting = Weighting::none;
@@ -181,13 +166,14 @@ struct FitTableOptions {
 // One group × model.
 struct GroupFit {
   std::vector<std::string> group_values;  // parallel to TableFit::group_columns
-  Model model = Model::michaelis_menten;
+  const KineticModel* model = nullptr;
   FitResult result;                       // ok = false when the group cannot be fitted
   std::vector<ParameterEstimate> derived; // kcat, kcat/Km (enzyme_column set, fit ok)
   std::vector<double> s, inhibitor, v, weights;  // the points used (inhibitor empty if unused)
   std::vector<int> lines;                 // source line of each point
   double enzyme_conc = NAN;
-  std::vector<std::string> units;         // per parameter, then per derived; "" = not given
+  std::vector<std::string> units;         // per parameter (by its unit role: v's, x's, the
+                                          // inhibitor's, "1"), then per derived; "" = not given
 };
 
 struct TableFit {

@@ -25,9 +25,9 @@
 //   - the replicate summary table (wells link to their panels);
 //   - per fit in fit.json: the parameter table, v against S with the fitted curve and its
 //     pointwise 95 % confidence band (delta method: var v̂(S) = gᵀ C g, g = ∂v/∂θ from
-//     model_rate, C the covariance in fit.json, half-width t(df)·√var), the residuals
-//     against S, and the double-reciprocal plot as a diagnostic with the lines implied by
-//     the nonlinear estimate.
+//     the registered model's rate, C the covariance in fit.json, half-width t(df)·√var),
+//     the residuals against S, and the double-reciprocal plot as a diagnostic with the
+//     lines implied by the nonlinear estimate.
 //
 // Structure the tests rely on: every well panel is `<g class="well" id="P-WELL"
 // data-well="A1" data-t0-s data-t1-s data-x0 data-x1>` (the panel's time axis: t0..t1

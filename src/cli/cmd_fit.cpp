@@ -19,8 +19,9 @@ namespace vzero::cli {
 
 namespace {
 
+// The usage text; {models} and {model_lines} come from the kinetic-model registry.
 constexpr const char* k_usage = R"(usage: vzero fit TABLE.csv --x COLUMN [--y COLUMN] [--group COL,...]
-                 [--model mm|substrate-inhibition|hill|competitive|uncompetitive|mixed|all]
+                 [--model {models}|all]
                  [--inhibitor COLUMN] [--enzyme COLUMN] [--weight none|replicate-sd|relative]
                  [--include-flagged] [--role ROLE] [-o fit.csv] [--json fit.json]
                  [--diagnostics FILE]
@@ -38,13 +39,8 @@ skipped and counted, as 1/v^2 has no weight for a rate near 0. Each combination 
 --group columns is fitted separately.
 
 Models (v rate, S substrate, I inhibitor; all parameters > 0):
-  mm                    v = Vmax*S/(Km + S)
-  substrate-inhibition  v = Vmax*S/(Km + S*(1 + S/Ki))
-  hill                  v = Vmax*S^n/(K_half^n + S^n)
-  competitive           v = Vmax*S/(Km*(1 + I/Kic) + S)             (needs --inhibitor)
-  uncompetitive         v = Vmax*S/(Km + S*(1 + I/Kiu))             (needs --inhibitor)
-  mixed                 v = Vmax*S/(Km*(1 + I/Kic) + S*(1 + I/Kiu)) (needs --inhibitor)
-  all                   the first three, and the inhibition models when --inhibitor is given
+{model_lines}  all                   the models without an inhibitor, and the inhibition models when
+                        --inhibitor is given
 --model takes one name or several separated by commas.
 
 Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % Wald-t and
@@ -86,30 +82,45 @@ std::vector<std::string> split_list(const std::vector<std::string>& values) {
   return out;
 }
 
-std::vector<Model> parse_models(const std::vector<std::string>& names, bool have_inhibitor) {
-  std::vector<Model> out;
-  auto add = [&](Model m) {
-    for (Model e : out)
+// The usage text with the registered models: their names, and one line each with the formula.
+std::string usage() {
+  std::string names, lines;
+  for (const KineticModel* m : kinetic_models()) {
+    names += (names.empty() ? "" : "|") + m->name;
+    lines += m->needs_inhibitor() ? fmt::format("  {:<22}{:<44}(needs --inhibitor)\n", m->name, m->formula)
+                                  : fmt::format("  {:<22}{}\n", m->name, m->formula);
+  }
+  return fmt::format(fmt::runtime(k_usage), fmt::arg("models", names), fmt::arg("model_lines", lines));
+}
+
+std::vector<const KineticModel*> parse_models(const std::vector<std::string>& names, bool have_inhibitor) {
+  std::vector<const KineticModel*> out;
+  auto add = [&](const KineticModel* m) {
+    for (const KineticModel* e : out)
       if (e == m) return;
     out.push_back(m);
   };
+  const std::vector<const KineticModel*> known = kinetic_models();
   for (const auto& name : split_list(names)) {
     if (name == "all") {
-      for (Model m : {Model::michaelis_menten, Model::substrate_inhibition, Model::hill}) add(m);
+      for (const KineticModel* m : known)
+        if (!m->needs_inhibitor()) add(m);
       if (have_inhibitor)
-        for (Model m : {Model::competitive, Model::uncompetitive, Model::mixed}) add(m);
+        for (const KineticModel* m : known)
+          if (m->needs_inhibitor()) add(m);
       continue;
     }
-    Model m;
-    if (!parse_model(name, m))
-      throw UsageError(fmt::format("--model {}: unknown model; choose mm, substrate-inhibition, hill, competitive, "
-                                   "uncompetitive, mixed or all",
-                                   name));
-    if (needs_inhibitor(m) && !have_inhibitor)
+    const KineticModel* m = find_model(name);
+    if (!m) {
+      std::string choices;
+      for (const KineticModel* k : known) choices += (choices.empty() ? "" : ", ") + k->name;
+      throw UsageError(fmt::format("--model {}: unknown model; choose {} or all", name, choices));
+    }
+    if (m->needs_inhibitor() && !have_inhibitor)
       throw UsageError(fmt::format("--model {} needs --inhibitor COLUMN (the inhibitor concentration)", name));
     add(m);
   }
-  if (out.empty()) out.push_back(Model::michaelis_menten);
+  if (out.empty()) out.push_back(&kinetic_model("mm"));
   return out;
 }
 
@@ -151,7 +162,7 @@ int cmd_fit(const Args& args) {
   std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag;
   std::vector<std::string> groups, models{"mm"}, start;
   FitOptions fit;
-  po::options_description opts(k_usage);
+  po::options_description opts(usage());
   opts.add_options()
       ("x", po::value(&x), "substrate concentration column (required)")
       ("y", po::value(&y), "rate column (default: v0, or v0_mean in a summary table)")
@@ -210,10 +221,10 @@ int cmd_fit(const Args& args) {
   }
   if (!fit.start.empty()) {
     if (o.models.size() != 1) throw UsageError("--start needs exactly one --model");
-    const auto names = parameter_names(o.models.front());
+    const auto names = o.models.front()->parameter_names();
     if (fit.start.size() != names.size())
       throw UsageError(fmt::format("--start has {} values; the {} model has {} parameters in this order: {}",
-                                   fit.start.size(), to_string(o.models.front()), names.size(),
+                                   fit.start.size(), o.models.front()->name, names.size(),
                                    fmt::format("{}", fmt::join(names, ", "))));
   }
   o.fit = fit;
@@ -261,7 +272,7 @@ int cmd_fit(const Args& args) {
     else if (!first_failure) first_failure = &g;
   }
   if (ok == 0 && first_failure) {
-    throw InputError(Where{file}, fmt::format("no fit succeeded; the first ({}): {}", to_string(first_failure->model),
+    throw InputError(Where{file}, fmt::format("no fit succeeded; the first ({}): {}", first_failure->model->name,
                                               first_failure->result.message),
                      {"see the message of each group in the output"});
   }

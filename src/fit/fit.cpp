@@ -65,14 +65,9 @@ detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s,
   return pts;
 }
 
-// Distinct substrate concentrations a model needs: one per parameter that S alone carries.
-std::size_t substrate_levels_needed(Model m) {
-  return m == Model::substrate_inhibition || m == Model::hill ? 3 : 2;
-}
-
 // Why these points cannot give the model's parameters, or "" when they can.
-std::string pre_check(Model m, const detail::FitPoints& pts) {
-  const auto names = parameter_names(m);
+std::string pre_check(const KineticModel& m, const detail::FitPoints& pts) {
+  const auto names = m.parameter_names();
   const std::size_t p = names.size(), n = pts.size();
   if (n == 0) return "no points to fit";
   if (n < p + 1)
@@ -80,20 +75,20 @@ std::string pre_check(Model m, const detail::FitPoints& pts) {
   std::set<double> s_all(pts.s.begin(), pts.s.end()), s_pos;
   for (double s : pts.s)
     if (s > 0) s_pos.insert(s);
-  const std::size_t need = substrate_levels_needed(m);
+  const std::size_t need = m.substrate_levels_needed();
   if (s_all.size() == 1)
     return fmt::format("all {} points have the same substrate concentration ({}); a saturation curve needs at least {} "
                        "different concentrations",
                        n, num(*s_all.begin()), need);
   if (s_pos.size() < need)
     return fmt::format("only {} different positive substrate concentrations for the {} model; at least {} are needed",
-                       s_pos.size(), to_string(m), need);
-  if (needs_inhibitor(m)) {
+                       s_pos.size(), m.name, need);
+  if (m.needs_inhibitor()) {
     std::set<double> i_all(pts.i.begin(), pts.i.end());
     if (i_all.size() == 1)
       return fmt::format("all {} points have the same inhibitor concentration ({}); the {} model needs at least 2 "
                          "inhibitor levels",
-                         n, num(*i_all.begin()), to_string(m));
+                         n, num(*i_all.begin()), m.name);
     std::set<std::pair<double, double>> cells;
     for (std::size_t k = 0; k < n; ++k)
       if (pts.s[k] > 0) cells.insert({pts.s[k], pts.i[k]});
@@ -111,10 +106,9 @@ std::string pre_check(Model m, const detail::FitPoints& pts) {
 }
 
 // What a parameter stuck at its search bound means, in the data's terms.
-std::string bound_message(Model m, std::size_t j, int side, const detail::FitPoints& pts,
+std::string bound_message(const KineticModel& m, std::size_t j, int side, const detail::FitPoints& pts,
                           const std::vector<double>& p) {
-  const auto names = parameter_names(m);
-  const std::string& name = names[j];
+  const std::string& name = m.parameters[j].name;
   const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
   if (j == 1 && side > 0)
     return fmt::format("no curvature: the rates rise in proportion to substrate up to the highest concentration ({}), "
@@ -129,31 +123,21 @@ std::string bound_message(Model m, std::size_t j, int side, const detail::FitPoi
                        "concentration ({}); measure at lower concentrations",
                        name, num(s_min));
   }
-  if (side > 0) {
-    if (m == Model::substrate_inhibition)
-      return "no substrate inhibition: Ki runs off to infinity (the rates do not fall at high substrate); fit the mm "
-             "model instead";
-    if (m == Model::competitive)
-      return "no competitive inhibition: Kic runs off to infinity (the inhibitor does not raise the apparent Km)";
-    if (m == Model::uncompetitive)
-      return "no uncompetitive inhibition: Kiu runs off to infinity (the inhibitor does not lower the apparent Vmax)";
-    if (m == Model::mixed && name == "Kic")
-      return "Kic runs off to infinity: the inhibition has no competitive part; fit the uncompetitive model instead";
-    if (m == Model::mixed && name == "Kiu")
-      return "Kiu runs off to infinity: the inhibition has no uncompetitive part; fit the competitive model instead";
-  }
+  if (side > 0 && !m.parameters[j].runaway.empty()) return m.parameters[j].runaway;
   return fmt::format("{} runs to its {} search bound ({}); the data do not determine it", name,
                      side < 0 ? "lower" : "upper", num(p[j]));
 }
 
-void add_warnings(FitResult& r, const detail::FitPoints& pts, bool profiled) {
+void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& pts, bool profiled) {
   const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
   const double i_max = *std::max_element(pts.i.begin(), pts.i.end());
   for (std::size_t j = 1; j < r.parameters.size(); ++j) {
     const auto& e = r.parameters[j];
-    const bool inhibitor_constant = e.name == "Kic" || e.name == "Kiu";
+    const UnitRole role = m.parameters[j].unit_role;
+    if (role != UnitRole::substrate && role != UnitRole::inhibitor) continue;  // no concentration to compare
+    const bool inhibitor_constant = role == UnitRole::inhibitor;
     const double top = inhibitor_constant ? i_max : s_max;
-    if (e.name != "n" && e.estimate > 10 * top)
+    if (e.estimate > 10 * top)
       r.warnings.push_back(fmt::format("{} ({}) is above 10 times the highest {} concentration ({}): an extrapolation",
                                        e.name, num(e.estimate), inhibitor_constant ? "inhibitor" : "substrate",
                                        num(top)));
@@ -167,15 +151,15 @@ void add_warnings(FitResult& r, const detail::FitPoints& pts, bool profiled) {
   }
 }
 
-FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& options) {
+FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const FitOptions& options) {
   if (auto why = options.validate(); !why.empty()) throw UsageError("FitOptions: " + why);
-  const auto names = parameter_names(m);
+  const auto names = m.parameter_names();
   const std::size_t np = names.size();
   if (!options.start.empty() && options.start.size() != np)
     throw UsageError(fmt::format("FitOptions: start has {} values; the {} model has {} parameters ({})",
-                                 options.start.size(), to_string(m), np, join(names)));
+                                 options.start.size(), m.name, np, join(names)));
   FitResult r;
-  r.model = m;
+  r.model = &m;
   r.n = static_cast<int>(pts.size());
   r.df = r.n - static_cast<int>(np);
   if (r.message = pre_check(m, pts); !r.message.empty()) return r;
@@ -205,9 +189,10 @@ FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& op
   r.relative_offset = best.relative_offset;
   // A parameter at its bound explains the fit better than "not converged" does (the run
   // often stalls there). Km (index 1) first: when the rates never level off, Km and Vmax
-  // run off together.
-  for (std::size_t j : {std::size_t{1}, std::size_t{0}, std::size_t{2}, std::size_t{3}}) {
-    if (j < np && best.at_bound[j] != 0) {
+  // run off together; then Vmax, then the others in order.
+  for (std::size_t k = 0; k < np; ++k) {
+    const std::size_t j = k < 2 ? 1 - k : k;
+    if (best.at_bound[j] != 0) {
       r.message = bound_message(m, j, best.at_bound[j], pts, best.p);
       r.converged = false;  // the run ended on the box, not at an optimum inside it
       return r;
@@ -262,7 +247,7 @@ FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& op
     }
     r.parameters.push_back(e);
   }
-  add_warnings(r, pts, options.profile && !exact);
+  add_warnings(r, m, pts, options.profile && !exact);
   if (exact) r.warnings.push_back("the model passes through every point: residual SD 0, no interval width");
   return r;
 }
@@ -270,15 +255,15 @@ FitResult fit_points(Model m, const detail::FitPoints& pts, const FitOptions& op
 }  // namespace
 
 FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, const std::vector<double>& weights,
-                    Model model, const FitOptions& options) {
-  if (needs_inhibitor(model))
+                    const KineticModel& model, const FitOptions& options) {
+  if (model.needs_inhibitor())
     throw UsageError(fmt::format("fit_model: the {} model needs inhibitor concentrations; call fit_inhibition",
-                                 to_string(model)));
+                                 model.name));
   return fit_points(model, make_points("fit_model", s, nullptr, v, weights), options);
 }
 
 FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>& inhibitor,
-                         const std::vector<double>& v, const std::vector<double>& weights, Model model,
+                         const std::vector<double>& v, const std::vector<double>& weights, const KineticModel& model,
                          const FitOptions& options) {
   return fit_points(model, make_points("fit_inhibition", s, &inhibitor, v, weights), options);
 }
@@ -307,11 +292,12 @@ std::vector<ParameterEstimate> turnover(const FitResult& fit, double enzyme_conc
 std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::vector<double>& inhibitor,
                                        const std::vector<double>& v, const std::vector<double>& weights,
                                        const FitResult& fit, int curve_points) {
-  if (!fit.ok) throw UsageError("diagnostics: the fit has no estimate (" + fit.message + ")");
+  if (!fit.ok || !fit.model) throw UsageError("diagnostics: the fit has no estimate (" + fit.message + ")");
+  const KineticModel& model = *fit.model;
   const detail::FitPoints pts = make_points("diagnostics", s, inhibitor.empty() ? nullptr : &inhibitor, v, weights);
   std::vector<double> p;
   for (const auto& e : fit.parameters) p.push_back(e.estimate);
-  const bool has_i = needs_inhibitor(fit.model) && !inhibitor.empty();
+  const bool has_i = model.needs_inhibitor() && !inhibitor.empty();
   auto finite_or_nan = [](double x) { return std::isfinite(x) ? x : NAN; };
   auto fill = [&](DiagnosticRow& d) {
     d.inv_s = finite_or_nan(1 / d.s);
@@ -325,7 +311,7 @@ std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::
     d.s = pts.s[k];
     d.inhibitor = has_i ? pts.i[k] : NAN;
     d.v = pts.v[k];
-    d.fitted = model_rate(fit.model, p, pts.s[k], pts.i[k]);
+    d.fitted = model.rate(p, pts.s[k], pts.i[k], {});
     d.residual = d.v - d.fitted;
     d.weight = pts.w[k];
     fill(d);
@@ -344,7 +330,7 @@ std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::
       d.curve = true;
       d.s = s_lo * std::pow(s_hi / s_lo, static_cast<double>(k) / (count - 1));
       d.inhibitor = level;
-      d.fitted = d.v = model_rate(fit.model, p, d.s, has_i ? level : 0.0);
+      d.fitted = d.v = model.rate(p, d.s, has_i ? level : 0.0, {});
       fill(d);
       out.push_back(d);
     }

@@ -30,7 +30,7 @@ double relative_offset(const Eigen::MatrixXd& j, const Eigen::VectorXd& r) {
 }
 }  // namespace
 
-LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
+LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
                              const std::vector<bool>& fixed, const LmSettings& settings) {
   const std::size_t np = start.size();
   const auto n = static_cast<Eigen::Index>(pts.size());
@@ -56,7 +56,7 @@ LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds
     Eigen::VectorXd r(n);
     for (Eigen::Index k = 0; k < n; ++k) {
       const auto kk = static_cast<std::size_t>(k);
-      r(k) = pts.sqrt_w[kk] * (pts.v[kk] - model_rate(m, p, pts.s[kk], pts.i[kk]));
+      r(k) = pts.sqrt_w[kk] * (pts.v[kk] - m.rate(p, pts.s[kk], pts.i[kk], {}));
     }
     const Eigen::VectorXd g = jac.transpose() * r;  // descent direction of RSS in θ
     std::vector<Eigen::Index> free;
@@ -138,7 +138,7 @@ LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds
   return out;
 }
 
-ProfileLimits profile_limits(Model m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
+ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
                              double se_j, double residual_sd, double cutoff, const LmSettings& settings) {
   ProfileLimits out;
   std::vector<bool> fixed(best.p.size(), false);

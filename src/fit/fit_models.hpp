@@ -6,6 +6,7 @@
 #include <vector>
 
 #include "vzero/fit.hpp"
+#include "vzero/kinetic_model.hpp"
 
 namespace vzero::detail {
 
@@ -15,22 +16,21 @@ struct FitPoints {
   std::size_t size() const { return v.size(); }
 };
 
-// Natural-scale search box per parameter, scaled to the data (see fit_models.cpp).
-struct Bounds {
-  std::vector<double> lo, hi;
-};
-Bounds parameter_bounds(Model m, const FitPoints& pts);
+using Bounds = ParameterBox;
+// The data ranges of these points, and the model's search box over them.
+DataScale data_scale(const FitPoints& pts);
+Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts);
 
 struct Start {
   std::string method;     // "Hanes-Woolf", "Hill plot", "grid", "given"
   std::vector<double> p;  // natural scale
 };
-// Candidate starts: the linearisation (when it gives positive values), then the best point
-// of a coarse grid over the nonlinear parameters with Vmax solved by linear least squares.
-std::vector<Start> automatic_starts(Model m, const FitPoints& pts);
+// Candidate starts: the model's linearisation (when it gives positive values), then the best
+// point of a coarse grid over the nonlinear parameters with Vmax solved by linear least squares.
+std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts);
 
 // Σ wᵢ (vᵢ − f)², and the per-point model rates when `fitted` is given.
-double weighted_rss(Model m, const FitPoints& pts, const std::vector<double>& p, std::vector<double>* fitted = nullptr);
+double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p, std::vector<double>* fitted = nullptr);
 
 struct LmResult {
   std::vector<double> p;  // natural scale
@@ -49,11 +49,11 @@ struct LmSettings {
 // Levenberg–Marquardt on θ = ln p inside [ln lo, ln hi] (steps are projected onto the box).
 // Parameters with fixed[j] stay at start[j]. Converged when the relative offset of the free
 // parameters falls below tolerance, the residuals vanish, or the step no longer moves θ.
-LmResult levenberg_marquardt(Model m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
+LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
                              const std::vector<bool>& fixed, const LmSettings& settings);
 
 // Weighted Jacobian √wᵢ·∂f/∂p on the natural scale (n × p).
-Eigen::MatrixXd natural_jacobian(Model m, const FitPoints& pts, const std::vector<double>& p);
+Eigen::MatrixXd natural_jacobian(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p);
 
 // Profile-t limits for parameter j (as MASS's profile/confint for nls): the values c where
 // τ(c) = sign(c − p̂ⱼ)·√(RSSⱼ(c) − RSS)/s equals ∓cutoff, RSSⱼ(c) the RSS minimised over the
@@ -62,7 +62,7 @@ Eigen::MatrixXd natural_jacobian(Model m, const FitPoints& pts, const std::vecto
 struct ProfileLimits {
   double low = NAN, high = NAN;
 };
-ProfileLimits profile_limits(Model m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
+ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
                              double se_j, double residual_sd, double cutoff, const LmSettings& settings);
 
 }  // namespace vzero::detail

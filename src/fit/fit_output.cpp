@@ -76,7 +76,7 @@ std::string fit_csv(const TableFit& t) {
     const FitResult& r = g.result;
     auto row = [&](const ParameterEstimate* e, const std::string& unit) {
       std::vector<std::string> cells = g.group_values;
-      cells.emplace_back(to_string(g.model));
+      cells.push_back(g.model->name);
       cells.push_back(e ? e->name : "");
       for (double x : {e ? e->estimate : NAN, e ? e->se : NAN, e ? e->ci_low : NAN, e ? e->ci_high : NAN,
                        e ? e->profile_low : NAN, e ? e->profile_high : NAN})
@@ -125,7 +125,7 @@ std::string fit_json(const TableFit& t, const FitTableOptions& o) {
   j["aic_formula"] = k_aic_formula;
   j["covariance_formula"] = "s^2 (J'WJ)^-1 at the optimum, natural parameter scale, s^2 = RSS/df";
   nlohmann::json models = nlohmann::json::array();
-  for (Model m : o.models) models.push_back(std::string(to_string(m)));
+  for (const KineticModel* m : o.models) models.push_back(m->name);
   j["options"] = {{"models", models},
                   {"include_flagged", o.include_flagged},
                   {"role", o.role},
@@ -141,9 +141,9 @@ std::string fit_json(const TableFit& t, const FitTableOptions& o) {
     nlohmann::json group = nlohmann::json::object();
     for (std::size_t k = 0; k < t.group_columns.size(); ++k) group[t.group_columns[k]] = g.group_values[k];
     f["group"] = group;
-    f["model"] = std::string(to_string(g.model));
-    f["formula"] = std::string(formula(g.model));
-    f["parameter_names"] = parameter_names(g.model);
+    f["model"] = g.model->name;
+    f["formula"] = g.model->formula;
+    f["parameter_names"] = g.model->parameter_names();
     f["ok"] = r.ok;
     f["message"] = r.message;
     f["warnings"] = r.warnings;
@@ -184,7 +184,7 @@ std::string fit_diagnostics_csv(const TableFit& t) {
     if (!g.result.ok) continue;
     for (const DiagnosticRow& d : diagnostics(g.s, g.inhibitor, g.v, g.weights, g.result)) {
       std::vector<std::string> cells = g.group_values;
-      cells.emplace_back(to_string(g.model));
+      cells.push_back(g.model->name);
       cells.emplace_back(d.curve ? "curve" : "point");
       for (double x : {d.s, d.inhibitor, d.v, d.fitted, d.residual, d.weight, d.inv_s, d.inv_v, d.s_over_v, d.v_over_s})
         cells.push_back(format_number(x));
@@ -201,7 +201,7 @@ std::string fit_text(const TableFit& t) {
   for (const auto& note : t.notes) out += "  note: " + note + "\n";
   for (const GroupFit& g : t.fits) {
     const FitResult& r = g.result;
-    out += fmt::format("\n{} | {}: {}\n", group_label(t, g), to_string(g.model), formula(g.model));
+    out += fmt::format("\n{} | {}: {}\n", group_label(t, g), g.model->name, g.model->formula);
     if (!r.ok) {
       out += fmt::format("  no fit ({} points): {}\n", r.n, r.message);
       continue;

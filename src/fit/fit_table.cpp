@@ -14,9 +14,11 @@ namespace vzero {
 std::string FitTableOptions::validate() const {
   if (x_column.empty()) return "x_column is empty; name the substrate concentration column";
   if (models.empty()) return "models is empty; give at least one model";
-  for (Model m : models)
-    if (needs_inhibitor(m) && inhibitor_column.empty())
-      return fmt::format("model {} needs inhibitor_column, which is empty", to_string(m));
+  for (const KineticModel* m : models) {
+    if (!m) return "models holds a null model; take models from kinetic_models() or find_model()";
+    if (m->needs_inhibitor() && inhibitor_column.empty())
+      return fmt::format("model {} needs inhibitor_column, which is empty", m->name);
+  }
   return fit.validate();
 }
 
@@ -66,6 +68,17 @@ std::string column_unit(const Table& t, const std::string& name, const std::vect
 std::string stem_of(const std::string& y) { return ends_with(y, "_mean") ? y.substr(0, y.size() - 5) : y; }
 
 std::string per(const std::string& a, const std::string& b) { return a.empty() || b.empty() ? "" : a + " per " + b; }
+
+// A parameter's unit from its unit role and the units the table gives.
+std::string unit_for(UnitRole role, const TableFit& t) {
+  switch (role) {
+    case UnitRole::rate: return t.v_unit;
+    case UnitRole::substrate: return t.x_unit;
+    case UnitRole::inhibitor: return t.inhibitor_unit;
+    case UnitRole::none: return "1";
+  }
+  return {};
+}
 
 struct Row {
   double s = NAN, i = 0, v = NAN, sd = NAN, e = NAN;
@@ -128,7 +141,7 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   if (y_name.empty()) y_name = table.column("v0") < 0 && table.column("v0_mean") >= 0 ? "v0_mean" : "v0";
   const int y_col = table.require_column(y_name, "name the rate column as y");
   bool any_inhibition = false;
-  for (Model m : options.models) any_inhibition = any_inhibition || needs_inhibitor(m);
+  for (const KineticModel* m : options.models) any_inhibition = any_inhibition || m->needs_inhibitor();
   const int i_col = options.inhibitor_column.empty()
                         ? -1
                         : table.require_column(options.inhibitor_column, "name the inhibitor concentration column");
@@ -258,33 +271,29 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
       else
         enzyme_problem = fmt::format("{} is empty or not > 0 in this group; kcat not computed", out.enzyme_column);
     }
-    for (Model m : options.models) {
+    for (const KineticModel* model : options.models) {
+      const KineticModel& m = *model;
       GroupFit gf;
       gf.group_values = keys[g];
-      gf.model = m;
+      gf.model = &m;
       gf.enzyme_conc = enzyme;
       for (const Row& row : points[g]) {
         gf.s.push_back(row.s);
         gf.v.push_back(row.v);
         gf.lines.push_back(row.line);
-        if (needs_inhibitor(m)) gf.inhibitor.push_back(row.i);
+        if (m.needs_inhibitor()) gf.inhibitor.push_back(row.i);
       }
       gf.weights = w;
       if (!weight_problem.empty()) {
-        gf.result.model = m;
+        gf.result.model = &m;
         gf.result.n = static_cast<int>(gf.v.size());
         gf.result.message = weight_problem;
-      } else if (needs_inhibitor(m)) {
+      } else if (m.needs_inhibitor()) {
         gf.result = fit_inhibition(gf.s, gf.inhibitor, gf.v, gf.weights, m, options.fit);
       } else {
         gf.result = fit_model(gf.s, gf.v, gf.weights, m, options.fit);
       }
-      for (const auto& name : parameter_names(m)) {
-        if (name == "Vmax") gf.units.push_back(out.v_unit);
-        else if (name == "n") gf.units.push_back("1");
-        else if (name == "Kic" || name == "Kiu") gf.units.push_back(out.inhibitor_unit);
-        else gf.units.push_back(out.x_unit);
-      }
+      for (const auto& p : m.parameters) gf.units.push_back(unit_for(p.unit_role, out));
       if (gf.result.ok && e_col >= 0) {
         if (enzyme_problem.empty()) {
           gf.derived = turnover(gf.result, enzyme);

@@ -110,16 +110,16 @@ std::vector<Obs> points_of(const json& fitdoc, const json& f, const ReportInput&
 }
 
 struct FitCurve {
-  vzero::Model model = vzero::Model::michaelis_menten;
+  const vzero::KineticModel* model = nullptr;
   std::vector<double> params;
   Eigen::MatrixXd cov;
   double t = NAN;
-  double rate(double s, double i) const { return model_rate(model, params, s, i); }
+  double rate(double s, double i) const { return model->rate(params, s, i, {}); }
   // Half-width of the pointwise band: t·√(gᵀ C g).
   double half_width(double s, double i) const {
     if (cov.rows() != static_cast<Eigen::Index>(params.size()) || !std::isfinite(t)) return NAN;
     std::vector<double> g(params.size());
-    model_rate(model, params, s, i, g);
+    model->rate(params, s, i, g);
     Eigen::Map<const Eigen::VectorXd> gv(g.data(), static_cast<Eigen::Index>(g.size()));
     double var = gv.dot(cov * gv);
     return var >= 0 ? t * std::sqrt(var) : NAN;
@@ -141,15 +141,18 @@ void legend(svg::Document& d, const std::vector<double>& levels, const svg::Box&
 }
 
 // The unit of a parameter: as fit.json gives it, else the substrate's for the constants
-// that share it (Km, K_half, Ki of substrate inhibition).
-std::string unit_of(const json& p, const std::string& x_unit) {
+// whose unit role is the substrate's (Km, K_half, Ki of substrate inhibition).
+std::string unit_of(const json& p, const vzero::KineticModel* model, const std::string& x_unit) {
   std::string u = display_unit(str_of(p, "unit"));
   const std::string name = str_of(p, "name");
-  if (u.empty() && (name == "Km" || name == "K_half" || name == "Ki")) u = x_unit;
+  if (u.empty() && model)
+    for (const auto& q : model->parameters)
+      if (q.name == name && q.unit_role == vzero::UnitRole::substrate) u = x_unit;
   return u;
 }
 
 std::string parameter_table(const json& f, const std::string& x_unit) {
+  const vzero::KineticModel* model = vzero::find_model(str_of(f, "model"));
   std::string h = "<table class=\"params\"><thead><tr><th>parameter</th><th class=\"num\">estimate</th><th "
                   "class=\"num\">SE</th><th class=\"num\">95 % interval (Wald t)</th><th class=\"num\">95 % interval "
                   "(profile t)</th><th>unit</th></tr></thead><tbody>";
@@ -164,7 +167,7 @@ std::string parameter_table(const json& f, const std::string& x_unit) {
       h += fmt::format("<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
                        "<td class=\"num\">{}</td><td>{}</td></tr>",
                        escape(str_of(p, "name")), human(num_of(p, "estimate")), human(num_of(p, "se"), 3),
-                       pair("wald"), pair("profile"), escape(unit_of(p, x_unit)));
+                       pair("wald"), pair("profile"), escape(unit_of(p, model, x_unit)));
     }
   };
   rows(member(f, "parameters"));
@@ -174,9 +177,10 @@ std::string parameter_table(const json& f, const std::string& x_unit) {
 
 std::string fit_figures(const json& doc, const json& f, const ReportInput& in, const std::string& x_unit) {
   FitCurve fc;
-  if (!parse_model(str_of(f, "model"), fc.model)) return "<p class=\"note\">unknown model " + escape(str_of(f, "model")) + "</p>";
+  fc.model = vzero::find_model(str_of(f, "model"));
+  if (!fc.model) return "<p class=\"note\">unknown model " + escape(str_of(f, "model")) + "</p>";
   for (const auto& p : member(f, "parameters")) fc.params.push_back(num_of(p, "estimate"));
-  if (fc.params.size() != parameter_names(fc.model).size()) return "<p class=\"note\">the fit lists no parameters</p>";
+  if (fc.params.size() != fc.model->parameters.size()) return "<p class=\"note\">the fit lists no parameters</p>";
   const json& cov = member(f, "covariance");
   if (cov.is_array() && cov.size() == fc.params.size()) {
     const auto n = static_cast<Eigen::Index>(fc.params.size());
@@ -190,7 +194,7 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
   }
   fc.t = num_of(f, "t_quantile");
   if (!std::isfinite(fc.t) && num_of(f, "df") > 0) fc.t = student_t_quantile(0.975, num_of(f, "df"));
-  const bool inhibition = needs_inhibitor(fc.model);
+  const bool inhibition = fc.model->needs_inhibitor();
   const std::vector<Obs> pts = points_of(doc, f, in);
   const std::vector<double> levels = levels_of(pts, inhibition);
   const json& units = member(doc, "units");
@@ -270,7 +274,7 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
         w_max = std::max(w_max, 1 / p.v);
       }
     if (u_max <= 0) u_max = 1 / std::max(tx.values.size() > 1 ? tx.values[1] : 1.0, 1e-12);
-    const bool finite_limit = fc.model != vzero::Model::substrate_inhibition;
+    const bool finite_limit = fc.model->saturates;
     std::vector<double> grid;
     const double u0 = finite_limit ? 0 : u_max / 40;
     for (int k = 0; k <= 80; ++k) grid.push_back(u0 + (u_max * 1.04 - u0) * k / 80);
