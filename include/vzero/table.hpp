@@ -37,7 +37,8 @@ struct Table {
 Table read_table(const std::string& path);
 Table parse_table(std::string name, std::string_view text);
 
-// Quotes a CSV field when it holds a delimiter, quote, CR or LF (RFC 4180).
+// Quotes a CSV field when it holds ',' '"' CR or LF (RFC 4180), or ';' or tab (so that no
+// delimiter guess splits it); the rule every CSV vzero writes follows (core/csv_write.hpp).
 std::string csv_field(std::string_view text);
 
 // Shortest text that reads back to the same double ("0.1", "6.551845646783069",
