@@ -31,6 +31,15 @@ struct Table {
   std::optional<double> number(std::size_t row, int col) const;
 };
 
+// One column of an output table, as the Table Schema describes it (datapackage.json).
+// vzero's tables make theirs from their column declarations (src/core/columns.hpp).
+struct FieldSpec {
+  std::string name;
+  std::string type;         // "string", "number", "integer", "boolean"
+  std::string unit;         // "" when none or given per row (see description)
+  std::string description;
+};
+
 // Reads a CSV (delimiter ',' ';' or tab, guessed from the header), skipping blank lines
 // and lines starting with '#'. UTF-8 with or without BOM, LF or CRLF. Throws InputError on
 // a ragged row, an unclosed quote, an empty file or a duplicated header name.
