@@ -16,8 +16,10 @@ namespace {
 
 constexpr FieldType text = FieldType::string, number = FieldType::number, integer = FieldType::integer;
 
-bool numeric_map_column(const std::string& name) { return iequals(name, "substrate") || iequals(name, "standard_conc"); }
-FieldType map_column_type(std::string_view name) { return numeric_map_column(std::string(name)) ? number : text; }
+// The plate-map columns vzero reads as numbers; the others pass through as text.
+FieldType map_column_type(std::string_view name) {
+  return iequals(name, "substrate") || iequals(name, "standard_conc") ? number : text;
+}
 
 // The well name as well_name() gives it, written without a string.
 void write_well(CsvOut& o, WellId w) {
