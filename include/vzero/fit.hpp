@@ -197,11 +197,14 @@ TableFit fit_table(const Table& table, const FitTableOptions& options);
 // profile_low, profile_high, unit, n, df, rss, residual_sd, aic, converged, iterations,
 // weighting, message.
 std::string fit_csv(const TableFit& fit);
+// Its columns as the Table Schema describes them (same order as the header).
+std::vector<FieldSpec> fit_fields(const TableFit& fit);
 // The same and more (covariance, correlation, starts, formulas, options) as JSON.
 std::string fit_json(const TableFit& fit, const FitTableOptions& options);
 // Long table of diagnostics rows for every ok fit: <group columns>, model, kind, s,
 // inhibitor, v, fitted, residual, weight, inv_s, inv_v, s_over_v, v_over_s.
 std::string fit_diagnostics_csv(const TableFit& fit);
+std::vector<FieldSpec> fit_diagnostics_fields(const TableFit& fit);
 // Short human-readable summary.
 std::string fit_text(const TableFit& fit);
 

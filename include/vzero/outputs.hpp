@@ -2,6 +2,8 @@
 // Package with Table Schema field types and units, plus provenance), the per-read traces
 // table and the replicate summary. Text is built in memory and written atomically by the
 // caller (write_file_atomic). RFC 4180, UTF-8, '.' decimals, shortest round-trip numbers.
+// Each table's columns are declared once (src/output_tables.cpp); its header, rows and
+// schema fields below all come from that declaration.
 #pragma once
 
 #include <string>
@@ -10,16 +12,9 @@
 
 #include "vzero/analysis.hpp"
 #include "vzero/summary.hpp"
+#include "vzero/table.hpp"
 
 namespace vzero {
-
-// One column of an output table, as the Table Schema describes it.
-struct FieldSpec {
-  std::string name;
-  std::string type;         // "string", "number", "integer"
-  std::string unit;         // "" when none or given per row (see description)
-  std::string description;
-};
 
 struct InputRecord {
   std::string kind;         // "export", "plate-map", "method", "profile"

@@ -31,13 +31,23 @@ struct Table {
   std::optional<double> number(std::size_t row, int col) const;
 };
 
+// One column of an output table, as the Table Schema describes it (datapackage.json).
+// vzero's tables make theirs from their column declarations (src/core/columns.hpp).
+struct FieldSpec {
+  std::string name;
+  std::string type;         // "string", "number", "integer", "boolean"
+  std::string unit;         // "" when none or given per row (see description)
+  std::string description;
+};
+
 // Reads a CSV (delimiter ',' ';' or tab, guessed from the header), skipping blank lines
 // and lines starting with '#'. UTF-8 with or without BOM, LF or CRLF. Throws InputError on
 // a ragged row, an unclosed quote, an empty file or a duplicated header name.
 Table read_table(const std::string& path);
 Table parse_table(std::string name, std::string_view text);
 
-// Quotes a CSV field when it holds a delimiter, quote, CR or LF (RFC 4180).
+// Quotes a CSV field when it holds ',' '"' CR or LF (RFC 4180), or ';' or tab (so that no
+// delimiter guess splits it); the rule every CSV vzero writes follows (core/csv_write.hpp).
 std::string csv_field(std::string_view text);
 
 // Shortest text that reads back to the same double ("0.1", "6.551845646783069",

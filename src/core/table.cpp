@@ -4,12 +4,12 @@
 #include <unistd.h>
 
 #include <cerrno>
-#include <cmath>
 #include <cstring>
 #include <filesystem>
 #include <fmt/format.h>
 #include <random>
 
+#include "core/csv_write.hpp"
 #include "core/line_source.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
@@ -122,20 +122,15 @@ Table parse_table(std::string name, std::string_view text) {
 }
 
 std::string csv_field(std::string_view text) {
-  if (text.find_first_of(",;\"\r\n\t") == std::string_view::npos) return std::string(text);
-  std::string out = "\"";
-  for (char c : text) {
-    if (c == '"') out += '"';
-    out += c;
-  }
-  out += '"';
-  return out;
+  detail::CsvOut out;
+  out.field(text);
+  return out.str();
 }
 
 std::string format_number(double v) {
-  if (std::isnan(v)) return {};
-  if (v == 0) return "0";  // also for -0
-  return fmt::format("{}", v);
+  detail::CsvOut out;
+  out.number(v);
+  return out.str();
 }
 
 // Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename: they

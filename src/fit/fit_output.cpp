@@ -1,10 +1,11 @@
 // Writers for fit results: tidy CSV, JSON, the diagnostics table and a short text summary.
+// The two tables' columns are declared once each (k_fit_columns, k_diagnostic_columns).
 #include <cmath>
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include "core/columns.hpp"
 #include "vzero/fit.hpp"
-#include "vzero/table.hpp"
 
 namespace vzero {
 
@@ -25,14 +26,103 @@ std::string joined(const std::vector<std::string>& v, const char* sep) {
 // What the message column says: the failure, or the remarks on an ok fit.
 std::string message_of(const FitResult& r) { return r.ok ? joined(r.warnings, "; ") : r.message; }
 
-std::string csv_row(const std::vector<std::string>& cells) {
-  std::string line;
-  for (std::size_t k = 0; k < cells.size(); ++k) {
-    if (k) line += ',';
-    line += csv_field(cells[k]);
-  }
-  return line + "\n";
-}
+// One row of the fit table: a parameter (or derived value) of one group's fit; a failed
+// fit has one row without an estimate.
+struct FitRowRef {
+  const TableFit& table;
+  const GroupFit& group;
+  const ParameterEstimate* estimate;  // nullptr for a failed fit
+  std::string_view unit;
+};
+
+struct DiagnosticRowRef {
+  const TableFit& table;
+  const GroupFit& group;
+  const DiagnosticRow& d;
+};
+
+using detail::CsvOut;
+using detail::FieldType;
+constexpr FieldType text = FieldType::string, number = FieldType::number, integer = FieldType::integer;
+using Fit = const FitRowRef&;
+using Diag = const DiagnosticRowRef&;
+
+const std::vector<std::string>& group_columns(const TableFit& t) { return t.group_columns; }
+double part(const ParameterEstimate* e, double ParameterEstimate::*member) { return e ? e->*member : NAN; }
+
+constexpr detail::ColumnEntry<FitRowRef, TableFit> k_fit_columns[] = {
+    {.name = "", .type = text, .unit = "", .description = "grouping column of the fitted table, passed through",
+     .write = [](CsvOut& o, Fit x, std::size_t i) { o.field(x.group.group_values[i]); },
+     .each = group_columns},
+    {"model", text, "", "rate law fitted (vzero fit --model; one of the registered kinetic models)",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(x.group.model->name); }},
+    {"parameter", text, "", "parameter or derived value (kcat, kcat/Km); empty when the fit failed",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(x.estimate ? std::string_view(x.estimate->name) : ""); }},
+    {"estimate", number, "", "least-squares estimate, unit in unit",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::estimate)); }},
+    {"se", number, "", "standard error of the estimate, from s²(JᵀWJ)⁻¹ at the optimum",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::se)); }},
+    {"ci_low", number, "", "lower end of the Wald-t interval (95 % unless another level was asked)",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::ci_low)); }},
+    {"ci_high", number, "", "upper end of the Wald-t interval",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::ci_high)); }},
+    {"profile_low", number, "", "lower end of the profile-t interval; empty when the profile does not reach it or was not computed",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::profile_low)); }},
+    {"profile_high", number, "", "upper end of the profile-t interval; empty as for profile_low",
+     [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::profile_high)); }},
+    {"unit", text, "", "unit of the estimate; empty when the table does not give it",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(x.unit); }},
+    {"n", integer, "", "points fitted", [](CsvOut& o, Fit x, std::size_t) { o.integer(x.group.result.n); }},
+    {"df", integer, "", "residual degrees of freedom, n minus parameters",
+     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.integer(x.group.result.df); }},
+    {"rss", number, "", "weighted residual sum of squares at the optimum",
+     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.rss); }},
+    {"residual_sd", number, "", "residual standard deviation, √(rss/df)",
+     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.residual_sd); }},
+    {"aic", number, "", "Akaike information criterion (Gaussian log-likelihood, as R's AIC for nls)",
+     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.aic); }},
+    {"converged", FieldType::boolean, "", "true when the fit reached an optimum inside the bounds",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(x.group.result.converged ? "true" : "false"); }},
+    {"iterations", integer, "", "Levenberg–Marquardt iterations",
+     [](CsvOut& o, Fit x, std::size_t) { o.integer(x.group.result.iterations); }},
+    {"weighting", text, "", "weights of the points: none, replicate-sd or relative",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(to_string(x.table.weighting)); }},
+    {"message", text, "", "why the fit failed, or remarks on an ok fit ('; '-separated)",
+     [](CsvOut& o, Fit x, std::size_t) { o.field(message_of(x.group.result)); }},
+};
+
+std::string_view x_unit(const TableFit& t) { return t.x_unit; }
+std::string_view v_unit(const TableFit& t) { return t.v_unit; }
+std::string_view inhibitor_unit(const TableFit& t) { return t.inhibitor_unit; }
+
+constexpr detail::ColumnEntry<DiagnosticRowRef, TableFit> k_diagnostic_columns[] = {
+    {.name = "", .type = text, .unit = "", .description = "grouping column of the fitted table, passed through",
+     .write = [](CsvOut& o, Diag x, std::size_t i) { o.field(x.group.group_values[i]); },
+     .each = group_columns},
+    {"model", text, "", "rate law fitted", [](CsvOut& o, Diag x, std::size_t) { o.field(x.group.model->name); }},
+    {"kind", text, "", "point (a fitted point) or curve (the model drawn between the points)",
+     [](CsvOut& o, Diag x, std::size_t) { o.field(x.d.curve ? "curve" : "point"); }},
+    {.name = "s", .type = number, .description = "substrate concentration",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.s); }, .unit_of = x_unit},
+    {.name = "inhibitor", .type = number, .description = "inhibitor concentration; empty for single-substrate models",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.inhibitor); }, .unit_of = inhibitor_unit},
+    {.name = "v", .type = number, .description = "rate: as measured on point rows, the model's on curve rows",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.v); }, .unit_of = v_unit},
+    {.name = "fitted", .type = number, .description = "model rate at (s, inhibitor)",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.fitted); }, .unit_of = v_unit},
+    {.name = "residual", .type = number, .description = "v − fitted; empty on curve rows",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.residual); }, .unit_of = v_unit},
+    {"weight", number, "", "the point's weight in the fit; empty on curve rows",
+     [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.weight); }},
+    {"inv_s", number, "", "1/s, a double-reciprocal plot coordinate (a diagnostic, never the estimate)",
+     [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.inv_s); }},
+    {"inv_v", number, "", "1/v, a double-reciprocal plot coordinate",
+     [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.inv_v); }},
+    {"s_over_v", number, "", "s/v, a Hanes–Woolf plot coordinate",
+     [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.s_over_v); }},
+    {"v_over_s", number, "", "v/s, an Eadie–Hofstee plot coordinate",
+     [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.v_over_s); }},
+};
 
 std::string g6(double x) { return std::isnan(x) ? "-" : fmt::format("{:.6g}", x); }
 
@@ -65,42 +155,26 @@ std::string group_label(const TableFit& t, const GroupFit& g) {
 
 }  // namespace
 
+std::vector<FieldSpec> fit_fields(const TableFit& t) {
+  return detail::schema_fields(detail::columns_for<FitRowRef, TableFit>(k_fit_columns, t));
+}
+
 std::string fit_csv(const TableFit& t) {
-  std::vector<std::string> head = t.group_columns;
-  for (const char* c : {"model", "parameter", "estimate", "se", "ci_low", "ci_high", "profile_low", "profile_high",
-                        "unit", "n", "df", "rss", "residual_sd", "aic", "converged", "iterations", "weighting",
-                        "message"})
-    head.emplace_back(c);
-  std::string out = csv_row(head);
+  const auto columns = detail::columns_for<FitRowRef, TableFit>(k_fit_columns, t);
+  CsvOut out;
+  detail::write_header(out, columns);
   for (const GroupFit& g : t.fits) {
     const FitResult& r = g.result;
-    auto row = [&](const ParameterEstimate* e, const std::string& unit) {
-      std::vector<std::string> cells = g.group_values;
-      cells.push_back(g.model->name);
-      cells.push_back(e ? e->name : "");
-      for (double x : {e ? e->estimate : NAN, e ? e->se : NAN, e ? e->ci_low : NAN, e ? e->ci_high : NAN,
-                       e ? e->profile_low : NAN, e ? e->profile_high : NAN})
-        cells.push_back(format_number(x));
-      cells.push_back(unit);
-      cells.push_back(std::to_string(r.n));
-      cells.push_back(r.ok ? std::to_string(r.df) : "");
-      cells.push_back(r.ok ? format_number(r.rss) : "");
-      cells.push_back(r.ok ? format_number(r.residual_sd) : "");
-      cells.push_back(r.ok ? format_number(r.aic) : "");
-      cells.push_back(r.converged ? "true" : "false");
-      cells.push_back(std::to_string(r.iterations));
-      cells.emplace_back(to_string(t.weighting));
-      cells.push_back(message_of(r));
-      out += csv_row(cells);
-    };
     if (!r.ok) {
-      row(nullptr, "");
+      detail::write_row(out, columns, FitRowRef{t, g, nullptr, ""});
       continue;
     }
-    for (std::size_t k = 0; k < r.parameters.size(); ++k) row(&r.parameters[k], g.units[k]);
-    for (std::size_t k = 0; k < g.derived.size(); ++k) row(&g.derived[k], g.units[r.parameters.size() + k]);
+    for (std::size_t k = 0; k < r.parameters.size(); ++k)
+      detail::write_row(out, columns, FitRowRef{t, g, &r.parameters[k], g.units[k]});
+    for (std::size_t k = 0; k < g.derived.size(); ++k)
+      detail::write_row(out, columns, FitRowRef{t, g, &g.derived[k], g.units[r.parameters.size() + k]});
   }
-  return out;
+  return out.str();
 }
 
 std::string fit_json(const TableFit& t, const FitTableOptions& o) {
@@ -174,24 +248,20 @@ std::string fit_json(const TableFit& t, const FitTableOptions& o) {
   return j.dump(2) + "\n";
 }
 
+std::vector<FieldSpec> fit_diagnostics_fields(const TableFit& t) {
+  return detail::schema_fields(detail::columns_for<DiagnosticRowRef, TableFit>(k_diagnostic_columns, t));
+}
+
 std::string fit_diagnostics_csv(const TableFit& t) {
-  std::vector<std::string> head = t.group_columns;
-  for (const char* c : {"model", "kind", "s", "inhibitor", "v", "fitted", "residual", "weight", "inv_s", "inv_v",
-                        "s_over_v", "v_over_s"})
-    head.emplace_back(c);
-  std::string out = csv_row(head);
+  const auto columns = detail::columns_for<DiagnosticRowRef, TableFit>(k_diagnostic_columns, t);
+  CsvOut out;
+  detail::write_header(out, columns);
   for (const GroupFit& g : t.fits) {
     if (!g.result.ok) continue;
-    for (const DiagnosticRow& d : diagnostics(g.s, g.inhibitor, g.v, g.weights, g.result)) {
-      std::vector<std::string> cells = g.group_values;
-      cells.push_back(g.model->name);
-      cells.emplace_back(d.curve ? "curve" : "point");
-      for (double x : {d.s, d.inhibitor, d.v, d.fitted, d.residual, d.weight, d.inv_s, d.inv_v, d.s_over_v, d.v_over_s})
-        cells.push_back(format_number(x));
-      out += csv_row(cells);
-    }
+    for (const DiagnosticRow& d : diagnostics(g.s, g.inhibitor, g.v, g.weights, g.result))
+      detail::write_row(out, columns, DiagnosticRowRef{t, g, d});
   }
-  return out;
+  return out.str();
 }
 
 std::string fit_text(const TableFit& t) {
