@@ -129,7 +129,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);
   if (!s.report.empty())
     out.report_html = render_report(
-        report_input(out.analyses, out.map.columns, with_activity, out.summary, out.datapackage_json));
+        report_input(out.analyses, out.map.columns, with_activity, with_specific, out.summary,
+                     out.datapackage_json));
   return out;
 }
 

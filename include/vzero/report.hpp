@@ -72,8 +72,9 @@ ReportInput read_report_input(const ReportFiles& files);
 
 // The same tables from an analysis in memory, as `vzero rates` would write them.
 // `package_json` is the datapackage.json text (provenance), "" for none.
+// `with_activity` and `with_specific` as for rates_csv.
 ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                         bool with_activity, const SummaryTable& summary, std::string package_json);
+                         bool with_activity, bool with_specific, const SummaryTable& summary, std::string package_json);
 
 struct ReportOptions {
   std::string title;        // page title; "" = "vzero run report: " + the export names

@@ -71,9 +71,10 @@ ReportInput read_report_input(const ReportFiles& f) {
 }
 
 ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                         bool with_activity, const SummaryTable& summary, std::string package_json) {
+                         bool with_activity, bool with_specific, const SummaryTable& summary,
+                         std::string package_json) {
   ReportInput in;
-  in.rates = parse_table("rates table", rates_csv(runs, map_columns, with_activity));
+  in.rates = parse_table("rates table", rates_csv(runs, map_columns, with_activity, with_specific));
   in.traces = parse_table("traces table", traces_csv(runs));
   in.summary = parse_table("summary table", summary_csv(summary));
   in.package_json = std::move(package_json);
