@@ -94,6 +94,34 @@ TEST_CASE("a file past three read blocks without a final newline reads every row
   }
 }
 
+TEST_CASE("a grid header line whose next line straddles a buffer refill is quoted intact") {
+  // LineSource reads 1 MiB at a time; when a line straddles a refill, its start is moved
+  // into a new, larger buffer and the old one is freed. The grid reader kept a view of the
+  // header line across that fetch and quoted it in "expected plate rows": freed memory
+  // (a crash, or garbage in the message). Here the header's '\n' is the third byte before
+  // 1 MiB, so the next line straddles the first refill.
+  constexpr std::size_t k_refill = std::size_t{1} << 20;  // LineSource's bytes per read
+  const std::string first = "Read 1 at 0:00:00\n\t1\nA\t0.5\n";
+  const std::string second = "Read 2 at 0:00:30\n\t1\n";
+  const std::size_t pad = k_refill - 2 - first.size() - second.size() - 3;  // "# " + pad + "\n"
+  const std::string text = first + "# " + std::string(pad, 'p') + "\n" + second + "not a row\n";
+  REQUIRE(text.find("\t1\nnot") + 2 == k_refill - 3);
+  auto p = vzero::load_profile("grid-generic");
+  TempDir dir;
+  spit(dir / "input.csv", text);
+  for (int from_file = 0; from_file < 2; ++from_file) {
+    CAPTURE(from_file);
+    try {
+      from_file ? vzero::read_run(dir / "input.csv", p) : vzero::read_run_text(dir / "input.csv", text, p);
+      FAIL("expected an InputError");
+    } catch (const vzero::InputError& e) {
+      CHECK(e.formatted() == (dir / "input.csv") + ":6: expected plate rows (A, B, …) after the header of the read at line 5\n"
+                             "  line 6: \t1\n"
+                             "  possible fix: check that the export is complete");
+    }
+  }
+}
+
 TEST_CASE("the largest plate is 1536 wells: AF48 is read, AG1 and A49 are not wells") {
   // ANSI/SLAS 4-2004: 1536 wells in 32 rows (A–Z, AA–AF) × 48 columns.
   auto p = vzero::load_profile("long-generic");

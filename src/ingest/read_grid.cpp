@@ -41,6 +41,7 @@ Run read_grid(ReaderInput in) {
   std::vector<ReadStatus> stats;
   std::string_view line;
   bool pending_line = false;  // `line` must be handled again as an outside line
+  std::string header_text;    // the read's header line: its view dies when the row lines are fetched
   const std::optional<PlateFormat> fixed = fixed_format(p);
 
   auto close_channel = [&]() {
@@ -104,6 +105,7 @@ Run read_grid(ReaderInput in) {
     } while (trim(hline).empty());
     {
       int hl = in.src.line_number();
+      header_text.assign(hline);
       char d = p.delimiter ? p.delimiter : guess_delimiter(hline);
       if (d == 0) d = '\t';
       split_fields_into(hline, d, fields);
@@ -113,17 +115,17 @@ Run read_grid(ReaderInput in) {
         if (sv.empty() && i + 1 == fields.size()) break;
         auto v = parse_number(sv);
         if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
-          throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+          throw InputError(Where{file, hl, fields[i].column, header_text},
                            fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
                                        ln, sv),
                            {"check that `grid.read_label` matches only read labels"});
         }
         int col = static_cast<int>(*v) - 1;
         if (fixed && col >= fixed->columns)
-          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, std::string(hline)});
+          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, header_text});
         for (std::size_t k = 0; k < cols.size(); ++k) {
           if (cols[k] == col)
-            throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+            throw InputError(Where{file, hl, fields[i].column, header_text},
                              fmt::format("column {} appears twice in the header after the read label at line {} "
                                          "(fields {} and {})",
                                          col + 1, ln, k + 2, i + 1),
@@ -132,7 +134,7 @@ Run read_grid(ReaderInput in) {
         cols.push_back(col);
       }
       if (cols.empty()) {
-        throw InputError(Where{file, hl, 1, std::string(hline)},
+        throw InputError(Where{file, hl, 1, header_text},
                          "expected a header of column numbers (empty first field, then 1, 2, …)", {});
       }
       // Row lines.
@@ -188,7 +190,7 @@ Run read_grid(ReaderInput in) {
       }
       if (rows.empty()) {
         if (in.prefix_only && !more) goto end_of_input;
-        throw InputError(Where{file, hl, 0, std::string(hline)},
+        throw InputError(Where{file, hl, 0, header_text},
                          fmt::format("expected plate rows (A, B, …) after the header of the read at line {}", ln),
                          {"check that the export is complete"});
       }
