@@ -44,6 +44,10 @@ Run read_grid(ReaderInput in) {
   std::string header_text;    // the read's header line: its view dies when the row lines are fetched
   const std::optional<PlateFormat> fixed = fixed_format(p);
 
+  // In detection, a read cut short ends the reading only after a complete read: the first
+  // read's fault is the file's (and tells which line stops this profile).
+  auto read_before = [&]() { return current.has_value() || !done.empty(); };
+
   auto close_channel = [&]() {
     if (!current) return;
     for (const auto& d : done) {
@@ -97,7 +101,7 @@ Run read_grid(ReaderInput in) {
     std::string_view hline;
     do {
       if (!in.src.next(hline)) {
-        if (in.prefix_only) goto end_of_input;
+        if (in.prefix_only && read_before()) goto end_of_input;
         throw InputError(Where{file, ln, 0, b.label_text},
                          "the file ends after a read label; expected a header of column numbers",
                          {"the export looks truncated: re-export it or delete the incomplete last read"});
@@ -156,7 +160,7 @@ Run read_grid(ReaderInput in) {
         int rln = in.src.line_number();
         if (rf.size() == cols.size() + 2 && trim(rf.back().text).empty()) rf.pop_back();
         if (rf.size() != cols.size() + 1) {
-          if (in.prefix_only) goto end_of_input;
+          if (in.prefix_only && read_before()) goto end_of_input;
           int col = rf.size() > cols.size() + 1 ? rf[cols.size() + 1].column : static_cast<int>(rl.size()) + 1;
           throw InputError(Where{file, rln, col, std::string(rl)},
                            fmt::format("expected {} values in row {} as in the header at line {}, found {}", cols.size(),
@@ -171,6 +175,7 @@ Run read_grid(ReaderInput in) {
                              {"remove the duplicated row"});
         }
         if (fixed && *row >= fixed->rows) off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
+        if (in.first_value && in.first_value->line == 0) *in.first_value = Where{file, rln, rf[1].column, std::string(rl)};
         rows.push_back(*row);
         row_lines.push_back(rln);
         const std::size_t at = vals.size();
@@ -189,7 +194,7 @@ Run read_grid(ReaderInput in) {
         }
       }
       if (rows.empty()) {
-        if (in.prefix_only && !more) goto end_of_input;
+        if (in.prefix_only && !more && read_before()) goto end_of_input;
         throw InputError(Where{file, hl, 0, header_text},
                          fmt::format("expected plate rows (A, B, …) after the header of the read at line {}", ln),
                          {"check that the export is complete"});
