@@ -2,10 +2,12 @@
 // bodies the libFuzzer programs run (tests/fuzz/fuzz_bodies.hpp), in the ordinary and the
 // sanitized builds, and pins what each input must now give.
 //
-// Several of these inputs failed only in the fuzz build, whose line reader uses 4 KiB blocks
-// (tests/fuzz/CMakeLists.txt): there a file over 8 KiB without a final newline made the
-// reader return lines that are not in the file and then wait forever. The same failure at
-// the real 16 MiB block size is tested in reader_limits_test.cpp.
+// Several of these inputs failed only in the fuzz build, whose line reader (then
+// fast-cpp-csv-parser's LineReader) used 4 KiB blocks: there a file over 8 KiB without a
+// final newline made the reader return lines that are not in the file and then wait
+// forever. The same failure at the real 16 MiB block size is tested in
+// reader_limits_test.cpp. The fuzz build's LineSource refills every 4 KiB
+// (tests/fuzz/CMakeLists.txt).
 #include <filesystem>
 #include <string>
 #include <tuple>
