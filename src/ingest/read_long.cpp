@@ -147,13 +147,16 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
   if (c.time < 0) c.value = find_column(views, p.value_columns);
   if (c.time < 0 && c.value < 0) return std::nullopt;
   // The one field that no column of the profile names, if there is one: the missing column.
+  const auto named = [](std::string_view name, const std::vector<std::string>& names) {
+    return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
+  };
   const FieldView* unknown = nullptr;
   int unknowns = 0;
   for (std::size_t i = 0; i < views.size(); ++i) {
     const auto k = static_cast<int>(i);
     const std::string_view name = trim(views[i].text);
     if (name.empty() || k == c.well || k == c.time || k == c.value) continue;
-    if (find_column({views[i]}, p.channel_columns) == 0 || find_column({views[i]}, p.temperature_columns) == 0) continue;
+    if (named(name, p.channel_columns) || named(name, p.temperature_columns)) continue;
     unknown = &views[i];
     ++unknowns;
   }
