@@ -2,10 +2,12 @@
 // bodies the libFuzzer programs run (tests/fuzz/fuzz_bodies.hpp), in the ordinary and the
 // sanitized builds, and pins what each input must now give.
 //
-// Several of these inputs failed only in the fuzz build, whose line reader uses 4 KiB blocks
-// (tests/fuzz/CMakeLists.txt): there a file over 8 KiB without a final newline made the
-// reader return lines that are not in the file and then wait forever. The same failure at
-// the real 16 MiB block size is tested in reader_limits_test.cpp.
+// Several of these inputs failed only in the fuzz build, whose line reader (then
+// fast-cpp-csv-parser's LineReader) used 4 KiB blocks: there a file over 8 KiB without a
+// final newline made the reader return lines that are not in the file and then wait
+// forever. The same failure at the real 16 MiB block size is tested in
+// reader_limits_test.cpp. The fuzz build's LineSource refills every 4 KiB
+// (tests/fuzz/CMakeLists.txt).
 #include <filesystem>
 #include <string>
 #include <tuple>
@@ -148,4 +150,21 @@ TEST_CASE("regression: plate = 2^32 + 96 in a profile is refused, not read as 96
     CHECK(std::string(e.what()) ==
           "p.toml:2:9: profile key `plate` is \"4294967392\"; expected 0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
   }
+}
+
+TEST_CASE("regression: a grid read whose header is followed by no plate row quotes that header, not freed memory") {
+  // The grid reader kept a view of the header line while it fetched the next line, and
+  // quoted it in this message. When that fetch refilled the line buffer (at the end of a
+  // file without a final newline, and every 1 MiB) the view pointed into freed memory:
+  // `vzero inspect --profile grid-generic` on the second file crashed (SIGSEGV). fuzz_grid
+  // found the first file once LineSource hands out each line in its own copy under ASan.
+  auto p = vzero::load_profile("grid-generic");
+  CHECK(outcome(regression("grid", "header_then_no_plate_row_no_final_newline.txt"), p) ==
+        "input:2: expected plate rows (A, B, …) after the header of the read at line 1\n"
+        "  line 2: \t1\t2\n"
+        "  possible fix: check that the export is complete");
+  CHECK(outcome(regression("grid", "header_then_no_plate_row.txt"), p) ==
+        "input:9: expected plate rows (A, B, …) after the header of the read at line 8\n"
+        "  line 9: '\t1\t2\t3\n"
+        "  possible fix: check that the export is complete");
 }

@@ -1,7 +1,7 @@
-// The readers' limits, at their edges: the longest line (16 MiB, the line reader's block),
-// the largest plate (1536 wells, AF48), the most lines
-// of a file (2^31 - 1, stated, not written here), and files larger than the reader's
-// 32 MiB first read, where the read-ahead thread takes over.
+// The readers' limits, at their edges: the longest line (16 MiB, LineSource's limit), the
+// largest plate (1536 wells, AF48), the most lines of a file (2^31 - 1, stated, not written
+// here), files over several buffer refills without a final newline, and a line kept by a
+// reader while the buffer is refilled under it.
 #include <algorithm>
 #include <cstdio>
 #include <filesystem>
@@ -18,7 +18,7 @@ using namespace vzero::test;
 
 namespace {
 
-constexpr std::size_t k_block = std::size_t{1} << 24;  // the longest line LineSource reads, with its end
+constexpr std::size_t k_block = std::size_t{1} << 24;  // a line and its end must be shorter (line_source.cpp)
 
 std::string message_of(const std::string& text, const vzero::Profile& p) {
   try {
@@ -38,7 +38,7 @@ TEST_CASE("a line of 16 MiB - 1 bytes is read; one of 16 MiB is refused with its
   REQUIRE(longest.size() == k_block - 1);
   auto run = vzero::read_run_text("input.csv", longest + "\n" + data, p);
   CHECK(run.channels.at(0).reads() == 2);
-  // One byte more: the line and its end must fit in one block.
+  // One byte more: the line and its end must fit in 16 MiB - 1 bytes.
   CHECK(message_of("Note\n" + longest + "x\n" + data, p) ==
         "input.csv:2: line is longer than 16 MiB (the longest line vzero reads)");
   // With CRLF the '\r' counts towards the limit too.
@@ -59,13 +59,14 @@ TEST_CASE("hashing a file with an over-long line fails clearly instead of loopin
 }
 
 TEST_CASE("a file past three read blocks without a final newline reads every row once, and ends") {
-  // The line reader reads 32 MiB first, then 16 MiB blocks on a read-ahead thread, and looks
-  // one byte past the data when the last line has no '\n'. There sat a stale byte of an
-  // earlier block; when it was a '\n' the reader returned lines that are not in the file and
-  // then waited for ever. Rows of 16 bytes (a divisor of the block) put a '\n' exactly there:
-  // the file is 3 blocks + r bytes, its last row has no '\n', and the byte 16 MiB before the
-  // end is a '\n'. Before the fix: "read time goes backwards … 2097213 s after 3145788 s" at
-  // a line 3145791 that the file does not have.
+  // fast-cpp-csv-parser's LineReader, which LineSource replaced, read 32 MiB first, then
+  // 16 MiB blocks on a read-ahead thread, and looked one byte past the data when the last
+  // line had no '\n'. There sat a stale byte of an earlier block; when it was a '\n' the
+  // reader returned lines that are not in the file and then waited for ever. Rows of 16
+  // bytes (a divisor of the block) put a '\n' exactly there: the file is 3 blocks + r bytes,
+  // its last row has no '\n', and the byte 16 MiB before the end is a '\n'. Before the fix:
+  // "read time goes backwards … 2097213 s after 3145788 s" at a line 3145791 that the file
+  // does not have. The case stays, for LineSource's refills.
   const std::string header = "Time [s],A1\n";
   const std::size_t target = 3 * k_block + 1000;
   const std::size_t rows = (target - header.size() + 1) / 16;
@@ -91,6 +92,34 @@ TEST_CASE("a file past three read blocks without a final newline reads every row
     CHECK(c.reads() == static_cast<int>(rows));
     CHECK(c.time_s.front() == 0.0);
     CHECK(c.time_s.back() == static_cast<double>(rows - 1));
+  }
+}
+
+TEST_CASE("a grid header line whose next line straddles a buffer refill is quoted intact") {
+  // LineSource reads 1 MiB at a time; when a line straddles a refill, its start is moved
+  // into a new, larger buffer and the old one is freed. The grid reader kept a view of the
+  // header line across that fetch and quoted it in "expected plate rows": freed memory
+  // (a crash, or garbage in the message). Here the header's '\n' is the third byte before
+  // 1 MiB, so the next line straddles the first refill.
+  constexpr std::size_t k_refill = std::size_t{1} << 20;  // LineSource's bytes per read
+  const std::string first = "Read 1 at 0:00:00\n\t1\nA\t0.5\n";
+  const std::string second = "Read 2 at 0:00:30\n\t1\n";
+  const std::size_t pad = k_refill - 2 - first.size() - second.size() - 3;  // "# " + pad + "\n"
+  const std::string text = first + "# " + std::string(pad, 'p') + "\n" + second + "not a row\n";
+  REQUIRE(text.find("\t1\nnot") + 2 == k_refill - 3);
+  auto p = vzero::load_profile("grid-generic");
+  TempDir dir;
+  spit(dir / "input.csv", text);
+  for (int from_file = 0; from_file < 2; ++from_file) {
+    CAPTURE(from_file);
+    try {
+      from_file ? vzero::read_run(dir / "input.csv", p) : vzero::read_run_text(dir / "input.csv", text, p);
+      FAIL("expected an InputError");
+    } catch (const vzero::InputError& e) {
+      CHECK(e.formatted() == (dir / "input.csv") + ":6: expected plate rows (A, B, …) after the header of the read at line 5\n"
+                             "  line 6: \t1\n"
+                             "  possible fix: check that the export is complete");
+    }
   }
 }
 

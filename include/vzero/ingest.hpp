@@ -31,8 +31,11 @@ struct ProfileChoice {
 
 // `requested` is a built-in profile name or a path; empty means detect: every built-in
 // profile is tried on the start of the file and the one that reads the most values
-// without error wins (ties go to the first name in sorted order). Throws InputError
-// listing what each profile found when none fits. The start is bounded whatever the file's
+// without error wins (ties go to the first name in sorted order). When none reads a
+// number, throws an InputError naming the nearest profile: one that reads the layout but
+// finds only overflow or missing tokens (at the first value), else the one that stops
+// furthest into the file (its line, what it expected and found, its fixes), else listing
+// what each profile found. The start is bounded whatever the file's
 // size: the first 400 lines, no more than 64 KiB of them besides the longest, read from the
 // first MiB (further only when its lines run past it; a line is at most 16 MiB).
 ProfileChoice choose_profile(const std::string& path, const std::string& requested);

@@ -1,6 +1,7 @@
 // Reads a text file line by line while hashing every byte with SHA-256 and noticing NUL
-// bytes, so the readers stream a file once. (It follows the line rules of fast-cpp-csv-
-// parser's LineReader, which it replaced: one buffer, no read-ahead thread, memchr.)
+// bytes, so the readers stream a file once: one buffer, no read-ahead thread, memchr. (It
+// replaced fast-cpp-csv-parser's LineReader and keeps its line rules, and also reads files
+// whose lines end in a lone CR.)
 #pragma once
 
 #include <memory>
@@ -25,8 +26,17 @@ class LineSource {
   LineSource(const LineSource&) = delete;
   LineSource& operator=(const LineSource&) = delete;
 
-  // Next line without its end (LF, CRLF) and, for line 1, without a UTF-8 BOM; false at
-  // the end. Throws InputError on a NUL byte, a line over 16 MiB or bytes that are not UTF-8.
+  // Next line without its end (LF, CRLF; in a file whose first line ends in a lone CR, also
+  // CR) and, for line 1, without a UTF-8 BOM; false at the end. Throws InputError on a NUL
+  // byte, a line over 16 MiB or bytes that are not UTF-8.
+  //
+  // `line` views the source's buffer: it is valid until the next call to next() or sha256()
+  // (or the end of the LineSource), and not a moment longer: the buffer is refilled, moved
+  // and reallocated as the file is read (every 1 MiB, and at the end of a file whose last
+  // line has no newline). Copy what must outlive the line (a std::string). In builds with
+  // AddressSanitizer every line is handed out in its own heap copy, freed by the next call,
+  // so that a view kept too long is a use-after-free report on the first input that does
+  // it, not only on one that happens to cross a refill.
   bool next(std::string_view& line);
   int line_number() const { return line_; }
   const std::string& name() const { return name_; }

@@ -11,9 +11,9 @@ namespace vzero {
 
 namespace {
 
-Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only) {
+Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only, Where* first_value = nullptr) {
   detail::CompiledProfile cp(profile);
-  detail::ReaderInput in{src, cp, prefix_only};
+  detail::ReaderInput in{src, cp, prefix_only, first_value};
   Run run;
   switch (profile.shape) {
     case Shape::wide: run = detail::read_wide(in); break;
@@ -35,11 +35,62 @@ const std::vector<Profile>& builtin_profiles() {
   return all;
 }
 
-long long ok_values(const Run& run) {
+long long count_status(const Run& run, ReadStatus s) {
   long long n = 0;
   for (const auto& c : run.channels)
-    for (Eigen::Index j = 0; j < c.status.size(); ++j) n += c.status.data()[j] == ReadStatus::ok;
+    for (Eigen::Index j = 0; j < c.status.size(); ++j) n += c.status.data()[j] == s;
   return n;
+}
+
+long long ok_values(const Run& run) { return count_status(run, ReadStatus::ok); }
+
+// A built-in profile that read the start of a file without error but found no number in it:
+// every value an overflow or missing token.
+struct TokensOnly {
+  std::string name;
+  Where first_value;
+  long long overflow = 0, missing = 0;
+};
+
+// The error when no built-in profile reads a file, naming the nearest: one that read its
+// layout but found only tokens, else the one that stopped furthest into the file (its error
+// and place), else what each found.
+InputError no_profile_error(const std::string& path, const std::string& head, const std::string& scope,
+                            const std::string& tried, const std::optional<TokensOnly>& tokens,
+                            const std::optional<InputError>& furthest, const std::string& furthest_name) {
+  if (tokens) {
+    return InputError(
+        tokens->first_value,
+        fmt::format("expected numbers among the values, found only overflow or missing tokens: the built-in profile {} "
+                    "reads this file's layout, and all {} values {} are tokens ({} overflow, {} missing)",
+                    tokens->name, tokens->overflow + tokens->missing, scope, tokens->overflow, tokens->missing),
+        {"check that the plate was read as intended: with no number in any well there is no rate to find",
+         fmt::format("to read the file as it is (every well then flagged), pass --profile {}", tokens->name)});
+  }
+  if (furthest) {
+    // One profile recognised the layout and stopped at a line: that error, with its place
+    // and fixes, tells the user more than the list of what every profile found.
+    std::vector<std::string> fixes = furthest->fixes();
+    fixes.push_back(fmt::format("no built-in profile reads this file; {}, the nearest, stops here; if the file has "
+                                "another layout, write a profile for it (instrument-profiles/README.md) and pass it "
+                                "with --profile",
+                                furthest_name));
+    return InputError(furthest->where(), furthest->message(), std::move(fixes));
+  }
+  std::vector<std::string> fixes;
+  // A plate map given where the export belongs is a common slip.
+  std::string first;
+  for (std::size_t at = 0; at < head.size() && first.empty();) {
+    std::size_t end = head.find('\n', at);
+    std::string_view l = detail::trim(std::string_view(head).substr(at, end - at));
+    if (!l.empty() && l.front() != '#') first = std::string(l);
+    at = end == std::string::npos ? head.size() : end + 1;
+  }
+  std::string lowered = detail::lower(first);
+  if (lowered.find("well") != std::string::npos && lowered.find("role") != std::string::npos)
+    fixes.emplace_back("this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
+  fixes.emplace_back("write a profile for this export (see instrument-profiles/README.md) and pass it with --profile");
+  return InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
 }
 
 }  // namespace
@@ -80,6 +131,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   std::string head;
   int sniffed = 0;
   bool capped = false;
+  bool head_is_file = false;  // the head holds the whole file
   // Lines from the start of the file; false when `src` ran out at a byte limit (the last
   // line may then be cut short).
   auto sniff = [&](detail::LineSource& src) {
@@ -99,6 +151,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
       head.push_back('\n');
       ++sniffed;
     }
+    head_is_file = !more && !src.cut();
     return more || !src.cut();
   };
   {
@@ -118,6 +171,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   // The error of the profile that got furthest into the file (a line, not "found no header").
   std::optional<InputError> furthest;
   std::string furthest_name;
+  std::optional<TokensOnly> tokens;  // the first profile that read the layout but no number
   const auto& names = builtin_profile_names();
   const auto& profiles = builtin_profiles();
   for (std::size_t k = 0; k < names.size(); ++k) {
@@ -125,7 +179,8 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     const Profile& p = profiles[k];
     try {
       detail::LineSource src(path, head, detail::LineSource::NoHash{});
-      Run run = dispatch(src, p, true);
+      Where first_value;
+      Run run = dispatch(src, p, true, &first_value);
       long long n = ok_values(run);
       tried += fmt::format("\n    {}: reads {} values", name, n);
       if (n > best) {
@@ -134,6 +189,9 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
         choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n,
                                     capped ? sniffed : k_sniff_lines);
       }
+      if (first_value.line == 0) first_value = Where{path};
+      if (n == 0 && !tokens)
+        tokens = TokensOnly{name, first_value, count_status(run, ReadStatus::overflow), count_status(run, ReadStatus::missing)};
     } catch (const InputError& e) {
       tried += fmt::format("\n    {}: {}", name, e.message());
       const Where& w = e.where();
@@ -144,30 +202,9 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
       }
     }
   }
-  if (best == 0 && furthest) {
-    // One profile recognised the layout and stopped at a line: that error, with its place
-    // and fixes, tells the user more than the list of what every profile found.
-    std::vector<std::string> fixes = furthest->fixes();
-    fixes.push_back(fmt::format("this file was read with the built-in profile {} (detected); if that is the wrong "
-                                "layout, pass --profile NAME or a .toml path",
-                                furthest_name));
-    throw InputError(furthest->where(), furthest->message(), std::move(fixes));
-  }
   if (best == 0) {
-    std::vector<std::string> fixes;
-    // A plate map given where the export belongs is a common slip.
-    std::string first;
-    for (std::size_t at = 0; at < head.size() && first.empty();) {
-      std::size_t end = head.find('\n', at);
-      std::string_view l = detail::trim(std::string_view(head).substr(at, end - at));
-      if (!l.empty() && l.front() != '#') first = std::string(l);
-      at = end == std::string::npos ? head.size() : end + 1;
-    }
-    std::string lowered = detail::lower(first);
-    if (lowered.find("well") != std::string::npos && lowered.find("role") != std::string::npos)
-      fixes.emplace_back("this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
-    fixes.emplace_back("write a profile for this export (see instrument-profiles/README.md) and pass it with --profile");
-    throw InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
+    throw no_profile_error(path, head, head_is_file ? "in the file" : fmt::format("in its first {} lines", sniffed), tried,
+                           tokens, furthest, furthest_name);
   }
   choice.detected = true;
   return choice;

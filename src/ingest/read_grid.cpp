@@ -41,7 +41,12 @@ Run read_grid(ReaderInput in) {
   std::vector<ReadStatus> stats;
   std::string_view line;
   bool pending_line = false;  // `line` must be handled again as an outside line
+  std::string header_text;    // the read's header line: its view dies when the row lines are fetched
   const std::optional<PlateFormat> fixed = fixed_format(p);
+
+  // In detection, a read cut short ends the reading only after a complete read: the first
+  // read's fault is the file's (and tells which line stops this profile).
+  auto read_before = [&]() { return current.has_value() || !done.empty(); };
 
   auto close_channel = [&]() {
     if (!current) return;
@@ -96,7 +101,7 @@ Run read_grid(ReaderInput in) {
     std::string_view hline;
     do {
       if (!in.src.next(hline)) {
-        if (in.prefix_only) goto end_of_input;
+        if (in.prefix_only && read_before()) goto end_of_input;
         throw InputError(Where{file, ln, 0, b.label_text},
                          "the file ends after a read label; expected a header of column numbers",
                          {"the export looks truncated: re-export it or delete the incomplete last read"});
@@ -104,6 +109,7 @@ Run read_grid(ReaderInput in) {
     } while (trim(hline).empty());
     {
       int hl = in.src.line_number();
+      header_text.assign(hline);
       char d = p.delimiter ? p.delimiter : guess_delimiter(hline);
       if (d == 0) d = '\t';
       split_fields_into(hline, d, fields);
@@ -113,17 +119,17 @@ Run read_grid(ReaderInput in) {
         if (sv.empty() && i + 1 == fields.size()) break;
         auto v = parse_number(sv);
         if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
-          throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+          throw InputError(Where{file, hl, fields[i].column, header_text},
                            fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
                                        ln, sv),
                            {"check that `grid.read_label` matches only read labels"});
         }
         int col = static_cast<int>(*v) - 1;
         if (fixed && col >= fixed->columns)
-          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, std::string(hline)});
+          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, header_text});
         for (std::size_t k = 0; k < cols.size(); ++k) {
           if (cols[k] == col)
-            throw InputError(Where{file, hl, fields[i].column, std::string(hline)},
+            throw InputError(Where{file, hl, fields[i].column, header_text},
                              fmt::format("column {} appears twice in the header after the read label at line {} "
                                          "(fields {} and {})",
                                          col + 1, ln, k + 2, i + 1),
@@ -132,7 +138,7 @@ Run read_grid(ReaderInput in) {
         cols.push_back(col);
       }
       if (cols.empty()) {
-        throw InputError(Where{file, hl, 1, std::string(hline)},
+        throw InputError(Where{file, hl, 1, header_text},
                          "expected a header of column numbers (empty first field, then 1, 2, …)", {});
       }
       // Row lines.
@@ -154,7 +160,7 @@ Run read_grid(ReaderInput in) {
         int rln = in.src.line_number();
         if (rf.size() == cols.size() + 2 && trim(rf.back().text).empty()) rf.pop_back();
         if (rf.size() != cols.size() + 1) {
-          if (in.prefix_only) goto end_of_input;
+          if (in.prefix_only && read_before()) goto end_of_input;
           int col = rf.size() > cols.size() + 1 ? rf[cols.size() + 1].column : static_cast<int>(rl.size()) + 1;
           throw InputError(Where{file, rln, col, std::string(rl)},
                            fmt::format("expected {} values in row {} as in the header at line {}, found {}", cols.size(),
@@ -169,6 +175,7 @@ Run read_grid(ReaderInput in) {
                              {"remove the duplicated row"});
         }
         if (fixed && *row >= fixed->rows) off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
+        if (in.first_value && in.first_value->line == 0) *in.first_value = Where{file, rln, rf[1].column, std::string(rl)};
         rows.push_back(*row);
         row_lines.push_back(rln);
         const std::size_t at = vals.size();
@@ -187,8 +194,8 @@ Run read_grid(ReaderInput in) {
         }
       }
       if (rows.empty()) {
-        if (in.prefix_only && !more) goto end_of_input;
-        throw InputError(Where{file, hl, 0, std::string(hline)},
+        if (in.prefix_only && !more && read_before()) goto end_of_input;
+        throw InputError(Where{file, hl, 0, header_text},
                          fmt::format("expected plate rows (A, B, …) after the header of the read at line {}", ln),
                          {"check that the export is complete"});
       }

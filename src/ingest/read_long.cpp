@@ -139,6 +139,33 @@ int find_column(const std::vector<FieldView>& f, const std::vector<std::string>&
   return -1;
 }
 
+// For a line naming the well column and one of the time and value columns but not the
+// other (the header, most likely, with that column under another name): the error to give
+// if no header is found.
+std::optional<InputError> near_header(const Profile& p, Columns c, const std::vector<FieldView>& views,
+                                      std::string_view line, const std::string& file, int line_no) {
+  if (c.time < 0) c.value = find_column(views, p.value_columns);
+  if (c.time < 0 && c.value < 0) return std::nullopt;
+  // The one field that no column of the profile names, if there is one: the missing column.
+  const auto named = [](std::string_view name, const std::vector<std::string>& names) {
+    return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
+  };
+  const FieldView* unknown = nullptr;
+  int unknowns = 0;
+  for (std::size_t i = 0; i < views.size(); ++i) {
+    const auto k = static_cast<int>(i);
+    const std::string_view name = trim(views[i].text);
+    if (name.empty() || k == c.well || k == c.time || k == c.value) continue;
+    if (named(name, p.channel_columns) || named(name, p.temperature_columns)) continue;
+    unknown = &views[i];
+    ++unknowns;
+  }
+  if (unknowns != 1) unknown = nullptr;
+  return missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)},
+                              c.time < 0 ? "time" : "value", c.time < 0 ? p.time_columns : p.value_columns, "",
+                              unknown ? trim(unknown->text) : std::string_view());
+}
+
 }  // namespace
 
 Run read_long(ReaderInput in) {
@@ -155,6 +182,7 @@ Run read_long(ReaderInput in) {
   std::string last_channel_text;
   std::size_t last_channel = 0;
   const std::optional<PlateFormat> fixed = fixed_format(p);
+  std::optional<InputError> near;  // a line naming the well column and only one of time and value
 
   while (in.src.next(line)) {
     const int ln = in.src.line_number();
@@ -182,6 +210,7 @@ Run read_long(ReaderInput in) {
           cols = c;
           continue;
         }
+        if (c.well >= 0 && !near) near = near_header(p, c, views, line, file, ln);
       }
       match_capture(in.cp, line, run.metadata);
       continue;
@@ -194,7 +223,7 @@ Run read_long(ReaderInput in) {
     split_views_into(line, cols->delimiter, views, scratch);
     if (views.size() == cols->count + 1 && trim(views.back().text).empty()) views.pop_back();
     if (views.size() != cols->count) {
-      if (in.prefix_only) break;
+      if (in.prefix_only && rows.size() > 0) break;
       int col = views.size() > cols->count ? views[cols->count].column : static_cast<int>(line.size()) + 1;
       throw InputError(Where{file, ln, col, std::string(line)},
                        fmt::format("expected {} fields as in the header at line {}, found {}", cols->count, cols->line,
@@ -225,6 +254,7 @@ Run read_long(ReaderInput in) {
       case CellKind::missing: r.value = std::nan(""); status = ReadStatus::missing; break;
       case CellKind::bad: bad_value_error(p, file, ln, vf.column, line, vf.text, "well " + well_name(*w));
     }
+    if (in.first_value && in.first_value->line == 0) *in.first_value = Where{file, ln, vf.column, std::string(line)};
     double temp_c = std::nan("");
     if (cols->temp >= 0) {
       const FieldView& f = views[static_cast<std::size_t>(cols->temp)];
@@ -284,6 +314,7 @@ Run read_long(ReaderInput in) {
     }
     rows.push(r);
   }
+  if (!cols && near) throw *near;
   if (!cols) {
     throw InputError(Where{file},
                      "found no header naming the well, time and value columns",

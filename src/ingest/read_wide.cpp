@@ -29,9 +29,28 @@ bool matches_any(std::string_view text, const std::vector<std::string>& names) {
   return false;
 }
 
-// A header line has a time column and at least one well column.
+// Keeps in `near` a line of well columns that lacks only a time column: every field a well,
+// an empty field, a temperature or ignored column, but for at most one (a time column under
+// a name the profile does not know).
+void note_near_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
+                      const std::vector<Field>& fields, int wells, std::optional<InputError>& near) {
+  const Field* unknown = nullptr;
+  for (const auto& f : fields) {
+    const std::string_view name = trim(f.text);
+    if (name.empty() || parse_well(name) || matches_any(name, p.temperature_columns) || matches_any(name, p.ignore_columns))
+      continue;
+    if (unknown) return;  // two fields that are neither: not a header of wells
+    unknown = &f;
+  }
+  near = missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)}, "time",
+                              p.time_columns, fmt::format("of {} well column{}", wells, wells == 1 ? "" : "s"),
+                              unknown ? trim(unknown->text) : std::string_view());
+}
+
+// A header line has a time column and at least one well column. The first line with well
+// columns but no time column is kept in `near` (the error when no header is found).
 std::optional<Header> try_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
-                                 std::vector<Field>& fields) {
+                                 std::vector<Field>& fields, std::optional<InputError>& near) {
   char d = p.delimiter ? p.delimiter : guess_delimiter(line);
   if (d == 0) return std::nullopt;
   split_fields_into(line, d, fields);
@@ -40,6 +59,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
     if (time_col < 0 && matches_any(fields[i].text, p.time_columns)) time_col = static_cast<int>(i);
     else if (parse_well(fields[i].text)) ++wells;
   }
+  if (time_col < 0 && wells > 0 && !near) note_near_header(p, line, file, line_no, fields, wells, near);
   if (time_col < 0 || wells == 0) return std::nullopt;
   Header h;
   h.delimiter = d;
@@ -98,6 +118,7 @@ Run read_wide(ReaderInput in) {
   std::vector<FieldView> fields_v;  // data lines: views, no allocation per value
   std::string scratch;
   std::string_view line;
+  std::optional<InputError> near_header;  // a header of wells without a time column
 
   auto close_block = [&]() {
     if (current) {
@@ -148,7 +169,7 @@ Run read_wide(ReaderInput in) {
       std::size_t expected = header->roles.size();
       if (fields_v.size() == expected + 1 && trim(fields_v.back().text).empty()) fields_v.pop_back();
       if (fields_v.size() != expected) {
-        if (in.prefix_only) break;
+        if (in.prefix_only && (current->reads() > 0 || !done.empty())) break;
         int col = fields_v.size() > expected ? fields_v[expected].column : static_cast<int>(line.size()) + 1;
         throw InputError(Where{file, ln, col, std::string(line)},
                          fmt::format("expected {} fields as in the header at line {}, found {}", expected,
@@ -166,6 +187,10 @@ Run read_wide(ReaderInput in) {
           bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
       }
       int read = current->add_read(*t, temp, Where{file, ln, fields_v[tcol].column, std::string(line)});
+      if (in.first_value && in.first_value->line == 0) {
+        for (std::size_t i = 0; i < fields_v.size() && in.first_value->line == 0; ++i)
+          if (header->roles[i] == ColumnRole::well) *in.first_value = Where{file, ln, fields_v[i].column, std::string(line)};
+      }
       for (std::size_t i = 0; i < fields_v.size(); ++i) {
         if (header->roles[i] != ColumnRole::well) continue;
         double v = 0;
@@ -185,7 +210,7 @@ Run read_wide(ReaderInput in) {
       section = *s;
       continue;
     }
-    if (auto h = try_header(p, line, file, ln, fields)) {
+    if (auto h = try_header(p, line, file, ln, fields, near_header)) {
       header = std::move(*h);
       current.emplace(section ? *section : default_section(p), header->wells);
       continue;
@@ -193,6 +218,7 @@ Run read_wide(ReaderInput in) {
     match_capture(in.cp, line, run.metadata);
   }
   close_block();
+  if (done.empty() && near_header) throw *near_header;
   if (done.empty()) {
     throw InputError(Where{file},
                      "found no data: expected a header line with a time column and well columns (A1, A2, …)",

@@ -183,6 +183,28 @@ std::optional<TimeUnit> unit_in_header(std::string_view header) {
   return std::nullopt;
 }
 
+std::string quoted_list(const std::vector<std::string>& names) {
+  std::string out;
+  for (const auto& n : names) out += (out.empty() ? "\"" : ", \"") + n + "\"";
+  return out;
+}
+
+InputError missing_column_error(Where where, std::string_view what, const std::vector<std::string>& names,
+                                std::string_view context, std::string_view unknown) {
+  const bool time = what == "time";
+  const std::string_view holds = time ? "read times" : "values";
+  const std::string_view suggested = time ? "\"Time [s]\" (or \"Time [min]\")" : "\"value\"";
+  std::string message = fmt::format("expected a {} column ({}) in this header{}, found ", what, quoted_list(names),
+                                    context.empty() ? "" : fmt::format(" {}", context));
+  message += unknown.empty() ? std::string("none") : fmt::format("\"{}\"", unknown);
+  std::string fix = unknown.empty()
+                        ? fmt::format("add the column of {} to the export, with a header such as {}", holds, suggested)
+                        : fmt::format("if \"{}\" holds the {}, name it {} in the header, or add it to `columns.{}` in a "
+                                      "profile of your own (instrument-profiles/README.md)",
+                                      unknown, holds, suggested, what);
+  return InputError(std::move(where), std::move(message), {std::move(fix)});
+}
+
 CellKind read_cell(const Profile& p, std::string_view text, double& value) {
   std::string_view t = trim(text);
   for (const auto& tok : p.overflow_tokens)

@@ -67,6 +67,14 @@ std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal,
 // The unit a time header names ("Time [min]", "time_s"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
 
+// "a", "b", "c": names as a message lists them.
+std::string quoted_list(const std::vector<std::string>& names);
+// The error for a header line without a `what` column ("time" or "value", named one of
+// `names`): `context` says what the header has (may be empty), `unknown` is the one field
+// no column of the profile names (the missing column under another name; empty if none).
+InputError missing_column_error(Where where, std::string_view what, const std::vector<std::string>& names,
+                                std::string_view context, std::string_view unknown);
+
 enum class CellKind { number, overflow, missing, bad };
 // Classifies one value cell: overflow token, missing token, number, or bad text.
 CellKind read_cell(const Profile& p, std::string_view text, double& value);
@@ -116,7 +124,12 @@ SectionStart default_section(const Profile& p);
 struct ReaderInput {
   LineSource& src;
   const CompiledProfile& cp;
-  bool prefix_only = false;  // reading the start of a file to detect its shape
+  // Reading the start of a file to detect its shape: a bad line after the first complete
+  // read ends the reading instead of failing it (the chosen profile's full read reports it).
+  bool prefix_only = false;
+  // When given, set to the place of the first value cell read (detection's message about a
+  // file whose every value is an overflow or missing token).
+  Where* first_value = nullptr;
 };
 
 Run read_wide(ReaderInput in);

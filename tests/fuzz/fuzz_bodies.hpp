@@ -14,6 +14,7 @@
 #include <cmath>
 #include <cstdint>
 #include <cstdio>
+#include <cstring>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -133,9 +134,54 @@ inline const std::vector<Profile>& profiles_of(Shape shape) {
   return by_shape[static_cast<std::size_t>(shape)];
 }
 
+// A read's outcome in full: the error's place and message, or every field of the run but
+// its source and digest (values by their bits).
+inline std::string outcome_of(std::string_view text, const Profile& p) {
+  auto bits = [](double v) {
+    std::uint64_t b = 0;
+    std::memcpy(&b, &v, sizeof b);
+    return std::to_string(b);
+  };
+  try {
+    Run run = read_run_text("fuzz-input", text, p);
+    std::string s = std::to_string(run.format.rows) + "x" + std::to_string(run.format.columns);
+    for (const auto& [k, v] : run.metadata) s += "|" + k + "=" + v;
+    for (const auto& c : run.channels) {
+      s += "|" + c.name + " " + std::to_string(static_cast<int>(c.quantity)) + " " + c.unit + ":";
+      for (double t : c.time_s) s += bits(t) + ",";
+      for (double t : c.temperature_c) s += bits(t) + ",";
+      for (int w : c.wells) s += std::to_string(w) + ",";
+      for (Eigen::Index j = 0; j < c.values.size(); ++j)
+        s += bits(c.values.data()[j]) + "/" + std::to_string(static_cast<int>(c.status.data()[j])) + ",";
+    }
+    return s;
+  } catch (const InputError& e) {
+    return e.what();
+  }
+}
+
+// A file with LF line ends reads exactly as its copy with every LF made a lone CR (the same
+// lines, so the same run or the same error at the same place), unless its first line is not
+// text (NUL, bytes that are not UTF-8): then the CR copy is one line, refused as binary.
+inline std::string cr_copy_differs(std::string_view text, const Profile& p) {
+  if (text.find('\r') != std::string_view::npos || text.find('\n') == std::string_view::npos) return {};
+  std::string cr(text);
+  std::replace(cr.begin(), cr.end(), '\n', '\r');
+  const std::string lf_outcome = outcome_of(text, p);
+  if (lf_outcome.find("found a NUL byte") != std::string::npos ||
+      lf_outcome.find("found bytes that are not UTF-8") != std::string::npos)
+    return {};
+  const std::string cr_outcome = outcome_of(cr, p);
+  if (lf_outcome == cr_outcome) return {};
+  return p.name + ": the CR-only copy reads otherwise: " + cr_outcome.substr(0, 200) + " instead of " +
+         lf_outcome.substr(0, 200);
+}
+
 inline std::string fuzz_shape(Shape shape, std::string_view text) {
-  for (const auto& p : profiles_of(shape))
+  for (const auto& p : profiles_of(shape)) {
     if (auto why = read_one(text, p); !why.empty()) return why;
+    if (auto why = cr_copy_differs(text, p); !why.empty()) return why;
+  }
   return {};
 }
 
