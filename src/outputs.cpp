@@ -1,5 +1,7 @@
 #include "vzero/outputs.hpp"
 
+#include <algorithm>
+
 #include <nlohmann/json.hpp>
 
 namespace vzero {
@@ -54,6 +56,7 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
   ordered_json det;
   for (const auto& [k, v] : p.detected) det[k] = v;
   prov["detected"] = det;
+  prov["map_columns"] = p.map_columns;
   ordered_json conv = ordered_json::array();
   for (const auto& ra : runs) {
     for (const auto& ca : ra.channels) {
@@ -63,6 +66,19 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
       c["conversion"] = std::string(to_string(ca.conversion.mode));
       c["formula"] = ca.conversion.formula;
       c["v0_unit"] = ca.v0_unit;
+      c["slope_unit"] = ca.slope_unit;
+      // What a later step needs, stated rather than worked back from the tables: the plate,
+      // the reaction direction and the conversion factor (per well only when the path varies;
+      // each well's path is then rates.csv's path_cm).
+      c["plate"] = {{"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows},
+                    {"columns", ra.run->format.columns}};
+      c["direction"] = ca.direction_sign < 0 ? "down" : "up";
+      {
+        const auto& f = ca.conversion.factor;
+        const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });
+        if (uniform) c["conc_per_signal"] = f.front();
+        else c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
+      }
       if (ca.conversion.curve) {
         const auto& sc = *ca.conversion.curve;
         c["standard_curve"] = {{"slope", sc.slope}, {"slope_se", sc.slope_se}, {"intercept", sc.intercept},
@@ -70,6 +86,9 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
                                {"lod", sc.lod}, {"lod_basis", sc.lod_basis}, {"conc_min", sc.conc_min},
                                {"conc_max", sc.conc_max}, {"signal_min", sc.signal_min},
                                {"signal_max", sc.signal_max}, {"n", sc.n}};
+        ordered_json pts = ordered_json::array();
+        for (const auto& [conc, signal] : sc.points) pts.push_back({conc, signal});
+        c["standard_curve"]["points"] = pts;  // (concentration, signal) of each standard used
       }
       conv.push_back(c);
     }

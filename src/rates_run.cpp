@@ -67,6 +67,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   Provenance& prov = out.provenance;
   prov.tool_version = VZERO_VERSION;
   prov.options = resolved.recorded;
+  prov.map_columns = out.map.columns;
   prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", ""});
   if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", ""});
 

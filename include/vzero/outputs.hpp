@@ -29,6 +29,7 @@ struct Provenance {
   std::vector<InputRecord> inputs;
   std::vector<std::pair<std::string, std::string>> options;  // every option with its value, in order
   std::vector<std::pair<std::string, std::string>> detected;  // settings vzero chose itself (profiles, …)
+  std::vector<std::string> map_columns;  // the plate map's columns passed through to the tables, in order
 };
 
 // with_activity adds activity_U and activity_nkat; with_specific adds specific_activity_U_per_mg.
