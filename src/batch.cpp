@@ -13,7 +13,6 @@
 
 namespace vzero {
 
-
 namespace {
 
 // Drops what only the traces and the report use: reads, blank matrices, per-read flags.
@@ -52,15 +51,15 @@ long long wells_of(const RunAnalysis& a) {
 
 }  // namespace
 
-std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map,
-                                     const BatchOptions& o, const std::function<void(const BatchProgress&)>& progress,
+std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map, const BatchOptions& o,
+                                     const std::function<void(const BatchProgress&)>& progress,
                                      const std::function<void(BatchFile&)>& ready) {
   // The one check of the options, where the batch starts (the option table's rules).
   if (auto why = check_analysis_options(o.analysis); !why.empty()) throw UsageError(why);
   const int n = static_cast<int>(paths.size());
   std::vector<BatchFile> out(paths.size());
-  const int cores = o.analysis.threads > 0 ? o.analysis.threads
-                                           : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  const int cores =
+      o.analysis.threads > 0 ? o.analysis.threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
   // Files in parallel, each on one thread; a single file spreads its wells instead.
   const int workers = std::max(1, std::min(cores, n));
   const int inner = workers > 1 ? 1 : cores;
@@ -94,8 +93,7 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
       } catch (...) {
         errors[static_cast<std::size_t>(i)] = std::current_exception();
         int seen = first_failed.load();
-        while (i < seen && !first_failed.compare_exchange_weak(seen, i)) {
-        }
+        while (i < seen && !first_failed.compare_exchange_weak(seen, i)) {}
         continue;
       }
       if (progress || ready) {

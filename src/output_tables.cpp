@@ -40,10 +40,14 @@ constexpr RateEntry k_rate_columns[] = {
     {"column", integer, "", "column number", [](CsvOut& o, Rate x, std::size_t) { o.integer(x.row.well.column + 1); }},
     {"role", text, "", "sample, blank, standard or empty (from the plate map)",
      [](CsvOut& o, Rate x, std::size_t) { o.field(to_string(x.row.role)); }},
-    {.name = "", .type = text, .unit = "", .description = "plate-map column, passed through",
-     .write = [](CsvOut& o, Rate x, std::size_t i) {
-       if (x.row.info && i < x.row.info->values.size()) o.field(x.row.info->values[i]);
-     },
+    {.name = "",
+     .type = text,
+     .unit = "",
+     .description = "plate-map column, passed through",
+     .write =
+         [](CsvOut& o, Rate x, std::size_t i) {
+           if (x.row.info && i < x.row.info->values.size()) o.field(x.row.info->values[i]);
+         },
      .each = [](const RatesContext& c) -> const std::vector<std::string>& { return c.map_columns; },
      .type_of = map_column_type},
     {"v0", number, "", "initial rate in the reaction direction, unit in v0_unit",
@@ -74,7 +78,9 @@ constexpr RateEntry k_rate_columns[] = {
      [](CsvOut& o, Rate x, std::size_t) { o.field(to_string(x.row.rate.estimator)); }},
     {"flags", text, "", "';'-separated reasons to distrust the rate; empty when clean",
      [](CsvOut& o, Rate x, std::size_t) { o.joined(x.row.flags, ';'); }},
-    {"notes", text, "", "';'-separated corrections made on the way to v0 (lag skipped, outliers removed, overflow or ceiling reads left out)",
+    {"notes", text, "",
+     "';'-separated corrections made on the way to v0 (lag skipped, outliers removed, overflow or ceiling reads left "
+     "out)",
      [](CsvOut& o, Rate x, std::size_t) { o.joined(x.row.notes, ';'); }},
     {"v0_ci_low", number, "", "lower end of the 95 % interval of v0, unit in v0_unit",
      [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.v0_ci_low); }},
@@ -84,21 +90,33 @@ constexpr RateEntry k_rate_columns[] = {
      [](CsvOut& o, Rate x, std::size_t) { o.field(to_string(x.row.rate.window)); }},
     {"tangent", text, "", "which estimate v0 is (slope of the line, or an initial tangent)",
      [](CsvOut& o, Rate x, std::size_t) { o.field(x.row.rate.tangent); }},
-    {"blank_wells", text, "", "blank wells subtracted, ';'-separated; a rectangle of 3 or more as its corners (A45:AF48 = rows A to AF, columns 45 to 48)",
+    {"blank_wells", text, "",
+     "blank wells subtracted, ';'-separated; a rectangle of 3 or more as its corners (A45:AF48 = rows A to AF, columns "
+     "45 to 48)",
      [](CsvOut& o, Rate x, std::size_t) {
-       o.field(x.channel.blank.wells[static_cast<std::size_t>(x.channel.channel->column_of(x.row.plate_index))].blank_wells);
+       o.field(x.channel.blank.wells[static_cast<std::size_t>(x.channel.channel->column_of(x.row.plate_index))]
+                   .blank_wells);
      }},
     {"blank_rate", number, "", "the blank's rate, unit in slope_unit (subtracted in rate mode)",
      [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.blank_rate_per_min); }},
     {"path_cm", number, "cm", "optical path length used for Beer–Lambert",
      [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.path_cm); }},
-    {.name = "activity_U", .type = number, .unit = "U", .description = "enzyme activity in the well, µmol/min",
+    {.name = "activity_U",
+     .type = number,
+     .unit = "U",
+     .description = "enzyme activity in the well, µmol/min",
      .write = [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.activity_u); },
      .when = [](const RatesContext& c) { return c.with_activity; }},
-    {.name = "activity_nkat", .type = number, .unit = "nkat", .description = "enzyme activity in the well, nmol/s",
+    {.name = "activity_nkat",
+     .type = number,
+     .unit = "nkat",
+     .description = "enzyme activity in the well, nmol/s",
      .write = [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.activity_u * k_nkat_per_unit); },
      .when = [](const RatesContext& c) { return c.with_activity; }},
-    {.name = "specific_activity_U_per_mg", .type = number, .unit = "U/mg", .description = "activity per mg of enzyme",
+    {.name = "specific_activity_U_per_mg",
+     .type = number,
+     .unit = "U/mg",
+     .description = "activity per mg of enzyme",
      .write = [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.specific_activity); },
      .when = [](const RatesContext& c) { return c.with_specific; }},
 };
@@ -137,8 +155,14 @@ using Group = const SummaryGroup&;
 constexpr SummaryEntry k_summary_columns[] = {
     {"channel", text, "", "channel", [](CsvOut& o, Group g, std::size_t) { o.field(g.channel); }},
     {"role", text, "", "role of the wells", [](CsvOut& o, Group g, std::size_t) { o.field(g.role); }},
-    {.name = "", .type = text, .unit = "", .description = "plate-map column",
-     .write = [](CsvOut& o, Group g, std::size_t i) { if (i < g.key.size()) o.field(g.key[i]); },
+    {.name = "",
+     .type = text,
+     .unit = "",
+     .description = "plate-map column",
+     .write =
+         [](CsvOut& o, Group g, std::size_t i) {
+           if (i < g.key.size()) o.field(g.key[i]);
+         },
      .each = [](const SummaryTable& s) -> const std::vector<std::string>& { return s.columns; },
      .type_of = map_column_type},
     {"n", integer, "", "clean wells averaged", [](CsvOut& o, Group g, std::size_t) { o.integer(g.n); }},
@@ -183,12 +207,14 @@ namespace {
 
 std::vector<detail::Column<detail::RateRowRef>> rate_columns(const std::vector<std::string>& map_columns,
                                                              bool with_activity, bool with_specific) {
-  return detail::columns_for(detail::rate_declaration(), detail::RatesContext{map_columns, with_activity, with_specific});
+  return detail::columns_for(detail::rate_declaration(),
+                             detail::RatesContext{map_columns, with_activity, with_specific});
 }
 
 }  // namespace
 
-std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity, bool with_specific) {
+std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity,
+                                   bool with_specific) {
   return detail::schema_fields(rate_columns(map_columns, with_activity, with_specific));
 }
 

@@ -70,22 +70,32 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
       // What a later step needs, stated rather than worked back from the tables: the plate,
       // the reaction direction and the conversion factor (per well only when the path varies;
       // each well's path is then rates.csv's path_cm).
-      c["plate"] = {{"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows},
-                    {"columns", ra.run->format.columns}};
+      c["plate"] = {
+          {"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows}, {"columns", ra.run->format.columns}};
       c["direction"] = ca.direction_sign < 0 ? "down" : "up";
       {
         const auto& f = ca.conversion.factor;
         const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });
-        if (uniform) c["conc_per_signal"] = f.front();
-        else c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
+        if (uniform)
+          c["conc_per_signal"] = f.front();
+        else
+          c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
       }
       if (ca.conversion.curve) {
         const auto& sc = *ca.conversion.curve;
-        c["standard_curve"] = {{"slope", sc.slope}, {"slope_se", sc.slope_se}, {"intercept", sc.intercept},
-                               {"intercept_se", sc.intercept_se}, {"r2", sc.r2}, {"residual_sd", sc.residual_sd},
-                               {"lod", sc.lod}, {"lod_basis", sc.lod_basis}, {"conc_min", sc.conc_min},
-                               {"conc_max", sc.conc_max}, {"signal_min", sc.signal_min},
-                               {"signal_max", sc.signal_max}, {"n", sc.n}};
+        c["standard_curve"] = {{"slope", sc.slope},
+                               {"slope_se", sc.slope_se},
+                               {"intercept", sc.intercept},
+                               {"intercept_se", sc.intercept_se},
+                               {"r2", sc.r2},
+                               {"residual_sd", sc.residual_sd},
+                               {"lod", sc.lod},
+                               {"lod_basis", sc.lod_basis},
+                               {"conc_min", sc.conc_min},
+                               {"conc_max", sc.conc_max},
+                               {"signal_min", sc.signal_min},
+                               {"signal_max", sc.signal_max},
+                               {"n", sc.n}};
         ordered_json pts = ordered_json::array();
         for (const auto& [conc, signal] : sc.points) pts.push_back({conc, signal});
         c["standard_curve"]["points"] = pts;  // (concentration, signal) of each standard used

@@ -17,10 +17,14 @@ namespace vzero {
 
 std::string_view to_string(Role r) {
   switch (r) {
-    case Role::sample: return "sample";
-    case Role::blank: return "blank";
-    case Role::standard: return "standard";
-    case Role::empty: return "empty";
+    case Role::sample:
+      return "sample";
+    case Role::blank:
+      return "blank";
+    case Role::standard:
+      return "standard";
+    case Role::empty:
+      return "empty";
   }
   return "empty";
 }
@@ -72,7 +76,8 @@ double parse_conc(const std::string& file, const Cell& c, const std::string& col
 // Builds the map from per-well named values (column name -> cell), in column order.
 class MapBuilder {
  public:
-  MapBuilder(std::string file, std::vector<std::string> columns) : file_(std::move(file)), columns_(std::move(columns)) {
+  MapBuilder(std::string file, std::vector<std::string> columns)
+      : file_(std::move(file)), columns_(std::move(columns)) {
     for (const auto& c : columns_) {
       std::string l = detail::lower(c);
       if (l != "well" && l != "role") map_.columns.push_back(c);
@@ -97,9 +102,12 @@ class MapBuilder {
         info.role = parse_role(file_, c);
         continue;
       }
-      if (l == "substrate") info.substrate = parse_conc(file_, c, columns_[i]);
-      else if (l == "standard_conc") info.standard_conc = parse_conc(file_, c, columns_[i]);
-      else if (l == "match") info.match = std::string(detail::trim(c.text));
+      if (l == "substrate")
+        info.substrate = parse_conc(file_, c, columns_[i]);
+      else if (l == "standard_conc")
+        info.standard_conc = parse_conc(file_, c, columns_[i]);
+      else if (l == "match")
+        info.match = std::string(detail::trim(c.text));
       info.values.push_back(std::string(detail::trim(c.text)));
     }
     if (info.role == Role::standard && std::isnan(info.standard_conc)) {
@@ -230,7 +238,8 @@ PlateMap read_grid_form(const std::string& name, std::string_view text) {
   MapBuilder b(name, columns);
   for (const auto& [w, per] : values) {
     std::string role_var;
-    for (const auto& v : variables) if (detail::iequals(v, "role")) role_var = v;
+    for (const auto& v : variables)
+      if (detail::iequals(v, "role")) role_var = v;
     auto rit = per.find(role_var);
     if (rit == per.end() || rit->second.text.empty()) continue;  // not in the map
     std::vector<Cell> cells{Cell{well_name(w), first_line[w], 1, ""}};
@@ -272,11 +281,11 @@ void check_plate_map(const PlateMap& map, const Run& run) {
   for (const auto& [w, info] : map.wells) {
     const Where where{map.source, info.line, info.column, info.line_text};
     if (!run.format.holds(w)) {
-      throw InputError(where,
-                       fmt::format("well {} is not on the {}-well plate (rows A–{}, columns 1–{}) read from {}",
-                                   well_name(w), run.format.wells(), row_label(run.format.rows - 1),
-                                   run.format.columns, run.source),
-                       {"check the well name in the plate map, or set `plate` in the profile"});
+      throw InputError(
+          where,
+          fmt::format("well {} is not on the {}-well plate (rows A–{}, columns 1–{}) read from {}", well_name(w),
+                      run.format.wells(), row_label(run.format.rows - 1), run.format.columns, run.source),
+          {"check the well name in the plate map, or set `plate` in the profile"});
     }
     bool read = false;
     for (const auto& c : run.channels) read |= c.column_of(run.format.index(w)) >= 0;

@@ -40,7 +40,8 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   inputs.push_back({"the plate map (--layout)", s.layout});
   if (!s.method.empty()) inputs.push_back({"the method file (--method)", s.method});
   std::error_code ec;
-  if (!s.profile.empty() && fs::is_regular_file(s.profile, ec)) inputs.push_back({"the profile (--profile)", s.profile});
+  if (!s.profile.empty() && fs::is_regular_file(s.profile, ec))
+    inputs.push_back({"the profile (--profile)", s.profile});
   outputs.push_back({"--output", s.output});
   if (!s.traces.empty()) outputs.push_back({"--traces", s.traces});
   if (!s.summary.empty()) outputs.push_back({"--summary", s.summary});
@@ -61,8 +62,9 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   RatesOutputs out;
   if (s.analysis.convert.mode == ConvertMode::signal_only &&
       std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end())
-    out.notes.push_back("no conversion given (--epsilon with a path length, --standards, or --signal-only); "
-                        "rates stay in signal units per minute");
+    out.notes.push_back(
+        "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
+        "rates stay in signal units per minute");
   out.map = read_plate_map(s.layout);
   Provenance& prov = out.provenance;
   prov.tool_version = VZERO_VERSION;
@@ -130,8 +132,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);
   if (!s.report.empty())
     out.report_html = render_report(
-        report_input(out.analyses, out.map.columns, with_activity, with_specific, out.summary,
-                     out.datapackage_json));
+        report_input(out.analyses, out.map.columns, with_activity, with_specific, out.summary, out.datapackage_json));
   return out;
 }
 

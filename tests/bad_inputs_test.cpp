@@ -35,8 +35,8 @@ struct Case {
   std::string file;     // name in the suite (or "generated:NAME")
   std::string command;  // vzero arguments; {file} is the input, {demo} the demo-data folder
   int status = 0;
-  std::string expect;   // fail: first stderr line; pass: "same-as FILE" or "stdout-has TEXT"
-  std::string fix;      // fail: text of one "possible fix" line
+  std::string expect;  // fail: first stderr line; pass: "same-as FILE" or "stdout-has TEXT"
+  std::string fix;     // fail: text of one "possible fix" line
   int tsv_line = 0;
 };
 
@@ -105,7 +105,8 @@ std::string generate(const std::string& name) {
     return "# vzero test input: line 3 is 17 MiB long\nOperator: test\n" + std::string(17u << 20, '7') + "\n" + wide;
   }
   const std::string demo = "demo_crlf_bom_";
-  if (name.rfind("pass_" + demo, 0) == 0) return to_crlf_bom(slurp(source("demo-data/" + name.substr(5 + demo.size()))));
+  if (name.rfind("pass_" + demo, 0) == 0)
+    return to_crlf_bom(slurp(source("demo-data/" + name.substr(5 + demo.size()))));
   FAIL("no generator for " << name);
   return {};
 }
@@ -239,7 +240,8 @@ TEST_CASE("CRLF, BOM and LF variants of a plate map and of each shape read into 
         if (cx.status.data()[k] == vzero::ReadStatus::ok) CHECK(cx.values.data()[k] == cy.values.data()[k]);
     }
   };
-  for (const char* v : {"pass_crlf_wide.csv", "pass_bom_wide.csv", "pass_bom_crlf_wide.csv", "pass_no_final_newline_wide.csv"}) {
+  for (const char* v :
+       {"pass_crlf_wide.csv", "pass_bom_wide.csv", "pass_bom_crlf_wide.csv", "pass_no_final_newline_wide.csv"}) {
     CAPTURE(v);
     same_run("pass_lf_wide.csv", v, "wide-generic");
   }

@@ -13,9 +13,11 @@ using namespace vzero;
 //   B1 (S=100): 0.05 + 0.0001·t   B2 (S=200): 0.05 + 0.0002·t
 //   A1 (S=100): 0.05 + 0.0011·t   A2 (S=200): 0.05 + 0.0012·t
 namespace {
-const char* k_plate = "Time [s],A1,A2,B1,B2\n0,0.05,0.05,0.05,0.05\n30,0.083,0.086,0.053,0.056\n"
-                      "60,0.116,0.122,0.056,0.062\n90,0.149,0.158,0.059,0.068\n";
-const char* k_map = "well,role,substrate,match\nA1,sample,100,S100\nA2,sample,200,S200\nB1,blank,100,S100\nB2,blank,200,S200\n";
+const char* k_plate =
+    "Time [s],A1,A2,B1,B2\n0,0.05,0.05,0.05,0.05\n30,0.083,0.086,0.053,0.056\n"
+    "60,0.116,0.122,0.056,0.062\n90,0.149,0.158,0.059,0.068\n";
+const char* k_map =
+    "well,role,substrate,match\nA1,sample,100,S100\nA2,sample,200,S200\nB1,blank,100,S100\nB2,blank,200,S200\n";
 
 double slope(const BlankResult& b, const Channel& c, int col) {
   // Exact data: the slope between the first and last read is the slope.

@@ -23,10 +23,11 @@ TEST_CASE("help explains every command and option") {
     CHECK(r.out.find("usage: vzero") != std::string::npos);
   }
   auto rates = run_vzero("rates --help");
-  for (const char* opt : {"--layout", "--method", "--epsilon", "--path-cm", "--volume-ul", "--well-diameter-mm",
-                          "--water-peak", "--standards", "--signal-only", "--blank", "--blank-mode", "--direction",
-                          "--skip-s", "--min-points", "--max-conversion", "--estimator", "--window", "--traces",
-                          "--summary", "--threads", "--signal-ceiling", "--conc-unit", "--well-volume-ul"}) {
+  for (const char* opt :
+       {"--layout",     "--method",     "--epsilon",        "--path-cm",   "--volume-ul",     "--well-diameter-mm",
+        "--water-peak", "--standards",  "--signal-only",    "--blank",     "--blank-mode",    "--direction",
+        "--skip-s",     "--min-points", "--max-conversion", "--estimator", "--window",        "--traces",
+        "--summary",    "--threads",    "--signal-ceiling", "--conc-unit", "--well-volume-ul"}) {
     CAPTURE(opt);
     CHECK(rates.out.find(opt) != std::string::npos);
   }
@@ -76,8 +77,8 @@ TEST_CASE("inspect reports what it read") {
 
 TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical for any thread count") {
   TempDir dir;
-  std::string common = "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
-                       " --method " + demo("esterase_method.toml") + " --summary summary.csv --traces traces.csv";
+  std::string common = "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method " +
+                       demo("esterase_method.toml") + " --summary summary.csv --traces traces.csv";
   auto one = run_vzero(common + " -o one.csv --threads 1", dir.path.string());
   INFO(one.describe());
   REQUIRE(one.status == 0);
@@ -114,8 +115,9 @@ TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical
   for (const auto& f : j["resources"][0]["schema"]["fields"])
     if (f["name"] == "substrate") with_unit += f.value("unit", "") == "uM";
   CHECK(with_unit == 1);
-  auto fit = run_vzero("fit two.csv --x substrate --inhibitor inhibitor_uM --model competitive --group enzyme_nM -o fit.csv --quiet",
-                       dir.path.string());
+  auto fit = run_vzero(
+      "fit two.csv --x substrate --inhibitor inhibitor_uM --model competitive --group enzyme_nM -o fit.csv --quiet",
+      dir.path.string());
   INFO(fit.describe());
   REQUIRE(fit.status == 0);
   vzero::Table ft = vzero::read_table(dir / "fit.csv");
@@ -131,8 +133,9 @@ TEST_CASE("rates on the demo plate: every well a row, provenance, byte-identical
 TEST_CASE("command-line flags override the method file; method-file mistakes name the line") {
   TempDir dir;
   spit(dir / "m.toml", "epsilon = 18000\npath-cm = 0.5\nblank = \"sideways\"\n");
-  auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method m.toml",
-                     dir.path.string());
+  auto r =
+      run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method m.toml",
+                dir.path.string());
   INFO(r.describe());
   CHECK(r.status == 1);
   CHECK(r.err ==
@@ -143,9 +146,9 @@ TEST_CASE("command-line flags override the method file; method-file mistakes nam
                       dir.path.string());
   CHECK(ok.status == 0);
   spit(dir / "typo.toml", "epsilom = 18000\n");
-  auto typo = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") +
-                            " --method typo.toml",
-                        dir.path.string());
+  auto typo = run_vzero(
+      "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method typo.toml",
+      dir.path.string());
   CHECK(typo.status == 1);
   CHECK(typo.err ==
         "typo.toml:1:1: unknown method key `epsilom`\n"
@@ -186,16 +189,21 @@ TEST_CASE("no output replaces an input or another output; a missing output folde
     std::string args, err;
   };
   const std::vector<Case> cases = {
-      {" -o plate.csv", "vzero rates: --output (plate.csv) is the export plate.csv; vzero never overwrites an input: "
-                        "choose another output path\n  see: vzero rates --help\n"},
-      {" -o map.csv", "vzero rates: --output (map.csv) is the plate map (--layout) map.csv; vzero never overwrites an "
-                      "input: choose another output path\n  see: vzero rates --help\n"},
-      {" --summary ./m.toml", "vzero rates: --summary (./m.toml) is the method file (--method) m.toml; vzero never "
-                              "overwrites an input: choose another output path\n  see: vzero rates --help\n"},
-      {" -o r.csv --traces ./r.csv", "vzero rates: --output and --traces both name ./r.csv; each output needs its own "
-                                     "file\n  see: vzero rates --help\n"},
-      {" -o datapackage.json", "vzero rates: --output and datapackage.json (written beside --output) both name "
-                               "datapackage.json; each output needs its own file\n  see: vzero rates --help\n"},
+      {" -o plate.csv",
+       "vzero rates: --output (plate.csv) is the export plate.csv; vzero never overwrites an input: "
+       "choose another output path\n  see: vzero rates --help\n"},
+      {" -o map.csv",
+       "vzero rates: --output (map.csv) is the plate map (--layout) map.csv; vzero never overwrites an "
+       "input: choose another output path\n  see: vzero rates --help\n"},
+      {" --summary ./m.toml",
+       "vzero rates: --summary (./m.toml) is the method file (--method) m.toml; vzero never "
+       "overwrites an input: choose another output path\n  see: vzero rates --help\n"},
+      {" -o r.csv --traces ./r.csv",
+       "vzero rates: --output and --traces both name ./r.csv; each output needs its own "
+       "file\n  see: vzero rates --help\n"},
+      {" -o datapackage.json",
+       "vzero rates: --output and datapackage.json (written beside --output) both name "
+       "datapackage.json; each output needs its own file\n  see: vzero rates --help\n"},
   };
   for (const auto& c : cases) {
     auto r = run_vzero(base + c.args, dir.path.string());
@@ -221,6 +229,7 @@ TEST_CASE("no output replaces an input or another output; a missing output folde
   REQUIRE(ok.status == 0);
   auto fit = run_vzero("fit rates.csv --x substrate -o rates.csv", dir.path.string());
   CHECK(fit.status == 2);
-  CHECK(fit.err == "vzero fit: -o (rates.csv) is the table rates.csv; vzero never overwrites an input: choose another "
-                   "output path\n  see: vzero fit --help\n");
+  CHECK(fit.err ==
+        "vzero fit: -o (rates.csv) is the table rates.csv; vzero never overwrites an input: choose another "
+        "output path\n  see: vzero fit --help\n");
 }

@@ -3,9 +3,9 @@
 
 #include "test_support.hpp"
 #include "vzero/convert.hpp"
-#include "vzero/settings.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
+#include "vzero/settings.hpp"
 
 using namespace vzero;
 
@@ -54,9 +54,10 @@ TEST_CASE("path length of a liquid cylinder, V / (π r²)") {
 TEST_CASE("path length per well from the water peak") {
   // Worked example (shared REFERENCES.md §6): l = (A977 − A900) / k with k = 0.18 AU per cm
   // (common practice, room temperature): 0.0900 / 0.18 = 0.5 cm. A2: 0.1260 / 0.18 = 0.7 cm.
-  Run run = plate("Channel: A405\nTime [s],A1,A2\n0,0.1,0.2\n30,0.2,0.3\n\n"
-                  "Channel: A977\nTime [s],A1,A2\n0,0.1400,0.1800\n\n"
-                  "Channel: A900\nTime [s],A1,A2\n0,0.0500,0.0540\n");
+  Run run = plate(
+      "Channel: A405\nTime [s],A1,A2\n0,0.1,0.2\n30,0.2,0.3\n\n"
+      "Channel: A977\nTime [s],A1,A2\n0,0.1400,0.1800\n\n"
+      "Channel: A900\nTime [s],A1,A2\n0,0.0500,0.0540\n");
   PlateMap map = parse_plate_map("map.csv", "well,role\nA1,sample\nA2,sample\n");
   ConvertOptions o;
   o.mode = ConvertMode::beer_lambert;
@@ -116,8 +117,8 @@ TEST_CASE("linear standard curve matches R lm on the REFERENCES §7 dataset") {
 TEST_CASE("a standard curve from the map's standard wells converts rates by 1/b") {
   // Exact synthetic standards: RFU = 50 + 1000·c, so b = 1000 RFU per µM and 1/b = 1e-3 µM per RFU.
   Run run = plate("Channel: ex360/em460\nTime [s],A1,A2,A3,A4\n0,50,550,1050,2050\n30,50,550,1050,2050\n");
-  PlateMap map = parse_plate_map("map.csv",
-                                 "well,role,standard_conc\nA1,standard,0\nA2,standard,0.5\nA3,standard,1\nA4,standard,2\n");
+  PlateMap map = parse_plate_map(
+      "map.csv", "well,role,standard_conc\nA1,standard,0\nA2,standard,0.5\nA3,standard,1\nA4,standard,2\n");
   ConvertOptions o;
   o.mode = ConvertMode::standard_curve;
   Conversion cv = plan_conversion(run, run.channels[0], map, o);

@@ -42,7 +42,8 @@ TEST_CASE("a grid read with a header and no plate row is blamed on its header li
         "  line 4: \t1\t2\t3\n"
         "  possible fixes:\n"
         "    - check that the export is complete\n"
-        "    - no built-in profile reads this file; grid-generic" + k_nearest_tail);
+        "    - no built-in profile reads this file; grid-generic" +
+            k_nearest_tail);
 }
 
 TEST_CASE("a file whose every value is an overflow token names the profile that reads its layout") {
@@ -56,7 +57,8 @@ TEST_CASE("a file whose every value is an overflow token names the profile that 
         "    - check that the plate was read as intended: with no number in any well there is no rate to find\n"
         "    - to read the file as it is (every well then flagged), pass --profile wide-generic");
   // The fix it offers works: the file reads with that profile, every value an overflow.
-  auto run = vzero::read_run(source("tests/bad-inputs/fail_every_value_overflow.csv"), vzero::load_profile("wide-generic"));
+  auto run =
+      vzero::read_run(source("tests/bad-inputs/fail_every_value_overflow.csv"), vzero::load_profile("wide-generic"));
   REQUIRE(run.channels.size() == 1);
   CHECK(run.channels[0].reads() == 3);
   CHECK((run.channels[0].status.array() == vzero::ReadStatus::overflow).all());
@@ -79,7 +81,8 @@ TEST_CASE("a file with CR-only line ends is read as its LF original") {
       CHECK(a.channels[c].wells == b.channels[c].wells);
       CHECK((a.channels[c].status.array() == b.channels[c].status.array()).all());
       CHECK((a.channels[c].values.array().isNaN() == b.channels[c].values.array().isNaN()).all());
-      CHECK((a.channels[c].values.array() == b.channels[c].values.array() || a.channels[c].values.array().isNaN()).all());
+      CHECK(
+          (a.channels[c].values.array() == b.channels[c].values.array() || a.channels[c].values.array().isNaN()).all());
     }
     CHECK(a.metadata == b.metadata);
   }
@@ -93,7 +96,8 @@ TEST_CASE("a header of wells without a time column is blamed on that header") {
         "  line 2: A1,A2,A3\n"
         "  possible fixes:\n"
         "    - add the column of read times to the export, with a header such as \"Time [s]\" (or \"Time [min]\")\n"
-        "    - no built-in profile reads this file; wide-generic" + k_nearest_tail);
+        "    - no built-in profile reads this file; wide-generic" +
+            k_nearest_tail);
   CHECK(detection_message("fail_time_column_unknown_name.csv") ==
         "fail_time_column_unknown_name.csv:2:1: expected a time column (\"time\", \"time [s]\", \"time (s)\", "
         "\"time_s\", \"time [min]\", \"time (min)\", \"time_min\") in this header of 3 well columns, found "
@@ -102,7 +106,8 @@ TEST_CASE("a header of wells without a time column is blamed on that header") {
         "  possible fixes:\n"
         "    - if \"Elapsed\" holds the read times, name it \"Time [s]\" (or \"Time [min]\") in the header, or add it "
         "to `columns.time` in a profile of your own (instrument-profiles/README.md)\n"
-        "    - no built-in profile reads this file; wide-generic" + k_nearest_tail);
+        "    - no built-in profile reads this file; wide-generic" +
+            k_nearest_tail);
 }
 
 TEST_CASE("a long header without a value column is blamed on that header, at the unknown column") {
@@ -114,7 +119,8 @@ TEST_CASE("a long header without a value column is blamed on that header, at the
         "  possible fixes:\n"
         "    - if \"absorbance\" holds the values, name it \"value\" in the header, or add it to `columns.value` in a "
         "profile of your own (instrument-profiles/README.md)\n"
-        "    - no built-in profile reads this file; long-generic" + k_nearest_tail);
+        "    - no built-in profile reads this file; long-generic" +
+            k_nearest_tail);
 }
 
 TEST_CASE("near misses do not disturb a file another profile reads, nor a plate map's hint") {

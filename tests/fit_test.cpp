@@ -2,14 +2,14 @@
 // Reference values: shared REFERENCES.md §4 (Puromycin, Misra1d) unless said otherwise.
 #include "vzero/fit.hpp"
 
+#include <sys/wait.h>
+#include <unistd.h>
 #include <array>
-#include <nlohmann/json.hpp>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <nlohmann/json.hpp>
 #include <sstream>
-#include <sys/wait.h>
-#include <unistd.h>
 
 #include "kinetic_check.hpp"
 #include "test_support.hpp"
@@ -30,7 +30,7 @@ const std::vector<double> puro_untreated_v = {67, 51, 84, 86, 98, 115, 131, 124,
 
 // NIST StRD nonlinear regression Misra1d (as shipped in Eigen 3.4.0's
 // unsupported/test/levenberg_marquardt.cpp): y = b1*b2*x/(1 + b2*x) = Vmax*S/(Km + S).
-const std::vector<double> misra1d_x = {77.6, 114.9, 141.1, 190.8, 239.9, 289.0, 332.8,
+const std::vector<double> misra1d_x = {77.6,  114.9, 141.1, 190.8, 239.9, 289.0, 332.8,
                                        378.4, 434.8, 477.3, 536.8, 593.1, 689.1, 760.0};
 const std::vector<double> misra1d_y = {10.07, 14.73, 17.94, 23.93, 29.61, 35.18, 40.02,
                                        44.82, 50.76, 55.05, 61.01, 66.40, 75.47, 81.78};
@@ -41,7 +41,6 @@ std::string read_file(const std::string& path) {
   ss << in.rdbuf();
   return ss.str();
 }
-
 
 }  // namespace
 
@@ -174,13 +173,13 @@ TEST_CASE("NIST StRD Misra1d from both certified start vectors (REFERENCES.md §
     CHECK(r.converged);
     const auto& vmax = r.parameters[0];
     const auto& km = r.parameters[1];
-    CHECK_REL(vmax.estimate, 437.36970754, 1e-7);            // NIST certified b1
-    CHECK_REL(1 / km.estimate, 3.0227324449e-4, 1e-7);       // NIST certified b2
-    CHECK_REL(km.estimate, 3308.265015936872, 1e-7);         // 1/b2
-    CHECK_REL(r.rss, 5.6419295283e-2, 1e-9);                  // NIST certified RSS
-    CHECK_REL(r.residual_sd, 6.85682721e-2, 1e-8);            // R nlsLM, SciPy
-    CHECK_REL(vmax.se, 3.6489175, 1e-6);                      // R nlsLM, SciPy
-    CHECK_REL(km.se, 32.1053, 1e-4);                          // R nls on the MM form
+    CHECK_REL(vmax.estimate, 437.36970754, 1e-7);       // NIST certified b1
+    CHECK_REL(1 / km.estimate, 3.0227324449e-4, 1e-7);  // NIST certified b2
+    CHECK_REL(km.estimate, 3308.265015936872, 1e-7);    // 1/b2
+    CHECK_REL(r.rss, 5.6419295283e-2, 1e-9);            // NIST certified RSS
+    CHECK_REL(r.residual_sd, 6.85682721e-2, 1e-8);      // R nlsLM, SciPy
+    CHECK_REL(vmax.se, 3.6489175, 1e-6);                // R nlsLM, SciPy
+    CHECK_REL(km.se, 32.1053, 1e-4);                    // R nls on the MM form
     // SE(b2) on the (b1, b2) scale is SE(Km)/Km² (the tangent-plane covariance transforms exactly).
     CHECK_REL(km.se / (km.estimate * km.estimate), 2.9334355e-6, 1e-6);
   }
@@ -221,8 +220,8 @@ TEST_CASE("exact recovery on noiseless simulated data, every model (simulation w
     CAPTURE(t.model.name);
     std::vector<double> s, i, v;
     make_data(t, s, i, v);
-    const auto r = t.model.needs_inhibitor() ? vzero::fit_inhibition(s, i, v, {}, t.model)
-                                             : vzero::fit_model(s, v, {}, t.model);
+    const auto r =
+        t.model.needs_inhibitor() ? vzero::fit_inhibition(s, i, v, {}, t.model) : vzero::fit_model(s, v, {}, t.model);
     INFO(r.message);
     REQUIRE(r.ok);
     CHECK(r.converged);
@@ -237,7 +236,8 @@ TEST_CASE("exact recovery on noiseless simulated data, every model (simulation w
 
 TEST_CASE("analytic gradients match central finite differences, every registered model") {
   REQUIRE(vzero::kinetic_models().size() >= 6);
-  for (const vzero::KineticModel* m : vzero::kinetic_models()) vzero::test::check_gradient(*m, vzero::test::probe_parameters(*m));
+  for (const vzero::KineticModel* m : vzero::kinetic_models())
+    vzero::test::check_gradient(*m, vzero::test::probe_parameters(*m));
   // And at the simulation truths above (Hill n = 2.2, substrate-inhibition Km 40).
   vzero::test::check_gradient(builtin("hill"), {5, 30, 2.2});
   vzero::test::check_gradient(builtin("substrate-inhibition"), {10, 40, 300});
@@ -292,8 +292,7 @@ TEST_CASE("fits the data cannot support give a message, not a number") {
 
 TEST_CASE("weights: a common factor changes nothing; weight 2 equals a duplicated point") {
   const auto plain = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
-  const auto scaled = vzero::fit_model(puro_treated_S, puro_treated_v, std::vector<double>(12, 4.0),
-                                       builtin("mm"));
+  const auto scaled = vzero::fit_model(puro_treated_S, puro_treated_v, std::vector<double>(12, 4.0), builtin("mm"));
   REQUIRE(plain.ok);
   REQUIRE(scaled.ok);
   for (std::size_t k = 0; k < 2; ++k) {
@@ -377,8 +376,8 @@ TEST_CASE("fit_table: filters role and flags, groups, units, kcat (Puromycin as 
   CHECK_REL(t.fits[1].result.parameters[1].estimate, 0.0477081845059544, 1e-6);
   REQUIRE(t.fits[0].derived.size() == 2);
   CHECK_REL(t.fits[0].derived[0].estimate, 212.683743142536 / 2, 1e-6);
-  CHECK(t.fits[0].units == std::vector<std::string>{"counts/min/min", "ppm", "counts/min/min per nM",
-                                                    "counts/min/min per nM per ppm"});
+  CHECK(t.fits[0].units ==
+        std::vector<std::string>{"counts/min/min", "ppm", "counts/min/min per nM", "counts/min/min per nM per ppm"});
   const auto csv = vzero::parse_table("fit.csv", vzero::fit_csv(t));
   CHECK(csv.header == std::vector<std::string>{"state", "model", "parameter", "estimate", "se", "ci_low", "ci_high",
                                                "profile_low", "profile_high", "unit", "n", "df", "rss", "residual_sd",
@@ -445,8 +444,7 @@ TEST_CASE("fit_table: replicate SDs from per-well rows, and weights that cannot 
         "replicate-sd weighting: substrate 1 has 1 replicate(s) with sd 0; every concentration needs at least 2 "
         "replicates that differ");
   o.weighting = vzero::Weighting::relative;
-  const auto negative =
-      vzero::fit_table(vzero::parse_table("wells.csv", "substrate,v0\n1,-0.1\n2,3\n2,3.5\n4,4\n"), o);
+  const auto negative = vzero::fit_table(vzero::parse_table("wells.csv", "substrate,v0\n1,-0.1\n2,3\n2,3.5\n4,4\n"), o);
   CHECK(negative.fits[0].result.message == "relative weighting (1/v^2) needs positive rates; 1 of 4 rates are <= 0");
 }
 
@@ -552,8 +550,8 @@ struct Run {
 
 Run run_vzero(const std::filesystem::path& dir, const std::string& arguments) {
   Run r;
-  r.command = "cd '" + dir.string() + "' && '" + std::string(VZERO_BINARY) + "' " + arguments +
-              " > stdout.txt 2> stderr.txt";
+  r.command =
+      "cd '" + dir.string() + "' && '" + std::string(VZERO_BINARY) + "' " + arguments + " > stdout.txt 2> stderr.txt";
   const int raw = std::system(r.command.c_str());
   r.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
   r.out = read_file((dir / "stdout.txt").string());
@@ -572,8 +570,9 @@ std::filesystem::path temp_dir(const std::string& name) {
 
 TEST_CASE("CLI: vzero fit reproduces Puromycin from a rates table (REFERENCES.md §4a)") {
   const auto dir = temp_dir("ok");
-  const Run r = run_vzero(dir, "fit rates.csv --x substrate_ppm --group state --enzyme enzyme_nM -o fit.csv "
-                               "--json fit.json --diagnostics diag.csv");
+  const Run r = run_vzero(dir,
+                          "fit rates.csv --x substrate_ppm --group state --enzyme enzyme_nM -o fit.csv "
+                          "--json fit.json --diagnostics diag.csv");
   INFO("command: " << r.command << "\nstdout:\n" << r.out << "\nstderr:\n" << r.err);
   REQUIRE(r.status == 0);
   const auto fit = vzero::read_table((dir / "fit.csv").string());

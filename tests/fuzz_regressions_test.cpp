@@ -49,14 +49,22 @@ TEST_CASE("every saved fuzz input passes its fuzz body: no crash, no broken inva
       const std::string text = slurp(f.path().string());
       CAPTURE(f.path().string());
       std::string why;
-      if (target == "profile") why = vzero::fuzz::fuzz_profile(text);
-      else if (target == "wide") why = vzero::fuzz::fuzz_shape(vzero::Shape::wide, text);
-      else if (target == "grid") why = vzero::fuzz::fuzz_shape(vzero::Shape::grid, text);
-      else if (target == "long") why = vzero::fuzz::fuzz_shape(vzero::Shape::long_form, text);
-      else if (target == "plate_map") why = vzero::fuzz::fuzz_plate_map(text);
-      else if (target == "detect") why = vzero::fuzz::fuzz_detect(text);
-      else if (target == "method") why = vzero::fuzz::fuzz_method(text);
-      else FAIL("unknown fuzz target folder " << target);
+      if (target == "profile")
+        why = vzero::fuzz::fuzz_profile(text);
+      else if (target == "wide")
+        why = vzero::fuzz::fuzz_shape(vzero::Shape::wide, text);
+      else if (target == "grid")
+        why = vzero::fuzz::fuzz_shape(vzero::Shape::grid, text);
+      else if (target == "long")
+        why = vzero::fuzz::fuzz_shape(vzero::Shape::long_form, text);
+      else if (target == "plate_map")
+        why = vzero::fuzz::fuzz_plate_map(text);
+      else if (target == "detect")
+        why = vzero::fuzz::fuzz_detect(text);
+      else if (target == "method")
+        why = vzero::fuzz::fuzz_method(text);
+      else
+        FAIL("unknown fuzz target folder " << target);
       CHECK(why == "");
       ++replayed;
     }
@@ -66,11 +74,11 @@ TEST_CASE("every saved fuzz input passes its fuzz body: no crash, no broken inva
 
 TEST_CASE("a file without a final newline reads exactly as the same file with one") {
   // The fix adds the missing newline inside the line reader; it must be invisible.
-  for (const auto& [target, name, profile] : {
-           std::tuple{"wide", "no_final_newline_stale_block.csv", "wide-generic"},
-           std::tuple{"grid", "no_final_newline_stale_block.txt", "grid-generic"},
-           std::tuple{"long", "no_final_newline_stale_block.csv", "long-generic"},
-           std::tuple{"detect", "no_final_newline_stale_block.csv", "wide-generic"}}) {
+  for (const auto& [target, name, profile] :
+       {std::tuple{"wide", "no_final_newline_stale_block.csv", "wide-generic"},
+        std::tuple{"grid", "no_final_newline_stale_block.txt", "grid-generic"},
+        std::tuple{"long", "no_final_newline_stale_block.csv", "long-generic"},
+        std::tuple{"detect", "no_final_newline_stale_block.csv", "wide-generic"}}) {
     CAPTURE(name);
     std::string text = regression(target, name);
     REQUIRE(!text.empty());
@@ -98,7 +106,8 @@ TEST_CASE("regression: a non-ASCII mark after a profile key is a TOML syntax err
   } catch (const vzero::InputError& e) {
     CHECK(e.where().line == 1);
     CHECK(e.where().column == 11);
-    CHECK(e.message() == "the profile is not valid TOML: Error while parsing key-value pair: expected '=', saw '\xCC\xBF'");
+    CHECK(e.message() ==
+          "the profile is not valid TOML: Error while parsing key-value pair: expected '=', saw '\xCC\xBF'");
   }
 }
 
@@ -136,7 +145,8 @@ TEST_CASE("regression: a plate given as a float beyond int64 is refused without 
     FAIL("expected an InputError");
   } catch (const vzero::InputError& e) {
     CHECK(std::string(e.what()) ==
-          "p.toml:2:9: profile key `plate` is \"4.5555555555555557e+83\"; expected 0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
+          "p.toml:2:9: profile key `plate` is \"4.5555555555555557e+83\"; expected 0 (infer) or one of 6, 12, 24, 48, "
+          "96, 384, 1536");
   }
   // A whole float of a standard plate still reads.
   CHECK(vzero::parse_profile("shape = \"wide\"\nplate = 96.0\n", "p.toml", "p").plate_wells == 96);
@@ -147,8 +157,9 @@ TEST_CASE("regression: plate = 2^32 + 96 in a profile is refused, not read as 96
     vzero::parse_profile("shape = \"wide\"\nplate = 4294967392\n", "p.toml", "p");
     FAIL("expected an InputError");
   } catch (const vzero::InputError& e) {
-    CHECK(std::string(e.what()) ==
-          "p.toml:2:9: profile key `plate` is \"4294967392\"; expected 0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
+    CHECK(
+        std::string(e.what()) ==
+        "p.toml:2:9: profile key `plate` is \"4294967392\"; expected 0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
   }
 }
 

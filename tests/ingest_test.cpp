@@ -31,8 +31,10 @@ void check_same(const Run& a, const Run& b) {
     REQUIRE(x.values.cols() == y.values.cols());
     int differ = 0;
     for (Eigen::Index i = 0; i < x.values.size(); ++i) {
-      if (x.status.data()[i] != y.status.data()[i]) ++differ;
-      else if (x.status.data()[i] == ReadStatus::ok && x.values.data()[i] != y.values.data()[i]) ++differ;
+      if (x.status.data()[i] != y.status.data()[i])
+        ++differ;
+      else if (x.status.data()[i] == ReadStatus::ok && x.values.data()[i] != y.values.data()[i])
+        ++differ;
     }
     CHECK(differ == 0);
   }
@@ -173,11 +175,10 @@ TEST_CASE("reader errors name file:line:column, what was expected and found, and
         "  line 1: Time [s],A1,Q99\n"
         "  possible fix: add \"Q99\" to `columns.ignore` (or `columns.temperature`) in the profile");
   CHECK(message_of([] { wide(""); }).rfind("t.csv: found no data", 0) == 0);
-  CHECK(message_of([] {
-          read_run_text("l.csv", "well,time,value\nZZ9,0,1\n", load_profile("long-generic"));
-        }) == "l.csv:2:1: expected a well name (A1 … AF48), found \"ZZ9\"\n"
-              "  line 2: ZZ9,0,1\n"
-              "  possible fix: check the well column; names are a row letter (A–Z, AA–AF) and a column number");
+  CHECK(message_of([] { read_run_text("l.csv", "well,time,value\nZZ9,0,1\n", load_profile("long-generic")); }) ==
+        "l.csv:2:1: expected a well name (A1 … AF48), found \"ZZ9\"\n"
+        "  line 2: ZZ9,0,1\n"
+        "  possible fix: check the well column; names are a row letter (A–Z, AA–AF) and a column number");
   CHECK(message_of([] { wide(std::string("Time [s],A1\n0,1\x00", 16) + "\n30,2\n"); }) ==
         "t.csv:2:4: found a NUL byte; this is not a text export\n"
         "  possible fix: export the data as text (CSV or tab-separated); UTF-16 files must be saved as UTF-8");
@@ -232,30 +233,34 @@ TEST_CASE("a read time beyond 1e10 s is out of range, and the message says so") 
         "`time_unit`) and that the column holds read times");
   // h:mm:ss: 2777777:46:40 is 1e10 s exactly, one second more is out of range.
   CHECK(wide("Time [s],A1\n0,1\n2777777:46:40,2\n").channels.at(0).time_s.back() == 1e10);
-  CHECK(message_of([] { wide("Time [s],A1\n0,1\n2777777:46:41,2\n"); }).rfind(
-            "t.csv:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found \"2777777:46:41\", which "
-            "is out of range\n",
-            0) == 0);
+  CHECK(message_of([] { wide("Time [s],A1\n0,1\n2777777:46:41,2\n"); })
+            .rfind("t.csv:3:1: expected a read time between -1e10 and 1e10 s (about 317 years), found "
+                   "\"2777777:46:41\", which "
+                   "is out of range\n",
+                   0) == 0);
   // Not a time at all: the message stays as it was.
-  CHECK(message_of([] { wide("Time [s],A1\n0,1\n1.5:00:00,2\n"); }).rfind(
-            "t.csv:3:1: expected a read time, found \"1.5:00:00\"\n", 0) == 0);
-  CHECK(message_of([] { wide("Time [s],A1\n0,1\n1:75,2\n"); }).rfind("t.csv:3:1: expected a read time, found \"1:75\"\n",
-                                                                    0) == 0);
-  // The grid shape's read label, and the long shape.
   CHECK(message_of([] {
-          read_run_text("g.txt", "Read 1 at 99999999999 s\n\t1\nA\t0.5\n", load_profile("grid-generic"));
-        }) == "g.txt:1:1: expected a read time in the read label between -1e10 and 1e10 s (about 317 years), found "
-              "\"99999999999\" s, which is out of range\n"
-              "  line 1: Read 1 at 99999999999 s\n"
-              "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
-              "`time_unit`) and that the column holds read times");
+          wide("Time [s],A1\n0,1\n1.5:00:00,2\n");
+        }).rfind("t.csv:3:1: expected a read time, found \"1.5:00:00\"\n", 0) == 0);
+  CHECK(message_of([] {
+          wide("Time [s],A1\n0,1\n1:75,2\n");
+        }).rfind("t.csv:3:1: expected a read time, found \"1:75\"\n", 0) == 0);
+  // The grid shape's read label, and the long shape.
+  CHECK(message_of(
+            [] { read_run_text("g.txt", "Read 1 at 99999999999 s\n\t1\nA\t0.5\n", load_profile("grid-generic")); }) ==
+        "g.txt:1:1: expected a read time in the read label between -1e10 and 1e10 s (about 317 years), found "
+        "\"99999999999\" s, which is out of range\n"
+        "  line 1: Read 1 at 99999999999 s\n"
+        "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+        "`time_unit`) and that the column holds read times");
   CHECK(message_of([] {
           read_run_text("l.csv", "well,time_min,value\nA1,0,1\nA1,1e300,2\n", load_profile("long-generic"));
-        }) == "l.csv:3:4: expected a read time between -1e10 and 1e10 s (about 317 years), found \"1e300\" min, which is "
-              "out of range\n"
-              "  line 3: A1,1e300,2\n"
-              "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
-              "`time_unit`) and that the column holds read times");
+        }) ==
+        "l.csv:3:4: expected a read time between -1e10 and 1e10 s (about 317 years), found \"1e300\" min, which is "
+        "out of range\n"
+        "  line 3: A1,1e300,2\n"
+        "  possible fix: check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's "
+        "`time_unit`) and that the column holds read times");
 }
 
 TEST_CASE("a well off a fixed plate is named with file:line:column in every shape") {

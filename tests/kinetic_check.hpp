@@ -16,10 +16,18 @@ inline std::vector<double> probe_parameters(const KineticModel& m) {
   int substrate = 0, inhibitor = 0;
   for (const auto& q : m.parameters) {
     switch (q.unit_role) {
-      case UnitRole::rate: p.push_back(12); break;
-      case UnitRole::substrate: p.push_back(substrate++ == 0 ? 50 : 300.0 * substrate); break;
-      case UnitRole::inhibitor: p.push_back(inhibitor++ == 0 ? 25 : 60.0 * inhibitor); break;
-      case UnitRole::none: p.push_back(q.grid.at(q.grid.size() / 2)); break;
+      case UnitRole::rate:
+        p.push_back(12);
+        break;
+      case UnitRole::substrate:
+        p.push_back(substrate++ == 0 ? 50 : 300.0 * substrate);
+        break;
+      case UnitRole::inhibitor:
+        p.push_back(inhibitor++ == 0 ? 25 : 60.0 * inhibitor);
+        break;
+      case UnitRole::none:
+        p.push_back(q.grid.at(q.grid.size() / 2));
+        break;
     }
   }
   return p;
@@ -42,8 +50,10 @@ inline void check_gradient(const KineticModel& m, const std::vector<double>& p) 
         CAPTURE(k);
         CAPTURE(s);
         CAPTURE(inh);
-        if (std::fabs(g[k]) < 1e-12) CHECK_ABS(fd, 0.0, 1e-9);
-        else CHECK_REL(g[k], fd, 1e-6);
+        if (std::fabs(g[k]) < 1e-12)
+          CHECK_ABS(fd, 0.0, 1e-9);
+        else
+          CHECK_REL(g[k], fd, 1e-6);
       }
     }
   }

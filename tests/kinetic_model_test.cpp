@@ -65,7 +65,9 @@ vzero::KineticModel essential_activation() {
     return true;
   };
   // b = (Km/Vmax, Km·Ka/Vmax, 1/Vmax).
-  l.parameters = [](std::span<const double> b, double) { return std::vector<double>{1 / b[2], b[0] / b[2], b[1] / b[0]}; };
+  l.parameters = [](std::span<const double> b, double) {
+    return std::vector<double>{1 / b[2], b[0] / b[2], b[1] / b[0]};
+  };
   m.linearisation = l;
   return m;
 }

@@ -38,9 +38,10 @@ using Lines = std::vector<std::string>;
 
 TEST_CASE("LF, CRLF and lone-CR line ends give the same lines") {
   const Lines want{"Time [s],A1", "0,0.1", "", "30,0.2"};
-  for (const std::string& text : {std::string("Time [s],A1\n0,0.1\n\n30,0.2\n"), std::string("Time [s],A1\r\n0,0.1\r\n\r\n30,0.2\r\n"),
-                                  std::string("Time [s],A1\r0,0.1\r\r30,0.2\r"), std::string("Time [s],A1\r0,0.1\r\r30,0.2"),
-                                  std::string("\xEF\xBB\xBFTime [s],A1\r0,0.1\r\r30,0.2\r")}) {
+  for (const std::string& text :
+       {std::string("Time [s],A1\n0,0.1\n\n30,0.2\n"), std::string("Time [s],A1\r\n0,0.1\r\n\r\n30,0.2\r\n"),
+        std::string("Time [s],A1\r0,0.1\r\r30,0.2\r"), std::string("Time [s],A1\r0,0.1\r\r30,0.2"),
+        std::string("\xEF\xBB\xBFTime [s],A1\r0,0.1\r\r30,0.2\r")}) {
     CAPTURE(text);
     CHECK(lines_of(text) == want);
     CHECK(lines_of_file(text) == want);

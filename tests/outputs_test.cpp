@@ -1,8 +1,8 @@
 // The output tables (include/vzero/outputs.hpp, src/output_tables.hpp, fit tables) and the one
 // CSV writer (src/core/csv_write.hpp): a column is declared once, and its header name, its
 // cells and its Table Schema field follow from that one entry.
-#include <algorithm>
 #include <fmt/format.h>
+#include <algorithm>
 #include <nlohmann/json.hpp>
 
 #include "core/columns.hpp"
@@ -25,7 +25,8 @@ namespace {
 std::string linear_plate() {
   std::string s = "Time [s],A1,A2,A3\n";
   for (int i = 0; i <= 10; ++i)
-    s += fmt::format("{},0.0450,{},{}\n", 30 * i, format_number(0.0450 + 0.0006 * i), format_number(0.0450 + 0.0012 * i));
+    s += fmt::format("{},0.0450,{},{}\n", 30 * i, format_number(0.0450 + 0.0006 * i),
+                     format_number(0.0450 + 0.0012 * i));
   return s;
 }
 
@@ -79,8 +80,10 @@ void check_agrees(const std::string& name, const std::string& csv, const std::ve
       }
       const auto v = detail::parse_number(cell);
       REQUIRE(v.has_value());
-      if (fields[c].type == "integer") CHECK(*v == std::trunc(*v));
-      else CHECK(fields[c].type == "number");
+      if (fields[c].type == "integer")
+        CHECK(*v == std::trunc(*v));
+      else
+        CHECK(fields[c].type == "number");
     }
   }
 }
@@ -94,7 +97,8 @@ TEST_CASE("an output column added by one entry is in the header, every row and t
 
   using namespace vzero::detail;
   std::vector<RateEntry> entries(rate_declaration().begin(), rate_declaration().end());
-  const auto t_end = std::find_if(entries.begin(), entries.end(), [](const RateEntry& e) { return e.name == "t_end_s"; });
+  const auto t_end =
+      std::find_if(entries.begin(), entries.end(), [](const RateEntry& e) { return e.name == "t_end_s"; });
   REQUIRE(t_end != entries.end());
   // The one entry: the middle of the window, after t_end_s.
   entries.insert(t_end + 1, RateEntry{"t_mid_s", FieldType::number, "s", "middle of the window",
@@ -102,7 +106,10 @@ TEST_CASE("an output column added by one entry is in the header, every row and t
                                         o.number((x.row.rate.t_start_s + x.row.rate.t_end_s) / 2);
                                       }});
   // An entry whose condition does not hold here (no well volume) is in none of the three.
-  entries.push_back({.name = "activity_twice", .type = FieldType::number, .unit = "U", .description = "twice",
+  entries.push_back({.name = "activity_twice",
+                     .type = FieldType::number,
+                     .unit = "U",
+                     .description = "twice",
                      .write = [](CsvOut& o, const RateRowRef& x, std::size_t) { o.number(2 * x.row.activity_u); },
                      .when = [](const RatesContext& c) { return c.with_activity; }});
 
@@ -146,9 +153,11 @@ TEST_CASE("every table vzero writes: header and Table Schema agree, and each cel
     check_agrees("rates", rates_csv({a}, map.columns, activity, activity),
                  rate_fields(map.columns, activity, activity));
     const auto rows_only = rates_csv_rows(a, map.columns, activity, activity);
-    CHECK(rates_csv({a}, map.columns, activity, activity) == rates_csv({}, map.columns, activity, activity) + rows_only);
+    CHECK(rates_csv({a}, map.columns, activity, activity) ==
+          rates_csv({}, map.columns, activity, activity) + rows_only);
   }
-  const Table with = parse_table("rates.csv", rates_csv({analyse_run(run, map, leading_ols(true))}, map.columns, true, true));
+  const Table with =
+      parse_table("rates.csv", rates_csv({analyse_run(run, map, leading_ols(true))}, map.columns, true, true));
   CHECK(with.header.back() == "specific_activity_U_per_mg");
   CHECK(with.column("activity_nkat") == with.column("activity_U") + 1);
 
@@ -174,9 +183,15 @@ TEST_CASE("the CSV writer quotes by one rule (RFC 4180 section 2, plus ';' and t
   // RFC 4180 §2.6: fields holding line breaks, double quotes or commas are enclosed in double
   // quotes; §2.7: a double quote inside is written twice. vzero also quotes ';' and tab.
   const std::pair<std::string, std::string> cases[] = {
-      {"plain", "plain"},           {"a,b", "\"a,b\""},       {"say \"hi\"", "\"say \"\"hi\"\"\""},
-      {"a;b", "\"a;b\""},           {"a\tb", "\"a\tb\""},     {"two\nlines", "\"two\nlines\""},
-      {"cr\rhere", "\"cr\rhere\""}, {"", ""},                 {"µmol/min", "µmol/min"},
+      {"plain", "plain"},
+      {"a,b", "\"a,b\""},
+      {"say \"hi\"", "\"say \"\"hi\"\"\""},
+      {"a;b", "\"a;b\""},
+      {"a\tb", "\"a\tb\""},
+      {"two\nlines", "\"two\nlines\""},
+      {"cr\rhere", "\"cr\rhere\""},
+      {"", ""},
+      {"µmol/min", "µmol/min"},
   };
   for (const auto& [text, written] : cases) {
     CHECK(csv_field(text) == written);
@@ -216,5 +231,6 @@ TEST_CASE("numbers are written as the shortest text that reads back to the same 
   CHECK(format_number(6.551845646783069) == "6.551845646783069");
   CHECK(format_number(-0.0) == "0");
   CHECK(format_number(NAN).empty());
-  for (double v : {1.0 / 3, 2.0 / 3 * 1e300, 5e-324, 123456789012345680.0}) CHECK(detail::parse_number(format_number(v)) == v);
+  for (double v : {1.0 / 3, 2.0 / 3 * 1e300, 5e-324, 123456789012345680.0})
+    CHECK(detail::parse_number(format_number(v)) == v);
 }

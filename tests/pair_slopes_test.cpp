@@ -29,16 +29,15 @@ std::vector<double> all_slopes_sorted(const std::vector<double>& x, const std::v
 void check_ranks(const std::vector<double>& x, const std::vector<double>& y, bool expect_bracketed) {
   const auto sorted = all_slopes_sorted(x, y);
   const auto n_pairs = static_cast<std::int64_t>(sorted.size());
-  std::vector<std::int64_t> ranks = {0, n_pairs - 1, n_pairs / 2, (n_pairs - 1) / 2, n_pairs / 3, n_pairs / 2 - 7,
-                                     n_pairs / 2 + 11, (n_pairs * 97) / 100};
+  std::vector<std::int64_t> ranks = {0,           n_pairs - 1,     n_pairs / 2,      (n_pairs - 1) / 2,
+                                     n_pairs / 3, n_pairs / 2 - 7, n_pairs / 2 + 11, (n_pairs * 97) / 100};
   for (auto& r : ranks) r = std::clamp<std::int64_t>(r, 0, n_pairs - 1);
   std::vector<double> got(ranks.size());
   pair_slope_ranks(x.data(), y.data(), static_cast<int>(x.size()), ranks.data(), static_cast<int>(ranks.size()),
                    got.data());
   std::vector<double> bracketed(ranks.size(), -1);
-  const bool used = vzero::detail::pair_slope_ranks_bracketed(x.data(), y.data(), static_cast<int>(x.size()),
-                                                              ranks.data(), static_cast<int>(ranks.size()),
-                                                              bracketed.data());
+  const bool used = vzero::detail::pair_slope_ranks_bracketed(
+      x.data(), y.data(), static_cast<int>(x.size()), ranks.data(), static_cast<int>(ranks.size()), bracketed.data());
   if (expect_bracketed && x.size() >= 50) CHECK(used);
   for (std::size_t k = 0; k < ranks.size(); ++k) {
     INFO("n = ", x.size(), ", rank ", ranks[k]);
@@ -73,11 +72,12 @@ TEST_CASE("pairwise slope ranks equal the full sort, bit for bit") {
         y.push_back(0.05 + 3e-5 * x.back() + 0.001 * noise(rng));
       }
     }
-    SUBCASE("four-decimal reads (many tied slopes)") {
-      y = quantised_trace(n, x);
-    }
+    SUBCASE("four-decimal reads (many tied slopes)") { y = quantised_trace(n, x); }
     SUBCASE("constant signal (every slope 0)") {
-      for (int i = 0; i < n; ++i) { x.push_back(i); y.push_back(1.25); }
+      for (int i = 0; i < n; ++i) {
+        x.push_back(i);
+        y.push_back(1.25);
+      }
       ties_only = true;
     }
     SUBCASE("falling curve with gross outliers and uneven times") {
@@ -125,10 +125,10 @@ TEST_CASE("Theil–Sen on long quantised traces matches SciPy 1.10.1 theilslopes
     int n;
     double slope, intercept_joint, intercept_separate, low, high;
   };
-  for (const Case& c : {Case{400, 2.0027472527472527e-05, 0.049985851648351655, 0.050195192307692316,
-                             1.9556313993174062e-05, 2.0514705882352946e-05},
-                        Case{1000, 1.9999999999999998e-05, 0.05, 0.04980000000000001, 1.986013986013986e-05,
-                             2.0121065375302664e-05}}) {
+  for (const Case& c :
+       {Case{400, 2.0027472527472527e-05, 0.049985851648351655, 0.050195192307692316, 1.9556313993174062e-05,
+             2.0514705882352946e-05},
+        Case{1000, 1.9999999999999998e-05, 0.05, 0.04980000000000001, 1.986013986013986e-05, 2.0121065375302664e-05}}) {
     std::vector<double> x;
     const std::vector<double> y = quantised_trace(c.n, x);
     double separate = 0;

@@ -14,11 +14,27 @@ using namespace vzero;
 namespace {
 // P(t) in µM for S0 = 100 µM, Km = 50 µM, Vmax = 10 µM/min, t = 0, 0.5, … 10 min, from the
 // closed form of Schnell & Mendoza (1997) J. theor. Biol. 187, 207 (shared REFERENCES.md §5).
-const double k_p_um[] = {0.0, 3.314607337890237, 6.590919048890015, 9.827638840971858, 13.023429557141199,
-                         16.176913775128895, 19.286674795530573, 22.351258078284815, 25.36917319247091,
-                         28.33889634912326, 31.258873590818837, 34.127524714845904, 36.943248008382156,
-                         39.70442587379613, 42.40943141936712, 45.056636084756086, 47.6444183607739,
-                         50.171173648686505, 52.63532528480666, 55.03533673087366, 57.36972489931373};
+const double k_p_um[] = {0.0,
+                         3.314607337890237,
+                         6.590919048890015,
+                         9.827638840971858,
+                         13.023429557141199,
+                         16.176913775128895,
+                         19.286674795530573,
+                         22.351258078284815,
+                         25.36917319247091,
+                         28.33889634912326,
+                         31.258873590818837,
+                         34.127524714845904,
+                         36.943248008382156,
+                         39.70442587379613,
+                         42.40943141936712,
+                         45.056636084756086,
+                         47.6444183607739,
+                         50.171173648686505,
+                         52.63532528480666,
+                         55.03533673087366,
+                         57.36972489931373};
 
 // A340 = 0.0450 + 6220·0.5·P·1e-6 in A2 (full precision) and A3 (4 decimals); blank A1 = 0.0450.
 std::string nadh_plate() {
@@ -64,7 +80,8 @@ TEST_CASE("NADH-style trace: plate blank, ε = 6220, l = 0.5 cm, OLS over the fi
 TEST_CASE("direction down reports consumption as a positive rate") {
   // The same trace mirrored (signal falling) with direction down gives the same v0.
   std::string s = "Time [s],A1,A2\n";
-  for (int i = 0; i < 21; ++i) s += fmt::format("{},1.0,{}\n", 30 * i, format_number(1.0 - 6220 * 0.5 * k_p_um[i] * 1e-6));
+  for (int i = 0; i < 21; ++i)
+    s += fmt::format("{},1.0,{}\n", 30 * i, format_number(1.0 - 6220 * 0.5 * k_p_um[i] * 1e-6));
   Run run = read_run_text("down.csv", s, load_profile("wide-generic"));
   PlateMap map = parse_plate_map("map.csv", "well,role\nA1,blank\nA2,sample\n");
   AnalysisOptions o;
@@ -140,8 +157,7 @@ TEST_CASE("a sample rising past the top standard is flagged outside-standards") 
   // Standards 0–2 µM at RFU = 100 + 1000·c (top standard 2100 RFU). Sample A5 climbs 5 RFU/s
   // from 100 to 1450 RFU and stays inside; A6 climbs from 2000 to 3350 RFU and leaves the range.
   std::string s = "Time [s],A1,A2,A3,A4,A5,A6\n";
-  for (int i = 0; i < 10; ++i)
-    s += fmt::format("{},100,600,1100,2100,{},{}\n", 30 * i, 100 + 150 * i, 2000 + 150 * i);
+  for (int i = 0; i < 10; ++i) s += fmt::format("{},100,600,1100,2100,{},{}\n", 30 * i, 100 + 150 * i, 2000 + 150 * i);
   Run run = read_run_text("f.csv", s, load_profile("wide-generic"));
   PlateMap map = parse_plate_map("map.csv",
                                  "well,role,standard_conc\nA1,standard,0\nA2,standard,0.5\nA3,standard,1\n"

@@ -1,8 +1,8 @@
 // Plate maps: tidy and plate-grid forms read the same; malformed maps give exact messages.
+#include "vzero/plate_map.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
-#include "vzero/plate_map.hpp"
 
 using namespace vzero;
 using vzero::test::source;
@@ -54,10 +54,11 @@ TEST_CASE("plate map errors") {
         "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -5\n"
         "  line 2: A1,sample,-5\n"
         "  possible fix: concentrations cannot be negative; leave the cell empty when unknown");
-  CHECK(message_of("well,role,substrate\nA1,sample,lots\n") ==
-        "map.csv:2:11: expected a number in `substrate`, found \"lots\"\n"
-        "  line 2: A1,sample,lots\n"
-        "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
+  CHECK(
+      message_of("well,role,substrate\nA1,sample,lots\n") ==
+      "map.csv:2:11: expected a number in `substrate`, found \"lots\"\n"
+      "  line 2: A1,sample,lots\n"
+      "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
   CHECK(message_of("well,role\nX99,sample\n") ==
         "map.csv:2:1: expected a well name (A1 … AF48), found \"X99\"\n"
         "  line 2: X99,sample\n"
@@ -123,9 +124,10 @@ TEST_CASE("a sample at substrate 0 is read: the no-substrate control of a kineti
         "  line 2: A1,sample,-0.5\n"
         "  possible fix: concentrations cannot be negative; leave the cell empty when unknown");
   // A concentration too large for a double says so (1.7976931348623157e308 = DBL_MAX, C11 §5.2.4.2.2).
-  CHECK(message_of("well,role,substrate\nA1,sample,1e400\n") ==
-        "map.csv:2:11: expected a number in `substrate`, found \"1e400\", which is too large for a double (the largest "
-        "is 1.7976931348623157e308)\n"
-        "  line 2: A1,sample,1e400\n"
-        "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
+  CHECK(
+      message_of("well,role,substrate\nA1,sample,1e400\n") ==
+      "map.csv:2:11: expected a number in `substrate`, found \"1e400\", which is too large for a double (the largest "
+      "is 1.7976931348623157e308)\n"
+      "  line 2: A1,sample,1e400\n"
+      "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
 }

@@ -1,7 +1,7 @@
 // Instrument profiles: every built-in profile loads; bad profiles give exact messages.
+#include "vzero/profile.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
-#include "vzero/profile.hpp"
 
 using namespace vzero;
 

@@ -42,7 +42,8 @@ TEST_CASE("a line of 16 MiB - 1 bytes is read; one of 16 MiB is refused with its
   CHECK(message_of("Note\n" + longest + "x\n" + data, p) ==
         "input.csv:2: line is longer than 16 MiB (the longest line vzero reads)");
   // With CRLF the '\r' counts towards the limit too.
-  CHECK(message_of(longest + "\r\n" + data, p) == "input.csv:1: line is longer than 16 MiB (the longest line vzero reads)");
+  CHECK(message_of(longest + "\r\n" + data, p) ==
+        "input.csv:1: line is longer than 16 MiB (the longest line vzero reads)");
 }
 
 TEST_CASE("hashing a file with an over-long line fails clearly instead of looping") {
@@ -116,9 +117,10 @@ TEST_CASE("a grid header line whose next line straddles a buffer refill is quote
       from_file ? vzero::read_run(dir / "input.csv", p) : vzero::read_run_text(dir / "input.csv", text, p);
       FAIL("expected an InputError");
     } catch (const vzero::InputError& e) {
-      CHECK(e.formatted() == (dir / "input.csv") + ":6: expected plate rows (A, B, …) after the header of the read at line 5\n"
-                             "  line 6: \t1\n"
-                             "  possible fix: check that the export is complete");
+      CHECK(e.formatted() == (dir / "input.csv") +
+                                 ":6: expected plate rows (A, B, …) after the header of the read at line 5\n"
+                                 "  line 6: \t1\n"
+                                 "  possible fix: check that the export is complete");
     }
   }
 }
@@ -148,10 +150,9 @@ TEST_CASE("a wide header may name all 1536 wells; a well named twice is refused"
   auto run = vzero::read_run_text("input.csv", header + "\n" + row0 + "\n" + row1 + "\n", p);
   CHECK(run.channels.at(0).wells.size() == 1536);
   CHECK(run.format.wells() == 1536);
-  CHECK(message_of(header + ",A1\n" + row0 + ",0.1\n", p).rfind(
-            "input.csv:1:", 0) == 0);
-  CHECK(message_of(header + ",A1\n" + row0 + ",0.1\n", p).find("well A1 appears twice in the header (fields 2 and 1538)") !=
-        std::string::npos);
+  CHECK(message_of(header + ",A1\n" + row0 + ",0.1\n", p).rfind("input.csv:1:", 0) == 0);
+  CHECK(message_of(header + ",A1\n" + row0 + ",0.1\n", p)
+            .find("well A1 appears twice in the header (fields 2 and 1538)") != std::string::npos);
 }
 
 TEST_CASE("profile detection reads a bounded start of the file, however long the file is") {

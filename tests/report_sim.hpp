@@ -12,9 +12,9 @@
 // file's own transforms, so the files are the same everywhere.
 #pragma once
 
+#include <fmt/format.h>
 #include <cmath>
 #include <cstdint>
-#include <fmt/format.h>
 #include <random>
 #include <string>
 

@@ -38,13 +38,15 @@ std::vector<std::string> split_words(const std::string& flags) {
 // Runs the README demo (rates, then a competitive-inhibition fit) in `dir`.
 void run_demo(const test::TempDir& dir, const std::string& extra = "") {
   const std::string d = test::source("demo-data");
-  auto r = test::run_vzero("rates '" + d + "/hydrolase_wide.csv' --layout '" + d + "/hydrolase_map.csv' --method '" + d +
-                               "/esterase_method.toml' -o rates.csv --summary summary.csv --traces traces.csv -q " + extra,
-                           dir.path.string());
-  REQUIRE_MESSAGE(r.status == 0, r.describe());
-  r = test::run_vzero("fit rates.csv --x substrate --inhibitor inhibitor_uM --model competitive --group enzyme_nM "
-                      "--json fit.json --diagnostics diag.csv -q",
+  auto r =
+      test::run_vzero("rates '" + d + "/hydrolase_wide.csv' --layout '" + d + "/hydrolase_map.csv' --method '" + d +
+                          "/esterase_method.toml' -o rates.csv --summary summary.csv --traces traces.csv -q " + extra,
                       dir.path.string());
+  REQUIRE_MESSAGE(r.status == 0, r.describe());
+  r = test::run_vzero(
+      "fit rates.csv --x substrate --inhibitor inhibitor_uM --model competitive --group enzyme_nM "
+      "--json fit.json --diagnostics diag.csv -q",
+      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
 }
 
@@ -88,7 +90,8 @@ void check_structure(const std::string& html, const Table& rates) {
   CHECK(all_panels.size() == rates.rows.size());
   std::map<std::string, std::string> plate_ids;  // source + channel → p1, p2, …
   std::map<std::string, int> heat_cells;
-  for (const XmlNode* r : root.all([](const XmlNode& x) { return x.name == "rect" && x.has("data-well") && !x.has_class("window"); }))
+  for (const XmlNode* r :
+       root.all([](const XmlNode& x) { return x.name == "rect" && x.has("data-well") && !x.has_class("window"); }))
     ++heat_cells[r->parent->attr("href")];
   for (std::size_t i = 0; i < rates.rows.size(); ++i) {
     const auto& row = rates.rows[i];
@@ -135,7 +138,6 @@ void check_structure(const std::string& html, const Table& rates) {
 
 }  // namespace
 
-
 TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
   test::TempDir dir;
   run_demo(dir);
@@ -151,7 +153,8 @@ TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
 
   // Provenance: the export's checksum as coreutils' sha256sum computes it (an independent
   // implementation of FIPS 180-4) is in the header.
-  auto sum = std::system(("sha256sum '" + test::source("demo-data/hydrolase_wide.csv") + "' > '" + (dir / "sum.txt") + "'").c_str());
+  auto sum = std::system(
+      ("sha256sum '" + test::source("demo-data/hydrolase_wide.csv") + "' > '" + (dir / "sum.txt") + "'").c_str());
   REQUIRE(sum == 0);
   const std::string digest = test::slurp(dir / "sum.txt").substr(0, 64);
   auto hashes = root.all([](const XmlNode& n) { return n.name == "td" && n.has_class("hash"); });
@@ -193,16 +196,18 @@ TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
 TEST_CASE("the same inputs give the same bytes, in the rates call or from the files") {
   test::TempDir dir;
   run_demo(dir, "--report inline.html");
-  auto r = test::run_vzero("report --rates rates.csv --traces traces.csv --summary summary.csv --package "
-                           "datapackage.json -q -o from_files.html",
-                           dir.path.string());
+  auto r = test::run_vzero(
+      "report --rates rates.csv --traces traces.csv --summary summary.csv --package "
+      "datapackage.json -q -o from_files.html",
+      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const std::string inline_html = test::slurp(dir / "inline.html");
   CHECK(inline_html.size() > 10000);
   CHECK(inline_html == test::slurp(dir / "from_files.html"));
-  r = test::run_vzero("report --rates rates.csv --traces traces.csv --summary summary.csv --package "
-                      "datapackage.json -q -o again.html",
-                      dir.path.string());
+  r = test::run_vzero(
+      "report --rates rates.csv --traces traces.csv --summary summary.csv --package "
+      "datapackage.json -q -o again.html",
+      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   CHECK(test::slurp(dir / "again.html") == inline_html);
   // --date is the only way a date gets in.
@@ -215,9 +220,10 @@ TEST_CASE("the same inputs give the same bytes, in the rates call or from the fi
 TEST_CASE("1536-well plate: a heat-map overview and the panels in blocks of 8 x 12") {
   test::TempDir dir;
   auto sim = test::write_sim_plate(dir.path.string(), PlateFormat{32, 48});
-  auto r = test::run_vzero("rates sim_plate.csv --layout sim_map.csv --epsilon 18000 --path-cm 0.5 -o rates.csv "
-                           "--traces traces.csv --summary summary.csv --report report.html -q",
-                           dir.path.string());
+  auto r = test::run_vzero(
+      "rates sim_plate.csv --layout sim_map.csv --epsilon 18000 --path-cm 0.5 -o rates.csv "
+      "--traces traces.csv --summary summary.csv --report report.html -q",
+      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const std::string html = test::slurp(dir / "report.html");
   MESSAGE("1536-well report: " << html.size() << " bytes, traces table " << test::slurp(dir / "traces.csv").size()
@@ -245,7 +251,8 @@ TEST_CASE("without traces, fit or package the page still renders and says what i
   CHECK(r.out.rfind("wrote bare.html (", 0) == 0);
   const std::string html = test::slurp(dir / "bare.html");
   check_structure(html, read_table(dir / "rates.csv"));
-  CHECK(html.find("No traces table was given: panels show the window but no curve (pass --traces).") != std::string::npos);
+  CHECK(html.find("No traces table was given: panels show the window but no curve (pass --traces).") !=
+        std::string::npos);
   CHECK(html.find("No datapackage.json was given: the inputs, their checksums and the options are not known to this "
                   "report (pass --package).") != std::string::npos);
   CHECK(html.find("No summary table was given (pass --summary).") != std::string::npos);
@@ -285,8 +292,10 @@ TEST_CASE("a falling, unconverted signal is drawn in the reaction direction with
     std::vector<double> v;
     std::string cur;
     for (char c : d + " ") {
-      if ((c >= '0' && c <= '9') || c == '.' || c == '-') cur += c;
-      else if (!cur.empty()) v.push_back(std::stod(cur)), cur.clear();
+      if ((c >= '0' && c <= '9') || c == '.' || c == '-')
+        cur += c;
+      else if (!cur.empty())
+        v.push_back(std::stod(cur)), cur.clear();
     }
     return v;
   };
@@ -343,7 +352,8 @@ TEST_CASE("errors name the file, the column and the fix") {
     FAIL("expected an InputError");
   } catch (const InputError& e) {
     CHECK(e.formatted() ==
-          "fit.json: cannot read the JSON: [json.exception.parse_error.101] parse error at line 1, column 2: syntax error "
+          "fit.json: cannot read the JSON: [json.exception.parse_error.101] parse error at line 1, column 2: syntax "
+          "error "
           "while parsing object key - invalid literal; last read: '{x'; expected string literal\n"
           "  possible fix: give the file vzero wrote, unchanged");
   }
@@ -356,7 +366,8 @@ TEST_CASE("errors name the file, the column and the fix") {
   }
   auto r = test::run_vzero("report -o x.html");
   CHECK(r.status == 2);
-  CHECK(r.err == "vzero report: --rates rates.csv is required (the table vzero rates wrote)\n  see: vzero report --help\n");
+  CHECK(r.err ==
+        "vzero report: --rates rates.csv is required (the table vzero rates wrote)\n  see: vzero report --help\n");
   r = test::run_vzero("report --rates /nonexistent/rates.csv -o x.html");
   CHECK(r.status == 1);
   CHECK(r.err.rfind("/nonexistent/rates.csv: cannot open /nonexistent/rates.csv: No such file or directory", 0) == 0);
@@ -407,8 +418,9 @@ TEST_CASE("a fluorescence run with standards shows its standard curve (REFERENCE
   }
   test::spit(dir / "fluor.csv", csv);
   test::spit(dir / "fluor_map.csv", map);
-  auto r = test::run_vzero("rates fluor.csv --layout fluor_map.csv --standards --blank none -o rates.csv --report report.html -q",
-                           dir.path.string());
+  auto r = test::run_vzero(
+      "rates fluor.csv --layout fluor_map.csv --standards --blank none -o rates.csv --report report.html -q",
+      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const std::string html = test::slurp(dir / "report.html");
   check_structure(html, read_table(dir / "rates.csv"));
@@ -432,7 +444,8 @@ TEST_CASE("two exports: one plate section each, ids stay unique") {
   test::TempDir dir;
   const std::string d = test::source("demo-data");
   auto r = test::run_vzero("rates '" + d + "/hydrolase_wide.csv' '" + d + "/hydrolase_long.csv' --layout '" + d +
-                               "/hydrolase_map.csv' --method '" + d + "/esterase_method.toml' -o rates.csv --report report.html -q",
+                               "/hydrolase_map.csv' --method '" + d +
+                               "/esterase_method.toml' -o rates.csv --report report.html -q",
                            dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const std::string html = test::slurp(dir / "report.html");

@@ -1,6 +1,6 @@
 // Well names, plate formats and plate geometry.
-#include "test_support.hpp"
 #include "vzero/run.hpp"
+#include "test_support.hpp"
 
 #include <algorithm>
 #include <cstdint>
@@ -17,7 +17,7 @@ TEST_CASE("well names follow the ANSI/SLAS 4-2004 row/column convention") {
   CHECK(parse_well("A01") == WellId{0, 0});
   CHECK(parse_well(" b7 ") == WellId{1, 6});
   CHECK(parse_well("AF48") == WellId{31, 47});
-  CHECK_FALSE(parse_well("AG1"));   // beyond row AF
+  CHECK_FALSE(parse_well("AG1"));  // beyond row AF
   CHECK_FALSE(parse_well("A0"));
   CHECK_FALSE(parse_well("A49"));
   CHECK_FALSE(parse_well("1A"));
@@ -89,10 +89,11 @@ TEST_CASE("sets of wells as text: lists, and rectangles as their corners") {
   CHECK(well_set_text(block) == "A45:AF48");
   CHECK(well_set_text({*parse_well("D2"), *parse_well("D1")}) == "D1;D2");  // two wells stay a list
   CHECK(well_set_text({*parse_well("A1"), *parse_well("B1"), *parse_well("C1"), *parse_well("A1")}) == "A1:C1");
-  CHECK(well_set_text({*parse_well("H1"), *parse_well("H12"), *parse_well("A1"), *parse_well("A12")}) == "A1;A12;H1;H12");
+  CHECK(well_set_text({*parse_well("H1"), *parse_well("H12"), *parse_well("A1"), *parse_well("A12")}) ==
+        "A1;A12;H1;H12");
   // An L shape: the top row's run first, then the column below it.
-  CHECK(well_set_text({*parse_well("A1"), *parse_well("A2"), *parse_well("A3"), *parse_well("B1"), *parse_well("C1")}) ==
-        "A1:A3;B1;C1");
+  CHECK(well_set_text({*parse_well("A1"), *parse_well("A2"), *parse_well("A3"), *parse_well("B1"),
+                       *parse_well("C1")}) == "A1:A3;B1;C1");
   CHECK(well_set_text({}).empty());
   // Property: the text names exactly the wells of the set, each once, for pseudo-random sets.
   std::uint64_t state = 12345;

@@ -1,7 +1,7 @@
 // The option table (include/vzero/settings.hpp): one description per option, from which the
 // command line, the method file, the checks and the provenance come.
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 #include <set>
 
 #include "test_support.hpp"
@@ -85,7 +85,8 @@ TEST_CASE("given values land in the structs, scaled to their units") {
 }
 
 TEST_CASE("provenance records every analysis option, defaults included, and nothing that cannot change a result") {
-  ResolvedSettings r = resolve_settings({{"threads", "2"}, {"skip-s", "30"}, {"output", "x.csv"}, {"signal-only", "true"}});
+  ResolvedSettings r =
+      resolve_settings({{"threads", "2"}, {"skip-s", "30"}, {"output", "x.csv"}, {"signal-only", "true"}});
   std::vector<std::string> recorded;
   for (const auto& [k, v] : r.recorded) recorded.push_back(k + "=" + v);
   auto has = [&](const std::string& kv) { return std::find(recorded.begin(), recorded.end(), kv) != recorded.end(); };

@@ -41,7 +41,8 @@ double rk4_hysteretic(double s0, double km, double vmax, double tau, double t_en
   const double h = 0.01;
   const int steps = static_cast<int>(std::lround(t_end / h));
   for (int i = 0; i < steps; ++i, t += h) {
-    const double k1 = f(t, s), k2 = f(t + h / 2, s + h / 2 * k1), k3 = f(t + h / 2, s + h / 2 * k2), k4 = f(t + h, s + h * k3);
+    const double k1 = f(t, s), k2 = f(t + h / 2, s + h / 2 * k1), k3 = f(t + h / 2, s + h / 2 * k2),
+                 k4 = f(t + h, s + h * k3);
     s += h / 6 * (k1 + 2 * k2 + 2 * k3 + k4);
   }
   return s0 - s;
@@ -82,7 +83,7 @@ TEST_CASE("stray light: 3 AU with s = 10⁻³ reads 2.6994 AU, compressing slope
   // −log10((10⁻³ + 10⁻³)/1.001) = 3 − log10 2 + log10 1.001 = 3 − 0.30103000 + 0.00043408
   // = 2.69940408 AU (log10 2 = 0.3010299957 and log10 1.001 = 0.0004340775, from memory).
   CHECK_REL(sim::stray_light_absorbance(3.0, 1e-3), 2.6994040818, 1e-10);
-  CHECK(sim::stray_light_absorbance(0.0, 1e-3) == 0.0);  // (1 + s)/(1 + s) = 1
+  CHECK(sim::stray_light_absorbance(0.0, 1e-3) == 0.0);     // (1 + s)/(1 + s) = 1
   CHECK_REL(sim::stray_light_gain(3.0, 1e-3), 0.5, 1e-12);  // 10⁻³/(10⁻³ + 10⁻³)
   // Slopes lose 5 % from −log10(s·0.95/0.05) = −log10(0.019) = 1.7212464 AU (hand: log10 1.9 = 0.2787536).
   CHECK_REL(sim::stray_light_onset(1e-3, 0.05), 1.7212463990, 1e-9);
@@ -110,7 +111,7 @@ TEST_CASE("straight-line windows: a parabola's 5-read slope is v − 4c") {
   }
   CHECK_REL(sim::line_error_best(t, y, 1.0, 5), 0.04, 1e-12);
   CHECK(sim::line_error_best(t, y, 1.0, 6) == INFINITY);  // no window of 6 reads
-  y[2] = NAN;                                              // a gap breaks every 5-read run
+  y[2] = NAN;                                             // a gap breaks every 5-read run
   CHECK(sim::line_error_best(t, y, 1.0, 5) == INFINITY);
   // A straight line is measured exactly; the oracle prefers the longest window under noise.
   std::vector<double> t2, y2;
@@ -147,7 +148,8 @@ TEST_CASE("a plate without noise reads the closed forms: MM progress, hysteretic
       const double a = 0.05 + p.signal_per_uM * prod;
       CHECK_REL(p.signal[w][i], sim::stray_light_absorbance(a, 1e-3), 1e-12);
       if (tr.role == sim::Role::sample)
-        CHECK_REL(tr.ideal[i] + 0.05, sim::stray_light_absorbance(a, 1e-3) - sim::stray_light_absorbance(0.05, 1e-3) + 0.05, 1e-12);
+        CHECK_REL(tr.ideal[i] + 0.05,
+                  sim::stray_light_absorbance(a, 1e-3) - sim::stray_light_absorbance(0.05, 1e-3) + 0.05, 1e-12);
     }
   }
   CHECK(lagged > 10);
@@ -184,7 +186,8 @@ TEST_CASE("disturbed blanks pass into their row's samples; undisturbed wells are
       // The noise-free trace: the undisturbed one, plus its own offset, minus the blanks' mean.
       for (std::size_t i = 0; i < b.time_s.size(); ++i) {
         double blank_part = 0;
-        for (const auto* bl : blanks) blank_part += sim::disturbance(b.time_s[i], bl->disturbance_AU, bl->disturbance_tau_s) / 2;
+        for (const auto* bl : blanks)
+          blank_part += sim::disturbance(b.time_s[i], bl->disturbance_AU, bl->disturbance_tau_s) / 2;
         const double own = sim::disturbance(b.time_s[i], tr.disturbance_AU, tr.disturbance_tau_s);
         CHECK_ABS(b.truth[w].ideal[i], a.truth[w].ideal[i] + own - blank_part, 1e-12);
       }
@@ -224,7 +227,7 @@ TEST_CASE("measurable: slow wells are, wells far into depletion at the first rea
   s.fastest_t10_reads_min = s.fastest_t10_reads_max = 0.5;  // 10 % converted half a read after the first
   s.dead_time_min_s = s.dead_time_max_s = 60;
   const sim::Plate p = sim::simulate_plate(s, 3);
-  const sim::WellTruth& fast = p.truth[0];  // top enzyme, lowest S0
+  const sim::WellTruth& fast = p.truth[0];                                            // top enzyme, lowest S0
   const sim::WellTruth& slow = p.truth[static_cast<std::size_t>(7 * p.columns + 9)];  // lowest enzyme, S0 = 8 Km
   CHECK(!fast.measurable);
   CHECK((fast.artefacts & sim::k_strong_depletion) != 0);

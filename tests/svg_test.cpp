@@ -20,8 +20,10 @@ std::vector<double> ticks_of(double lo, double hi, int target) { return nice_tic
 void check_ticks(const std::vector<double>& got, const std::vector<double>& want) {
   REQUIRE(got.size() == want.size());
   for (std::size_t i = 0; i < got.size(); ++i) {
-    if (want[i] == 0) CHECK_ABS(got[i], 0.0, 1e-15);
-    else CHECK_REL(got[i], want[i], 1e-12);
+    if (want[i] == 0)
+      CHECK_ABS(got[i], 0.0, 1e-15);
+    else
+      CHECK_REL(got[i], want[i], 1e-12);
   }
 }
 
@@ -105,7 +107,9 @@ TEST_CASE("number text is fixed, short and locale-free") {
 TEST_CASE("escaping for element content and attributes") {
   CHECK(escape("<a href=\"x\">Tom & 'Jerry'</a>") == "&lt;a href=&quot;x&quot;&gt;Tom &amp; &#39;Jerry&#39;&lt;/a&gt;");
   CHECK(escape("µM·min⁻¹") == "µM·min⁻¹");  // UTF-8 passes through
-  CHECK(escape(std::string("a\x01" "b\tc\x1f", 6)) == "ab\tc");  // control characters dropped
+  CHECK(escape(std::string("a\x01"
+                           "b\tc\x1f",
+                           6)) == "ab\tc");  // control characters dropped
   Document doc(100, 50);
   doc.text(10, 20, "S < Km & v > 0", "label", "start", 0, {{"data-note", "\"quoted\" <here>"}});
   auto x = parse_xml(doc.str());
@@ -157,8 +161,8 @@ TEST_CASE("chart: scales map the tick range onto the plot area") {
   CHECK(c.x(0) == 50);
   CHECK(c.x(600) == 350);
   CHECK(c.x(300) == 200);
-  CHECK(c.y(0) == 220);   // y grows upwards
-  CHECK(c.y(15) == 20);   // 11.7: range nicenum(11.7) = 20, step 5, axis up to 15
+  CHECK(c.y(0) == 220);  // y grows upwards
+  CHECK(c.y(15) == 20);  // 11.7: range nicenum(11.7) = 20, step 5, axis up to 15
   c.axes("time (s)", "product (\u00b5M)");
   c.vband(120, 240, "window");
   c.band({0, 300, 600}, {1, 2, 3}, {2, 3, 4}, "ci");
@@ -173,7 +177,7 @@ TEST_CASE("chart: scales map the tick range onto the plot area") {
     CHECK_MESSAGE(std::find(labels.begin(), labels.end(), want) != labels.end(), std::string(want));
   auto windows = x.root->all([](const vzero::test::XmlNode& n) { return n.has_class("window"); });
   REQUIRE(windows.size() == 1);
-  CHECK(windows[0]->attr("x") == "110");    // 50 + 120/600·300
+  CHECK(windows[0]->attr("x") == "110");  // 50 + 120/600·300
   CHECK(windows[0]->attr("width") == "60");
   auto bands = x.root->all([](const vzero::test::XmlNode& n) { return n.name == "polygon"; });
   REQUIRE(bands.size() == 1);

@@ -8,10 +8,8 @@
 
 // Relative tolerance, independent of magnitude (doctest's Approx has an absolute floor
 // of ~1e-5 through its default scale of 1; see shared REFERENCES.md §0).
-#define CHECK_REL(actual, expected, rtol) \
-  CHECK((actual) == doctest::Approx(expected).epsilon(rtol).scale(0.0))
-#define REQUIRE_REL(actual, expected, rtol) \
-  REQUIRE((actual) == doctest::Approx(expected).epsilon(rtol).scale(0.0))
+#define CHECK_REL(actual, expected, rtol) CHECK((actual) == doctest::Approx(expected).epsilon(rtol).scale(0.0))
+#define REQUIRE_REL(actual, expected, rtol) REQUIRE((actual) == doctest::Approx(expected).epsilon(rtol).scale(0.0))
 // For expected values that are exactly 0, or absolute tolerances.
 #define CHECK_ABS(actual, expected, atol) CHECK(std::fabs((actual) - (expected)) <= (atol))
 
@@ -24,12 +22,12 @@ inline std::string source(const std::string& name) { return std::string(VZERO_SO
 
 }  // namespace vzero::test
 
+#include <sys/wait.h>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
-#include <sys/wait.h>
 
 namespace vzero::test {
 
@@ -62,7 +60,9 @@ struct TempDir {
 struct CommandResult {
   int status = -1;
   std::string out, err, command;
-  std::string describe() const { return "command: " + command + "\nstatus: " + std::to_string(status) + "\nstdout:\n" + out + "\nstderr:\n" + err; }
+  std::string describe() const {
+    return "command: " + command + "\nstatus: " + std::to_string(status) + "\nstdout:\n" + out + "\nstderr:\n" + err;
+  }
 };
 
 // Runs the vzero binary with `args` (a shell-quoted string) in folder `dir`.

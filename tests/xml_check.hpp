@@ -109,12 +109,14 @@ class Parser {
   void skip_misc() {
     for (;;) {
       skip_space();
-      if (peek("<!--")) skip_comment();
+      if (peek("<!--"))
+        skip_comment();
       else if (peek("<?")) {
         std::size_t e = s_.find("?>", p_);
         if (e == std::string_view::npos) fail("unterminated processing instruction");
         p_ = e + 2;
-      } else return;
+      } else
+        return;
     }
   }
   std::string name() {
@@ -134,17 +136,25 @@ class Parser {
       std::size_t e = raw.find(';', i);
       if (e == std::string_view::npos) fail("'&' without ';'");
       std::string_view ent = raw.substr(i + 1, e - i - 1);
-      if (ent == "amp") out += '&';
-      else if (ent == "lt") out += '<';
-      else if (ent == "gt") out += '>';
-      else if (ent == "quot") out += '"';
-      else if (ent == "apos") out += '\'';
+      if (ent == "amp")
+        out += '&';
+      else if (ent == "lt")
+        out += '<';
+      else if (ent == "gt")
+        out += '>';
+      else if (ent == "quot")
+        out += '"';
+      else if (ent == "apos")
+        out += '\'';
       else if (ent.size() > 1 && ent[0] == '#') {
         unsigned long cp = ent[1] == 'x' ? std::stoul(std::string(ent.substr(2)), nullptr, 16)
                                          : std::stoul(std::string(ent.substr(1)), nullptr, 10);
-        if (cp < 0x80) out += static_cast<char>(cp);
-        else out += "?";  // the tests only look at ASCII references
-      } else fail("unknown entity &" + std::string(ent) + ";");
+        if (cp < 0x80)
+          out += static_cast<char>(cp);
+        else
+          out += "?";  // the tests only look at ASCII references
+      } else
+        fail("unknown entity &" + std::string(ent) + ";");
       i = e;
     }
     return out;

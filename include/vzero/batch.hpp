@@ -44,8 +44,8 @@ struct BatchFile {
   ProfileChoice choice;
   std::unique_ptr<Run> run;  // stays at one address: the analysis points into it
   RunAnalysis analysis;
-  std::string rates_rows;    // rates.csv rows of this file (no header)
-  std::string trace_rows;    // traces rows (no header), when asked
+  std::string rates_rows;  // rates.csv rows of this file (no header)
+  std::string trace_rows;  // traces rows (no header), when asked
 };
 
 struct BatchProgress {

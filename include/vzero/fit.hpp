@@ -61,34 +61,34 @@ struct FitOptions {
 struct ParameterEstimate {
   std::string name;
   double estimate = NAN;
-  double se = NAN;            // √ of the covariance diagonal
-  double ci_low = NAN;        // Wald-t: estimate ± t(df)·se
+  double se = NAN;      // √ of the covariance diagonal
+  double ci_low = NAN;  // Wald-t: estimate ± t(df)·se
   double ci_high = NAN;
   double profile_low = NAN;   // profile-t (as MASS confint for nls); NaN when the profile
   double profile_high = NAN;  // does not reach the cutoff on that side, or was not computed
 };
 
 struct FitResult {
-  const KineticModel* model = nullptr;  // the model fitted (registered models never move)
-  bool ok = false;                    // false: `message` says why and no numbers are given
-  std::string message;                // e.g. "too few points: 2 rows for 2 parameters ..."
-  std::vector<std::string> warnings;  // remarks on an ok fit (open profile, extrapolated Km)
-  bool converged = false;             // reached an optimum inside the bounds
-  int iterations = 0;                 // Levenberg–Marquardt iterations of the chosen run
-  std::string start_method;           // "given", "Hanes-Woolf", "Hill plot", "grid"
-  std::vector<double> start;          // the starting values of the chosen run
+  const KineticModel* model = nullptr;        // the model fitted (registered models never move)
+  bool ok = false;                            // false: `message` says why and no numbers are given
+  std::string message;                        // e.g. "too few points: 2 rows for 2 parameters ..."
+  std::vector<std::string> warnings;          // remarks on an ok fit (open profile, extrapolated Km)
+  bool converged = false;                     // reached an optimum inside the bounds
+  int iterations = 0;                         // Levenberg–Marquardt iterations of the chosen run
+  std::string start_method;                   // "given", "Hanes-Woolf", "Hill plot", "grid"
+  std::vector<double> start;                  // the starting values of the chosen run
   std::vector<ParameterEstimate> parameters;  // parameter_names order
-  Eigen::MatrixXd covariance;         // natural scale, s²·(JᵀWJ)⁻¹
+  Eigen::MatrixXd covariance;                 // natural scale, s²·(JᵀWJ)⁻¹
   Eigen::MatrixXd correlation;
-  int n = 0;                          // points fitted
-  int df = 0;                         // n − p
-  double rss = NAN;                   // Σ wᵢ rᵢ² at the optimum
-  double residual_sd = NAN;           // √(rss/df)
-  double aic = NAN;                   // see the header comment
-  double t_quantile = NAN;            // t(1 − (1 − confidence)/2, df)
-  double relative_offset = NAN;       // convergence criterion at the optimum
-  std::vector<double> fitted;         // model rate per point
-  std::vector<double> residuals;      // v − fitted (unweighted)
+  int n = 0;                      // points fitted
+  int df = 0;                     // n − p
+  double rss = NAN;               // Σ wᵢ rᵢ² at the optimum
+  double residual_sd = NAN;       // √(rss/df)
+  double aic = NAN;               // see the header comment
+  double t_quantile = NAN;        // t(1 − (1 − confidence)/2, df)
+  double relative_offset = NAN;   // convergence criterion at the optimum
+  std::vector<double> fitted;     // model rate per point
+  std::vector<double> residuals;  // v − fitted (unweighted)
 
   // The parameter named `name`, or nullptr.
   const ParameterEstimate* find(std::string_view name) const;
@@ -127,11 +127,11 @@ double student_t_quantile(double p, double df);
 struct DiagnosticRow {
   bool curve = false;
   double s = NAN;
-  double inhibitor = NAN;   // NaN for single-substrate models
+  double inhibitor = NAN;  // NaN for single-substrate models
   double v = NAN;
-  double fitted = NAN;      // model at (S, I)
-  double residual = NAN;    // v − fitted (points only)
-  double weight = NAN;      // points only
+  double fitted = NAN;    // model at (S, I)
+  double residual = NAN;  // v − fitted (points only)
+  double weight = NAN;    // points only
   double inv_s = NAN, inv_v = NAN, s_over_v = NAN, v_over_s = NAN;
 };
 
@@ -144,17 +144,17 @@ std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::
 // ---- Fitting a rates or summary table, group by group ----
 
 struct FitTableOptions {
-  std::string x_column;                    // substrate concentration (required)
-  std::string y_column;                    // rate; empty = "v0", else "v0_mean" if present
-  std::vector<std::string> group_columns;  // fit each combination of values separately
+  std::string x_column;                                              // substrate concentration (required)
+  std::string y_column;                                              // rate; empty = "v0", else "v0_mean" if present
+  std::vector<std::string> group_columns;                            // fit each combination of values separately
   std::vector<const KineticModel*> models = {&kinetic_model("mm")};  // registered models
-  std::string inhibitor_column;            // required by the inhibition models
-  std::string enzyme_column;               // when set: kcat and kcat/Km per fit
+  std::string inhibitor_column;                                      // required by the inhibition models
+  std::string enzyme_column;                                         // when set: kcat and kcat/Km per fit
   Weighting weighting = Weighting::none;
-  std::string sd_column;                   // replicate-sd: SD column; empty = "<y>_sd" or
-                                           // "<stem>_sd" for "<stem>_mean"; else replicate SDs
-  bool include_flagged = false;            // also use rows whose `flags` cell is not empty
-  std::string role = "sample";             // rows kept when a `role` column exists; "" = all
+  std::string sd_column;         // replicate-sd: SD column; empty = "<y>_sd" or
+                                 // "<stem>_sd" for "<stem>_mean"; else replicate SDs
+  bool include_flagged = false;  // also use rows whose `flags` cell is not empty
+  std::string role = "sample";   // rows kept when a `role` column exists; "" = all
   // Units known from outside the table (`vzero fit` reads them from the datapackage.json
   // beside it), by column name; used for a column whose unit the table does not give.
   std::map<std::string, std::string> column_units;
@@ -167,13 +167,13 @@ struct FitTableOptions {
 struct GroupFit {
   std::vector<std::string> group_values;  // parallel to TableFit::group_columns
   const KineticModel* model = nullptr;
-  FitResult result;                       // ok = false when the group cannot be fitted
-  std::vector<ParameterEstimate> derived; // kcat, kcat/Km (enzyme_column set, fit ok)
+  FitResult result;                              // ok = false when the group cannot be fitted
+  std::vector<ParameterEstimate> derived;        // kcat, kcat/Km (enzyme_column set, fit ok)
   std::vector<double> s, inhibitor, v, weights;  // the points used (inhibitor empty if unused)
-  std::vector<int> lines;                 // source line of each point
+  std::vector<int> lines;                        // source line of each point
   double enzyme_conc = NAN;
-  std::vector<std::string> units;         // per parameter (by its unit role: v's, x's, the
-                                          // inhibitor's, "1"), then per derived; "" = not given
+  std::vector<std::string> units;  // per parameter (by its unit role: v's, x's, the
+                                   // inhibitor's, "1"), then per derived; "" = not given
 };
 
 struct TableFit {
@@ -183,8 +183,8 @@ struct TableFit {
   Weighting weighting = Weighting::none;
   std::string v_unit, x_unit, inhibitor_unit, enzyme_unit;  // "" = not given by the table
   int rows_read = 0, rows_used = 0, rows_flagged = 0, rows_other_role = 0, rows_missing = 0;
-  std::vector<GroupFit> fits;             // groups in first-seen order, models in given order
-  std::vector<std::string> notes;         // e.g. "skipped 3 rows with an empty v0 cell"
+  std::vector<GroupFit> fits;      // groups in first-seen order, models in given order
+  std::vector<std::string> notes;  // e.g. "skipped 3 rows with an empty v0 cell"
 };
 
 // Reads the points from `table` (role and flags filters), groups them and fits every model.

@@ -25,8 +25,8 @@ Run read_run_text(const std::string& name, std::string_view text, const Profile&
 
 struct ProfileChoice {
   Profile profile;
-  bool detected = false;   // true when vzero chose it
-  std::string reason;      // why, in words, e.g. "wide-generic: header at line 7 ..."
+  bool detected = false;  // true when vzero chose it
+  std::string reason;     // why, in words, e.g. "wide-generic: header at line 7 ..."
 };
 
 // `requested` is a built-in profile name or a path; empty means detect: every built-in

@@ -36,9 +36,9 @@ enum class UnitRole { rate, substrate, inhibitor, none };
 std::string_view to_string(UnitRole role);  // "rate", "substrate", "inhibitor", "none"
 
 struct KineticParameter {
-  std::string name;                 // as in the formula and the outputs, e.g. "Km"
+  std::string name;  // as in the formula and the outputs, e.g. "Km"
   UnitRole unit_role = UnitRole::none;
-  std::string meaning;              // one line, e.g. "substrate concentration at half Vmax"
+  std::string meaning;  // one line, e.g. "substrate concentration at half Vmax"
   // Unit role none only (there is no data scale to follow): the search box and the values the
   // start grid tries. The other roles take both from the data (see parameter_bounds).
   double lo = NAN, hi = NAN;

@@ -18,8 +18,8 @@ namespace vzero {
 
 struct MethodEntry {
   std::string key;
-  std::string value;     // the value as option text: numbers shortest round-trip, booleans "true"/"false"
-  std::string type;      // "string", "integer", "float", "boolean"
+  std::string value;  // the value as option text: numbers shortest round-trip, booleans "true"/"false"
+  std::string type;   // "string", "integer", "float", "boolean"
   int line = 0;
   int column = 0;
 };

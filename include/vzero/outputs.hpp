@@ -17,17 +17,17 @@
 namespace vzero {
 
 struct InputRecord {
-  std::string kind;         // "export", "plate-map", "method", "profile"
+  std::string kind;  // "export", "plate-map", "method", "profile"
   std::string path;
   std::string sha256;
-  std::string profile;      // for exports
-  std::string shape;        // for exports
+  std::string profile;  // for exports
+  std::string shape;    // for exports
 };
 
 struct Provenance {
   std::string tool_version;
   std::vector<InputRecord> inputs;
-  std::vector<std::pair<std::string, std::string>> options;  // every option with its value, in order
+  std::vector<std::pair<std::string, std::string>> options;   // every option with its value, in order
   std::vector<std::pair<std::string, std::string>> detected;  // settings vzero chose itself (profiles, …)
   std::vector<std::string> map_columns;  // the plate map's columns passed through to the tables, in order
 };
@@ -50,8 +50,8 @@ std::vector<FieldSpec> summary_fields(const SummaryTable& s);
 std::string summary_csv(const SummaryTable& s);
 
 struct PackagedTable {
-  std::string name;          // "rates", "traces", "summary"
-  std::string path;          // file name relative to the package
+  std::string name;  // "rates", "traces", "summary"
+  std::string path;  // file name relative to the package
   std::vector<FieldSpec> fields;
 };
 

@@ -31,19 +31,19 @@ std::string_view to_string(Role r);
 struct WellInfo {
   WellId well;
   Role role = Role::empty;
-  double substrate = NAN;       // NaN when not given
-  double standard_conc = NAN;   // NaN when not given
-  std::string match;            // empty when not given
+  double substrate = NAN;           // NaN when not given
+  double standard_conc = NAN;       // NaN when not given
+  std::string match;                // empty when not given
   std::vector<std::string> values;  // text of every PlateMap::columns entry, trimmed
-  int line = 0;                 // where the well was defined: line, column of its well name
-  int column = 0;               // (grid form: of its role cell) and the line's text
+  int line = 0;                     // where the well was defined: line, column of its well name
+  int column = 0;                   // (grid form: of its role cell) and the line's text
   std::string line_text;
 };
 
 struct PlateMap {
   std::string source;
-  std::string sha256;                      // of the file's bytes ("" when parsed from memory)
-  std::string form;                        // "table" or "grid"
+  std::string sha256;                // of the file's bytes ("" when parsed from memory)
+  std::string form;                  // "table" or "grid"
   std::vector<std::string> columns;  // every column but `well` and `role`, in file order (passed through to outputs)
   std::map<WellId, WellInfo> wells;
 

@@ -31,10 +31,10 @@ std::string_view to_string(TimeUnit t);
 // one, is the channel name, else `name` is.
 struct SectionRule {
   std::string label;
-  std::string name;                   // used when the regex captures nothing
-  std::optional<Quantity> quantity;   // else guessed from the name, else [signal]
-  std::string unit;                   // else guessed with the quantity
-  int line = 0;                       // line in the profile file, for messages
+  std::string name;                  // used when the regex captures nothing
+  std::optional<Quantity> quantity;  // else guessed from the name, else [signal]
+  std::string unit;                  // else guessed with the quantity
+  int line = 0;                      // line in the profile file, for messages
 };
 
 // A line outside the data matching `pattern` stores capture group 1 under `key`; with
@@ -46,14 +46,14 @@ struct CaptureRule {
 };
 
 struct Profile {
-  std::string name;                   // file stem, e.g. "wide-generic"
+  std::string name;  // file stem, e.g. "wide-generic"
   std::string description;
-  std::string source;                 // "built-in" or the file path
-  std::string sha256;                 // of the profile file ("" for built-in profiles)
+  std::string source;  // "built-in" or the file path
+  std::string sha256;  // of the profile file ("" for built-in profiles)
   Shape shape = Shape::wide;
-  char delimiter = 0;                 // ',', ';', '\t'; 0 = guess per file
-  char decimal = '.';                 // '.' or ','
-  int plate_wells = 0;                // 0 = smallest standard plate holding the wells read
+  char delimiter = 0;   // ',', ';', '\t'; 0 = guess per file
+  char decimal = '.';   // '.' or ','
+  int plate_wells = 0;  // 0 = smallest standard plate holding the wells read
   TimeUnit time_unit = TimeUnit::seconds;
   std::vector<std::string> overflow_tokens{"OVER", "overflow", "SAT"};
   std::vector<std::string> missing_tokens{"", "NA", "N/A", "-", "NaN"};
@@ -63,14 +63,14 @@ struct Profile {
   std::vector<std::string> well_columns{"well"};
   std::vector<std::string> value_columns{"value", "signal"};
   std::vector<std::string> channel_columns{"channel"};
-  std::vector<std::string> ignore_columns;   // wide shape: other columns that are not wells
+  std::vector<std::string> ignore_columns;  // wide shape: other columns that are not wells
   // The channel when the file names none.
   std::string signal_name = "signal";
   Quantity signal_quantity = Quantity::other;
   std::string signal_unit;
   std::vector<SectionRule> sections;
   std::vector<CaptureRule> captures;
-  std::string grid_read_label;        // grid shape: regex; group 1 read time, group 2 (optional) temperature, C
+  std::string grid_read_label;  // grid shape: regex; group 1 read time, group 2 (optional) temperature, C
   int grid_read_line = 0;
 
   // Empty if valid, else what is wrong and which key to change (also compiles regexes).

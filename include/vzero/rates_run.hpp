@@ -45,16 +45,16 @@ class StringSink : public OutputSink {
 };
 
 struct RatesOutputs {
-  std::vector<BatchFile> files;        // owns each export's Run (the analyses point into them)
-  std::vector<RunAnalysis> analyses;   // one per file, in order
+  std::vector<BatchFile> files;       // owns each export's Run (the analyses point into them)
+  std::vector<RunAnalysis> analyses;  // one per file, in order
   PlateMap map;
   SummaryTable summary;
-  std::string summary_csv;             // "" unless settings.summary names a file
-  std::string datapackage_json;        // for settings.output's folder
-  std::string datapackage_path;        // where it belongs: beside settings.output
-  std::string report_html;             // "" unless settings.report names a file
+  std::string summary_csv;       // "" unless settings.summary names a file
+  std::string datapackage_json;  // for settings.output's folder
+  std::string datapackage_path;  // where it belongs: beside settings.output
+  std::string report_html;       // "" unless settings.report names a file
   Provenance provenance;
-  std::vector<std::string> notes;      // for the console: what was assumed (no conversion given, …)
+  std::vector<std::string> notes;  // for the console: what was assumed (no conversion given, …)
 };
 
 // Runs the whole job. Input problems throw InputError (file:line:column), option problems

@@ -77,11 +77,11 @@ ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector
                          bool with_activity, bool with_specific, const SummaryTable& summary, std::string package_json);
 
 struct ReportOptions {
-  std::string title;        // page title; "" = "vzero run report: " + the export names
-  std::string date;         // shown in the header as given; "" = no date (byte-identical reruns)
-  int panel_wells = 96;     // plates with more wells get a heat-map overview and panel blocks
-  int block_rows = 8;       // rows per panel block on large plates
-  int block_columns = 12;   // columns per panel block on large plates
+  std::string title;       // page title; "" = "vzero run report: " + the export names
+  std::string date;        // shown in the header as given; "" = no date (byte-identical reruns)
+  int panel_wells = 96;    // plates with more wells get a heat-map overview and panel blocks
+  int block_rows = 8;      // rows per panel block on large plates
+  int block_columns = 12;  // columns per panel block on large plates
   // Empty if valid, else e.g. "block_rows is 0; a block needs at least one row".
   std::string validate() const;
 };

@@ -73,14 +73,14 @@ std::string_view to_string(ReadStatus s);
 using StatusMatrix = Eigen::Matrix<ReadStatus, Eigen::Dynamic, Eigen::Dynamic>;
 
 struct Channel {
-  std::string name;                      // e.g. "A405", "ex360/em460"
+  std::string name;  // e.g. "A405", "ex360/em460"
   Quantity quantity = Quantity::other;
-  std::string unit;                      // signal unit, e.g. "AU", "RFU"
-  std::vector<double> time_s;            // one per read, strictly increasing
-  std::vector<double> temperature_c;     // empty, or one per read (NaN where not given)
-  std::vector<int> wells;                // plate index of each matrix column, ascending
-  Eigen::MatrixXd values;                // reads × wells; NaN where status is not ok
-  StatusMatrix status;                   // reads × wells
+  std::string unit;                   // signal unit, e.g. "AU", "RFU"
+  std::vector<double> time_s;         // one per read, strictly increasing
+  std::vector<double> temperature_c;  // empty, or one per read (NaN where not given)
+  std::vector<int> wells;             // plate index of each matrix column, ascending
+  Eigen::MatrixXd values;             // reads × wells; NaN where status is not ok
+  StatusMatrix status;                // reads × wells
 
   int reads() const { return static_cast<int>(time_s.size()); }
   // Matrix column of a plate index, or -1 when the channel has no such well.
@@ -88,13 +88,13 @@ struct Channel {
 };
 
 struct Run {
-  std::string source;                    // path as given by the user
-  std::string sha256;                    // hex digest of the bytes read
-  std::string profile;                   // profile name used
-  std::string shape;                     // "wide", "grid" or "long"
+  std::string source;                                         // path as given by the user
+  std::string sha256;                                         // hex digest of the bytes read
+  std::string profile;                                        // profile name used
+  std::string shape;                                          // "wide", "grid" or "long"
   std::vector<std::pair<std::string, std::string>> metadata;  // in file order
   PlateFormat format;
-  bool format_inferred = true;           // false when the profile fixed it
+  bool format_inferred = true;  // false when the profile fixed it
   std::vector<Channel> channels;
 
   const Channel* find_channel(std::string_view name) const;

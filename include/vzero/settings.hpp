@@ -24,12 +24,12 @@ namespace vzero {
 
 // Everything `vzero rates` is told: inputs, outputs and the analysis options.
 struct RunSettings {
-  std::vector<std::string> files;        // the raw exports
-  std::string layout;                    // plate map
-  std::string method;                    // assay method file ("" = none)
-  std::string profile;                   // instrument profile for every file ("" = detect per file)
-  std::string output = "rates.csv";      // rates table; datapackage.json goes beside it
-  std::string traces, summary, report;   // optional outputs ("" = not written)
+  std::vector<std::string> files;                   // the raw exports
+  std::string layout;                               // plate map
+  std::string method;                               // assay method file ("" = none)
+  std::string profile;                              // instrument profile for every file ("" = detect per file)
+  std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
+  std::string traces, summary, report;              // optional outputs ("" = not written)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates
   bool quiet = false;
   AnalysisOptions analysis;
@@ -55,23 +55,23 @@ struct NumberRange {
 };
 
 struct OptionValue {
-  std::string text;                  // as written
-  double number = 0;                 // for number and integer options
-  std::vector<std::string> list;     // for list options
-  bool on = false;                   // for flags
+  std::string text;               // as written
+  double number = 0;              // for number and integer options
+  std::vector<std::string> list;  // for list options
+  bool on = false;                // for flags
 };
 
 struct OptionSpec {
-  std::string_view name;             // "max-conversion": --max-conversion, and the method key
-  char short_name = 0;               // 'o' for -o, or 0
-  std::string_view group;            // help section
+  std::string_view name;   // "max-conversion": --max-conversion, and the method key
+  char short_name = 0;     // 'o' for -o, or 0
+  std::string_view group;  // help section
   OptionKind kind = OptionKind::text;
   OptionRole role = OptionRole::analysis;
-  std::string_view default_text;     // "" = no default (unset unless given)
-  std::string_view unit;             // of the value as written: "%", "s", "M⁻¹·cm⁻¹", "cm", ""
+  std::string_view default_text;  // "" = no default (unset unless given)
+  std::string_view unit;          // of the value as written: "%", "s", "M⁻¹·cm⁻¹", "cm", ""
   std::string_view help;
   std::vector<std::string_view> choices;  // for choice options
-  NumberRange range;                 // for number and integer options
+  NumberRange range;                      // for number and integer options
   // Where the value lands. Plain numbers, whole numbers and texts name their field (a number
   // is stored divided by `scale`: max-conversion 10 % is the fraction 0.10); the rest store
   // through `apply`, which returns "" or why the value is refused (phrased to follow
@@ -91,8 +91,8 @@ const OptionSpec* find_option(std::string_view name);
 // Where a given value came from: the command line (file empty) or a method file's line.
 struct GivenOption {
   std::string name;
-  std::string text;                  // "true"/"false" for flags from a method file
-  std::string file;                  // method file, or "" for the command line
+  std::string text;  // "true"/"false" for flags from a method file
+  std::string file;  // method file, or "" for the command line
   int line = 0, column = 0;
 };
 
@@ -101,8 +101,8 @@ struct ResolvedSettings {
   // Every analysis option with its value as used, in table order: given ones as written,
   // the rest at their defaults (options without a default and not given are left out).
   std::vector<std::pair<std::string, std::string>> recorded;
-  std::vector<std::string> given;    // names given (command line or method file)
-  std::string method_sha256;         // of the method file read, "" when none
+  std::vector<std::string> given;  // names given (command line or method file)
+  std::string method_sha256;       // of the method file read, "" when none
 };
 
 // Applies the given options over the defaults, checks every value and the combinations, and

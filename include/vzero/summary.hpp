@@ -15,12 +15,12 @@ namespace vzero {
 struct SummaryGroup {
   std::string channel;
   std::string role;
-  std::vector<std::string> key;     // values of SummaryTable::columns
+  std::vector<std::string> key;  // values of SummaryTable::columns
   std::string v0_unit;
-  int n = 0;                        // clean wells averaged
-  int n_flagged = 0;                // wells in the group left out because flagged
+  int n = 0;          // clean wells averaged
+  int n_flagged = 0;  // wells in the group left out because flagged
   double v0_mean = NAN, v0_sd = NAN, v0_sem = NAN, cv_pct = NAN;
-  std::string wells;                // ';'-separated, all wells of the group
+  std::string wells;  // ';'-separated, all wells of the group
 };
 
 struct SummaryTable {

@@ -15,11 +15,11 @@
 namespace vzero {
 
 struct Table {
-  std::string source;                          // file name, for messages
+  std::string source;  // file name, for messages
   char delimiter = ',';
-  std::vector<std::string> header;             // trimmed names, in file order
-  std::vector<std::vector<std::string>> rows;  // each as long as header
-  std::vector<int> line_of_row;                // 1-based file line of each row
+  std::vector<std::string> header;               // trimmed names, in file order
+  std::vector<std::vector<std::string>> rows;    // each as long as header
+  std::vector<int> line_of_row;                  // 1-based file line of each row
   std::vector<std::vector<int>> column_of_cell;  // 1-based column of each cell's first character
 
   // Index of the column named `name` (case-insensitive), or -1.
@@ -35,8 +35,8 @@ struct Table {
 // vzero's tables make theirs from their column declarations (src/core/columns.hpp).
 struct FieldSpec {
   std::string name;
-  std::string type;         // "string", "number", "integer", "boolean"
-  std::string unit;         // "" when none or given per row (see description)
+  std::string type;  // "string", "number", "integer", "boolean"
+  std::string unit;  // "" when none or given per row (see description)
   std::string description;
 };
 

@@ -1,7 +1,7 @@
 // vzero fit: kinetics fits (Michaelis–Menten and relatives) of a rates or summary table.
+#include <fmt/format.h>
 #include <boost/program_options.hpp>
 #include <filesystem>
-#include <fmt/format.h>
 #include <fstream>
 #include <map>
 #include <nlohmann/json.hpp>
@@ -125,10 +125,11 @@ std::vector<const KineticModel*> parse_models(const std::vector<std::string>& na
 }
 
 void write_output(const std::string& path, const std::string& content) {
-  if (path == "-") print_out(content);
-  else write_file_atomic(path, content);
+  if (path == "-")
+    print_out(content);
+  else
+    write_file_atomic(path, content);
 }
-
 
 // Units the data package beside the table gives its columns (`vzero rates` writes one next
 // to rates.csv; the map's substrate carries --conc-unit there): the fields of the resource
@@ -163,27 +164,25 @@ int cmd_fit(const Args& args) {
   std::vector<std::string> groups, models{"mm"}, start;
   FitOptions fit;
   po::options_description opts(usage());
-  opts.add_options()
-      ("x", po::value(&x), "substrate concentration column (required)")
-      ("y", po::value(&y), "rate column (default: v0, or v0_mean in a summary table)")
-      ("group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")
-      ("model", po::value(&models)->composing(), "model(s) to fit, comma-separated, or all (default: mm)")
-      ("inhibitor", po::value(&inhibitor), "inhibitor concentration column (for the inhibition models)")
-      ("enzyme", po::value(&enzyme), "enzyme concentration column: adds kcat and kcat/Km")
-      ("weight", po::value(&weight), "none (default), replicate-sd (1/sd^2) or relative (1/v^2)")
-      ("sd", po::value(&sd), "SD column for replicate-sd (default: v0_sd for v0_mean; else the SD of replicate rows "
-                             "at each concentration)")
-      ("include-flagged", "also use rows whose flags cell is not empty")
-      ("role", po::value(&role), "rows to use when the table has a role column (default: sample; any = all rows)")
-      ("output,o", po::value(&output), "write the tidy fit table here ('-' = stdout)")
-      ("json", po::value(&json), "write all results as JSON here ('-' = stdout)")
-      ("diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")
-      ("start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")
-      ("confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")
-      ("max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")
-      ("no-profile", "skip the profile-t intervals (faster)")
-      ("quiet,q", "do not print the table on stdout")
-      ("help,h", "show this help");
+  opts.add_options()("x", po::value(&x), "substrate concentration column (required)")(
+      "y", po::value(&y), "rate column (default: v0, or v0_mean in a summary table)")(
+      "group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")(
+      "model", po::value(&models)->composing(), "model(s) to fit, comma-separated, or all (default: mm)")(
+      "inhibitor", po::value(&inhibitor), "inhibitor concentration column (for the inhibition models)")(
+      "enzyme", po::value(&enzyme), "enzyme concentration column: adds kcat and kcat/Km")(
+      "weight", po::value(&weight), "none (default), replicate-sd (1/sd^2) or relative (1/v^2)")(
+      "sd", po::value(&sd),
+      "SD column for replicate-sd (default: v0_sd for v0_mean; else the SD of replicate rows "
+      "at each concentration)")("include-flagged", "also use rows whose flags cell is not empty")(
+      "role", po::value(&role), "rows to use when the table has a role column (default: sample; any = all rows)")(
+      "output,o", po::value(&output), "write the tidy fit table here ('-' = stdout)")(
+      "json", po::value(&json), "write all results as JSON here ('-' = stdout)")(
+      "diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")(
+      "start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")(
+      "confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")(
+      "max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")(
+      "no-profile", "skip the profile-t intervals (faster)")("quiet,q", "do not print the table on stdout")(
+      "help,h", "show this help");
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;
@@ -243,7 +242,8 @@ int cmd_fit(const Args& args) {
   o.column_units = package_units(file);
   // Column checks here, so a missing column names the option that chose it.
   table.require_column(x, "pass --x with the substrate concentration column");
-  if (!y.empty()) table.require_column(y, "pass --y with the rate column");
+  if (!y.empty())
+    table.require_column(y, "pass --y with the rate column");
   else if (table.column("v0") < 0 && table.column("v0_mean") < 0)
     table.require_column("v0", "pass --y with the rate column (v0 in a rates table, v0_mean in a summary)");
   if (!inhibitor.empty()) table.require_column(inhibitor, "pass --inhibitor with the inhibitor concentration column");
@@ -254,9 +254,10 @@ int cmd_fit(const Args& args) {
     std::set<std::string> values;
     for (const auto& row : table.rows) values.insert(row[static_cast<std::size_t>(table.column("group"))]);
     if (values.size() > 1)
-      print_err(fmt::format("vzero fit: note: column \"group\" holds {} values and all rows are fitted together; pass "
-                            "--group group to fit each group separately",
-                            values.size()));
+      print_err(
+          fmt::format("vzero fit: note: column \"group\" holds {} values and all rows are fitted together; pass "
+                      "--group group to fit each group separately",
+                      values.size()));
   }
 
   TableFit result = fit_table(table, o);
@@ -268,13 +269,16 @@ int cmd_fit(const Args& args) {
   int ok = 0;
   const GroupFit* first_failure = nullptr;
   for (const auto& g : result.fits) {
-    if (g.result.ok) ++ok;
-    else if (!first_failure) first_failure = &g;
+    if (g.result.ok)
+      ++ok;
+    else if (!first_failure)
+      first_failure = &g;
   }
   if (ok == 0 && first_failure) {
-    throw InputError(Where{file}, fmt::format("no fit succeeded; the first ({}): {}", first_failure->model->name,
-                                              first_failure->result.message),
-                     {"see the message of each group in the output"});
+    throw InputError(
+        Where{file},
+        fmt::format("no fit succeeded; the first ({}): {}", first_failure->model->name, first_failure->result.message),
+        {"see the message of each group in the output"});
   }
   return 0;
 }

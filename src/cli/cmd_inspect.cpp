@@ -1,7 +1,7 @@
 // vzero inspect: show what vzero reads from a raw export.
+#include <fmt/format.h>
 #include <boost/program_options.hpp>
 #include <cmath>
-#include <fmt/format.h>
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
@@ -33,8 +33,11 @@ std::string well_list(const Run& run, const Channel& c, ReadStatus s, int* count
     for (Eigen::Index r = 0; r < c.status.rows(); ++r) n += c.status(r, j) == s;
     if (n == 0) continue;
     *count += n;
-    if (shown < 12) out += fmt::format("{}{} ({})", shown ? ", " : "", well_name(run.format.well(c.wells[static_cast<std::size_t>(j)])), n);
-    else if (shown == 12) out += ", …";
+    if (shown < 12)
+      out += fmt::format("{}{} ({})", shown ? ", " : "",
+                         well_name(run.format.well(c.wells[static_cast<std::size_t>(j)])), n);
+    else if (shown == 12)
+      out += ", …";
     ++shown;
   }
   return out;
@@ -46,9 +49,9 @@ int cmd_inspect(const Args& args) {
   namespace po = boost::program_options;
   std::string file, profile;
   po::options_description opts(k_usage);
-  opts.add_options()
-      ("profile,p", po::value(&profile), "instrument profile: a built-in name or a .toml path (default: detect)")
-      ("help,h", "show this help");
+  opts.add_options()("profile,p", po::value(&profile),
+                     "instrument profile: a built-in name or a .toml path (default: detect)")("help,h",
+                                                                                              "show this help");
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;
@@ -67,14 +70,16 @@ int cmd_inspect(const Args& args) {
   out += fmt::format("sha256    {}\n", run.sha256);
   out += fmt::format("shape     {}\n", run.shape);
   out += fmt::format("profile   {} ({}; {})\n", run.profile, choice.profile.source, choice.reason);
-  out += fmt::format("plate     {} wells ({} rows × {} columns{})\n", run.format.wells(), run.format.rows,
-                     run.format.columns, run.format_inferred ? ", inferred from the wells read" : ", set by the profile");
+  out +=
+      fmt::format("plate     {} wells ({} rows × {} columns{})\n", run.format.wells(), run.format.rows,
+                  run.format.columns, run.format_inferred ? ", inferred from the wells read" : ", set by the profile");
   if (!run.metadata.empty()) {
     out += "metadata\n";
     for (const auto& [k, v] : run.metadata) out += fmt::format("  {}: {}\n", k, v);
   }
   for (const auto& c : run.channels) {
-    out += fmt::format("channel   {}  {}{}\n", c.name, to_string(c.quantity), c.unit.empty() ? "" : " (" + c.unit + ")");
+    out +=
+        fmt::format("channel   {}  {}{}\n", c.name, to_string(c.quantity), c.unit.empty() ? "" : " (" + c.unit + ")");
     out += fmt::format("  wells   {}\n", c.wells.size());
     out += fmt::format("  reads   {}, from {} s to {} s", c.reads(), format_seconds(c.time_s.front()),
                        format_seconds(c.time_s.back()));
@@ -83,7 +88,10 @@ int cmd_inspect(const Args& args) {
     if (!c.temperature_c.empty()) {
       double lo = INFINITY, hi = -INFINITY;
       for (double t : c.temperature_c)
-        if (!std::isnan(t)) { lo = std::min(lo, t); hi = std::max(hi, t); }
+        if (!std::isnan(t)) {
+          lo = std::min(lo, t);
+          hi = std::max(hi, t);
+        }
       out += fmt::format("  temperature {}–{} °C\n", lo, hi);
     }
     int n = 0;

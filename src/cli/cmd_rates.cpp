@@ -4,10 +4,10 @@
 #include <malloc.h>
 #endif
 
+#include <fmt/format.h>
 #include <boost/program_options.hpp>
 #include <chrono>
 #include <cstdio>
-#include <fmt/format.h>
 #include <map>
 #include <memory>
 
@@ -62,7 +62,9 @@ class ProgressLine {
 class FileSink : public OutputSink {
  public:
   explicit FileSink(std::map<std::string, std::string> table_paths) : table_paths_(std::move(table_paths)) {}
-  void append(std::string_view table, std::string_view text) override { file(table_paths_.at(std::string(table))).append(text); }
+  void append(std::string_view table, std::string_view text) override {
+    file(table_paths_.at(std::string(table))).append(text);
+  }
   void write(const std::string& path, std::string_view text) { file(path).append(text); }
   void publish() {
     for (const auto& path : order_) files_.at(path)->commit();
@@ -119,8 +121,8 @@ int cmd_rates(const Args& args) {
   pos.add("file", -1);
   po::variables_map vm = parse_command_line(args, opts, hidden, pos);
   if (vm.count("help")) {
-    print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() + "\nepsilon presets: " +
-              epsilon_preset_list() + "\n");
+    print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() +
+              "\nepsilon presets: " + epsilon_preset_list() + "\n");
     return 0;
   }
   const ResolvedSettings resolved = settings_from(vm);

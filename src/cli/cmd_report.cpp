@@ -1,6 +1,6 @@
 // vzero report: one self-contained HTML page from the files a run wrote.
-#include <boost/program_options.hpp>
 #include <fmt/format.h>
+#include <boost/program_options.hpp>
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
@@ -51,18 +51,16 @@ int cmd_report(const Args& args) {
   ReportOptions options;
   std::string output;
   po::options_description opts(k_usage);
-  opts.add_options()
-      ("rates", po::value(&files.rates), "rates table written by vzero rates (required)")
-      ("traces", po::value(&files.traces), "traces table (vzero rates --traces); without it panels show no curve")
-      ("summary", po::value(&files.summary), "replicate summary (vzero rates --summary)")
-      ("fit", po::value(&files.fit), "fit results (vzero fit --json)")
-      ("diagnostics", po::value(&files.diagnostics), "fit diagnostics (vzero fit --diagnostics): the fitted points")
-      ("package", po::value(&files.package), "datapackage.json written beside rates.csv: provenance")
-      ("title", po::value(&options.title), "page title (default: \"Run report: \" and the export names)")
-      ("date", po::value(&options.date), "text shown as the report's date, e.g. \"2026-03-14\" (default: none)")
-      ("output,o", po::value(&output), "the HTML file to write (required; '-' writes to stdout)")
-      ("quiet,q", "print nothing on success")
-      ("help,h", "show this help");
+  opts.add_options()("rates", po::value(&files.rates), "rates table written by vzero rates (required)")(
+      "traces", po::value(&files.traces), "traces table (vzero rates --traces); without it panels show no curve")(
+      "summary", po::value(&files.summary), "replicate summary (vzero rates --summary)")(
+      "fit", po::value(&files.fit), "fit results (vzero fit --json)")(
+      "diagnostics", po::value(&files.diagnostics), "fit diagnostics (vzero fit --diagnostics): the fitted points")(
+      "package", po::value(&files.package), "datapackage.json written beside rates.csv: provenance")(
+      "title", po::value(&options.title), "page title (default: \"Run report: \" and the export names)")(
+      "date", po::value(&options.date), "text shown as the report's date, e.g. \"2026-03-14\" (default: none)")(
+      "output,o", po::value(&output), "the HTML file to write (required; '-' writes to stdout)")(
+      "quiet,q", "print nothing on success")("help,h", "show this help");
   po::variables_map vm = parse_command_line(args, opts, {}, {});
   if (vm.count("help")) {
     print_out(help_text(opts));

@@ -1,10 +1,10 @@
 // vzero: initial rates (v0) from microplate-reader kinetic exports.
+#include <fmt/format.h>
 #include <cerrno>
 #include <csignal>
 #include <cstdio>
 #include <cstring>
 #include <exception>
-#include <fmt/format.h>
 
 #include "cli/commands.hpp"
 #include "core/text.hpp"
@@ -68,8 +68,9 @@ int main(int argc, char** argv) {
     if (command == "fit") return cmd_fit(rest);
     if (command == "report") return cmd_report(rest);
     const std::string near = vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report"}, 2);
-    print_err(fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report (see vzero --help)",
-                          command, near.empty() ? "" : "did you mean " + near + "? "));
+    print_err(
+        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report (see vzero --help)",
+                    command, near.empty() ? "" : "did you mean " + near + "? "));
     return 2;
   } catch (const vzero::UsageError& e) {
     print_err(fmt::format("vzero {}: {}\n  see: vzero {} --help", command, e.what(), command));

@@ -1,7 +1,7 @@
 #include "cli/options.hpp"
 
-#include <algorithm>
 #include <fmt/format.h>
+#include <algorithm>
 #include <sstream>
 #include <string_view>
 #include <vector>

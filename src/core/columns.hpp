@@ -10,7 +10,8 @@
 // **Example**:
 //   struct Point { double t_s, v; };
 //   constexpr ColumnEntry<Point, NoContext> k_points[] = {
-//       {"time_s", FieldType::number, "s", "read time", [](CsvOut& o, const Point& p, std::size_t) { o.number(p.t_s); }},
+//       {"time_s", FieldType::number, "s", "read time", [](CsvOut& o, const Point& p, std::size_t) { o.number(p.t_s);
+//       }},
 //       {"v", FieldType::number, "", "value", [](CsvOut& o, const Point& p, std::size_t) { o.number(p.v); }},
 //   };
 //   const auto cols = columns_for<Point, NoContext>(k_points, {});
@@ -34,10 +35,14 @@ enum class FieldType : unsigned char { string, number, integer, boolean };
 // Table Schema's name of the type.
 constexpr std::string_view to_string(FieldType t) {
   switch (t) {
-    case FieldType::number: return "number";
-    case FieldType::integer: return "integer";
-    case FieldType::boolean: return "boolean";
-    case FieldType::string: break;
+    case FieldType::number:
+      return "number";
+    case FieldType::integer:
+      return "integer";
+    case FieldType::boolean:
+      return "boolean";
+    case FieldType::string:
+      break;
   }
   return "string";
 }
@@ -56,7 +61,7 @@ template <class Row>
 struct Column {
   std::string_view name;
   FieldType type = FieldType::string;
-  std::string_view unit;         // Table Schema unit; "" when none or when a row gives it
+  std::string_view unit;  // Table Schema unit; "" when none or when a row gives it
   std::string_view description;
   CellWriter<Row> write = nullptr;
   std::size_t arg = 0;
@@ -123,8 +128,8 @@ std::vector<FieldSpec> schema_fields(const std::vector<Column<Row>>& columns) {
   std::vector<FieldSpec> out;
   out.reserve(columns.size());
   for (const auto& c : columns)
-    out.push_back({std::string(c.name), std::string(to_string(c.type)), std::string(c.unit),
-                   std::string(c.description)});
+    out.push_back(
+        {std::string(c.name), std::string(to_string(c.type)), std::string(c.unit), std::string(c.description)});
   return out;
 }
 

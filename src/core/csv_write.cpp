@@ -1,8 +1,8 @@
 #include "core/csv_write.hpp"
 
+#include <fmt/compile.h>
 #include <cmath>
 #include <cstring>
-#include <fmt/compile.h>
 
 namespace vzero::detail {
 
@@ -61,8 +61,10 @@ void CsvOut::joined(const std::vector<std::string>& parts, char sep) {
 
 void CsvOut::number(double v) {
   if (std::isnan(v)) return;
-  if (v == 0) buffer_.push_back('0');  // also for -0
-  else fmt::format_to(std::back_inserter(buffer_), FMT_COMPILE("{}"), v);  // parsed at compile time
+  if (v == 0)
+    buffer_.push_back('0');  // also for -0
+  else
+    fmt::format_to(std::back_inserter(buffer_), FMT_COMPILE("{}"), v);  // parsed at compile time
 }
 
 void CsvOut::integer(long long v) {

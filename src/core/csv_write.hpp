@@ -12,8 +12,8 @@
 //   // out.view() == "\"A1;B2\",0.1\n"
 #pragma once
 
-#include <array>
 #include <fmt/format.h>
+#include <array>
 #include <string>
 #include <string_view>
 #include <vector>

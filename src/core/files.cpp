@@ -1,12 +1,12 @@
 #include "core/files.hpp"
 
+#include <fmt/format.h>
+#include <unistd.h>
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
-#include <fmt/format.h>
 #include <fstream>
 #include <sstream>
-#include <unistd.h>
 
 #include "vzero/error.hpp"
 
@@ -52,10 +52,12 @@ void check_outputs(const std::vector<NamedPath>& inputs, const std::vector<Named
     fs::path dir = fs::path(o.path).parent_path();
     if (dir.empty()) dir = ".";
     if (!fs::is_directory(dir, ec))
-      throw InputError(Where{o.path}, fmt::format("cannot write {}: the folder {} does not exist", o.path, dir.string()),
+      throw InputError(Where{o.path},
+                       fmt::format("cannot write {}: the folder {} does not exist", o.path, dir.string()),
                        {fmt::format("create it first (mkdir -p {}) or choose another output path", dir.string())});
     if (::access(dir.c_str(), W_OK) != 0)
-      throw InputError(Where{o.path}, fmt::format("cannot write {}: the folder {} is not writable", o.path, dir.string()),
+      throw InputError(Where{o.path},
+                       fmt::format("cannot write {}: the folder {} is not writable", o.path, dir.string()),
                        {"choose an output folder you may write to"});
   }
 }

@@ -3,14 +3,14 @@
 
 #include <openssl/evp.h>
 
+#include <fmt/format.h>
 #include <algorithm>
-#include <cstdint>
 #include <cerrno>
+#include <cstdint>
 #include <cstdio>
 #include <cstring>
 #include <limits>
 #include <vector>
-#include <fmt/format.h>
 
 #include "vzero/error.hpp"
 
@@ -92,12 +92,12 @@ struct LineSource::Impl {
   std::string_view memory;  // the bytes, when reading from memory
   long long left = -1;      // bytes still allowed from the file; −1 = no limit
   Sha256 hash;
-  long long total = 0;      // bytes read and hashed
-  long long base = 0;       // offset in the stream of buf[0]
-  long long nul_at = -1;    // offset in the stream of the first NUL byte, −1 if none seen yet
-  long long line_end = 0;   // offset in the stream of the end of the last line given
+  long long total = 0;     // bytes read and hashed
+  long long base = 0;      // offset in the stream of buf[0]
+  long long nul_at = -1;   // offset in the stream of the first NUL byte, −1 if none seen yet
+  long long line_end = 0;  // offset in the stream of the end of the last line given
   Ends ends = Ends::unknown;
-  bool cut = false;         // the byte limit stopped the reading before the end
+  bool cut = false;             // the byte limit stopped the reading before the end
   std::unique_ptr<char[]> buf;  // not a vector: growing it must not clear it
   std::size_t capacity = 0;
   std::size_t begin = 0, end = 0, scanned = 0;  // unread bytes [begin, end); no '\n' in [begin, scanned)
@@ -133,7 +133,8 @@ struct LineSource::Impl {
     if (file && left >= 0) {
       // A prefix of the file only: stop after max_bytes, noting whether more follows.
       // (in small steps: a quick look reads only what it looks at)
-      n = std::fread(at, 1, static_cast<std::size_t>(std::min<long long>(std::min<long long>(k_chunk, 1 << 16), left)), file);
+      n = std::fread(at, 1, static_cast<std::size_t>(std::min<long long>(std::min<long long>(k_chunk, 1 << 16), left)),
+                     file);
       left -= static_cast<long long>(n);
       if (left == 0 && !cut) cut = std::fgetc(file) != EOF;
     } else if (file) {
@@ -200,8 +201,7 @@ struct LineSource::Impl {
   bool raw_next(std::string_view& line, const std::string& name, int line_no) {
     if (!started) {
       started = true;
-      while (end - begin < 3 && fill()) {
-      }
+      while (end - begin < 3 && fill()) {}
       if (end - begin >= 3 && buf[begin] == '\xEF' && buf[begin + 1] == '\xBB' && buf[begin + 2] == '\xBF') begin += 3;
       scanned = begin;
     }
@@ -318,8 +318,10 @@ std::string LineSource::sha256() {
   // Drain the rest without validating it: the digest covers every byte.
   std::string_view ignored;
   while (!impl_->done) {
-    if (!impl_->raw_next(ignored, name_, line_)) impl_->done = true;
-    else ++line_;
+    if (!impl_->raw_next(ignored, name_, line_))
+      impl_->done = true;
+    else
+      ++line_;
   }
   return impl_->hashing ? impl_->hash.hex() : std::string();
 }

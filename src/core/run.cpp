@@ -8,8 +8,7 @@
 namespace vzero {
 
 namespace {
-constexpr std::array<PlateFormat, 7> k_formats = {{
-    {2, 3}, {3, 4}, {4, 6}, {6, 8}, {8, 12}, {16, 24}, {32, 48}}};
+constexpr std::array<PlateFormat, 7> k_formats = {{{2, 3}, {3, 4}, {4, 6}, {6, 8}, {8, 12}, {16, 24}, {32, 48}}};
 }  // namespace
 
 std::optional<PlateFormat> plate_format_for(int wells) {
@@ -30,11 +29,17 @@ std::optional<std::pair<double, double>> well_centre_mm(PlateFormat format, Well
   // footprint of ANSI/SLAS 1-2004.
   double x0 = 0, y0 = 0, pitch = 0;
   if (format.wells() == 96) {
-    x0 = 14.38; y0 = 11.24; pitch = 9.0;
+    x0 = 14.38;
+    y0 = 11.24;
+    pitch = 9.0;
   } else if (format.wells() == 384) {
-    x0 = 12.13; y0 = 8.99; pitch = 4.5;
+    x0 = 12.13;
+    y0 = 8.99;
+    pitch = 4.5;
   } else if (format.wells() == 1536) {
-    x0 = 11.005; y0 = 7.865; pitch = 2.25;
+    x0 = 11.005;
+    y0 = 7.865;
+    pitch = 2.25;
   } else {
     return std::nullopt;
   }
@@ -62,7 +67,9 @@ std::string well_set_text(std::vector<WellId> wells) {
   }
   // 0: not in the set, 1: in it and not yet written, 2: written.
   std::vector<unsigned char> cell(static_cast<std::size_t>(rows) * static_cast<std::size_t>(cols), 0);
-  const auto at = [&](int r, int c) -> unsigned char& { return cell[static_cast<std::size_t>(r) * static_cast<std::size_t>(cols) + static_cast<std::size_t>(c)]; };
+  const auto at = [&](int r, int c) -> unsigned char& {
+    return cell[static_cast<std::size_t>(r) * static_cast<std::size_t>(cols) + static_cast<std::size_t>(c)];
+  };
   for (const WellId& w : wells) at(w.row, w.column) = 1;
   for (const WellId& w : wells) {
     if (at(w.row, w.column) != 1) continue;
@@ -126,10 +133,14 @@ std::optional<WellId> parse_well(std::string_view t) {
 
 std::string_view to_string(Quantity q) {
   switch (q) {
-    case Quantity::absorbance: return "absorbance";
-    case Quantity::fluorescence: return "fluorescence";
-    case Quantity::luminescence: return "luminescence";
-    case Quantity::other: return "other";
+    case Quantity::absorbance:
+      return "absorbance";
+    case Quantity::fluorescence:
+      return "fluorescence";
+    case Quantity::luminescence:
+      return "luminescence";
+    case Quantity::other:
+      return "other";
   }
   return "other";
 }
@@ -144,10 +155,14 @@ std::optional<Quantity> parse_quantity(std::string_view t) {
 
 std::string_view to_string(ReadStatus s) {
   switch (s) {
-    case ReadStatus::ok: return "ok";
-    case ReadStatus::overflow: return "overflow";
-    case ReadStatus::missing: return "missing";
-    case ReadStatus::excluded: return "excluded";
+    case ReadStatus::ok:
+      return "ok";
+    case ReadStatus::overflow:
+      return "overflow";
+    case ReadStatus::missing:
+      return "missing";
+    case ReadStatus::excluded:
+      return "excluded";
   }
   return "ok";
 }

@@ -10,9 +10,10 @@ namespace vzero::detail {
 
 namespace {
 // Errors become NaN (the callers check their inputs); nothing throws from here.
-using Policy = boost::math::policies::policy<boost::math::policies::domain_error<boost::math::policies::ignore_error>,
-                                             boost::math::policies::overflow_error<boost::math::policies::ignore_error>,
-                                             boost::math::policies::evaluation_error<boost::math::policies::ignore_error>>;
+using Policy =
+    boost::math::policies::policy<boost::math::policies::domain_error<boost::math::policies::ignore_error>,
+                                  boost::math::policies::overflow_error<boost::math::policies::ignore_error>,
+                                  boost::math::policies::evaluation_error<boost::math::policies::ignore_error>>;
 }  // namespace
 
 double normal_quantile(double p) {

@@ -3,10 +3,10 @@
 #include <fcntl.h>
 #include <unistd.h>
 
+#include <fmt/format.h>
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
-#include <fmt/format.h>
 #include <random>
 
 #include "core/csv_write.hpp"
@@ -72,8 +72,7 @@ Table parse_lines(detail::LineSource& src) {
         std::string name(detail::trim(f.text));
         if (name.empty()) {
           throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
-                           "expected a column name in the header, found an empty field",
-                           {"give every column a name"});
+                           "expected a column name in the header, found an empty field", {"give every column a name"});
         }
         if (t.column(name) >= 0) {
           throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
@@ -200,7 +199,8 @@ void AtomicFile::append(std::string_view text) {
   // has little left to wait for.
   written_ += text.size();
   if (!device_ && written_ - started_ >= (std::size_t{8} << 20)) {
-    ::sync_file_range(fd_, static_cast<off_t>(started_), static_cast<off_t>(written_ - started_), SYNC_FILE_RANGE_WRITE);
+    ::sync_file_range(fd_, static_cast<off_t>(started_), static_cast<off_t>(written_ - started_),
+                      SYNC_FILE_RANGE_WRITE);
     started_ = written_;
   }
 #endif

@@ -95,7 +95,7 @@ void split_fields_into(std::string_view line, char delimiter, std::vector<Field>
     }
     out.push_back(std::move(f));
     if (i >= n) break;
-    ++i;  // skip the delimiter
+    ++i;           // skip the delimiter
     if (i == n) {  // a trailing delimiter makes one more, empty field
       out.push_back(Field{std::string{}, static_cast<int>(i) + 1});
       break;
@@ -211,8 +211,7 @@ bool parse_plain_decimal(std::string_view t, char decimal, double& out) {
   std::uint64_t m = 0;
   int digits = 0, frac = 0;
   const char* const int_start = p;
-  for (; p < e && static_cast<unsigned>(*p - '0') < 10; ++p, ++digits)
-    m = m * 10 + static_cast<unsigned>(*p - '0');
+  for (; p < e && static_cast<unsigned>(*p - '0') < 10; ++p, ++digits) m = m * 10 + static_cast<unsigned>(*p - '0');
   if (p == int_start) return false;
   if (p < e && *p == decimal) {
     const char* const frac_start = ++p;
@@ -249,7 +248,8 @@ long long leading_exponent(std::string_view t) {
     ++i;
     long long zeros = 0;
     for (; i < t.size() && t[i] >= '0' && t[i] <= '9'; ++i) {
-      if (!found && t[i] == '0') ++zeros;
+      if (!found && t[i] == '0')
+        ++zeros;
       else if (!found) {
         found = true;
         lead = -(zeros + 1);

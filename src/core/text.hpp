@@ -28,8 +28,7 @@ struct Field {
 // Sets `*unclosed_quote` (when given) if a quoted field does not end on this line.
 std::vector<Field> split_fields(std::string_view line, char delimiter, bool* unclosed_quote = nullptr);
 // Same, reusing `out` (no allocation once its capacity is reached).
-void split_fields_into(std::string_view line, char delimiter, std::vector<Field>& out,
-                       bool* unclosed_quote = nullptr);
+void split_fields_into(std::string_view line, char delimiter, std::vector<Field>& out, bool* unclosed_quote = nullptr);
 
 // A field as a view: into the line itself, or (quoted fields with "" or text after the
 // closing quote) into a scratch buffer. Valid while the line and the scratch are.

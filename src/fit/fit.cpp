@@ -2,10 +2,10 @@
 // errors, intervals, and the messages for fits the data cannot support.
 #include "vzero/fit.hpp"
 
+#include <fmt/format.h>
 #include <Eigen/QR>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <set>
 
 #include "fit/fit_models.hpp"
@@ -57,7 +57,8 @@ detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s,
     if (!std::isfinite(s[k]) || s[k] < 0 || !std::isfinite(pts.i[k]) || pts.i[k] < 0)
       throw UsageError(fmt::format("{}: point {} has s = {}, inhibitor = {}; concentrations must be finite and >= 0",
                                    fn, k, s[k], pts.i[k]));
-    if (!std::isfinite(v[k])) throw UsageError(fmt::format("{}: point {} has v = {}; rates must be finite", fn, k, v[k]));
+    if (!std::isfinite(v[k]))
+      throw UsageError(fmt::format("{}: point {} has v = {}; rates must be finite", fn, k, v[k]));
     if (!(pts.w[k] > 0) || !std::isfinite(pts.w[k]))
       throw UsageError(fmt::format("{}: point {} has weight {}; weights must be finite and > 0", fn, k, pts.w[k]));
     pts.sqrt_w.push_back(std::sqrt(pts.w[k]));
@@ -77,31 +78,35 @@ std::string pre_check(const KineticModel& m, const detail::FitPoints& pts) {
     if (s > 0) s_pos.insert(s);
   const std::size_t need = m.substrate_levels_needed();
   if (s_all.size() == 1)
-    return fmt::format("all {} points have the same substrate concentration ({}); a saturation curve needs at least {} "
-                       "different concentrations",
-                       n, num(*s_all.begin()), need);
+    return fmt::format(
+        "all {} points have the same substrate concentration ({}); a saturation curve needs at least {} "
+        "different concentrations",
+        n, num(*s_all.begin()), need);
   if (s_pos.size() < need)
     return fmt::format("only {} different positive substrate concentrations for the {} model; at least {} are needed",
                        s_pos.size(), m.name, need);
   if (m.needs_inhibitor()) {
     std::set<double> i_all(pts.i.begin(), pts.i.end());
     if (i_all.size() == 1)
-      return fmt::format("all {} points have the same inhibitor concentration ({}); the {} model needs at least 2 "
-                         "inhibitor levels",
-                         n, num(*i_all.begin()), m.name);
+      return fmt::format(
+          "all {} points have the same inhibitor concentration ({}); the {} model needs at least 2 "
+          "inhibitor levels",
+          n, num(*i_all.begin()), m.name);
     std::set<std::pair<double, double>> cells;
     for (std::size_t k = 0; k < n; ++k)
       if (pts.s[k] > 0) cells.insert({pts.s[k], pts.i[k]});
     if (cells.size() < p)
-      return fmt::format("only {} different (substrate, inhibitor) combinations for {} parameters ({}); at least {} are "
-                         "needed",
-                         cells.size(), p, join(names), p);
+      return fmt::format(
+          "only {} different (substrate, inhibitor) combinations for {} parameters ({}); at least {} are "
+          "needed",
+          cells.size(), p, join(names), p);
   }
   const double v_max = *std::max_element(pts.v.begin(), pts.v.end());
   if (!(v_max > 0))
-    return fmt::format("no positive rate: all {} rates are <= 0 (the largest is {}); check the reaction direction and "
-                       "the blank subtraction",
-                       n, num(v_max));
+    return fmt::format(
+        "no positive rate: all {} rates are <= 0 (the largest is {}); check the reaction direction and "
+        "the blank subtraction",
+        n, num(v_max));
   return {};
 }
 
@@ -111,17 +116,19 @@ std::string bound_message(const KineticModel& m, std::size_t j, int side, const 
   const std::string& name = m.parameters[j].name;
   const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
   if (j == 1 && side > 0)
-    return fmt::format("no curvature: the rates rise in proportion to substrate up to the highest concentration ({}), "
-                       "so {} and Vmax run off to infinity together and only Vmax/{} = {} is determined; measure at "
-                       "concentrations above {}",
-                       num(s_max), name, name, num(p[0] / p[1]), name);
+    return fmt::format(
+        "no curvature: the rates rise in proportion to substrate up to the highest concentration ({}), "
+        "so {} and Vmax run off to infinity together and only Vmax/{} = {} is determined; measure at "
+        "concentrations above {}",
+        num(s_max), name, name, num(p[0] / p[1]), name);
   if (j == 1 && side < 0) {
     double s_min = INFINITY;
     for (double s : pts.s)
       if (s > 0) s_min = std::min(s_min, s);
-    return fmt::format("{} runs to 0: the rates do not rise with substrate, already saturated at the lowest "
-                       "concentration ({}); measure at lower concentrations",
-                       name, num(s_min));
+    return fmt::format(
+        "{} runs to 0: the rates do not rise with substrate, already saturated at the lowest "
+        "concentration ({}); measure at lower concentrations",
+        name, num(s_min));
   }
   if (side > 0 && !m.parameters[j].runaway.empty()) return m.parameters[j].runaway;
   return fmt::format("{} runs to its {} search bound ({}); the data do not determine it", name,
@@ -145,9 +152,11 @@ void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& 
   for (const auto& e : r.parameters) {
     if (!profiled) break;
     if (std::isnan(e.profile_low) && r.residual_sd > 0)
-      r.warnings.push_back(fmt::format("the profile interval of {} has no lower limit inside the search bounds", e.name));
+      r.warnings.push_back(
+          fmt::format("the profile interval of {} has no lower limit inside the search bounds", e.name));
     if (std::isnan(e.profile_high) && r.residual_sd > 0)
-      r.warnings.push_back(fmt::format("the profile interval of {} has no upper limit inside the search bounds", e.name));
+      r.warnings.push_back(
+          fmt::format("the profile interval of {} has no upper limit inside the search bounds", e.name));
   }
 }
 
@@ -166,8 +175,10 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
 
   const detail::Bounds bounds = detail::parameter_bounds(m, pts);
   std::vector<detail::Start> starts;
-  if (!options.start.empty()) starts.push_back({"given", options.start});
-  else starts = detail::automatic_starts(m, pts);
+  if (!options.start.empty())
+    starts.push_back({"given", options.start});
+  else
+    starts = detail::automatic_starts(m, pts);
   const detail::LmSettings settings{options.max_iterations, options.tolerance};
   const std::vector<bool> none_fixed(np, false);
   detail::LmResult best;
@@ -213,7 +224,8 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
   const auto p_idx = static_cast<Eigen::Index>(np);
   const Eigen::MatrixXd rr = qr.matrixR().topLeftCorner(p_idx, p_idx).triangularView<Eigen::Upper>();
   const Eigen::MatrixXd r_inv = rr.triangularView<Eigen::Upper>().solve(Eigen::MatrixXd::Identity(p_idx, p_idx));
-  const Eigen::MatrixXd unscaled = qr.colsPermutation() * (r_inv * r_inv.transpose()) * qr.colsPermutation().transpose();
+  const Eigen::MatrixXd unscaled =
+      qr.colsPermutation() * (r_inv * r_inv.transpose()) * qr.colsPermutation().transpose();
 
   r.ok = true;
   r.rss = best.rss;
@@ -227,7 +239,8 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
   double sum_log_w = 0;
   for (double w : pts.w) sum_log_w += std::log(w);
   if (best.rss > 0)
-    r.aic = r.n * (std::log(2 * M_PI) + 1 - std::log(r.n) + std::log(best.rss)) - sum_log_w + 2.0 * static_cast<double>(np + 1);
+    r.aic = r.n * (std::log(2 * M_PI) + 1 - std::log(r.n) + std::log(best.rss)) - sum_log_w +
+            2.0 * static_cast<double>(np + 1);
   detail::weighted_rss(m, pts, best.p, &r.fitted);
   for (std::size_t k = 0; k < pts.size(); ++k) r.residuals.push_back(pts.v[k] - r.fitted[k]);
   const bool exact = !(r.residual_sd > 0);
@@ -257,8 +270,8 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
 FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, const std::vector<double>& weights,
                     const KineticModel& model, const FitOptions& options) {
   if (model.needs_inhibitor())
-    throw UsageError(fmt::format("fit_model: the {} model needs inhibitor concentrations; call fit_inhibition",
-                                 model.name));
+    throw UsageError(
+        fmt::format("fit_model: the {} model needs inhibitor concentrations; call fit_inhibition", model.name));
   return fit_points(model, make_points("fit_model", s, nullptr, v, weights), options);
 }
 
@@ -321,8 +334,10 @@ std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::
   for (double e : pts.s)
     if (e > 0) s_lo = std::min(s_lo, e), s_hi = std::max(s_hi, e);
   std::set<double> levels;
-  if (has_i) levels.insert(pts.i.begin(), pts.i.end());
-  else levels.insert(NAN);
+  if (has_i)
+    levels.insert(pts.i.begin(), pts.i.end());
+  else
+    levels.insert(NAN);
   const int count = std::max(curve_points, 2);
   for (double level : levels) {
     for (int k = 0; k < count; ++k) {

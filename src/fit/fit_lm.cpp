@@ -30,8 +30,8 @@ double relative_offset(const Eigen::MatrixXd& j, const Eigen::VectorXd& r) {
 }
 }  // namespace
 
-LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
-                             const std::vector<bool>& fixed, const LmSettings& settings) {
+LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds,
+                             std::vector<double> start, const std::vector<bool>& fixed, const LmSettings& settings) {
   const std::size_t np = start.size();
   const auto n = static_cast<Eigen::Index>(pts.size());
   std::vector<double> th(np), lo(np), hi(np);
@@ -89,7 +89,8 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
     double max_move = 0;
     while (!accepted) {
       Eigen::MatrixXd mtx = a;
-      for (Eigen::Index c = 0; c < mtx.rows(); ++c) mtx(c, c) += lambda * std::max(a(c, c), 1e-300);  // Marquardt scaling
+      for (Eigen::Index c = 0; c < mtx.rows(); ++c)
+        mtx(c, c) += lambda * std::max(a(c, c), 1e-300);  // Marquardt scaling
       const Eigen::VectorXd step = mtx.ldlt().solve(gf);
       std::vector<double> th_new = th;
       for (std::size_t c = 0; c < free.size(); ++c) {
@@ -138,8 +139,9 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
   return out;
 }
 
-ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
-                             double se_j, double residual_sd, double cutoff, const LmSettings& settings) {
+ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best,
+                             std::size_t j, double se_j, double residual_sd, double cutoff,
+                             const LmSettings& settings) {
   ProfileLimits out;
   std::vector<bool> fixed(best.p.size(), false);
   fixed[j] = true;

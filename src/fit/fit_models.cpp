@@ -1,21 +1,24 @@
 // Starting values (a model's linearisation, a grid), the weighted RSS and the Jacobian of
 // any registered kinetic model; the weighting names.
+#include <fmt/format.h>
 #include <Eigen/QR>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 
-#include "fit/fit_models.hpp"
 #include "core/text.hpp"
+#include "fit/fit_models.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero {
 
 std::string_view to_string(Weighting w) {
   switch (w) {
-    case Weighting::none: return "none";
-    case Weighting::replicate_sd: return "replicate-sd";
-    case Weighting::relative: return "relative";
+    case Weighting::none:
+      return "none";
+    case Weighting::replicate_sd:
+      return "replicate-sd";
+    case Weighting::relative:
+      return "relative";
   }
   return "none";
 }
@@ -84,7 +87,8 @@ bool linear_start(const Linearisation& l, const FitPoints& pts, double v_ceiling
   for (std::size_t r = 0; r < ys.size(); ++r) {
     const auto row = static_cast<Eigen::Index>(r);
     response(row) = ys[r];
-    for (Eigen::Index c = 0; c < cols; ++c) design(row, c) = xs[r * static_cast<std::size_t>(cols) + static_cast<std::size_t>(c)];
+    for (Eigen::Index c = 0; c < cols; ++c)
+      design(row, c) = xs[r * static_cast<std::size_t>(cols) + static_cast<std::size_t>(c)];
   }
   Eigen::VectorXd b;
   if (!ols(design, response, b)) return false;
@@ -143,7 +147,9 @@ DataScale data_scale(const FitPoints& pts) {
   return {max_positive(pts.v), min_positive(pts.s), max_positive(pts.s), min_positive(pts.i), max_positive(pts.i)};
 }
 
-Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts) { return vzero::parameter_bounds(m, data_scale(pts)); }
+Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts) {
+  return vzero::parameter_bounds(m, data_scale(pts));
+}
 
 std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts) {
   std::vector<Start> out;
@@ -154,7 +160,8 @@ std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts)
   return out;
 }
 
-double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p, std::vector<double>* fitted) {
+double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p,
+                    std::vector<double>* fitted) {
   double rss = 0;
   if (fitted) fitted->resize(pts.size());
   for (std::size_t k = 0; k < pts.size(); ++k) {

@@ -30,7 +30,8 @@ struct Start {
 std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts);
 
 // Σ wᵢ (vᵢ − f)², and the per-point model rates when `fitted` is given.
-double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p, std::vector<double>* fitted = nullptr);
+double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p,
+                    std::vector<double>* fitted = nullptr);
 
 struct LmResult {
   std::vector<double> p;  // natural scale
@@ -49,8 +50,8 @@ struct LmSettings {
 // Levenberg–Marquardt on θ = ln p inside [ln lo, ln hi] (steps are projected onto the box).
 // Parameters with fixed[j] stay at start[j]. Converged when the relative offset of the free
 // parameters falls below tolerance, the residuals vanish, or the step no longer moves θ.
-LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, std::vector<double> start,
-                             const std::vector<bool>& fixed, const LmSettings& settings);
+LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds,
+                             std::vector<double> start, const std::vector<bool>& fixed, const LmSettings& settings);
 
 // Weighted Jacobian √wᵢ·∂f/∂p on the natural scale (n × p).
 Eigen::MatrixXd natural_jacobian(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p);
@@ -62,7 +63,7 @@ Eigen::MatrixXd natural_jacobian(const KineticModel& m, const FitPoints& pts, co
 struct ProfileLimits {
   double low = NAN, high = NAN;
 };
-ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best, std::size_t j,
-                             double se_j, double residual_sd, double cutoff, const LmSettings& settings);
+ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best,
+                             std::size_t j, double se_j, double residual_sd, double cutoff, const LmSettings& settings);
 
 }  // namespace vzero::detail

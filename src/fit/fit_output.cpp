@@ -1,7 +1,7 @@
 // Writers for fit results: tidy CSV, JSON, the diagnostics table and a short text summary.
 // The two tables' columns are declared once each (k_fit_columns, k_diagnostic_columns).
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 #include <nlohmann/json.hpp>
 
 #include "core/columns.hpp"
@@ -51,7 +51,10 @@ const std::vector<std::string>& group_columns(const TableFit& t) { return t.grou
 double part(const ParameterEstimate* e, double ParameterEstimate::*member) { return e ? e->*member : NAN; }
 
 constexpr detail::ColumnEntry<FitRowRef, TableFit> k_fit_columns[] = {
-    {.name = "", .type = text, .unit = "", .description = "grouping column of the fitted table, passed through",
+    {.name = "",
+     .type = text,
+     .unit = "",
+     .description = "grouping column of the fitted table, passed through",
      .write = [](CsvOut& o, Fit x, std::size_t i) { o.field(x.group.group_values[i]); },
      .each = group_columns},
     {"model", text, "", "rate law fitted (vzero fit --model; one of the registered kinetic models)",
@@ -66,7 +69,8 @@ constexpr detail::ColumnEntry<FitRowRef, TableFit> k_fit_columns[] = {
      [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::ci_low)); }},
     {"ci_high", number, "", "upper end of the Wald-t interval",
      [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::ci_high)); }},
-    {"profile_low", number, "", "lower end of the profile-t interval; empty when the profile does not reach it or was not computed",
+    {"profile_low", number, "",
+     "lower end of the profile-t interval; empty when the profile does not reach it or was not computed",
      [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::profile_low)); }},
     {"profile_high", number, "", "upper end of the profile-t interval; empty as for profile_low",
      [](CsvOut& o, Fit x, std::size_t) { o.number(part(x.estimate, &ParameterEstimate::profile_high)); }},
@@ -74,13 +78,21 @@ constexpr detail::ColumnEntry<FitRowRef, TableFit> k_fit_columns[] = {
      [](CsvOut& o, Fit x, std::size_t) { o.field(x.unit); }},
     {"n", integer, "", "points fitted", [](CsvOut& o, Fit x, std::size_t) { o.integer(x.group.result.n); }},
     {"df", integer, "", "residual degrees of freedom, n minus parameters",
-     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.integer(x.group.result.df); }},
+     [](CsvOut& o, Fit x, std::size_t) {
+       if (x.group.result.ok) o.integer(x.group.result.df);
+     }},
     {"rss", number, "", "weighted residual sum of squares at the optimum",
-     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.rss); }},
+     [](CsvOut& o, Fit x, std::size_t) {
+       if (x.group.result.ok) o.number(x.group.result.rss);
+     }},
     {"residual_sd", number, "", "residual standard deviation, √(rss/df)",
-     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.residual_sd); }},
+     [](CsvOut& o, Fit x, std::size_t) {
+       if (x.group.result.ok) o.number(x.group.result.residual_sd);
+     }},
     {"aic", number, "", "Akaike information criterion (Gaussian log-likelihood, as R's AIC for nls)",
-     [](CsvOut& o, Fit x, std::size_t) { if (x.group.result.ok) o.number(x.group.result.aic); }},
+     [](CsvOut& o, Fit x, std::size_t) {
+       if (x.group.result.ok) o.number(x.group.result.aic);
+     }},
     {"converged", FieldType::boolean, "", "true when the fit reached an optimum inside the bounds",
      [](CsvOut& o, Fit x, std::size_t) { o.field(x.group.result.converged ? "true" : "false"); }},
     {"iterations", integer, "", "Levenberg–Marquardt iterations",
@@ -96,22 +108,40 @@ std::string_view v_unit(const TableFit& t) { return t.v_unit; }
 std::string_view inhibitor_unit(const TableFit& t) { return t.inhibitor_unit; }
 
 constexpr detail::ColumnEntry<DiagnosticRowRef, TableFit> k_diagnostic_columns[] = {
-    {.name = "", .type = text, .unit = "", .description = "grouping column of the fitted table, passed through",
+    {.name = "",
+     .type = text,
+     .unit = "",
+     .description = "grouping column of the fitted table, passed through",
      .write = [](CsvOut& o, Diag x, std::size_t i) { o.field(x.group.group_values[i]); },
      .each = group_columns},
     {"model", text, "", "rate law fitted", [](CsvOut& o, Diag x, std::size_t) { o.field(x.group.model->name); }},
     {"kind", text, "", "point (a fitted point) or curve (the model drawn between the points)",
      [](CsvOut& o, Diag x, std::size_t) { o.field(x.d.curve ? "curve" : "point"); }},
-    {.name = "s", .type = number, .description = "substrate concentration",
-     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.s); }, .unit_of = x_unit},
-    {.name = "inhibitor", .type = number, .description = "inhibitor concentration; empty for single-substrate models",
-     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.inhibitor); }, .unit_of = inhibitor_unit},
-    {.name = "v", .type = number, .description = "rate: as measured on point rows, the model's on curve rows",
-     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.v); }, .unit_of = v_unit},
-    {.name = "fitted", .type = number, .description = "model rate at (s, inhibitor)",
-     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.fitted); }, .unit_of = v_unit},
-    {.name = "residual", .type = number, .description = "v − fitted; empty on curve rows",
-     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.residual); }, .unit_of = v_unit},
+    {.name = "s",
+     .type = number,
+     .description = "substrate concentration",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.s); },
+     .unit_of = x_unit},
+    {.name = "inhibitor",
+     .type = number,
+     .description = "inhibitor concentration; empty for single-substrate models",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.inhibitor); },
+     .unit_of = inhibitor_unit},
+    {.name = "v",
+     .type = number,
+     .description = "rate: as measured on point rows, the model's on curve rows",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.v); },
+     .unit_of = v_unit},
+    {.name = "fitted",
+     .type = number,
+     .description = "model rate at (s, inhibitor)",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.fitted); },
+     .unit_of = v_unit},
+    {.name = "residual",
+     .type = number,
+     .description = "v − fitted; empty on curve rows",
+     .write = [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.residual); },
+     .unit_of = v_unit},
     {"weight", number, "", "the point's weight in the fit; empty on curve rows",
      [](CsvOut& o, Diag x, std::size_t) { o.number(x.d.weight); }},
     {"inv_s", number, "", "1/s, a double-reciprocal plot coordinate (a diagnostic, never the estimate)",

@@ -1,8 +1,8 @@
 // Fitting a rates or summary table: row filters, groups, weights, units, and one fit per
 // group × model.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 
 #include "core/text.hpp"
@@ -72,10 +72,14 @@ std::string per(const std::string& a, const std::string& b) { return a.empty() |
 // A parameter's unit from its unit role and the units the table gives.
 std::string unit_for(UnitRole role, const TableFit& t) {
   switch (role) {
-    case UnitRole::rate: return t.v_unit;
-    case UnitRole::substrate: return t.x_unit;
-    case UnitRole::inhibitor: return t.inhibitor_unit;
-    case UnitRole::none: return "1";
+    case UnitRole::rate:
+      return t.v_unit;
+    case UnitRole::substrate:
+      return t.x_unit;
+    case UnitRole::inhibitor:
+      return t.inhibitor_unit;
+    case UnitRole::none:
+      return "1";
   }
   return {};
 }
@@ -93,8 +97,10 @@ std::string group_weights(const std::vector<Row>& rows, Weighting w, bool sd_fro
   if (w == Weighting::relative) {
     int bad = 0;
     for (std::size_t k = 0; k < rows.size(); ++k) {
-      if (rows[k].v > 0) out[k] = 1 / (rows[k].v * rows[k].v);
-      else ++bad;
+      if (rows[k].v > 0)
+        out[k] = 1 / (rows[k].v * rows[k].v);
+      else
+        ++bad;
     }
     if (bad > 0)
       return fmt::format("relative weighting (1/v^2) needs positive rates; {} of {} rates are <= 0", bad, rows.size());
@@ -103,9 +109,10 @@ std::string group_weights(const std::vector<Row>& rows, Weighting w, bool sd_fro
   if (sd_from_column) {
     for (std::size_t k = 0; k < rows.size(); ++k) {
       if (!(rows[k].sd > 0))
-        return fmt::format("replicate-sd weighting: column \"{}\" is empty or not > 0 on line {}; a weight 1/sd^2 needs "
-                           "an sd from at least 2 replicates",
-                           sd_name, rows[k].line);
+        return fmt::format(
+            "replicate-sd weighting: column \"{}\" is empty or not > 0 on line {}; a weight 1/sd^2 needs "
+            "an sd from at least 2 replicates",
+            sd_name, rows[k].line);
       out[k] = 1 / (rows[k].sd * rows[k].sd);
     }
     return {};
@@ -120,9 +127,10 @@ std::string group_weights(const std::vector<Row>& rows, Weighting w, bool sd_fro
     for (std::size_t k : idx) ss += (rows[k].v - mean) * (rows[k].v - mean);
     const double sd = idx.size() > 1 ? std::sqrt(ss / static_cast<double>(idx.size() - 1)) : 0.0;
     if (!(sd > 0))
-      return fmt::format("replicate-sd weighting: substrate {} has {} replicate(s) with sd {}; every concentration "
-                         "needs at least 2 replicates that differ",
-                         num(key.first), idx.size(), num(sd));
+      return fmt::format(
+          "replicate-sd weighting: substrate {} has {} replicate(s) with sd {}; every concentration "
+          "needs at least 2 replicates that differ",
+          num(key.first), idx.size(), num(sd));
     for (std::size_t k : idx) out[k] = 1 / (sd * sd);
   }
   return {};
@@ -149,7 +157,8 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
                         ? -1
                         : table.require_column(options.enzyme_column, "name the enzyme concentration column");
   std::vector<int> g_cols;
-  for (const auto& g : options.group_columns) g_cols.push_back(table.require_column(g, "name an existing group column"));
+  for (const auto& g : options.group_columns)
+    g_cols.push_back(table.require_column(g, "name an existing group column"));
   const int role_col = table.column("role"), flags_col = table.column("flags");
   int sd_col = -1;
   if (options.weighting == Weighting::replicate_sd) {
@@ -237,12 +246,13 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
     out.notes.push_back(fmt::format("skipped {} rows with an empty {}, {}{} cell", out.rows_missing, out.x_column,
                                     out.y_column, any_inhibition ? " or " + out.inhibitor_column : ""));
   if (zero_substrate > 0)
-    out.notes.push_back(fmt::format("skipped {} rows with {} = 0 (no-substrate controls): every model gives v = 0 "
-                                    "there, and relative weighting (1/v^2) has no weight for them",
-                                    zero_substrate, out.x_column));
+    out.notes.push_back(
+        fmt::format("skipped {} rows with {} = 0 (no-substrate controls): every model gives v = 0 "
+                    "there, and relative weighting (1/v^2) has no weight for them",
+                    zero_substrate, out.x_column));
 
-  const int v_unit_col = std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"),
-                                   table.column("v0_unit")});
+  const int v_unit_col =
+      std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"), table.column("v0_unit")});
   out.v_unit = unique_text(table, v_unit_col, used_rows);
   out.x_unit = column_unit(table, out.x_column, used_rows, options.column_units);
   out.inhibitor_unit = column_unit(table, out.inhibitor_column, used_rows, options.column_units);
@@ -255,8 +265,7 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
 
   for (std::size_t g = 0; g < keys.size(); ++g) {
     std::vector<double> w;
-    const std::string weight_problem =
-        group_weights(points[g], options.weighting, sd_col >= 0, out.sd_column, w);
+    const std::string weight_problem = group_weights(points[g], options.weighting, sd_col >= 0, out.sd_column, w);
     double enzyme = NAN;
     std::string enzyme_problem;
     if (e_col >= 0) {
@@ -264,7 +273,8 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
       for (const Row& row : points[g])
         if (std::isfinite(row.e) && std::find(levels.begin(), levels.end(), row.e) == levels.end())
           levels.push_back(row.e);
-      if (levels.size() == 1 && levels[0] > 0) enzyme = levels[0];
+      if (levels.size() == 1 && levels[0] > 0)
+        enzyme = levels[0];
       else if (levels.size() > 1)
         enzyme_problem = fmt::format("{} differs within the group ({} values); kcat not computed: group by {}",
                                      out.enzyme_column, levels.size(), out.enzyme_column);

@@ -51,7 +51,9 @@ KineticModel michaelis_menten() {
   // S/v = Km/Vmax + S/Vmax.
   m.linearisation = hanes_woolf(
       2, [](double s, double, std::span<double> x) { x[1] = s; },
-      [](std::span<const double> b) { return std::vector<double>{1 / b[1], b[0] / b[1]}; });
+      [](std::span<const double> b) {
+        return std::vector<double>{1 / b[1], b[0] / b[1]};
+      });
   return m;
 }
 
@@ -61,8 +63,9 @@ KineticModel substrate_inhibition() {
   m.description = "substrate inhibition: a second substrate molecule binds and blocks (rates fall at high S)";
   m.formula = "v = Vmax*S/(Km + S*(1 + S/Ki))";
   KineticParameter ki{"Ki", UnitRole::substrate, "dissociation constant of the blocking substrate"};
-  ki.runaway = "no substrate inhibition: Ki runs off to infinity (the rates do not fall at high substrate); fit the "
-               "mm model instead";
+  ki.runaway =
+      "no substrate inhibition: Ki runs off to infinity (the rates do not fall at high substrate); fit the "
+      "mm model instead";
   m.parameters = {k_vmax, k_km, ki};
   m.rate = [](P p, double s, double, G g) {
     const double vmax = p[0], km = p[1], k_i = p[2];
@@ -77,7 +80,9 @@ KineticModel substrate_inhibition() {
   // S/v = Km/Vmax + S/Vmax + S²/(Vmax·Ki).
   m.linearisation = hanes_woolf(
       3, [](double s, double, std::span<double> x) { x[1] = s, x[2] = s * s; },
-      [](std::span<const double> b) { return std::vector<double>{1 / b[1], b[0] / b[1], b[1] / b[2]}; });
+      [](std::span<const double> b) {
+        return std::vector<double>{1 / b[1], b[0] / b[1], b[1] / b[2]};
+      });
   m.saturates = false;
   return m;
 }
@@ -161,7 +166,9 @@ KineticModel competitive() {
   // S/v = Km/Vmax + Km/(Vmax·Kic)·I + S/Vmax.
   m.linearisation = hanes_woolf(
       3, [](double s, double i, std::span<double> x) { x[1] = i, x[2] = s; },
-      [](std::span<const double> b) { return std::vector<double>{1 / b[2], b[0] / b[2], b[0] / b[1]}; });
+      [](std::span<const double> b) {
+        return std::vector<double>{1 / b[2], b[0] / b[2], b[0] / b[1]};
+      });
   return m;
 }
 
@@ -186,7 +193,9 @@ KineticModel uncompetitive() {
   // S/v = Km/Vmax + S/Vmax + S·I/(Vmax·Kiu).
   m.linearisation = hanes_woolf(
       3, [](double s, double i, std::span<double> x) { x[1] = s, x[2] = s * i; },
-      [](std::span<const double> b) { return std::vector<double>{1 / b[1], b[0] / b[1], b[1] / b[2]}; });
+      [](std::span<const double> b) {
+        return std::vector<double>{1 / b[1], b[0] / b[1], b[1] / b[2]};
+      });
   return m;
 }
 

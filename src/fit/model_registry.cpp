@@ -1,9 +1,9 @@
 // The kinetic-model registry, the contract checks on a model object, and the search boxes
 // and start grids that follow from each parameter's unit role.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
 #include <deque>
-#include <fmt/format.h>
 #include <mutex>
 #include <stdexcept>
 
@@ -15,10 +15,14 @@ namespace vzero {
 
 std::string_view to_string(UnitRole role) {
   switch (role) {
-    case UnitRole::rate: return "rate";
-    case UnitRole::substrate: return "substrate";
-    case UnitRole::inhibitor: return "inhibitor";
-    case UnitRole::none: return "none";
+    case UnitRole::rate:
+      return "rate";
+    case UnitRole::substrate:
+      return "substrate";
+    case UnitRole::inhibitor:
+      return "inhibitor";
+    case UnitRole::none:
+      return "none";
   }
   return "none";
 }
@@ -77,9 +81,10 @@ std::string contract_problem(const KineticModel& m, const std::deque<KineticMode
     if (p.unit_role == UnitRole::none &&
         (!(p.lo > 0) || !(p.hi > p.lo) || !std::isfinite(p.hi) || p.grid.empty() ||
          std::any_of(p.grid.begin(), p.grid.end(), [&](double g) { return !(g >= p.lo && g <= p.hi); })))
-      return fmt::format("parameter {} has no data unit, so it needs its own search box 0 < lo < hi and grid "
-                         "values inside it",
-                         p.name);
+      return fmt::format(
+          "parameter {} has no data unit, so it needs its own search box 0 < lo < hi and grid "
+          "values inside it",
+          p.name);
   }
   if (m.linearisation) {
     const Linearisation& l = *m.linearisation;
@@ -148,10 +153,18 @@ ParameterBox parameter_bounds(const KineticModel& model, const DataScale& d) {
   ParameterBox b;
   for (const auto& p : model.parameters) {
     switch (p.unit_role) {
-      case UnitRole::rate: b.lo.push_back(d.v_max / k_span), b.hi.push_back(d.v_max * k_span); break;
-      case UnitRole::substrate: b.lo.push_back(d.s_min / k_span), b.hi.push_back(d.s_max * k_span); break;
-      case UnitRole::inhibitor: b.lo.push_back(d.i_min / k_span), b.hi.push_back(d.i_max * k_span); break;
-      case UnitRole::none: b.lo.push_back(p.lo), b.hi.push_back(p.hi); break;
+      case UnitRole::rate:
+        b.lo.push_back(d.v_max / k_span), b.hi.push_back(d.v_max * k_span);
+        break;
+      case UnitRole::substrate:
+        b.lo.push_back(d.s_min / k_span), b.hi.push_back(d.s_max * k_span);
+        break;
+      case UnitRole::inhibitor:
+        b.lo.push_back(d.i_min / k_span), b.hi.push_back(d.i_max * k_span);
+        break;
+      case UnitRole::none:
+        b.lo.push_back(p.lo), b.hi.push_back(p.hi);
+        break;
     }
   }
   return b;
@@ -171,9 +184,15 @@ std::vector<std::vector<double>> start_grid_axes(const KineticModel& model, cons
     const KineticParameter& p = model.parameters[k];
     switch (p.unit_role) {
       case UnitRole::rate:  // not registrable after Vmax; kept for a complete switch
-      case UnitRole::substrate: axes.push_back(geometric(d.s_min / 10, 10 * d.s_max, 9)); break;
-      case UnitRole::inhibitor: axes.push_back(geometric(d.i_min / 10, 10 * d.i_max, 9)); break;
-      case UnitRole::none: axes.push_back(p.grid); break;
+      case UnitRole::substrate:
+        axes.push_back(geometric(d.s_min / 10, 10 * d.s_max, 9));
+        break;
+      case UnitRole::inhibitor:
+        axes.push_back(geometric(d.i_min / 10, 10 * d.i_max, 9));
+        break;
+      case UnitRole::none:
+        axes.push_back(p.grid);
+        break;
     }
   }
   return axes;

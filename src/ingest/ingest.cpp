@@ -1,7 +1,7 @@
 #include "vzero/ingest.hpp"
 
-#include <algorithm>
 #include <fmt/format.h>
+#include <algorithm>
 #include <optional>
 
 #include "ingest/reader_common.hpp"
@@ -16,9 +16,15 @@ Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only, 
   detail::ReaderInput in{src, cp, prefix_only, first_value};
   Run run;
   switch (profile.shape) {
-    case Shape::wide: run = detail::read_wide(in); break;
-    case Shape::grid: run = detail::read_grid(in); break;
-    case Shape::long_form: run = detail::read_long(in); break;
+    case Shape::wide:
+      run = detail::read_wide(in);
+      break;
+    case Shape::grid:
+      run = detail::read_grid(in);
+      break;
+    case Shape::long_form:
+      run = detail::read_long(in);
+      break;
   }
   run.profile = profile.name;
   run.shape = std::string(to_string(profile.shape));
@@ -71,10 +77,11 @@ InputError no_profile_error(const std::string& path, const std::string& head, co
     // One profile recognised the layout and stopped at a line: that error, with its place
     // and fixes, tells the user more than the list of what every profile found.
     std::vector<std::string> fixes = furthest->fixes();
-    fixes.push_back(fmt::format("no built-in profile reads this file; {}, the nearest, stops here; if the file has "
-                                "another layout, write a profile for it (instrument-profiles/README.md) and pass it "
-                                "with --profile",
-                                furthest_name));
+    fixes.push_back(
+        fmt::format("no built-in profile reads this file; {}, the nearest, stops here; if the file has "
+                    "another layout, write a profile for it (instrument-profiles/README.md) and pass it "
+                    "with --profile",
+                    furthest_name));
     return InputError(furthest->where(), furthest->message(), std::move(fixes));
   }
   std::vector<std::string> fixes;
@@ -191,7 +198,8 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
       }
       if (first_value.line == 0) first_value = Where{path};
       if (n == 0 && !tokens)
-        tokens = TokensOnly{name, first_value, count_status(run, ReadStatus::overflow), count_status(run, ReadStatus::missing)};
+        tokens = TokensOnly{name, first_value, count_status(run, ReadStatus::overflow),
+                            count_status(run, ReadStatus::missing)};
     } catch (const InputError& e) {
       tried += fmt::format("\n    {}: {}", name, e.message());
       const Where& w = e.where();
@@ -203,8 +211,8 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     }
   }
   if (best == 0) {
-    throw no_profile_error(path, head, head_is_file ? "in the file" : fmt::format("in its first {} lines", sniffed), tried,
-                           tokens, furthest, furthest_name);
+    throw no_profile_error(path, head, head_is_file ? "in the file" : fmt::format("in its first {} lines", sniffed),
+                           tried, tokens, furthest, furthest_name);
   }
   choice.detected = true;
   return choice;

@@ -3,14 +3,14 @@
 
 #include <re2/re2.h>
 
+#include <fmt/format.h>
+#include <toml++/toml.h>
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
-#include <fmt/format.h>
 #include <fstream>
 #include <set>
 #include <sstream>
-#include <toml++/toml.h>
 
 #include "core/text.hpp"
 #include "vzero/error.hpp"
@@ -19,18 +19,24 @@ namespace vzero {
 
 std::string_view to_string(Shape s) {
   switch (s) {
-    case Shape::wide: return "wide";
-    case Shape::grid: return "grid";
-    case Shape::long_form: return "long";
+    case Shape::wide:
+      return "wide";
+    case Shape::grid:
+      return "grid";
+    case Shape::long_form:
+      return "long";
   }
   return "wide";
 }
 
 std::string_view to_string(TimeUnit t) {
   switch (t) {
-    case TimeUnit::seconds: return "s";
-    case TimeUnit::minutes: return "min";
-    case TimeUnit::hours: return "h";
+    case TimeUnit::seconds:
+      return "s";
+    case TimeUnit::minutes:
+      return "min";
+    case TimeUnit::hours:
+      return "h";
   }
   return "s";
 }
@@ -46,25 +52,36 @@ class ProfileParser {
     Profile p;
     p.name = name;
     p.source = source_;
-    check_keys(root_, "", {"name", "description", "shape", "delimiter", "decimal", "plate", "time_unit",
-                           "overflow", "missing", "columns", "signal", "section", "grid", "capture"});
+    check_keys(root_, "",
+               {"name", "description", "shape", "delimiter", "decimal", "plate", "time_unit", "overflow", "missing",
+                "columns", "signal", "section", "grid", "capture"});
     if (auto v = string_at(root_, "name", "")) p.name = *v;
     if (auto v = string_at(root_, "description", "")) p.description = *v;
     auto shape = string_at(root_, "shape", "");
     if (!shape) fail(root_, "the profile has no `shape`", "add shape = \"wide\", \"grid\" or \"long\"");
-    if (*shape == "wide") p.shape = Shape::wide;
-    else if (*shape == "grid") p.shape = Shape::grid;
-    else if (*shape == "long") p.shape = Shape::long_form;
-    else bad_value(root_, "shape", *shape, "\"wide\", \"grid\" or \"long\"");
+    if (*shape == "wide")
+      p.shape = Shape::wide;
+    else if (*shape == "grid")
+      p.shape = Shape::grid;
+    else if (*shape == "long")
+      p.shape = Shape::long_form;
+    else
+      bad_value(root_, "shape", *shape, "\"wide\", \"grid\" or \"long\"");
     if (auto v = string_at(root_, "delimiter", "")) {
-      if (*v == "auto") p.delimiter = 0;
-      else if (*v == "," || *v == ";") p.delimiter = (*v)[0];
-      else if (*v == "tab" || *v == "\t") p.delimiter = '\t';
-      else bad_value(root_, "delimiter", *v, "\"auto\", \",\", \";\" or \"tab\"");
+      if (*v == "auto")
+        p.delimiter = 0;
+      else if (*v == "," || *v == ";")
+        p.delimiter = (*v)[0];
+      else if (*v == "tab" || *v == "\t")
+        p.delimiter = '\t';
+      else
+        bad_value(root_, "delimiter", *v, "\"auto\", \",\", \";\" or \"tab\"");
     }
     if (auto v = string_at(root_, "decimal", "")) {
-      if (*v == "." || *v == ",") p.decimal = (*v)[0];
-      else bad_value(root_, "decimal", *v, "\".\" or \",\"");
+      if (*v == "." || *v == ",")
+        p.decimal = (*v)[0];
+      else
+        bad_value(root_, "decimal", *v, "\".\" or \",\"");
     }
     if (p.decimal == p.delimiter) {
       fail(*root_.get(root_.contains("delimiter") ? "delimiter" : "decimal"),
@@ -88,10 +105,14 @@ class ProfileParser {
       p.plate_wells = static_cast<int>(*v);
     }
     if (auto v = string_at(root_, "time_unit", "")) {
-      if (*v == "s") p.time_unit = TimeUnit::seconds;
-      else if (*v == "min") p.time_unit = TimeUnit::minutes;
-      else if (*v == "h") p.time_unit = TimeUnit::hours;
-      else bad_value(root_, "time_unit", *v, "\"s\", \"min\" or \"h\"");
+      if (*v == "s")
+        p.time_unit = TimeUnit::seconds;
+      else if (*v == "min")
+        p.time_unit = TimeUnit::minutes;
+      else if (*v == "h")
+        p.time_unit = TimeUnit::hours;
+      else
+        bad_value(root_, "time_unit", *v, "\"s\", \"min\" or \"h\"");
     }
     if (auto v = strings_at(root_, "overflow", "")) p.overflow_tokens = *v;
     if (auto v = strings_at(root_, "missing", "")) p.missing_tokens = *v;
@@ -169,9 +190,9 @@ class ProfileParser {
       if (!allowed.count(key)) {
         std::string list;
         for (const auto& a : allowed) list += (list.empty() ? "" : ", ") + a;
-        throw InputError(Where{source_, static_cast<int>(k.source().begin.line), static_cast<int>(k.source().begin.column)},
-                         fmt::format("unknown profile key `{}{}`", prefix, key),
-                         {fmt::format("use one of: {}", list)});
+        throw InputError(
+            Where{source_, static_cast<int>(k.source().begin.line), static_cast<int>(k.source().begin.column)},
+            fmt::format("unknown profile key `{}{}`", prefix, key), {fmt::format("use one of: {}", list)});
       }
     }
   }
@@ -186,8 +207,7 @@ class ProfileParser {
     const toml::node* n = t.get(key);
     if (!n) return std::nullopt;
     if (auto s = n->value<std::string>(); s && n->is_string()) return *s;
-    fail(*n, fmt::format("profile key `{}{}` must be a string", prefix, key),
-         fmt::format("write {} = \"...\"", key));
+    fail(*n, fmt::format("profile key `{}{}` must be a string", prefix, key), fmt::format("write {} = \"...\"", key));
   }
   std::optional<std::vector<std::string>> strings_at(const toml::table& t, const std::string& key,
                                                      const std::string& prefix) const {
@@ -211,17 +231,20 @@ class ProfileParser {
     const toml::node* n = t.get(key);
     if (!n) return nullptr;
     if (const auto* tt = n->as_table()) return tt;
-    fail(*n, fmt::format("profile key `{}` must be a table ([{}])", key, key), fmt::format("write [{}] on its own line", key));
+    fail(*n, fmt::format("profile key `{}` must be a table ([{}])", key, key),
+         fmt::format("write [{}] on its own line", key));
   }
   std::vector<const toml::table*> tables_at(const toml::table& t, const std::string& key) const {
     std::vector<const toml::table*> out;
     const toml::node* n = t.get(key);
     if (!n) return out;
     const auto* a = n->as_array();
-    if (!a) fail(*n, fmt::format("profile key `{}` must be an array of tables ([[{}]])", key, key),
-                 fmt::format("write [[{}]] before each entry", key));
+    if (!a)
+      fail(*n, fmt::format("profile key `{}` must be an array of tables ([[{}]])", key, key),
+           fmt::format("write [[{}]] before each entry", key));
     for (const auto& e : *a) {
-      if (!e.is_table()) fail(e, fmt::format("`{}` entries must be tables", key), fmt::format("write [[{}]] before each entry", key));
+      if (!e.is_table())
+        fail(e, fmt::format("`{}` entries must be tables", key), fmt::format("write [[{}]] before each entry", key));
       out.push_back(e.as_table());
     }
     return out;
@@ -242,8 +265,9 @@ class ProfileParser {
            "fix the regex (RE2 syntax: no look-around or back-references)");
     }
     if (re.NumberOfCapturingGroups() > max_groups) {
-      fail(where, fmt::format("profile key `{}` has {} capture groups; expected at most {}", key,
-                              re.NumberOfCapturingGroups(), max_groups),
+      fail(where,
+           fmt::format("profile key `{}` has {} capture groups; expected at most {}", key, re.NumberOfCapturingGroups(),
+                       max_groups),
            "make other groups non-capturing: (?:...)");
     }
   }
@@ -255,7 +279,8 @@ class ProfileParser {
 }  // namespace
 
 std::string Profile::validate() const {
-  if (decimal == delimiter) return "decimal and delimiter are the same character; set delimiter = \";\" when decimal = \",\"";
+  if (decimal == delimiter)
+    return "decimal and delimiter are the same character; set delimiter = \";\" when decimal = \",\"";
   if (shape == Shape::grid && grid_read_label.empty()) return "grid.read_label is empty; a grid profile needs it";
   if (time_columns.empty() && shape != Shape::grid) return "columns.time is empty; list the time column's header names";
   if (shape == Shape::long_form && (well_columns.empty() || value_columns.empty()))

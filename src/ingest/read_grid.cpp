@@ -1,7 +1,7 @@
 // Grid shape: per read a label line with the read time (grid.read_label, group 1; group 2
 // the temperature), a header of column numbers, then one line per plate row.
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
@@ -11,9 +11,9 @@ namespace vzero::detail {
 namespace {
 
 struct Layout {
-  std::vector<int> columns;        // 0-based plate columns, in header order
-  std::vector<int> rows;           // 0-based plate rows, in the order of the first read
-  std::vector<WellId> wells;       // slot order: row-major over rows × columns
+  std::vector<int> columns;   // 0-based plate columns, in header order
+  std::vector<int> rows;      // 0-based plate rows, in the order of the first read
+  std::vector<WellId> wells;  // slot order: row-major over rows × columns
   int first_line = 0;
 };
 
@@ -35,9 +35,9 @@ Run read_grid(ReaderInput in) {
   std::optional<ChannelBuilder> current;
   Layout layout;
   std::vector<Field> fields;
-  std::vector<FieldView> rf;      // a row line's fields (views: no allocation per value)
+  std::vector<FieldView> rf;  // a row line's fields (views: no allocation per value)
   std::string scratch;
-  std::vector<double> vals;       // one read's values and statuses, row by row
+  std::vector<double> vals;  // one read's values and statuses, row by row
   std::vector<ReadStatus> stats;
   std::string_view line;
   bool pending_line = false;  // `line` must be handled again as an outside line
@@ -52,7 +52,8 @@ Run read_grid(ReaderInput in) {
     if (!current) return;
     for (const auto& d : done) {
       if (d.first.name() == current->name())
-        throw InputError(Where{file, layout.first_line}, fmt::format("channel {} appears twice in the file", current->name()),
+        throw InputError(Where{file, layout.first_line},
+                         fmt::format("channel {} appears twice in the file", current->name()),
                          {"give each channel section its own label, or split the file"});
     }
     done.emplace_back(std::move(*current), layout);
@@ -90,10 +91,10 @@ Run read_grid(ReaderInput in) {
     if (!temp_text.empty()) {
       auto v = parse_number(temp_text, p.decimal);
       if (!v) {
-        throw InputError(Where{file, ln, 1, std::string(line)},
-                         fmt::format("expected a temperature in the read label, found {}",
-                                     describe_found(temp_text, p.decimal)),
-                         {"make group 2 of `grid.read_label` capture only the number"});
+        throw InputError(
+            Where{file, ln, 1, std::string(line)},
+            fmt::format("expected a temperature in the read label, found {}", describe_found(temp_text, p.decimal)),
+            {"make group 2 of `grid.read_label` capture only the number"});
       }
       b.temp_c = *v;
     }
@@ -119,10 +120,11 @@ Run read_grid(ReaderInput in) {
         if (sv.empty() && i + 1 == fields.size()) break;
         auto v = parse_number(sv);
         if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
-          throw InputError(Where{file, hl, fields[i].column, header_text},
-                           fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
-                                       ln, sv),
-                           {"check that `grid.read_label` matches only read labels"});
+          throw InputError(
+              Where{file, hl, fields[i].column, header_text},
+              fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
+                          ln, sv),
+              {"check that `grid.read_label` matches only read labels"});
         }
         int col = static_cast<int>(*v) - 1;
         if (fixed && col >= fixed->columns)
@@ -163,19 +165,21 @@ Run read_grid(ReaderInput in) {
           if (in.prefix_only && read_before()) goto end_of_input;
           int col = rf.size() > cols.size() + 1 ? rf[cols.size() + 1].column : static_cast<int>(rl.size()) + 1;
           throw InputError(Where{file, rln, col, std::string(rl)},
-                           fmt::format("expected {} values in row {} as in the header at line {}, found {}", cols.size(),
-                                       row_label(*row), hl, rf.size() - 1),
+                           fmt::format("expected {} values in row {} as in the header at line {}, found {}",
+                                       cols.size(), row_label(*row), hl, rf.size() - 1),
                            {"check for a truncated or extra field; delete an incomplete last read to use the rest"});
         }
         for (std::size_t k = 0; k < rows.size(); ++k) {
           if (rows[k] == *row)
             throw InputError(Where{file, rln, 1, std::string(rl)},
-                             fmt::format("row {} appears twice in the read at line {} (first at line {})", row_label(*row),
-                                         ln, row_lines[k]),
+                             fmt::format("row {} appears twice in the read at line {} (first at line {})",
+                                         row_label(*row), ln, row_lines[k]),
                              {"remove the duplicated row"});
         }
-        if (fixed && *row >= fixed->rows) off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
-        if (in.first_value && in.first_value->line == 0) *in.first_value = Where{file, rln, rf[1].column, std::string(rl)};
+        if (fixed && *row >= fixed->rows)
+          off_plate_row_error(*fixed, *row, Where{file, rln, rf[0].column, std::string(rl)});
+        if (in.first_value && in.first_value->line == 0)
+          *in.first_value = Where{file, rln, rf[1].column, std::string(rl)};
         rows.push_back(*row);
         row_lines.push_back(rln);
         const std::size_t at = vals.size();
@@ -184,9 +188,16 @@ Run read_grid(ReaderInput in) {
         for (std::size_t c = 0; c < cols.size(); ++c) {
           double v = 0;
           switch (read_cell(in.cp, rf[c + 1].text, v)) {
-            case CellKind::number: vals[at + c] = v; stats[at + c] = ReadStatus::ok; break;
-            case CellKind::overflow: stats[at + c] = ReadStatus::overflow; break;
-            case CellKind::missing: stats[at + c] = ReadStatus::missing; break;
+            case CellKind::number:
+              vals[at + c] = v;
+              stats[at + c] = ReadStatus::ok;
+              break;
+            case CellKind::overflow:
+              stats[at + c] = ReadStatus::overflow;
+              break;
+            case CellKind::missing:
+              stats[at + c] = ReadStatus::missing;
+              break;
             case CellKind::bad:
               bad_value_error(p, file, rln, rf[c + 1].column, rl, rf[c + 1].text,
                               "well " + well_name(WellId{*row, cols[c]}));
@@ -208,24 +219,26 @@ Run read_grid(ReaderInput in) {
         current.emplace(section ? *section : default_section(p), layout.wells);
       } else if (cols != layout.columns || rows != layout.rows) {
         if (in.prefix_only && !more) goto end_of_input;
-        throw InputError(Where{file, ln, 0, b.label_text},
-                         fmt::format("the read at line {} has {} rows × {} columns; the first read of channel {} "
-                                     "(line {}) has {} × {}",
-                                     ln, rows.size(), cols.size(), current->name(), layout.first_line,
-                                     layout.rows.size(), layout.columns.size()),
-                         {"every read of a channel must cover the same wells; re-export, or delete the incomplete read"});
+        throw InputError(
+            Where{file, ln, 0, b.label_text},
+            fmt::format("the read at line {} has {} rows × {} columns; the first read of channel {} "
+                        "(line {}) has {} × {}",
+                        ln, rows.size(), cols.size(), current->name(), layout.first_line, layout.rows.size(),
+                        layout.columns.size()),
+            {"every read of a channel must cover the same wells; re-export, or delete the incomplete read"});
       }
       int read = current->add_read(b.time_s, b.temp_c, Where{file, ln, 1, b.label_text});
       for (std::size_t r = 0; r < rows.size(); ++r)
         for (std::size_t c = 0; c < cols.size(); ++c)
-          current->set(read, static_cast<int>(r * cols.size() + c), vals[r * cols.size() + c], stats[r * cols.size() + c]);
+          current->set(read, static_cast<int>(r * cols.size() + c), vals[r * cols.size() + c],
+                       stats[r * cols.size() + c]);
     }
   }
 end_of_input:
   close_channel();
   if (done.empty()) {
-    std::string at = p.source == "built-in" ? "built-in profile " + p.name
-                                            : fmt::format("{}:{}", p.source, p.grid_read_line);
+    std::string at =
+        p.source == "built-in" ? "built-in profile " + p.name : fmt::format("{}:{}", p.source, p.grid_read_line);
     throw InputError(Where{file}, "found no reads: no line matches the profile's `grid.read_label`",
                      {fmt::format("set `grid.read_label` ('{}', {}) to a regex matching this file's read labels",
                                   p.grid_read_label, at),

@@ -10,9 +10,9 @@
 // (well, time) pairs are caught while reading with one bit per cell.
 #include <sys/mman.h>
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 #include <new>
 #include <numeric>
@@ -29,9 +29,9 @@ constexpr int k_max_wells = 32 * 48;  // row * 48 + column, the largest plate's 
 
 // One observation. The status sits in the top two bits of `read`.
 struct Row {
-  double value;          // NaN unless the status is ok
-  std::uint32_t read;    // index of the row's time among its channel's distinct times
-  std::uint16_t well;    // row * 48 + column
+  double value;        // NaN unless the status is ok
+  std::uint32_t read;  // index of the row's time among its channel's distinct times
+  std::uint16_t well;  // row * 48 + column
   std::uint16_t channel;
 };
 static_assert(sizeof(Row) == 16);
@@ -71,11 +71,11 @@ class RowStore {
 // A channel's distinct read times and what is known per time.
 struct ChannelRows {
   std::string name;
-  std::vector<double> times;                         // by read index, in order of first appearance
-  std::unordered_map<double, std::uint32_t> index;   // time → read index
-  std::uint32_t last = 0;                            // read index of the previous row
-  std::vector<std::uint64_t> seen;                   // bit per (read, well): a row was given
-  std::vector<double> temp;                          // by read: temperature of the lowest well giving one
+  std::vector<double> times;                        // by read index, in order of first appearance
+  std::unordered_map<double, std::uint32_t> index;  // time → read index
+  std::uint32_t last = 0;                           // read index of the previous row
+  std::vector<std::uint64_t> seen;                  // bit per (read, well): a row was given
+  std::vector<double> temp;                         // by read: temperature of the lowest well giving one
   std::vector<std::uint16_t> temp_well;
   std::vector<bool> wells = std::vector<bool>(k_max_wells, false);
   // The duplicated (time, well) that sorts first, and the row that repeated it.
@@ -241,18 +241,26 @@ Run read_long(ReaderInput in) {
     const FieldView& tf = views[static_cast<std::size_t>(cols->time)];
     auto t = parse_time(tf.text, cols->time_unit, p.decimal);
     if (!t) {
-      bad_time_error(Where{file, ln, tf.column, std::string(line)}, tf.text, cols->time_unit, p.decimal,
-                     "a read time", {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss"});
+      bad_time_error(Where{file, ln, tf.column, std::string(line)}, tf.text, cols->time_unit, p.decimal, "a read time",
+                     {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss"});
     }
     Row r{};
     r.well = static_cast<std::uint16_t>(w->row * 48 + w->column);
     ReadStatus status = ReadStatus::ok;
     const FieldView& vf = views[static_cast<std::size_t>(cols->value)];
     switch (read_cell(in.cp, vf.text, r.value)) {
-      case CellKind::number: break;
-      case CellKind::overflow: r.value = std::nan(""); status = ReadStatus::overflow; break;
-      case CellKind::missing: r.value = std::nan(""); status = ReadStatus::missing; break;
-      case CellKind::bad: bad_value_error(p, file, ln, vf.column, line, vf.text, "well " + well_name(*w));
+      case CellKind::number:
+        break;
+      case CellKind::overflow:
+        r.value = std::nan("");
+        status = ReadStatus::overflow;
+        break;
+      case CellKind::missing:
+        r.value = std::nan("");
+        status = ReadStatus::missing;
+        break;
+      case CellKind::bad:
+        bad_value_error(p, file, ln, vf.column, line, vf.text, "well " + well_name(*w));
     }
     if (in.first_value && in.first_value->line == 0) *in.first_value = Where{file, ln, vf.column, std::string(line)};
     double temp_c = std::nan("");
@@ -260,8 +268,10 @@ Run read_long(ReaderInput in) {
       const FieldView& f = views[static_cast<std::size_t>(cols->temp)];
       double tv = 0;
       CellKind k = read_cell(in.cp, f.text, tv);
-      if (k == CellKind::number) temp_c = tv;
-      else if (k == CellKind::bad) bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
+      if (k == CellKind::number)
+        temp_c = tv;
+      else if (k == CellKind::bad)
+        bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
     }
     std::size_t ch = 0;
     if (cols->channel >= 0) {
@@ -316,13 +326,14 @@ Run read_long(ReaderInput in) {
   }
   if (!cols && near) throw *near;
   if (!cols) {
-    throw InputError(Where{file},
-                     "found no header naming the well, time and value columns",
-                     {"set `columns.well`, `columns.time` and `columns.value` in the profile to this file's header names",
-                      "try another profile with --profile"});
+    throw InputError(
+        Where{file}, "found no header naming the well, time and value columns",
+        {"set `columns.well`, `columns.time` and `columns.value` in the profile to this file's header names",
+         "try another profile with --profile"});
   }
   if (channels.empty()) {
-    throw InputError(Where{file, cols->line}, "the table has a header but no rows", {"check that the export is complete"});
+    throw InputError(Where{file, cols->line}, "the table has a header but no rows",
+                     {"check that the export is complete"});
   }
   std::vector<WellId> all;
   for (int k = 0; k < k_max_wells; ++k)
@@ -346,17 +357,17 @@ Run read_long(ReaderInput in) {
     while (first < cr.dup_row && !(rows[first].channel == c && rows[first].well == cr.dup_well &&
                                    (rows[first].read & k_read_mask) == cr.dup_read))
       ++first;
-    throw InputError(Where{file, line_of(cr.dup_row)},
-                     fmt::format("well {} has two rows for time {} s in channel {} (the other at line {})",
-                                 well_name(WellId{cr.dup_well / 48, cr.dup_well % 48}), cr.dup_time, cr.name,
-                                 line_of(first)),
-                     {"remove the duplicated observation"});
+    throw InputError(
+        Where{file, line_of(cr.dup_row)},
+        fmt::format("well {} has two rows for time {} s in channel {} (the other at line {})",
+                    well_name(WellId{cr.dup_well / 48, cr.dup_well % 48}), cr.dup_time, cr.name, line_of(first)),
+        {"remove the duplicated observation"});
   }
 
   // Matrices: reads in time order, wells in plate order.
   struct Layout {
-    std::vector<std::uint32_t> rank;   // read index → matrix row
-    std::vector<int> column;           // well → matrix column, −1 when absent
+    std::vector<std::uint32_t> rank;  // read index → matrix row
+    std::vector<int> column;          // well → matrix column, −1 when absent
     Eigen::Index reads = 0;
   };
   std::vector<Layout> layout(channels.size());
@@ -422,7 +433,8 @@ Run read_long(ReaderInput in) {
       const Eigen::Index i = lay.rank[read];
       for (int w = 0; w < k_max_wells; ++w) {
         const int j = lay.column[static_cast<std::size_t>(w)];
-        if (j < 0 || (cr.seen[read * ChannelRows::k_words + static_cast<std::size_t>(w) / 64] >> (w % 64)) & 1) continue;
+        if (j < 0 || (cr.seen[read * ChannelRows::k_words + static_cast<std::size_t>(w) / 64] >> (w % 64)) & 1)
+          continue;
         ch.values(i, j) = std::nan("");
         ch.status(i, j) = ReadStatus::missing;
       }

@@ -1,7 +1,7 @@
 // Wide shape: optional preamble, then per channel a header row (time, optional
 // temperature, one column per well) and one row per read.
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
@@ -37,7 +37,8 @@ void note_near_header(const Profile& p, std::string_view line, const std::string
   const Field* unknown = nullptr;
   for (const auto& f : fields) {
     const std::string_view name = trim(f.text);
-    if (name.empty() || parse_well(name) || matches_any(name, p.temperature_columns) || matches_any(name, p.ignore_columns))
+    if (name.empty() || parse_well(name) || matches_any(name, p.temperature_columns) ||
+        matches_any(name, p.ignore_columns))
       continue;
     if (unknown) return;  // two fields that are neither: not a header of wells
     unknown = &f;
@@ -56,8 +57,10 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   split_fields_into(line, d, fields);
   int time_col = -1, wells = 0;
   for (std::size_t i = 0; i < fields.size(); ++i) {
-    if (time_col < 0 && matches_any(fields[i].text, p.time_columns)) time_col = static_cast<int>(i);
-    else if (parse_well(fields[i].text)) ++wells;
+    if (time_col < 0 && matches_any(fields[i].text, p.time_columns))
+      time_col = static_cast<int>(i);
+    else if (parse_well(fields[i].text))
+      ++wells;
   }
   if (time_col < 0 && wells > 0 && !near) note_near_header(p, line, file, line_no, fields, wells, near);
   if (time_col < 0 || wells == 0) return std::nullopt;
@@ -81,13 +84,14 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
     } else if (auto w = parse_well(name)) {
       int& prev_field = seen_at[static_cast<std::size_t>(w->row * 48 + w->column)];
       if (prev_field != 0) {
-        throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
-                         fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w),
-                                     prev_field, i + 1),
-                         {"remove or rename the duplicated column"});
+        throw InputError(
+            Where{file, line_no, fields[i].column, std::string(line)},
+            fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w), prev_field, i + 1),
+            {"remove or rename the duplicated column"});
       }
       prev_field = static_cast<int>(i) + 1;
-      if (fixed && !fixed->holds(*w)) off_plate_error(*fixed, *w, Where{file, line_no, fields[i].column, std::string(line)});
+      if (fixed && !fixed->holds(*w))
+        off_plate_error(*fixed, *w, Where{file, line_no, fields[i].column, std::string(line)});
       h.roles.push_back(ColumnRole::well);
       h.slot.push_back(static_cast<int>(h.wells.size()));
       h.wells.push_back(*w);
@@ -95,9 +99,10 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.roles.push_back(ColumnRole::ignored);
       h.slot.push_back(-1);
     } else {
-      throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
-                       fmt::format("expected a well name (A1 … AF48) or a known column in the header, found \"{}\"", name),
-                       {fmt::format("add \"{}\" to `columns.ignore` (or `columns.temperature`) in the profile", name)});
+      throw InputError(
+          Where{file, line_no, fields[i].column, std::string(line)},
+          fmt::format("expected a well name (A1 … AF48) or a known column in the header, found \"{}\"", name),
+          {fmt::format("add \"{}\" to `columns.ignore` (or `columns.temperature`) in the profile", name)});
     }
   }
   return h;
@@ -172,8 +177,8 @@ Run read_wide(ReaderInput in) {
         if (in.prefix_only && (current->reads() > 0 || !done.empty())) break;
         int col = fields_v.size() > expected ? fields_v[expected].column : static_cast<int>(line.size()) + 1;
         throw InputError(Where{file, ln, col, std::string(line)},
-                         fmt::format("expected {} fields as in the header at line {}, found {}", expected,
-                                     header->line, fields_v.size()),
+                         fmt::format("expected {} fields as in the header at line {}, found {}", expected, header->line,
+                                     fields_v.size()),
                          {"check for a truncated or extra field; a file cut off mid-row must be re-exported or "
                           "the incomplete last line deleted"});
       }
@@ -182,22 +187,30 @@ Run read_wide(ReaderInput in) {
         const auto& f = fields_v[static_cast<std::size_t>(header->temp_col)];
         double v = 0;
         CellKind k = read_cell(in.cp, f.text, v);
-        if (k == CellKind::number) temp = v;
+        if (k == CellKind::number)
+          temp = v;
         else if (k == CellKind::bad)
           bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
       }
       int read = current->add_read(*t, temp, Where{file, ln, fields_v[tcol].column, std::string(line)});
       if (in.first_value && in.first_value->line == 0) {
         for (std::size_t i = 0; i < fields_v.size() && in.first_value->line == 0; ++i)
-          if (header->roles[i] == ColumnRole::well) *in.first_value = Where{file, ln, fields_v[i].column, std::string(line)};
+          if (header->roles[i] == ColumnRole::well)
+            *in.first_value = Where{file, ln, fields_v[i].column, std::string(line)};
       }
       for (std::size_t i = 0; i < fields_v.size(); ++i) {
         if (header->roles[i] != ColumnRole::well) continue;
         double v = 0;
         switch (read_cell(in.cp, fields_v[i].text, v)) {
-          case CellKind::number: current->set(read, header->slot[i], v, ReadStatus::ok); break;
-          case CellKind::overflow: current->set(read, header->slot[i], 0, ReadStatus::overflow); break;
-          case CellKind::missing: current->set(read, header->slot[i], 0, ReadStatus::missing); break;
+          case CellKind::number:
+            current->set(read, header->slot[i], v, ReadStatus::ok);
+            break;
+          case CellKind::overflow:
+            current->set(read, header->slot[i], 0, ReadStatus::overflow);
+            break;
+          case CellKind::missing:
+            current->set(read, header->slot[i], 0, ReadStatus::missing);
+            break;
           case CellKind::bad:
             bad_value_error(p, file, ln, fields_v[i].column, line, fields_v[i].text,
                             "well " + well_name(header->wells[static_cast<std::size_t>(header->slot[i])]));

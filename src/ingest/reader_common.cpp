@@ -1,8 +1,8 @@
 #include "ingest/reader_common.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 #include <mutex>
 #include <numeric>
@@ -130,9 +130,14 @@ std::optional<double> parse_time(std::string_view text, TimeUnit unit, char deci
   if (!v) return std::nullopt;
   double s = *v;
   switch (unit) {
-    case TimeUnit::seconds: break;
-    case TimeUnit::minutes: s *= 60; break;
-    case TimeUnit::hours: s *= 3600; break;
+    case TimeUnit::seconds:
+      break;
+    case TimeUnit::minutes:
+      s *= 60;
+      break;
+    case TimeUnit::hours:
+      s *= 3600;
+      break;
   }
   if (!(std::fabs(s) <= k_max_time_s)) return std::nullopt;
   return s;
@@ -142,13 +147,14 @@ bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal) {
   text = trim(text);
   if (parse_time(text, unit, decimal)) return false;
   const auto colon = text.find(':');
-  if (colon == std::string_view::npos) return number_too_large(text, decimal) || parse_number(text, decimal).has_value();
+  if (colon == std::string_view::npos)
+    return number_too_large(text, decimal) || parse_number(text, decimal).has_value();
   // A clock time is out of range when it reads as one with 0 as its first part, and that
   // part is a whole number of hours (or minutes) >= 0.
   const std::string_view first = trim(text.substr(0, colon));
   const auto v = parse_number(first, decimal);
-  const bool whole = v ? *v >= 0 && *v == std::floor(*v) : !first.empty() && first.front() != '-' &&
-                                                               number_too_large(first, decimal);
+  const bool whole =
+      v ? *v >= 0 && *v == std::floor(*v) : !first.empty() && first.front() != '-' && number_too_large(first, decimal);
   if (!whole) return false;
   std::string small(text);
   small.replace(0, colon, "0");
@@ -167,8 +173,9 @@ std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal,
 void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal, std::string_view what,
                     std::vector<std::string> fixes) {
   if (time_out_of_range(text, unit, decimal))
-    fixes = {"check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's `time_unit`) "
-             "and that the column holds read times"};
+    fixes = {
+        "check the unit of the times (in the time header, e.g. \"Time [min]\", or the profile's `time_unit`) "
+        "and that the column holds read times"};
   throw InputError(std::move(where), bad_time_message(text, unit, decimal, what), std::move(fixes));
 }
 
@@ -177,9 +184,12 @@ std::optional<TimeUnit> unit_in_header(std::string_view header) {
   auto ends = [&](std::string_view suffix) {
     return h.size() >= suffix.size() && h.compare(h.size() - suffix.size(), suffix.size(), suffix) == 0;
   };
-  for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s"}) if (ends(s)) return TimeUnit::seconds;
-  for (auto s : {"[min]", "(min)", "_min", " min"}) if (ends(s)) return TimeUnit::minutes;
-  for (auto s : {"[h]", "(h)", "_h", " h"}) if (ends(s)) return TimeUnit::hours;
+  for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s"})
+    if (ends(s)) return TimeUnit::seconds;
+  for (auto s : {"[min]", "(min)", "_min", " min"})
+    if (ends(s)) return TimeUnit::minutes;
+  for (auto s : {"[h]", "(h)", "_h", " h"})
+    if (ends(s)) return TimeUnit::hours;
   return std::nullopt;
 }
 
@@ -199,9 +209,10 @@ InputError missing_column_error(Where where, std::string_view what, const std::v
   message += unknown.empty() ? std::string("none") : fmt::format("\"{}\"", unknown);
   std::string fix = unknown.empty()
                         ? fmt::format("add the column of {} to the export, with a header such as {}", holds, suggested)
-                        : fmt::format("if \"{}\" holds the {}, name it {} in the header, or add it to `columns.{}` in a "
-                                      "profile of your own (instrument-profiles/README.md)",
-                                      unknown, holds, suggested, what);
+                        : fmt::format(
+                              "if \"{}\" holds the {}, name it {} in the header, or add it to `columns.{}` in a "
+                              "profile of your own (instrument-profiles/README.md)",
+                              unknown, holds, suggested, what);
   return InputError(std::move(where), std::move(message), {std::move(fix)});
 }
 
@@ -234,9 +245,10 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
   std::vector<std::string> fixes;
   std::string lowered = lower(t);
   if (number_too_large(t, p.decimal)) {
-    fixes.push_back(fmt::format("correct the cell; if the instrument writes \"{}\" for a saturated read, add it to "
-                                "the profile's `overflow` list",
-                                t));
+    fixes.push_back(
+        fmt::format("correct the cell; if the instrument writes \"{}\" for a saturated read, add it to "
+                    "the profile's `overflow` list",
+                    t));
   } else if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
     fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
   } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
@@ -245,10 +257,12 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
                         ? std::string("set decimal = \",\" (and delimiter = \";\" or \"tab\") in the profile")
                         : "set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile " + builtin);
   } else if (p.decimal == ',' && t.find('.') != std::string_view::npos) {
-    fixes.push_back("if only some cells use '.', the file mixes decimal marks: correct them or re-export the file; "
-                    "if all do, set decimal = \".\" in the profile");
+    fixes.push_back(
+        "if only some cells use '.', the file mixes decimal marks: correct them or re-export the file; "
+        "if all do, set decimal = \".\" in the profile");
   } else {
-    fixes.push_back(fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
+    fixes.push_back(
+        fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
   }
   throw InputError(Where{file, line, column, std::string(line_text)},
                    fmt::format("expected a number for {}, found {}", what_cell, describe_found(t, p.decimal)),

@@ -62,8 +62,8 @@ bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal);
 std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal, std::string_view what);
 // Throws the InputError for such a cell: bad_time_message, with `fixes`, or for a time out of
 // range a fix about the time unit.
-[[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal,
-                                 std::string_view what, std::vector<std::string> fixes);
+[[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal, std::string_view what,
+                                 std::vector<std::string> fixes);
 // The unit a time header names ("Time [min]", "time_s"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
 
@@ -103,7 +103,7 @@ class ChannelBuilder {
   std::vector<WellId> wells_;  // slot -> well
   std::vector<double> time_s_, temperature_c_;
   std::vector<int> time_line_;
-  std::vector<double> values_;       // read-major while reading
+  std::vector<double> values_;  // read-major while reading
   std::vector<ReadStatus> status_;
 };
 

@@ -1,8 +1,8 @@
 #include "vzero/report.hpp"
 
+#include <fmt/format.h>
 #include <cerrno>
 #include <cstring>
-#include <fmt/format.h>
 #include <fstream>
 #include <sstream>
 
@@ -97,7 +97,8 @@ std::string render_report(const ReportInput& input, const ReportOptions& options
   h += r::render_flags(m);
   for (const auto& p : m.plates) h += r::render_plate(p, options);
   h += r::render_standard_curves(m);
-  if (input.summary) h += r::render_summary(m, *input.summary);
+  if (input.summary)
+    h += r::render_summary(m, *input.summary);
   else
     h += "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"note\">No summary table was given (pass "
          "--summary).</p>\n</section>\n";

@@ -1,11 +1,11 @@
 // The report's tables read into plates of wells with their traces.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <unordered_map>
 
-#include "report/report_model.hpp"
 #include "core/text.hpp"
+#include "report/report_model.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero::detail::report {
@@ -43,7 +43,8 @@ std::string key_of(std::string_view source, std::string_view channel, std::strin
   return k;
 }
 
-void read_rates(const Table& t, PageData& m, std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
+void read_rates(const Table& t, PageData& m,
+                std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
   Columns c{t};
   const int source = c.need("source"), channel = c.need("channel"), well = c.need("well"), role = c.need("role");
   const int v0 = c.need("v0"), unit = c.need("v0_unit"), slope = c.need("slope"), intercept = c.need("intercept");
@@ -176,7 +177,8 @@ void read_traces(const Table& t, PageData& m,
         if (std::isfinite(a) && std::isfinite(b) && b != 0) w.factor = std::fabs(a / b);
       }
       w.y.resize(w.time_s.size());
-      for (std::size_t i = 0; i < w.time_s.size(); ++i) w.y[i] = p.converted ? concs[pi][wi][i] : p.sign * corr[pi][wi][i];
+      for (std::size_t i = 0; i < w.time_s.size(); ++i)
+        w.y[i] = p.converted ? concs[pi][wi][i] : p.sign * corr[pi][wi][i];
     }
   }
 }
@@ -198,7 +200,8 @@ void finish_plates(PageData& m) {
       }
       // v0 = slope · factor, both per minute; when the slope is 0 or missing, the ratio of
       // the drawn concentration to the corrected signal (read_traces) stands.
-      if (std::isfinite(w.v0) && std::isfinite(w.slope_per_min) && w.slope_per_min != 0) w.factor = w.v0 / w.slope_per_min;
+      if (std::isfinite(w.v0) && std::isfinite(w.slope_per_min) && w.slope_per_min != 0)
+        w.factor = w.v0 / w.slope_per_min;
     }
     p.t_min_s = std::isfinite(t0) ? std::min(t0, 0.0) : 0;
     p.t_max_s = std::isfinite(t1) && t1 > p.t_min_s ? t1 : p.t_min_s + 1;

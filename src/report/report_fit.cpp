@@ -1,12 +1,12 @@
 // The kinetics section of the report (fits from fit.json) and the standard curves.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
-#include <fmt/format.h>
 #include <set>
 
-#include "report/report_model.hpp"
 #include "core/text.hpp"
+#include "report/report_model.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 #include "vzero/svg.hpp"
@@ -57,8 +57,8 @@ const char* level_colour(std::size_t k) {
   return order[k % 7];
 }
 svg::Marker level_marker(std::size_t k) {
-  static const svg::Marker order[] = {svg::Marker::circle, svg::Marker::square, svg::Marker::diamond,
-                                      svg::Marker::triangle, svg::Marker::plus, svg::Marker::cross};
+  static const svg::Marker order[] = {svg::Marker::circle,   svg::Marker::square, svg::Marker::diamond,
+                                      svg::Marker::triangle, svg::Marker::plus,   svg::Marker::cross};
   return order[k % 6];
 }
 
@@ -76,7 +76,8 @@ std::vector<Obs> points_of(const json& fitdoc, const json& f, const ReportInput&
     const int model = t.require_column("model", "give the --diagnostics file vzero fit wrote");
     const int s = t.require_column("s", ""), inh = t.require_column("inhibitor", ""), v = t.require_column("v", "");
     std::vector<int> gc;
-    for (const auto& g : groups) gc.push_back(t.require_column(g, "the diagnostics and fit.json come from one vzero fit run"));
+    for (const auto& g : groups)
+      gc.push_back(t.require_column(g, "the diagnostics and fit.json come from one vzero fit run"));
     for (std::size_t r = 0; r < t.rows.size(); ++r) {
       if (t.rows[r][static_cast<std::size_t>(kind)] != "point") continue;
       if (t.rows[r][static_cast<std::size_t>(model)] != str_of(f, "model")) continue;
@@ -91,8 +92,10 @@ std::vector<Obs> points_of(const json& fitdoc, const json& f, const ReportInput&
   namespace fs = std::filesystem;
   const std::string name = fs::path(str_of(fitdoc, "source")).filename().string();
   const Table* t = nullptr;
-  if (!name.empty() && fs::path(in.rates.source).filename().string() == name) t = &in.rates;
-  else if (in.summary && !name.empty() && fs::path(in.summary->source).filename().string() == name) t = &*in.summary;
+  if (!name.empty() && fs::path(in.rates.source).filename().string() == name)
+    t = &in.rates;
+  else if (in.summary && !name.empty() && fs::path(in.summary->source).filename().string() == name)
+    t = &*in.summary;
   if (!t || !member(f, "source_lines").is_array()) return out;
   const int x = t->column(str_of(fitdoc, "x_column")), y = t->column(str_of(fitdoc, "y_column"));
   const int inh = t->column(str_of(fitdoc, "inhibitor_column"));
@@ -131,7 +134,7 @@ std::string level_label(const std::string& column, double level, const std::stri
 }
 
 void legend(svg::Document& d, const std::vector<double>& levels, const svg::Box& a, const std::string& column,
-                   const std::string& unit) {
+            const std::string& unit) {
   if (levels.size() < 2) return;
   for (std::size_t k = 0; k < levels.size(); ++k) {
     const double y = a.y + 12 + 14 * static_cast<double>(k);
@@ -153,9 +156,10 @@ std::string unit_of(const json& p, const vzero::KineticModel* model, const std::
 
 std::string parameter_table(const json& f, const std::string& x_unit) {
   const vzero::KineticModel* model = vzero::find_model(str_of(f, "model"));
-  std::string h = "<table class=\"params\"><thead><tr><th>parameter</th><th class=\"num\">estimate</th><th "
-                  "class=\"num\">SE</th><th class=\"num\">95 % interval (Wald t)</th><th class=\"num\">95 % interval "
-                  "(profile t)</th><th>unit</th></tr></thead><tbody>";
+  std::string h =
+      "<table class=\"params\"><thead><tr><th>parameter</th><th class=\"num\">estimate</th><th "
+      "class=\"num\">SE</th><th class=\"num\">95 % interval (Wald t)</th><th class=\"num\">95 % interval "
+      "(profile t)</th><th>unit</th></tr></thead><tbody>";
   auto rows = [&](const json& list) {
     if (!list.is_array()) return;
     for (const auto& p : list) {
@@ -164,10 +168,11 @@ std::string parameter_table(const json& f, const std::string& x_unit) {
         auto v = [&](std::size_t k) { return p[key][k].is_number() ? p[key][k].get<double>() : NAN; };
         return human(v(0)) + " \u2013 " + human(v(1));
       };
-      h += fmt::format("<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
-                       "<td class=\"num\">{}</td><td>{}</td></tr>",
-                       escape(str_of(p, "name")), human(num_of(p, "estimate")), human(num_of(p, "se"), 3),
-                       pair("wald"), pair("profile"), escape(unit_of(p, model, x_unit)));
+      h += fmt::format(
+          "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
+          "<td class=\"num\">{}</td><td>{}</td></tr>",
+          escape(str_of(p, "name")), human(num_of(p, "estimate")), human(num_of(p, "se"), 3), pair("wald"),
+          pair("profile"), escape(unit_of(p, model, x_unit)));
     }
   };
   rows(member(f, "parameters"));
@@ -188,7 +193,8 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
     for (Eigen::Index a = 0; a < n; ++a)
       for (Eigen::Index b = 0; b < n; ++b) {
         const json& row = cov[static_cast<std::size_t>(a)];
-        const bool ok = row.is_array() && row.size() == fc.params.size() && row[static_cast<std::size_t>(b)].is_number();
+        const bool ok =
+            row.is_array() && row.size() == fc.params.size() && row[static_cast<std::size_t>(b)].is_number();
         fc.cov(a, b) = ok ? row[static_cast<std::size_t>(b)].get<double>() : NAN;
       }
   }
@@ -233,9 +239,12 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
         if (level_index(levels, inhibition ? p.inhibitor : 0.0) == l) sx.push_back(p.s), vy.push_back(p.v);
       c.markers(sx, vy, level_marker(l), 3, "pt", {{"stroke", level_colour(l)}});
     }
-    legend(d, levels, {c.x(tx.values.back()) - 150, c.area().y + c.area().height - 18 - 14.0 * static_cast<double>(levels.size()), 150, 0},
+    legend(d, levels,
+           {c.x(tx.values.back()) - 150, c.area().y + c.area().height - 18 - 14.0 * static_cast<double>(levels.size()),
+            150, 0},
            icol, i_unit);
-    out += "<figure class=\"chart\">" + d.str({{"width", "480"}, {"role", "img"}, {"aria-label", "rate against substrate"}}) +
+    out += "<figure class=\"chart\">" +
+           d.str({{"width", "480"}, {"role", "img"}, {"aria-label", "rate against substrate"}}) +
            "<figcaption>Rates against substrate with the fitted curve" + (levels.size() > 1 ? "s" : std::string()) +
            " and the pointwise 95 % confidence band of the curve (delta method from the fit's covariance).</figcaption>"
            "</figure>";
@@ -291,11 +300,13 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
     svg::Chart c(d, {70, 12, 390, 262}, svg::nice_ticks(0, u_max * 1.04, 6), svg::nice_ticks(0, w_max * 1.04, 6));
     const std::string stem = per_min_stem(str_of(units, "v"));
     c.axes("1/S (1/" + xu + ")", "1/v (" + (stem.empty() ? "1/(" + vu + ")" : "min/" + display_unit(stem)) + ")");
-    for (std::size_t l = 0; l < levels.size(); ++l) c.polyline(grid, inv[l], "fit-curve", {{"stroke", level_colour(l)}});
+    for (std::size_t l = 0; l < levels.size(); ++l)
+      c.polyline(grid, inv[l], "fit-curve", {{"stroke", level_colour(l)}});
     for (std::size_t l = 0; l < levels.size(); ++l) {
       std::vector<double> a, b;
       for (const auto& p : pts)
-        if (p.s > 0 && p.v > 0 && level_index(levels, inhibition ? p.inhibitor : 0.0) == l) a.push_back(1 / p.s), b.push_back(1 / p.v);
+        if (p.s > 0 && p.v > 0 && level_index(levels, inhibition ? p.inhibitor : 0.0) == l)
+          a.push_back(1 / p.s), b.push_back(1 / p.v);
       c.markers(a, b, level_marker(l), 3, "pt", {{"stroke", level_colour(l)}});
     }
     legend(d, levels, {c.area().x, c.area().y, 150, 0}, icol, i_unit);
@@ -306,8 +317,9 @@ std::string fit_figures(const json& doc, const json& f, const ReportInput& in, c
   }
   out += "</div>\n";
   if (pts.empty())
-    out += "<p class=\"note\">No observed points: pass the --diagnostics file of the fit (or the table it fitted) "
-           "to draw them.</p>\n";
+    out +=
+        "<p class=\"note\">No observed points: pass the --diagnostics file of the fit (or the table it fitted) "
+        "to draw them.</p>\n";
   return out;
 }
 
@@ -326,11 +338,12 @@ std::string render_fits(const PageData& m, const ReportInput& in) {
   }
   std::string h = "<section id=\"fits\">\n<h2>Kinetics fit</h2>\n";
   const json& rows = member(doc, "rows");
-  h += fmt::format("<p class=\"lede\">From {} (vzero fit {}): x = {}, y = {}{}; weighting {}; {} of {} rows used.</p>\n",
-                   escape(str_of(doc, "source")), escape(str_of(doc, "version")), escape(str_of(doc, "x_column")),
-                   escape(str_of(doc, "y_column")),
-                   str_of(doc, "inhibitor_column").empty() ? "" : ", inhibitor = " + escape(str_of(doc, "inhibitor_column")),
-                   escape(str_of(doc, "weighting")), human(num_of(rows, "used")), human(num_of(rows, "read")));
+  h += fmt::format(
+      "<p class=\"lede\">From {} (vzero fit {}): x = {}, y = {}{}; weighting {}; {} of {} rows used.</p>\n",
+      escape(str_of(doc, "source")), escape(str_of(doc, "version")), escape(str_of(doc, "x_column")),
+      escape(str_of(doc, "y_column")),
+      str_of(doc, "inhibitor_column").empty() ? "" : ", inhibitor = " + escape(str_of(doc, "inhibitor_column")),
+      escape(str_of(doc, "weighting")), human(num_of(rows, "used")), human(num_of(rows, "read")));
   if (member(doc, "notes").is_array() && !member(doc, "notes").empty()) {
     h += "<ul class=\"notes\">";
     for (const auto& n : member(doc, "notes"))
@@ -347,11 +360,12 @@ std::string render_fits(const PageData& m, const ReportInput& in) {
       h += "<p class=\"warn\">No fit: " + escape(str_of(f, "message")) + "</p></article>\n";
       continue;
     }
-    h += fmt::format("<p class=\"stats\">n = {}, df = {}, residual SD = {}, AIC = {}, {} in {} iterations (start: "
-                     "{}).</p>\n",
-                     human(num_of(f, "n")), human(num_of(f, "df")), human(num_of(f, "residual_sd"), 3),
-                     human(num_of(f, "aic"), 5), member(f, "converged") == true ? "converged" : "not converged",
-                     human(num_of(f, "iterations")), escape(str_of(f, "start_method")));
+    h += fmt::format(
+        "<p class=\"stats\">n = {}, df = {}, residual SD = {}, AIC = {}, {} in {} iterations (start: "
+        "{}).</p>\n",
+        human(num_of(f, "n")), human(num_of(f, "df")), human(num_of(f, "residual_sd"), 3), human(num_of(f, "aic"), 5),
+        member(f, "converged") == true ? "converged" : "not converged", human(num_of(f, "iterations")),
+        escape(str_of(f, "start_method")));
     h += parameter_table(f, x_unit);
     for (const auto& w : member(f, "warnings"))
       if (w.is_string()) h += "<p class=\"warn\">" + escape(w.get<std::string>()) + "</p>\n";
@@ -387,7 +401,8 @@ std::string render_standard_curves(const PageData& m) {
         double sum = 0;
         int n = 0;
         for (std::size_t i = 0; i < w.raw.size(); ++i)
-          if (w.status[i] == "ok" && std::isfinite(w.raw[i]) && (read < 0 || static_cast<int>(i) == read)) sum += w.raw[i], ++n;
+          if (w.status[i] == "ok" && std::isfinite(w.raw[i]) && (read < 0 || static_cast<int>(i) == read))
+            sum += w.raw[i], ++n;
         if (n > 0 && std::isfinite(conc)) xs.push_back(conc), ys.push_back(sum / n);
       }
     const double slope = num_of(sc, "slope"), icpt = num_of(sc, "intercept"), lod = num_of(sc, "lod");
@@ -401,21 +416,22 @@ std::string render_standard_curves(const PageData& m) {
     if (std::isfinite(lod) && lod > 0 && lod < tx.hi) c.vband(0, lod, "lod-band");
     c.polyline({0, tx.hi}, {icpt, icpt + slope * tx.hi}, "fit-curve", {{"stroke", "#0072B2"}});
     c.markers(xs, ys, svg::Marker::circle, 3, "pt", {{"stroke", "#000000"}});
-    h += fmt::format("<article class=\"standard\"><h3>{} \u00b7 {}</h3>\n<div class=\"fit-figures\"><figure "
-                     "class=\"chart\">{}<figcaption>Standard wells (points: mean signal per well{}) and the fitted "
-                     "line; the shaded strip runs up to the limit of detection.</figcaption></figure>",
-                     escape(source), escape(channel),
-                     d.str({{"width", "480"}, {"role", "img"}, {"aria-label", "standard curve"}}),
-                     xs.empty() ? "; none drawn without the traces table" : "");
-    h += fmt::format("<table class=\"params\"><tbody><tr><td>signal</td><td>= {} + {} \u00b7 c</td></tr><tr><td>slope "
-                     "SE</td><td>{}</td></tr><tr><td>intercept SE</td><td>{}</td></tr><tr><td>R\u00b2</td><td>{}</td></"
-                     "tr><tr><td>residual SD</td><td>{}</td></tr><tr><td>limit of detection</td><td>{} {} ({})</td></"
-                     "tr><tr><td>calibrated range</td><td>{} \u2013 {} {}</td></tr><tr><td>standards</td><td>{}</td></"
-                     "tr></tbody></table></div></article>\n",
-                     human(icpt), human(slope), human(num_of(sc, "slope_se"), 3), human(num_of(sc, "intercept_se"), 3),
-                     human(num_of(sc, "r2"), 5), human(num_of(sc, "residual_sd"), 3), human(lod, 3), conc_unit,
-                     escape(str_of(sc, "lod_basis")), human(num_of(sc, "conc_min")), human(num_of(sc, "conc_max")),
-                     conc_unit, human(num_of(sc, "n")));
+    h += fmt::format(
+        "<article class=\"standard\"><h3>{} \u00b7 {}</h3>\n<div class=\"fit-figures\"><figure "
+        "class=\"chart\">{}<figcaption>Standard wells (points: mean signal per well{}) and the fitted "
+        "line; the shaded strip runs up to the limit of detection.</figcaption></figure>",
+        escape(source), escape(channel), d.str({{"width", "480"}, {"role", "img"}, {"aria-label", "standard curve"}}),
+        xs.empty() ? "; none drawn without the traces table" : "");
+    h += fmt::format(
+        "<table class=\"params\"><tbody><tr><td>signal</td><td>= {} + {} \u00b7 c</td></tr><tr><td>slope "
+        "SE</td><td>{}</td></tr><tr><td>intercept SE</td><td>{}</td></tr><tr><td>R\u00b2</td><td>{}</td></"
+        "tr><tr><td>residual SD</td><td>{}</td></tr><tr><td>limit of detection</td><td>{} {} ({})</td></"
+        "tr><tr><td>calibrated range</td><td>{} \u2013 {} {}</td></tr><tr><td>standards</td><td>{}</td></"
+        "tr></tbody></table></div></article>\n",
+        human(icpt), human(slope), human(num_of(sc, "slope_se"), 3), human(num_of(sc, "intercept_se"), 3),
+        human(num_of(sc, "r2"), 5), human(num_of(sc, "residual_sd"), 3), human(lod, 3), conc_unit,
+        escape(str_of(sc, "lod_basis")), human(num_of(sc, "conc_min")), human(num_of(sc, "conc_max")), conc_unit,
+        human(num_of(sc, "n")));
   }
   if (h.empty()) return {};
   return "<section id=\"standards\">\n<h2>Standard curve</h2>\n" + h + "</section>\n";

@@ -16,40 +16,40 @@ namespace vzero::detail::report {
 
 // One well of one plate: its rates.csv row and its trace.
 struct WellView {
-  std::string name;             // "A1"
+  std::string name;  // "A1"
   WellId id;
-  std::string anchor;           // fragment id of its panel, e.g. "p1-A1"
-  std::string role;             // sample, blank, standard, empty
+  std::string anchor;  // fragment id of its panel, e.g. "p1-A1"
+  std::string role;    // sample, blank, standard, empty
   std::vector<std::string> flags;
   std::vector<std::pair<std::string, std::string>> map_values;  // plate-map columns that have a value
   double v0 = NAN, v0_se = NAN, slope_per_min = NAN, intercept = NAN, r2 = NAN, conversion_pct = NAN;
   double t_start_s = NAN, t_end_s = NAN;
   std::string t_start_text, t_end_text;  // the cells as written in rates.csv
   int n_points = 0, n_outliers = 0;
-  std::string tangent;          // "slope" or "parabola"
-  int line = 0;                 // rates.csv line
+  std::string tangent;  // "slope" or "parabola"
+  int line = 0;         // rates.csv line
   // The trace, as drawn: `y` is the concentration, or the blank-corrected signal in the
   // reaction direction when the channel was not converted.
   std::vector<double> time_s, y, raw;
   std::vector<std::string> status;
   std::vector<char> used;
-  double factor = NAN;          // drawn units per signal unit (for the fitted line)
+  double factor = NAN;  // drawn units per signal unit (for the fitted line)
 
-  bool flagged() const;         // any flag other than "empty"
+  bool flagged() const;  // any flag other than "empty"
   // The fitted line in drawn units at time t: factor·(intercept + slope·t).
   double line_at(double t_s) const { return factor * (intercept + slope_per_min / 60.0 * t_s); }
 };
 
 struct PlateView {
-  std::string id;               // "p1", "p2", … in order of first appearance
+  std::string id;  // "p1", "p2", … in order of first appearance
   std::string source, channel;
   PlateFormat format;
-  std::string v0_unit;          // as in rates.csv ("uM/min")
-  std::string y_unit;           // unit of the drawn trace ("uM" or "AU")
-  std::string signal_unit;      // the channel's signal unit ("AU"), from slope_unit
-  bool converted = false;       // the trace is a concentration
-  double sign = 1;              // −1 when the reaction makes the signal fall
-  std::vector<WellView> wells;  // rates.csv order
+  std::string v0_unit;                  // as in rates.csv ("uM/min")
+  std::string y_unit;                   // unit of the drawn trace ("uM" or "AU")
+  std::string signal_unit;              // the channel's signal unit ("AU"), from slope_unit
+  bool converted = false;               // the trace is a concentration
+  double sign = 1;                      // −1 when the reaction makes the signal fall
+  std::vector<WellView> wells;          // rates.csv order
   std::map<int, std::size_t> by_index;  // plate index → position in wells
   double t_min_s = 0, t_max_s = 1;      // shared time axis
   bool has_traces = false;

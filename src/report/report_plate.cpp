@@ -1,7 +1,7 @@
 // The plate sections of the report: the rate heat map and the well panels.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 
 #include "report/report_model.hpp"
 #include "vzero/svg.hpp"
@@ -77,7 +77,8 @@ std::string tooltip(const PlateView& p, const WellView& w) {
 void draw_panel(Document& d, const PlateView& p, const WellView& w, double x, double y) {
   const auto flags = shown_flags(w);
   const auto flag_lines = wrap(flags, 27);
-  const double bottom = flag_lines.empty() ? 4 : 3 + 8.5 * static_cast<double>(std::min<std::size_t>(flag_lines.size(), 2));
+  const double bottom =
+      flag_lines.empty() ? 4 : 3 + 8.5 * static_cast<double>(std::min<std::size_t>(flag_lines.size(), 2));
   const double ax = x + 3, aw = k_panel_w - 6, ay = y + 15, ah = k_panel_h - 15 - bottom;
   const svg::Scale sx{p.t_min_s, p.t_max_s, ax, ax + aw};
   std::string cls = "well role-" + w.role + (w.flagged() && w.role != "empty" ? " flagged" : "");
@@ -117,8 +118,10 @@ void draw_panel(Document& d, const PlateView& p, const WellView& w, double x, do
       continue;
     }
     trace.push_back({sx(t), sy(v)});
-    if (w.used[i]) used.push_back({sx(t), sy(v)});
-    else if (ok && t >= w.t_start_s && t <= w.t_end_s) outliers.push_back({sx(t), sy(v)});
+    if (w.used[i])
+      used.push_back({sx(t), sy(v)});
+    else if (ok && t >= w.t_start_s && t <= w.t_end_s)
+      outliers.push_back({sx(t), sy(v)});
   }
   d.polyline(trace, "trace");
   d.markers(used, svg::Marker::dot, 1.1, "used");
@@ -130,8 +133,7 @@ void draw_panel(Document& d, const PlateView& p, const WellView& w, double x, do
   if (w.time_s.empty()) d.text(x + k_panel_w / 2, ay + ah / 2 + 3, p.has_traces ? "no reads" : "", "wnote", "middle");
 
   d.text(x + 3, y + 11, w.name, "wname");
-  if (w.role != "sample")
-    d.text(x + 6 + 6.6 * static_cast<double>(w.name.size()), y + 11, w.role, "wrole");
+  if (w.role != "sample") d.text(x + 6 + 6.6 * static_cast<double>(w.name.size()), y + 11, w.role, "wrole");
   d.text(x + k_panel_w - 3, y + 11, std::isfinite(w.v0) ? human(w.v0, 3) : "no rate", "wv0", "end");
   for (std::size_t k = 0; k < flag_lines.size() && k < 2; ++k) {
     std::string line = flag_lines[k];
@@ -148,7 +150,8 @@ std::string panel_grid(const PlateView& p, Block b) {
   const double height = k_top + grid_h + 34;
   Document d(width, height);
   for (int c = 0; c < b.cols; ++c)
-    d.text(k_left + c * (k_panel_w + k_gap) + k_panel_w / 2, 11, std::to_string(b.col0 + c + 1), "grid-label", "middle");
+    d.text(k_left + c * (k_panel_w + k_gap) + k_panel_w / 2, 11, std::to_string(b.col0 + c + 1), "grid-label",
+           "middle");
   for (int r = 0; r < b.rows; ++r) {
     const double y = k_top + r * (k_panel_h + k_gap);
     d.text(k_left - 7, y + k_panel_h / 2 + 4, row_label(b.row0 + r), "grid-label", "end");
@@ -223,7 +226,7 @@ struct ColourScale {
   bool below = false, above = false;  // some rates lie beyond the ends
   std::vector<double> ticks;          // nice values inside [lo, hi]
   svg::Ticks nice;
-  int decimals = 1;                   // for the values written in the cells
+  int decimals = 1;  // for the values written in the cells
   double frac(double v) const { return hi > lo ? (v - lo) / (hi - lo) : 0.5; }
 };
 
@@ -334,8 +337,8 @@ std::string heat_map(const PlateView& p) {
     }
     // Arrows at an end beyond which some rates lie (they take the end colour).
     if (scale.above) {
-      d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} -7l{} 7z\"/>", d.n(bar_x), d.n(top - 2), d.n(bar_w / 2),
-                        d.n(bar_w / 2)));
+      d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} -7l{} 7z\"/>", d.n(bar_x), d.n(top - 2),
+                        d.n(bar_w / 2), d.n(bar_w / 2)));
       d.text(bar_x + bar_w + 6, top - 3, "more: darkest", "tick small");
     }
     if (scale.below) {
@@ -402,13 +405,15 @@ std::string render_plate(const PlateView& p, const ReportOptions& o) {
   } else {
     for (int r = 0; r < p.format.rows; r += o.block_rows)
       for (int c = 0; c < p.format.columns; c += o.block_columns)
-        list.push_back({r, std::min(o.block_rows, p.format.rows - r), c, std::min(o.block_columns, p.format.columns - c)});
+        list.push_back(
+            {r, std::min(o.block_rows, p.format.rows - r), c, std::min(o.block_columns, p.format.columns - c)});
   }
   h += "<section class=\"wells\">\n<h3>Well traces</h3>\n";
   if (!p.has_traces)
     h += "<p class=\"note\">No traces table was given: panels show the window but no curve (pass --traces).</p>\n";
   h += fmt::format(
-      "<p class=\"note\">One panel per well: {} against time. Each panel's vertical axis spans its own well's range; the "
+      "<p class=\"note\">One panel per well: {} against time. Each panel's vertical axis spans its own well's range; "
+      "the "
       "number at the top right is v0 ({}); flags are written at the bottom.</p>\n",
       p.converted ? "concentration" : "signal change", escape(display_unit(p.v0_unit)));
   h += "<div class=\"key-row\">" + panel_key() + "</div>\n";
@@ -421,9 +426,10 @@ std::string render_plate(const PlateView& p, const ReportOptions& o) {
   }
   for (const auto& b : list) {
     if (blocks)
-      h += fmt::format("<section class=\"block\" id=\"{}\"><h4>{} <a class=\"up\" href=\"#{}\">back to the heat "
-                       "map</a></h4>\n",
-                       block_id(p, b), block_title(b), p.id);
+      h += fmt::format(
+          "<section class=\"block\" id=\"{}\"><h4>{} <a class=\"up\" href=\"#{}\">back to the heat "
+          "map</a></h4>\n",
+          block_id(p, b), block_title(b), p.id);
     h += "<figure class=\"panel-grid\">" + panel_grid(p, b) + "</figure>\n";
     if (blocks) h += "</section>\n";
   }

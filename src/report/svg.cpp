@@ -1,10 +1,10 @@
 #include "vzero/svg.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <array>
 #include <cassert>
 #include <cmath>
-#include <fmt/format.h>
 
 namespace vzero::svg {
 
@@ -47,8 +47,10 @@ double nice_number(double x, bool round, int& exponent, double& fraction_out) {
   exponent = static_cast<int>(std::floor(std::log10(x)));
   double f = x / std::pow(10.0, exponent);
   double nf;
-  if (round) nf = f < 1.5 ? 1 : f < 3 ? 2 : f < 7 ? 5 : 10;
-  else nf = f <= 1 ? 1 : f <= 2 ? 2 : f <= 5 ? 5 : 10;
+  if (round)
+    nf = f < 1.5 ? 1 : f < 3 ? 2 : f < 7 ? 5 : 10;
+  else
+    nf = f <= 1 ? 1 : f <= 2 ? 2 : f <= 5 ? 5 : 10;
   if (nf == 10) nf = 1, ++exponent;
   fraction_out = nf;
   return exponent >= 0 ? nf * std::pow(10.0, exponent) : nf / std::pow(10.0, -exponent);
@@ -77,7 +79,9 @@ int hex_digit(char c) {
 
 Rgb parse_hex(std::string_view hex) {
   if (hex.size() != 7 || hex[0] != '#') return {0, 0, 0};
-  auto byte = [&](int i) { return (hex_digit(hex[static_cast<std::size_t>(i)]) * 16 + hex_digit(hex[static_cast<std::size_t>(i + 1)])) / 255.0; };
+  auto byte = [&](int i) {
+    return (hex_digit(hex[static_cast<std::size_t>(i)]) * 16 + hex_digit(hex[static_cast<std::size_t>(i + 1)])) / 255.0;
+  };
   return {to_linear(byte(1)), to_linear(byte(3)), to_linear(byte(5))};
 }
 
@@ -96,11 +100,21 @@ std::string escape(std::string_view text) {
   out.reserve(text.size());
   for (char c : text) {
     switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      case '\'': out += "&#39;"; break;
+      case '&':
+        out += "&amp;";
+        break;
+      case '<':
+        out += "&lt;";
+        break;
+      case '>':
+        out += "&gt;";
+        break;
+      case '"':
+        out += "&quot;";
+        break;
+      case '\'':
+        out += "&#39;";
+        break;
       default:
         if (static_cast<unsigned char>(c) < 0x20 && c != '\t' && c != '\n' && c != '\r') break;
         out += c;
@@ -170,7 +184,8 @@ std::string tick_label(double v, const Ticks& t) {
   double reach = std::max(std::fabs(t.lo), std::fabs(t.hi));
   if (t.step < 1e-4 || reach >= 1e6) {
     // Enough significant digits to tell neighbouring ticks apart.
-    int digits = static_cast<int>(std::floor(std::log10(std::fabs(v)))) - static_cast<int>(std::floor(std::log10(t.step))) + 1;
+    int digits =
+        static_cast<int>(std::floor(std::log10(std::fabs(v)))) - static_cast<int>(std::floor(std::log10(t.step))) + 1;
     std::string s = fmt::format("{:.{}e}", v, std::clamp(digits - 1, 0, 15));
     tidy_exponent(s);
     return with_true_minus(s);
@@ -274,12 +289,16 @@ void Document::markers(const std::vector<Point>& points, Marker shape, double s,
   for (const auto& p : points) {
     if (!std::isfinite(p.x) || !std::isfinite(p.y)) continue;
     switch (shape) {
-      case Marker::dot: d += "M" + n(p.x) + " " + n(p.y) + "h0"; break;
+      case Marker::dot:
+        d += "M" + n(p.x) + " " + n(p.y) + "h0";
+        break;
       case Marker::circle:
         d += "M" + n(p.x - s) + " " + n(p.y) + "a" + s1 + " " + s1 + " 0 1 0 " + s2 + " 0a" + s1 + " " + s1 +
              " 0 1 0 -" + s2 + " 0";
         break;
-      case Marker::square: d += "M" + n(p.x - s) + " " + n(p.y - s) + "h" + s2 + "v" + s2 + "h-" + s2 + "z"; break;
+      case Marker::square:
+        d += "M" + n(p.x - s) + " " + n(p.y - s) + "h" + s2 + "v" + s2 + "h-" + s2 + "z";
+        break;
       case Marker::diamond:
         d += "M" + n(p.x) + " " + n(p.y - s) + "l" + s1 + " " + s1 + "l-" + s1 + " " + s1 + "l-" + s1 + " -" + s1 + "z";
         break;
@@ -289,7 +308,9 @@ void Document::markers(const std::vector<Point>& points, Marker shape, double s,
       case Marker::cross:
         d += "M" + n(p.x - s) + " " + n(p.y - s) + "l" + s2 + " " + s2 + "m0 -" + s2 + "l-" + s2 + " " + s2;
         break;
-      case Marker::plus: d += "M" + n(p.x - s) + " " + n(p.y) + "h" + s2 + "m-" + s1 + " -" + s1 + "v" + s2; break;
+      case Marker::plus:
+        d += "M" + n(p.x - s) + " " + n(p.y) + "h" + s2 + "m-" + s1 + " -" + s1 + "v" + s2;
+        break;
     }
   }
   if (d.empty()) return;
@@ -350,8 +371,12 @@ std::string Document::str(const Attrs& attrs) const {
 // ---- Chart ----
 
 Chart::Chart(Document& doc, Box area, Ticks x, Ticks y)
-    : doc_(doc), area_(area), tx_(std::move(x)), ty_(std::move(y)),
-      sx_{tx_.lo, tx_.hi, area.x, area.x + area.width}, sy_{ty_.lo, ty_.hi, area.y + area.height, area.y} {}
+    : doc_(doc),
+      area_(area),
+      tx_(std::move(x)),
+      ty_(std::move(y)),
+      sx_{tx_.lo, tx_.hi, area.x, area.x + area.width},
+      sy_{ty_.lo, ty_.hi, area.y + area.height, area.y} {}
 
 void Chart::axes(std::string_view x_label, std::string_view y_label) {
   const Box& a = area_;

@@ -2,15 +2,15 @@
 #include "core/files.hpp"
 #include "core/text.hpp"
 
+#include <fmt/format.h>
+#include <toml++/toml.h>
 #include <algorithm>
 #include <cctype>
 #include <cerrno>
 #include <cmath>
 #include <cstring>
-#include <fmt/format.h>
 #include <fstream>
 #include <sstream>
-#include <toml++/toml.h>
 
 #include "vzero/error.hpp"
 #include "vzero/table.hpp"
@@ -27,8 +27,8 @@ std::string line_text(std::string_view text, int line) {
     if (at != std::string_view::npos) ++at;
   }
   if (at == std::string_view::npos || at > text.size()) return {};
-  std::string_view l = text.substr(at, text.find('\n', at) == std::string_view::npos ? std::string_view::npos
-                                                                                    : text.find('\n', at) - at);
+  std::string_view l = text.substr(
+      at, text.find('\n', at) == std::string_view::npos ? std::string_view::npos : text.find('\n', at) - at);
   if (!l.empty() && l.back() == '\r') l.remove_suffix(1);
   return std::string(l);
 }

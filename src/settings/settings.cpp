@@ -1,6 +1,6 @@
 // Given options → checked RunSettings, by the rules of the option table.
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 #include <map>
 
 #include "core/text.hpp"
@@ -66,7 +66,8 @@ std::string store(const OptionSpec& o, const std::string& text, bool from_method
         if (!t.empty()) v.list.emplace_back(t);
       }
       break;
-    case OptionKind::text: break;
+    case OptionKind::text:
+      break;
   }
   if (o.number_field) *o.number_field(s) = v.number / o.scale;
   if (o.integer_field) *o.integer_field(s) = static_cast<int>(v.number);
@@ -120,8 +121,10 @@ std::string check_combinations(const AnalysisOptions& a) {
     if (std::isnan(c.epsilon_per_m_cm)) return "Beer–Lambert needs the molar absorption coefficient: give --epsilon";
     int ways = !std::isnan(c.path_cm) + (!std::isnan(c.volume_ul) || !std::isnan(c.well_diameter_mm)) + c.water_peak;
     if (ways == 0)
-      return "Beer–Lambert needs a path length: give --path-cm, or --volume-ul with --well-diameter-mm, or --water-peak";
-    if (ways > 1) return "give only one way to the path length: --path-cm, --volume-ul/--well-diameter-mm, or --water-peak";
+      return "Beer–Lambert needs a path length: give --path-cm, or --volume-ul with --well-diameter-mm, or "
+             "--water-peak";
+    if (ways > 1)
+      return "give only one way to the path length: --path-cm, --volume-ul/--well-diameter-mm, or --water-peak";
     if (std::isnan(c.volume_ul) != std::isnan(c.well_diameter_mm))
       return "the cylinder path needs both --volume-ul and --well-diameter-mm above 0";
   }
@@ -154,8 +157,8 @@ std::vector<GivenOption> with_method_file(std::vector<GivenOption> given, std::s
       throw InputError(Where{path, e.line, e.column}, fmt::format("method key `{}` must be true or false", e.key),
                        {fmt::format("write {} = true", e.key)});
     if (o->kind != OptionKind::flag && e.type == "boolean")
-      throw InputError(Where{path, e.line, e.column}, fmt::format("method key `{}` takes a value, not true/false", e.key),
-                       {"see vzero rates --help"});
+      throw InputError(Where{path, e.line, e.column},
+                       fmt::format("method key `{}` takes a value, not true/false", e.key), {"see vzero rates --help"});
     given.push_back({e.key, e.value, path, e.line, e.column});
   }
   return given;
@@ -185,17 +188,20 @@ ResolvedSettings resolve_settings(const std::vector<GivenOption>& caller_given) 
       r.given.emplace_back(o.name);
     }
     if (o.role != OptionRole::analysis) continue;
-    if (it != by_name.end()) r.recorded.emplace_back(o.name, o.kind == OptionKind::flag
-                                                                 ? (it->second->text == "false" ? "false" : "true")
-                                                                 : it->second->text);
-    else if (o.kind == OptionKind::flag) r.recorded.emplace_back(o.name, "false");
-    else if (!o.default_text.empty()) r.recorded.emplace_back(o.name, o.default_text);
+    if (it != by_name.end())
+      r.recorded.emplace_back(
+          o.name, o.kind == OptionKind::flag ? (it->second->text == "false" ? "false" : "true") : it->second->text);
+    else if (o.kind == OptionKind::flag)
+      r.recorded.emplace_back(o.name, "false");
+    else if (!o.default_text.empty())
+      r.recorded.emplace_back(o.name, o.default_text);
   }
   check_conversion_choice(by_name, r.settings);
   if (std::string why = check_combinations(r.settings.analysis); !why.empty())
-    refuse_combination(by_name, {"epsilon", "path-cm", "volume-ul", "well-diameter-mm", "water-peak",
-                                 "enzyme-mg-column", "well-volume-ul"},
-                       why);
+    refuse_combination(
+        by_name,
+        {"epsilon", "path-cm", "volume-ul", "well-diameter-mm", "water-peak", "enzyme-mg-column", "well-volume-ul"},
+        why);
   return r;
 }
 
@@ -212,7 +218,8 @@ std::string check_analysis_options(const AnalysisOptions& a) {
         return fmt::format("{} is {:g}; expected {}", o.name, shown, describe_range(o.range, o.kind));
     } else if (o.integer_field) {
       const int v = *o.integer_field(s);
-      if (!in_range(v, o.range)) return fmt::format("{} is {}; expected {}", o.name, v, describe_range(o.range, o.kind));
+      if (!in_range(v, o.range))
+        return fmt::format("{} is {}; expected {}", o.name, v, describe_range(o.range, o.kind));
     } else if (o.kind == OptionKind::choice && o.current) {
       const std::string v = o.current(s);
       bool known = false;

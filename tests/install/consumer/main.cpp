@@ -6,7 +6,8 @@
 
 int main(int argc, char** argv) {
   if (argc != 4) return 2;
-  vzero::ResolvedSettings s = vzero::resolve_settings({{"layout", argv[2]}, {"output", argv[3]}, {"signal-only", "true"}});
+  vzero::ResolvedSettings s =
+      vzero::resolve_settings({{"layout", argv[2]}, {"output", argv[3]}, {"signal-only", "true"}});
   s.settings.files = {argv[1]};
   vzero::StringSink sink;
   vzero::RatesOutputs out = vzero::run_rates(s, sink);
