@@ -233,3 +233,23 @@ TEST_CASE("no output replaces an input or another output; a missing output folde
         "vzero fit: -o (rates.csv) is the table rates.csv; vzero never overwrites an input: choose another "
         "output path\n  see: vzero fit --help\n");
 }
+
+TEST_CASE("every output, datapackage.json and the report included, is the same for any thread count") {
+  TempDir dir;
+  const std::string base = "rates " + demo("hydrolase_wide.csv") + " " + demo("hydrolase_grid.txt") + " --layout " +
+                           demo("hydrolase_map.csv") + " --method " + demo("esterase_method.toml") + " -q";
+  for (const char* threads : {"1", "2"}) {
+    std::filesystem::create_directories(dir.path / threads);
+    auto r = run_vzero(base + " --threads " + threads + " -o " + threads + "/rates.csv --traces " + threads +
+                           "/traces.csv --summary " + threads + "/summary.csv --report " + threads + "/report.html",
+                       dir.path.string());
+    INFO(r.describe());
+    REQUIRE(r.status == 0);
+  }
+  for (const char* f : {"rates.csv", "traces.csv", "summary.csv", "datapackage.json", "report.html"}) {
+    CAPTURE(f);
+    CHECK(slurp((dir.path / "1" / f).string()) == slurp((dir.path / "2" / f).string()));
+  }
+  // The thread count is not recorded (it cannot change a result).
+  CHECK(slurp((dir.path / "1" / "datapackage.json").string()).find("\"threads\"") == std::string::npos);
+}
