@@ -26,7 +26,14 @@ std::string nearest_option(const std::string& typed, const po::options_descripti
   std::vector<std::string> names;
   for (const auto& o : visible.options())
     if (!o->long_name().empty()) names.push_back(o->long_name());
-  const std::string best = detail::nearest_name(name, names, 2);
+  std::string best = detail::nearest_name(name, names, 2);
+  // The start of a name is never taken for it (exact names only), but it is suggested.
+  if (best.empty())
+    for (const auto& n : names)
+      if (n.rfind(name, 0) == 0) {
+        best = n;
+        break;
+      }
   return best.empty() ? "" : "--" + best;
 }
 }  // namespace
