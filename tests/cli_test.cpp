@@ -264,3 +264,13 @@ TEST_CASE("a prefix of an option or a mistyped command is never guessed, only su
         "vzero: unknown command \"rate\"; did you mean rates? commands are inspect, rates, fit, report (see vzero "
         "--help)\n");
 }
+
+TEST_CASE("control characters from an input are shown escaped in messages") {
+  TempDir dir;
+  spit(dir / "map.csv", "well,role\nA1,sam\x1b[31mple\x07\n");
+  auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout map.csv -q", dir.path.string());
+  CHECK(r.status == 1);
+  CHECK(r.err.find('\x1b') == std::string::npos);
+  CHECK(r.err.find('\x07') == std::string::npos);
+  CHECK(r.err.find("sam\\x1b[31mple\\x07") != std::string::npos);
+}

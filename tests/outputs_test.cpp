@@ -234,3 +234,26 @@ TEST_CASE("numbers are written as the shortest text that reads back to the same 
   for (double v : {1.0 / 3, 2.0 / 3 * 1e300, 5e-324, 123456789012345680.0})
     CHECK(detail::parse_number(format_number(v)) == v);
 }
+
+TEST_CASE("text a spreadsheet would run as a formula gets a leading apostrophe; numbers stay numbers") {
+  // The guard the OWASP page on CSV injection describes (cells beginning with = + - @, tab or
+  // CR); from memory. A plate-map value, a file or a channel name can begin so.
+  CHECK(csv_field("=HYPERLINK(\"x\")") == "\"'=HYPERLINK(\"\"x\"\")\"");
+  CHECK(csv_field("+cmd") == "'+cmd");
+  CHECK(csv_field("-plate.csv") == "'-plate.csv");
+  CHECK(csv_field("@SUM(A1)") == "'@SUM(A1)");
+  CHECK(csv_field("\tx") == "\"'\tx\"");
+  CHECK(csv_field("-0.5") == "-0.5");
+  CHECK(csv_field("+12") == "+12");
+  CHECK(csv_field("-") == "'-");
+  CHECK(csv_field("a=b") == "a=b");
+  // Through a whole run: a plate-map value and a channel-free export name.
+  vzero::test::TempDir dir;
+  vzero::test::spit((dir.path / "map.csv").string(), "well,role,note\nA1,sample,=1+2\nA2,blank,-\n");
+  vzero::test::spit((dir.path / "plate.csv").string(), "Time [s],A1,A2\n0,0.1,0.1\n10,0.2,0.1\n20,0.3,0.1\n30,0.4,0.1\n40,0.5,0.1\n");
+  auto r = vzero::test::run_vzero("rates plate.csv --layout map.csv --signal-only -q", dir.path.string());
+  INFO(r.describe());
+  REQUIRE(r.status == 0);
+  const Table t = read_table((dir.path / "rates.csv").string());
+  CHECK(t.rows.at(0).at(static_cast<std::size_t>(t.column("note"))) == "'=1+2");
+}

@@ -4,6 +4,8 @@
 #include <cmath>
 #include <cstring>
 
+#include "core/text.hpp"
+
 namespace vzero::detail {
 
 bool csv_needs_quotes(std::string_view s) {
@@ -24,7 +26,20 @@ bool csv_needs_quotes(std::string_view s) {
   return quote;
 }
 
+bool starts_formula(std::string_view s) {
+  if (s.empty()) return false;
+  const char c = s.front();
+  if (c != '=' && c != '+' && c != '-' && c != '@' && c != '\t' && c != '\r') return false;
+  return !parse_number(s).has_value();  // "-0.5" stays a number
+}
+
 void CsvOut::field(std::string_view s) {
+  if (starts_formula(s)) {
+    // A spreadsheet would run it: written as text with a leading apostrophe.
+    std::string guarded = "'" + std::string(s);
+    field(guarded);
+    return;
+  }
   if (!csv_needs_quotes(s)) {
     append(s);
     return;

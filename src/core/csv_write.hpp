@@ -6,6 +6,11 @@
 // of k_csv_quote_chars: ',' '"' CR LF as RFC 4180 requires, and also ';' and tab, so that a
 // reader guessing the delimiter (vzero's read_table does) cannot split it.
 //
+// Text that a spreadsheet would run as a formula — a cell beginning with '=', '+', '-', '@',
+// tab or CR that is not a number (plate-map values, file and channel names come from users
+// and instruments) — is written with a leading apostrophe ('=SUM(A1) → "'=SUM(A1)"), the
+// usual guard against CSV formula injection; numbers such as -0.5 stay numbers.
+//
 // **Example**:
 //   vzero::detail::CsvOut out;
 //   out.field("A1;B2");  out.separator();  out.number(0.1);  out.end_row();
@@ -30,6 +35,8 @@ inline constexpr std::array<bool, 256> k_csv_quote_bytes = [] {
 }();
 
 bool csv_needs_quotes(std::string_view text);
+// True for text a spreadsheet would take as a formula (see above).
+bool starts_formula(std::string_view text);
 
 class CsvOut {
  public:
