@@ -127,9 +127,10 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
   const double sign = o.direction == Direction::down ? -1.0 : 1.0;
   ca.direction_sign = sign;
   ca.rows.resize(static_cast<std::size_t>(cols));
-  // Absorbance has a linear range: without a ceiling given, the absorbance limit is it.
+  // Absorbance has a linear range: its ceiling is the lower of the one given and the
+  // absorbance limit (stray light compresses readings before the detector's stated limit).
   RateOptions rate_options = o.rates;
-  if (std::isnan(rate_options.signal_ceiling) && c.quantity == Quantity::absorbance)
+  if (c.quantity == Quantity::absorbance && !(rate_options.signal_ceiling <= rate_options.absorbance_limit))
     rate_options.signal_ceiling = rate_options.absorbance_limit;
   parallel_for(cols, o.threads, [&](int j) {
     RateRow& row = ca.rows[static_cast<std::size_t>(j)];

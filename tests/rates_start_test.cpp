@@ -8,6 +8,7 @@
 
 #include "rates/start_screen.hpp"
 #include "test_support.hpp"
+#include "vzero/blank.hpp"
 #include "vzero/rates.hpp"
 
 namespace {
@@ -166,4 +167,79 @@ TEST_CASE("the initial tangent needs enough reads for its second parameter") {
   CHECK(vzero::find_rate(tr.view(1e-5), opt).tangent == "slope");
   opt.tangent_min_reads = 5;
   CHECK(vzero::find_rate(tr.view(1e-5), opt).tangent == "parabola");
+}
+
+TEST_CASE("a window whose rate still rises is flagged rising") {
+  // y = 1e-5·t² (a rate rising from zero) at t = 0, 10, …, 190 s; the lag check is off and
+  // the only window rule ends the window at eight reads (t ≤ 70 s). Over those reads the
+  // parabola holds exactly: square term 1e-5 AU/s², far beyond its SE from the 1e-4 AU read
+  // noise, and the slope changes by 2·1e-5·70 = 0.0014 AU/s across the window, twice the
+  // line's slope (0.0007 AU/s): a significant upward bend, so `rising`.
+  Trace tr;
+  for (int i = 0; i < 20; ++i) {
+    tr.t.push_back(10.0 * i);
+    tr.y.push_back(1e-5 * 100.0 * i * i);
+  }
+  tr.st.assign(20, ReadStatus::ok);
+  const std::vector<vzero::WindowRule> rules = {
+      {"eight-reads", 1, false, [](const vzero::WindowCandidate& c, const vzero::RateOptions&) { return c.n > 8 ? -1 : 0; }}};
+  vzero::RateOptions opt;
+  opt.detect_lag = false;
+  opt.window_rules = &rules;
+  const auto r = vzero::find_rate(tr.view(1e-4), opt);
+  CHECK(r.n_points == 8);
+  CHECK(r.window_end == "eight-reads");
+  CHECK(has_flag(r, "rising"));
+  // A straight line through the same reads is not rising.
+  Trace line = disturbed_line(20, 10, 0.001, 0, 0);
+  CHECK(!has_flag(vzero::find_rate(line.view(1e-4), opt), "rising"));
+}
+
+TEST_CASE("a trace at the detector's maximum is saturated, never noise or negative") {
+  // Six reads at exactly 3.0 (the detector's top reading), then overflow: a plateau. No read
+  // lies below it, so the rate comes from the plateau (slope 0, an interval holding 0) and
+  // the flag is `saturated`, not `noise` or `negative`.
+  Trace full;
+  for (int i = 0; i < 10; ++i) full.t.push_back(30.0 * i);
+  full.y.assign(10, 3.0);
+  full.st.assign(10, ReadStatus::ok);
+  for (int i = 6; i < 10; ++i) full.st[static_cast<std::size_t>(i)] = ReadStatus::overflow;
+  vzero::RateOptions opt;
+  const auto r = vzero::find_rate(full.view(0.001), opt);
+  CHECK(has_flag(r, "saturated"));
+  CHECK(has_flag(r, "overflow"));
+  CHECK(!has_flag(r, "noise"));
+  CHECK(!has_flag(r, "negative"));
+  // Five rising reads (0.1 AU per 30 s), two at 3.0, then overflow: the window stops at the
+  // plateau, the rate is 0.1/30 AU/s exactly, and nothing is flagged saturated.
+  for (int i = 0; i < 5; ++i) full.y[static_cast<std::size_t>(i)] = 0.1 * i;
+  full.st[6] = ReadStatus::ok;
+  const auto s = vzero::find_rate(full.view(0.001), opt);
+  CHECK(s.window_end == "saturated");
+  CHECK(s.n_points == 5);
+  CHECK(std::fabs(s.slope / (0.1 / 30) - 1) < 1e-12);
+  CHECK(!has_flag(s, "saturated"));
+}
+
+TEST_CASE("a blank with a disturbed start is found and replaced by its line") {
+  // Blank: 0.05 + 1e-4·t AU at t = 0, 10, …, 190 s, read noise ±0.001 AU alternating (its
+  // second differences are ±0.004, so the robust SD is 1.4826·0.004/√6 = 0.00242 AU), and a
+  // first read 0.05 AU high that decays with τ = Δt/3 (0.05·e^(−3) = 0.00249 AU left at the
+  // second read). The jump is ~20 noise SDs; reads 0 and 1 are above one noise SD (0.05 and
+  // 0.00249 > 0.00242), read 2 is not (0.000124): two reads are set aside. The line through
+  // the other 18 reads: the alternating noise moves its slope by about
+  // 0.001·10·9/Σ(t − t̄)² = 0.09/48450 ≈ 1.9e-6 AU/s (about 2 %, checked within 3 %).
+  std::vector<double> t, y;
+  for (int i = 0; i < 20; ++i) {
+    t.push_back(10.0 * i);
+    y.push_back(0.05 + 1e-4 * 10 * i + (i % 2 ? -0.001 : 0.001) + (i == 0 ? 0.05 : 0.05 * std::exp(-3.0 * i)));
+  }
+  const std::vector<ReadStatus> st(20, ReadStatus::ok);
+  double slope = NAN, intercept = NAN;
+  CHECK(vzero::screen_blank_start(t, y.data(), st.data(), slope, intercept) == 2);
+  CHECK(std::fabs(slope / 1e-4 - 1) < 0.03);
+  // Without the jump the blank is clean.
+  y[0] -= 0.05;
+  for (int i = 1; i < 20; ++i) y[static_cast<std::size_t>(i)] -= 0.05 * std::exp(-3.0 * i);
+  CHECK(vzero::screen_blank_start(t, y.data(), st.data(), slope, intercept) == 0);
 }

@@ -12,6 +12,10 @@
 //   2. Spikes are kept out of the search: a read more than `outlier_k` robust SDs from the
 //      Theil–Sen line through its six nearest neighbours, while those neighbours agree with
 //      their line (at a sharp bend they do not, and nothing is a spike there).
+//   2b. Disturbed start (`detect_disturbed`, src/rates/start_screen.hpp): the first dozen
+//      screened reads are fitted with a line (a parabola when its square term shows) plus a
+//      disturbance decaying within 1, 2 or 3 reads; beyond 5 SE, the reads it moves by more
+//      than the read noise (at most 4) are set aside and its remainder is taken off the rest.
 //   3. Lag (`detect_lag`): the slopes of runs of `min_points` reads starting at each of the
 //      first half of the reads are compared. If the steepest run is steeper than the first
 //      by more than 4 standard errors (from `noise_sd`, else the spike screen's noise
@@ -25,14 +29,19 @@
 //      Three curved candidates in a row, bending the same way, end the growth at the last
 //      straight one; one curved candidate among straight ones is noise. A window bending
 //      upwards (rate rising) moves the start one read later instead (a lag the scan missed),
-//      up to half the usable reads. Growth also stops before the candidate's line implies
-//      more than `max_conversion` of `substrate` converted since `time_zero_s`
-//      (slope × (end − time zero) × conc_per_signal / substrate).
+//      up to half the usable reads. Growth also stops before more than `max_conversion` of
+//      `substrate` is converted since `time_zero_s`, read off the curve: the candidate's line
+//      at its end minus the baseline at time zero (the line of the first `min_points`
+//      undisturbed reads there), times conc_per_signal / substrate. These stopping rules are
+//      the table `default_window_rules()` (or `window_rules`); the one that ends the window
+//      is named in `window_end`. A chosen window that still bends upwards is flagged `rising`.
 //   5. In the window, a read whose residual from the Theil–Sen line (fitted to the window's
 //      reads that passed the spike screen) exceeds `outlier_k` × 1.4826 × MAD of the
 //      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from
 //      the remaining reads with `estimator`.
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
+//   7. `imprecise` when the 95 % half-width (the interval, or 1.96 × read noise / √Σ(t − t̄)²
+//      when larger, combined with 1.96 × `rate_sd`) exceeds `precision_limit` of the rate.
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
@@ -45,7 +54,11 @@
 //   nonlinear       even the shortest window (`min_points`, `min_span_s`) is curved: no
 //                   straight stretch long enough
 //   depleted        the conversion limit is passed before the shortest window ends
+//   disturbed       the first reads jumped or decayed (a disturbed start); they were set aside
 //   lag             the rate rose over the first reads; they were skipped
+//   rising          the rate still rises across the chosen window (significant upward bend)
+//   saturated       the rate comes from reads at the detector's plateau (never noise/negative)
+//   imprecise       the 95 % half-width exceeds `precision_limit` of the rate
 //   outliers        reads in the window were rejected as outliers (count in n_outliers)
 //   noise           the rate is not distinguishable from noise: its 95 % interval holds 0,
 //                   or it is below `lod_factor` × the slope SD that blank noise alone gives
@@ -83,7 +96,7 @@ bool parse_window_method(std::string_view text, WindowMethod& out);
 
 // When v0 is the initial tangent of a parabola instead of the straight-line slope.
 //   never:  always the straight-line slope of the window
-//   auto:   the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
+//   auto:   (needs `tangent_min_reads` reads in the parabola) the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
 //           the window's kept reads and the usable reads after it, up to `tangent_reach`
 //           times the window's length (one pass of the outlier rule against the parabola).
 //           Used only when (a) the parabola bends down significantly (one-sided t-test at
@@ -107,7 +120,7 @@ struct RateOptions {
   double skip_s = 0.0;             // dead time after mixing: reads before it are not used, seconds
   double max_conversion = 0.10;    // fraction of `substrate` that may be converted in the window
   double signal_ceiling = NAN;     // detector linear limit in raw signal units; NaN = none
-  double absorbance_limit = 3.0;   // AU: the ceiling of absorbance channels when signal_ceiling is not given
+  double absorbance_limit = 2.0;   // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
                                    // (applied by the pipeline, src/analysis.cpp; not by find_rate)
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;

@@ -41,6 +41,7 @@ double tiny_floor(const Usable& u);
 struct WindowChoice {
   int first = 0, last = 0;
   bool too_few = false, nonlinear = false, depleted = false, lag = false;
+  bool rising = false;           // the rate still rises across the chosen window (significant upward bend)
   int disturbed = 0;             // reads set aside as a disturbed start (usable positions 0 … disturbed − 1, spikes counted)
   int undisturbed = 0;           // usable position of the first read after the disturbed start
   double baseline = NAN;         // the trace's signal at reaction start (the conversion limit's zero)

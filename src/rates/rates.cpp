@@ -182,6 +182,7 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   if (w.depleted) add_flag(r, "depleted");
   if (w.disturbed > 0) add_flag(r, "disturbed");
   if (w.lag) add_flag(r, "lag");
+  if (w.rising) add_flag(r, "rising");
   r.window_end = w.end;
   r.disturbed_reads = w.disturbed;
   r.disturbed_offset = start.offset;

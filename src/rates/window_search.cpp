@@ -17,9 +17,13 @@ constexpr int k_confirm = 3;
 // Fewest reads on which the curvature test is run (2 residual degrees of freedom).
 constexpr int k_min_test_reads = 5;
 
+}  // namespace
+
 bool significant_bend(int n, double c, double se, double drift, double slope, double tc, const RateOptions& opt) {
   return n >= k_min_test_reads && se > 0 && std::fabs(c) > tc * se && std::fabs(drift) > opt.slope_drift * std::fabs(slope);
 }
+
+namespace {
 
 // Curved when the parabola's square term is significant and matters; the first read of the
 // window must not carry the verdict alone (mixing often disturbs it), so the window without
@@ -53,6 +57,8 @@ const std::vector<WindowRule>& default_window_rules() {
 
 namespace vzero::detail {
 namespace {
+
+using vzero::significant_bend;
 
 std::size_t z(int i) { return static_cast<std::size_t>(i); }
 
@@ -284,6 +290,12 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
     else if (end == run_out) w.too_few = e0 - s < p;
   } else {
     as_usable(s, accepted);
+    // A window whose rate still rises (a lag not over by its end, often because another
+    // rule ended it early) underestimates v0: significant upward bend, as the curvature rule
+    // judges it.
+    const WindowCandidate c = candidate(stats, ct, s, accepted, sd_floor, t_ref, baseline, limit_signal, t_crit);
+    w.rising = opt.linearity_alpha > 0 && c.curvature > 0 &&
+               significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, opt);
   }
   w.end = end;
   return w;

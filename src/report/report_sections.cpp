@@ -40,6 +40,7 @@ std::string flag_meaning(const std::string& flag) {
       {"depleted", "the conversion limit was passed before the shortest window ended"},
       {"lag", "the rate rose over the first reads; they were skipped"},
       {"disturbed", "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
+      {"rising", "the rate still rises across the window (a lag not over): v0 is underestimated"},
       {"imprecise", "the rate's 95 % interval is wider than the precision limit allows"},
       {"saturated", "the trace sat at the detector's maximum: its rate says nothing about the enzyme"},
       {"blank-disturbed", "this blank's first reads jumped or decayed; its fitted line stands in for them"},

@@ -262,10 +262,11 @@ std::vector<OptionSpec> make_table() {
                      "percent of the well's substrate the window may convert", 100));
   t.push_back(number("signal-ceiling", k_rate, "", "signal", k_any, [](S& s) { return &s.analysis.rates.signal_ceiling; },
                      "detector linear limit, raw signal units: reads above it are not used"));
-  t.push_back(number("absorbance-limit", k_rate, "3", "AU", k_positive,
+  t.push_back(number("absorbance-limit", k_rate, "2", "AU", k_positive,
                      [](S& s) { return &s.analysis.rates.absorbance_limit; },
-                     "upper end of the linear range of absorbance channels, AU (common practice: about 3 AU on "
-                     "plate readers); the ceiling when --signal-ceiling is not given"));
+                     "upper end of the linear range of absorbance channels, AU (common practice: stray light "
+                     "compresses plate readings above about 2 AU); their ceiling is the lower of this and "
+                     "--signal-ceiling"));
   t.push_back(number("outlier-cut", k_rate, "4", "robust SD", k_positive, [](S& s) { return &s.analysis.rates.outlier_k; },
                      "a read further than this many robust SDs (1.4826·MAD) from the window's line is an outlier"));
   t.push_back(number("curvature-alpha", k_rate, "0.01", "", k_alpha,
