@@ -127,6 +127,11 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
   const double sign = o.direction == Direction::down ? -1.0 : 1.0;
   ca.direction_sign = sign;
   ca.rows.resize(static_cast<std::size_t>(cols));
+  // Absorbance has a linear range: its ceiling is the lower of the one given and the
+  // absorbance limit (stray light compresses readings before the detector's stated limit).
+  RateOptions rate_options = o.rates;
+  if (c.quantity == Quantity::absorbance && !(rate_options.signal_ceiling <= rate_options.absorbance_limit))
+    rate_options.signal_ceiling = rate_options.absorbance_limit;
   parallel_for(cols, o.threads, [&](int j) {
     RateRow& row = ca.rows[static_cast<std::size_t>(j)];
     row.plate_index = c.wells[static_cast<std::size_t>(j)];
@@ -134,7 +139,11 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     row.info = map.find(row.well);
     row.role = row.info ? row.info->role : Role::empty;
     const WellBlank& wb = ca.blank.wells[static_cast<std::size_t>(j)];
-    for (const auto& f : wb.flags) add_flag(row.flags, f);
+    // Flags by role: only what can be judged of a well's role is said of it.
+    if (row.role != Role::empty)
+      for (const auto& f : wb.flags)
+        if (!(row.role == Role::standard && f == "blank-missing")) add_flag(row.flags, f);
+    for (const auto& n : wb.notes) add_flag(row.notes, n);
     std::vector<double> y(static_cast<std::size_t>(reads));
     for (int i = 0; i < reads; ++i) y[static_cast<std::size_t>(i)] = sign * ca.blank.corrected(i, j);
     TraceView tv;
@@ -150,20 +159,39 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
       if (row.info) tv.substrate = row.info->substrate;
     }
     tv.noise_sd = wb.blank_noise_sd;
-    row.rate = find_rate(tv, o.rates);
+    tv.rate_sd = wb.blank_rate_sd;
+    row.rate = find_rate(tv, rate_options);
     // Corrections the finder made are notes; the rest withhold trust. Overflow and ceiling
     // reads are notes when the window simply leaves them out; a rate taken from reads at or
     // above the ceiling (because no read was below it) keeps `ceiling` as a flag.
     bool used_high = false;
-    if (!std::isnan(o.rates.signal_ceiling))
+    if (!std::isnan(rate_options.signal_ceiling))
       for (int i = 0; i < reads; ++i)
         used_high |= !row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] &&
-                     c.values(i, j) >= o.rates.signal_ceiling;
+                     c.values(i, j) >= rate_options.signal_ceiling;
     for (const auto& f : row.rate.flags) {
-      bool note = f == "lag" || f == "outliers" || f == "overflow" || (f == "ceiling" && !used_high);
+      bool note = f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
+      if (row.role == Role::empty) continue;  // nothing to judge
+      if (row.role == Role::blank) {
+        // A blank is judged as a blank: scatter (blank-noisy) and a disturbed start
+        // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts.
+        if (f == "nonlinear") add_flag(row.flags, "blank-drift");
+        else if (note) add_flag(row.notes, f);
+        continue;
+      }
+      if (row.role == Role::standard) {
+        // A standard is a level, not a rate: only reads it cannot be judged by count.
+        bool level = f == "too-few-reads" || f == "ceiling" || f == "saturated";
+        if (level && !note) add_flag(row.flags, f);
+        else if (note) add_flag(row.notes, f);
+        continue;
+      }
       add_flag(note ? row.notes : row.flags, f);
     }
-    if (row.role == Role::empty) add_flag(row.flags, "empty");
+    if (row.role == Role::empty) add_flag(row.notes, "empty");
+    // No substrate known (or no concentration scale): the window had no conversion limit.
+    if (row.role == Role::sample && !(tv.substrate > 0 && std::isfinite(tv.conc_per_signal)))
+      add_flag(row.notes, "no-limit");
     if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor))) add_flag(row.flags, "no-path");
     double slope = row.rate.slope;
     double blank_rate = sign * wb.blank_rate;

@@ -5,6 +5,8 @@
 #include <fmt/format.h>
 #include <map>
 
+#include "rates/start_screen.hpp"
+
 namespace vzero {
 
 std::string_view to_string(BlankStrategy s) {
@@ -59,6 +61,18 @@ Line fit_line(const std::vector<double>& t, const double* y, const ReadStatus* s
   return l;
 }
 
+// Robust read-noise SD from second differences of consecutive ok reads (Var = 6σ² for white noise).
+double second_difference_sd(const std::vector<double>& y) {
+  std::vector<double> d;
+  for (std::size_t i = 1; i + 1 < y.size(); ++i) d.push_back(std::fabs(y[i + 1] - 2 * y[i] + y[i - 1]));
+  if (d.empty()) return NAN;
+  const auto mid = d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2);
+  std::nth_element(d.begin(), mid, d.end());
+  double med = *mid;
+  if (d.size() % 2 == 0) med = 0.5 * (med + *std::max_element(d.begin(), mid));
+  return 1.4826 * med / std::sqrt(6.0);
+}
+
 // Channel columns of the blank wells serving `column`, by strategy.
 std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o, int column,
                             const std::vector<int>& all_blanks) {
@@ -77,6 +91,26 @@ std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f
 
 }  // namespace
 
+int screen_blank_start(const std::vector<double>& time_s, const double* y, const ReadStatus* st, double& slope,
+                       double& intercept) {
+  std::vector<double> t, v;
+  std::vector<std::size_t> at;
+  for (std::size_t i = 0; i < time_s.size(); ++i)
+    if (st[i] == ReadStatus::ok && std::isfinite(y[i])) {
+      t.push_back(time_s[i]);
+      v.push_back(y[i]);
+      at.push_back(i);
+    }
+  slope = intercept = NAN;
+  const double sd = second_difference_sd(v);
+  const detail::StartScreen s = detail::screen_start(t.data(), v.data(), static_cast<int>(t.size()), 5, sd);
+  if (s.skip == 0) return 0;
+  const Line l = fit_line(time_s, y, st, time_s[at[static_cast<std::size_t>(s.skip)]], INFINITY);
+  slope = l.slope;
+  intercept = l.intercept;
+  return std::isfinite(l.slope) ? s.skip : 0;
+}
+
 BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
   const Eigen::Index reads = c.values.rows(), cols = c.values.cols();
   BlankResult r;
@@ -93,10 +127,37 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   // Each blank well's own line and scatter.
   std::map<int, Line> blank_line;
   std::vector<double> sds;
+  // A blank with a disturbed start stands in by its line after the disturbance.
+  std::map<int, Line> disturbed;
   for (int b : all_blanks) {
-    Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), -INFINITY, INFINITY);
+    double slope = NAN, intercept = NAN;
+    const int skip = screen_blank_start(c.time_s, c.values.col(b).data(), c.status.col(b).data(), slope, intercept);
+    double from = -INFINITY;
+    if (skip > 0) {
+      int seen = 0;
+      for (std::size_t i = 0; i < c.time_s.size(); ++i)
+        if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok && std::isfinite(c.values(static_cast<Eigen::Index>(i), b)) &&
+            seen++ == skip) { from = c.time_s[i]; break; }
+    }
+    Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
+    if (skip > 0) disturbed[b] = l;
     blank_line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
+  }
+  // Well-to-well drift: the robust SD of the blank wells' own rates.
+  double rate_sd = NAN;
+  {
+    std::vector<double> slopes;
+    for (int b : all_blanks)
+      if (std::isfinite(blank_line[b].slope)) slopes.push_back(blank_line[b].slope);
+    if (slopes.size() >= 3) {
+      std::sort(slopes.begin(), slopes.end());
+      const std::size_t h = slopes.size() / 2;
+      const double med = slopes.size() % 2 ? slopes[h] : 0.5 * (slopes[h - 1] + slopes[h]);
+      for (double& v : slopes) v = std::fabs(v - med);
+      std::sort(slopes.begin(), slopes.end());
+      rate_sd = 1.4826 * (slopes.size() % 2 ? slopes[h] : 0.5 * (slopes[h - 1] + slopes[h]));
+    }
   }
   double median_sd = NAN;
   if (sds.size() >= 3) {
@@ -110,6 +171,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     std::string names;       // well_set_text of the blanks
     double noise_sd = NAN;   // pooled residual SD of the blanks
     bool noisy = false;      // one of them is blank-noisy
+    bool line = false;       // one of them had a disturbed start: its line stands in
     double rate = NAN;       // slope of the mean trace
   };
   std::map<std::vector<int>, SharedBlank> cache;
@@ -122,6 +184,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       wb.blank_rate = l.slope;
       wb.blank_noise_sd = l.resid_sd;
       if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) wb.flags.emplace_back("blank-noisy");
+      if (disturbed.count(static_cast<int>(j))) wb.flags.emplace_back("blank-disturbed");
       continue;
     }
     if (o.strategy == BlankStrategy::none) continue;
@@ -153,17 +216,24 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       for (Eigen::Index i = 0; i < reads; ++i) {
         double s = 0;
         int n = 0;
-        for (int b : use)
-          if (c.status(i, b) == ReadStatus::ok) { s += c.values(i, b); ++n; }
+        for (int b : use) {
+          if (c.status(i, b) != ReadStatus::ok) continue;
+          const auto d = disturbed.find(b);
+          s += d == disturbed.end() ? c.values(i, b) : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
+          ++n;
+        }
         if (n > 0) { sb.mean(i) = s / n; sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok; }
       }
+      for (int b : use) sb.line |= disturbed.count(b) > 0;
       sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
       it = cache.emplace(use, std::move(sb)).first;
     }
     const SharedBlank& sb = it->second;
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
+    if (sb.line) wb.notes.emplace_back("blank-line");
     wb.blank_noise_sd = sb.noise_sd;
+    wb.blank_rate_sd = rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;
     const Eigen::VectorXd& mean = sb.mean;
     const std::vector<ReadStatus>& st = sb.st;

@@ -220,7 +220,7 @@ TEST_CASE("a 10 % conversion limit picks exactly the first four reads of the pro
   CHECK(r.flags.empty());
 
   SUBCASE("the initial tangent comes closer to v0 = 6.6667 µM/min than the line") {
-    opt.tangent = vzero::TangentMode::curved;
+    opt.tangent = vzero::TangentMode::automatic;
     const auto c = vzero::find_rate(tr.view(100.0, 1.0), opt);
     CHECK(c.tangent == "parabola");
     CHECK_REL(c.line_slope * 60, 6.55184564678307, 1e-12);

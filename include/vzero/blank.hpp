@@ -43,7 +43,12 @@ struct WellBlank {
   std::string blank_wells;     // wells averaged for this well (well_set_text: "D1;D2", "A45:AF48"), "" when none
   double blank_rate = NAN;     // slope of the blank trace, signal units per second (OLS, all reads)
   double blank_noise_sd = NAN; // residual SD of the blank wells about their lines, signal units
-  std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"
+  double blank_rate_sd = NAN;  // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
+                               // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
+  std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank
+                                   // wells also "blank-disturbed" (its start jumps or decays)
+  std::vector<std::string> notes;  // e.g. "blank-line": a blank used here had a disturbed start, so its
+                                   // fitted line (reads after the disturbance) was subtracted instead
 };
 
 struct BlankResult {
@@ -52,6 +57,14 @@ struct BlankResult {
   StatusMatrix status;        // raw status; `excluded` where the blank has no value at that read
   std::vector<WellBlank> wells;  // one per channel column
 };
+
+// One blank well's start, screened as a sample's is (src/rates/start_screen.hpp: a jump or a
+// decay over the first reads that the rest does not continue), with the well's own robust
+// read noise (second differences). Returns how many of its first ok reads are disturbed (0 =
+// clean); `slope` and `intercept` receive the OLS line of the ok reads after them. A blank with
+// a disturbed start is never subtracted read by read: its line stands in for its reads.
+int screen_blank_start(const std::vector<double>& time_s, const double* y, const ReadStatus* status, double& slope,
+                       double& intercept);
 
 BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
 

@@ -12,6 +12,10 @@
 //   2. Spikes are kept out of the search: a read more than `outlier_k` robust SDs from the
 //      Theil–Sen line through its six nearest neighbours, while those neighbours agree with
 //      their line (at a sharp bend they do not, and nothing is a spike there).
+//   2b. Disturbed start (`detect_disturbed`, src/rates/start_screen.hpp): the first dozen
+//      screened reads are fitted with a line (a parabola when its square term shows) plus a
+//      disturbance decaying within 1, 2 or 3 reads; beyond 5 SE, the reads it moves by more
+//      than the read noise (at most 4) are set aside and its remainder is taken off the rest.
 //   3. Lag (`detect_lag`): the slopes of runs of `min_points` reads starting at each of the
 //      first half of the reads are compared. If the steepest run is steeper than the first
 //      by more than 4 standard errors (from `noise_sd`, else the spike screen's noise
@@ -25,14 +29,19 @@
 //      Three curved candidates in a row, bending the same way, end the growth at the last
 //      straight one; one curved candidate among straight ones is noise. A window bending
 //      upwards (rate rising) moves the start one read later instead (a lag the scan missed),
-//      up to half the usable reads. Growth also stops before the candidate's line implies
-//      more than `max_conversion` of `substrate` converted since `time_zero_s`
-//      (slope × (end − time zero) × conc_per_signal / substrate).
+//      up to half the usable reads. Growth also stops before more than `max_conversion` of
+//      `substrate` is converted since `time_zero_s`, read off the curve: the candidate's line
+//      at its end minus the baseline at time zero (the line of the first `min_points`
+//      undisturbed reads there), times conc_per_signal / substrate. These stopping rules are
+//      the table `default_window_rules()` (or `window_rules`); the one that ends the window
+//      is named in `window_end`. A chosen window that still bends upwards is flagged `rising`.
 //   5. In the window, a read whose residual from the Theil–Sen line (fitted to the window's
 //      reads that passed the spike screen) exceeds `outlier_k` × 1.4826 × MAD of the
 //      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from
 //      the remaining reads with `estimator`.
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
+//   7. `imprecise` when the 95 % half-width (the interval, or 1.96 × read noise / √Σ(t − t̄)²
+//      when larger, combined with 1.96 × `rate_sd`) exceeds `precision_limit` of the rate.
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
@@ -45,7 +54,11 @@
 //   nonlinear       even the shortest window (`min_points`, `min_span_s`) is curved: no
 //                   straight stretch long enough
 //   depleted        the conversion limit is passed before the shortest window ends
+//   disturbed       the first reads jumped or decayed (a disturbed start); they were set aside
 //   lag             the rate rose over the first reads; they were skipped
+//   rising          the rate still rises across the chosen window (significant upward bend)
+//   saturated       the rate comes from reads at the detector's plateau (never noise/negative)
+//   imprecise       the 95 % half-width exceeds `precision_limit` of the rate
 //   outliers        reads in the window were rejected as outliers (count in n_outliers)
 //   noise           the rate is not distinguishable from noise: its 95 % interval holds 0,
 //                   or it is below `lod_factor` × the slope SD that blank noise alone gives
@@ -83,7 +96,7 @@ bool parse_window_method(std::string_view text, WindowMethod& out);
 
 // When v0 is the initial tangent of a parabola instead of the straight-line slope.
 //   never:  always the straight-line slope of the window
-//   curved: the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
+//   auto:   (needs `tangent_min_reads` reads in the parabola) the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
 //           the window's kept reads and the usable reads after it, up to `tangent_reach`
 //           times the window's length (one pass of the outlier rule against the parabola).
 //           Used only when (a) the parabola bends down significantly (one-sided t-test at
@@ -95,9 +108,11 @@ bool parse_window_method(std::string_view text, WindowMethod& out);
 //           across the window; the tangent removes that bias at the cost of a larger SE.
 //           Not used with the steepest window.
 //   always: the tangent whenever the parabola can be fitted (≥ 5 reads)
-enum class TangentMode { never, curved, always };
+enum class TangentMode { never, automatic, always };
 std::string_view to_string(TangentMode m);
 bool parse_tangent_mode(std::string_view text, TangentMode& out);
+
+struct WindowRule;
 
 struct RateOptions {
   int min_points = 5;              // fewest reads a window may hold
@@ -105,6 +120,8 @@ struct RateOptions {
   double skip_s = 0.0;             // dead time after mixing: reads before it are not used, seconds
   double max_conversion = 0.10;    // fraction of `substrate` that may be converted in the window
   double signal_ceiling = NAN;     // detector linear limit in raw signal units; NaN = none
+  double absorbance_limit = 2.0;   // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
+                                   // (applied by the pipeline, src/analysis.cpp; not by find_rate)
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
   double linearity_alpha = 0.01;   // significance level of the curvature test; 0 = no test
@@ -113,10 +130,46 @@ struct RateOptions {
   double outlier_k = 4.0;          // outlier cut in robust SDs (1.4826·MAD) of the residuals
   double lod_factor = 3.0;         // limit of detection in blank-noise slope SDs (`noise` flag)
   double time_zero_s = NAN;        // when the reaction started on the trace clock; NaN = first read
-  TangentMode tangent = TangentMode::curved;
+  TangentMode tangent = TangentMode::automatic;
   double tangent_reach = 4.0;      // parabola window length as a multiple of the line window
-  double tangent_alpha = 0.05;     // one-sided significance the parabola's bend needs (tangent = curved)
+  double tangent_alpha = 0.05;     // one-sided significance the parabola's bend needs (tangent = auto)
+  int tangent_min_reads = 10;      // fewest reads the parabola needs before its tangent may be used (tangent = auto)
+  bool detect_disturbed = true;    // set aside a disturbed start (a jump or decay over the first reads)
+  double precision_limit = 0.15;   // relative 95 % half-width above which a rate is flagged `imprecise`; 0 = none
+  const std::vector<WindowRule>* window_rules = nullptr;  // the window search's rules; nullptr = default_window_rules()
 };
+
+// One candidate window as the window search's rules see it: the reads from the window's
+// start up to the one the search is about to add.
+struct WindowCandidate {
+  int n = 0;                     // reads in it (reads the spike screen held out not counted)
+  double t_first_s = NAN, t_last_s = NAN;
+  double slope = NAN;            // least-squares slope, signal units per second
+  double curvature = NAN;        // square term c2 of the least-squares parabola; NaN below 4 reads
+  double curvature_se = NAN;     // its SE (residual SD never below the read noise)
+  double drift = NAN;            // slope change across the window the parabola implies, 2·c2·(span)
+  double critical_t = NAN;       // two-sided t at `linearity_alpha` for n − 3 degrees of freedom
+  int rest_n = 0;                // the same four without the window's first read
+  double rest_slope = NAN, rest_curvature = NAN, rest_curvature_se = NAN, rest_drift = NAN, rest_critical_t = NAN;
+  double product = NAN;          // signal formed since reaction start at t_last_s, from the curve
+  double product_limit = NAN;    // signal the conversion limit allows; NaN = no limit
+};
+
+// A window rule: one entry in the table of rules the window search applies, in order, to
+// every candidate. `judge` gives 0 when the candidate passes, +1 or −1 when it fails (the
+// sign tells which way the trace bends, where that matters). A rule ends the window, at the
+// last candidate every rule passed, after `confirm` consecutive failures of the same sign;
+// with `rising_is_lag`, confirmed +1 failures move the window's start one read later instead
+// (a lag), while the lag check is on. Its `name` is reported as what ended the window
+// (RateResult::window_end).
+struct WindowRule {
+  std::string name;
+  int confirm = 1;
+  bool rising_is_lag = false;
+  int (*judge)(const WindowCandidate&, const RateOptions&) = nullptr;
+};
+// The default table: "conversion" (product > limit), then "curvature" (three in a row).
+const std::vector<WindowRule>& default_window_rules();
 
 // One well's trace. Pointers stay owned by the caller; all arrays have `n` entries.
 struct TraceView {
@@ -128,6 +181,9 @@ struct TraceView {
   double substrate = NAN;              // initial substrate concentration, same unit as conc_per_signal gives
   double conc_per_signal = NAN;        // concentration per signal unit (conversion limit); NaN = unconverted
   double noise_sd = NAN;               // read noise of the blank, signal units; NaN = estimate from residuals
+  double rate_sd = NAN;                // how far apart wells' rates lie that read noise does not explain (the
+                                       // blank wells' own rates scatter: well-to-well drift), signal units per
+                                       // second; no rate is known better than this. NaN = none known
 };
 
 struct RateResult {
@@ -156,7 +212,10 @@ struct RateResult {
   double tangent_slope = NAN;   // initial tangent of the parabola; NaN when not fitted
   double tangent_se = NAN;
   double tangent_end_s = NAN;   // last read of the parabola's window
-  double lag_s = NAN;           // time skipped as lag (start of window − first usable read); 0 when none
+  double lag_s = NAN;           // time skipped as lag (start of window − first undisturbed read); 0 when none
+  int disturbed_reads = 0;      // reads set aside at the start as a disturbed start
+  double disturbed_offset = NAN;  // the disturbance fitted at the first read the spike screen kept, signal
+                                  // units (NaN = not fitted)
   double noise_sd = NAN;        // read noise SD used for the tests (given, or robust estimate)
   std::string window_end;       // what ended the window: curvature, conversion, ceiling, overflow,
                                 // reads (ran out), fixed (leading/steepest)

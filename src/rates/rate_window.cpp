@@ -2,7 +2,6 @@
 
 #include <algorithm>
 #include <array>
-#include <map>
 #include <utility>
 
 #if defined(__SSE2__)
@@ -11,49 +10,11 @@
 
 #include "rates/robust.hpp"
 #include "core/stats.hpp"
-#include "rates/window_stats.hpp"
 
 namespace vzero::detail {
 namespace {
 
-// A bend must show in this many consecutive candidate windows before it ends the growth
-// (or moves the start): one significant test in a long sequence of tests is expected by
-// chance, three in a row are not.
-constexpr int k_confirm = 3;
-// Fewest reads on which the curvature test is run (2 residual degrees of freedom).
-constexpr int k_min_test_reads = 5;
-
 std::size_t z(int i) { return static_cast<std::size_t>(i); }
-
-// Two-sided critical t values by degree of freedom, remembered per thread for the last
-// probability asked (the rate finder asks the same one for every well).
-class CriticalT {
- public:
-  explicit CriticalT(double p) : cache_(table()) {
-    if (cache_.p != p) {
-      cache_.p = p;
-      cache_.by_df.clear();
-    }
-  }
-  double operator()(int df) {
-    if (df < 0 || df > 100000) return student_t_quantile(cache_.p, df);
-    if (z(df) >= cache_.by_df.size()) cache_.by_df.resize(z(df) + 1, NAN);
-    double& v = cache_.by_df[z(df)];
-    if (std::isnan(v)) v = student_t_quantile(cache_.p, df);
-    return v;
-  }
-
- private:
-  struct Table {
-    double p = NAN;
-    std::vector<double> by_df;
-  };
-  static Table& table() {
-    thread_local Table t;
-    return t;
-  }
-  Table& cache_;
-};
 
 // Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
 // reads (seven consecutive reads holding it, shifted inward at the ends), so one other spike
@@ -292,29 +253,6 @@ void screen_spikes(Usable& u, double k, double floor) {
     if (std::fabs(d[z(i)]) > k * std::max(scale, nb_sd[z(i)])) u.spike[z(i)] = 1;
 }
 
-// Lag scan: slopes of the blocks of `p` reads starting at 0 … lag_max. A lag is present when
-// the steepest block is steeper than the first by more than k_lag_z standard errors of the
-// difference (read noise `sd`); the window then starts at the first block within one SE of
-// the steepest. Returns that start (0 = no lag).
-constexpr double k_lag_z = 4.0;
-int lag_scan(const WindowStats& stats, const std::vector<double>& t, int p, int lag_max, double sd) {
-  if (lag_max < 1 || !(sd > 0)) return 0;
-  std::vector<double> b, se;
-  b.reserve(z(lag_max) + 1);
-  se.reserve(z(lag_max) + 1);
-  for (int j = 0; j <= lag_max && j + p <= static_cast<int>(t.size()); ++j) {
-    b.push_back(stats.slope(j, j + p));
-    se.push_back(sd / std::sqrt(stats.stt(j, j + p)));
-  }
-  if (b.size() < 2) return 0;
-  const auto top = static_cast<std::size_t>(std::max_element(b.begin(), b.end()) - b.begin());
-  if (top == 0) return 0;
-  if (!(b[top] - b[0] > k_lag_z * std::hypot(se[0], se[top]))) return 0;
-  for (std::size_t j = 1; j <= top; ++j)
-    if (b[top] - b[j] <= std::hypot(se[j], se[top])) return static_cast<int>(j);
-  return static_cast<int>(top);
-}
-
 }  // namespace
 
 double tiny_floor(const Usable& u) {
@@ -323,7 +261,23 @@ double tiny_floor(const Usable& u) {
   return range > 0 ? 1e-9 * range : 1e-300;
 }
 
-Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
+double detector_plateau(const TraceView& tr, const RateOptions& opt) {
+  double top = -INFINITY;
+  int at_top = 0;
+  bool overflow = false;
+  for (int i = 0; i < tr.n; ++i) {
+    const ReadStatus st = tr.status ? tr.status[i] : ReadStatus::ok;
+    overflow |= st == ReadStatus::overflow;
+    const double level = tr.raw ? tr.raw[i] : tr.y[i];
+    if (st != ReadStatus::ok || !std::isfinite(level)) continue;
+    if (level > top) { top = level; at_top = 1; }
+    else if (level == top) ++at_top;
+  }
+  const bool high = std::isfinite(opt.signal_ceiling) && top >= opt.signal_ceiling;
+  return at_top >= 2 && (overflow || high) ? top : NAN;
+}
+
+Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip) {
   Usable u;
   u.idx.reserve(static_cast<std::size_t>(std::max(tr.n, 0)));
   u.t.reserve(u.idx.capacity());
@@ -333,12 +287,14 @@ Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
     const ReadStatus st = tr.status ? tr.status[i] : ReadStatus::ok;
     const double level = tr.raw ? tr.raw[i] : tr.y[i];
     const bool over = st == ReadStatus::overflow;
+    const bool clipped = st == ReadStatus::ok && level >= clip;  // false when clip is NaN
     const bool high = st == ReadStatus::ok && ceiling && level >= opt.signal_ceiling;
     u.any_overflow |= over;
     u.any_ceiling |= high;
+    u.any_saturated |= clipped;
     if (!u.truncated_by.empty()) continue;
-    if (over || high) {
-      if (!u.idx.empty()) u.truncated_by = over ? "overflow" : "ceiling";
+    if (over || high || clipped) {
+      if (!u.idx.empty()) u.truncated_by = over ? "overflow" : clipped ? "saturated" : "ceiling";
       continue;
     }
     if (st != ReadStatus::ok || !std::isfinite(tr.y[i]) || !std::isfinite(tr.time_s[i])) continue;
@@ -353,133 +309,6 @@ Usable usable_reads(const TraceView& tr, const RateOptions& opt) {
 }
 
 double noise_estimate(const Usable& u, double noise_sd) { return std::isfinite(noise_sd) ? noise_sd : u.local_sd; }
-
-WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref) {
-  WindowChoice w;
-  const int m = static_cast<int>(u.t.size());
-  const int p = opt.min_points;
-  const std::string run_out = u.truncated_by.empty() ? "reads" : u.truncated_by;
-
-  if (opt.window == WindowMethod::leading) {
-    int last = std::min(p, m) - 1;
-    while (last + 1 < m && u.t[z(last)] - u.t[0] < opt.min_span_s) ++last;
-    w.first = 0;
-    w.last = last;
-    w.too_few = last + 1 < p || u.t[z(last)] - u.t[0] < opt.min_span_s;
-    w.end = "fixed";
-    return w;
-  }
-
-  // The search runs on the reads the spike screen let through.
-  std::vector<double> ct, cy;
-  std::vector<int> cpos;
-  ct.reserve(z(m));
-  cy.reserve(z(m));
-  cpos.reserve(z(m));
-  for (int i = 0; i < m; ++i)
-    if (!u.spike[z(i)]) {
-      ct.push_back(u.t[z(i)]);
-      cy.push_back(u.y[z(i)]);
-      cpos.push_back(i);
-    }
-  const int mc = static_cast<int>(ct.size());
-  // Smallest end (exclusive) of a window starting at s that meets min_points and min_span_s.
-  const auto min_end = [&](int s) {
-    int e = s + p;
-    while (e <= mc && ct[z(e - 1)] - ct[z(s)] < opt.min_span_s) ++e;
-    return e;
-  };
-  const auto as_usable = [&](int s, int e) {
-    w.first = cpos[z(s)];
-    w.last = cpos[z(e - 1)];
-  };
-  if (mc < 2 || min_end(0) > mc) {
-    w.too_few = true;
-    w.end = run_out;
-    if (mc >= 2) as_usable(0, mc);
-    else { w.first = 0; w.last = m - 1; }
-    return w;
-  }
-  const WindowStats stats(ct.data(), cy.data(), mc);
-
-  if (opt.window == WindowMethod::steepest) {
-    int best = 0;
-    double best_slope = -INFINITY;
-    for (int s = 0; min_end(s) <= mc; ++s) {
-      const double b = stats.slope(s, min_end(s));
-      if (b > best_slope) { best_slope = b; best = s; }
-    }
-    as_usable(best, min_end(best));
-    w.end = "fixed";
-    return w;
-  }
-
-  CriticalT t_crit(1 - opt.linearity_alpha / 2);
-  const int lag_max = (mc - p) / 2;  // latest start a lag may push the window to
-  int s = 0;
-  if (opt.detect_lag) {
-    s = lag_scan(stats, ct, p, lag_max, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
-    w.lag = s > 0;
-  }
-  int e = min_end(s), accepted = -1, fails = 0, fail_sign = 0, first_fail = -1;
-  std::string end;
-  bool conversion_stop = false;
-  while (true) {
-    if (e > mc) { end = run_out; break; }
-    const WindowTest wt = stats.test(s, e, sd_floor, t_ref);
-    if (std::isfinite(limit_signal) && wt.slope * (ct[z(e - 1)] - t_ref) > limit_signal) {
-      end = "conversion";
-      conversion_stop = true;
-      break;
-    }
-    // Curved when the parabola's square term is significant and matters; the first read of
-    // the window must not carry the verdict alone (mixing often disturbs it), so the window
-    // without its first read must be curved the same way.
-    const auto is_curved = [&](const WindowTest& x) {
-      return x.n >= k_min_test_reads && x.curvature_se > 0 &&
-             std::fabs(x.curvature) > t_crit(x.n - 3) * x.curvature_se &&
-             std::fabs(x.drift) > opt.slope_drift * std::fabs(x.slope);
-    };
-    bool curved = false;
-    if (opt.linearity_alpha > 0 && is_curved(wt)) {
-      const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
-      curved = rest.n < k_min_test_reads || (is_curved(rest) && (rest.curvature > 0) == (wt.curvature > 0));
-    }
-    if (!curved) {
-      accepted = e;
-      fails = 0;
-      ++e;
-      continue;
-    }
-    const int sign = wt.curvature > 0 ? 1 : -1;
-    if (fails == 0 || sign != fail_sign) { fails = 1; fail_sign = sign; first_fail = e; }
-    else ++fails;
-    if (fails < k_confirm) { ++e; continue; }
-    if (sign > 0 && opt.detect_lag && s + 1 <= lag_max) {
-      // The rate rises: skip one more read at the start.
-      ++s;
-      w.lag = true;
-      accepted = -1;
-      fails = 0;
-      e = std::max(first_fail, min_end(s));
-      continue;
-    }
-    end = "curvature";
-    break;
-  }
-  if (accepted < 0) {
-    // Not even the shortest window from s passed.
-    const int e0 = std::min(min_end(s), mc);
-    as_usable(s, e0);
-    if (conversion_stop) w.depleted = true;
-    else if (end == "curvature") w.nonlinear = true;
-    else w.too_few = e0 - s < p;
-  } else {
-    as_usable(s, accepted);
-  }
-  w.end = end;
-  return w;
-}
 
 TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
                        double sd_floor, double t_ref) {

@@ -5,6 +5,7 @@
 #include <string>
 #include <vector>
 
+#include "rates/start_screen.hpp"
 #include "vzero/rates.hpp"
 
 namespace vzero::detail {
@@ -18,9 +19,17 @@ struct Usable {
   double local_sd = NAN;     // robust read-noise SD from the spike screen (NaN below 6 reads)
   bool any_overflow = false; // an overflow read anywhere in the trace
   bool any_ceiling = false;  // an ok read at or above the ceiling anywhere in the trace
-  std::string truncated_by;  // "overflow", "ceiling" or empty
+  bool any_saturated = false;  // an ok read at the detector's plateau (`clip`) anywhere in the trace
+  std::string truncated_by;  // "overflow", "ceiling", "saturated" or empty
 };
-Usable usable_reads(const TraceView& tr, const RateOptions& opt);
+// `clip` (NaN = none): the detector's plateau level; reads at or above it are treated like
+// ceiling reads (the window stops before them), named "saturated".
+Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip = NAN);
+
+// The detector's plateau: the highest level of the ok reads when two or more reads sit
+// exactly at it (a clipped reading) and the trace also overflows, or that level is at or
+// above `signal_ceiling`. NaN when there is none.
+double detector_plateau(const TraceView& tr, const RateOptions& opt);
 
 // The noise SD reported: the caller's noise_sd if given, else the spike screen's estimate.
 double noise_estimate(const Usable& u, double noise_sd);
@@ -32,10 +41,23 @@ double tiny_floor(const Usable& u);
 struct WindowChoice {
   int first = 0, last = 0;
   bool too_few = false, nonlinear = false, depleted = false, lag = false;
+  bool rising = false;           // the rate still rises across the chosen window (significant upward bend)
+  int disturbed = 0;             // reads set aside as a disturbed start (usable positions 0 … disturbed − 1, spikes counted)
+  int undisturbed = 0;           // usable position of the first read after the disturbed start
+  double baseline = NAN;         // the trace's signal at reaction start (the conversion limit's zero)
   std::string end;  // what ended it: curvature, conversion, ceiling, overflow, reads, fixed
 };
-// `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit).
-WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref);
+// `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit); the
+// product formed is measured from the curve: the candidate's line at its last read minus the
+// trace's baseline at `t_ref` (the line of the first `min_points` undisturbed reads there).
+// `first`: the first usable position the window may start at (after a disturbed start).
+WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref,
+                           int first = 0);
+
+// The disturbed start of the usable reads (screen_start on the reads the spike screen let
+// through, read noise `sd`). When there is one, the fitted disturbance is taken off every
+// usable read and `skip` is returned as a usable position (the first read to keep).
+StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd);
 
 // Least-squares parabola over the window's kept reads and the usable reads after it, up to
 // `tangent_reach` times the window's length, except reads the spike screen held out that

@@ -47,15 +47,15 @@ bool parse_window_method(std::string_view t, WindowMethod& out) {
 std::string_view to_string(TangentMode m) {
   switch (m) {
     case TangentMode::never: return "never";
-    case TangentMode::curved: return "curved";
+    case TangentMode::automatic: return "auto";
     case TangentMode::always: return "always";
   }
-  return "curved";
+  return "auto";
 }
 
 bool parse_tangent_mode(std::string_view t, TangentMode& out) {
   if (t == "never") out = TangentMode::never;
-  else if (t == "curved") out = TangentMode::curved;
+  else if (t == "auto") out = TangentMode::automatic;
   else if (t == "always") out = TangentMode::always;
   else return false;
   return true;
@@ -142,17 +142,22 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.used.assign(static_cast<std::size_t>(std::max(tr.n, 0)), 0);
   const double t_ref = std::isnan(opt.time_zero_s) ? (tr.n > 0 ? tr.time_s[0] : 0.0) : opt.time_zero_s;
 
-  detail::Usable u = detail::usable_reads(tr, opt);
-  if (u.t.size() < 2 && u.any_ceiling) {
-    // Every read is above the ceiling: a rate from them is better than none, and the
-    // `ceiling` flag says it is not to be trusted.
+  const double clip = detail::detector_plateau(tr, opt);
+  detail::Usable u = detail::usable_reads(tr, opt, clip);
+  bool saturated = false;
+  if (u.t.size() < 2 && (u.any_ceiling || u.any_saturated)) {
+    // Every read is above the ceiling (or at the detector's plateau): a rate from them is
+    // better than none, and the `ceiling` or `saturated` flag says it is not to be trusted.
+    const bool ceiling = u.any_ceiling;
+    saturated = u.any_saturated;
     RateOptions no_ceiling = opt;
     no_ceiling.signal_ceiling = NAN;
     u = detail::usable_reads(tr, no_ceiling);
-    u.any_ceiling = true;
+    u.any_ceiling = ceiling;
   }
   if (u.any_overflow) add_flag(r, "overflow");
   if (u.any_ceiling) add_flag(r, "ceiling");
+  if (saturated) add_flag(r, "saturated");
   const int m = static_cast<int>(u.t.size());
   if (m < 2) {
     add_flag(r, "too-few-reads");
@@ -167,13 +172,21 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
           ? opt.max_conversion * tr.substrate / tr.conc_per_signal
           : NAN;  // signal change allowed since time zero
 
-  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref);
+  // A disturbed start is set aside, and what is left of it taken off the reads kept.
+  detail::StartScreen start;
+  if (opt.detect_disturbed && opt.window == WindowMethod::automatic)
+    start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
+  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip);
   if (w.too_few) add_flag(r, "too-few-reads");
   if (w.nonlinear) add_flag(r, "nonlinear");
   if (w.depleted) add_flag(r, "depleted");
+  if (w.disturbed > 0) add_flag(r, "disturbed");
   if (w.lag) add_flag(r, "lag");
+  if (w.rising) add_flag(r, "rising");
   r.window_end = w.end;
-  r.lag_s = w.lag ? u.t[static_cast<std::size_t>(w.first)] - u.t[0] : 0.0;
+  r.disturbed_reads = w.disturbed;
+  r.disturbed_offset = start.offset;
+  r.lag_s = w.lag ? u.t[static_cast<std::size_t>(w.first)] - u.t[static_cast<std::size_t>(w.undisturbed)] : 0.0;
 
   // Outlier rule on every usable read of the window, then the estimator on the rest.
   const bool theil_sen = opt.estimator == Estimator::theil_sen;
@@ -202,8 +215,22 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.ci_high = line.ci_high;
   r.intercept = line.intercept;
   r.r2 = line.r2;
-  if (std::isfinite(limit_per_signal))
-    r.conversion = line.slope * (r.t_end_s - t_ref) * tr.conc_per_signal / tr.substrate;
+  // Converted at the window's end: the product formed since reaction start, from the curve
+  // (the fixed windows take the baseline from their own line's first reads).
+  if (std::isfinite(limit_per_signal)) {
+    double baseline = w.baseline;
+    if (!std::isfinite(baseline)) {
+      std::vector<double> bt, by;
+      for (int i = 0; i < m && static_cast<int>(bt.size()) < opt.min_points; ++i)
+        if (!u.spike[static_cast<std::size_t>(i)]) {
+          bt.push_back(u.t[static_cast<std::size_t>(i)]);
+          by.push_back(u.y[static_cast<std::size_t>(i)]);
+        }
+      const LineFit b = detail::ols(bt.data(), by.data(), static_cast<int>(bt.size()));
+      baseline = b.intercept + b.slope * t_ref;
+    }
+    r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;
+  }
 
   // Initial tangent of a parabola, for curving wells.
   if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest) {
@@ -215,7 +242,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     // with a fraction f converted by the window's end, v0/line ≤ 1/(1 − f).
     const double f = std::isfinite(r.conversion) ? std::clamp(r.conversion, 0.0, 0.5) : opt.max_conversion;
     const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
-    const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible;
+    const bool enough = static_cast<int>(tf.pos.size()) >= std::max(5, opt.tangent_min_reads);
+    const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible && enough;
     if (use) {
       // v0 now rests on the parabola's reads: they are the ones used, and reads it held out
       // are outliers too.
@@ -238,10 +266,28 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
       for (double t : kt) mt += t;
       mt /= nk;
       for (double t : kt) stt += (t - mt) * (t - mt);
-      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * tr.noise_sd / std::sqrt(stt)) noise_only = true;
+      const double drift = std::isfinite(tr.rate_sd) ? tr.rate_sd : 0.0;
+      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * std::hypot(tr.noise_sd / std::sqrt(stt), drift)) noise_only = true;
     }
+    // A trace stuck at the detector's maximum says nothing about the rate's size or sign:
+    // it is `saturated`, never noise or negative.
+    if (saturated) noise_only = false;
     if (noise_only) add_flag(r, "noise");
-    if (r.slope < 0) add_flag(r, "negative");
+    if (r.slope < 0 && !saturated) add_flag(r, "negative");
+    // Precise enough to trust? The 95 % interval's half-width (or, when larger, what the
+    // read noise alone gives the straight line over the reads used) relative to the rate.
+    if (!noise_only && !saturated && opt.precision_limit > 0) {
+      double half = 0.5 * (r.ci_high - r.ci_low);
+      if (std::isfinite(tr.noise_sd) && nk >= 2) {
+        double mt = 0, stt = 0;
+        for (double t : kt) mt += t;
+        mt /= nk;
+        for (double t : kt) stt += (t - mt) * (t - mt);
+        if (stt > 0) half = std::max(half, 1.959963984540054 * tr.noise_sd / std::sqrt(stt));
+      }
+      if (std::isfinite(tr.rate_sd)) half = std::hypot(half, 1.959963984540054 * tr.rate_sd);
+      if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
+    }
   }
   return r;
 }

@@ -262,6 +262,11 @@ std::vector<OptionSpec> make_table() {
                      "percent of the well's substrate the window may convert", 100));
   t.push_back(number("signal-ceiling", k_rate, "", "signal", k_any, [](S& s) { return &s.analysis.rates.signal_ceiling; },
                      "detector linear limit, raw signal units: reads above it are not used"));
+  t.push_back(number("absorbance-limit", k_rate, "2", "AU", k_positive,
+                     [](S& s) { return &s.analysis.rates.absorbance_limit; },
+                     "upper end of the linear range of absorbance channels, AU (common practice: stray light "
+                     "compresses plate readings above about 2 AU); their ceiling is the lower of this and "
+                     "--signal-ceiling"));
   t.push_back(number("outlier-cut", k_rate, "4", "robust SD", k_positive, [](S& s) { return &s.analysis.rates.outlier_k; },
                      "a read further than this many robust SDs (1.4826·MAD) from the window's line is an outlier"));
   t.push_back(number("curvature-alpha", k_rate, "0.01", "", k_alpha,
@@ -278,13 +283,33 @@ std::vector<OptionSpec> make_table() {
       },
       [](const S& s) { return std::string(s.analysis.rates.detect_lag ? "on" : "off"); },
       "on: skip an initial stretch where the rate rises (a lag) and flag it; off: start at the first usable read"));
+  t.push_back(choice(
+      "start-check", k_rate, "on", {"on", "off"},
+      [](S& s, const V& v) {
+        s.analysis.rates.detect_disturbed = v.text == "on";
+        return std::string();
+      },
+      [](const S& s) { return std::string(s.analysis.rates.detect_disturbed ? "on" : "off"); },
+      "on: set aside a disturbed start (a jump or decay over the first reads that the rest does not continue) "
+      "and flag it; off: keep every read"));
+  t.push_back(number("precision-limit", k_rate, "15", "%", k_non_negative,
+                     [](S& s) { return &s.analysis.rates.precision_limit; },
+                     "a rate whose 95 % interval half-width exceeds this percent of the rate is flagged imprecise "
+                     "(0 = never)", 100));
   t.push_back(number("detection-factor", k_rate, "3", "", k_non_negative, [](S& s) { return &s.analysis.rates.lod_factor; },
                      "a rate below this many slope SDs of blank noise over its window is flagged noise"));
-  t.push_back(choice("tangent", k_rate, "curved", {"curved", "never", "always"},
+  t.push_back(choice("tangent", k_rate, "auto", {"auto", "never", "always"},
                      [](S& s, const V& v) -> std::string { return parse_tangent_mode(v.text, s.analysis.rates.tangent) ? "" : "?"; },
                      [](const S& s) { return std::string(to_string(s.analysis.rates.tangent)); },
-                     "v0 from the initial tangent of a parabola: curved (when the trace bends down "
-                     "significantly), never, or always"));
+                     "v0 from the initial tangent of a parabola: auto (when the trace bends down "
+                     "significantly and the parabola has --tangent-min-reads reads), never, or always"));
+  {
+    OptionSpec o = special("tangent-min-reads", k_rate, OptionKind::integer, OptionRole::analysis, "10", nullptr,
+                           "fewest reads the parabola needs before its tangent may replace the straight line (tangent auto)");
+    o.range = NumberRange{5, 1e300, false, false};
+    o.integer_field = [](S& s) { return &s.analysis.rates.tangent_min_reads; };
+    t.push_back(o);
+  }
   {
     OptionSpec o = number("tangent-span", k_rate, "4", "× window", NumberRange{1, 1e300, false, false},
                           [](S& s) { return &s.analysis.rates.tangent_reach; },

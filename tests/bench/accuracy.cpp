@@ -12,7 +12,7 @@
 //     --no-ceiling         do not pass the detector's linear limit as signal_ceiling
 //     --no-substrate       do not pass S0 (no conversion limit, tangent bound from max_conversion)
 //     --noise-scale F      multiply the simulated read noise by F
-//     --estimator NAME     theil-sen | ols | huber;  --tangent MODE  never | curved | always
+//     --estimator NAME     theil-sen | ols | huber;  --tangent MODE  never | auto | always
 //     --set NAME VALUE     change one numeric RateOptions field (developer knob)
 //     --worst N            list the N wells with the largest error
 //     --dump SEED WELL     print one well's trace and result (with --mix: that seed's mix plate)
@@ -83,7 +83,8 @@ void print_usage(FILE* to) {
              "       [--estimator NAME] [--tangent MODE] [--set NAME VALUE] [--worst N] [--dump SEED WELL] [--quiet] [SEED ...]\n"
              "  --mix: the scenario mix of tests/sim/plate_mix.hpp on the evaluation seeds 9001 ... 9100 (tune on --seeds 1 100)\n"
              "  --kind: standard | screening8 | low-signal | high-absorbance | depleting | late-start | slow-onset\n"
-             "  --set: tangent_alpha tangent_reach linearity_alpha slope_drift outlier_k min_points max_conversion\n",
+             "  --set: tangent_alpha tangent_reach linearity_alpha slope_drift outlier_k min_points max_conversion\n"
+             "         precision_limit tangent_min_reads detect_disturbed (0/1) absorbance_limit\n",
              to);
 }
 
@@ -95,6 +96,10 @@ bool set_option(vzero::RateOptions& opt, const std::string& k, double v) {
   else if (k == "outlier_k") opt.outlier_k = v;
   else if (k == "min_points") opt.min_points = static_cast<int>(v);
   else if (k == "max_conversion") opt.max_conversion = v;
+  else if (k == "precision_limit") opt.precision_limit = v;
+  else if (k == "absorbance_limit") opt.absorbance_limit = v;
+  else if (k == "tangent_min_reads") opt.tangent_min_reads = static_cast<int>(v);
+  else if (k == "detect_disturbed") opt.detect_disturbed = v != 0;
   else return false;
   return true;
 }
@@ -175,7 +180,10 @@ PlateRun plate_run(const Args& a, std::uint64_t seed) {
   if (a.mix) {
     run.kind = a.forced_kind >= 0 ? sim::k_plate_kinds[static_cast<std::size_t>(a.forced_kind)] : sim::kind_for_seed(seed);
     run.spec = sim::mix_spec(run.kind);
-    if (std::isfinite(run.options.signal_ceiling)) run.options.signal_ceiling = run.spec.stated_limit;
+    // The pipeline's ceiling for an absorbance channel: the lower of the stated limit and the
+    // absorbance limit (src/analysis.cpp).
+    if (std::isfinite(run.options.signal_ceiling))
+      run.options.signal_ceiling = std::min(run.spec.stated_limit, run.options.absorbance_limit);
     run.spec.noise_sd_min *= a.noise_scale;
     run.spec.noise_sd_max *= a.noise_scale;
   }

@@ -7,6 +7,7 @@
 
 #include "accuracy_harness.hpp"
 #include "rates/robust.hpp"
+#include "vzero/blank.hpp"
 
 namespace vzero::accuracy {
 namespace {
@@ -29,6 +30,7 @@ struct Blanks {
   std::vector<std::vector<double>> mean;  // [row][read]
   std::vector<int> per_row;
   double sd = NAN;
+  double rate_sd = NAN;  // robust SD of the blank wells' own OLS rates (well-to-well drift)
 };
 
 Blanks row_blanks(const sim::Plate& p, Totals& tot) {
@@ -37,6 +39,28 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
   b.mean.assign(static_cast<std::size_t>(p.rows), std::vector<double>(static_cast<std::size_t>(reads), NAN));
   b.per_row.assign(static_cast<std::size_t>(p.rows), 0);
   std::vector<double> sds;
+  // A blank with a disturbed start stands in by its fitted line, as apply_blank does.
+  std::vector<std::vector<double>> screened(p.signal.size());
+  std::vector<double> rates;
+  for (std::size_t w = 0; w < p.signal.size(); ++w) {
+    if (p.truth[w].role != sim::Role::blank) continue;
+    screened[w] = p.signal[w];
+    double slope = NAN, icpt = NAN;
+    if (screen_blank_start(p.time_s, p.signal[w].data(), p.status[w].data(), slope, icpt) > 0)
+      for (std::size_t i = 0; i < screened[w].size(); ++i) screened[w][i] = icpt + slope * p.time_s[i];
+    std::vector<double> bt, by;
+    for (std::size_t i = 0; i < screened[w].size(); ++i)
+      if (p.status[w][i] == ReadStatus::ok && std::isfinite(screened[w][i])) {
+        bt.push_back(p.time_s[i]);
+        by.push_back(screened[w][i]);
+      }
+    if (bt.size() >= 3) rates.push_back(vzero::detail::ols(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
+  }
+  if (rates.size() >= 3) {
+    const double med = vzero::detail::median_inplace(rates);
+    for (double& r : rates) r = std::fabs(r - med);
+    b.rate_sd = 1.4826 * vzero::detail::median_inplace(rates);
+  }
   for (int row = 0; row < p.rows; ++row) {
     for (int i = 0; i < reads; ++i) {
       double sum = 0;
@@ -44,7 +68,7 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
       for (int col = 0; col < p.columns; ++col) {
         const auto w = static_cast<std::size_t>(row * p.columns + col);
         if (p.truth[w].role != sim::Role::blank || p.status[w][static_cast<std::size_t>(i)] != ReadStatus::ok) continue;
-        sum += p.signal[w][static_cast<std::size_t>(i)];
+        sum += screened[w][static_cast<std::size_t>(i)];
         ++k;
       }
       if (k > 0) b.mean[static_cast<std::size_t>(row)][static_cast<std::size_t>(i)] = sum / k;
@@ -211,6 +235,7 @@ void run_plate(const PlateRun& run, Totals& tot) {
       tr.conc_per_signal = 1.0 / p.signal_per_uM;
     }
     tr.noise_sd = blanks.sd * std::sqrt(1.0 + 1.0 / std::max(1, blanks.per_row[row]));
+    tr.rate_sd = blanks.rate_sd * std::sqrt(1.0 + 1.0 / std::max(1, blanks.per_row[row]));
     const RateResult r = find_rate(tr, run.options);
     ++tot.results;
     if (w == run.dump_well) dump(p, w, tr, r, raw, y, st);
