@@ -1,10 +1,10 @@
 #include "vzero/analysis.hpp"
 
-#include <algorithm>
-#include <cassert>
-#include <atomic>
-#include <cmath>
 #include <fmt/format.h>
+#include <algorithm>
+#include <atomic>
+#include <cassert>
+#include <cmath>
 #include <thread>
 
 #include "core/text.hpp"
@@ -61,7 +61,10 @@ double well_mean(const Channel& c, int plate_index) {
   double s = 0;
   int n = 0;
   for (int i = 0; i < c.reads(); ++i)
-    if (c.status(i, j) == ReadStatus::ok) { s += c.values(i, j); ++n; }
+    if (c.status(i, j) == ReadStatus::ok) {
+      s += c.values(i, j);
+      ++n;
+    }
   return n ? s / n : NAN;
 }
 
@@ -101,14 +104,15 @@ double map_number(const PlateMap& map, const WellInfo* info, int column) {
   auto v = detail::parse_number(text);
   if (!v) {
     throw InputError(Where{map.source, info->line},
-                     fmt::format("expected a number in `{}` for well {}, found \"{}\"", map.columns[static_cast<std::size_t>(column)],
-                                 well_name(info->well), text),
+                     fmt::format("expected a number in `{}` for well {}, found \"{}\"",
+                                 map.columns[static_cast<std::size_t>(column)], well_name(info->well), text),
                      {"write the enzyme amount in mg as a plain number"});
   }
   return *v;
 }
 
-ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, const PlateMap& map, const AnalysisOptions& o) {
+ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, const PlateMap& map,
+                                const AnalysisOptions& o) {
   ChannelAnalysis ca;
   if (!o.inner_filter_ex.empty() && raw_channel.quantity == Quantity::fluorescence)
     ca.corrected = inner_filter_copy(run, raw_channel, o);
@@ -170,20 +174,25 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
         used_high |= !row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] &&
                      c.values(i, j) >= rate_options.signal_ceiling;
     for (const auto& f : row.rate.flags) {
-      bool note = f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
+      bool note =
+          f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
       if (row.role == Role::empty) continue;  // nothing to judge
       if (row.role == Role::blank) {
         // A blank is judged as a blank: scatter (blank-noisy) and a disturbed start
         // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts.
-        if (f == "nonlinear") add_flag(row.flags, "blank-drift");
-        else if (note) add_flag(row.notes, f);
+        if (f == "nonlinear")
+          add_flag(row.flags, "blank-drift");
+        else if (note)
+          add_flag(row.notes, f);
         continue;
       }
       if (row.role == Role::standard) {
         // A standard is a level, not a rate: only reads it cannot be judged by count.
         bool level = f == "too-few-reads" || f == "ceiling" || f == "saturated";
-        if (level && !note) add_flag(row.flags, f);
-        else if (note) add_flag(row.notes, f);
+        if (level && !note)
+          add_flag(row.flags, f);
+        else if (note)
+          add_flag(row.notes, f);
         continue;
       }
       add_flag(note ? row.notes : row.flags, f);
@@ -192,14 +201,17 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     // No substrate known (or no concentration scale): the window had no conversion limit.
     if (row.role == Role::sample && !(tv.substrate > 0 && std::isfinite(tv.conc_per_signal)))
       add_flag(row.notes, "no-limit");
-    if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor))) add_flag(row.flags, "no-path");
+    if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor)))
+      add_flag(row.flags, "no-path");
     double slope = row.rate.slope;
     double blank_rate = sign * wb.blank_rate;
     if (o.blank.mode == BlankMode::rate && o.blank.strategy != BlankStrategy::none && row.role != Role::blank &&
         !std::isnan(row.rate.t_start_s)) {
       blank_rate = sign * blank_rate_between(c, map, run.format, o.blank, j, row.rate.t_start_s, row.rate.t_end_s);
-      if (!std::isnan(blank_rate)) slope -= blank_rate;
-      else if (wb.blank_wells.empty() == false) add_flag(row.flags, "blank-missing");
+      if (!std::isnan(blank_rate))
+        slope -= blank_rate;
+      else if (wb.blank_wells.empty() == false)
+        add_flag(row.flags, "blank-missing");
     }
     row.blank_rate_per_min = blank_rate * 60;
     row.slope_per_min = slope * 60;

@@ -1,8 +1,8 @@
 #include "vzero/blank.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 
 #include "rates/start_screen.hpp"
@@ -11,25 +11,35 @@ namespace vzero {
 
 std::string_view to_string(BlankStrategy s) {
   switch (s) {
-    case BlankStrategy::plate: return "plate";
-    case BlankStrategy::matched: return "matched";
-    case BlankStrategy::none: return "none";
+    case BlankStrategy::plate:
+      return "plate";
+    case BlankStrategy::matched:
+      return "matched";
+    case BlankStrategy::none:
+      return "none";
   }
   return "plate";
 }
 std::string_view to_string(BlankMode m) { return m == BlankMode::trace ? "trace" : "rate"; }
 
 bool parse_blank_strategy(std::string_view t, BlankStrategy& out) {
-  if (t == "plate") out = BlankStrategy::plate;
-  else if (t == "matched") out = BlankStrategy::matched;
-  else if (t == "none") out = BlankStrategy::none;
-  else return false;
+  if (t == "plate")
+    out = BlankStrategy::plate;
+  else if (t == "matched")
+    out = BlankStrategy::matched;
+  else if (t == "none")
+    out = BlankStrategy::none;
+  else
+    return false;
   return true;
 }
 bool parse_blank_mode(std::string_view t, BlankMode& out) {
-  if (t == "trace") out = BlankMode::trace;
-  else if (t == "rate") out = BlankMode::rate;
-  else return false;
+  if (t == "trace")
+    out = BlankMode::trace;
+  else if (t == "rate")
+    out = BlankMode::rate;
+  else
+    return false;
   return true;
 }
 
@@ -45,18 +55,29 @@ Line fit_line(const std::vector<double>& t, const double* y, const ReadStatus* s
   Line l;
   double mt = 0, my = 0;
   for (std::size_t i = 0; i < t.size(); ++i)
-    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { mt += t[i]; my += y[i]; ++l.n; }
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
+      mt += t[i];
+      my += y[i];
+      ++l.n;
+    }
   if (l.n < 3) return l;
-  mt /= l.n; my /= l.n;
+  mt /= l.n;
+  my /= l.n;
   double stt = 0, sty = 0;
   for (std::size_t i = 0; i < t.size(); ++i)
-    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { stt += (t[i] - mt) * (t[i] - mt); sty += (t[i] - mt) * (y[i] - my); }
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
+      stt += (t[i] - mt) * (t[i] - mt);
+      sty += (t[i] - mt) * (y[i] - my);
+    }
   if (stt <= 0) return l;
   l.slope = sty / stt;
   l.intercept = my - l.slope * mt;
   double rss = 0;
   for (std::size_t i = 0; i < t.size(); ++i)
-    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) { double e = y[i] - l.intercept - l.slope * t[i]; rss += e * e; }
+    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
+      double e = y[i] - l.intercept - l.slope * t[i];
+      rss += e * e;
+    }
   l.resid_sd = std::sqrt(rss / (l.n - 2));
   return l;
 }
@@ -136,8 +157,11 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (skip > 0) {
       int seen = 0;
       for (std::size_t i = 0; i < c.time_s.size(); ++i)
-        if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok && std::isfinite(c.values(static_cast<Eigen::Index>(i), b)) &&
-            seen++ == skip) { from = c.time_s[i]; break; }
+        if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok &&
+            std::isfinite(c.values(static_cast<Eigen::Index>(i), b)) && seen++ == skip) {
+          from = c.time_s[i];
+          break;
+        }
     }
     Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
     if (skip > 0) disturbed[b] = l;
@@ -168,11 +192,11 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   struct SharedBlank {
     Eigen::VectorXd mean;
     std::vector<ReadStatus> st;
-    std::string names;       // well_set_text of the blanks
-    double noise_sd = NAN;   // pooled residual SD of the blanks
-    bool noisy = false;      // one of them is blank-noisy
-    bool line = false;       // one of them had a disturbed start: its line stands in
-    double rate = NAN;       // slope of the mean trace
+    std::string names;      // well_set_text of the blanks
+    double noise_sd = NAN;  // pooled residual SD of the blanks
+    bool noisy = false;     // one of them is blank-noisy
+    bool line = false;      // one of them had a disturbed start: its line stands in
+    double rate = NAN;      // slope of the mean trace
   };
   std::map<std::vector<int>, SharedBlank> cache;
   for (Eigen::Index j = 0; j < cols; ++j) {
@@ -207,7 +231,10 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       sb.names = well_set_text(std::move(ids));
       for (int b : use) {
         const Line& l = blank_line[b];
-        if (!std::isnan(l.resid_sd)) { var += l.resid_sd * l.resid_sd; ++nsd; }
+        if (!std::isnan(l.resid_sd)) {
+          var += l.resid_sd * l.resid_sd;
+          ++nsd;
+        }
         if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) sb.noisy = true;
       }
       if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
@@ -219,10 +246,14 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
         for (int b : use) {
           if (c.status(i, b) != ReadStatus::ok) continue;
           const auto d = disturbed.find(b);
-          s += d == disturbed.end() ? c.values(i, b) : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
+          s += d == disturbed.end() ? c.values(i, b)
+                                    : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
           ++n;
         }
-        if (n > 0) { sb.mean(i) = s / n; sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok; }
+        if (n > 0) {
+          sb.mean(i) = s / n;
+          sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok;
+        }
       }
       for (int b : use) sb.line |= disturbed.count(b) > 0;
       sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
@@ -267,8 +298,14 @@ double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, 
     double s = 0;
     int n = 0;
     for (int b : use)
-      if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) { s += c.values(static_cast<Eigen::Index>(i), b); ++n; }
-    if (n > 0) { mean[i] = s / n; st[i] = ReadStatus::ok; }
+      if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) {
+        s += c.values(static_cast<Eigen::Index>(i), b);
+        ++n;
+      }
+    if (n > 0) {
+      mean[i] = s / n;
+      st[i] = ReadStatus::ok;
+    }
   }
   return fit_line(c.time_s, mean.data(), st.data(), t0, t1).slope;
 }

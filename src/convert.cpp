@@ -1,8 +1,8 @@
 #include "vzero/convert.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <numbers>
 #include <set>
 
@@ -12,9 +12,12 @@ namespace vzero {
 
 std::string_view to_string(ConvertMode m) {
   switch (m) {
-    case ConvertMode::signal_only: return "signal-only";
-    case ConvertMode::beer_lambert: return "beer-lambert";
-    case ConvertMode::standard_curve: return "standard-curve";
+    case ConvertMode::signal_only:
+      return "signal-only";
+    case ConvertMode::beer_lambert:
+      return "beer-lambert";
+    case ConvertMode::standard_curve:
+      return "standard-curve";
   }
   return "signal-only";
 }
@@ -56,19 +59,31 @@ StandardCurve fit_standard_curve(const std::vector<std::pair<double, double>>& p
   if (pts.size() < 3 || distinct.size() < 2) {
     throw InputError(Where{where},
                      fmt::format("the standard curve needs at least 3 standard wells with 2 or more different "
-                                 "concentrations; found {} wells, {} concentrations", pts.size(), distinct.size()),
+                                 "concentrations; found {} wells, {} concentrations",
+                                 pts.size(), distinct.size()),
                      {"mark standard wells with role = standard and their `standard_conc` in the plate map"});
   }
   const double n = static_cast<double>(pts.size());
   double mx = 0, my = 0;
-  for (const auto& [x, y] : pts) { mx += x; my += y; }
-  mx /= n; my /= n;
+  for (const auto& [x, y] : pts) {
+    mx += x;
+    my += y;
+  }
+  mx /= n;
+  my /= n;
   double sxx = 0, sxy = 0, syy = 0;
-  for (const auto& [x, y] : pts) { sxx += (x - mx) * (x - mx); sxy += (x - mx) * (y - my); syy += (y - my) * (y - my); }
+  for (const auto& [x, y] : pts) {
+    sxx += (x - mx) * (x - mx);
+    sxy += (x - mx) * (y - my);
+    syy += (y - my) * (y - my);
+  }
   sc.slope = sxy / sxx;
   sc.intercept = my - sc.slope * mx;
   double rss = 0;
-  for (const auto& [x, y] : pts) { double e = y - sc.intercept - sc.slope * x; rss += e * e; }
+  for (const auto& [x, y] : pts) {
+    double e = y - sc.intercept - sc.slope * x;
+    rss += e * e;
+  }
   double s2 = rss / (n - 2);
   sc.residual_sd = std::sqrt(s2);
   sc.slope_se = std::sqrt(s2 / sxx);
@@ -79,11 +94,16 @@ StandardCurve fit_standard_curve(const std::vector<std::pair<double, double>>& p
                      fmt::format("the standards do not rise with concentration (slope {} signal per unit)", sc.slope),
                      {"check the `standard_conc` values and that the standard wells hold the product"});
   }
-  sc.conc_min = INFINITY; sc.conc_max = -INFINITY; sc.signal_min = INFINITY; sc.signal_max = -INFINITY;
+  sc.conc_min = INFINITY;
+  sc.conc_max = -INFINITY;
+  sc.signal_min = INFINITY;
+  sc.signal_max = -INFINITY;
   std::vector<double> zeros;
   for (const auto& [x, y] : pts) {
-    sc.conc_min = std::min(sc.conc_min, x); sc.conc_max = std::max(sc.conc_max, x);
-    sc.signal_min = std::min(sc.signal_min, y); sc.signal_max = std::max(sc.signal_max, y);
+    sc.conc_min = std::min(sc.conc_min, x);
+    sc.conc_max = std::max(sc.conc_max, x);
+    sc.signal_min = std::min(sc.signal_min, y);
+    sc.signal_max = std::max(sc.signal_max, y);
     if (x == 0) zeros.push_back(y);
   }
   if (zeros.size() >= 2) {
@@ -112,7 +132,10 @@ double well_level(const Channel& c, int col, int read) {
   double s = 0;
   int n = 0;
   for (int i = 0; i < c.reads(); ++i)
-    if (c.status(i, col) == ReadStatus::ok) { s += c.values(i, col); ++n; }
+    if (c.status(i, col) == ReadStatus::ok) {
+      s += c.values(i, col);
+      ++n;
+    }
   return n ? s / n : NAN;
 }
 
@@ -163,8 +186,9 @@ Conversion plan_conversion(const Run& run, const Channel& c, const PlateMap& map
     }
     for (std::size_t j = 0; j < cols; ++j) cv.factor[j] = 1.0 / (o.epsilon_per_m_cm * cv.path_cm[j]) / per_unit;
     cv.formula = fmt::format("c = A / (ε·l), ε = {} M⁻¹·cm⁻¹, l {} cm; in {}", o.epsilon_per_m_cm,
-                             cv.path_source == "water-peak" ? fmt::format("= ({} − {}) / {} per well", o.water_high, o.water_low, o.water_k_per_cm)
-                                                            : "= " + fmt::format("{:.6g}", cv.path_cm.empty() ? NAN : cv.path_cm[0]),
+                             cv.path_source == "water-peak"
+                                 ? fmt::format("= ({} − {}) / {} per well", o.water_high, o.water_low, o.water_k_per_cm)
+                                 : "= " + fmt::format("{:.6g}", cv.path_cm.empty() ? NAN : cv.path_cm[0]),
                              o.conc_unit);
     return cv;
   }

@@ -52,8 +52,10 @@ SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<s
         SummaryGroup& g = t.groups[group];
         if (!g.wells.empty()) g.wells += ';';
         g.wells += well_name(row.well);
-        if (row.flags.empty() && !std::isnan(row.v0)) values[group].push_back(row.v0);
-        else ++g.n_flagged;
+        if (row.flags.empty() && !std::isnan(row.v0))
+          values[group].push_back(row.v0);
+        else
+          ++g.n_flagged;
       }
     }
   }

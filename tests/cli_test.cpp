@@ -257,7 +257,8 @@ TEST_CASE("every output, datapackage.json and the report included, is the same f
 TEST_CASE("a prefix of an option or a mistyped command is never guessed, only suggested") {
   auto prefix = run_vzero("rates x.csv --layout m.csv --path 0.56");
   CHECK(prefix.status == 2);
-  CHECK(prefix.err == "vzero rates: unrecognised option '--path'; did you mean --path-cm?\n  see: vzero rates --help\n");
+  CHECK(prefix.err ==
+        "vzero rates: unrecognised option '--path'; did you mean --path-cm?\n  see: vzero rates --help\n");
   auto command = run_vzero("rate x.csv");
   CHECK(command.status == 2);
   CHECK(command.err ==

@@ -250,7 +250,8 @@ TEST_CASE("text a spreadsheet would run as a formula gets a leading apostrophe; 
   // Through a whole run: a plate-map value and a channel-free export name.
   vzero::test::TempDir dir;
   vzero::test::spit((dir.path / "map.csv").string(), "well,role,note\nA1,sample,=1+2\nA2,blank,-\n");
-  vzero::test::spit((dir.path / "plate.csv").string(), "Time [s],A1,A2\n0,0.1,0.1\n10,0.2,0.1\n20,0.3,0.1\n30,0.4,0.1\n40,0.5,0.1\n");
+  vzero::test::spit((dir.path / "plate.csv").string(),
+                    "Time [s],A1,A2\n0,0.1,0.1\n10,0.2,0.1\n20,0.3,0.1\n30,0.4,0.1\n40,0.5,0.1\n");
   auto r = vzero::test::run_vzero("rates plate.csv --layout map.csv --signal-only -q", dir.path.string());
   INFO(r.describe());
   REQUIRE(r.status == 0);

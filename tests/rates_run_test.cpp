@@ -1,7 +1,7 @@
 // The library's whole-run entry point (include/vzero/rates_run.hpp): the same outputs as the
 // program, byte for byte, with nothing written to disk by the library.
-#include "test_support.hpp"
 #include "vzero/rates_run.hpp"
+#include "test_support.hpp"
 #include "vzero/report.hpp"
 
 using namespace vzero;
@@ -80,7 +80,9 @@ TEST_CASE("the report made with the run keeps every rates column (specific activ
   spit((dir.path / "map.csv").string(), with_mass);
   ResolvedSettings s = resolve_settings({{"layout", (dir.path / "map.csv").string()},
                                          {"output", (dir.path / "rates.csv").string()},
-                                         {"epsilon", "18000"}, {"path-cm", "0.5"}, {"well-volume-ul", "200"},
+                                         {"epsilon", "18000"},
+                                         {"path-cm", "0.5"},
+                                         {"well-volume-ul", "200"},
                                          {"enzyme-mg-column", "enzyme_mg"},
                                          {"report", (dir.path / "report.html").string()}});  // keeps the reads
   s.settings.files = {source("demo-data/hydrolase_wide.csv")};

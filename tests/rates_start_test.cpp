@@ -119,9 +119,8 @@ TEST_CASE("a window rule is one entry in the table of rules") {
   CHECK(plain.window_end == "reads");
 
   std::vector<vzero::WindowRule> rules = vzero::default_window_rules();
-  rules.push_back({"seven-reads", 1, false, [](const vzero::WindowCandidate& c, const vzero::RateOptions&) {
-                     return c.n > 7 ? -1 : 0;
-                   }});
+  rules.push_back({"seven-reads", 1, false,
+                   [](const vzero::WindowCandidate& c, const vzero::RateOptions&) { return c.n > 7 ? -1 : 0; }});
   opt.window_rules = &rules;
   const auto r = vzero::find_rate(tr.view(0.001), opt);
   CHECK(r.n_points == 7);
@@ -182,7 +181,8 @@ TEST_CASE("a window whose rate still rises is flagged rising") {
   }
   tr.st.assign(20, ReadStatus::ok);
   const std::vector<vzero::WindowRule> rules = {
-      {"eight-reads", 1, false, [](const vzero::WindowCandidate& c, const vzero::RateOptions&) { return c.n > 8 ? -1 : 0; }}};
+      {"eight-reads", 1, false,
+       [](const vzero::WindowCandidate& c, const vzero::RateOptions&) { return c.n > 8 ? -1 : 0; }}};
   vzero::RateOptions opt;
   opt.detect_lag = false;
   opt.window_rules = &rules;

@@ -8,23 +8,23 @@
 #include "rates/robust.hpp"
 #include "rates/window_stats.hpp"
 #include "sim/plate_sim.hpp"
-#include "vzero/settings.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 #include "vzero/rates.hpp"
+#include "vzero/settings.hpp"
 
 namespace {
 
 using vzero::ReadStatus;
 
 // NIST StRD Norris (REFERENCES §1).
-const double norris_x[] = {0.2,   337.4, 118.2, 884.6, 10.1,  226.5, 666.3, 996.3, 448.6, 777.0, 558.2, 0.4,
-                           0.6,   775.5, 666.9, 338.0, 447.5, 11.6,  556.0, 228.1, 995.8, 887.6, 120.2, 0.3,
-                           0.3,   556.8, 339.1, 887.2, 999.0, 779.0, 11.1,  118.3, 229.2, 669.1, 448.9, 0.5};
-const double norris_y[] = {0.1,   338.8, 118.1, 888.0, 9.2,   228.1, 668.5, 998.5, 449.1, 778.9, 559.2, 0.3,
-                           0.1,   778.1, 668.8, 339.3, 448.9, 10.8,  557.7, 228.3, 998.0, 888.8, 119.6, 0.3,
-                           0.6,   557.6, 339.3, 888.0, 998.5, 778.9, 10.2,  117.6, 228.9, 668.4, 449.2, 0.2};
+const double norris_x[] = {0.2, 337.4, 118.2, 884.6, 10.1,  226.5, 666.3, 996.3, 448.6, 777.0, 558.2, 0.4,
+                           0.6, 775.5, 666.9, 338.0, 447.5, 11.6,  556.0, 228.1, 995.8, 887.6, 120.2, 0.3,
+                           0.3, 556.8, 339.1, 887.2, 999.0, 779.0, 11.1,  118.3, 229.2, 669.1, 448.9, 0.5};
+const double norris_y[] = {0.1, 338.8, 118.1, 888.0, 9.2,   228.1, 668.5, 998.5, 449.1, 778.9, 559.2, 0.3,
+                           0.1, 778.1, 668.8, 339.3, 448.9, 10.8,  557.7, 228.3, 998.0, 888.8, 119.6, 0.3,
+                           0.6, 557.6, 339.3, 888.0, 998.5, 778.9, 10.2,  117.6, 228.9, 668.4, 449.2, 0.2};
 
 // Synthetic trace with two spikes (REFERENCES §3): 0.002·t + 0.05 AU, spikes at t = 45 s, 180 s.
 const double robust_t_s[] = {0, 15, 30, 45, 60, 75, 90, 105, 120, 135, 150, 165, 180, 195, 210};
@@ -33,12 +33,27 @@ const double robust_y[] = {0.0510, 0.0792, 0.1105, 0.4388, 0.1707, 0.2000, 0.229
 
 // Integrated Michaelis–Menten progress curve (REFERENCES §5): S0 = 100 µM, Km = 50 µM,
 // Vmax = 10 µM/min, t = 0, 0.5, …, 10 min.
-const double mm_progress_P_uM[] = {
-    0.0,                3.314607337890237,  6.590919048890015,  9.827638840971858,  13.023429557141199,
-    16.176913775128895, 19.286674795530573, 22.351258078284815, 25.36917319247091,  28.33889634912326,
-    31.258873590818837, 34.127524714845904, 36.943248008382156, 39.70442587379613,  42.40943141936712,
-    45.056636084756086, 47.6444183607739,   50.171173648686505, 52.63532528480666,  55.03533673087366,
-    57.36972489931373};
+const double mm_progress_P_uM[] = {0.0,
+                                   3.314607337890237,
+                                   6.590919048890015,
+                                   9.827638840971858,
+                                   13.023429557141199,
+                                   16.176913775128895,
+                                   19.286674795530573,
+                                   22.351258078284815,
+                                   25.36917319247091,
+                                   28.33889634912326,
+                                   31.258873590818837,
+                                   34.127524714845904,
+                                   36.943248008382156,
+                                   39.70442587379613,
+                                   42.40943141936712,
+                                   45.056636084756086,
+                                   47.6444183607739,
+                                   50.171173648686505,
+                                   52.63532528480666,
+                                   55.03533673087366,
+                                   57.36972489931373};
 
 bool has_flag(const vzero::RateResult& r, const char* f) {
   return std::find(r.flags.begin(), r.flags.end(), f) != r.flags.end();
@@ -118,7 +133,10 @@ TEST_CASE("estimators on the two-spike trace match SciPy 1.10.1 and MASS 7.3-58.
     CHECK_REL(all.intercept, 0.0854675, 1e-12);
     std::vector<double> t, y;
     for (int i = 0; i < 15; ++i)
-      if (i != 3 && i != 12) { t.push_back(robust_t_s[i]); y.push_back(robust_y[i]); }
+      if (i != 3 && i != 12) {
+        t.push_back(robust_t_s[i]);
+        y.push_back(robust_y[i]);
+      }
     const auto clean = vzero::detail::ols(t.data(), y.data(), 13);
     CHECK_REL(clean.slope, 0.001998555484009444, 1e-12);
     CHECK_REL(clean.intercept, 0.05027308435286543, 1e-12);
@@ -277,7 +295,10 @@ TEST_CASE("flags") {
   vzero::RateOptions opt;
   SUBCASE("overflow reads end the window and are flagged") {
     Trace tr = noisy_line(20, 10, 0.1, 0.001, 1e-4, 3);
-    for (int i = 12; i < 20; ++i) { tr.st[static_cast<std::size_t>(i)] = ReadStatus::overflow; tr.y[static_cast<std::size_t>(i)] = NAN; }
+    for (int i = 12; i < 20; ++i) {
+      tr.st[static_cast<std::size_t>(i)] = ReadStatus::overflow;
+      tr.y[static_cast<std::size_t>(i)] = NAN;
+    }
     const auto r = vzero::find_rate(tr.view(), opt);
     CHECK(has_flag(r, "overflow"));
     CHECK(r.window_end == "overflow");
@@ -335,7 +356,10 @@ TEST_CASE("flags") {
   }
   SUBCASE("a trace curved from the start has no linear window") {
     Trace tr;
-    for (int i = 0; i < 30; ++i) { tr.t.push_back(10.0 * i); tr.y.push_back(1 - std::exp(-10.0 * i / 30)); }
+    for (int i = 0; i < 30; ++i) {
+      tr.t.push_back(10.0 * i);
+      tr.y.push_back(1 - std::exp(-10.0 * i / 30));
+    }
     tr.st.assign(tr.t.size(), ReadStatus::ok);
     const auto r = vzero::find_rate(tr.view(), opt);
     CHECK(has_flag(r, "nonlinear"));

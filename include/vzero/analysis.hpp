@@ -34,35 +34,35 @@ struct AnalysisOptions {
   // Inner-filter correction of fluorescence channels, F·10^((A_ex + A_em)/2), from the mean
   // absorbance of each well in these two channels (empty = no correction).
   std::string inner_filter_ex, inner_filter_em;
-  int threads = 0;                    // 0 = all cores
+  int threads = 0;  // 0 = all cores
 };
 
 struct RateRow {
   WellId well;
   int plate_index = 0;
   Role role = Role::empty;
-  const WellInfo* info = nullptr;     // plate-map entry, nullptr when unmapped
-  RateResult rate;                    // the rate finder's result, signal units per second
+  const WellInfo* info = nullptr;                                   // plate-map entry, nullptr when unmapped
+  RateResult rate;                                                  // the rate finder's result, signal units per second
   double v0 = NAN, v0_se = NAN, v0_ci_low = NAN, v0_ci_high = NAN;  // concentration (or signal) per minute
-  double slope_per_min = NAN;         // blank-corrected signal per minute (direction applied)
-  double blank_rate_per_min = NAN;    // the blank's rate subtracted in `rate` mode, else the blank's own slope
-  double activity_u = NAN;            // enzyme activity, µmol/min, when a well volume is given
-  double specific_activity = NAN;     // activity_u per mg of enzyme (U/mg), with enzyme_mg_column
+  double slope_per_min = NAN;       // blank-corrected signal per minute (direction applied)
+  double blank_rate_per_min = NAN;  // the blank's rate subtracted in `rate` mode, else the blank's own slope
+  double activity_u = NAN;          // enzyme activity, µmol/min, when a well volume is given
+  double specific_activity = NAN;   // activity_u per mg of enzyme (U/mg), with enzyme_mg_column
   double path_cm = NAN;
-  std::vector<std::string> flags;     // reasons to distrust v0 (blank, rate, "empty"); empty = trusted
-  std::vector<std::string> notes;     // what was done to get v0 that does not withhold trust:
-                                      // "lag" skipped, "outliers" removed, "overflow"/"ceiling" reads left out
+  std::vector<std::string> flags;  // reasons to distrust v0 (blank, rate, "empty"); empty = trusted
+  std::vector<std::string> notes;  // what was done to get v0 that does not withhold trust:
+                                   // "lag" skipped, "outliers" removed, "overflow"/"ceiling" reads left out
 };
 
 struct ChannelAnalysis {
-  const Channel* channel = nullptr;   // the run's channel, or `corrected` when a correction applied
+  const Channel* channel = nullptr;          // the run's channel, or `corrected` when a correction applied
   std::shared_ptr<const Channel> corrected;  // inner-filter corrected copy, when made
   BlankResult blank;
   Conversion conversion;
-  std::string v0_unit;                // e.g. "uM/min" or "AU/min"
-  std::string slope_unit;             // e.g. "AU/min"
-  double direction_sign = 1.0;        // −1 when the reaction makes the signal fall
-  std::vector<RateRow> rows;          // one per channel column (plate index order)
+  std::string v0_unit;          // e.g. "uM/min" or "AU/min"
+  std::string slope_unit;       // e.g. "AU/min"
+  double direction_sign = 1.0;  // −1 when the reaction makes the signal fall
+  std::vector<RateRow> rows;    // one per channel column (plate index order)
 };
 
 struct RunAnalysis {

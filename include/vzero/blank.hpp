@@ -40,11 +40,11 @@ struct BlankOptions {
 };
 
 struct WellBlank {
-  std::string blank_wells;     // wells averaged for this well (well_set_text: "D1;D2", "A45:AF48"), "" when none
-  double blank_rate = NAN;     // slope of the blank trace, signal units per second (OLS, all reads)
-  double blank_noise_sd = NAN; // residual SD of the blank wells about their lines, signal units
-  double blank_rate_sd = NAN;  // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
-                               // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
+  std::string blank_wells;         // wells averaged for this well (well_set_text: "D1;D2", "A45:AF48"), "" when none
+  double blank_rate = NAN;         // slope of the blank trace, signal units per second (OLS, all reads)
+  double blank_noise_sd = NAN;     // residual SD of the blank wells about their lines, signal units
+  double blank_rate_sd = NAN;      // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
+                                   // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank
                                    // wells also "blank-disturbed" (its start jumps or decays)
   std::vector<std::string> notes;  // e.g. "blank-line": a blank used here had a disturbed start, so its
@@ -52,9 +52,9 @@ struct WellBlank {
 };
 
 struct BlankResult {
-  Eigen::MatrixXd blank;      // reads × wells subtracted (0 in rate mode and for none)
-  Eigen::MatrixXd corrected;  // raw − blank; NaN where unusable
-  StatusMatrix status;        // raw status; `excluded` where the blank has no value at that read
+  Eigen::MatrixXd blank;         // reads × wells subtracted (0 in rate mode and for none)
+  Eigen::MatrixXd corrected;     // raw − blank; NaN where unusable
+  StatusMatrix status;           // raw status; `excluded` where the blank has no value at that read
   std::vector<WellBlank> wells;  // one per channel column
 };
 

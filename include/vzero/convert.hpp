@@ -44,16 +44,16 @@ const std::vector<EpsilonPreset>& epsilon_presets();
 
 struct ConvertOptions {
   ConvertMode mode = ConvertMode::signal_only;
-  double epsilon_per_m_cm = NAN;       // molar absorption coefficient, M⁻¹·cm⁻¹
-  double path_cm = NAN;                // fixed path length
-  double volume_ul = NAN;              // fill volume, with well_diameter_mm: cylinder path
+  double epsilon_per_m_cm = NAN;  // molar absorption coefficient, M⁻¹·cm⁻¹
+  double path_cm = NAN;           // fixed path length
+  double volume_ul = NAN;         // fill volume, with well_diameter_mm: cylinder path
   double well_diameter_mm = NAN;
-  bool water_peak = false;             // per-well path from two water-band channels
-  std::string water_high = "A977";     // channel near 977 nm
-  std::string water_low = "A900";      // channel near 900 nm
-  double water_k_per_cm = 0.18;        // (A977 − A900) of water per cm of path
-  std::string conc_unit = "uM";        // "M", "mM", "uM" or "nM"
-  int standard_read = -1;              // read (0-based) used for the standard curve; -1 = mean of ok reads
+  bool water_peak = false;          // per-well path from two water-band channels
+  std::string water_high = "A977";  // channel near 977 nm
+  std::string water_low = "A900";   // channel near 900 nm
+  double water_k_per_cm = 0.18;     // (A977 − A900) of water per cm of path
+  std::string conc_unit = "uM";     // "M", "mM", "uM" or "nM"
+  int standard_read = -1;           // read (0-based) used for the standard curve; -1 = mean of ok reads
 };
 
 struct StandardCurve {
@@ -61,9 +61,9 @@ struct StandardCurve {
   double slope = NAN, slope_se = NAN;          // signal per concentration unit
   double intercept = NAN, intercept_se = NAN;  // signal
   double r2 = NAN, residual_sd = NAN;
-  double lod = NAN;             // limit of detection, concentration: 3·sd(zero standards) / slope, or 3·SE(intercept) / slope
-  std::string lod_basis;        // "zero-standards" or "intercept"
-  double conc_min = NAN, conc_max = NAN;       // calibrated range
+  double lod = NAN;  // limit of detection, concentration: 3·sd(zero standards) / slope, or 3·SE(intercept) / slope
+  std::string lod_basis;                  // "zero-standards" or "intercept"
+  double conc_min = NAN, conc_max = NAN;  // calibrated range
   double signal_min = NAN, signal_max = NAN;
   int n = 0;
   std::vector<std::pair<double, double>> points;  // (conc, signal) used
@@ -71,12 +71,12 @@ struct StandardCurve {
 
 struct Conversion {
   ConvertMode mode = ConvertMode::signal_only;
-  std::string conc_unit;             // "" for signal only
-  std::vector<double> factor;        // per channel column: concentration per signal unit (1 for signal only)
-  std::vector<double> path_cm;       // per channel column; NaN unless Beer–Lambert
+  std::string conc_unit;        // "" for signal only
+  std::vector<double> factor;   // per channel column: concentration per signal unit (1 for signal only)
+  std::vector<double> path_cm;  // per channel column; NaN unless Beer–Lambert
   std::optional<StandardCurve> curve;
-  std::string path_source;           // "fixed", "cylinder", "water-peak" or ""
-  std::string formula;               // the conversion in words, for provenance
+  std::string path_source;  // "fixed", "cylinder", "water-peak" or ""
+  std::string formula;      // the conversion in words, for provenance
 };
 
 // Plans the conversion for one channel (options checked beforehand: check_analysis_options).

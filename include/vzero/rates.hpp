@@ -96,7 +96,8 @@ bool parse_window_method(std::string_view text, WindowMethod& out);
 
 // When v0 is the initial tangent of a parabola instead of the straight-line slope.
 //   never:  always the straight-line slope of the window
-//   auto:   (needs `tangent_min_reads` reads in the parabola) the tangent at time zero (`time_zero_s`) of a least-squares parabola fitted to
+//   auto:   (needs `tangent_min_reads` reads in the parabola) the tangent at time zero (`time_zero_s`) of a
+//   least-squares parabola fitted to
 //           the window's kept reads and the usable reads after it, up to `tangent_reach`
 //           times the window's length (one pass of the outlier rule against the parabola).
 //           Used only when (a) the parabola bends down significantly (one-sided t-test at
@@ -115,44 +116,44 @@ bool parse_tangent_mode(std::string_view text, TangentMode& out);
 struct WindowRule;
 
 struct RateOptions {
-  int min_points = 5;              // fewest reads a window may hold
-  double min_span_s = 0.0;         // shortest time a window may span, seconds
-  double skip_s = 0.0;             // dead time after mixing: reads before it are not used, seconds
-  double max_conversion = 0.10;    // fraction of `substrate` that may be converted in the window
-  double signal_ceiling = NAN;     // detector linear limit in raw signal units; NaN = none
-  double absorbance_limit = 2.0;   // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
-                                   // (applied by the pipeline, src/analysis.cpp; not by find_rate)
+  int min_points = 5;             // fewest reads a window may hold
+  double min_span_s = 0.0;        // shortest time a window may span, seconds
+  double skip_s = 0.0;            // dead time after mixing: reads before it are not used, seconds
+  double max_conversion = 0.10;   // fraction of `substrate` that may be converted in the window
+  double signal_ceiling = NAN;    // detector linear limit in raw signal units; NaN = none
+  double absorbance_limit = 2.0;  // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
+                                  // (applied by the pipeline, src/analysis.cpp; not by find_rate)
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
-  double linearity_alpha = 0.01;   // significance level of the curvature test; 0 = no test
-  double slope_drift = 0.02;       // curvature matters only above this fractional slope change
-  bool detect_lag = true;          // skip an initial stretch where the rate rises
-  double outlier_k = 4.0;          // outlier cut in robust SDs (1.4826·MAD) of the residuals
-  double lod_factor = 3.0;         // limit of detection in blank-noise slope SDs (`noise` flag)
-  double time_zero_s = NAN;        // when the reaction started on the trace clock; NaN = first read
+  double linearity_alpha = 0.01;  // significance level of the curvature test; 0 = no test
+  double slope_drift = 0.02;      // curvature matters only above this fractional slope change
+  bool detect_lag = true;         // skip an initial stretch where the rate rises
+  double outlier_k = 4.0;         // outlier cut in robust SDs (1.4826·MAD) of the residuals
+  double lod_factor = 3.0;        // limit of detection in blank-noise slope SDs (`noise` flag)
+  double time_zero_s = NAN;       // when the reaction started on the trace clock; NaN = first read
   TangentMode tangent = TangentMode::automatic;
-  double tangent_reach = 4.0;      // parabola window length as a multiple of the line window
-  double tangent_alpha = 0.05;     // one-sided significance the parabola's bend needs (tangent = auto)
-  int tangent_min_reads = 10;      // fewest reads the parabola needs before its tangent may be used (tangent = auto)
-  bool detect_disturbed = true;    // set aside a disturbed start (a jump or decay over the first reads)
-  double precision_limit = 0.15;   // relative 95 % half-width above which a rate is flagged `imprecise`; 0 = none
+  double tangent_reach = 4.0;     // parabola window length as a multiple of the line window
+  double tangent_alpha = 0.05;    // one-sided significance the parabola's bend needs (tangent = auto)
+  int tangent_min_reads = 10;     // fewest reads the parabola needs before its tangent may be used (tangent = auto)
+  bool detect_disturbed = true;   // set aside a disturbed start (a jump or decay over the first reads)
+  double precision_limit = 0.15;  // relative 95 % half-width above which a rate is flagged `imprecise`; 0 = none
   const std::vector<WindowRule>* window_rules = nullptr;  // the window search's rules; nullptr = default_window_rules()
 };
 
 // One candidate window as the window search's rules see it: the reads from the window's
 // start up to the one the search is about to add.
 struct WindowCandidate {
-  int n = 0;                     // reads in it (reads the spike screen held out not counted)
+  int n = 0;  // reads in it (reads the spike screen held out not counted)
   double t_first_s = NAN, t_last_s = NAN;
-  double slope = NAN;            // least-squares slope, signal units per second
-  double curvature = NAN;        // square term c2 of the least-squares parabola; NaN below 4 reads
-  double curvature_se = NAN;     // its SE (residual SD never below the read noise)
-  double drift = NAN;            // slope change across the window the parabola implies, 2·c2·(span)
-  double critical_t = NAN;       // two-sided t at `linearity_alpha` for n − 3 degrees of freedom
-  int rest_n = 0;                // the same four without the window's first read
+  double slope = NAN;         // least-squares slope, signal units per second
+  double curvature = NAN;     // square term c2 of the least-squares parabola; NaN below 4 reads
+  double curvature_se = NAN;  // its SE (residual SD never below the read noise)
+  double drift = NAN;         // slope change across the window the parabola implies, 2·c2·(span)
+  double critical_t = NAN;    // two-sided t at `linearity_alpha` for n − 3 degrees of freedom
+  int rest_n = 0;             // the same four without the window's first read
   double rest_slope = NAN, rest_curvature = NAN, rest_curvature_se = NAN, rest_drift = NAN, rest_critical_t = NAN;
-  double product = NAN;          // signal formed since reaction start at t_last_s, from the curve
-  double product_limit = NAN;    // signal the conversion limit allows; NaN = no limit
+  double product = NAN;        // signal formed since reaction start at t_last_s, from the curve
+  double product_limit = NAN;  // signal the conversion limit allows; NaN = no limit
 };
 
 // A window rule: one entry in the table of rules the window search applies, in order, to
@@ -178,47 +179,47 @@ struct TraceView {
   const double* raw = nullptr;         // raw signal for the ceiling check; nullptr = use y
   const ReadStatus* status = nullptr;  // per read; only ok reads are used
   int n = 0;
-  double substrate = NAN;              // initial substrate concentration, same unit as conc_per_signal gives
-  double conc_per_signal = NAN;        // concentration per signal unit (conversion limit); NaN = unconverted
-  double noise_sd = NAN;               // read noise of the blank, signal units; NaN = estimate from residuals
-  double rate_sd = NAN;                // how far apart wells' rates lie that read noise does not explain (the
-                                       // blank wells' own rates scatter: well-to-well drift), signal units per
-                                       // second; no rate is known better than this. NaN = none known
+  double substrate = NAN;        // initial substrate concentration, same unit as conc_per_signal gives
+  double conc_per_signal = NAN;  // concentration per signal unit (conversion limit); NaN = unconverted
+  double noise_sd = NAN;         // read noise of the blank, signal units; NaN = estimate from residuals
+  double rate_sd = NAN;          // how far apart wells' rates lie that read noise does not explain (the
+                                 // blank wells' own rates scatter: well-to-well drift), signal units per
+                                 // second; no rate is known better than this. NaN = none known
 };
 
 struct RateResult {
-  double slope = NAN;        // v0 estimate, signal units per second (the line or the tangent)
-  double slope_se = NAN;     // standard error of slope
-  double ci_low = NAN;       // 95 % interval of slope
+  double slope = NAN;     // v0 estimate, signal units per second (the line or the tangent)
+  double slope_se = NAN;  // standard error of slope
+  double ci_low = NAN;    // 95 % interval of slope
   double ci_high = NAN;
-  double intercept = NAN;    // signal at t = 0 s of the straight line
-  double r2 = NAN;           // of the straight line on the reads used
-  int n_points = 0;          // reads in the straight-line window (outliers included)
-  int n_outliers = 0;        // reads rejected as outliers in the window (and, when v0 is the
-                             // parabola's tangent, in the parabola's window)
+  double intercept = NAN;  // signal at t = 0 s of the straight line
+  double r2 = NAN;         // of the straight line on the reads used
+  int n_points = 0;        // reads in the straight-line window (outliers included)
+  int n_outliers = 0;      // reads rejected as outliers in the window (and, when v0 is the
+                           // parabola's tangent, in the parabola's window)
   double t_start_s = NAN;
   double t_end_s = NAN;
-  double conversion = NAN;   // fraction of substrate converted at the window's end; NaN if unknown
+  double conversion = NAN;  // fraction of substrate converted at the window's end; NaN if unknown
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
-  std::string tangent;       // which estimate `slope` is: "slope" (straight line) or "parabola" (initial tangent)
-  std::vector<std::string> flags;        // short words; empty = clean (documented above)
-  std::vector<std::uint8_t> used;        // per read: 1 when v0 rests on it (in the window, or the
-                                         // parabola's window when the tangent is used; not an outlier)
+  std::string tangent;             // which estimate `slope` is: "slope" (straight line) or "parabola" (initial tangent)
+  std::vector<std::string> flags;  // short words; empty = clean (documented above)
+  std::vector<std::uint8_t> used;  // per read: 1 when v0 rests on it (in the window, or the
+                                   // parabola's window when the tangent is used; not an outlier)
 
   // Detail for the audit trail.
-  double line_slope = NAN;      // straight-line slope of the window with `estimator`
+  double line_slope = NAN;  // straight-line slope of the window with `estimator`
   double line_slope_se = NAN;
-  double tangent_slope = NAN;   // initial tangent of the parabola; NaN when not fitted
+  double tangent_slope = NAN;  // initial tangent of the parabola; NaN when not fitted
   double tangent_se = NAN;
-  double tangent_end_s = NAN;   // last read of the parabola's window
-  double lag_s = NAN;           // time skipped as lag (start of window − first undisturbed read); 0 when none
-  int disturbed_reads = 0;      // reads set aside at the start as a disturbed start
+  double tangent_end_s = NAN;     // last read of the parabola's window
+  double lag_s = NAN;             // time skipped as lag (start of window − first undisturbed read); 0 when none
+  int disturbed_reads = 0;        // reads set aside at the start as a disturbed start
   double disturbed_offset = NAN;  // the disturbance fitted at the first read the spike screen kept, signal
                                   // units (NaN = not fitted)
-  double noise_sd = NAN;        // read noise SD used for the tests (given, or robust estimate)
-  std::string window_end;       // what ended the window: curvature, conversion, ceiling, overflow,
-                                // reads (ran out), fixed (leading/steepest)
+  double noise_sd = NAN;          // read noise SD used for the tests (given, or robust estimate)
+  std::string window_end;         // what ended the window: curvature, conversion, ceiling, overflow,
+                                  // reads (ran out), fixed (leading/steepest)
 };
 
 RateResult find_rate(const TraceView& trace, const RateOptions& options);

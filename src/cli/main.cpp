@@ -45,8 +45,10 @@ std::string shown(const std::string& text) {
   out.reserve(text.size());
   for (char c : text) {
     const auto u = static_cast<unsigned char>(c);
-    if ((u < 0x20 && c != '\n' && c != '\t') || u == 0x7f) out += fmt::format("\\x{:02x}", u);
-    else out += c;
+    if ((u < 0x20 && c != '\n' && c != '\t') || u == 0x7f)
+      out += fmt::format("\\x{:02x}", u);
+    else
+      out += c;
   }
   return out;
 }

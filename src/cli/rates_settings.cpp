@@ -1,8 +1,8 @@
 #include "cli/rates_settings.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 
 #include "core/text.hpp"
@@ -26,8 +26,10 @@ void add_rates_options(po::options_description& opts) {
     if (o.short_name) names += std::string(",") + o.short_name;
     std::string help(o.help);
     if (!o.default_text.empty()) help += fmt::format(" (default: {})", o.default_text);
-    if (o.kind == OptionKind::flag) sections.back().second.add_options()(names.c_str(), help.c_str());
-    else sections.back().second.add_options()(names.c_str(), po::value<std::string>(), help.c_str());
+    if (o.kind == OptionKind::flag)
+      sections.back().second.add_options()(names.c_str(), help.c_str());
+    else
+      sections.back().second.add_options()(names.c_str(), po::value<std::string>(), help.c_str());
   }
   sections.front().second.add_options()("help,h", "show this help");
   for (auto& [name, section] : sections) opts.add(section);
@@ -35,7 +37,8 @@ void add_rates_options(po::options_description& opts) {
 
 std::string epsilon_preset_list() {
   std::string out;
-  for (const auto& p : epsilon_presets()) out += fmt::format("\n  {} = {} M⁻¹·cm⁻¹ ({}): {}", p.name, p.epsilon_per_m_cm, p.wavelength, p.source);
+  for (const auto& p : epsilon_presets())
+    out += fmt::format("\n  {} = {} M⁻¹·cm⁻¹ ({}): {}", p.name, p.epsilon_per_m_cm, p.wavelength, p.source);
   return out;
 }
 
@@ -72,7 +75,8 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
       }
   Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty\n", runs.size(),
                         runs.size() == 1 ? "" : "s", wells, samples, blanks, standards, empty);
-  out += fmt::format("{} sample well{} flagged{}\n", flagged, flagged == 1 ? "" : "s", flagged ? " (a well may have several reasons):" : "");
+  out += fmt::format("{} sample well{} flagged{}\n", flagged, flagged == 1 ? "" : "s",
+                     flagged ? " (a well may have several reasons):" : "");
   for (const auto& [f, n] : by_flag) out += fmt::format("  {:<22} {}\n", f, n);
   if (!by_note.empty()) {
     out += "corrections made (notes; these wells keep their rate):";
@@ -83,10 +87,11 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
     for (const auto& ca : ra.channels)
       if (ca.conversion.curve) {
         const auto& sc = *ca.conversion.curve;
-        out += fmt::format("standard curve {}: signal = {:.6g} + {:.6g}·c (r² {:.6f}, {} wells), calibrated {:g}–{:g} {}, "
-                           "LOD {:.3g} {} ({})\n",
-                           ca.channel->name, sc.intercept, sc.slope, sc.r2, sc.n, sc.conc_min, sc.conc_max,
-                           ca.conversion.conc_unit, sc.lod, ca.conversion.conc_unit, sc.lod_basis);
+        out += fmt::format(
+            "standard curve {}: signal = {:.6g} + {:.6g}·c (r² {:.6f}, {} wells), calibrated {:g}–{:g} {}, "
+            "LOD {:.3g} {} ({})\n",
+            ca.channel->name, sc.intercept, sc.slope, sc.r2, sc.n, sc.conc_min, sc.conc_max, ca.conversion.conc_unit,
+            sc.lod, ca.conversion.conc_unit, sc.lod_basis);
       }
   // Median v0 per sample condition (the summary's groups), as a short table.
   Str head = "condition";
@@ -98,10 +103,11 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
       if (g.key[i].empty() || detail::iequals(summary.columns[i], "match")) continue;
       key += (key.empty() ? "" : " ") + summary.columns[i] + "=" + g.key[i];
     }
-    lines.emplace_back(g.channel + " " + key, std::isnan(g.v0_mean)
-                                                  ? fmt::format("no clean wells ({} flagged)", g.n_flagged)
-                                                  : fmt::format("{:.4g} {} (sd {:.2g}, n {}{})", g.v0_mean, g.v0_unit,
-                                                                g.v0_sd, g.n, g.n_flagged ? fmt::format(", {} flagged", g.n_flagged) : ""));
+    lines.emplace_back(g.channel + " " + key,
+                       std::isnan(g.v0_mean)
+                           ? fmt::format("no clean wells ({} flagged)", g.n_flagged)
+                           : fmt::format("{:.4g} {} (sd {:.2g}, n {}{})", g.v0_mean, g.v0_unit, g.v0_sd, g.n,
+                                         g.n_flagged ? fmt::format(", {} flagged", g.n_flagged) : ""));
   }
   if (!lines.empty()) {
     out += "mean v0 of the clean replicate wells per condition:\n";

@@ -185,7 +185,9 @@ struct Mix {
   __extension__ typedef unsigned __int128 u128;
   std::uint64_t state;
   // Uniform on [0, bound) by a multiply-high (no division).
-  std::uint64_t below(std::uint64_t bound) { return static_cast<std::uint64_t>((static_cast<u128>(next()) * bound) >> 64); }
+  std::uint64_t below(std::uint64_t bound) {
+    return static_cast<std::uint64_t>((static_cast<u128>(next()) * bound) >> 64);
+  }
   std::uint64_t next() {
     std::uint64_t z = (state += 0x9e3779b97f4a7c15ULL);
     z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
@@ -208,7 +210,7 @@ void sample_all(const Points& p, std::size_t m, Mix& mix, std::vector<double>& o
 }
 
 struct Bracket {
-  Order lo, hi;      // orders at the thresholds lo.t = a − band, hi.t = b + band
+  Order lo, hi;  // orders at the thresholds lo.t = a − band, hi.t = b + band
   double a = -INFINITY, b = INFINITY;
   i64 below_a = 0, below_b = 0;  // slopes judged ≤ lo.t, ≤ hi.t
 };
@@ -307,13 +309,19 @@ bool refine(const Points& p, Bracket& br, std::vector<double>& smp, i64 k_lo, i6
   if (ok && a > br.a) {
     Bracket t = br;
     set_lower(p, t, a, s);
-    if (t.below_a <= k_lo) { br = std::move(t); moved = true; }
+    if (t.below_a <= k_lo) {
+      br = std::move(t);
+      moved = true;
+    }
   }
   const double b = sample_quantile(smp, qh, 3, ok);
   if (ok && b < br.b) {
     Bracket t = br;
     set_upper(p, t, b, s);
-    if (t.below_b > k_hi) { br = std::move(t); moved = true; }
+    if (t.below_b > k_hi) {
+      br = std::move(t);
+      moved = true;
+    }
   }
   return moved;
 }
@@ -382,7 +390,8 @@ bool select_all(const Points& p, const std::vector<i64>& sorted, double* values,
   for (std::size_t g = 0; g < sorted.size();) {
     std::size_t e = g + 1;
     while (e < sorted.size() && sorted[e] - sorted[e - 1] <= 2 * n) ++e;
-    const std::vector<i64> ks(sorted.begin() + static_cast<std::ptrdiff_t>(g), sorted.begin() + static_cast<std::ptrdiff_t>(e));
+    const std::vector<i64> ks(sorted.begin() + static_cast<std::ptrdiff_t>(g),
+                              sorted.begin() + static_cast<std::ptrdiff_t>(e));
     const i64 group_cap = cap + (ks.back() - ks.front());
     Bracket br = all;
     std::vector<double> shared = smp;
@@ -422,8 +431,10 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
     }
     std::swap(a[i], a[hi - 1]);  // the pivot at its place: [lo, i) < pivot ≤ [i + 1, hi)
     if (k == i) return;
-    if (k < i) hi = i;
-    else lo = i + 1;
+    if (k < i)
+      hi = i;
+    else
+      lo = i + 1;
   }
   // A few left: insertion sort.
   for (std::size_t p = lo + 1; p < hi; ++p) {

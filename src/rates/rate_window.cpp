@@ -8,8 +8,8 @@
 #include <emmintrin.h>
 #endif
 
-#include "rates/robust.hpp"
 #include "core/stats.hpp"
+#include "rates/robust.hpp"
 
 namespace vzero::detail {
 namespace {
@@ -138,7 +138,8 @@ constexpr auto pair_offsets() {
     for (int p = 0; p < 6; ++p)
       for (int q = p + 1; q < 6; ++q)
         t[static_cast<std::size_t>(e)][static_cast<std::size_t>(n++)] =
-            nb[static_cast<std::size_t>(p)] * 6 + (nb[static_cast<std::size_t>(q)] - nb[static_cast<std::size_t>(p)] - 1);
+            nb[static_cast<std::size_t>(p)] * 6 +
+            (nb[static_cast<std::size_t>(q)] - nb[static_cast<std::size_t>(p)] - 1);
   }
   return t;
 }
@@ -234,7 +235,8 @@ void screen_spikes(Usable& u, double k, double floor) {
       yv[i] = {_mm_set_pd(y1[i], y0[i])};
     }
     V2 dv, sdv;
-    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])}, dv, sdv);
+    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])}, dv,
+                sdv);
     _mm_storel_pd(&d[z(j)], dv.v);
     _mm_storeh_pd(&d[z(j + 1)], dv.v);
     _mm_storel_pd(&nb_sd[z(j)], sdv.v);
@@ -270,8 +272,11 @@ double detector_plateau(const TraceView& tr, const RateOptions& opt) {
     overflow |= st == ReadStatus::overflow;
     const double level = tr.raw ? tr.raw[i] : tr.y[i];
     if (st != ReadStatus::ok || !std::isfinite(level)) continue;
-    if (level > top) { top = level; at_top = 1; }
-    else if (level == top) ++at_top;
+    if (level > top) {
+      top = level;
+      at_top = 1;
+    } else if (level == top)
+      ++at_top;
   }
   const bool high = std::isfinite(opt.signal_ceiling) && top >= opt.signal_ceiling;
   return at_top >= 2 && (overflow || high) ? top : NAN;
@@ -325,7 +330,10 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
     std::vector<double> x, y;
     x.reserve(ps.size());
     y.reserve(ps.size());
-    for (int p : ps) { x.push_back(u.t[z(p)]); y.push_back(u.y[z(p)]); }
+    for (int p : ps) {
+      x.push_back(u.t[z(p)]);
+      y.push_back(u.y[z(p)]);
+    }
     return quadratic(x.data(), y.data(), static_cast<int>(x.size()), t_ref);
   };
   QuadFit q = fit(pos);
@@ -342,8 +350,10 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
     const double scale = std::max(1.4826 * median_inplace(a), sd_floor);
     const std::size_t before = pos.size();
     for (int p : held) {
-      if (std::fabs(resid(p)) > opt.outlier_k * scale) ++f.rejected;
-      else pos.push_back(p);
+      if (std::fabs(resid(p)) > opt.outlier_k * scale)
+        ++f.rejected;
+      else
+        pos.push_back(p);
     }
     if (pos.size() > before) {
       std::sort(pos.begin(), pos.end());

@@ -13,14 +13,14 @@ namespace vzero::detail {
 // The reads a window may use, in time order: status ok, finite, not before skip_s, and
 // before the first overflow or ceiling read that follows a usable read.
 struct Usable {
-  std::vector<int> idx;      // index of each usable read in the trace
-  std::vector<double> t, y;  // its time and signal
-  std::vector<char> spike;   // 1 when the spike screen holds the read out of the search
-  double local_sd = NAN;     // robust read-noise SD from the spike screen (NaN below 6 reads)
-  bool any_overflow = false; // an overflow read anywhere in the trace
-  bool any_ceiling = false;  // an ok read at or above the ceiling anywhere in the trace
+  std::vector<int> idx;        // index of each usable read in the trace
+  std::vector<double> t, y;    // its time and signal
+  std::vector<char> spike;     // 1 when the spike screen holds the read out of the search
+  double local_sd = NAN;       // robust read-noise SD from the spike screen (NaN below 6 reads)
+  bool any_overflow = false;   // an overflow read anywhere in the trace
+  bool any_ceiling = false;    // an ok read at or above the ceiling anywhere in the trace
   bool any_saturated = false;  // an ok read at the detector's plateau (`clip`) anywhere in the trace
-  std::string truncated_by;  // "overflow", "ceiling", "saturated" or empty
+  std::string truncated_by;    // "overflow", "ceiling", "saturated" or empty
 };
 // `clip` (NaN = none): the detector's plateau level; reads at or above it are treated like
 // ceiling reads (the window stops before them), named "saturated".
@@ -41,11 +41,11 @@ double tiny_floor(const Usable& u);
 struct WindowChoice {
   int first = 0, last = 0;
   bool too_few = false, nonlinear = false, depleted = false, lag = false;
-  bool rising = false;           // the rate still rises across the chosen window (significant upward bend)
-  int disturbed = 0;             // reads set aside as a disturbed start (usable positions 0 … disturbed − 1, spikes counted)
-  int undisturbed = 0;           // usable position of the first read after the disturbed start
-  double baseline = NAN;         // the trace's signal at reaction start (the conversion limit's zero)
-  std::string end;  // what ended it: curvature, conversion, ceiling, overflow, reads, fixed
+  bool rising = false;  // the rate still rises across the chosen window (significant upward bend)
+  int disturbed = 0;    // reads set aside as a disturbed start (usable positions 0 … disturbed − 1, spikes counted)
+  int undisturbed = 0;  // usable position of the first read after the disturbed start
+  double baseline = NAN;  // the trace's signal at reaction start (the conversion limit's zero)
+  std::string end;        // what ended it: curvature, conversion, ceiling, overflow, reads, fixed
 };
 // `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit); the
 // product formed is measured from the curve: the candidate's line at its last read minus the

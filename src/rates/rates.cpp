@@ -1,8 +1,8 @@
 #include "vzero/rates.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cassert>
-#include <fmt/format.h>
 
 #include "rates/rate_window.hpp"
 #include "rates/robust.hpp"
@@ -12,52 +12,73 @@ namespace vzero {
 
 std::string_view to_string(Estimator e) {
   switch (e) {
-    case Estimator::theil_sen: return "theil-sen";
-    case Estimator::ols: return "ols";
-    case Estimator::huber: return "huber";
+    case Estimator::theil_sen:
+      return "theil-sen";
+    case Estimator::ols:
+      return "ols";
+    case Estimator::huber:
+      return "huber";
   }
   return "theil-sen";
 }
 
 bool parse_estimator(std::string_view t, Estimator& out) {
-  if (t == "theil-sen") out = Estimator::theil_sen;
-  else if (t == "ols") out = Estimator::ols;
-  else if (t == "huber") out = Estimator::huber;
-  else return false;
+  if (t == "theil-sen")
+    out = Estimator::theil_sen;
+  else if (t == "ols")
+    out = Estimator::ols;
+  else if (t == "huber")
+    out = Estimator::huber;
+  else
+    return false;
   return true;
 }
 
 std::string_view to_string(WindowMethod m) {
   switch (m) {
-    case WindowMethod::automatic: return "auto";
-    case WindowMethod::leading: return "leading";
-    case WindowMethod::steepest: return "steepest";
+    case WindowMethod::automatic:
+      return "auto";
+    case WindowMethod::leading:
+      return "leading";
+    case WindowMethod::steepest:
+      return "steepest";
   }
   return "auto";
 }
 
 bool parse_window_method(std::string_view t, WindowMethod& out) {
-  if (t == "auto") out = WindowMethod::automatic;
-  else if (t == "leading") out = WindowMethod::leading;
-  else if (t == "steepest") out = WindowMethod::steepest;
-  else return false;
+  if (t == "auto")
+    out = WindowMethod::automatic;
+  else if (t == "leading")
+    out = WindowMethod::leading;
+  else if (t == "steepest")
+    out = WindowMethod::steepest;
+  else
+    return false;
   return true;
 }
 
 std::string_view to_string(TangentMode m) {
   switch (m) {
-    case TangentMode::never: return "never";
-    case TangentMode::automatic: return "auto";
-    case TangentMode::always: return "always";
+    case TangentMode::never:
+      return "never";
+    case TangentMode::automatic:
+      return "auto";
+    case TangentMode::always:
+      return "always";
   }
   return "auto";
 }
 
 bool parse_tangent_mode(std::string_view t, TangentMode& out) {
-  if (t == "never") out = TangentMode::never;
-  else if (t == "auto") out = TangentMode::automatic;
-  else if (t == "always") out = TangentMode::always;
-  else return false;
+  if (t == "never")
+    out = TangentMode::never;
+  else if (t == "auto")
+    out = TangentMode::automatic;
+  else if (t == "always")
+    out = TangentMode::always;
+  else
+    return false;
   return true;
 }
 
@@ -67,9 +88,12 @@ using detail::LineFit;
 
 LineFit fit_line(Estimator e, const double* t, const double* y, int n) {
   switch (e) {
-    case Estimator::ols: return detail::ols(t, y, n);
-    case Estimator::huber: return detail::huber(t, y, n);
-    case Estimator::theil_sen: break;
+    case Estimator::ols:
+      return detail::ols(t, y, n);
+    case Estimator::huber:
+      return detail::huber(t, y, n);
+    case Estimator::theil_sen:
+      break;
   }
   return detail::theil_sen(t, y, n);
 }
@@ -82,7 +106,7 @@ void add_flag(RateResult& r, const char* word) {
 struct Kept {
   std::vector<int> pos;  // usable positions kept
   int outliers = 0;
-  LineFit line;          // the rule's Theil–Sen line
+  LineFit line;               // the rule's Theil–Sen line
   bool line_on_kept = false;  // that line was fitted to exactly the kept reads
 };
 
@@ -118,8 +142,10 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   const double scale = std::max(1.4826 * detail::median_inplace(a), sd_floor);
   for (int i = first; i <= last; ++i) {
     const double r = u.y[static_cast<std::size_t>(i)] - (ts.intercept + ts.slope * u.t[static_cast<std::size_t>(i)]);
-    if (std::isfinite(ts.slope) && std::fabs(r) > k * scale) ++kept.outliers;
-    else kept.pos.push_back(i);
+    if (std::isfinite(ts.slope) && std::fabs(r) > k * scale)
+      ++kept.outliers;
+    else
+      kept.pos.push_back(i);
   }
   if (kept.pos.size() < 3) {
     kept.pos.clear();
@@ -167,10 +193,9 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   const double noise = detail::noise_estimate(u, tr.noise_sd);
   r.noise_sd = noise;
   const double sd_floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : detail::tiny_floor(u);
-  const double limit_per_signal =
-      (std::isfinite(tr.substrate) && tr.substrate > 0 && std::isfinite(tr.conc_per_signal))
-          ? opt.max_conversion * tr.substrate / tr.conc_per_signal
-          : NAN;  // signal change allowed since time zero
+  const double limit_per_signal = (std::isfinite(tr.substrate) && tr.substrate > 0 && std::isfinite(tr.conc_per_signal))
+                                      ? opt.max_conversion * tr.substrate / tr.conc_per_signal
+                                      : NAN;  // signal change allowed since time zero
 
   // A disturbed start is set aside, and what is left of it taken off the reads kept.
   detail::StartScreen start;
@@ -243,7 +268,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     const double f = std::isfinite(r.conversion) ? std::clamp(r.conversion, 0.0, 0.5) : opt.max_conversion;
     const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
     const bool enough = static_cast<int>(tf.pos.size()) >= std::max(5, opt.tangent_min_reads);
-    const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible && enough;
+    const bool use =
+        opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible && enough;
     if (use) {
       // v0 now rests on the parabola's reads: they are the ones used, and reads it held out
       // are outliers too.
@@ -267,7 +293,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
       mt /= nk;
       for (double t : kt) stt += (t - mt) * (t - mt);
       const double drift = std::isfinite(tr.rate_sd) ? tr.rate_sd : 0.0;
-      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * std::hypot(tr.noise_sd / std::sqrt(stt), drift)) noise_only = true;
+      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * std::hypot(tr.noise_sd / std::sqrt(stt), drift))
+        noise_only = true;
     }
     // A trace stuck at the detector's maximum says nothing about the rate's size or sign:
     // it is `saturated`, never noise or negative.

@@ -26,7 +26,10 @@ LineFit ols(const double* x, const double* y, int n) {
   f.n = n;
   if (n < 2) return f;
   double mx = 0, my = 0;
-  for (int i = 0; i < n; ++i) { mx += x[i]; my += y[i]; }
+  for (int i = 0; i < n; ++i) {
+    mx += x[i];
+    my += y[i];
+  }
   mx /= n;
   my /= n;
   double sxx = 0, sxy = 0, syy = 0;
@@ -60,7 +63,11 @@ LineFit ols(const double* x, const double* y, int n) {
 
 void wls(const double* x, const double* y, const double* w, int n, double& slope, double& intercept) {
   double sw = 0, mx = 0, my = 0;
-  for (int i = 0; i < n; ++i) { sw += w[i]; mx += w[i] * x[i]; my += w[i] * y[i]; }
+  for (int i = 0; i < n; ++i) {
+    sw += w[i];
+    mx += w[i] * x[i];
+    my += w[i] * y[i];
+  }
   mx /= sw;
   my /= sw;
   double sxx = 0, sxy = 0;

@@ -21,11 +21,11 @@ struct LineFit {
   double intercept_se = NAN;  // OLS only; NaN for the robust estimators
   double ci_low = NAN;        // 95 % interval of the slope
   double ci_high = NAN;
-  double resid_sd = NAN;      // √(RSS/(n−2)) of the plain residuals
-  double rss = NAN;           // Σ (y − ŷ)² of the plain residuals
-  double r2 = NAN;            // 1 − RSS/Σ(y − ȳ)²
+  double resid_sd = NAN;  // √(RSS/(n−2)) of the plain residuals
+  double rss = NAN;       // Σ (y − ŷ)² of the plain residuals
+  double r2 = NAN;        // 1 − RSS/Σ(y − ȳ)²
   int n = 0;
-  int iterations = 0;         // Huber: IRLS iterations used
+  int iterations = 0;  // Huber: IRLS iterations used
 };
 
 // Ordinary least squares with centred two-pass sums: means first, then Σ(x−x̄)(y−ȳ),
@@ -52,8 +52,7 @@ LineFit theil_sen(const double* x, const double* y, int n, double* intercept_sep
 // SE from Huber's asymptotic formula with the κ correction, as MASS `summary.rlm` computes
 // it by default (from memory): SE² = κ²/m̄² · Σ(ψ(r/s)·s)²/(n−2) · [(XᵀX)⁻¹]₁₁,
 // κ = 1 + 2·var(ψ')/(n·m̄²), m̄ = mean ψ', s the scale of the last iteration. 95 % interval slope ± t(0.975, n−2)·SE.
-LineFit huber(const double* x, const double* y, int n, double k = 1.345, double tol = 1e-12,
-              int max_iter = 500);
+LineFit huber(const double* x, const double* y, int n, double k = 1.345, double tol = 1e-12, int max_iter = 500);
 
 // Least-squares parabola y = c0 + c1·(x − x_eval) + c2·(x − x_eval)², solved on centred and
 // scaled x (two-pass), so c1 is the tangent at x_eval.
@@ -68,6 +67,5 @@ QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
 // Median of v (reorders v; std::nth_element). NaN for an empty vector. Even sizes give the
 // mean of the two middle values, as NumPy's median.
 double median_inplace(std::vector<double>& v);
-
 
 }  // namespace vzero::detail

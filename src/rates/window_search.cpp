@@ -20,7 +20,8 @@ constexpr int k_min_test_reads = 5;
 }  // namespace
 
 bool significant_bend(int n, double c, double se, double drift, double slope, double tc, const RateOptions& opt) {
-  return n >= k_min_test_reads && se > 0 && std::fabs(c) > tc * se && std::fabs(drift) > opt.slope_drift * std::fabs(slope);
+  return n >= k_min_test_reads && se > 0 && std::fabs(c) > tc * se &&
+         std::fabs(drift) > opt.slope_drift * std::fabs(slope);
 }
 
 namespace {
@@ -31,10 +32,10 @@ namespace {
 int curvature_rule(const WindowCandidate& c, const RateOptions& opt) {
   if (!(opt.linearity_alpha > 0)) return 0;
   if (!significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, opt)) return 0;
-  const bool rest = c.rest_n < k_min_test_reads ||
-                    (significant_bend(c.rest_n, c.rest_curvature, c.rest_curvature_se, c.rest_drift, c.rest_slope,
-                                      c.rest_critical_t, opt) &&
-                     (c.rest_curvature > 0) == (c.curvature > 0));
+  const bool rest =
+      c.rest_n < k_min_test_reads || (significant_bend(c.rest_n, c.rest_curvature, c.rest_curvature_se, c.rest_drift,
+                                                       c.rest_slope, c.rest_critical_t, opt) &&
+                                      (c.rest_curvature > 0) == (c.curvature > 0));
   if (!rest) return 0;
   return c.curvature > 0 ? 1 : -1;
 }
@@ -205,8 +206,12 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   if (mc < 2 || min_end(0) > mc) {
     w.too_few = true;
     w.end = run_out;
-    if (mc >= 2) as_usable(0, mc);
-    else { w.first = 0; w.last = m - 1; }
+    if (mc >= 2)
+      as_usable(0, mc);
+    else {
+      w.first = 0;
+      w.last = m - 1;
+    }
     return w;
   }
   const WindowStats stats(ct.data(), cy.data(), mc);
@@ -216,7 +221,10 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
     double best_slope = -INFINITY;
     for (int s = 0; min_end(s) <= mc; ++s) {
       const double b = stats.slope(s, min_end(s));
-      if (b > best_slope) { best_slope = b; best = s; }
+      if (b > best_slope) {
+        best_slope = b;
+        best = s;
+      }
     }
     as_usable(best, min_end(best));
     w.end = "fixed";
@@ -249,16 +257,24 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   int e = min_end(s), accepted = -1;
   std::string end;
   while (true) {
-    if (e > mc) { end = run_out; break; }
+    if (e > mc) {
+      end = run_out;
+      break;
+    }
     const WindowCandidate c = candidate(stats, ct, s, e, sd_floor, t_ref, baseline, limit_signal, t_crit);
     bool pass = true, moved = false;
     for (std::size_t k = 0; k < rules.size() && end.empty() && !moved; ++k) {
       const int verdict = rules[k].judge(c, opt);
       Count& n = count[k];
-      if (verdict == 0) { n.fails = 0; continue; }
+      if (verdict == 0) {
+        n.fails = 0;
+        continue;
+      }
       pass = false;
-      if (n.fails == 0 || verdict != n.sign) n = Count{1, verdict, e};
-      else ++n.fails;
+      if (n.fails == 0 || verdict != n.sign)
+        n = Count{1, verdict, e};
+      else
+        ++n.fails;
       if (n.fails < std::max(1, rules[k].confirm)) continue;
       if (verdict > 0 && rules[k].rising_is_lag && opt.detect_lag && s + 1 <= s0 + lag_max) {
         // The rate rises: skip one more read at the start.
@@ -285,9 +301,12 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
     // Not even the shortest window from s passed.
     const int e0 = std::min(min_end(s), mc);
     as_usable(s, e0);
-    if (end == "conversion") w.depleted = true;
-    else if (end == "curvature") w.nonlinear = true;
-    else if (end == run_out) w.too_few = e0 - s < p;
+    if (end == "conversion")
+      w.depleted = true;
+    else if (end == "curvature")
+      w.nonlinear = true;
+    else if (end == run_out)
+      w.too_few = e0 - s < p;
   } else {
     as_usable(s, accepted);
     // A window whose rate still rises (a lag not over by its end, often because another

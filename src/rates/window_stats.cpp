@@ -14,14 +14,16 @@ WindowStats::WindowStats(const double* t, const double* y, int n) : t_(t), n_(n)
     const double u = (t[i] - t0_) / span_, v = y[i] - y0_, u2 = u * u;
     const Sums& p = prefix_[static_cast<std::size_t>(i)];
     prefix_[static_cast<std::size_t>(i) + 1] =
-        Sums{p.n + 1, p.u1 + u, p.u2 + u2, p.u3 + u2 * u, p.u4 + u2 * u2, p.y + v, p.uy + u * v, p.u2y + u2 * v, p.yy + v * v};
+        Sums{p.n + 1, p.u1 + u,     p.u2 + u2,      p.u3 + u2 * u, p.u4 + u2 * u2,
+             p.y + v, p.uy + u * v, p.u2y + u2 * v, p.yy + v * v};
   }
 }
 
 WindowStats::Sums WindowStats::range(int a, int b) const {
   const Sums& p = prefix_[static_cast<std::size_t>(a)];
   const Sums& q = prefix_[static_cast<std::size_t>(b)];
-  return Sums{q.n - p.n, q.u1 - p.u1, q.u2 - p.u2, q.u3 - p.u3, q.u4 - p.u4, q.y - p.y, q.uy - p.uy, q.u2y - p.u2y, q.yy - p.yy};
+  return Sums{q.n - p.n, q.u1 - p.u1, q.u2 - p.u2,   q.u3 - p.u3, q.u4 - p.u4,
+              q.y - p.y, q.uy - p.uy, q.u2y - p.u2y, q.yy - p.yy};
 }
 
 double WindowStats::slope(int a, int b) const {
@@ -50,8 +52,8 @@ WindowTest WindowStats::test(int a, int b, double sd_floor, double t_ref) const 
   const double m3 = s.u3 - 3 * ub * s.u2 + 2 * n * ub * ub * ub;
   const double m4 = s.u4 - 4 * ub * s.u3 + 6 * ub * ub * s.u2 - 3 * n * ub * ub * ub * ub;
   const double syy = std::max(0.0, s.yy - n * yb * yb);
-  const double r1 = s.uy - ub * s.y;                                          // Σ (u−ū) y
-  const double r2 = (s.u2y - 2 * ub * s.uy + ub * ub * s.y) - m2 / n * s.y;   // Σ q y, q = (u−ū)² − m2/n
+  const double r1 = s.uy - ub * s.y;                                         // Σ (u−ū) y
+  const double r2 = (s.u2y - 2 * ub * s.uy + ub * ub * s.y) - m2 / n * s.y;  // Σ q y, q = (u−ū)² − m2/n
   if (!(m2 > 0)) return w;
   const double slope_u = r1 / m2;
   w.slope = slope_u / span_;

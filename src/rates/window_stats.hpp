@@ -15,12 +15,12 @@ namespace vzero::detail {
 // Line and parabola fitted to reads [a, b).
 struct WindowTest {
   int n = 0;
-  double slope = NAN;        // OLS slope, y per time unit of the input
+  double slope = NAN;            // OLS slope, y per time unit of the input
   double intercept_at_t0 = NAN;  // OLS line at time t (input units) given to `test`
-  double rss_line = NAN;     // residual sum of squares of the line
-  double curvature = NAN;    // c2 of y = c0 + c1·t + c2·t² (input units)
-  double curvature_se = NAN; // its standard error (from the parabola's residuals, or the floor)
-  double drift = NAN;        // slope change across the window from the parabola, 2·c2·(t_last − t_first)
+  double rss_line = NAN;         // residual sum of squares of the line
+  double curvature = NAN;        // c2 of y = c0 + c1·t + c2·t² (input units)
+  double curvature_se = NAN;     // its standard error (from the parabola's residuals, or the floor)
+  double drift = NAN;            // slope change across the window from the parabola, 2·c2·(t_last − t_first)
 };
 
 class WindowStats {

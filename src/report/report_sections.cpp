@@ -1,11 +1,11 @@
 // The report's text sections: header with provenance, flag counts, replicate summary.
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <map>
 
-#include "report/report_model.hpp"
 #include "core/text.hpp"
+#include "report/report_model.hpp"
 #include "vzero/svg.hpp"
 
 namespace vzero::detail::report {
@@ -65,7 +65,9 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
   std::string title = o.title.empty() ? "Run report: " + export_names(m) : o.title;
   std::string h = "<header>\n<p class=\"kicker\">vzero \u00b7 initial rates</p>\n<h1>" + escape(title) + "</h1>\n";
   std::string meta = "Drawn by vzero " + std::string(VZERO_VERSION);
-  if (prov.is_object()) meta += "; rates computed by " + escape(text_of(member(prov, "tool"))) + " " + escape(text_of(member(prov, "version")));
+  if (prov.is_object())
+    meta +=
+        "; rates computed by " + escape(text_of(member(prov, "tool"))) + " " + escape(text_of(member(prov, "version")));
   meta += o.date.empty() ? "" : "; date: " + escape(o.date);
   h += "<p class=\"meta\">" + meta + ".</p>\n";
   h += "<nav class=\"toc\"><a href=\"#provenance\">Provenance</a><a href=\"#flags\">Flags</a>";
@@ -88,7 +90,8 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
          "known to this report (pass --package).</p>\n</section>\n";
     return h;
   }
-  h += "<table class=\"inputs\"><thead><tr><th>input</th><th>file</th><th>read as</th><th>sha256</th></tr></thead><tbody>";
+  h += "<table class=\"inputs\"><thead><tr><th>input</th><th>file</th><th>read "
+       "as</th><th>sha256</th></tr></thead><tbody>";
   for (const auto& in : member(prov, "inputs")) {
     std::string as = text_of(member(in, "profile"));
     if (!text_of(member(in, "shape")).empty()) as += (as.empty() ? "" : ", ") + text_of(member(in, "shape"));
@@ -96,7 +99,8 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
          "</td><td>" + escape(as) + "</td><td class=\"hash\">" + escape(text_of(member(in, "sha256"))) + "</td></tr>";
   }
   h += "</tbody></table>\n";
-  h += "<table class=\"inputs\"><thead><tr><th>export</th><th>channel</th><th>conversion</th><th>v0 unit</th></tr></thead><tbody>";
+  h += "<table class=\"inputs\"><thead><tr><th>export</th><th>channel</th><th>conversion</th><th>v0 "
+       "unit</th></tr></thead><tbody>";
   for (const auto& ch : member(prov, "channels")) {
     std::string conv = text_of(member(ch, "conversion"));
     if (!text_of(member(ch, "formula")).empty()) conv += ": " + text_of(member(ch, "formula"));
@@ -118,8 +122,7 @@ std::string render_flags(const PageData& m) {
     for (const auto& w : p.wells) {
       ++total;
       if (w.flags.empty()) ++clean;
-      for (const auto& f : w.flags)
-        wells[f].emplace_back(w.anchor, m.plates.size() > 1 ? p.id + " " + w.name : w.name);
+      for (const auto& f : w.flags) wells[f].emplace_back(w.anchor, m.plates.size() > 1 ? p.id + " " + w.name : w.name);
     }
   std::vector<std::string> order;
   for (const auto& [f, list] : wells) order.push_back(f);
@@ -138,8 +141,9 @@ std::string render_flags(const PageData& m) {
       which += (k ? " " : "") + fmt::format("<a href=\"#{}\">{}</a>", escape(list[k].first), escape(list[k].second));
     if (list.size() > shown) which += fmt::format(" \u2026 and {} more", list.size() - shown);
     std::string meaning = flag_meaning(f);
-    h += fmt::format("<tr><td class=\"flag\">{}</td><td class=\"num\">{}</td><td>{}</td><td class=\"which\">{}</td></tr>",
-                     escape(f), list.size(), meaning.empty() ? "\u2013" : escape(meaning), which);
+    h += fmt::format(
+        "<tr><td class=\"flag\">{}</td><td class=\"num\">{}</td><td>{}</td><td class=\"which\">{}</td></tr>", escape(f),
+        list.size(), meaning.empty() ? "\u2013" : escape(meaning), which);
   }
   return h + "</tbody></table>\n</section>\n";
 }
@@ -151,9 +155,10 @@ std::string render_summary(const PageData& m, const Table& t) {
       if (iequals(name, n)) return true;
     return false;
   };
-  std::string h = "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"lede\">Mean, SD, SEM and CV of the clean "
-                  "wells of each condition; flagged wells are counted, not averaged.</p>\n<div class=\"scroll\">"
-                  "<table class=\"summary\"><thead><tr>";
+  std::string h =
+      "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"lede\">Mean, SD, SEM and CV of the clean "
+      "wells of each condition; flagged wells are counted, not averaged.</p>\n<div class=\"scroll\">"
+      "<table class=\"summary\"><thead><tr>";
   for (std::size_t c = 0; c < t.header.size(); ++c)
     h += std::string(numeric(t.header[c]) ? "<th class=\"num\">" : "<th>") + escape(t.header[c]) + "</th>";
   h += "</tr></thead><tbody>";
@@ -167,7 +172,8 @@ std::string render_summary(const PageData& m, const Table& t) {
           std::string w(trim(f.text));
           if (w.empty()) continue;
           std::string a = channel >= 0 ? m.anchor_of(t.rows[r][static_cast<std::size_t>(channel)], w) : "";
-          links += (links.empty() ? "" : " ") + (a.empty() ? escape(w) : "<a href=\"#" + escape(a) + "\">" + escape(w) + "</a>");
+          links += (links.empty() ? "" : " ") +
+                   (a.empty() ? escape(w) : "<a href=\"#" + escape(a) + "\">" + escape(w) + "</a>");
         }
         h += "<td class=\"which\">" + links + "</td>";
       } else if (numeric(t.header[c])) {

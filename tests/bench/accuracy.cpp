@@ -79,28 +79,44 @@ struct Args {
 };
 
 void print_usage(FILE* to) {
-  std::fputs("usage: vzero_accuracy [--mix [--kind NAME]] [--seeds FIRST N] [--no-ceiling] [--no-substrate] [--noise-scale F]\n"
-             "       [--estimator NAME] [--tangent MODE] [--set NAME VALUE] [--worst N] [--dump SEED WELL] [--quiet] [SEED ...]\n"
-             "  --mix: the scenario mix of tests/sim/plate_mix.hpp on the evaluation seeds 9001 ... 9100 (tune on --seeds 1 100)\n"
-             "  --kind: standard | screening8 | low-signal | high-absorbance | depleting | late-start | slow-onset\n"
-             "  --set: tangent_alpha tangent_reach linearity_alpha slope_drift outlier_k min_points max_conversion\n"
-             "         precision_limit tangent_min_reads detect_disturbed (0/1) absorbance_limit\n",
-             to);
+  std::fputs(
+      "usage: vzero_accuracy [--mix [--kind NAME]] [--seeds FIRST N] [--no-ceiling] [--no-substrate] [--noise-scale "
+      "F]\n"
+      "       [--estimator NAME] [--tangent MODE] [--set NAME VALUE] [--worst N] [--dump SEED WELL] [--quiet] [SEED "
+      "...]\n"
+      "  --mix: the scenario mix of tests/sim/plate_mix.hpp on the evaluation seeds 9001 ... 9100 (tune on --seeds 1 "
+      "100)\n"
+      "  --kind: standard | screening8 | low-signal | high-absorbance | depleting | late-start | slow-onset\n"
+      "  --set: tangent_alpha tangent_reach linearity_alpha slope_drift outlier_k min_points max_conversion\n"
+      "         precision_limit tangent_min_reads detect_disturbed (0/1) absorbance_limit\n",
+      to);
 }
 
 bool set_option(vzero::RateOptions& opt, const std::string& k, double v) {
-  if (k == "tangent_alpha") opt.tangent_alpha = v;
-  else if (k == "tangent_reach") opt.tangent_reach = v;
-  else if (k == "linearity_alpha") opt.linearity_alpha = v;
-  else if (k == "slope_drift") opt.slope_drift = v;
-  else if (k == "outlier_k") opt.outlier_k = v;
-  else if (k == "min_points") opt.min_points = static_cast<int>(v);
-  else if (k == "max_conversion") opt.max_conversion = v;
-  else if (k == "precision_limit") opt.precision_limit = v;
-  else if (k == "absorbance_limit") opt.absorbance_limit = v;
-  else if (k == "tangent_min_reads") opt.tangent_min_reads = static_cast<int>(v);
-  else if (k == "detect_disturbed") opt.detect_disturbed = v != 0;
-  else return false;
+  if (k == "tangent_alpha")
+    opt.tangent_alpha = v;
+  else if (k == "tangent_reach")
+    opt.tangent_reach = v;
+  else if (k == "linearity_alpha")
+    opt.linearity_alpha = v;
+  else if (k == "slope_drift")
+    opt.slope_drift = v;
+  else if (k == "outlier_k")
+    opt.outlier_k = v;
+  else if (k == "min_points")
+    opt.min_points = static_cast<int>(v);
+  else if (k == "max_conversion")
+    opt.max_conversion = v;
+  else if (k == "precision_limit")
+    opt.precision_limit = v;
+  else if (k == "absorbance_limit")
+    opt.absorbance_limit = v;
+  else if (k == "tangent_min_reads")
+    opt.tangent_min_reads = static_cast<int>(v);
+  else if (k == "detect_disturbed")
+    opt.detect_disturbed = v != 0;
+  else
+    return false;
   return true;
 }
 
@@ -115,9 +131,15 @@ int parse_args(int argc, char** argv, Args& a) {
       for (std::uint64_t k = 0; k < count; ++k) a.seeds.push_back(first + k);
       i += 2;
     } else if (s == "--tangent" && i + 1 < argc) {
-      if (!vzero::parse_tangent_mode(argv[++i], a.opt.tangent)) { std::fprintf(stderr, "unknown tangent mode\n"); return 2; }
+      if (!vzero::parse_tangent_mode(argv[++i], a.opt.tangent)) {
+        std::fprintf(stderr, "unknown tangent mode\n");
+        return 2;
+      }
     } else if (s == "--estimator" && i + 1 < argc) {
-      if (!vzero::parse_estimator(argv[++i], a.opt.estimator)) { std::fprintf(stderr, "unknown estimator\n"); return 2; }
+      if (!vzero::parse_estimator(argv[++i], a.opt.estimator)) {
+        std::fprintf(stderr, "unknown estimator\n");
+        return 2;
+      }
     } else if (s == "--set" && i + 2 < argc) {
       if (!set_option(a.opt, argv[i + 1], std::strtod(argv[i + 2], nullptr))) {
         std::fprintf(stderr, "unknown option %s\n", argv[i + 1]);
@@ -144,7 +166,10 @@ int parse_args(int argc, char** argv, Args& a) {
       const std::string k = argv[++i];
       for (std::size_t j = 0; j < sim::k_plate_kinds.size(); ++j)
         if (to_string(sim::k_plate_kinds[j]) == k) a.forced_kind = static_cast<int>(j);
-      if (a.forced_kind < 0) { std::fprintf(stderr, "unknown plate kind %s\n", k.c_str()); return 2; }
+      if (a.forced_kind < 0) {
+        std::fprintf(stderr, "unknown plate kind %s\n", k.c_str());
+        return 2;
+      }
     } else if (s == "--help" || s == "-h") {
       print_usage(stdout);
       return -1;
@@ -178,7 +203,8 @@ PlateRun plate_run(const Args& a, std::uint64_t seed) {
   run.mix = a.mix;
   run.spec = a.spec;
   if (a.mix) {
-    run.kind = a.forced_kind >= 0 ? sim::k_plate_kinds[static_cast<std::size_t>(a.forced_kind)] : sim::kind_for_seed(seed);
+    run.kind =
+        a.forced_kind >= 0 ? sim::k_plate_kinds[static_cast<std::size_t>(a.forced_kind)] : sim::kind_for_seed(seed);
     run.spec = sim::mix_spec(run.kind);
     // The pipeline's ceiling for an absorbance channel: the lower of the stated limit and the
     // absorbance limit (src/analysis.cpp).
@@ -204,11 +230,12 @@ namespace {
 std::string options_text(const Args& a) {
   const vzero::RateOptions& opt = a.opt;
   std::string out = fmt::format(
-      "find_rate options: min_points {}, max_conversion {}, estimator {}, window {}, linearity_alpha {}, slope_drift {},\n"
+      "find_rate options: min_points {}, max_conversion {}, estimator {}, window {}, linearity_alpha {}, slope_drift "
+      "{},\n"
       "  outlier_k {}, lod_factor {}, tangent {} (reach {}), detect_lag {}, skip_s {}, signal_ceiling {}\n",
       opt.min_points, opt.max_conversion, vzero::to_string(opt.estimator), vzero::to_string(opt.window),
-      opt.linearity_alpha, opt.slope_drift, opt.outlier_k, opt.lod_factor, vzero::to_string(opt.tangent), opt.tangent_reach,
-      opt.detect_lag ? "yes" : "no", opt.skip_s,
+      opt.linearity_alpha, opt.slope_drift, opt.outlier_k, opt.lod_factor, vzero::to_string(opt.tangent),
+      opt.tangent_reach, opt.detect_lag ? "yes" : "no", opt.skip_s,
       std::isfinite(opt.signal_ceiling) ? fmt::format("{} AU", opt.signal_ceiling) : std::string("none"));
   out += fmt::format("inputs: signal minus the row's blank mean; {}; noise_sd from the blanks\n",
                      a.give_substrate ? "substrate S0 and conc_per_signal 1/(eps*l) given" : "no substrate given");
@@ -218,13 +245,14 @@ std::string options_text(const Args& a) {
 std::string default_head(const Args& a, const Totals& tot) {
   const sim::PlateSpec& spec = a.spec;
   std::string out = "vzero accuracy harness: simulated plates, invented scenario (tests/sim/plate_sim.hpp)\n";
-  out += fmt::format("seeds {} … {} ({} plates); {} sample wells, {} blank wells\n", a.seeds.front(), a.seeds.back(), tot.plates,
-                     tot.sample_wells, tot.blank_wells);
+  out += fmt::format("seeds {} … {} ({} plates); {} sample wells, {} blank wells\n", a.seeds.front(), a.seeds.back(),
+                     tot.plates, tot.sample_wells, tot.blank_wells);
   out += options_text(a);
   out += fmt::format(
       "scenario: 8 S0 levels (0.5-8 Km) x 5 enzyme levels x 2, 16 blanks; reads every 10/15/20/30 s for 10-30 min;\n"
       "  Km {}-{} uM; read noise {}-{} AU; dead time {}-{} s; fastest well at 10 % conversion after {}-{} reads;\n"
-      "  spikes {} %, lag {} %, disturbed first read {} %, turbid {} % of wells; detector linear to {} AU, overflow past {} AU\n\n",
+      "  spikes {} %, lag {} %, disturbed first read {} %, turbid {} % of wells; detector linear to {} AU, overflow "
+      "past {} AU\n\n",
       spec.km_min_uM, spec.km_max_uM, spec.noise_sd_min, spec.noise_sd_max, spec.dead_time_min_s, spec.dead_time_max_s,
       spec.fastest_t10_reads_min, spec.fastest_t10_reads_max, 100 * spec.spike_probability, 100 * spec.lag_probability,
       100 * spec.mixing_probability, 100 * spec.turbid_probability, spec.linear_limit, spec.overflow_true);
@@ -243,7 +271,9 @@ std::string mix_head(const Args& a, const Totals& tot) {
   out += fmt::format("plates: {}; {} sample wells, {} blank wells\n", kinds, tot.sample_wells, tot.blank_wells);
   out += options_text(a);
   if (std::isfinite(a.opt.signal_ceiling))
-    out += "  (signal_ceiling: the linear limit each plate's instrument profile states, 2.5 AU; 3 AU on high-absorbance plates)\n";
+    out +=
+        "  (signal_ceiling: the linear limit each plate's instrument profile states, 2.5 AU; 3 AU on high-absorbance "
+        "plates)\n";
   out += "\n";
   return out;
 }
@@ -251,8 +281,8 @@ std::string mix_head(const Args& a, const Totals& tot) {
 std::string headline(const Totals& tot) {
   std::string out = "absolute % error of v0              wells   median     p90     max\n";
   const auto line = [&](const char* name, const std::vector<double>& v) {
-    out += fmt::format("  {:<32} {:>5}  {:>7.2f} {:>7.2f} {:>7.1f}\n", name, v.size(), percentile(v, 50), percentile(v, 90),
-                       v.empty() ? NAN : *std::max_element(v.begin(), v.end()));
+    out += fmt::format("  {:<32} {:>5}  {:>7.2f} {:>7.2f} {:>7.1f}\n", name, v.size(), percentile(v, 50),
+                       percentile(v, 90), v.empty() ? NAN : *std::max_element(v.begin(), v.end()));
   };
   line("vzero (every sample well)", tot.err);
   line("naive OLS, first 10 reads", tot.naive);
@@ -267,15 +297,16 @@ std::string class_table(const Totals& tot) {
     const auto it = tot.classes.find(name);
     if (it == tot.classes.end()) continue;
     const ClassStats& c = it->second;
-    out += fmt::format("  {:<16} {:>5} {:>7} {:>9} {:>7}   {:>6.2f} {:>6.2f}   {:>6.2f} {:>6.2f}\n", name, c.wells, c.flagged,
-                       c.corrected, c.neither, percentile(c.err, 50), percentile(c.err, 90), percentile(c.naive, 50),
-                       percentile(c.naive, 90));
+    out += fmt::format("  {:<16} {:>5} {:>7} {:>9} {:>7}   {:>6.2f} {:>6.2f}   {:>6.2f} {:>6.2f}\n", name, c.wells,
+                       c.flagged, c.corrected, c.neither, percentile(c.err, 50), percentile(c.err, 90),
+                       percentile(c.naive, 50), percentile(c.naive, 90));
   }
-  out += "  (flagged: overflow/ceiling for saturated, outliers for spiked, lag for lag, outliers/lag for mixing,\n"
-         "   overflow/nonlinear for turbid; corrected: not flagged, the artefact's reads unused, and for spiked\n"
-         "   wells the v0 of the same well simulated without spikes within 2 % or within the 95 % interval,\n"
-         "   for the others |error| <= 5 %;\n"
-         "   depletion (> 50 % converted by the last read) and none are listed for their errors)\n\n";
+  out +=
+      "  (flagged: overflow/ceiling for saturated, outliers for spiked, lag for lag, outliers/lag for mixing,\n"
+      "   overflow/nonlinear for turbid; corrected: not flagged, the artefact's reads unused, and for spiked\n"
+      "   wells the v0 of the same well simulated without spikes within 2 % or within the 95 % interval,\n"
+      "   for the others |error| <= 5 %;\n"
+      "   depletion (> 50 % converted by the last read) and none are listed for their errors)\n\n";
   out += "flags raised:";
   for (const auto& [f, n] : tot.flags) out += fmt::format(" {} {},", f, n);
   if (!tot.flags.empty()) out.pop_back();
@@ -305,23 +336,29 @@ std::string default_targets(const Totals& tot, const Totals& bare, bool& met) {
   const bool lost = tot.results != tot.sample_wells || tot.finite != tot.sample_wells;
   if (!bare.err.empty()) {
     const auto [b_ok, b_total] = handled(bare);
-    out += fmt::format("same plates without signal_ceiling: median {:.2f} %, p90 {:.2f} %, saturated/spiked flagged or corrected {}/{}\n",
-                       percentile(bare.err, 50), percentile(bare.err, 90), b_ok, b_total);
+    out += fmt::format(
+        "same plates without signal_ceiling: median {:.2f} %, p90 {:.2f} %, saturated/spiked flagged or corrected "
+        "{}/{}\n",
+        percentile(bare.err, 50), percentile(bare.err, 90), b_ok, b_total);
   }
-  out += fmt::format("wells lost: {} of {} (every well has a result; {} with a finite v0)\n", tot.sample_wells - tot.results,
-                     tot.sample_wells, tot.finite);
-  out += fmt::format("targets: median {:.2f} % <= 2 % [{}], p90 {:.2f} % <= 5 % [{}], saturated/spiked flagged or corrected {}/{} [{}], no well lost [{}]\n",
-                     med, med <= 2 ? "met" : "MISSED", p90, p90 <= 5 ? "met" : "MISSED", art_ok, art_total,
-                     art_ok == art_total ? "met" : "MISSED", lost ? "MISSED" : "met");
+  out += fmt::format("wells lost: {} of {} (every well has a result; {} with a finite v0)\n",
+                     tot.sample_wells - tot.results, tot.sample_wells, tot.finite);
+  out += fmt::format(
+      "targets: median {:.2f} % <= 2 % [{}], p90 {:.2f} % <= 5 % [{}], saturated/spiked flagged or corrected {}/{} "
+      "[{}], no well lost [{}]\n",
+      med, med <= 2 ? "met" : "MISSED", p90, p90 <= 5 ? "met" : "MISSED", art_ok, art_total,
+      art_ok == art_total ? "met" : "MISSED", lost ? "MISSED" : "met");
   met = med <= 2 && p90 <= 5 && art_ok == art_total && !lost;
   return out;
 }
 
 std::string worst_wells(Totals& tot, int worst) {
   if (worst <= 0) return {};
-  std::stable_sort(tot.wells.begin(), tot.wells.end(), [](const WellLine& a, const WellLine& b) { return a.err > b.err; });
+  std::stable_sort(tot.wells.begin(), tot.wells.end(),
+                   [](const WellLine& a, const WellLine& b) { return a.err > b.err; });
   std::string out = "\nworst wells:\n";
-  for (int i = 0; i < worst && i < static_cast<int>(tot.wells.size()); ++i) out += "  " + tot.wells[static_cast<std::size_t>(i)].text + "\n";
+  for (int i = 0; i < worst && i < static_cast<int>(tot.wells.size()); ++i)
+    out += "  " + tot.wells[static_cast<std::size_t>(i)].text + "\n";
   return out;
 }
 

@@ -28,18 +28,18 @@ struct WellLine {
 
 // One sample well's result against its truth, for the scenario mix's figures.
 struct WellRecord {
-  int plate = 0;                  // index of the plate in the run
+  int plate = 0;  // index of the plate in the run
   std::uint64_t seed = 0;
   sim::PlateKind kind = sim::PlateKind::standard;
   int well = 0;
-  unsigned artefacts = 0;         // every bit (sim::Artefact)
-  bool measurable = false;        // a perfect straight-line window is within 5 % of v0
-  double err = 0;                 // |v0 − truth|/truth, %; +inf when v0 is not finite
-  double signed_err = 0;          // (v0 − truth)/truth, %
-  double naive_err = 0;           // the same for the naive slope
-  double oracle_err = 0;          // the same for OLS over the window the truth picks (WellTruth::oracle_*)
-  bool flagged = false;           // any flag
-  bool tangent = false;           // v0 is the parabola's initial tangent
+  unsigned artefacts = 0;   // every bit (sim::Artefact)
+  bool measurable = false;  // a perfect straight-line window is within 5 % of v0
+  double err = 0;           // |v0 − truth|/truth, %; +inf when v0 is not finite
+  double signed_err = 0;    // (v0 − truth)/truth, %
+  double naive_err = 0;     // the same for the naive slope
+  double oracle_err = 0;    // the same for OLS over the window the truth picks (WellTruth::oracle_*)
+  bool flagged = false;     // any flag
+  bool tangent = false;     // v0 is the parabola's initial tangent
 };
 
 struct Totals {
@@ -55,10 +55,10 @@ struct PlateRun {
   std::uint64_t seed = 0;
   sim::PlateSpec spec;
   sim::PlateKind kind = sim::PlateKind::standard;
-  bool mix = false;                // a plate of the scenario mix: new listing columns, every artefact bit
+  bool mix = false;  // a plate of the scenario mix: new listing columns, every artefact bit
   RateOptions options;
   bool give_substrate = true;
-  int dump_well = -1;              // print this well's trace and result
+  int dump_well = -1;  // print this well's trace and result
 };
 
 // Simulates one plate, runs find_rate on every sample well the way the pipeline would

@@ -27,12 +27,18 @@ struct Named {
   const char* label;  // for the table
 };
 constexpr Named k_artefacts[] = {
-    {sim::k_disturbed, "disturbed", "disturbed start"},      {sim::k_blank_disturbed, "blank-disturbed", "disturbed blank"},
-    {sim::k_early_start, "early-start", "early start"},      {sim::k_lag, "lag", "lag"},
-    {sim::k_short_run, "8-reads", "8 reads"},                {sim::k_compressed, "compressed", "stray-light compressed"},
-    {sim::k_low_signal, "low-signal", "low signal (low ε)"}, {sim::k_strong_depletion, "strong-depletion", "strong depletion"},
-    {sim::k_saturated, "saturated", "past linear limit"},    {sim::k_turbid, "turbid", "turbid (starts high)"},
-    {sim::k_spike, "spike", "spike"},                        {sim::k_mixing, "mixing", "mixing (default model)"},
+    {sim::k_disturbed, "disturbed", "disturbed start"},
+    {sim::k_blank_disturbed, "blank-disturbed", "disturbed blank"},
+    {sim::k_early_start, "early-start", "early start"},
+    {sim::k_lag, "lag", "lag"},
+    {sim::k_short_run, "8-reads", "8 reads"},
+    {sim::k_compressed, "compressed", "stray-light compressed"},
+    {sim::k_low_signal, "low-signal", "low signal (low ε)"},
+    {sim::k_strong_depletion, "strong-depletion", "strong depletion"},
+    {sim::k_saturated, "saturated", "past linear limit"},
+    {sim::k_turbid, "turbid", "turbid (starts high)"},
+    {sim::k_spike, "spike", "spike"},
+    {sim::k_mixing, "mixing", "mixing (default model)"},
     {sim::k_depletion, "depletion", "> 50 % used at end"},
 };
 
@@ -85,27 +91,33 @@ std::string table_row(const std::string& label, const std::vector<WellRecord>& r
   for (const auto& r : recs) {
     if (!in_set(r)) continue;
     ++wells;
-    if (r.flagged) ++flagged;
-    else if (r.err > 15) ++above15, ++above10;
-    else if (r.err > 10) ++above10;
+    if (r.flagged)
+      ++flagged;
+    else if (r.err > 15)
+      ++above15, ++above10;
+    else if (r.err > 10)
+      ++above10;
   }
   const auto unflagged = [&](const WellRecord& r) { return in_set(r) && !r.flagged; };
   const Figures u = weighted(recs, unflagged, abs_err);
-  const Figures m = weighted(recs, [&](const WellRecord& r) { return unflagged(r) && r.measurable; }, abs_err);
+  const Figures m = weighted(
+      recs, [&](const WellRecord& r) { return unflagged(r) && r.measurable; }, abs_err);
   const Figures yard = weighted(recs, unflagged, oracle_err);
   const Figures nv = weighted(recs, in_set, naive_err);
-  return fmt::format("  {:<28} {:>6} {} {} | {:>5} {:>6.2f} {:>6.2f} | {:>6.2f} {:>6.2f} | {:>4} {} {:>4} {} | {:>6.2f} {:>6.2f} | {:>6.2f}\n",
-                     label, wells, pct(wells, sample_wells), pct(flagged, wells), wells - flagged, u.median, u.p90, m.median,
-                     m.p90, above10, pct(above10, wells - flagged), above15, pct(above15, wells - flagged), yard.median,
-                     yard.p90, nv.median);
+  return fmt::format(
+      "  {:<28} {:>6} {} {} | {:>5} {:>6.2f} {:>6.2f} | {:>6.2f} {:>6.2f} | {:>4} {} {:>4} {} | {:>6.2f} {:>6.2f} | "
+      "{:>6.2f}\n",
+      label, wells, pct(wells, sample_wells), pct(flagged, wells), wells - flagged, u.median, u.p90, m.median, m.p90,
+      above10, pct(above10, wells - flagged), above15, pct(above15, wells - flagged), yard.median, yard.p90, nv.median);
 }
 
 std::string table_head(const char* title) {
-  return fmt::format("{}\n  {:<28} {:>6} {:>7} {:>7} | {:^19} | {:^13} | {:^25} | {:^13} | {:>6}\n"
-                     "  {:<28} {:>6} {:>7} {:>7} | {:>5} {:>6} {:>6} | {:>6} {:>6} | {:>4} {:>7} {:>4} {:>7} | {:>6} {:>6} | {:>6}\n",
-                     title, "", "", "", "", "unflagged", "measurable", "unflagged above 10, 15 %", "yardstick", "naive", "",
-                     "wells", "share", "flagged", "wells", "median", "p90", "median", "p90", "n", "share", "n", "share", "median",
-                     "p90", "median");
+  return fmt::format(
+      "{}\n  {:<28} {:>6} {:>7} {:>7} | {:^19} | {:^13} | {:^25} | {:^13} | {:>6}\n"
+      "  {:<28} {:>6} {:>7} {:>7} | {:>5} {:>6} {:>6} | {:>6} {:>6} | {:>4} {:>7} {:>4} {:>7} | {:>6} {:>6} | {:>6}\n",
+      title, "", "", "", "", "unflagged", "measurable", "unflagged above 10, 15 %", "yardstick", "naive", "", "wells",
+      "share", "flagged", "wells", "median", "p90", "median", "p90", "n", "share", "n", "share", "median", "p90",
+      "median");
 }
 
 }  // namespace
@@ -134,7 +146,8 @@ std::string overall(const Totals& tot, Headline& h) {
   const auto all = [](const WellRecord&) { return true; };
   const auto unflagged = [](const WellRecord& r) { return !r.flagged; };
   const Figures u = weighted(recs, unflagged, abs_err);
-  const Figures um = weighted(recs, [](const WellRecord& r) { return !r.flagged && r.measurable; }, abs_err);
+  const Figures um = weighted(
+      recs, [](const WellRecord& r) { return !r.flagged && r.measurable; }, abs_err);
   const Figures every = weighted(recs, all, abs_err);
   const Figures naive = weighted(recs, all, naive_err);
   int art_unflagged = 0, art10 = 0, art15 = 0, clean = 0, clean_flagged = 0, measurable = 0;
@@ -163,8 +176,8 @@ std::string overall(const Totals& tot, Headline& h) {
   line("yardstick: the same, every sample well", weighted(recs, all, oracle_err));
   out += fmt::format("measurable wells: {} of {} sample wells ({})\n", measurable, recs.size(),
                      pct(measurable, static_cast<int>(recs.size())));
-  out += fmt::format("unflagged artefact wells above 10 % error: {} of {} ({}); above 15 %: {} ({})\n", art10, art_unflagged,
-                     pct(art10, art_unflagged), art15, pct(art15, art_unflagged));
+  out += fmt::format("unflagged artefact wells above 10 % error: {} of {} ({}); above 15 %: {} ({})\n", art10,
+                     art_unflagged, pct(art10, art_unflagged), art15, pct(art15, art_unflagged));
   out += fmt::format("clean wells flagged: {} of {} ({})\n", clean_flagged, clean, pct(clean_flagged, clean));
   const int lost = tot.sample_wells - tot.finite;
   out += fmt::format("wells lost: {} of {} (no result or no finite v0)\n", lost, tot.sample_wells);
@@ -172,11 +185,15 @@ std::string overall(const Totals& tot, Headline& h) {
   // the tangent is there for.
   constexpr unsigned k_curving = sim::k_short_run | sim::k_depletion | sim::k_strong_depletion;
   const Figures tangent8_own = weighted(
-      recs, [&](const WellRecord& r) { return (r.artefacts & sim::k_short_run) && r.tangent && (r.artefacts & ~k_curving) == 0; },
+      recs,
+      [&](const WellRecord& r) {
+        return (r.artefacts & sim::k_short_run) && r.tangent && (r.artefacts & ~k_curving) == 0;
+      },
       signed_err);
-  out += fmt::format("8-read plates, wells that took the initial tangent: {}, signed median error {:+.2f} %; of them with no\n"
-                     "  artefact but the short run and depletion: {}, signed median error {:+.2f} %\n\n",
-                     tangent8.wells, tangent8.median, tangent8_own.wells, tangent8_own.median);
+  out += fmt::format(
+      "8-read plates, wells that took the initial tangent: {}, signed median error {:+.2f} %; of them with no\n"
+      "  artefact but the short run and depletion: {}, signed median error {:+.2f} %\n\n",
+      tangent8.wells, tangent8.median, tangent8_own.wells, tangent8_own.median);
   h = {u, art15, clean > 0 ? 100.0 * clean_flagged / clean : 0, lost, tangent8};
   return out;
 }
@@ -192,16 +209,19 @@ std::string tables(const std::vector<WellRecord>& recs) {
   }
   out += table_row("any artefact", recs, artefact_well, n);
   out += table_row("clean (none, measurable)", recs, clean_well, n);
-  out += "  (share: of all sample wells; flagged: of the row's wells; median, p90 (plate-weighted), the counts above\n"
-         "   10 % and 15 % error (and their share) and the yardstick (OLS on the window the truth picks): of the row's\n"
-         "   unflagged wells; measurable: those of them a perfect straight line gets within 5 %; naive: every well of the row)\n\n";
+  out +=
+      "  (share: of all sample wells; flagged: of the row's wells; median, p90 (plate-weighted), the counts above\n"
+      "   10 % and 15 % error (and their share) and the yardstick (OLS on the window the truth picks): of the row's\n"
+      "   unflagged wells; measurable: those of them a perfect straight line gets within 5 %; naive: every well of the "
+      "row)\n\n";
   out += table_head("per plate kind");
   for (const auto kind : sim::k_plate_kinds) {
     std::map<int, bool> plates;
     for (const auto& r : recs)
       if (r.kind == kind) plates[r.plate] = true;
-    out += table_row(fmt::format("{} ({} plates)", to_string(kind), plates.size()), recs,
-                     [&](const WellRecord& r) { return r.kind == kind; }, n);
+    out += table_row(
+        fmt::format("{} ({} plates)", to_string(kind), plates.size()), recs,
+        [&](const WellRecord& r) { return r.kind == kind; }, n);
   }
   return out;
 }
@@ -216,11 +236,12 @@ std::string mix_report(const Totals& tot, bool& met) {
   const bool ok_lost = h.lost == 0, ok_tan = h.tangent8.wells == 0 || std::fabs(h.tangent8.median) <= 1;
   const auto mark = [](bool b) { return b ? "met" : "MISSED"; };
   out += fmt::format(
-      "\ntargets (\"Trustworthy v0\"; they count on the evaluation seeds only): unflagged median {:.2f} % <= 1.5 % [{}], p90 {:.2f} % <= 6 % [{}],\n"
+      "\ntargets (\"Trustworthy v0\"; they count on the evaluation seeds only): unflagged median {:.2f} % <= 1.5 % "
+      "[{}], p90 {:.2f} % <= 6 % [{}],\n"
       "  unflagged artefact wells above 15 %: {} (none allowed) [{}], clean wells flagged {:.1f} % <= 2 % [{}],\n"
       "  wells lost {} [{}], 8-read tangent bias {:+.2f} % within +-1 % [{}]\n",
-      u.median, mark(ok_med), u.p90, mark(ok_p90), h.art15, mark(ok_art), h.clean_share, mark(ok_clean), h.lost, mark(ok_lost),
-      h.tangent8.median, mark(ok_tan));
+      u.median, mark(ok_med), u.p90, mark(ok_p90), h.art15, mark(ok_art), h.clean_share, mark(ok_clean), h.lost,
+      mark(ok_lost), h.tangent8.median, mark(ok_tan));
   met = ok_med && ok_p90 && ok_art && ok_clean && ok_lost && ok_tan;
   return out;
 }

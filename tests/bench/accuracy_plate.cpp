@@ -22,7 +22,9 @@ double second_difference_sd(const std::vector<double>& y) {
   return 1.4826 * vzero::detail::median_inplace(d) / std::sqrt(6.0);
 }
 
-bool has_flag(const RateResult& r, const char* f) { return std::find(r.flags.begin(), r.flags.end(), f) != r.flags.end(); }
+bool has_flag(const RateResult& r, const char* f) {
+  return std::find(r.flags.begin(), r.flags.end(), f) != r.flags.end();
+}
 
 // Matched blanks: per row, the mean signal of the row's blank wells per read; the pooled
 // read noise of every blank well.
@@ -92,14 +94,15 @@ void dump(const sim::Plate& p, int w, const TraceView& tr, const RateResult& r, 
               truth.v0_uM_s, truth.v0_uM_s * p.signal_per_uM, truth.s0_uM, truth.km_uM, truth.vmax_uM_s, truth.lag_s,
               truth.artefacts, tr.noise_sd);
   for (std::size_t i = 0; i < p.time_s.size(); ++i) {
-    std::printf("%4zu %7.1f raw %9.5f y %9.5f st %d used %d  true %9.5f", i, p.time_s[i], raw[i], y[i],
-                static_cast<int>(st[i]), r.used[i],
-                p.signal_per_uM * sim::mm_product(p.time_s[i] + p.dead_time_s, truth.s0_uM, truth.km_uM, truth.vmax_uM_s));
+    std::printf(
+        "%4zu %7.1f raw %9.5f y %9.5f st %d used %d  true %9.5f", i, p.time_s[i], raw[i], y[i], static_cast<int>(st[i]),
+        r.used[i],
+        p.signal_per_uM * sim::mm_product(p.time_s[i] + p.dead_time_s, truth.s0_uM, truth.km_uM, truth.vmax_uM_s));
     if (!truth.ideal.empty()) std::printf("  ideal %9.5f", truth.ideal[i]);
     std::printf("\n");
   }
-  std::printf("slope %.6g se %.6g line %.6g tangent %.6g (%s) end %s window %g-%g flags:", r.slope, r.slope_se, r.line_slope,
-              r.tangent_slope, r.tangent.c_str(), r.window_end.c_str(), r.t_start_s, r.t_end_s);
+  std::printf("slope %.6g se %.6g line %.6g tangent %.6g (%s) end %s window %g-%g flags:", r.slope, r.slope_se,
+              r.line_slope, r.tangent_slope, r.tangent.c_str(), r.window_end.c_str(), r.t_start_s, r.t_end_s);
   for (const auto& f : r.flags) std::printf(" %s", f.c_str());
   std::printf("\n");
 }
@@ -152,8 +155,10 @@ void account_spiked(const sim::Plate& p, const sim::Plate& twin, const PlateRun&
   ++c.wells;
   c.err.push_back(err);
   c.naive.push_back(naive_err);
-  if (has_flag(r, "outliers")) ++c.flagged;
-  else if (clean) ++c.corrected;
+  if (has_flag(r, "outliers"))
+    ++c.flagged;
+  else if (clean)
+    ++c.corrected;
   else {
     ++c.neither;
     tot.wells.back().text += fmt::format(" SPIKE-NEITHER twin {:+.4f} spikes", v0_twin / truth.v0_uM_s - 1);
@@ -164,16 +169,20 @@ void account_spiked(const sim::Plate& p, const sim::Plate& twin, const PlateRun&
 // The default scenario's artefact classes: flagged, corrected (not flagged, the artefact's
 // reads unused, |error| ≤ 5 %) or neither.
 void account_classes(const sim::Plate& p, const sim::Plate& twin, const PlateRun& run, const Blanks& blanks, int w,
-                     unsigned art, const TraceView& tr, const RateResult& r, double err, double naive_err, Totals& tot) {
+                     unsigned art, const TraceView& tr, const RateResult& r, double err, double naive_err,
+                     Totals& tot) {
   const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
   const auto account = [&](const char* name, bool flagged, bool clean_reads) {
     ClassStats& c = tot.classes[name];
     ++c.wells;
     c.err.push_back(err);
     c.naive.push_back(naive_err);
-    if (flagged) ++c.flagged;
-    else if (clean_reads && err <= 5.0) ++c.corrected;
-    else ++c.neither;
+    if (flagged)
+      ++c.flagged;
+    else if (clean_reads && err <= 5.0)
+      ++c.corrected;
+    else
+      ++c.neither;
   };
   if (art & sim::k_saturated) {
     bool clean = true;
@@ -196,13 +205,13 @@ std::string listing_line(const PlateRun& run, const sim::Plate& p, int w, unsign
   const double t10 = (0.1 * truth.s0_uM + truth.km_uM * std::log(1 / 0.9)) / truth.vmax_uM_s;
   std::string fl;
   for (const auto& f : r.flags) fl += f + ";";
-  return fmt::format("seed {} well {:>2} S0/Km {:4.2f} t10 {:6.1f}s dt {:2.0f} dead {:4.1f} n {:2} art {:2} | "
-                     "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
-                     "line {:+.4f} tan {:+.4f} | {}",
-                     run.seed, w, truth.s0_uM / truth.km_uM, t10, p.read_interval_s, p.dead_time_s, p.time_s.size(), art, err,
-                     naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers, r.tangent, r.window_end, r.lag_s,
-                     r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1, r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1,
-                     fl);
+  return fmt::format(
+      "seed {} well {:>2} S0/Km {:4.2f} t10 {:6.1f}s dt {:2.0f} dead {:4.1f} n {:2} art {:2} | "
+      "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
+      "line {:+.4f} tan {:+.4f} | {}",
+      run.seed, w, truth.s0_uM / truth.km_uM, t10, p.read_interval_s, p.dead_time_s, p.time_s.size(), art, err,
+      naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers, r.tangent, r.window_end, r.lag_s,
+      r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1, r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1, fl);
 }
 
 }  // namespace
@@ -244,7 +253,8 @@ void run_plate(const PlateRun& run, Totals& tot) {
     if (std::isfinite(v0)) ++tot.finite;
     if (r.tangent == "parabola") ++tot.tangent_used;
     const double naive_v0 = naive_slope(p, y, st) / p.signal_per_uM;
-    const double naive_err = std::isfinite(naive_v0) ? 100 * std::fabs(naive_v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY;
+    const double naive_err =
+        std::isfinite(naive_v0) ? 100 * std::fabs(naive_v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY;
     tot.err.push_back(err);
     tot.naive.push_back(naive_err);
     // The default listing knows the default scenario's artefacts only; the mix shows them all.
@@ -255,14 +265,22 @@ void run_plate(const PlateRun& run, Totals& tot) {
     ++tot.ends[r.window_end];
     account_classes(p, twin, run, blanks, w, art, tr, r, err, naive_err, tot);
     const double oracle_v0 = oracle_slope(p, truth, y, st) / p.signal_per_uM;
-    WellRecord rec{plate_index, run.seed, run.kind, w, truth.artefacts, truth.measurable, err,
-                   std::isfinite(v0) ? 100 * (v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY, naive_err,
+    WellRecord rec{plate_index,
+                   run.seed,
+                   run.kind,
+                   w,
+                   truth.artefacts,
+                   truth.measurable,
+                   err,
+                   std::isfinite(v0) ? 100 * (v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY,
+                   naive_err,
                    std::isfinite(oracle_v0) ? 100 * std::fabs(oracle_v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY,
-                   !r.flags.empty(), r.tangent == "parabola"};
+                   !r.flags.empty(),
+                   r.tangent == "parabola"};
     if (run.mix)
-      tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} blank-dist {:+.5f} | {}", to_string(run.kind),
-                                           truth.measurable ? "yes" : "no", truth.line_error, truth.blank_disturbance_AU,
-                                           artefact_names(truth.artefacts));
+      tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} blank-dist {:+.5f} | {}",
+                                           to_string(run.kind), truth.measurable ? "yes" : "no", truth.line_error,
+                                           truth.blank_disturbance_AU, artefact_names(truth.artefacts));
     tot.records.push_back(rec);
   }
 }

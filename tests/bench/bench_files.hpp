@@ -17,10 +17,20 @@ namespace vzero::bench {
 // Plate layouts: rows × (sample + blank) columns.
 inline sim::PlateSpec spec_for(int wells, int reads, double interval_s = 10) {
   sim::PlateSpec s;
-  if (wells == 96) { s.rows = 8; s.sample_columns = 10; s.blank_columns = 2; }
-  else if (wells == 384) { s.rows = 16; s.sample_columns = 22; s.blank_columns = 2; }
-  else if (wells == 1536) { s.rows = 32; s.sample_columns = 44; s.blank_columns = 4; }
-  else throw std::invalid_argument("wells must be 96, 384 or 1536");
+  if (wells == 96) {
+    s.rows = 8;
+    s.sample_columns = 10;
+    s.blank_columns = 2;
+  } else if (wells == 384) {
+    s.rows = 16;
+    s.sample_columns = 22;
+    s.blank_columns = 2;
+  } else if (wells == 1536) {
+    s.rows = 32;
+    s.sample_columns = 44;
+    s.blank_columns = 4;
+  } else
+    throw std::invalid_argument("wells must be 96, 384 or 1536");
   s.read_interval_s = {interval_s};
   s.run_min_s = s.run_max_s = (reads - 1) * interval_s + 0.5 * interval_s;  // exactly `reads` reads
   // One Km and one signal scale for every plate, so one --epsilon serves a whole batch:
@@ -50,8 +60,10 @@ class Out {
     if (b_.size() > (1u << 20)) flush();
   }
   void value(const sim::Plate& p, std::size_t w, std::size_t i) {
-    if (p.status[w][i] == ReadStatus::overflow) put("OVER");
-    else put("{:.4f}", p.signal[w][i]);
+    if (p.status[w][i] == ReadStatus::overflow)
+      put("OVER");
+    else
+      put("{:.4f}", p.signal[w][i]);
   }
   void flush() {
     std::fwrite(b_.data(), 1, b_.size(), f_);

@@ -168,9 +168,12 @@ std::string generate(const std::string& path, const std::string& shape, int well
                      const std::string& map_path = "", double interval_s = 10) {
   const sim::PlateSpec spec = vzero::bench::spec_for(wells, reads, interval_s);
   const sim::Plate p = sim::simulate_plate(spec, seed);
-  if (shape == "wide") vzero::bench::write_wide(path, p);
-  else if (shape == "grid") vzero::bench::write_grid(path, p);
-  else vzero::bench::write_long(path, p);
+  if (shape == "wide")
+    vzero::bench::write_wide(path, p);
+  else if (shape == "grid")
+    vzero::bench::write_grid(path, p);
+  else
+    vzero::bench::write_long(path, p);
   if (!map_path.empty()) vzero::bench::write_map(map_path, p, spec);
   return {};
 }
@@ -220,9 +223,11 @@ void section_files(const Config& c) {
           continue;
         }
         const double mb = file_mb(path);
-        fmt::print("{:<5} {:>5} {:>5} {:>7.2f} | {:>8.2f} {:>8.2f} {:>7.0f} | {:>9.2f} {:>9.0f} | {:>8.2f} | {:>8.1f} {:>7.1f}\n",
-                   shape, w, n, mb, td * 1e3, tr * 1e3, mb / tr, ta * 1e3, w / ta, to * 1e3, (td + tr + ta + to) * 1e3,
-                   r.maxrss_mb);
+        fmt::print(
+            "{:<5} {:>5} {:>5} {:>7.2f} | {:>8.2f} {:>8.2f} {:>7.0f} | {:>9.2f} {:>9.0f} | {:>8.2f} | {:>8.1f} "
+            "{:>7.1f}\n",
+            shape, w, n, mb, td * 1e3, tr * 1e3, mb / tr, ta * 1e3, w / ta, to * 1e3, (td + tr + ta + to) * 1e3,
+            r.maxrss_mb);
       }
     }
   }
@@ -255,13 +260,15 @@ vzero::Run run_from(const sim::Plate& p) {
 
 // Cost of the rate finder per well against reads per well.
 void section_scaling(const Config& c) {
-  fmt::print("\n2. Rate finder cost per well against reads per well n (default options: auto window, Theil–Sen; 1 thread)\n");
+  fmt::print(
+      "\n2. Rate finder cost per well against reads per well n (default options: auto window, Theil–Sen; 1 thread)\n");
   fmt::print("   straight: noisy straight traces, the window takes every read (the worst case for Theil–Sen);\n");
   fmt::print("   plate: analyse_run on a simulated 96-well plate with n reads (blank, Beer–Lambert, rates);\n");
   fmt::print("   exponent: log(cost ratio)/log(n ratio) from the previous row (1 = linear, n·log n ≈ 1.1)\n");
   fmt::print("{:>6} | {:>12} {:>9} {:>10} {:>8} | {:>12} {:>8} | {:>14}\n", "n", "straight µs", "window", "ns/(n·lg n)",
              "exponent", "plate µs/well", "exponent", "theil_sen µs");
-  const std::vector<int> ns = c.quick ? std::vector<int>{30, 60, 240} : std::vector<int>{30, 60, 120, 240, 600, 1000, 2000};
+  const std::vector<int> ns =
+      c.quick ? std::vector<int>{30, 60, 240} : std::vector<int>{30, 60, 120, 240, 600, 1000, 2000};
   double prev_s = NAN, prev_p = NAN;
   int prev_n = 0;
   for (int n : ns) {
@@ -295,7 +302,8 @@ void section_scaling(const Config& c) {
     const double per_plate = best_of(c.quick ? 1 : 3, [&] { (void)vzero::analyse_run(run, map, aopt); }) / 96;
     const double nlogn = n * std::log2(static_cast<double>(n));
     auto expo = [&](double now, double prev) {
-      return prev_n ? fmt::format("{:.2f}", std::log(now / prev) / std::log(static_cast<double>(n) / prev_n)) : std::string("");
+      return prev_n ? fmt::format("{:.2f}", std::log(now / prev) / std::log(static_cast<double>(n) / prev_n))
+                    : std::string("");
     };
     fmt::print("{:>6} | {:>12.1f} {:>9.0f} {:>10.1f} {:>8} | {:>12.1f} {:>8} | {:>14.1f}\n", n, per_straight * 1e6,
                static_cast<double>(window) / wells, per_straight * 1e9 / nlogn, expo(per_straight, prev_s),
@@ -364,9 +372,10 @@ void section_batch(const Config& c) {
   });
   double td = 0, tr = 0, ta = 0, to = 0;
   if (lib.ok && std::sscanf(lib.out.c_str(), "%lf %lf %lf %lf", &td, &tr, &ta, &to) == 4) {
-    fmt::print("   library, 1 thread, file by file: detect {:.2f} s, read {:.2f} s ({:.0f} MB/s), analyse {:.2f} s "
-               "({:.0f} wells/s), rates rows {:.2f} s; peak {:.0f} MB\n",
-               td, tr, mb / tr, ta, plates * 1536 / ta, to, lib.maxrss_mb);
+    fmt::print(
+        "   library, 1 thread, file by file: detect {:.2f} s, read {:.2f} s ({:.0f} MB/s), analyse {:.2f} s "
+        "({:.0f} wells/s), rates rows {:.2f} s; peak {:.0f} MB\n",
+        td, tr, mb / tr, ta, plates * 1536 / ta, to, lib.maxrss_mb);
   } else {
     fmt::print("   library run failed: {}\n", lib.out);
   }
@@ -377,9 +386,10 @@ void section_batch(const Config& c) {
   auto cli = [&](int threads) {
     std::vector<std::string> a{c.vzero, "rates"};
     a.insert(a.end(), files.begin(), files.end());
-    for (const std::string& s : std::vector<std::string>{"--layout", map_path(c, 1536), "--epsilon", fmt::format("{}", vzero::bench::k_epsilon),
-                          "--path-cm", "1", "--signal-ceiling", "2.5", "-o", out + "/rates.csv", "--summary",
-                          out + "/summary.csv", "--quiet", "--threads", std::to_string(threads)})
+    for (const std::string& s : std::vector<std::string>{
+             "--layout", map_path(c, 1536), "--epsilon", fmt::format("{}", vzero::bench::k_epsilon), "--path-cm", "1",
+             "--signal-ceiling", "2.5", "-o", out + "/rates.csv", "--summary", out + "/summary.csv", "--quiet",
+             "--threads", std::to_string(threads)})
       a.push_back(s);
     return spawn(a);
   };
@@ -388,10 +398,10 @@ void section_batch(const Config& c) {
   auto cli_leading = [&](int threads) {
     std::vector<std::string> a{c.vzero, "rates"};
     a.insert(a.end(), files.begin(), files.end());
-    for (const std::string& s : std::vector<std::string>{"--layout", map_path(c, 1536), "--epsilon", fmt::format("{}", vzero::bench::k_epsilon),
-                          "--path-cm", "1", "--signal-ceiling", "2.5", "--window", "leading", "--min-points", "10",
-                          "--estimator", "ols", "-o", out + "/rates_leading.csv", "--quiet", "--threads",
-                          std::to_string(threads)})
+    for (const std::string& s : std::vector<std::string>{
+             "--layout", map_path(c, 1536), "--epsilon", fmt::format("{}", vzero::bench::k_epsilon), "--path-cm", "1",
+             "--signal-ceiling", "2.5", "--window", "leading", "--min-points", "10", "--estimator", "ols", "-o",
+             out + "/rates_leading.csv", "--quiet", "--threads", std::to_string(threads)})
       a.push_back(s);
     return spawn(a);
   };
@@ -413,7 +423,8 @@ void section_batch(const Config& c) {
     if (!c.pandas.empty()) keep(bestp, pandas());
   }
   auto line = [&](const char* what, const ChildResult& r) {
-    if (!std::isfinite(r.wall_s)) fmt::print("   {:<44} failed\n", what);
+    if (!std::isfinite(r.wall_s))
+      fmt::print("   {:<44} failed\n", what);
     else
       fmt::print("   {:<44} {:>7.2f} s  {:>7.0f} wells/s  {:>6.1f} MB/s  peak {:>6.0f} MB\n", what, r.wall_s,
                  plates * 1536 / r.wall_s, mb / r.wall_s, r.maxrss_mb);
@@ -446,9 +457,9 @@ void section_big(const Config& c) {
     const ChildResult g = in_child([&] { return generate(lng, "long", 1536, long_reads, 22, "", 1.0); });
     fmt::print("   generated {} in {:.0f} s\n", lng, g.wall_s);
   }
-  for (const auto& [path, label] : {std::pair{wide, "wide 1536 wells × " + std::to_string(n_big) + " reads"},
-                                    std::pair{lng, fmt::format("long {} rows (1536 wells × {} reads)", 1536LL * long_reads,
-                                                               long_reads)}}) {
+  for (const auto& [path, label] :
+       {std::pair{wide, "wide 1536 wells × " + std::to_string(n_big) + " reads"},
+        std::pair{lng, fmt::format("long {} rows (1536 wells × {} reads)", 1536LL * long_reads, long_reads)}}) {
     const ChildResult r = in_child([&] {
       const vzero::PlateMap map = vzero::read_plate_map(map_path(c, 1536));
       auto t0 = Clock::now();
@@ -473,7 +484,8 @@ void section_big(const Config& c) {
       continue;
     }
     const double mb = file_mb(path);
-    fmt::print("   {}: {:.0f} MB; read {:.2f} s ({:.0f} MB/s, peak {:.0f} MB after reading)", label, mb, tr, mb / tr, rr);
+    fmt::print("   {}: {:.0f} MB; read {:.2f} s ({:.0f} MB/s, peak {:.0f} MB after reading)", label, mb, tr, mb / tr,
+               rr);
     if (std::isfinite(ta)) fmt::print("; analyse {:.2f} s ({:.0f} wells/s); rates rows {:.2f} s", ta, 1536 / ta, to);
     fmt::print("; peak {:.0f} MB\n", r.maxrss_mb);
   }
@@ -489,16 +501,26 @@ int main(int argc, char** argv) {
       if (i + 1 >= argc) throw std::invalid_argument(a + " needs a value");
       return argv[++i];
     };
-    if (a == "--dir") c.dir = next();
-    else if (a == "--reps") c.reps = std::max(1, std::stoi(next()));
-    else if (a == "--vzero") c.vzero = next();
-    else if (a == "--pandas") c.pandas = next();
-    else if (a == "--python") c.python = next();
-    else if (a == "--long-rows") c.long_rows = std::stoll(next());
-    else if (a == "--big-read-only") c.big_read_only = true;
-    else if (a == "--long-read-only") c.long_read_only = true;
-    else if (a == "--quick") { c.quick = true; c.reps = 1; }
-    else if (a == "--sections") {
+    if (a == "--dir")
+      c.dir = next();
+    else if (a == "--reps")
+      c.reps = std::max(1, std::stoi(next()));
+    else if (a == "--vzero")
+      c.vzero = next();
+    else if (a == "--pandas")
+      c.pandas = next();
+    else if (a == "--python")
+      c.python = next();
+    else if (a == "--long-rows")
+      c.long_rows = std::stoll(next());
+    else if (a == "--big-read-only")
+      c.big_read_only = true;
+    else if (a == "--long-read-only")
+      c.long_read_only = true;
+    else if (a == "--quick") {
+      c.quick = true;
+      c.reps = 1;
+    } else if (a == "--sections") {
       c.sections.clear();
       std::string s = next();
       for (std::size_t p = 0; p <= s.size();) {
@@ -507,16 +529,20 @@ int main(int argc, char** argv) {
         p = q + 1;
       }
     } else {
-      std::fprintf(stderr, "usage: vzero_bench [--dir DIR] [--reps N] [--sections files,scaling,threads,batch,big]\n"
-                           "       [--vzero PATH] [--pandas SCRIPT] [--python PATH] [--long-rows N] [--big-read-only]\n"
-                           "       [--long-read-only] [--quick]\n");
+      std::fprintf(stderr,
+                   "usage: vzero_bench [--dir DIR] [--reps N] [--sections files,scaling,threads,batch,big]\n"
+                   "       [--vzero PATH] [--pandas SCRIPT] [--python PATH] [--long-rows N] [--big-read-only]\n"
+                   "       [--long-read-only] [--quick]\n");
       return 2;
     }
   }
   if (c.dir.empty()) {
     const char* tmp = std::getenv("TMPDIR");
     std::string tmpl = std::string(tmp && *tmp ? tmp : "/tmp") + "/vzero-bench-XXXXXX";
-    if (!mkdtemp(tmpl.data())) { std::perror("mkdtemp"); return 1; }
+    if (!mkdtemp(tmpl.data())) {
+      std::perror("mkdtemp");
+      return 1;
+    }
     c.dir = tmpl;
   }
   fs::create_directories(c.dir);

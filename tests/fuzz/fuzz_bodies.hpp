@@ -50,8 +50,7 @@ inline std::string check_run(const Run& run) {
     }
     if (!c.temperature_c.empty() && c.temperature_c.size() != c.time_s.size())
       return "channel " + c.name + " temperature count differs from the read count";
-    if (c.values.rows() != reads || c.values.cols() != wells || c.status.rows() != reads ||
-        c.status.cols() != wells)
+    if (c.values.rows() != reads || c.values.cols() != wells || c.status.rows() != reads || c.status.cols() != wells)
       return "channel " + c.name + " matrices are not reads × wells";
     for (std::size_t j = 0; j < c.wells.size(); ++j) {
       if (c.wells[j] < 0 || c.wells[j] >= run.format.wells()) return "channel " + c.name + " has a well off the plate";
@@ -220,8 +219,7 @@ inline std::string fuzz_plate_map(std::string_view text) {
   }
   try {
     check_plate_map(map, plate_96_run());
-  } catch (const InputError&) {
-  }
+  } catch (const InputError&) {}
   return {};
 }
 
@@ -248,8 +246,8 @@ inline std::string fuzz_detect(std::string_view text) {
 // Assay method TOML (parse_method) with the long option names of `vzero rates` as keys.
 inline std::string fuzz_method(std::string_view text) {
   static const std::vector<std::string> keys = {
-      "profile", "epsilon", "path-cm", "volume-ul", "well-diameter-mm", "signal-only", "blank", "direction",
-      "skip-s", "min-points", "max-conversion", "estimator", "signal-ceiling", "conc-unit", "threads", "channel"};
+      "profile", "epsilon",    "path-cm",        "volume-ul", "well-diameter-mm", "signal-only", "blank",   "direction",
+      "skip-s",  "min-points", "max-conversion", "estimator", "signal-ceiling",   "conc-unit",   "threads", "channel"};
   std::vector<MethodEntry> entries;
   try {
     entries = parse_method(text, "fuzz-method.toml", keys);

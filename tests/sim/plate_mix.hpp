@@ -39,27 +39,34 @@
 namespace vzero::sim {
 
 enum class PlateKind { standard, screening8, low_signal, high_absorbance, depleting, late_start, slow_onset };
-constexpr std::array<PlateKind, 7> k_plate_kinds = {PlateKind::standard,   PlateKind::screening8, PlateKind::low_signal,
-                                                    PlateKind::high_absorbance, PlateKind::depleting, PlateKind::late_start,
-                                                    PlateKind::slow_onset};
+constexpr std::array<PlateKind, 7> k_plate_kinds = {
+    PlateKind::standard,  PlateKind::screening8, PlateKind::low_signal, PlateKind::high_absorbance,
+    PlateKind::depleting, PlateKind::late_start, PlateKind::slow_onset};
 
 inline std::string_view to_string(PlateKind k) {
   switch (k) {
-    case PlateKind::standard: return "standard";
-    case PlateKind::screening8: return "screening8";
-    case PlateKind::low_signal: return "low-signal";
-    case PlateKind::high_absorbance: return "high-absorbance";
-    case PlateKind::depleting: return "depleting";
-    case PlateKind::late_start: return "late-start";
-    case PlateKind::slow_onset: return "slow-onset";
+    case PlateKind::standard:
+      return "standard";
+    case PlateKind::screening8:
+      return "screening8";
+    case PlateKind::low_signal:
+      return "low-signal";
+    case PlateKind::high_absorbance:
+      return "high-absorbance";
+    case PlateKind::depleting:
+      return "depleting";
+    case PlateKind::late_start:
+      return "late-start";
+    case PlateKind::slow_onset:
+      return "slow-onset";
   }
   return "?";
 }
 
 inline PlateKind kind_for_seed(std::uint64_t seed) {
-  constexpr std::array<PlateKind, 10> cycle = {PlateKind::standard,   PlateKind::standard,   PlateKind::standard,
-                                               PlateKind::screening8, PlateKind::screening8, PlateKind::low_signal,
-                                               PlateKind::high_absorbance, PlateKind::depleting, PlateKind::late_start,
+  constexpr std::array<PlateKind, 10> cycle = {PlateKind::standard,        PlateKind::standard,   PlateKind::standard,
+                                               PlateKind::screening8,      PlateKind::screening8, PlateKind::low_signal,
+                                               PlateKind::high_absorbance, PlateKind::depleting,  PlateKind::late_start,
                                                PlateKind::slow_onset};
   return cycle[seed % 10];
 }
@@ -76,7 +83,8 @@ inline PlateSpec mix_spec(PlateKind kind) {
   s.stray_light_min = 5e-5;
   s.stray_light_max = 2e-4;
   switch (kind) {
-    case PlateKind::standard: break;
+    case PlateKind::standard:
+      break;
     case PlateKind::screening8:
       s.rows = 16;
       s.sample_columns = 22;

@@ -52,8 +52,8 @@ inline PlateDraws draw_plate(const PlateSpec& spec, Rng& rng, Rng& extra, Plate&
   PlateDraws d;
   plate.rows = spec.rows;
   plate.columns = spec.sample_columns + spec.blank_columns;
-  plate.read_interval_s = spec.read_interval_s[static_cast<std::size_t>(
-      rng.integer(0, static_cast<int>(spec.read_interval_s.size()) - 1))];
+  plate.read_interval_s =
+      spec.read_interval_s[static_cast<std::size_t>(rng.integer(0, static_cast<int>(spec.read_interval_s.size()) - 1))];
   d.run_s = rng.uniform(spec.run_min_s, spec.run_max_s);
   int reads = static_cast<int>(d.run_s / plate.read_interval_s) + 1;
   if (spec.fixed_reads > 0) {
@@ -76,7 +76,8 @@ inline PlateDraws draw_plate(const PlateSpec& spec, Rng& rng, Rng& extra, Plate&
   plate.signal_per_uM = rng.uniform(spec.signal_at_km_min, spec.signal_at_km_max) / d.km;
   plate.noise_sd = rng.uniform(spec.noise_sd_min, spec.noise_sd_max);
   if (spec.low_signal_snr_max > 0)
-    plate.signal_per_uM = extra.uniform(spec.low_signal_snr_min, spec.low_signal_snr_max) * plate.noise_sd / (0.1 * s0_low);
+    plate.signal_per_uM =
+        extra.uniform(spec.low_signal_snr_min, spec.low_signal_snr_max) * plate.noise_sd / (0.1 * s0_low);
   d.drift_amp = rng.uniform(-spec.temperature_drift_max, spec.temperature_drift_max);
   d.k_ne = rng.uniform(0, spec.nonenzymatic_max_per_s);
   if (spec.stray_light_max > 0) plate.stray_light = extra.log_uniform(spec.stray_light_min, spec.stray_light_max);
@@ -89,8 +90,8 @@ struct WellDraws {
   double base = 0, well_drift = 0, mixing = 0;
 };
 
-inline WellDraws draw_well(const PlateSpec& spec, const Plate& plate, const PlateDraws& d, int w, Rng& rng, Rng& spike_rng,
-                           Rng& extra, WellTruth& tr) {
+inline WellDraws draw_well(const PlateSpec& spec, const Plate& plate, const PlateDraws& d, int w, Rng& rng,
+                           Rng& spike_rng, Rng& extra, WellTruth& tr) {
   const int reads = static_cast<int>(plate.time_s.size());
   const int row = w / plate.columns, col = w % plate.columns;
   tr.role = col < spec.sample_columns ? Role::sample : Role::blank;
@@ -106,10 +107,19 @@ inline WellDraws draw_well(const PlateSpec& spec, const Plate& plate, const Plat
     const double t10 = (0.1 * tr.s0_uM + d.km * std::log(1 / 0.9)) / tr.vmax_uM_s;
     if (rng.chance(spec.lag_probability)) {
       const double tau = rng.uniform(spec.lag_min_s, spec.lag_max_s);
-      if (tau <= spec.lag_fraction_of_t10 * t10) { tr.lag_s = tau; tr.artefacts |= k_lag; }
+      if (tau <= spec.lag_fraction_of_t10 * t10) {
+        tr.lag_s = tau;
+        tr.artefacts |= k_lag;
+      }
     }
-    if (rng.chance(spec.turbid_probability)) { wd.base += rng.uniform(spec.turbid_min, spec.turbid_max); tr.artefacts |= k_turbid; }
-    if (rng.chance(spec.mixing_probability)) { wd.mixing = spec.mixing_sd * plate.noise_sd * rng.normal(); tr.artefacts |= k_mixing; }
+    if (rng.chance(spec.turbid_probability)) {
+      wd.base += rng.uniform(spec.turbid_min, spec.turbid_max);
+      tr.artefacts |= k_turbid;
+    }
+    if (rng.chance(spec.mixing_probability)) {
+      wd.mixing = spec.mixing_sd * plate.noise_sd * rng.normal();
+      tr.artefacts |= k_mixing;
+    }
     // Spikes draw from their own stream, so a plate simulated with spike_probability = 0
     // is the same plate without its spikes (a twin to compare against).
     if (spike_rng.chance(spec.spike_probability)) {
@@ -143,7 +153,8 @@ inline double converted(const WellTruth& tr, double t_react) {
 
 // The reads of one well: chemistry, drift, artefacts, noise, detector. Fills the truth's
 // noise-free trace when the spec asks for the measurable judgement.
-inline void simulate_reads(const PlateSpec& spec, const PlateDraws& d, const WellDraws& wd, int w, Rng& rng, Plate& plate) {
+inline void simulate_reads(const PlateSpec& spec, const PlateDraws& d, const WellDraws& wd, int w, Rng& rng,
+                           Plate& plate) {
   const auto uw = static_cast<std::size_t>(w);
   WellTruth& tr = plate.truth[uw];
   const std::size_t reads = plate.time_s.size();
@@ -157,7 +168,10 @@ inline void simulate_reads(const PlateSpec& spec, const PlateDraws& d, const Wel
     const double p = tr.role != Role::sample ? 0.0 : tr.lag_hysteretic ? converted(tr, t_react) : coupled.at(t_react);
     const double ne = tr.s0_uM * -std::expm1(-d.k_ne * t_react);
     double a = wd.base + g * (p + ne) + d.drift_amp * -std::expm1(-t / 200.0) + wd.well_drift * t;
-    if (a > spec.linear_limit && tr.first_saturated_read < 0) { tr.first_saturated_read = static_cast<int>(i); tr.artefacts |= k_saturated; }
+    if (a > spec.linear_limit && tr.first_saturated_read < 0) {
+      tr.first_saturated_read = static_cast<int>(i);
+      tr.artefacts |= k_saturated;
+    }
     a += wd.mixing * std::exp(-t / (0.5 * plate.read_interval_s));
     a += disturbance(t, tr.disturbance_AU, tr.disturbance_tau_s);
     if (tr.role == Role::sample && a > compress_from) tr.artefacts |= k_compressed;
@@ -226,7 +240,8 @@ inline void mark_matched_blanks(Plate& plate) {
       s.blank_disturbance_AU = sum / n;
       s.artefacts |= k_blank_disturbed;
       for (std::size_t i = 0; i < s.ideal.size(); ++i)
-        for (const WellTruth* b : blanks) s.ideal[i] -= disturbance(plate.time_s[i], b->disturbance_AU, b->disturbance_tau_s) / n;
+        for (const WellTruth* b : blanks)
+          s.ideal[i] -= disturbance(plate.time_s[i], b->disturbance_AU, b->disturbance_tau_s) / n;
     }
   }
 }

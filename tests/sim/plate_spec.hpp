@@ -23,13 +23,13 @@ enum Artefact : unsigned {
   k_turbid = 32,     // starts high (turbid well), so it saturates early
   // Bits below 64 are the default scenario's; the ones above were added with the artefacts
   // off by default, and describe any plate (the accuracy program's default listing masks them).
-  k_disturbed = 64,          // a disturbed start: offset of either sign over the first 1–3 reads
-  k_blank_disturbed = 128,   // a sample whose matched blank (row) has a disturbed start
-  k_early_start = 256,       // substrate used before the first read slowed it below 98 % of v0
-  k_short_run = 512,         // 8 reads or fewer
-  k_compressed = 1024,       // stray light compresses its slope by more than 5 % at some read
-  k_low_signal = 2048,       // under 10 read-noise SDs of product up to 10 % conversion or the last read
-  k_strong_depletion = 4096, // 10 % of S0 converted before the read that completes a shortest window
+  k_disturbed = 64,           // a disturbed start: offset of either sign over the first 1–3 reads
+  k_blank_disturbed = 128,    // a sample whose matched blank (row) has a disturbed start
+  k_early_start = 256,        // substrate used before the first read slowed it below 98 % of v0
+  k_short_run = 512,          // 8 reads or fewer
+  k_compressed = 1024,        // stray light compresses its slope by more than 5 % at some read
+  k_low_signal = 2048,        // under 10 read-noise SDs of product up to 10 % conversion or the last read
+  k_strong_depletion = 4096,  // 10 % of S0 converted before the read that completes a shortest window
 };
 constexpr unsigned k_default_scenario_bits = 63;
 
@@ -38,18 +38,18 @@ enum class Role { sample, blank };
 struct WellTruth {
   Role role = Role::sample;
   double s0_uM = 0, km_uM = 0, vmax_uM_s = 0;
-  double v0_uM_s = 0;          // enzymatic initial rate at reaction start (0 for blanks)
-  double lag_s = 0;            // lag time constant τ, 0 = none
-  bool lag_hysteretic = false; // τ of a hysteretic onset (else of a coupling step)
+  double v0_uM_s = 0;           // enzymatic initial rate at reaction start (0 for blanks)
+  double lag_s = 0;             // lag time constant τ, 0 = none
+  bool lag_hysteretic = false;  // τ of a hysteretic onset (else of a coupling step)
   unsigned artefacts = 0;
-  std::vector<int> spike_reads;  // reads carrying a spike
-  std::vector<double> spike_size; // the spike added at each of them, AU
-  int first_saturated_read = -1; // first read beyond the linear limit, −1 = none
-  double conversion_end = 0;     // fraction of S0 converted at the last read
-  double disturbance_AU = 0;     // own disturbed start: offset at the first read, AU
-  int disturbance_reads = 0;     // reads after which 5 % of it is left
-  double disturbance_tau_s = 0;  // its time constant, k·Δt/3 (sim_physics.hpp disturbance)
-  double blank_disturbance_AU = 0; // samples: mean offset of the row's blanks at the first read
+  std::vector<int> spike_reads;     // reads carrying a spike
+  std::vector<double> spike_size;   // the spike added at each of them, AU
+  int first_saturated_read = -1;    // first read beyond the linear limit, −1 = none
+  double conversion_end = 0;        // fraction of S0 converted at the last read
+  double disturbance_AU = 0;        // own disturbed start: offset at the first read, AU
+  int disturbance_reads = 0;        // reads after which 5 % of it is left
+  double disturbance_tau_s = 0;     // its time constant, k·Δt/3 (sim_physics.hpp disturbance)
+  double blank_disturbance_AU = 0;  // samples: mean offset of the row's blanks at the first read
   // The noise-free trace the matched blank (the row's blank mean) leaves: the well's reading
   // minus what it would read without enzyme, minus the blanks' disturbance; every
   // deterministic artefact kept, no noise and no spikes; NaN where it overflows. And how
@@ -57,7 +57,7 @@ struct WellTruth {
   // to the true v0 (|slope/v0 − 1|). Filled when PlateSpec::judge_measurable.
   std::vector<double> ideal;
   double line_error = INFINITY;
-  bool measurable = false;       // line_error ≤ PlateSpec::measurable_within
+  bool measurable = false;  // line_error ≤ PlateSpec::measurable_within
   // The window a straight line should use, knowing the truth: least bias² + SE² on `ideal`,
   // the SE from the read noise at zero signal of a trace minus its row's blank mean
   // (sim_physics.hpp line_windows); −1 when no window is long enough.
@@ -71,23 +71,23 @@ struct PlateSpec {
   int blank_columns = 2;
   std::vector<double> s0_over_km = {0.5, 0.75, 1, 1.5, 2, 3, 5, 8};  // per row (cycled)
   std::vector<double> enzyme_levels = {1, 0.6, 0.35, 0.2, 0.12};     // per pair of sample columns
-  std::vector<double> read_interval_s = {10, 15, 20, 30};          // one drawn per plate
-  double run_min_s = 600, run_max_s = 1800;                        // run length drawn per plate
-  double km_min_uM = 50, km_max_uM = 200;                          // log-uniform per plate
+  std::vector<double> read_interval_s = {10, 15, 20, 30};            // one drawn per plate
+  double run_min_s = 600, run_max_s = 1800;                          // run length drawn per plate
+  double km_min_uM = 50, km_max_uM = 200;                            // log-uniform per plate
   // Assay design: the fastest well (top enzyme, lowest S0) reaches 10 % conversion this many
   // read intervals after the first read, so every well offers a few reads
   // before 10 % while the fast wells still convert most of their substrate by the end.
   double fastest_t10_reads_min = 4, fastest_t10_reads_max = 12;
-  double signal_at_km_min = 0.4, signal_at_km_max = 1.2;           // AU when Km of substrate is converted
-  double substrate_signal_per_uM = 2e-5;                           // substrate background, AU per µM
-  double noise_sd_min = 0.0003, noise_sd_max = 0.0015;              // read noise, AU
-  double noise_proportional = 0.001;                               // extra SD per AU of signal
-  double baseline_min = 0.04, baseline_max = 0.06;                 // well + buffer, AU
-  double dead_time_min_s = 5, dead_time_max_s = 30;                // reaction start before first read
-  double temperature_drift_max = 0.01;                             // plate-wide drift amplitude, AU
-  double well_drift_sd = 5e-7;                                     // per-well drift, AU/s
-  double nonenzymatic_max_per_s = 2e-6;                            // fraction of S0 hydrolysed per s
-  double mixing_probability = 0.15, mixing_sd = 15;                // first-read offset, in noise SDs
+  double signal_at_km_min = 0.4, signal_at_km_max = 1.2;  // AU when Km of substrate is converted
+  double substrate_signal_per_uM = 2e-5;                  // substrate background, AU per µM
+  double noise_sd_min = 0.0003, noise_sd_max = 0.0015;    // read noise, AU
+  double noise_proportional = 0.001;                      // extra SD per AU of signal
+  double baseline_min = 0.04, baseline_max = 0.06;        // well + buffer, AU
+  double dead_time_min_s = 5, dead_time_max_s = 30;       // reaction start before first read
+  double temperature_drift_max = 0.01;                    // plate-wide drift amplitude, AU
+  double well_drift_sd = 5e-7;                            // per-well drift, AU/s
+  double nonenzymatic_max_per_s = 2e-6;                   // fraction of S0 hydrolysed per s
+  double mixing_probability = 0.15, mixing_sd = 15;       // first-read offset, in noise SDs
   double spike_probability = 0.10, spike_min = 0.02, spike_max = 0.3;
   // Coupling lag time constant; only where it is at most lag_fraction_of_t10 of the well's
   // 10 % conversion time (a coupled assay designed so, as common practice asks).
@@ -135,10 +135,10 @@ struct Plate {
   double signal_per_uM = 0;  // AU per µM of product: rate_uM_s = slope_AU_s / signal_per_uM
   double noise_sd = 0;       // read noise SD (AU) at zero signal
   double read_interval_s = 0, dead_time_s = 0;
-  double stray_light = 0;    // fraction s, 0 = the tanh detector
-  std::vector<std::vector<double>> signal;            // [well][read]; NaN where status is not ok
-  std::vector<std::vector<ReadStatus>> status;        // [well][read]
-  std::vector<WellTruth> truth;                       // [well], row-major (A1, A2, …)
+  double stray_light = 0;                       // fraction s, 0 = the tanh detector
+  std::vector<std::vector<double>> signal;      // [well][read]; NaN where status is not ok
+  std::vector<std::vector<ReadStatus>> status;  // [well][read]
+  std::vector<WellTruth> truth;                 // [well], row-major (A1, A2, …)
 };
 
 namespace detail {

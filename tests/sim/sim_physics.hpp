@@ -138,8 +138,8 @@ struct LineWindows {
   double bias = INFINITY, se = INFINITY;
 };
 
-inline LineWindows line_windows(const std::vector<double>& t, const std::vector<double>& y, double target, int min_reads,
-                                double sigma) {
+inline LineWindows line_windows(const std::vector<double>& t, const std::vector<double>& y, double target,
+                                int min_reads, double sigma) {
   const std::size_t n = t.size();
   std::vector<double> st(n + 1, 0), sy(n + 1, 0), stt(n + 1, 0), sty(n + 1, 0);
   std::vector<std::size_t> run_start(n, 0);
@@ -180,7 +180,8 @@ inline LineWindows line_windows(const std::vector<double>& t, const std::vector<
 }
 
 // The least |slope/target − 1| of any straight-line window (line_windows' best_bias).
-inline double line_error_best(const std::vector<double>& t, const std::vector<double>& y, double target, int min_reads) {
+inline double line_error_best(const std::vector<double>& t, const std::vector<double>& y, double target,
+                              int min_reads) {
   return line_windows(t, y, target, min_reads, 0.0).best_bias;
 }
 
