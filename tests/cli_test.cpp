@@ -1,4 +1,8 @@
 // The vzero program as a user runs it: help, errors and exit codes, the rates outputs.
+#include <signal.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
+#include <unistd.h>
 #include <nlohmann/json.hpp>
 
 #include "test_support.hpp"
@@ -274,4 +278,49 @@ TEST_CASE("control characters from an input are shown escaped in messages") {
   CHECK(r.err.find('\x1b') == std::string::npos);
   CHECK(r.err.find('\x07') == std::string::npos);
   CHECK(r.err.find("sam\\x1b[31mple\\x07") != std::string::npos);
+}
+
+TEST_CASE("a replaced output keeps its permissions; an interrupted run leaves no temporary file") {
+  TempDir dir;
+  const std::string base = "rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " -q";
+  spit(dir / "rates.csv", "old\n");
+  std::filesystem::permissions(dir / "rates.csv",
+                               std::filesystem::perms::owner_read | std::filesystem::perms::owner_write);
+  auto r = run_vzero(base + " -o rates.csv", dir.path.string());
+  REQUIRE(r.status == 0);
+  CHECK(std::filesystem::status(dir / "rates.csv").permissions() ==
+        (std::filesystem::perms::owner_read | std::filesystem::perms::owner_write));
+  CHECK(slurp(dir / "rates.csv") != "old\n");
+
+  // The second export is a pipe nobody writes to: the run finishes the first file (its
+  // temporary rates file exists), then waits; SIGTERM must remove that file.
+  REQUIRE(::mkfifo((dir / "pipe.csv").c_str(), 0600) == 0);
+  const std::string cmd = "cd '" + dir.path.string() + "' && exec '" + VZERO_BINARY + "' rates " +
+                          demo("hydrolase_wide.csv") + " pipe.csv --layout " + demo("hydrolase_map.csv") +
+                          " --threads 1 -q -o interrupted.csv";
+  const pid_t pid = ::fork();
+  REQUIRE(pid >= 0);
+  if (pid == 0) {
+    ::execl("/bin/sh", "sh", "-c", cmd.c_str(), static_cast<char*>(nullptr));
+    ::_exit(127);
+  }
+  auto temps = [&] {
+    int n = 0;
+    for (const auto& e : std::filesystem::directory_iterator(dir.path))
+      n += e.path().filename().string().ends_with(".tmp");
+    return n;
+  };
+  int waited_ms = 0;
+  while (temps() == 0 && waited_ms < 20000) {
+    ::usleep(20000);
+    waited_ms += 20;
+  }
+  REQUIRE(temps() == 1);  // the first file's rows are in a temporary file
+  ::kill(pid, SIGTERM);
+  int status = 0;
+  ::waitpid(pid, &status, 0);
+  CHECK(WIFSIGNALED(status));
+  CHECK(WTERMSIG(status) == SIGTERM);
+  CHECK(temps() == 0);
+  CHECK(!std::filesystem::exists(dir / "interrupted.csv"));
 }

@@ -68,6 +68,12 @@ void write_file_atomic(const std::string& path, const std::vector<std::string_vi
 // **Example**:
 //   vzero::AtomicFile out("rates.csv");
 //   out.append(header);  for (...) out.append(rows);  out.commit();
+//
+// The replaced file keeps its permissions (a new one gets 0666 less the umask), the folder is
+// synced after the rename, and the temporary file is named `.NAME.vzero-PID-RANDOM.tmp`:
+// one left by a process that no longer runs (killed outright) is removed when the next
+// AtomicFile for NAME is made there. While it exists it is listed for
+// remove_temporary_outputs().
 class AtomicFile {
  public:
   explicit AtomicFile(const std::string& path);
@@ -80,9 +86,15 @@ class AtomicFile {
  private:
   [[noreturn]] void fail(int err);
   std::string path_, tmp_;
+  int slot_ = -1;  // in the list of live temporary files
   int fd_ = -1;
   bool device_ = false, done_ = false;
   std::size_t written_ = 0, started_ = 0;  // bytes written; bytes handed to the disk so far
 };
+
+// Removes every AtomicFile temporary file of this process that is not yet committed. Safe to
+// call from a signal handler (it only unlinks); the program calls it on SIGINT, SIGTERM and
+// SIGHUP before it ends, so an interrupted run leaves no temporary files.
+void remove_temporary_outputs() noexcept;
 
 }  // namespace vzero

@@ -1,5 +1,6 @@
 // vzero: initial rates (v0) from microplate-reader kinetic exports.
 #include <fmt/format.h>
+#include <signal.h>
 #include <unistd.h>
 
 #include <cerrno>
@@ -11,6 +12,7 @@
 #include "cli/commands.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
+#include "vzero/table.hpp"
 
 namespace {
 
@@ -73,6 +75,18 @@ void print_err(const std::string& raw) {
 
 int main(int argc, char** argv) {
   std::signal(SIGPIPE, SIG_IGN);  // a closed pipe shows as EPIPE, handled in print_out
+  // Interrupted (Ctrl-C, kill, a closed terminal): remove the temporary outputs, then end as
+  // the signal would have ended the program. Nothing was published, so nothing is half done.
+  for (int sig : {SIGINT, SIGTERM, SIGHUP}) {
+    struct sigaction sa {};
+    sa.sa_handler = [](int s) {
+      vzero::remove_temporary_outputs();
+      ::signal(s, SIG_DFL);
+      ::raise(s);
+    };
+    sigemptyset(&sa.sa_mask);
+    sigaction(sig, &sa, nullptr);
+  }
   using namespace vzero::cli;
   Args args(argv + 1, argv + argc);
   if (args.empty() || args[0] == "--help" || args[0] == "-h" || args[0] == "help") {

@@ -1,10 +1,14 @@
 #include "vzero/table.hpp"
 
 #include <fcntl.h>
+#include <signal.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <fmt/format.h>
+#include <atomic>
 #include <cerrno>
+#include <cstdlib>
 #include <cstring>
 #include <filesystem>
 #include <random>
@@ -134,6 +138,45 @@ std::string format_number(double v) {
 
 // Devices and pipes (/dev/stdout, /dev/full, a FIFO) cannot be replaced by a rename: they
 // are written directly and report the error they give.
+namespace {
+
+// Temporary files of live AtomicFiles, for remove_temporary_outputs(): fixed slots of
+// atomic pointers, so a signal handler can read them without locks or allocation.
+constexpr int k_temp_slots = 256;
+std::atomic<const char*> g_temp_files[k_temp_slots];
+
+int list_temp(const char* path) {
+  for (int i = 0; i < k_temp_slots; ++i) {
+    const char* none = nullptr;
+    if (g_temp_files[i].compare_exchange_strong(none, path)) return i;
+  }
+  return -1;  // more than 256 at once: not listed (never in vzero's use)
+}
+
+void unlist_temp(int slot) {
+  if (slot >= 0) g_temp_files[slot].store(nullptr);
+}
+
+// Removes `.NAME.vzero-PID-*.tmp` files in `dir` whose process no longer runs.
+void sweep_stale(const std::filesystem::path& dir, const std::string& name) {
+  namespace fs = std::filesystem;
+  const std::string prefix = "." + name + ".vzero-";
+  std::error_code ec;
+  for (fs::directory_iterator it(dir, ec), end; !ec && it != end; it.increment(ec)) {
+    const std::string f = it->path().filename().string();
+    if (f.size() <= prefix.size() + 4 || f.compare(0, prefix.size(), prefix) != 0 || !f.ends_with(".tmp")) continue;
+    const long pid = std::strtol(f.c_str() + prefix.size(), nullptr, 10);
+    if (pid > 0 && ::kill(static_cast<pid_t>(pid), 0) != 0 && errno == ESRCH) fs::remove(it->path(), ec);
+  }
+}
+
+}  // namespace
+
+void remove_temporary_outputs() noexcept {
+  for (auto& slot : g_temp_files)
+    if (const char* p = slot.load()) ::unlink(p);
+}
+
 AtomicFile::AtomicFile(const std::string& path) : path_(path) {
   namespace fs = std::filesystem;
   fs::path target(path);
@@ -150,11 +193,12 @@ AtomicFile::AtomicFile(const std::string& path) : path_(path) {
     throw InputError(Where{path}, fmt::format("cannot write {}: the folder {} does not exist", path, dir.string()),
                      {fmt::format("create it first (mkdir -p {}) or choose another output path", dir.string())});
   }
-  // A name unlikely to collide with another writer; created with O_EXCL.
+  sweep_stale(dir, target.filename().string());
+  // A name no other writer uses (process id, random part), created with O_EXCL.
   std::random_device rd;
   for (int attempt = 0; attempt < 8 && fd_ < 0; ++attempt) {
-    tmp_ = (dir / fmt::format(".{}.{:08x}.tmp", target.filename().string(), rd())).string();
-    fd_ = ::open(tmp_.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+    tmp_ = (dir / fmt::format(".{}.vzero-{}-{:08x}.tmp", target.filename().string(), ::getpid(), rd())).string();
+    fd_ = ::open(tmp_.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
     if (fd_ < 0 && errno != EEXIST) break;
   }
   if (fd_ < 0) {
@@ -162,14 +206,18 @@ AtomicFile::AtomicFile(const std::string& path) : path_(path) {
     tmp_.clear();
     fail(err);
   }
+  slot_ = list_temp(tmp_.c_str());
 }
 
 AtomicFile::~AtomicFile() {
+  unlist_temp(slot_);
   if (fd_ >= 0) ::close(fd_);
   if (!done_ && !tmp_.empty()) ::unlink(tmp_.c_str());
 }
 
 void AtomicFile::fail(int err) {
+  unlist_temp(slot_);
+  slot_ = -1;
   if (fd_ >= 0) ::close(fd_);
   fd_ = -1;
   if (!tmp_.empty()) ::unlink(tmp_.c_str());
@@ -214,12 +262,24 @@ void AtomicFile::commit() {
     if (::close(fd) != 0) fail(errno);
     return;
   }
+  // The replaced file's permissions are kept (0600 stays 0600).
+  struct stat old {};
+  if (::stat(path_.c_str(), &old) == 0 && S_ISREG(old.st_mode) && ::fchmod(fd_, old.st_mode & 07777) != 0) fail(errno);
   if (::fsync(fd_) != 0 && errno != EINVAL) fail(errno);
   const int fd = fd_;
   fd_ = -1;
   if (::close(fd) != 0) fail(errno);
   if (std::rename(tmp_.c_str(), path_.c_str()) != 0) fail(errno);
   done_ = true;
+  unlist_temp(slot_);
+  slot_ = -1;
+  // The rename itself reaches the disk with the folder.
+  std::string dir = std::filesystem::path(path_).parent_path().string();
+  if (dir.empty()) dir = ".";
+  if (const int dfd = ::open(dir.c_str(), O_RDONLY | O_DIRECTORY | O_CLOEXEC); dfd >= 0) {
+    ::fsync(dfd);
+    ::close(dfd);
+  }
 }
 
 void write_file_atomic(const std::string& path, std::string_view content) {
