@@ -324,3 +324,15 @@ TEST_CASE("a replaced output keeps its permissions; an interrupted run leaves no
   CHECK(temps() == 0);
   CHECK(!std::filesystem::exists(dir / "interrupted.csv"));
 }
+
+TEST_CASE("the console digest prints no nan for a condition with one clean well") {
+  TempDir dir;
+  auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout " + demo("hydrolase_map.csv") + " --method " +
+                         demo("esterase_method.toml"),
+                     dir.path.string());
+  INFO(r.describe());
+  REQUIRE(r.status == 0);
+  CHECK(r.out.find("nan") == std::string::npos);
+  // A12 alone at ten times the enzyme: one well, so no SD (invented demo plate).
+  CHECK(r.out.find("uM/min (n 1)") != std::string::npos);
+}

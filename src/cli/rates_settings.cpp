@@ -106,7 +106,9 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
     lines.emplace_back(g.channel + " " + key,
                        std::isnan(g.v0_mean)
                            ? fmt::format("no clean wells ({} flagged)", g.n_flagged)
-                           : fmt::format("{:.4g} {} (sd {:.2g}, n {}{})", g.v0_mean, g.v0_unit, g.v0_sd, g.n,
+                           // One clean well has no SD: say so instead of printing "nan".
+                           : fmt::format("{:.4g} {} ({}n {}{})", g.v0_mean, g.v0_unit,
+                                         std::isnan(g.v0_sd) ? "" : fmt::format("sd {:.2g}, ", g.v0_sd), g.n,
                                          g.n_flagged ? fmt::format(", {} flagged", g.n_flagged) : ""));
   }
   if (!lines.empty()) {
