@@ -90,6 +90,14 @@ constexpr RateEntry k_rate_columns[] = {
      [](CsvOut& o, Rate x, std::size_t) { o.field(to_string(x.row.rate.window)); }},
     {"tangent", text, "", "which estimate v0 is (slope of the line, or an initial tangent)",
      [](CsvOut& o, Rate x, std::size_t) { o.field(x.row.rate.tangent); }},
+    {"window_end", text, "",
+     "what ended the window: curvature, conversion, ceiling, overflow, reads (ran out) or fixed (leading, "
+     "steepest)",
+     [](CsvOut& o, Rate x, std::size_t) { o.field(x.row.rate.window_end); }},
+    {"lag_s", number, "s", "time skipped at the start as a lag (0 when none)",
+     [](CsvOut& o, Rate x, std::size_t) { o.number(x.row.rate.lag_s); }},
+    {"disturbed_reads", integer, "", "first reads set aside as a disturbed start (0 when none)",
+     [](CsvOut& o, Rate x, std::size_t) { o.integer(x.row.rate.disturbed_reads); }},
     {"blank_wells", text, "",
      "blank wells subtracted, ';'-separated; a rectangle of 3 or more as its corners (A45:AF48 = rows A to AF, columns "
      "45 to 48)",

@@ -243,3 +243,76 @@ TEST_CASE("a blank with a disturbed start is found and replaced by its line") {
   for (int i = 1; i < 20; ++i) y[static_cast<std::size_t>(i)] -= 0.05 * std::exp(-3.0 * i);
   CHECK(vzero::screen_blank_start(t, y.data(), st.data(), slope, intercept) == 0);
 }
+
+TEST_CASE("the stated 95 % interval carries the read noise and the blanks' rate spread") {
+  // A noise-free line 0.1 + 0.001·t, 20 reads 10 s apart: every pair slope is 0.001, so the
+  // Theil–Sen interval alone has width 0. With read noise σ = 0.002 and a spread of the
+  // blanks' rates of 5e-5 /s, each side of the stated interval is (closed form, worked here)
+  // hypot(1.96·σ/√Σ(t − t̄)², 1.96·rate_sd); Σ(t − t̄)² = 100·Σ(i − 9.5)² = 100·665 = 66,500.
+  const Trace tr = disturbed_line(20, 10, 0.001, 0, 0);
+  vzero::TraceView v = tr.view(0.002);
+  v.rate_sd = 5e-5;
+  const double z = 1.959963984540054;  // standard normal 97.5 % quantile (common practice)
+  const double side = std::hypot(z * 0.002 / std::sqrt(66500.0), z * 5e-5);
+  vzero::RateOptions opt;
+  const auto r = vzero::find_rate(v, opt);
+  CHECK(r.slope == doctest::Approx(0.001).epsilon(1e-12));
+  CHECK(r.ci_high - r.slope == doctest::Approx(side).epsilon(1e-9));
+  CHECK(r.slope - r.ci_low == doctest::Approx(side).epsilon(1e-9));
+  // side/slope = 9.9 %: precise enough at the default 15 %; twice the rate spread is not.
+  CHECK(!has_flag(r, "imprecise"));
+  v.rate_sd = 1e-4;
+  CHECK(has_flag(vzero::find_rate(v, opt), "imprecise"));
+  // Without a noise estimate the interval is the estimator's own (width 0 here).
+  const auto bare = vzero::find_rate(tr.view(), opt);
+  CHECK(bare.ci_high - bare.ci_low == doctest::Approx(0).epsilon(1e-12));
+}
+
+namespace {
+
+// Product of a reaction with a lag (hysteretic onset, from memory): P(t) = v·(t − τ·(1 −
+// e^(−t/τ))), the rate v·(1 − e^(−t/τ)) rising from 0 to v; 60 reads 20 s apart.
+Trace lag_curve(double v, double tau) {
+  Trace tr;
+  for (int i = 0; i < 60; ++i) {
+    const double t = 20.0 * i;
+    tr.t.push_back(t);
+    tr.y.push_back(v * (t - tau * (1 - std::exp(-t / tau))));
+  }
+  tr.st.assign(tr.t.size(), ReadStatus::ok);
+  return tr;
+}
+
+}  // namespace
+
+TEST_CASE("a window followed by a steeper stretch is flagged rising") {
+  // v = 0.001 /s, τ = 160 s, substrate 1 (conc_per_signal 1): 10 % is converted by t ≈ 220 s
+  // (P(220) = 0.100, worked from the closed form), so the conversion limit ends the window
+  // near 220 s, while the rate there is still 1 − e^(−220/160) = 75 % of v. With read noise
+  // 0.012 the lag scan's 5-read blocks cannot see the lag (their slopes differ by at most
+  // ≈ 0.00077 < 4·√2·0.012/√4000 = 0.0011), but the stretch of the window's length after it
+  // (slope ≈ 0.00088 against the window's ≈ 0.00046) differs by ≈ 8 standard errors.
+  const Trace tr = lag_curve(0.001, 160);
+  vzero::TraceView v = tr.view(0.012);
+  v.substrate = 1;
+  v.conc_per_signal = 1;
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  const auto r = vzero::find_rate(v, opt);
+  CHECK(r.window_end == "conversion");
+  CHECK(r.slope < 0.6 * 0.001);  // the window's chord, far below v
+  CHECK(has_flag(r, "rising"));
+  CHECK(!has_flag(r, "lag"));
+
+  // A first-order product curve P = 1 − e^(−t/600 s): its rate only falls, so nothing after
+  // the window is steeper, whatever the noise.
+  Trace fo = tr;
+  for (std::size_t i = 0; i < fo.t.size(); ++i) fo.y[i] = 1 - std::exp(-fo.t[i] / 600);
+  vzero::TraceView fv = fo.view(0.012);
+  fv.substrate = 1;
+  fv.conc_per_signal = 1;
+  CHECK(!has_flag(vzero::find_rate(fv, opt), "rising"));
+  // With the lag check off (--lag-check off) nothing is looked for.
+  opt.detect_lag = false;
+  CHECK(!has_flag(vzero::find_rate(v, opt), "rising"));
+}

@@ -97,8 +97,18 @@ normalise() {
   esac
 }
 
+# OUT_DIR as given to `run`, or its out/ folder itself; anything else is an error (never "same").
+outputs_of() {
+  if [ -d "$1/out" ]; then echo "$1/out"
+  elif [ -d "$1" ] && [ "$(basename "$1")" = out ]; then echo "$1"
+  else echo "$0: no outputs in $1 (give the OUT_DIR of a run)" >&2; return 1
+  fi
+}
+
 compare() {
-  local a=$1/out b=$2/out bad=0 f
+  local a b bad=0 f
+  a=$(outputs_of "$1") || exit 2
+  b=$(outputs_of "$2") || exit 2
   while IFS= read -r f; do
     case "$f" in *.html) continue ;; esac
     if [ ! -f "$b/$f" ]; then echo "only in $1: $f"; bad=1; continue; fi

@@ -34,14 +34,18 @@
 //      at its end minus the baseline at time zero (the line of the first `min_points`
 //      undisturbed reads there), times conc_per_signal / substrate. These stopping rules are
 //      the table `default_window_rules()` (or `window_rules`); the one that ends the window
-//      is named in `window_end`. A chosen window that still bends upwards is flagged `rising`.
+//      is named in `window_end`. A chosen window that still bends upwards, or after which a
+//      stretch of its own length climbs faster than it (3 standard errors of the difference,
+//      up to 4 stretches; a reaction's rate only falls once it runs), is flagged `rising`.
 //   5. In the window, a read whose residual from the Theil–Sen line (fitted to the window's
 //      reads that passed the spike screen) exceeds `outlier_k` × 1.4826 × MAD of the
 //      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from
 //      the remaining reads with `estimator`.
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
-//   7. `imprecise` when the 95 % half-width (the interval, or 1.96 × read noise / √Σ(t − t̄)²
-//      when larger, combined with 1.96 × `rate_sd`) exceeds `precision_limit` of the rate.
+//   7. The 95 % interval stated (ci_low, ci_high) is widened to what the data support: each
+//      side at least 1.96 × read noise / √Σ(t − t̄)² of the straight line, then 1.96 ×
+//      `rate_sd` added in quadrature. `imprecise` when its half-width exceeds
+//      `precision_limit` of the rate.
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
@@ -57,6 +61,7 @@
 //   disturbed       the first reads jumped or decayed (a disturbed start); they were set aside
 //   lag             the rate rose over the first reads; they were skipped
 //   rising          the rate still rises across the chosen window (significant upward bend)
+//                   or climbs faster after it: v0 is underestimated (a lag not over)
 //   saturated       the rate comes from reads at the detector's plateau (never noise/negative)
 //   imprecise       the 95 % half-width exceeds `precision_limit` of the rate
 //   outliers        reads in the window were rejected as outliers (count in n_outliers)

@@ -156,6 +156,27 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   return kept;
 }
 
+// Widens r's 95 % interval to what the data support: each side at least 1.96 × the read
+// noise / √Σ(t − t̄)² of the straight line over the reads `t`, then the blanks' rate spread
+// (1.96 × rate_sd) added in quadrature. The interval's asymmetry is kept.
+void widen_interval(RateResult& r, const TraceView& tr, const std::vector<double>& t, int n) {
+  if (!std::isfinite(r.ci_low) || !std::isfinite(r.ci_high)) return;
+  constexpr double z = 1.959963984540054;  // standard normal 97.5 % quantile
+  double floor = 0;
+  if (std::isfinite(tr.noise_sd) && n >= 2) {
+    double mt = 0, stt = 0;
+    for (double x : t) mt += x;
+    mt /= n;
+    for (double x : t) stt += (x - mt) * (x - mt);
+    if (stt > 0) floor = z * tr.noise_sd / std::sqrt(stt);
+  }
+  const double drift = std::isfinite(tr.rate_sd) ? z * tr.rate_sd : 0.0;
+  const double below = std::hypot(std::max(r.slope - r.ci_low, floor), drift);
+  const double above = std::hypot(std::max(r.ci_high - r.slope, floor), drift);
+  if (below > r.slope - r.ci_low) r.ci_low = r.slope - below;
+  if (above > r.ci_high - r.slope) r.ci_high = r.slope + above;
+}
+
 }  // namespace
 
 RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
@@ -301,18 +322,13 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     if (saturated) noise_only = false;
     if (noise_only) add_flag(r, "noise");
     if (r.slope < 0 && !saturated) add_flag(r, "negative");
-    // Precise enough to trust? The 95 % interval's half-width (or, when larger, what the
-    // read noise alone gives the straight line over the reads used) relative to the rate.
+    // The interval stated is the one the data support: each side at least what the read
+    // noise alone gives the straight line over the reads used, and the spread of the
+    // blanks' own rates (which the subtraction carries into every sample) added in
+    // quadrature. Precise enough to trust? Its half-width relative to the rate.
+    if (!saturated) widen_interval(r, tr, kt, nk);
     if (!noise_only && !saturated && opt.precision_limit > 0) {
-      double half = 0.5 * (r.ci_high - r.ci_low);
-      if (std::isfinite(tr.noise_sd) && nk >= 2) {
-        double mt = 0, stt = 0;
-        for (double t : kt) mt += t;
-        mt /= nk;
-        for (double t : kt) stt += (t - mt) * (t - mt);
-        if (stt > 0) half = std::max(half, 1.959963984540054 * tr.noise_sd / std::sqrt(stt));
-      }
-      if (std::isfinite(tr.rate_sd)) half = std::hypot(half, 1.959963984540054 * tr.rate_sd);
+      const double half = 0.5 * (r.ci_high - r.ci_low);
       if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
     }
   }

@@ -115,6 +115,25 @@ int lag_scan(const WindowStats& stats, const std::vector<double>& t, int s0, int
   return s0 + static_cast<int>(top);
 }
 
+// A stretch after the window [s, e) steeper than the window itself: once an enzyme reaction
+// runs, its rate only falls (substrate is used, product builds up), so a later rise means the
+// window sat in a lag or another slow start and does not hold v0 (common practice: the
+// initial rate is the steepest part of a progress curve without lag). Blocks of the window's
+// length after it, up to k_later_blocks of them, each compared with the window's slope at
+// k_later_z standard errors of the difference (read noise `sd`).
+constexpr double k_later_z = 3.0;
+constexpr int k_later_blocks = 4;
+bool steeper_later(const WindowStats& stats, int s, int e, int mc, double sd) {
+  const int len = e - s;
+  if (!(sd > 0) || len < 3) return false;
+  const double b = stats.slope(s, e), se = sd / std::sqrt(stats.stt(s, e));
+  for (int k = 0, a = e; k < k_later_blocks && a + len <= mc; ++k, a += len) {
+    const double later = stats.slope(a, a + len), later_se = sd / std::sqrt(stats.stt(a, a + len));
+    if (later - b > k_later_z * std::hypot(se, later_se)) return true;
+  }
+  return false;
+}
+
 // The candidate [s, e) of the screened reads as the rules see it.
 WindowCandidate candidate(const WindowStats& stats, const std::vector<double>& ct, int s, int e, double sd_floor,
                           double t_ref, double baseline, double limit_signal, CriticalT& t_crit) {
@@ -315,6 +334,8 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
     const WindowCandidate c = candidate(stats, ct, s, accepted, sd_floor, t_ref, baseline, limit_signal, t_crit);
     w.rising = opt.linearity_alpha > 0 && c.curvature > 0 &&
                significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, opt);
+    // ... or whose reads after it climb faster than it does.
+    if (opt.detect_lag && !w.rising) w.rising = steeper_later(stats, s, accepted, mc, sd);
   }
   w.end = end;
   return w;

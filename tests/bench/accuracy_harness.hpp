@@ -40,6 +40,8 @@ struct WellRecord {
   double oracle_err = 0;    // the same for OLS over the window the truth picks (WellTruth::oracle_*)
   bool flagged = false;     // any flag
   bool tangent = false;     // v0 is the parabola's initial tangent
+  std::vector<std::string> flags;  // the flags raised, for the tally of flags on clean wells
+  bool covered = false;            // the truth lies in the result's 95 % interval
 };
 
 struct Totals {

@@ -151,11 +151,13 @@ std::string overall(const Totals& tot, Headline& h) {
   const Figures every = weighted(recs, all, abs_err);
   const Figures naive = weighted(recs, all, naive_err);
   int art_unflagged = 0, art10 = 0, art15 = 0, clean = 0, clean_flagged = 0, measurable = 0;
+  std::map<std::string, int> clean_flags;
   for (const auto& r : recs) {
     measurable += r.measurable;
     if (clean_well(r)) {
       ++clean;
       clean_flagged += r.flagged;
+      for (const auto& f : r.flags) ++clean_flags[f];
     }
     if (!artefact_well(r) || r.flagged) continue;
     ++art_unflagged;
@@ -178,7 +180,27 @@ std::string overall(const Totals& tot, Headline& h) {
                      pct(measurable, static_cast<int>(recs.size())));
   out += fmt::format("unflagged artefact wells above 10 % error: {} of {} ({}); above 15 %: {} ({})\n", art10,
                      art_unflagged, pct(art10, art_unflagged), art15, pct(art15, art_unflagged));
-  out += fmt::format("clean wells flagged: {} of {} ({})\n", clean_flagged, clean, pct(clean_flagged, clean));
+  out += fmt::format("clean wells flagged: {} of {} ({}); their flags:", clean_flagged, clean,
+                     pct(clean_flagged, clean));
+  for (const auto& [flag, n] : clean_flags) out += fmt::format(" {} {}", flag, n);
+  out += "\n";
+  {
+    const auto imprecise = [](const WellRecord& r) {
+      return std::find(r.flags.begin(), r.flags.end(), "imprecise") != r.flags.end();
+    };
+    const Figures ci = weighted(recs, [&](const WellRecord& r) { return clean_well(r) && imprecise(r); }, abs_err);
+    int n_clean = 0, cov_clean = 0, n_unfl = 0, cov_unfl = 0, other = 0;
+    for (const auto& r : recs) {
+      if (clean_well(r)) n_clean++, cov_clean += r.covered;
+      if (clean_well(r) && r.flagged && !(r.flags.size() == 1 && imprecise(r))) ++other;
+      if (!r.flagged) n_unfl++, cov_unfl += r.covered;
+    }
+    out += fmt::format(
+        "clean wells flagged imprecise: {}, their |error| median {:.2f} % p90 {:.2f} %; 95 % interval holds the "
+        "truth in {} of clean wells, {} of unflagged wells\n",
+        ci.wells, ci.median, ci.p90, pct(cov_clean, n_clean), pct(cov_unfl, n_unfl));
+    out += fmt::format("clean wells flagged for more than imprecision: {} ({})\n", other, pct(other, n_clean));
+  }
   const int lost = tot.sample_wells - tot.finite;
   out += fmt::format("wells lost: {} of {} (no result or no finite v0)\n", lost, tot.sample_wells);
   // The tangent's own bias: wells whose only artefacts are the short run and the curvature

@@ -276,7 +276,9 @@ void run_plate(const PlateRun& run, Totals& tot) {
                    naive_err,
                    std::isfinite(oracle_v0) ? 100 * std::fabs(oracle_v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY,
                    !r.flags.empty(),
-                   r.tangent == "parabola"};
+                   r.tangent == "parabola",
+                   r.flags,
+                   r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM};
     if (run.mix)
       tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} blank-dist {:+.5f} | {}",
                                            to_string(run.kind), truth.measurable ? "yes" : "no", truth.line_error,
