@@ -12,6 +12,15 @@
 
 namespace vzero {
 
+namespace {
+constexpr EnumName<Direction> k_directions[] = {{Direction::up, "up"}, {Direction::down, "down"}};
+}  // namespace
+
+template <>
+std::span<const EnumName<Direction>> enum_names<Direction>() {
+  return k_directions;
+}
+
 void parallel_for(int n, int threads, const std::function<void(int)>& fn) {
   int t = threads > 0 ? threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
   t = std::min(t, std::max(1, n / 16));

@@ -9,39 +9,25 @@
 
 namespace vzero {
 
-std::string_view to_string(BlankStrategy s) {
-  switch (s) {
-    case BlankStrategy::plate:
-      return "plate";
-    case BlankStrategy::matched:
-      return "matched";
-    case BlankStrategy::none:
-      return "none";
-  }
-  return "plate";
-}
-std::string_view to_string(BlankMode m) { return m == BlankMode::trace ? "trace" : "rate"; }
+namespace {
+constexpr EnumName<BlankStrategy> k_strategies[] = {
+    {BlankStrategy::plate, "plate"}, {BlankStrategy::matched, "matched"}, {BlankStrategy::none, "none"}};
+constexpr EnumName<BlankMode> k_modes[] = {{BlankMode::trace, "trace"}, {BlankMode::rate, "rate"}};
+}  // namespace
 
-bool parse_blank_strategy(std::string_view t, BlankStrategy& out) {
-  if (t == "plate")
-    out = BlankStrategy::plate;
-  else if (t == "matched")
-    out = BlankStrategy::matched;
-  else if (t == "none")
-    out = BlankStrategy::none;
-  else
-    return false;
-  return true;
+template <>
+std::span<const EnumName<BlankStrategy>> enum_names<BlankStrategy>() {
+  return k_strategies;
 }
-bool parse_blank_mode(std::string_view t, BlankMode& out) {
-  if (t == "trace")
-    out = BlankMode::trace;
-  else if (t == "rate")
-    out = BlankMode::rate;
-  else
-    return false;
-  return true;
+template <>
+std::span<const EnumName<BlankMode>> enum_names<BlankMode>() {
+  return k_modes;
 }
+
+std::string_view to_string(BlankStrategy s) { return enum_text(s); }
+std::string_view to_string(BlankMode m) { return enum_text(m); }
+bool parse_blank_strategy(std::string_view t, BlankStrategy& out) { return parse_enum(t, out); }
+bool parse_blank_mode(std::string_view t, BlankMode& out) { return parse_enum(t, out); }
 
 namespace {
 

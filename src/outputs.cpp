@@ -72,7 +72,7 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
       // each well's path is then rates.csv's path_cm).
       c["plate"] = {
           {"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows}, {"columns", ra.run->format.columns}};
-      c["direction"] = ca.direction_sign < 0 ? "down" : "up";
+      c["direction"] = enum_text(ca.direction_sign < 0 ? Direction::down : Direction::up);
       {
         const auto& f = ca.conversion.factor;
         const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });

@@ -17,11 +17,14 @@
 #include "vzero/convert.hpp"
 #include "vzero/plate_map.hpp"
 #include "vzero/rates.hpp"
+#include "vzero/enum_names.hpp"
 #include "vzero/run.hpp"
 
 namespace vzero {
 
 enum class Direction { up, down };  // product formation (signal rises) or consumption (falls)
+template <>
+std::span<const EnumName<Direction>> enum_names<Direction>();  // up, down
 
 struct AnalysisOptions {
   BlankOptions blank;

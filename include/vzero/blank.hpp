@@ -19,6 +19,7 @@
 #include <string_view>
 #include <vector>
 
+#include "vzero/enum_names.hpp"
 #include "vzero/plate_map.hpp"
 #include "vzero/run.hpp"
 
@@ -26,6 +27,10 @@ namespace vzero {
 
 enum class BlankStrategy { plate, matched, none };
 enum class BlankMode { trace, rate };
+template <>
+std::span<const EnumName<BlankStrategy>> enum_names<BlankStrategy>();  // plate, matched, none
+template <>
+std::span<const EnumName<BlankMode>> enum_names<BlankMode>();  // trace, rate
 std::string_view to_string(BlankStrategy s);
 std::string_view to_string(BlankMode m);
 bool parse_blank_strategy(std::string_view t, BlankStrategy& out);

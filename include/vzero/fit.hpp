@@ -35,6 +35,7 @@
 #include <string_view>
 #include <vector>
 
+#include "vzero/enum_names.hpp"
 #include "vzero/kinetic_model.hpp"
 #include "vzero/table.hpp"
 
@@ -45,7 +46,9 @@ enum class Weighting {
   replicate_sd,  // 1/sd² from replicate wells or an sd column
   relative       // 1/v² (constant relative error)
 };
-std::string_view to_string(Weighting w);  // "none", "replicate-sd", "relative"
+template <>
+std::span<const EnumName<Weighting>> enum_names<Weighting>();  // none, replicate-sd, relative
+std::string_view to_string(Weighting w);
 bool parse_weighting(std::string_view text, Weighting& out);
 
 struct FitOptions {

@@ -50,25 +50,10 @@
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
 //
-// Flags (short words; `empty` is set by the caller for wells without a sample):
-//   overflow        the trace holds reads the instrument reported as overflow
-//   ceiling         reads reached `signal_ceiling`; the window stops before them
-//   too-few-reads   fewer than `min_points` usable reads (or less than `min_span_s`); the
-//                   rate, if any, is from all usable reads
-//   nonlinear       even the shortest window (`min_points`, `min_span_s`) is curved: no
-//                   straight stretch long enough
-//   depleted        the conversion limit is passed before the shortest window ends
-//   disturbed       the first reads jumped or decayed (a disturbed start); they were set aside
-//   lag             the rate rose over the first reads; they were skipped
-//   rising          the rate still rises across the chosen window (significant upward bend)
-//                   or climbs faster after it: v0 is underestimated (a lag not over)
-//   saturated       the rate comes from reads at the detector's plateau (never noise/negative)
-//   imprecise       the 95 % half-width exceeds `precision_limit` of the rate
-//   outliers        reads in the window were rejected as outliers (count in n_outliers)
-//   noise           the rate is not distinguishable from noise: its 95 % interval holds 0,
-//                   or it is below `lod_factor` × the slope SD that blank noise alone gives
-//                   over the window (`noise_sd`)
-//   negative        the rate is below zero (reaction direction opposite to the one given)
+// Flags: find_rate raises overflow, ceiling, too-few-reads, nonlinear, depleted, disturbed,
+// lag, rising, saturated, imprecise, outliers, noise and negative. The run (src/analysis.cpp)
+// sorts them by the well's role into rates.csv's `flags` (trust withheld) and `notes`
+// (corrections made); their meanings are the one table of include/vzero/flags.hpp.
 //
 // **Example**:
 //   vzero::RateOptions opt;             // defaults: see the fields
@@ -83,11 +68,14 @@
 #include <string_view>
 #include <vector>
 
+#include "vzero/enum_names.hpp"
 #include "vzero/run.hpp"
 
 namespace vzero {
 
 enum class Estimator { theil_sen, ols, huber };
+template <>
+std::span<const EnumName<Estimator>> enum_names<Estimator>();  // theil-sen, ols, huber
 std::string_view to_string(Estimator e);
 bool parse_estimator(std::string_view text, Estimator& out);
 
@@ -96,6 +84,8 @@ bool parse_estimator(std::string_view text, Estimator& out);
 //   leading:   the first `min_points` valid reads after the dead time
 //   steepest:  the `min_points` consecutive valid reads with the largest slope
 enum class WindowMethod { automatic, leading, steepest };
+template <>
+std::span<const EnumName<WindowMethod>> enum_names<WindowMethod>();  // auto, leading, steepest
 std::string_view to_string(WindowMethod m);
 bool parse_window_method(std::string_view text, WindowMethod& out);
 
@@ -115,6 +105,8 @@ bool parse_window_method(std::string_view text, WindowMethod& out);
 //           Not used with the steepest window.
 //   always: the tangent whenever the parabola can be fitted (≥ 5 reads)
 enum class TangentMode { never, automatic, always };
+template <>
+std::span<const EnumName<TangentMode>> enum_names<TangentMode>();  // never, auto, always
 std::string_view to_string(TangentMode m);
 bool parse_tangent_mode(std::string_view text, TangentMode& out);
 

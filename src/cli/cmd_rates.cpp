@@ -15,6 +15,7 @@
 #include "cli/options.hpp"
 #include "cli/rates_settings.hpp"
 #include "vzero/error.hpp"
+#include "vzero/flags.hpp"
 #include "vzero/rates_run.hpp"
 #include "vzero/table.hpp"
 
@@ -122,7 +123,8 @@ int cmd_rates(const Args& args) {
   po::variables_map vm = parse_command_line(args, opts, hidden, pos);
   if (vm.count("help")) {
     print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() +
-              "\nepsilon presets: " + epsilon_preset_list() + "\n");
+              "\nepsilon presets: " + epsilon_preset_list() + "\n\nrates.csv, columns flags and notes:\n" +
+              marks_text());
     return 0;
   }
   const ResolvedSettings resolved = settings_from(vm);

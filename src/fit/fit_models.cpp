@@ -11,25 +11,24 @@
 
 namespace vzero {
 
-std::string_view to_string(Weighting w) {
-  switch (w) {
-    case Weighting::none:
-      return "none";
-    case Weighting::replicate_sd:
-      return "replicate-sd";
-    case Weighting::relative:
-      return "relative";
-  }
-  return "none";
+namespace {
+constexpr EnumName<Weighting> k_weightings[] = {
+    {Weighting::none, "none"}, {Weighting::replicate_sd, "replicate-sd"}, {Weighting::relative, "relative"}};
+}  // namespace
+
+template <>
+std::span<const EnumName<Weighting>> enum_names<Weighting>() {
+  return k_weightings;
 }
 
+std::string_view to_string(Weighting w) { return enum_text(w); }
+
 bool parse_weighting(std::string_view text, Weighting& out) {
-  for (Weighting w : {Weighting::none, Weighting::replicate_sd, Weighting::relative}) {
-    if (detail::iequals(text, to_string(w))) {
-      out = w;
+  for (const auto& n : k_weightings)  // case-insensitive, as the fit's options have always been
+    if (detail::iequals(text, n.name)) {
+      out = n.value;
       return true;
     }
-  }
   return false;
 }
 

@@ -10,77 +10,34 @@
 
 namespace vzero {
 
-std::string_view to_string(Estimator e) {
-  switch (e) {
-    case Estimator::theil_sen:
-      return "theil-sen";
-    case Estimator::ols:
-      return "ols";
-    case Estimator::huber:
-      return "huber";
-  }
-  return "theil-sen";
+namespace {
+constexpr EnumName<Estimator> k_estimators[] = {
+    {Estimator::theil_sen, "theil-sen"}, {Estimator::ols, "ols"}, {Estimator::huber, "huber"}};
+constexpr EnumName<WindowMethod> k_windows[] = {
+    {WindowMethod::automatic, "auto"}, {WindowMethod::leading, "leading"}, {WindowMethod::steepest, "steepest"}};
+constexpr EnumName<TangentMode> k_tangents[] = {
+    {TangentMode::never, "never"}, {TangentMode::automatic, "auto"}, {TangentMode::always, "always"}};
+}  // namespace
+
+template <>
+std::span<const EnumName<Estimator>> enum_names<Estimator>() {
+  return k_estimators;
+}
+template <>
+std::span<const EnumName<WindowMethod>> enum_names<WindowMethod>() {
+  return k_windows;
+}
+template <>
+std::span<const EnumName<TangentMode>> enum_names<TangentMode>() {
+  return k_tangents;
 }
 
-bool parse_estimator(std::string_view t, Estimator& out) {
-  if (t == "theil-sen")
-    out = Estimator::theil_sen;
-  else if (t == "ols")
-    out = Estimator::ols;
-  else if (t == "huber")
-    out = Estimator::huber;
-  else
-    return false;
-  return true;
-}
-
-std::string_view to_string(WindowMethod m) {
-  switch (m) {
-    case WindowMethod::automatic:
-      return "auto";
-    case WindowMethod::leading:
-      return "leading";
-    case WindowMethod::steepest:
-      return "steepest";
-  }
-  return "auto";
-}
-
-bool parse_window_method(std::string_view t, WindowMethod& out) {
-  if (t == "auto")
-    out = WindowMethod::automatic;
-  else if (t == "leading")
-    out = WindowMethod::leading;
-  else if (t == "steepest")
-    out = WindowMethod::steepest;
-  else
-    return false;
-  return true;
-}
-
-std::string_view to_string(TangentMode m) {
-  switch (m) {
-    case TangentMode::never:
-      return "never";
-    case TangentMode::automatic:
-      return "auto";
-    case TangentMode::always:
-      return "always";
-  }
-  return "auto";
-}
-
-bool parse_tangent_mode(std::string_view t, TangentMode& out) {
-  if (t == "never")
-    out = TangentMode::never;
-  else if (t == "auto")
-    out = TangentMode::automatic;
-  else if (t == "always")
-    out = TangentMode::always;
-  else
-    return false;
-  return true;
-}
+std::string_view to_string(Estimator e) { return enum_text(e); }
+bool parse_estimator(std::string_view t, Estimator& out) { return parse_enum(t, out); }
+std::string_view to_string(WindowMethod m) { return enum_text(m); }
+bool parse_window_method(std::string_view t, WindowMethod& out) { return parse_enum(t, out); }
+std::string_view to_string(TangentMode m) { return enum_text(m); }
+bool parse_tangent_mode(std::string_view t, TangentMode& out) { return parse_enum(t, out); }
 
 namespace {
 

@@ -69,6 +69,22 @@ OptionSpec choice(std::string_view name, std::string_view group, std::string_vie
   return o;
 }
 
+// A choice among an enum's words (its one table, include/vzero/enum_names.hpp), stored in
+// the field `Field` returns.
+template <class E, E& (*Field)(S&)>
+OptionSpec enum_choice(std::string_view name, std::string_view group, std::string_view def, std::string_view help) {
+  return choice(
+      name, group, def, enum_words<E>(),
+      [](S& s, const V& v) -> std::string { return parse_enum(v.text, Field(s)) ? "" : "?"; },
+      [](const S& s) { return std::string(enum_text(Field(const_cast<S&>(s)))); }, help);
+}
+BlankStrategy& blank_strategy_of(S& s) { return s.analysis.blank.strategy; }
+BlankMode& blank_mode_of(S& s) { return s.analysis.blank.mode; }
+Direction& direction_of(S& s) { return s.analysis.direction; }
+WindowMethod& window_of(S& s) { return s.analysis.rates.window; }
+Estimator& estimator_of(S& s) { return s.analysis.rates.estimator; }
+TangentMode& tangent_of(S& s) { return s.analysis.rates.tangent; }
+
 OptionSpec special(std::string_view name, std::string_view group, OptionKind kind, OptionRole role,
                    std::string_view def, std::string (*apply)(S&, const V&), std::string_view help) {
   OptionSpec o;
@@ -241,44 +257,24 @@ std::vector<OptionSpec> make_table() {
       "EX,EM: correct fluorescence by F·10^((A_ex + A_em)/2) with these absorbance channels"));
 
   // Blanks and direction.
-  t.push_back(choice(
-      "blank", k_blank, "plate", {"plate", "matched", "none"},
-      [](S& s, const V& v) -> std::string {
-        return parse_blank_strategy(v.text, s.analysis.blank.strategy) ? "" : "?";
-      },
-      [](const S& s) { return std::string(to_string(s.analysis.blank.strategy)); },
-      "plate (all blank wells), matched (same `match` value) or none"));
-  t.push_back(choice(
-      "blank-mode", k_blank, "trace", {"trace", "rate"},
-      [](S& s, const V& v) -> std::string { return parse_blank_mode(v.text, s.analysis.blank.mode) ? "" : "?"; },
-      [](const S& s) { return std::string(to_string(s.analysis.blank.mode)); },
-      "trace (subtract read by read) or rate (subtract the blank's rate)"));
+  t.push_back(enum_choice<BlankStrategy, blank_strategy_of>(
+      "blank", k_blank, "plate", "plate (all blank wells), matched (same `match` value) or none"));
+  t.push_back(enum_choice<BlankMode, blank_mode_of>(
+      "blank-mode", k_blank, "trace", "trace (subtract read by read) or rate (subtract the blank's rate)"));
   {
     NumberRange above_one{1, 1e300, true, false};
     t.push_back(number(
         "blank-noise-factor", k_blank, "3", "", above_one, [](S& s) { return &s.analysis.blank.noisy_factor; },
         "a blank is flagged noisy when its scatter exceeds this many times the median blank's"));
   }
-  t.push_back(choice(
-      "direction", k_blank, "up", {"up", "down"},
-      [](S& s, const V& v) {
-        s.analysis.direction = v.text == "down" ? Direction::down : Direction::up;
-        return std::string();
-      },
-      [](const S& s) { return std::string(s.analysis.direction == Direction::down ? "down" : "up"); },
-      "up (product formed, signal rises) or down (signal falls, e.g. NADH at 340 nm)"));
+  t.push_back(enum_choice<Direction, direction_of>(
+      "direction", k_blank, "up", "up (product formed, signal rises) or down (signal falls, e.g. NADH at 340 nm)"));
 
   // Rate finder.
-  t.push_back(choice(
-      "window", k_rate, "auto", {"auto", "leading", "steepest"},
-      [](S& s, const V& v) -> std::string { return parse_window_method(v.text, s.analysis.rates.window) ? "" : "?"; },
-      [](const S& s) { return std::string(to_string(s.analysis.rates.window)); },
-      "auto (longest early linear window), leading (first --min-points reads) or steepest"));
-  t.push_back(choice(
-      "estimator", k_rate, "theil-sen", {"theil-sen", "ols", "huber"},
-      [](S& s, const V& v) -> std::string { return parse_estimator(v.text, s.analysis.rates.estimator) ? "" : "?"; },
-      [](const S& s) { return std::string(to_string(s.analysis.rates.estimator)); },
-      "slope estimator: theil-sen, ols or huber"));
+  t.push_back(enum_choice<WindowMethod, window_of>(
+      "window", k_rate, "auto", "auto (longest early linear window), leading (first --min-points reads) or steepest"));
+  t.push_back(enum_choice<Estimator, estimator_of>("estimator", k_rate, "theil-sen",
+                                                   "slope estimator: theil-sen, ols or huber"));
   {
     OptionSpec o = special("min-points", k_rate, OptionKind::integer, OptionRole::analysis, "5", nullptr,
                            "fewest reads in a window (3 or more: a slope with an uncertainty)");
@@ -342,10 +338,8 @@ std::vector<OptionSpec> make_table() {
   t.push_back(number(
       "detection-factor", k_rate, "3", "", k_non_negative, [](S& s) { return &s.analysis.rates.lod_factor; },
       "a rate below this many slope SDs of blank noise over its window is flagged noise"));
-  t.push_back(choice(
-      "tangent", k_rate, "auto", {"auto", "never", "always"},
-      [](S& s, const V& v) -> std::string { return parse_tangent_mode(v.text, s.analysis.rates.tangent) ? "" : "?"; },
-      [](const S& s) { return std::string(to_string(s.analysis.rates.tangent)); },
+  t.push_back(enum_choice<TangentMode, tangent_of>(
+      "tangent", k_rate, "auto",
       "v0 from the initial tangent of a parabola: auto (when the trace bends down "
       "significantly and the parabola has --tangent-min-reads reads), never, or always"));
   {

@@ -1,0 +1,111 @@
+// The one table of flag and note words (include/vzero/flags.hpp).
+#include "vzero/flags.hpp"
+
+#include <array>
+
+#include <fmt/format.h>
+
+namespace vzero {
+namespace {
+
+// `text` wrapped at `width` columns, continuation lines indented by `indent` spaces.
+std::string wrap(const std::string& text, std::size_t width, std::size_t indent) {
+  std::string out, line;
+  std::size_t i = 0;
+  while (i < text.size()) {
+    std::size_t j = text.find(' ', i + 1);
+    if (j == std::string::npos) j = text.size();
+    const std::string word = text.substr(i, j - i);
+    if (!line.empty() && line.size() + word.size() > width) {
+      out += line + "\n";
+      line = std::string(indent, ' ') + (word.front() == ' ' ? word.substr(1) : word);
+    } else {
+      line += word;
+    }
+    i = j;
+  }
+  return out + line;
+}
+
+constexpr MarkKind flag = MarkKind::flag;
+constexpr MarkKind note = MarkKind::note;
+
+// clang-format off
+constexpr std::array<MarkInfo, 23> k_marks{{
+    {"too-few-reads", flag, "sample, standard",
+     "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
+    {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
+    {"depleted", flag, "sample",
+     "the conversion limit (`--max-conversion` of `substrate`) is passed before the shortest window ends"},
+    {"noise", flag, "sample",
+     "the rate cannot be told from noise: its 95 % interval holds 0, or it is below 3 × the slope SD that the blank's "
+     "read noise alone would give"},
+    {"negative", flag, "sample", "the rate is below zero (in the reaction direction)"},
+    {"rising", flag, "sample",
+     "the rate still rises across the chosen window, or a later stretch of the trace climbs faster than the window "
+     "(a lag not over by its end): v0 is underestimated"},
+    {"imprecise", flag, "sample",
+     "the rate's 95 % interval (read noise over the window, and the scatter of the blank wells' own rates) is wider "
+     "than `--precision-limit` (default ±15 %) of the rate"},
+    {"ceiling", flag, "sample, standard",
+     "every read was at or above `--signal-ceiling` (or the absorbance limit), so the rate comes from reads beyond "
+     "the linear range"},
+    {"saturated", flag, "sample, standard",
+     "the trace sits at the detector's maximum (then overflows): its rate says nothing about the enzyme"},
+    {"blank-missing", flag, "sample", "the sample has no blank to subtract (no matched blank, or none on the plate)"},
+    {"blank-noisy", flag, "sample, blank", "a blank used scatters more than 3 × the median blank scatter"},
+    {"blank-disturbed", flag, "blank", "the blank's first reads jumped or decayed; its fitted line stands in for them"},
+    {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},
+    {"outside-standards", flag, "sample", "the sample's signal in the window leaves the standard curve's calibrated range"},
+    {"no-path", flag, "any",
+     "no valid path length for the well (e.g. a water-peak difference ≤ 0)"},
+    {"disturbed", note, "sample, standard, blank",
+     "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
+    {"lag", note, "sample, standard, blank", "the first reads rose more slowly (a lag) and were skipped"},
+    {"blank-line", note, "sample",
+     "a blank used had a disturbed start: its fitted line was subtracted instead of its reads"},
+    {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
+    {"no-limit", note, "sample",
+     "no substrate concentration (or no concentration scale) for the sample: no conversion limit applied"},
+    {"outliers", note, "sample, standard, blank", "reads in the window were rejected as outliers (`n_outliers`)"},
+    {"overflow", note, "sample, standard, blank", "the trace has overflow reads; the window leaves them out"},
+    {"ceiling", note, "sample, standard, blank", "reads reached `--signal-ceiling`; the window ends before them"},
+}};
+// clang-format on
+
+}  // namespace
+
+std::string_view to_string(MarkKind k) { return k == MarkKind::flag ? "flag" : "note"; }
+
+std::span<const MarkInfo> mark_table() { return k_marks; }
+
+const MarkInfo* find_mark(std::string_view word, MarkKind kind) {
+  for (const MarkInfo& m : k_marks)
+    if (m.word == word && m.kind == kind) return &m;
+  return nullptr;
+}
+
+std::string marks_markdown(MarkKind kind) {
+  std::string out = fmt::format("| {} | meaning |\n|---|---|\n", to_string(kind));
+  for (const MarkInfo& m : k_marks)
+    if (m.kind == kind) out += fmt::format("| `{}` | {} |\n", m.word, m.meaning);
+  return out;
+}
+
+std::string marks_text(int width) {
+  std::string out;
+  for (MarkKind kind : {MarkKind::flag, MarkKind::note}) {
+    out += kind == MarkKind::flag ? "Flags (the well's v0 is not trusted):\n"
+                                  : "Notes (corrections made; the well keeps its rate):\n";
+    for (const MarkInfo& m : k_marks) {
+      if (m.kind != kind) continue;
+      std::string meaning;
+      for (char c : m.meaning)
+        if (c != '`') meaning += c;
+      out += wrap(fmt::format("  {:<17} {}", m.word, meaning), static_cast<std::size_t>(width), 20) + "\n";
+    }
+  }
+  return out;
+}
+
+}  // namespace vzero
