@@ -161,6 +161,12 @@ constexpr TraceEntry k_trace_columns[] = {
 using Group = const SummaryGroup&;
 
 constexpr SummaryEntry k_summary_columns[] = {
+    {.name = "source",
+     .type = text,
+     .unit = "",
+     .description = "export file the group's wells were read from (--summary-per-file)",
+     .write = [](CsvOut& o, Group g, std::size_t) { o.field(g.source); },
+     .when = [](const SummaryTable& s) { return s.per_source; }},
     {"channel", text, "", "channel", [](CsvOut& o, Group g, std::size_t) { o.field(g.channel); }},
     {"role", text, "", "role of the wells", [](CsvOut& o, Group g, std::size_t) { o.field(g.role); }},
     {.name = "",

@@ -123,7 +123,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   tables.push_back({"rates", relative_to(s.output, dir),
                     with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), unit)});
   if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
-  out.summary = summarise(out.analyses, out.map.columns, s.leave_out);
+  out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
   if (!s.summary.empty()) {
     out.summary_csv = summary_csv(out.summary);
     tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), unit)});

@@ -9,8 +9,9 @@
 namespace vzero {
 
 SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                       const std::vector<std::string>& leave_out) {
+                       const std::vector<std::string>& leave_out, bool per_source) {
   SummaryTable t;
+  t.per_source = per_source;
   std::vector<std::size_t> keep;
   for (std::size_t i = 0; i < map_columns.size(); ++i) {
     bool drop = false;
@@ -24,24 +25,26 @@ SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<s
   std::vector<std::vector<double>> values;
   // A row's group follows from its channel's name and its plate-map entry alone (the role
   // is the entry's): found once per pair, not once per row of every plate.
-  std::map<std::string, std::unordered_map<const WellInfo*, std::size_t>> known;
+  std::map<std::pair<std::string, std::string>, std::unordered_map<const WellInfo*, std::size_t>> known;
   for (const auto& ra : runs) {
+    const std::string source = per_source ? ra.run->source : std::string();
     for (const auto& ca : ra.channels) {
-      auto& group_of = known[ca.channel->name];
+      auto& group_of = known[{source, ca.channel->name}];
       for (const auto& row : ca.rows) {
         if (row.role == Role::empty || !row.info) continue;
         std::size_t group = 0;
         if (auto hit = group_of.find(row.info); hit != group_of.end()) {
           group = hit->second;
         } else {
-          std::vector<std::string> key{ca.channel->name, std::string(to_string(row.role))};
+          std::vector<std::string> key{source, ca.channel->name, std::string(to_string(row.role))};
           for (std::size_t i : keep) key.push_back(i < row.info->values.size() ? row.info->values[i] : "");
           auto [it, fresh] = index.emplace(key, t.groups.size());
           if (fresh) {
             SummaryGroup g;
-            g.channel = key[0];
-            g.role = key[1];
-            g.key.assign(key.begin() + 2, key.end());
+            g.source = key[0];
+            g.channel = key[1];
+            g.role = key[2];
+            g.key.assign(key.begin() + 3, key.end());
             g.v0_unit = ca.v0_unit;
             t.groups.push_back(std::move(g));
             values.emplace_back();

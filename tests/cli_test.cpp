@@ -1,9 +1,12 @@
 // The vzero program as a user runs it: help, errors and exit codes, the rates outputs.
+#include <fmt/format.h>
 #include <signal.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
+#include <algorithm>
 #include <nlohmann/json.hpp>
+#include <sstream>
 
 #include "test_support.hpp"
 #include "vzero/table.hpp"
@@ -335,4 +338,89 @@ TEST_CASE("the console digest prints no nan for a condition with one clean well"
   CHECK(r.out.find("nan") == std::string::npos);
   // A12 alone at ten times the enzyme: one well, so no SD (invented demo plate).
   CHECK(r.out.find("uM/min (n 1)") != std::string::npos);
+}
+
+namespace {
+// The demo map with each well its own condition (group = the well's name).
+std::string map_one_condition_per_well() {
+  std::istringstream in(slurp(source("demo-data/hydrolase_map.csv")));
+  std::string out, line;
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#' || line.rfind("well,", 0) == 0) {
+      out += line + "\n";
+      continue;
+    }
+    std::vector<std::string> cell;
+    std::stringstream ss(line);
+    for (std::string c; std::getline(ss, c, ',');) cell.push_back(c);
+    cell.resize(7);
+    cell[4] = "w" + cell[0];  // group column
+    for (std::size_t i = 0; i < cell.size(); ++i) out += (i ? "," : "") + cell[i];
+    out += "\n";
+  }
+  return out;
+}
+}  // namespace
+
+TEST_CASE("the console digest stays short: many conditions give the fastest and slowest few") {
+  TempDir dir;
+  spit((dir.path / "map.csv").string(), map_one_condition_per_well());
+  auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout map.csv --method " +
+                         demo("esterase_method.toml") + " --summary summary.csv",
+                     dir.path.string());
+  INFO(r.describe());
+  REQUIRE(r.status == 0);
+  CHECK(std::count(r.out.begin(), r.out.end(), '\n') <= 30);
+  CHECK(r.out.find("the 5 fastest") != std::string::npos);
+  CHECK(r.out.find("every condition: summary.csv") != std::string::npos);
+  // The first condition listed is the fastest in summary.csv (its mean, printed to 4 digits).
+  const vzero::Table t = vzero::parse_table("summary.csv", slurp((dir.path / "summary.csv").string()));
+  const int role = t.column("role"), mean = t.column("v0_mean"), group = t.column("group");
+  double best = -1;
+  std::string best_group;
+  for (std::size_t i = 0; i < t.rows.size(); ++i) {
+    const auto v = t.number(i, mean);
+    if (t.rows[i][static_cast<std::size_t>(role)] == "sample" && v && *v > best) {
+      best = *v;
+      best_group = t.rows[i][static_cast<std::size_t>(group)];
+    }
+  }
+  const auto first = r.out.find("fastest:\n");
+  REQUIRE(first != std::string::npos);
+  const std::string line = r.out.substr(first + 9, r.out.find('\n', first + 9) - first - 9);
+  CHECK(line.find("group=" + best_group + " ") != std::string::npos);
+  CHECK(line.find(fmt::format("{:.4g} uM/min", best)) != std::string::npos);
+}
+
+TEST_CASE("--summary-per-file keeps the exports apart in the summary") {
+  TempDir dir;
+  const std::string wide = slurp(source("demo-data/hydrolase_wide.csv"));
+  spit((dir.path / "day1.csv").string(), wide);
+  spit((dir.path / "day2.csv").string(), wide);
+  const std::string common = " --layout " + demo("hydrolase_map.csv") + " --method " + demo("esterase_method.toml");
+  auto pooled =
+      run_vzero("rates day1.csv day2.csv -o pooled.csv --summary pooled_summary.csv -q" + common, dir.path.string());
+  auto apart =
+      run_vzero("rates day1.csv day2.csv -o apart.csv --summary apart_summary.csv -q --summary-per-file" + common,
+                dir.path.string());
+  INFO(pooled.describe(), apart.describe());
+  REQUIRE(pooled.status == 0);
+  REQUIRE(apart.status == 0);
+  const vzero::Table p = vzero::parse_table("pooled", slurp((dir.path / "pooled_summary.csv").string()));
+  const vzero::Table a = vzero::parse_table("apart", slurp((dir.path / "apart_summary.csv").string()));
+  CHECK(p.column("source") == -1);
+  REQUIRE(a.header.front() == "source");
+  // Twice the groups, each half the wells of its pooled twin, and the same means (the two
+  // files are the same bytes).
+  CHECK(a.rows.size() == 2 * p.rows.size());
+  const int pw = p.column("wells"), aw = a.column("wells"), pm = p.column("v0_mean"), am = a.column("v0_mean");
+  for (std::size_t i = 0; i < p.rows.size(); ++i) {
+    const std::string pooled_wells = p.rows[i][static_cast<std::size_t>(pw)];
+    const std::string one_file = a.rows[i][static_cast<std::size_t>(aw)];
+    CHECK(pooled_wells == one_file + ";" + one_file);
+    CHECK(a.rows[i][0] == "day1.csv");
+    const auto pv = p.number(i, pm), av = a.number(i, am);
+    CHECK(pv.has_value() == av.has_value());
+    if (pv && av) CHECK(*pv == doctest::Approx(*av).epsilon(1e-12));
+  }
 }

@@ -31,6 +31,7 @@ struct RunSettings {
   std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
   std::string traces, summary, report;              // optional outputs ("" = not written)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates
+  bool summary_per_file = false;                   // summary groups kept apart per export file
   bool quiet = false;
   AnalysisOptions analysis;
 };

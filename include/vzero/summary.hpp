@@ -13,6 +13,7 @@
 namespace vzero {
 
 struct SummaryGroup {
+  std::string source;  // export file; "" when runs pool (the default)
   std::string channel;
   std::string role;
   std::vector<std::string> key;  // values of SummaryTable::columns
@@ -24,14 +25,16 @@ struct SummaryGroup {
 };
 
 struct SummaryTable {
+  bool per_source = false;           // groups kept apart per export file (a `source` column)
   std::vector<std::string> columns;  // grouping plate-map columns, in map order
   std::vector<SummaryGroup> groups;  // in order of first appearance
 };
 
 // Groups sample, blank and standard wells of every channel by all plate-map columns except
 // those in `leave_out` (compared case-insensitively; "replicate" is the usual one). Runs
-// from several files pool into the same groups.
+// from several files pool into the same groups, unless `per_source`: then each export's
+// wells form groups of their own.
 SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                       const std::vector<std::string>& leave_out);
+                       const std::vector<std::string>& leave_out, bool per_source = false);
 
 }  // namespace vzero

@@ -136,6 +136,14 @@ std::vector<OptionSpec> make_table() {
       },
       "comma-separated plate-map columns not used to group replicates"));
   t.push_back(special(
+      "summary-per-file", k_io, OptionKind::flag, OptionRole::analysis, "",
+      [](S& s, const V& v) {
+        s.summary_per_file = v.on;
+        return std::string();
+      },
+      "keep each export's wells apart in the replicate summary (a source column leads each group); "
+      "by default wells of several exports with one plate map pool by condition"));
+  t.push_back(special(
       "channel", k_io, OptionKind::list, OptionRole::analysis, "",
       [](S& s, const V& v) {
         s.analysis.channels = v.list;
