@@ -63,7 +63,8 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     j["column"] = u.column;
     j["read_as"] = u.use;
     if (u.use != "match") {
-      j["unit"] = u.unit.empty() ? "as conc-unit (none in the header)" : u.unit;
+      j["unit"] = u.unit;
+      j["unit_from"] = u.unit_in_header ? "header" : "conc-unit";
       j["factor_to_conc_unit"] = u.factor;
     }
     uses.push_back(j);

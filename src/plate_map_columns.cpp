@@ -87,7 +87,8 @@ void take(ColumnPlan& plan, std::size_t i, ColumnKind kind, const std::string& c
     if (!u.empty()) unit_decades(u, from);
     unit_decades(run_unit, to);
     plan.decades[i] = u.empty() ? 0 : from - to;
-    cu.unit = u;
+    cu.unit = u.empty() ? o.conc_unit : u;
+    cu.unit_in_header = !u.empty();
     cu.factor = scale_by_decades(1.0, plan.decades[i]);
   }
   plan.uses.push_back(std::move(cu));

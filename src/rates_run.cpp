@@ -28,11 +28,10 @@ std::string relative_to(const std::string& p, const fs::path& dir) {
 
 // The map's substrate passes through as written: in the unit its header names, else in
 // conc-unit. The schema says which (vzero fit reads it for Km).
-std::vector<FieldSpec> with_substrate_unit(std::vector<FieldSpec> fields, const PlateMap& map,
-                                           const std::string& conc_unit) {
+std::vector<FieldSpec> with_substrate_unit(std::vector<FieldSpec> fields, const PlateMap& map) {
   for (FieldSpec& f : fields)
     for (const ColumnUse& u : map.uses)
-      if (u.use == "substrate" && f.name == u.column && f.unit.empty()) f.unit = u.unit.empty() ? conc_unit : u.unit;
+      if (u.use == "substrate" && f.name == u.column && f.unit.empty()) f.unit = u.unit;
   return fields;
 }
 
@@ -199,15 +198,14 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   }
 
   add_run_notes(s, unconverted, out);
-  const std::string& unit = s.analysis.convert.conc_unit;
   std::vector<PackagedTable> tables;
   tables.push_back({"rates", relative_to(s.output, dir),
-                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), out.map, unit)});
+                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), out.map)});
   if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
   out.summary = summarise(out.analyses, out.map.columns, s.leave_out);
   if (!s.summary.empty()) {
     out.summary_csv = summary_csv(out.summary);
-    tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map, unit)});
+    tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);

@@ -55,6 +55,7 @@ TEST_CASE("a substrate header's unit converts its values to the run's unit") {
   CHECK(m.uses[0].column == "substrate (mM)");
   CHECK(m.uses[0].use == "substrate");
   CHECK(m.uses[0].unit == "mM");
+  CHECK(m.uses[0].unit_in_header);
   CHECK(m.uses[0].factor == 1000);
   CHECK(m.columns == std::vector<std::string>{"substrate (mM)"});  // passes through as written
   CHECK(m.find(*parse_well("A1"))->values[0] == "0.05");
@@ -68,7 +69,8 @@ TEST_CASE("a substrate header's unit converts its values to the run's unit") {
   // No unit in the header: the value is in the run's unit, as before.
   PlateMap plain = parse_plate_map("map.csv", "well,role,substrate\nA1,sample,40\n", nm);
   CHECK(substrate_of(plain, "A1") == 40);
-  CHECK(plain.uses[0].unit.empty());
+  CHECK(plain.uses[0].unit == "nM");
+  CHECK(!plain.uses[0].unit_in_header);
   // standard_conc too, in the plate-grid form as well.
   PlateMap grid = parse_plate_map(
       "map.csv", "role\n,1,2\nA,standard,standard\nstandard_conc (nM)\n,1,2\nA,0,500\n", um);

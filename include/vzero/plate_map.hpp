@@ -61,7 +61,8 @@ struct MapColumnOptions {
 struct ColumnUse {
   std::string column;  // the header as written
   std::string use;     // "substrate", "standard_conc" or "match"
-  std::string unit;    // unit named by the header, "" when it names none (then the run's unit)
+  std::string unit;    // the values' unit: named by the header, else the run's ("" for match)
+  bool unit_in_header = false;
   double factor = 1;   // value as written × factor = value in the run's unit
 };
 

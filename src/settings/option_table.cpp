@@ -93,7 +93,8 @@ std::vector<OptionSpec> make_table() {
   // Inputs and outputs.
   t.push_back(text(
       "layout", 'l', k_io, OptionRole::io, "", [](S& s) { return &s.layout; },
-      "plate map CSV (tidy table or plate-grid form); required"));
+      "plate map CSV (tidy table or plate-grid form): well, role, and substrate, standard_conc, match "
+      "(a unit in a concentration header, e.g. `substrate (mM)`, is converted to conc-unit); required"));
   t.push_back(text(
       "substrate-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.substrate_column; },
       "plate-map column with the substrate concentration (default: `substrate`, unit in the header or conc-unit)"));
