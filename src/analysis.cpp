@@ -264,6 +264,37 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
 
 }  // namespace
 
+AnalysisOptions options_for_channel(const AnalysisOptions& options, const std::string& name) {
+  AnalysisOptions o = options;
+  for (const ChannelSettings& cs : options.channel_settings) {
+    if (cs.channel != name) continue;
+    o.convert = cs.convert;
+    o.direction = cs.direction;
+    o.rates.signal_ceiling = cs.signal_ceiling;
+    o.rates.absorbance_limit = cs.absorbance_limit;
+  }
+  return o;
+}
+
+namespace {
+
+// Every channel a method table names must be in the export: a misspelt name would leave
+// that channel at the run's settings.
+void check_channel_tables(const Run& run, const AnalysisOptions& o) {
+  for (const ChannelSettings& cs : o.channel_settings) {
+    if (run.find_channel(cs.channel)) continue;
+    std::string names;
+    for (const auto& c : run.channels) names += (names.empty() ? "" : ", ") + c.name;
+    throw InputError(Where{cs.file, cs.line, cs.column},
+                     fmt::format("the method's [channel.{}] names a channel {} does not have; it has: {}", cs.channel,
+                                 run.source, names),
+                     {"name the table after one of the export's channels, e.g. [channel." +
+                      (run.channels.empty() ? std::string("NAME") : run.channels.front().name) + "]"});
+  }
+}
+
+}  // namespace
+
 RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& o) {
   assert(o.rates.min_points >= 3 && o.threads >= 0);  // checked where the run starts (check_analysis_options)
   RunAnalysis ra;
@@ -273,6 +304,7 @@ RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptio
     throw InputError(Where{map.source, 1}, fmt::format("the plate map has no column `{}`", o.enzyme_mg_column),
                      {"name the plate-map column holding the enzyme mass per well (mg) with --enzyme-mg-column"});
   }
+  check_channel_tables(run, o);
   for (const auto& name : o.channels) {
     if (!run.find_channel(name)) {
       std::string names;
@@ -285,7 +317,12 @@ RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptio
     bool wanted = o.channels.empty() ? !is_water_channel(o.convert, c.name)
                                      : std::find(o.channels.begin(), o.channels.end(), c.name) != o.channels.end();
     if (!wanted) continue;
-    ra.channels.push_back(analyse_channel(run, c, map, o));
+    ra.channels.push_back(analyse_channel(run, c, map, options_for_channel(o, c.name)));
+    for (const ChannelSettings& cs : o.channel_settings)
+      if (cs.channel == c.name) {
+        ra.channels.back().method_settings = cs.given;
+        ra.channels.back().method_table = fmt::format("{}:{}", cs.file, cs.line);
+      }
   }
   return ra;
 }

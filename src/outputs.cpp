@@ -57,6 +57,20 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
   for (const auto& [k, v] : p.detected) det[k] = v;
   prov["detected"] = det;
   prov["map_columns"] = p.map_columns;
+  ordered_json uses = ordered_json::array();
+  for (const auto& u : p.map_uses) {
+    ordered_json j;
+    j["column"] = u.column;
+    j["read_as"] = u.use;
+    if (u.use != "match") {
+      j["unit"] = u.unit;
+      j["unit_from"] = u.unit_in_header ? "header" : "conc-unit";
+      j["factor_to_conc_unit"] = u.factor;
+    }
+    uses.push_back(j);
+  }
+  prov["map_column_uses"] = uses;
+  if (!p.warnings.empty()) prov["warnings"] = p.warnings;
   ordered_json conv = ordered_json::array();
   for (const auto& ra : runs) {
     for (const auto& ca : ra.channels) {
@@ -73,6 +87,11 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
       c["plate"] = {
           {"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows}, {"columns", ra.run->format.columns}};
       c["direction"] = enum_text(ca.direction_sign < 0 ? Direction::down : Direction::up);
+      if (!ca.method_settings.empty()) {  // the channel's own settings, as the method file gives them
+        ordered_json m;
+        for (const auto& [k, v] : ca.method_settings) m[k] = v;
+        c["channel_settings"] = {{"from", ca.method_table}, {"values", m}};
+      }
       {
         const auto& f = ca.conversion.factor;
         const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });

@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "core/line_source.hpp"
+#include "plate_map_columns.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
 #include "vzero/table.hpp"
@@ -63,7 +64,8 @@ double parse_conc(const std::string& file, const Cell& c, const std::string& col
   if (!v) {
     throw InputError(Where{file, c.line, c.column, c.line_text},
                      fmt::format("expected a number in `{}`, found {}", column, detail::describe_found(c.text)),
-                     {"write the concentration as a plain number with '.' decimals, no unit (units go in the method)"});
+                     {"write the concentration as a plain number with '.' decimals; a unit goes in the column's header, e.g. "
+                      "`substrate (mM)`"});
   }
   if (*v < 0) {
     throw InputError(Where{file, c.line, c.column, c.line_text},
@@ -76,12 +78,13 @@ double parse_conc(const std::string& file, const Cell& c, const std::string& col
 // Builds the map from per-well named values (column name -> cell), in column order.
 class MapBuilder {
  public:
-  MapBuilder(std::string file, std::vector<std::string> columns)
+  MapBuilder(std::string file, std::vector<std::string> columns, int header_line, const MapColumnOptions& options)
       : file_(std::move(file)), columns_(std::move(columns)) {
-    for (const auto& c : columns_) {
-      std::string l = detail::lower(c);
-      if (l != "well" && l != "role") map_.columns.push_back(c);
-    }
+    plan_ = detail::plan_map_columns(file_, header_line, columns_, options);
+    for (std::size_t i = 0; i < columns_.size(); ++i)
+      if (plan_.kind[i] != detail::ColumnKind::well && plan_.kind[i] != detail::ColumnKind::role)
+        map_.columns.push_back(columns_[i]);
+    map_.header_line = header_line;
   }
   void add(WellId w, const std::vector<Cell>& cells, int line, const std::string& line_text, int well_column) {
     if (auto it = map_.wells.find(w); it != map_.wells.end()) {
@@ -95,19 +98,26 @@ class MapBuilder {
     info.column = well_column;
     info.line_text = line_text;
     for (std::size_t i = 0; i < columns_.size(); ++i) {
-      std::string l = detail::lower(columns_[i]);
       const Cell& c = cells[i];
-      if (l == "well") continue;
-      if (l == "role") {
-        info.role = parse_role(file_, c);
-        continue;
+      const int decades = plan_.decades[i];
+      switch (plan_.kind[i]) {
+        case detail::ColumnKind::well:
+          continue;
+        case detail::ColumnKind::role:
+          info.role = parse_role(file_, c);
+          continue;
+        case detail::ColumnKind::substrate:
+          info.substrate = detail::scale_by_decades(parse_conc(file_, c, columns_[i]), decades);
+          break;
+        case detail::ColumnKind::standard_conc:
+          info.standard_conc = detail::scale_by_decades(parse_conc(file_, c, columns_[i]), decades);
+          break;
+        case detail::ColumnKind::match:
+          info.match = std::string(detail::trim(c.text));
+          break;
+        case detail::ColumnKind::other:
+          break;
       }
-      if (l == "substrate")
-        info.substrate = parse_conc(file_, c, columns_[i]);
-      else if (l == "standard_conc")
-        info.standard_conc = parse_conc(file_, c, columns_[i]);
-      else if (l == "match")
-        info.match = std::string(detail::trim(c.text));
       info.values.push_back(std::string(detail::trim(c.text)));
     }
     if (info.role == Role::standard && std::isnan(info.standard_conc)) {
@@ -118,22 +128,43 @@ class MapBuilder {
     map_.wells.emplace(w, std::move(info));
   }
   PlateMap finish(std::string form) && {
+    if (map_.wells.empty())
+      throw InputError(Where{file_, map_.header_line},
+                       "the plate map names its columns but maps no well (no row with a role)",
+                       {"add one line per well (well, role, …), or check that the right file was given with --layout"});
     map_.source = file_;
     map_.form = std::move(form);
+    map_.uses = std::move(plan_.uses);
+    map_.warnings = std::move(plan_.warnings);
     return std::move(map_);
   }
 
  private:
   std::string file_;
   std::vector<std::string> columns_;
+  detail::ColumnPlan plan_;
   PlateMap map_;
 };
 
-PlateMap read_tidy(const std::string& name, std::string_view text) {
+// The line of the first non-blank, non-comment line: the tidy form's header.
+int header_line_of(std::string_view text) {
+  std::size_t at = 0;
+  for (int ln = 1; at <= text.size(); ++ln) {
+    const std::size_t end = text.find('\n', at);
+    const auto l = detail::trim(text.substr(at, end == std::string_view::npos ? std::string_view::npos : end - at));
+    if (!l.empty() && l.front() != '#') return ln;
+    if (end == std::string_view::npos) break;
+    at = end + 1;
+  }
+  return 1;
+}
+
+PlateMap read_tidy(const std::string& name, std::string_view text, const MapColumnOptions& o) {
   Table t = parse_table(name, text);
   int wc = t.require_column("well", "the plate map needs a `well` column (A1, B7, …) and a `role` column");
   t.require_column("role", "add a `role` column: sample, blank, standard or empty");
-  MapBuilder b(name, t.header);
+  const int header_line = header_line_of(text);
+  MapBuilder b(name, t.header, header_line, o);
   for (std::size_t r = 0; r < t.rows.size(); ++r) {
     const auto& row = t.rows[r];
     std::string line_text;
@@ -152,7 +183,7 @@ PlateMap read_tidy(const std::string& name, std::string_view text) {
   return std::move(b).finish("table");
 }
 
-PlateMap read_grid_form(const std::string& name, std::string_view text) {
+PlateMap read_grid_form(const std::string& name, std::string_view text, const MapColumnOptions& o) {
   detail::LineSource src(name, text);
   std::string_view line;
   std::vector<std::string> variables;
@@ -164,6 +195,7 @@ PlateMap read_grid_form(const std::string& name, std::string_view text) {
   char d = 0;
   std::vector<int> cols;
   bool expect_header = false;
+  int first_variable_line = 1;
   while (src.next(line)) {
     int ln = src.line_number();
     auto tl = detail::trim(line);
@@ -220,6 +252,7 @@ PlateMap read_grid_form(const std::string& name, std::string_view text) {
                            {"give each plate-shaped block its own variable name"});
       }
       variables.push_back(current);
+      if (variables.size() == 1) first_variable_line = ln;
       expect_header = true;
       continue;
     }
@@ -235,7 +268,7 @@ PlateMap read_grid_form(const std::string& name, std::string_view text) {
   }
   std::vector<std::string> columns{"well"};
   columns.insert(columns.end(), variables.begin(), variables.end());
-  MapBuilder b(name, columns);
+  MapBuilder b(name, columns, first_variable_line, o);
   for (const auto& [w, per] : values) {
     std::string role_var;
     for (const auto& v : variables)
@@ -254,7 +287,7 @@ PlateMap read_grid_form(const std::string& name, std::string_view text) {
 
 }  // namespace
 
-PlateMap parse_plate_map(const std::string& name, std::string_view text) {
+PlateMap parse_plate_map(const std::string& name, std::string_view text, const MapColumnOptions& o) {
   // The tidy form's first line is a header naming `well`; the grid form's is a variable name.
   detail::LineSource src(name, text);
   std::string_view line;
@@ -264,15 +297,15 @@ PlateMap parse_plate_map(const std::string& name, std::string_view text) {
     char d = detail::guess_delimiter(line);
     auto fields = detail::split_fields(line, d ? d : ',');
     for (const auto& f : fields)
-      if (detail::iequals(detail::trim(f.text), "well")) return read_tidy(name, text);
-    return read_grid_form(name, text);
+      if (detail::iequals(detail::trim(f.text), "well")) return read_tidy(name, text, o);
+    return read_grid_form(name, text, o);
   }
   throw InputError(Where{name}, "the plate map is empty", {"check that the right file was given"});
 }
 
-PlateMap read_plate_map(const std::string& path) {
+PlateMap read_plate_map(const std::string& path, const MapColumnOptions& o) {
   detail::FileBytes f = detail::read_whole_file(path, "check the --layout path");
-  PlateMap map = parse_plate_map(path, f.text);
+  PlateMap map = parse_plate_map(path, f.text, o);
   map.sha256 = std::move(f.sha256);
   return map;
 }

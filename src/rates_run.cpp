@@ -1,5 +1,6 @@
 #include "vzero/rates_run.hpp"
 
+#include <fmt/format.h>
 #include <algorithm>
 #include <cmath>
 #include <exception>
@@ -25,11 +26,59 @@ std::string relative_to(const std::string& p, const fs::path& dir) {
   return ec || r.empty() ? p : r.string();
 }
 
-// The map's substrate is in conc-unit: the schema says so (vzero fit reads it for Km).
-std::vector<FieldSpec> with_substrate_unit(std::vector<FieldSpec> fields, const std::string& conc_unit) {
+// The map's substrate passes through as written: in the unit its header names, else in
+// conc-unit. The schema says which (vzero fit reads it for Km).
+std::vector<FieldSpec> with_substrate_unit(std::vector<FieldSpec> fields, const PlateMap& map) {
   for (FieldSpec& f : fields)
-    if (detail::iequals(f.name, "substrate") && f.unit.empty()) f.unit = conc_unit;
+    for (const ColumnUse& u : map.uses)
+      if (u.use == "substrate" && f.name == u.column && f.unit.empty()) f.unit = u.unit;
   return fields;
+}
+
+// Before any export is read: --blank matched needs match values on blanks and samples.
+void check_matched_blanks(const PlateMap& map, const RunSettings& s) {
+  if (s.analysis.blank.strategy != BlankStrategy::matched) return;
+  std::string column;
+  for (const ColumnUse& u : map.uses)
+    if (u.use == "match") column = u.column;
+  const std::vector<std::string> fixes{
+      "add a `match` column (the same word on a blank and the samples it belongs to), or name the map's column "
+      "with --match-column (method key match-column)",
+      "or subtract every blank well with --blank plate"};
+  if (column.empty())
+    throw InputError(Where{map.source, map.header_line},
+                     "--blank matched pairs blanks with samples by a match column, but the plate map has none", fixes);
+  bool blank = false, sample = false;
+  for (const auto& [w, info] : map.wells) {
+    blank |= info.role == Role::blank && !info.match.empty();
+    sample |= info.role == Role::sample && !info.match.empty();
+  }
+  if (!blank || !sample)
+    throw InputError(Where{map.source, map.header_line},
+                     fmt::format("--blank matched needs match values, but no {} well has one in `{}`",
+                                 blank ? "sample" : "blank", column),
+                     fixes);
+}
+
+// Sample wells converted to concentration whose substrate is unknown: the conversion limit
+// (max-conversion) cannot be applied to them. "" when there are none.
+std::string missing_substrate_warning(const std::vector<RunAnalysis>& analyses, const std::string& map_source) {
+  std::set<std::string> wells;
+  std::string first;
+  for (const auto& ra : analyses)
+    for (const auto& ca : ra.channels) {
+      if (ca.conversion.mode == ConvertMode::signal_only) continue;
+      for (const auto& row : ca.rows)
+        if (row.role == Role::sample && row.info && std::isnan(row.info->substrate))
+          if (wells.insert(well_name(row.well)).second && first.empty()) first = well_name(row.well);
+    }
+  if (wells.empty()) return {};
+  return fmt::format(
+      "{} sample well{} (first {}) ha{} no substrate concentration in {}: the max-conversion limit is off for "
+      "them and a window running into substrate depletion gives a rate that is too low (rates.csv notes: "
+      "no-limit); give each sample's substrate in a `substrate` column (unit in the header, e.g. `substrate (mM)`) "
+      "or name the column with --substrate-column",
+      wells.size(), wells.size() == 1 ? "" : "s", first, wells.size() == 1 ? "s" : "ve", map_source);
 }
 
 // Before anything is read: no output may replace an input or another output, and every
@@ -50,6 +99,40 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   detail::check_outputs(inputs, outputs);
 }
 
+// The plate map read with the run's column options, checked for the blank strategy, and the
+// provenance that does not depend on the exports.
+void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
+  const RunSettings& s = resolved.settings;
+  MapColumnOptions map_options = s.map_columns;
+  map_options.conc_unit = s.analysis.convert.conc_unit;
+  out.map = read_plate_map(s.layout, map_options);
+  check_matched_blanks(out.map, s);
+  out.warnings = out.map.warnings;
+  Provenance& prov = out.provenance;
+  prov.tool_version = VZERO_VERSION;
+  prov.options = resolved.recorded;
+  prov.map_columns = out.map.columns;
+  prov.map_uses = out.map.uses;
+  prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", ""});
+  if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", ""});
+}
+
+// After the analyses: channels left unconverted when method tables convert others, and
+// samples without a substrate where a conversion limit was due.
+void add_run_notes(const RunSettings& s, bool unconverted, RatesOutputs& out) {
+  if (unconverted && !s.analysis.channel_settings.empty()) {
+    std::set<std::string> left;
+    for (const auto& ra : out.analyses)
+      for (const auto& ca : ra.channels)
+        if (ca.conversion.mode == ConvertMode::signal_only) left.insert(ca.channel->name);
+    for (const auto& name : left)
+      out.notes.push_back("no conversion given for channel " + name + " (no epsilon in its [channel." + name +
+                          "] table or for the run); its rates stay in signal units per minute");
+  }
+  if (std::string w = missing_substrate_warning(out.analyses, s.layout); !w.empty()) out.warnings.push_back(w);
+  out.provenance.warnings = out.warnings;
+}
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
@@ -60,18 +143,14 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   const fs::path dir = fs::path(s.output).parent_path();
   check_output_paths(s, (dir / "datapackage.json").string());
   RatesOutputs out;
-  if (s.analysis.convert.mode == ConvertMode::signal_only &&
-      std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end())
+  const bool unconverted = s.analysis.convert.mode == ConvertMode::signal_only &&
+                           std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end();
+  if (unconverted && s.analysis.channel_settings.empty())
     out.notes.push_back(
         "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
         "rates stay in signal units per minute");
-  out.map = read_plate_map(s.layout);
+  read_map(resolved, out);
   Provenance& prov = out.provenance;
-  prov.tool_version = VZERO_VERSION;
-  prov.options = resolved.recorded;
-  prov.map_columns = out.map.columns;
-  prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", ""});
-  if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", ""});
 
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
@@ -118,15 +197,15 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
     out.analyses.push_back(std::move(f.analysis));
   }
 
-  const std::string& unit = s.analysis.convert.conc_unit;
+  add_run_notes(s, unconverted, out);
   std::vector<PackagedTable> tables;
   tables.push_back({"rates", relative_to(s.output, dir),
-                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), unit)});
+                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), out.map)});
   if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
   out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
   if (!s.summary.empty()) {
     out.summary_csv = summary_csv(out.summary);
-    tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), unit)});
+    tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);

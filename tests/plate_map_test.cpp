@@ -58,7 +58,8 @@ TEST_CASE("plate map errors") {
       message_of("well,role,substrate\nA1,sample,lots\n") ==
       "map.csv:2:11: expected a number in `substrate`, found \"lots\"\n"
       "  line 2: A1,sample,lots\n"
-      "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
+      "  possible fix: write the concentration as a plain number with '.' decimals; a unit goes in the column's "
+        "header, e.g. `substrate (mM)`");
   CHECK(message_of("well,role\nX99,sample\n") ==
         "map.csv:2:1: expected a well name (A1 … AF48), found \"X99\"\n"
         "  line 2: X99,sample\n"
@@ -129,5 +130,6 @@ TEST_CASE("a sample at substrate 0 is read: the no-substrate control of a kineti
       "map.csv:2:11: expected a number in `substrate`, found \"1e400\", which is too large for a double (the largest "
       "is 1.7976931348623157e308)\n"
       "  line 2: A1,sample,1e400\n"
-      "  possible fix: write the concentration as a plain number with '.' decimals, no unit (units go in the method)");
+      "  possible fix: write the concentration as a plain number with '.' decimals; a unit goes in the column's "
+        "header, e.g. `substrate (mM)`");
 }

@@ -116,7 +116,7 @@ TEST_CASE("bad values and combinations name the option, and the method file's li
         "m.toml:3:1: method key `path-cm` is \"-0.5\"; expected a number above 0\n"
         "  possible fix: correct the value in the method file, or remove the key to use the default");
   CHECK(message_of({{"conc-unit", "mol/L", "m.toml", 4, 1}}) ==
-        "m.toml:4:1: method key `conc-unit` is \"mol/L\"; use M, mM, uM, µM or nM\n"
+        "m.toml:4:1: method key `conc-unit` is \"mol/L\"; use M, mM, uM, µM, μM or nM\n"
         "  possible fix: correct the value in the method file, or remove the key to use the default");
   // A combination that cannot be: at the method file's line when a part of it is there.
   CHECK(message_of({{"signal-only", "true", "m.toml", 1, 1}, {"epsilon", "6220", "m.toml", 2, 1}}) ==

@@ -11,6 +11,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "vzero/blank.hpp"
@@ -26,6 +27,19 @@ enum class Direction { up, down };  // product formation (signal rises) or consu
 template <>
 std::span<const EnumName<Direction>> enum_names<Direction>();  // up, down
 
+// The settings of one channel from a method file's [channel.NAME] table: the run's with the
+// table's keys applied (src/settings/settings.cpp makes them).
+struct ChannelSettings {
+  std::string channel;
+  ConvertOptions convert;
+  Direction direction = Direction::up;
+  double signal_ceiling = NAN;
+  double absorbance_limit = 2;
+  std::vector<std::pair<std::string, std::string>> given;  // the table's keys and values as written
+  std::string file;                                        // the method file and the table's first key
+  int line = 0, column = 0;
+};
+
 struct AnalysisOptions {
   BlankOptions blank;
   ConvertOptions convert;
@@ -38,7 +52,11 @@ struct AnalysisOptions {
   // absorbance of each well in these two channels (empty = no correction).
   std::string inner_filter_ex, inner_filter_em;
   int threads = 0;  // 0 = all cores
+  std::vector<ChannelSettings> channel_settings;  // per-channel overrides; a named channel must be in every run
 };
+
+// `options` with the [channel.NAME] settings of channel `name` applied (unchanged when none).
+AnalysisOptions options_for_channel(const AnalysisOptions& options, const std::string& name);
 
 struct RateRow {
   WellId well;
@@ -66,6 +84,9 @@ struct ChannelAnalysis {
   std::string slope_unit;       // e.g. "AU/min"
   double direction_sign = 1.0;  // −1 when the reaction makes the signal fall
   std::vector<RateRow> rows;    // one per channel column (plate index order)
+  // The channel's [channel.NAME] method table: its keys as written ("" / empty when none).
+  std::vector<std::pair<std::string, std::string>> method_settings;
+  std::string method_table;  // "FILE:LINE"
 };
 
 struct RunAnalysis {

@@ -30,6 +30,8 @@ struct Provenance {
   std::vector<std::pair<std::string, std::string>> options;   // every option with its value, in order
   std::vector<std::pair<std::string, std::string>> detected;  // settings vzero chose itself (profiles, …)
   std::vector<std::string> map_columns;  // the plate map's columns passed through to the tables, in order
+  std::vector<ColumnUse> map_uses;       // which of them vzero read as substrate, standard_conc, match
+  std::vector<std::string> warnings;     // what the run warned of (also on the console)
 };
 
 // with_activity adds activity_U and activity_nkat; with_specific adds specific_activity_U_per_mg.

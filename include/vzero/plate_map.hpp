@@ -14,11 +14,20 @@
 //   A,10,20,10
 // Empty grid cells leave the variable empty; a well whose role is empty is not in the map.
 // Wells absent from the map are `empty` and still reported.
+//
+// Column names: `substrate` and `standard_conc` may carry their unit in the header —
+// `substrate (mM)`, `substrate_uM`, `substrate [µM]`, `(nM)`, `(M)`; µ (U+00B5) and μ
+// (U+03BC) are read as u — and are converted to the run's concentration unit. Other names
+// for the substrate or match column are given with MapColumnOptions (--substrate-column,
+// --match-column). Which column was taken for what is in PlateMap::uses; a column that looks
+// like a concentration while no substrate column was found is a warning naming the option.
 #pragma once
 
 #include <map>
 #include <optional>
 #include <string>
+#include <string_view>
+#include <utility>
 #include <vector>
 
 #include "vzero/run.hpp"
@@ -40,12 +49,37 @@ struct WellInfo {
   std::string line_text;
 };
 
+// Which columns hold the substrate and the match values, and the unit concentrations are
+// read into.
+struct MapColumnOptions {
+  std::string substrate_column;  // "" = the column named `substrate` (with or without a unit)
+  std::string match_column;      // "" = the column named `match`
+  std::string conc_unit = "uM";  // substrate and standard_conc are converted into it
+};
+
+// A map column vzero reads, not only passes through.
+struct ColumnUse {
+  std::string column;  // the header as written
+  std::string use;     // "substrate", "standard_conc" or "match"
+  std::string unit;    // the values' unit: named by the header, else the run's ("" for match)
+  bool unit_in_header = false;
+  double factor = 1;   // value as written × factor = value in the run's unit
+};
+
+// A concentration unit at the end of a header: `name (mM)`, `name [µM]`, `name_uM`,
+// `name uM`. Returns the name without it and the unit spelled M, mM, uM or nM; the unit is
+// "" when there is none.
+std::pair<std::string, std::string> split_header_unit(std::string_view header);
+
 struct PlateMap {
   std::string source;
   std::string sha256;                // of the file's bytes ("" when parsed from memory)
   std::string form;                  // "table" or "grid"
   std::vector<std::string> columns;  // every column but `well` and `role`, in file order (passed through to outputs)
   std::map<WellId, WellInfo> wells;
+  std::vector<ColumnUse> uses;        // columns read as substrate, standard_conc, match
+  std::vector<std::string> warnings;  // e.g. a concentration column not read as the substrate
+  int header_line = 1;                // the tidy header's line (grid: the first variable's)
 
   // The well's entry, or nullptr for wells absent from the map (role empty).
   const WellInfo* find(WellId w) const;
@@ -57,8 +91,10 @@ struct PlateMap {
 // no-substrate control of a kinetics series, analysed like any sample (its rate is the
 // reaction without substrate); `vzero fit` keeps it as the point v(0) = 0 of every model (see
 // fit.hpp).
-PlateMap read_plate_map(const std::string& path);
-PlateMap parse_plate_map(const std::string& name, std::string_view text);
+// A map with no well (a header and no rows) is an error, as is a substrate or match column
+// named in `options` that the map lacks.
+PlateMap read_plate_map(const std::string& path, const MapColumnOptions& options = {});
+PlateMap parse_plate_map(const std::string& name, std::string_view text, const MapColumnOptions& options = {});
 
 // Checks the map against what a run read: every mapped well must exist in the run's plate
 // format and have been read in at least one channel. Throws InputError naming the well and

@@ -54,7 +54,8 @@ struct RatesOutputs {
   std::string datapackage_path;  // where it belongs: beside settings.output
   std::string report_html;       // "" unless settings.report names a file
   Provenance provenance;
-  std::vector<std::string> notes;  // for the console: what was assumed (no conversion given, …)
+  std::vector<std::string> notes;     // for the console: what was assumed (no conversion given, …)
+  std::vector<std::string> warnings;  // for the console and datapackage.json: what may make rates wrong
 };
 
 // Runs the whole job. Input problems throw InputError (file:line:column), option problems

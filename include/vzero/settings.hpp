@@ -26,6 +26,7 @@ namespace vzero {
 struct RunSettings {
   std::vector<std::string> files;                   // the raw exports
   std::string layout;                               // plate map
+  MapColumnOptions map_columns;                     // its substrate and match columns (conc_unit set by the run)
   std::string method;                               // assay method file ("" = none)
   std::string profile;                              // instrument profile for every file ("" = detect per file)
   std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
@@ -95,7 +96,11 @@ struct GivenOption {
   std::string text;  // "true"/"false" for flags from a method file
   std::string file;  // method file, or "" for the command line
   int line = 0, column = 0;
+  std::string channel;  // NAME of the method file's [channel.NAME] table holding it, "" = the whole run
 };
+
+// The options a method file's [channel.NAME] table may set: ε, path, direction, detector limit.
+const std::vector<std::string>& per_channel_options();
 
 struct ResolvedSettings {
   RunSettings settings;

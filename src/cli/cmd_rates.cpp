@@ -133,8 +133,10 @@ int cmd_rates(const Args& args) {
   ProgressLine meter(!s.quiet && s.files.size() > 1 && isatty(STDERR_FILENO));
   RatesOutputs out = run_rates(resolved, sink, meter.callback());
   meter.finish();
-  if (!s.quiet)
+  if (!s.quiet) {
     for (const auto& n : out.notes) print_err("note: " + n);
+    for (const auto& w : out.warnings) print_err("warning: " + w);
+  }
   // Every output is written in full to its temporary file first; then all are put in place.
   if (!s.summary.empty()) sink.write(s.summary, out.summary_csv);
   sink.write(out.datapackage_path, out.datapackage_json);

@@ -109,7 +109,14 @@ std::vector<OptionSpec> make_table() {
   // Inputs and outputs.
   t.push_back(text(
       "layout", 'l', k_io, OptionRole::io, "", [](S& s) { return &s.layout; },
-      "plate map CSV (tidy table or plate-grid form); required"));
+      "plate map CSV (tidy table or plate-grid form): well, role, and substrate, standard_conc, match "
+      "(a unit in a concentration header, e.g. `substrate (mM)`, is converted to conc-unit); required"));
+  t.push_back(text(
+      "substrate-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.substrate_column; },
+      "plate-map column with the substrate concentration (default: `substrate`, unit in the header or conc-unit)"));
+  t.push_back(text(
+      "match-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.match_column; },
+      "plate-map column pairing blanks with samples for --blank matched (default: `match`)"));
   t.push_back(text(
       "method", 'm', k_io, OptionRole::io, "", [](S& s) { return &s.method; },
       "assay method TOML file holding any of these options"));
@@ -239,13 +246,14 @@ std::vector<OptionSpec> make_table() {
       "no conversion: rates in signal units per minute"));
   {
     OptionSpec o = choice(
-        "conc-unit", k_conv, "uM", {"M", "mM", "uM", "µM", "nM"},
+        "conc-unit", k_conv, "uM", {"M", "mM", "uM", "µM", "μM", "nM"},
         [](S& s, const V& v) {
-          s.analysis.convert.conc_unit = v.text == "µM" ? "uM" : v.text;  // one spelling in the outputs
+          // One spelling in the outputs: µ (U+00B5) and μ (U+03BC) are u.
+          s.analysis.convert.conc_unit = v.text == "µM" || v.text == "μM" ? "uM" : v.text;
           return std::string();
         },
         [](const S& s) { return s.analysis.convert.conc_unit; },
-        "concentration unit of v0 and of the map's substrate: M, mM, uM (or µM), nM");
+        "concentration unit of v0 and of the map's substrate: M, mM, uM (or µM, μM), nM");
     t.push_back(o);
   }
   t.push_back(number(

@@ -96,7 +96,10 @@ std::string store(const OptionSpec& o, const std::string& text, bool from_method
   throw UsageError(why);
 }
 
-void check_conversion_choice(const std::map<std::string, const GivenOption*>& given, RunSettings& s) {
+// `channel_epsilon`: a method file's [channel.NAME] table gives an ε, which a path given for
+// the whole run serves.
+void check_conversion_choice(const std::map<std::string, const GivenOption*>& given, RunSettings& s,
+                             bool channel_epsilon) {
   auto has = [&](const char* n) {
     auto it = given.find(n);
     return it != given.end() && it->second->text != "false";
@@ -108,7 +111,8 @@ void check_conversion_choice(const std::map<std::string, const GivenOption*>& gi
   if (has("epsilon") && has("epsilon-preset"))
     refuse_combination(given, {"epsilon", "epsilon-preset"}, "give --epsilon or --epsilon-preset, not both");
   if (beer) s.analysis.convert.mode = ConvertMode::beer_lambert;
-  if ((has("path-cm") || has("volume-ul") || has("well-diameter-mm") || has("water-peak")) && !beer)
+  if ((has("path-cm") || has("volume-ul") || has("well-diameter-mm") || has("water-peak")) && !beer &&
+      !channel_epsilon)
     refuse_combination(given, {"path-cm", "volume-ul", "well-diameter-mm", "water-peak"},
                        "a path length (--path-cm, --volume-ul, --well-diameter-mm, --water-peak) needs --epsilon or "
                        "--epsilon-preset");
@@ -149,7 +153,7 @@ std::vector<GivenOption> with_method_file(std::vector<GivenOption> given, std::s
   std::vector<std::string> known;
   for (const OptionSpec& o : option_table())
     if (o.name != "method") known.emplace_back(o.name);
-  MethodFile file = read_method(path, known);
+  MethodFile file = read_method(path, known, per_channel_options());
   sha256 = file.sha256;
   for (const auto& e : file.entries) {
     const OptionSpec* o = find_option(e.key);
@@ -159,16 +163,77 @@ std::vector<GivenOption> with_method_file(std::vector<GivenOption> given, std::s
     if (o->kind != OptionKind::flag && e.type == "boolean")
       throw InputError(Where{path, e.line, e.column},
                        fmt::format("method key `{}` takes a value, not true/false", e.key), {"see vzero rates --help"});
-    given.push_back({e.key, e.value, path, e.line, e.column});
+    given.push_back({e.key, e.value, path, e.line, e.column, e.channel});
   }
   return given;
 }
 
 }  // namespace
 
+namespace {
+
+// One [channel.NAME] table: the run's settings with its keys applied, checked.
+ChannelSettings channel_settings(const std::vector<const GivenOption*>& keys, const RunSettings& run) {
+  RunSettings s = run;
+  const GivenOption& first = *keys.front();
+  ChannelSettings cs;
+  cs.channel = first.channel;
+  cs.file = first.file;
+  cs.line = first.line;
+  cs.column = first.column;
+  std::map<std::string, const GivenOption*> by_name;
+  for (const GivenOption* g : keys) {
+    if (std::string why = store(*find_option(g->name), g->text, true, s); !why.empty()) refuse(*g, why);
+    cs.given.emplace_back(g->name, g->text);
+    by_name.emplace(g->name, g);
+  }
+  ConvertOptions& c = s.analysis.convert;
+  const auto at = [&](const char* n) { return by_name.count(n) ? by_name.at(n) : nullptr; };
+  if (at("epsilon") && at("epsilon-preset"))
+    refuse(*at("epsilon-preset"), fmt::format("[channel.{}] also gives epsilon; give one of them", cs.channel));
+  if (at("epsilon") || at("epsilon-preset")) c.mode = ConvertMode::beer_lambert;
+  if (at("path-cm")) {  // the table's path replaces the run's way to the path length
+    c.volume_ul = c.well_diameter_mm = NAN;
+    c.water_peak = false;
+    if (c.mode != ConvertMode::beer_lambert)
+      refuse(*at("path-cm"), fmt::format("a path length needs an ε: give epsilon in [channel.{}] or for the run",
+                                         cs.channel));
+  }
+  if (std::string why = check_combinations(s.analysis); !why.empty())
+    throw InputError(Where{first.file, first.line, first.column}, fmt::format("[channel.{}]: {}", cs.channel, why),
+                     {"complete the channel's table (epsilon with path-cm), or give the missing option for the run"});
+  cs.convert = c;
+  cs.direction = s.analysis.direction;
+  cs.signal_ceiling = s.analysis.rates.signal_ceiling;
+  cs.absorbance_limit = s.analysis.rates.absorbance_limit;
+  return cs;
+}
+
+void resolve_channel_settings(const std::vector<GivenOption>& given, RunSettings& s) {
+  std::vector<std::string> order;
+  std::map<std::string, std::vector<const GivenOption*>> by_channel;
+  for (const auto& g : given) {
+    if (g.channel.empty()) continue;
+    if (!by_channel.count(g.channel)) order.push_back(g.channel);
+    by_channel[g.channel].push_back(&g);
+  }
+  for (const auto& name : order) s.analysis.channel_settings.push_back(channel_settings(by_channel[name], s));
+}
+
+}  // namespace
+
+const std::vector<std::string>& per_channel_options() {
+  static const std::vector<std::string> k_keys{"epsilon",        "epsilon-preset",  "path-cm",
+                                               "direction",      "signal-ceiling", "absorbance-limit"};
+  return k_keys;
+}
+
 ResolvedSettings resolve_settings(const std::vector<GivenOption>& caller_given) {
   ResolvedSettings r;
-  const std::vector<GivenOption> given = with_method_file(caller_given, r.method_sha256);
+  const std::vector<GivenOption> all_given = with_method_file(caller_given, r.method_sha256);
+  std::vector<GivenOption> given;
+  for (const auto& g : all_given)
+    if (g.channel.empty()) given.push_back(g);
   std::map<std::string, const GivenOption*> by_name;
   for (const auto& g : given) {
     if (!find_option(g.name)) {
@@ -196,12 +261,16 @@ ResolvedSettings resolve_settings(const std::vector<GivenOption>& caller_given) 
     else if (!o.default_text.empty())
       r.recorded.emplace_back(o.name, o.default_text);
   }
-  check_conversion_choice(by_name, r.settings);
+  bool channel_epsilon = false;
+  for (const auto& g : all_given)
+    channel_epsilon |= !g.channel.empty() && (g.name == "epsilon" || g.name == "epsilon-preset");
+  check_conversion_choice(by_name, r.settings, channel_epsilon);
   if (std::string why = check_combinations(r.settings.analysis); !why.empty())
     refuse_combination(
         by_name,
         {"epsilon", "path-cm", "volume-ul", "well-diameter-mm", "water-peak", "enzyme-mg-column", "well-volume-ul"},
         why);
+  resolve_channel_settings(all_given, r.settings);
   return r;
 }
 
@@ -226,6 +295,12 @@ std::string check_analysis_options(const AnalysisOptions& a) {
       for (auto c : o.choices) known = known || c == v;
       if (!known) return fmt::format("{} is \"{}\"; use {}", o.name, v, choice_list(o));
     }
+  }
+  for (const ChannelSettings& cs : a.channel_settings) {
+    AnalysisOptions one = options_for_channel(a, cs.channel);
+    one.channel_settings.clear();
+    if (std::string why = check_analysis_options(one); !why.empty())
+      return fmt::format("[channel.{}]: {}", cs.channel, why);
   }
   return check_combinations(a);
 }
