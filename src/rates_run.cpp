@@ -77,6 +77,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
   BatchOptions batch;
   batch.profile = s.profile;
+  batch.sheet = s.sheet;
   batch.analysis = s.analysis;
   batch.map_columns = out.map.columns;
   batch.with_activity = with_activity;

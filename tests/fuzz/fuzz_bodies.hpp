@@ -19,6 +19,7 @@
 #include <string_view>
 #include <vector>
 
+#include "ingest/xlsx.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 #include "vzero/method.hpp"
@@ -241,6 +242,35 @@ inline std::string fuzz_detect(std::string_view text) {
   } catch (const InputError&) {
     return {};
   }
+}
+
+// Workbook bytes (.xlsx): the first sheet rendered as text (render_workbook), then every
+// built-in profile on that text. Errors must name the workbook; a reader's error must be
+// moved into the sheet (`fuzz.xlsx[Sheet]...`), never left at a line of the rendered text.
+inline std::string fuzz_xlsx(std::string_view bytes) {
+  static const std::vector<Profile> profiles = [] {
+    std::vector<Profile> v;
+    for (const auto& name : builtin_profile_names()) v.push_back(load_profile(name));
+    return v;
+  }();
+  detail::SheetText book;
+  try {
+    book = detail::render_workbook("fuzz.xlsx", bytes, "", {});
+  } catch (const InputError& e) {
+    return e.where().file.rfind("fuzz.xlsx", 0) == 0 ? "" : "workbook error names another file: " + e.formatted();
+  }
+  if (!book.text.empty() && book.text.back() != '\n') return "rendered sheet does not end in a newline";
+  for (const Profile& p : profiles) {
+    try {
+      const Run run = detail::in_sheet(book, [&] { return read_run_text(book.file, book.text, p); });
+      std::string why = check_run(run);
+      if (!why.empty()) return p.name + ": " + why;
+    } catch (const InputError& e) {
+      if (e.where().file.rfind("fuzz.xlsx[", 0) != 0 || e.where().line != 0)
+        return p.name + ": error not placed in the sheet: " + e.formatted();
+    }
+  }
+  return {};
 }
 
 // Assay method TOML (parse_method) with the long option names of `vzero rates` as keys.
