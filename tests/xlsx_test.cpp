@@ -53,8 +53,10 @@ std::size_t lines(const std::string& s) { return static_cast<std::size_t>(std::c
 
 TEST_CASE("a workbook and its CSV twin give byte-identical rates.csv: wide, grid and long shapes") {
   // The twin is the demo export the workbook was written from (make_workbooks.py).
-  for (const auto& [xlsx, twin] : {std::pair{"wide.xlsx", "hydrolase_wide.csv"}, std::pair{"grid.xlsx", "hydrolase_grid.txt"},
-                                   std::pair{"long.xlsx", "hydrolase_long.csv"}}) {
+  // wide_stored.xlsx holds the same parts uncompressed (zip method 0).
+  for (const auto& [xlsx, twin] :
+       {std::pair{"wide.xlsx", "hydrolase_wide.csv"}, std::pair{"grid.xlsx", "hydrolase_grid.txt"},
+        std::pair{"long.xlsx", "hydrolase_long.csv"}, std::pair{"wide_stored.xlsx", "hydrolase_wide.csv"}}) {
     CAPTURE(xlsx);
     const std::string from_book = rates_of(book(xlsx), "EXPORT");
     const std::string from_text = rates_of(demo(twin), "EXPORT");
@@ -75,7 +77,7 @@ TEST_CASE("times formatted h:mm:ss are day fractions read back as whole seconds"
   REQUIRE(r.status == 0);
   // The demo reads every 10 s for 10 min (demo-data/README.md).
   CHECK(r.out.find("  reads   61, from 0 s to 600 s (median step 10 s)\n") != std::string::npos);
-  CHECK(r.out.find("  sheet: Sheet\n") != std::string::npos);  // openpyxl's name for a new sheet
+  CHECK(r.out.find("\nsheet     Sheet\n") != std::string::npos);  // openpyxl's name for a new sheet
 }
 
 TEST_CASE("cell errors (#N/A, #DIV/0!) are missing values") {
@@ -95,6 +97,16 @@ TEST_CASE("rich text runs are joined and a phonetic guide left out") {
 TEST_CASE("--sheet chooses the sheet; a name not in the workbook lists the sheets") {
   CHECK(rates_of(book("two_sheets.xlsx"), "EXPORT", "--sheet Plate") ==
         rates_of(demo("hydrolase_wide.csv"), "EXPORT"));
+  {
+    // datapackage.json records the sheet read with the workbook's path and sha256.
+    TempDir dir;
+    const auto r = run_vzero("rates '" + book("two_sheets.xlsx") + "' --sheet Plate --layout '" +
+                                 demo("hydrolase_map.csv") + "' -q -o rates.csv",
+                             dir.path.string());
+    REQUIRE(r.status == 0);
+    CHECK(slurp(dir / "datapackage.json").find("\"shape\": \"wide\",\n        \"sheet\": \"Plate\"\n") !=
+          std::string::npos);
+  }
   const auto wrong = run_vzero("inspect '" + book("two_sheets.xlsx") + "' --sheet plate");
   CHECK(wrong.status == 1);
   CHECK(wrong.err == book("two_sheets.xlsx") +

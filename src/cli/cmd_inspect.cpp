@@ -70,6 +70,7 @@ int cmd_inspect(const Args& args) {
   std::string out;
   out += fmt::format("file      {}\n", run.source);
   out += fmt::format("sha256    {}\n", run.sha256);
+  if (!run.sheet.empty()) out += fmt::format("sheet     {}\n", run.sheet);
   out += fmt::format("shape     {}\n", run.shape);
   out += fmt::format("profile   {} ({}; {})\n", run.profile, choice.profile.source, choice.reason);
   out +=

@@ -126,7 +126,7 @@ Run read_run(const std::string& path, const Profile& profile, const std::string&
       Run run = dispatch(src, profile, false);
       run.source = path;
       run.sha256 = book.sha256;
-      run.metadata.insert(run.metadata.begin(), {"sheet", book.sheet});
+      run.sheet = book.sheet;
       return run;
     });
   }

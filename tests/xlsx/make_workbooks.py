@@ -119,6 +119,16 @@ def rich_text(src, out):
             zout.writestr(item, data)
 
 
+def stored(src, out):
+    """The same workbook with its parts stored uncompressed (zip method 0), as some writers do;
+    also a fuzzing seed whose XML a mutation reaches directly."""
+    with zipfile.ZipFile(src) as zin, zipfile.ZipFile(out, "w", zipfile.ZIP_STORED) as zout:
+        for item in zin.infolist():
+            data = zin.read(item.filename)
+            item.compress_type = zipfile.ZIP_STORED
+            zout.writestr(item, data)
+
+
 def main():
     source, out = sys.argv[1], sys.argv[2]
     os.makedirs(out, exist_ok=True)
@@ -132,6 +142,8 @@ def main():
     two_sheets(wide, out)
     bad_value(wide, out)
     kinds(out)
+    stored(os.path.join(out, "wide.xlsx"), os.path.join(out, "wide_stored.xlsx"))
+    stored(os.path.join(out, "kinds.xlsx"), os.path.join(out, "kinds_stored.xlsx"))
     rich_text(os.path.join(out, "wide.xlsx"), os.path.join(out, "wide_rich.xlsx"))
 
 
