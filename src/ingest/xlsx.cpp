@@ -224,11 +224,19 @@ SheetText render_workbook(const std::string& file, std::string_view bytes, const
                        {"pass one of these names with --sheet (names are case-sensitive)"});
   }
   SheetText out{file, book.sheet_names[k], {}, {}, style};
-  const Context cx{book, out};
   if (book.sheet_parts[k].empty() || !zip.has(book.sheet_parts[k]))
     xlsx::bad_workbook(file, fmt::format("no part for the sheet \"{}\"", out.sheet));
+  render_sheet(book, zip.read(book.sheet_parts[k]), out);
+  return out;
+}
+
+void render_sheet(const xlsx::Book& book, std::string_view sheet_xml, SheetText& out) {
+  const Context cx{book, out};
   pugi::xml_document doc;
-  xlsx::parse_part(zip, file, book.sheet_parts[k], doc);
+  const auto parsed = doc.load_buffer(sheet_xml.data(), sheet_xml.size(), pugi::parse_default | pugi::parse_ws_pcdata);
+  if (!parsed)
+    xlsx::bad_workbook(out.file, fmt::format("a sheet \"{}\" that is not XML ({} at byte {})", out.sheet,
+                                             parsed.description(), parsed.offset));
   const pugi::xml_node data = xlsx::child(xlsx::child(doc, "worksheet"), "sheetData");
   if (!data)
     throw InputError(Where{out.label()}, "expected a worksheet with cells, found a sheet without cell data (a chart?)",
@@ -245,7 +253,6 @@ SheetText render_workbook(const std::string& file, std::string_view bytes, const
     out.text += row_line(cx, r, row);
     out.text += '\n';
   }
-  return out;
 }
 
 SheetText read_workbook(const std::string& path, const std::string& sheet, SheetStyle style) {

@@ -119,4 +119,9 @@ NumberKind kind_of_format(int id, std::string_view code);
 
 }  // namespace xlsx
 
+// Renders the cells of one worksheet part (its XML) into out.text with the book's shared
+// strings and styles (render_workbook's last step; also for fuzzers). `out` names the file
+// and sheet and gives the style.
+void render_sheet(const xlsx::Book& book, std::string_view sheet_xml, SheetText& out);
+
 }  // namespace vzero::detail

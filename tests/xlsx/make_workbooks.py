@@ -3,7 +3,8 @@
 general-purpose spreadsheet library, from the invented demo exports: each workbook holds the
 cells of a text export (numbers as numbers, text as text), so the text export is its twin.
 
-usage: make_workbooks.py SOURCE_DIR OUT_DIR
+usage: make_workbooks.py SOURCE_DIR OUT_DIR [SHEET_SEED_DIR]
+(with SHEET_SEED_DIR, also the first sheet of each as XML with inline strings: fuzzing seeds)
 """
 import csv
 import datetime
@@ -129,6 +130,25 @@ def stored(src, out):
             zout.writestr(item, data)
 
 
+def sheet_seeds(out, seeds):
+    """Each workbook's first sheet as XML with its shared strings written inline (t="inlineStr"),
+    for the fuzzer's sheet mode, which has no shared strings of the workbook."""
+    os.makedirs(seeds, exist_ok=True)
+    for name in sorted(os.listdir(out)):
+        if not name.endswith(".xlsx"):
+            continue
+        with zipfile.ZipFile(os.path.join(out, name)) as z:
+            shared = z.read("xl/sharedStrings.xml") if "xl/sharedStrings.xml" in z.namelist() else b""
+            strings = [b"".join(re.findall(rb"<t[^>]*>(.*?)</t>", si, re.S))
+                       for si in re.findall(rb"<si>(.*?)</si>", shared, re.S)]
+            sheet = z.read("xl/worksheets/sheet1.xml")
+        inline = re.sub(rb'<c r="([A-Z]+[0-9]+)"([^>]*) t="s"><v>([0-9]+)</v></c>',
+                        lambda m: b'<c r="' + m.group(1) + m.group(2) + b'" t="inlineStr"><is><t>' +
+                        strings[int(m.group(3))] + b"</t></is></c>", sheet)
+        with open(os.path.join(seeds, name[:-5] + ".sheet.xml"), "wb") as f:
+            f.write(inline)
+
+
 def main():
     source, out = sys.argv[1], sys.argv[2]
     os.makedirs(out, exist_ok=True)
@@ -145,6 +165,8 @@ def main():
     stored(os.path.join(out, "wide.xlsx"), os.path.join(out, "wide_stored.xlsx"))
     stored(os.path.join(out, "kinds.xlsx"), os.path.join(out, "kinds_stored.xlsx"))
     rich_text(os.path.join(out, "wide.xlsx"), os.path.join(out, "wide_rich.xlsx"))
+    if len(sys.argv) > 3:
+        sheet_seeds(out, sys.argv[3])
 
 
 if __name__ == "__main__":
