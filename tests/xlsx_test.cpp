@@ -38,7 +38,7 @@ std::string demo(const std::string& name) { return source("demo-data/" + name); 
 std::string rates_of(const std::string& file, const std::string& shown, const std::string& more = "") {
   TempDir dir;
   const auto r = run_vzero("rates '" + file + "' --layout '" + demo("hydrolase_map.csv") + "' --method '" +
-                           demo("esterase_method.toml") + "' -q -o rates.csv " + more,
+                               demo("esterase_method.toml") + "' -q -o rates.csv " + more,
                            dir.path.string());
   INFO(r.describe());
   REQUIRE(r.status == 0);
@@ -95,8 +95,7 @@ TEST_CASE("rich text runs are joined and a phonetic guide left out") {
 }
 
 TEST_CASE("--sheet chooses the sheet; a name not in the workbook lists the sheets") {
-  CHECK(rates_of(book("two_sheets.xlsx"), "EXPORT", "--sheet Plate") ==
-        rates_of(demo("hydrolase_wide.csv"), "EXPORT"));
+  CHECK(rates_of(book("two_sheets.xlsx"), "EXPORT", "--sheet Plate") == rates_of(demo("hydrolase_wide.csv"), "EXPORT"));
   {
     // datapackage.json records the sheet read with the workbook's path and sha256.
     TempDir dir;
@@ -144,18 +143,23 @@ TEST_CASE("a file that is no workbook is refused with what it is") {
       "CSV and pass that\n";
   auto r = run_vzero("inspect text.xlsx", dir.path.string());
   CHECK(r.status == 1);
-  CHECK(r.err == "text.xlsx: expected a spreadsheet workbook (.xlsx, Office Open XML), found a file "
-                 "that is not a readable zip archive (Not a zip archive)" + fix);
+  CHECK(r.err ==
+        "text.xlsx: expected a spreadsheet workbook (.xlsx, Office Open XML), found a file "
+        "that is not a readable zip archive (Not a zip archive)" +
+            fix);
   r = run_vzero("inspect cut.xlsx", dir.path.string());
   CHECK(r.status == 1);
   // A zip archive cut short has lost its central directory (at its end).
-  CHECK(r.err == "cut.xlsx: expected a spreadsheet workbook (.xlsx, Office Open XML), found a file that is not a "
-                 "readable zip archive (Not a zip archive)" + fix);
+  CHECK(r.err ==
+        "cut.xlsx: expected a spreadsheet workbook (.xlsx, Office Open XML), found a file that is not a "
+        "readable zip archive (Not a zip archive)" +
+            fix);
   r = run_vzero("inspect locked.xlsx", dir.path.string());
   CHECK(r.status == 1);
-  CHECK(r.err == "locked.xlsx: expected a spreadsheet workbook (.xlsx), found an encrypted "
-                 "(password-protected) workbook or an old binary .xls workbook\n  possible fix: remove the password "
-                 "in the spreadsheet program and save the workbook again as .xlsx, or export the sheet as CSV\n");
+  CHECK(r.err ==
+        "locked.xlsx: expected a spreadsheet workbook (.xlsx), found an encrypted "
+        "(password-protected) workbook or an old binary .xls workbook\n  possible fix: remove the password "
+        "in the spreadsheet program and save the workbook again as .xlsx, or export the sheet as CSV\n");
 }
 
 TEST_CASE("number formats: which hold times, date-times and dates") {

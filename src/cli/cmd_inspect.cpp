@@ -53,7 +53,7 @@ int cmd_inspect(const Args& args) {
   opts.add_options()("profile,p", po::value(&profile),
                      "instrument profile: a built-in name or a .toml path (default: detect)")(
       "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")("help,h",
-                                                                                                   "show this help");
+                                                                                                    "show this help");
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;

@@ -109,9 +109,10 @@ detail::SheetStyle style_for(const Profile& p) {
 
 void check_no_sheet(const std::string& path, const std::string& sheet) {
   if (sheet.empty()) return;
-  throw InputError(Where{path},
-                   fmt::format("expected a spreadsheet workbook (.xlsx) for --sheet \"{}\", found a text export", sheet),
-                   {"leave out --sheet: it chooses a sheet of a workbook"});
+  throw InputError(
+      Where{path},
+      fmt::format("expected a spreadsheet workbook (.xlsx) for --sheet \"{}\", found a text export", sheet),
+      {"leave out --sheet: it chooses a sheet of a workbook"});
 }
 
 ProfileChoice choose_in(const std::string& path, const std::string& requested, const detail::SheetText* book);
@@ -215,8 +216,9 @@ ProfileChoice choose_in(const std::string& path, const std::string& requested, c
     }
   }
   if (detail::trim(head).empty()) {
-    throw InputError(Where{path}, book ? "the sheet is empty" : "the file is empty",
-                     {book ? "pass the sheet that holds the reads with --sheet" : "check that the right file was given"});
+    throw InputError(
+        Where{path}, book ? "the sheet is empty" : "the file is empty",
+        {book ? "pass the sheet that holds the reads with --sheet" : "check that the right file was given"});
   }
   std::string tried;
   long long best = 0;

@@ -124,12 +124,13 @@ std::string cell_text(const Context& cx, pugi::xml_node c, int col, int row) {
     std::size_t k = 0;
     const auto [end, ec] = std::from_chars(value.data(), value.data() + value.size(), k);
     if (ec != std::errc() || end != value.data() + value.size() || k >= cx.book.shared_strings.size())
-      cell_error(cx, col, row,
-                 fmt::format("expected a shared string number below {}, found \"{}\"", cx.book.shared_strings.size(),
-                             value));
+      cell_error(
+          cx, col, row,
+          fmt::format("expected a shared string number below {}, found \"{}\"", cx.book.shared_strings.size(), value));
     return cx.book.shared_strings[k];
   }
-  if (!type.empty() && type != "n") cell_error(cx, col, row, fmt::format("expected a known cell type, found \"{}\"", type));
+  if (!type.empty() && type != "n")
+    cell_error(cx, col, row, fmt::format("expected a known cell type, found \"{}\"", type));
   double x = 0;
   const std::string_view digits = trim(value);
   const auto [end, ec] = std::from_chars(digits.data(), digits.data() + digits.size(), x);
@@ -201,8 +202,7 @@ bool is_workbook(const std::string& path) {
   return in.read(head, 4) && std::memcmp(head, "PK\x03\x04", 4) == 0;
 }
 
-SheetText render_workbook(const std::string& file, std::string_view bytes, const std::string& sheet,
-                          SheetStyle style) {
+SheetText render_workbook(const std::string& file, std::string_view bytes, const std::string& sheet, SheetStyle style) {
   // An encrypted workbook is an OLE compound file holding the encrypted package (MS-OFFCRYPTO),
   // as is an old binary .xls workbook.
   if (bytes.substr(0, 8) == std::string_view("\xD0\xCF\x11\xE0\xA1\xB1\x1A\xE1", 8)) {
@@ -219,8 +219,8 @@ SheetText render_workbook(const std::string& file, std::string_view bytes, const
     k = static_cast<std::size_t>(std::find(book.sheet_names.begin(), book.sheet_names.end(), sheet) -
                                  book.sheet_names.begin());
     if (k == book.sheet_names.size())
-      throw InputError(Where{file}, fmt::format("expected a sheet named \"{}\", found the sheets {}", sheet,
-                                                sheet_list(book)),
+      throw InputError(Where{file},
+                       fmt::format("expected a sheet named \"{}\", found the sheets {}", sheet, sheet_list(book)),
                        {"pass one of these names with --sheet (names are case-sensitive)"});
   }
   SheetText out{file, book.sheet_names[k], {}, {}, style};

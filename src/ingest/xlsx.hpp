@@ -54,8 +54,7 @@ bool is_workbook(const std::string& path);
 // it) is an InputError naming the file and what to do.
 SheetText read_workbook(const std::string& path, const std::string& sheet, SheetStyle style);
 // The same from bytes in memory (tests, fuzzers); `file` names it in messages.
-SheetText render_workbook(const std::string& file, std::string_view bytes, const std::string& sheet,
-                          SheetStyle style);
+SheetText render_workbook(const std::string& file, std::string_view bytes, const std::string& sheet, SheetStyle style);
 
 // Runs `read` (a reader over book.text under the name book.file) and moves the place of any
 // InputError it throws from line:column of the text to the sheet's cell.
@@ -77,10 +76,10 @@ namespace xlsx {
 enum class NumberKind { number, time, date_time, date };
 
 struct Book {
-  std::vector<std::string> sheet_names;      // in workbook order
-  std::vector<std::string> sheet_parts;      // zip entry of each sheet
-  std::vector<std::string> shared_strings;   // xl/sharedStrings.xml
-  std::vector<NumberKind> style_kinds;       // per cell style index (cellXfs)
+  std::vector<std::string> sheet_names;     // in workbook order
+  std::vector<std::string> sheet_parts;     // zip entry of each sheet
+  std::vector<std::string> shared_strings;  // xl/sharedStrings.xml
+  std::vector<NumberKind> style_kinds;      // per cell style index (cellXfs)
   bool date1904 = false;
 };
 

@@ -3,10 +3,10 @@
 #include <zip.h>
 
 #include <fmt/format.h>
-#include <pugixml.hpp>
 #include <algorithm>
 #include <cctype>
 #include <map>
+#include <pugixml.hpp>
 
 #include "ingest/xlsx.hpp"
 
@@ -45,8 +45,8 @@ void parse_part(const Archive& zip, const std::string& file, const std::string& 
   const std::string bytes = zip.read(part);
   const auto parsed = doc.load_buffer(bytes.data(), bytes.size(), pugi::parse_default | pugi::parse_ws_pcdata);
   if (!parsed)
-    bad_workbook(file, fmt::format("a part {} that is not XML ({} at byte {})", part, parsed.description(),
-                                   parsed.offset));
+    bad_workbook(file,
+                 fmt::format("a part {} that is not XML ({} at byte {})", part, parsed.description(), parsed.offset));
 }
 
 namespace {
@@ -179,7 +179,9 @@ Archive::~Archive() {
   delete impl_;
 }
 
-bool Archive::has(const std::string& part) const { return zip_name_locate(impl_->zip, part.c_str(), ZIP_FL_NOCASE) >= 0; }
+bool Archive::has(const std::string& part) const {
+  return zip_name_locate(impl_->zip, part.c_str(), ZIP_FL_NOCASE) >= 0;
+}
 
 std::string Archive::read(const std::string& part) const {
   const zip_int64_t index = zip_name_locate(impl_->zip, part.c_str(), ZIP_FL_NOCASE);

@@ -277,7 +277,8 @@ inline std::string fuzz_xlsx(std::string_view bytes) {
       book = detail::render_workbook("fuzz.xlsx", bytes, "", {});
     } else {
       using K = detail::xlsx::NumberKind;
-      static const detail::xlsx::Book fixed{{"Sheet1"}, {"xl/worksheets/sheet1.xml"},
+      static const detail::xlsx::Book fixed{{"Sheet1"},
+                                            {"xl/worksheets/sheet1.xml"},
                                             {"Time [s]", "Temp [C]", "A1", "A2", "B1", "Channel: A405", "OVER", "well",
                                              "time_s", "value", "Read 1 at 0:00:10 (25.0 C)", "#N/A", ""},
                                             {K::number, K::time, K::date_time, K::date},
