@@ -81,8 +81,8 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
       BatchFile& f = out[static_cast<std::size_t>(i)];
       try {
         f.path = paths[static_cast<std::size_t>(i)];
-        f.choice = choose_profile(f.path, o.profile);
-        f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile));
+        f.choice = choose_profile(f.path, o.profile, o.sheet);
+        f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile, o.sheet));
         check_plate_map(map, *f.run);
         AnalysisOptions ao = o.analysis;
         ao.threads = inner;

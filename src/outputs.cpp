@@ -47,6 +47,7 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     j["sha256"] = in.sha256;
     if (!in.profile.empty()) j["profile"] = in.profile;
     if (!in.shape.empty()) j["shape"] = in.shape;
+    if (!in.sheet.empty()) j["sheet"] = in.sheet;
     inputs.push_back(j);
   }
   prov["inputs"] = inputs;

@@ -156,6 +156,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
   BatchOptions batch;
   batch.profile = s.profile;
+  batch.sheet = s.sheet;
   batch.analysis = s.analysis;
   batch.map_columns = out.map.columns;
   batch.with_activity = with_activity;
@@ -190,7 +191,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape});
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet});
     // A profile file is an input once, however many exports it read.
     if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
       prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", ""});

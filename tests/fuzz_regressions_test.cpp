@@ -63,6 +63,8 @@ TEST_CASE("every saved fuzz input passes its fuzz body: no crash, no broken inva
         why = vzero::fuzz::fuzz_detect(text);
       else if (target == "method")
         why = vzero::fuzz::fuzz_method(text);
+      else if (target == "xlsx")
+        why = vzero::fuzz::fuzz_xlsx(text);
       else
         FAIL("unknown fuzz target folder " << target);
       CHECK(why == "");

@@ -18,8 +18,11 @@
 
 namespace vzero {
 
-// Reads the file at `path`; never modifies it.
-Run read_run(const std::string& path, const Profile& profile);
+// Reads the file at `path`; never modifies it. A spreadsheet workbook (.xlsx) is read from
+// its sheet named `sheet` ("" = the first sheet), rendered as text (one line per row) for the
+// same readers; errors then name the cell, `plate.xlsx[Sheet1]!B12`. A `sheet` given for a
+// text export is an InputError.
+Run read_run(const std::string& path, const Profile& profile, const std::string& sheet = "");
 // Reads an export held in memory; `name` stands for the file in messages.
 Run read_run_text(const std::string& name, std::string_view text, const Profile& profile);
 
@@ -38,6 +41,7 @@ struct ProfileChoice {
 // what each profile found. The start is bounded whatever the file's
 // size: the first 400 lines, no more than 64 KiB of them besides the longest, read from the
 // first MiB (further only when its lines run past it; a line is at most 16 MiB).
-ProfileChoice choose_profile(const std::string& path, const std::string& requested);
+// A workbook's sheet (`sheet`, as for read_run) is rendered as text and detected the same way.
+ProfileChoice choose_profile(const std::string& path, const std::string& requested, const std::string& sheet = "");
 
 }  // namespace vzero

@@ -22,6 +22,7 @@ struct InputRecord {
   std::string sha256;
   std::string profile;  // for exports
   std::string shape;    // for exports
+  std::string sheet;    // for exports that are workbooks: the sheet read
 };
 
 struct Provenance {

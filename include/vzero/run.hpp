@@ -90,6 +90,7 @@ struct Channel {
 struct Run {
   std::string source;                                         // path as given by the user
   std::string sha256;                                         // hex digest of the bytes read
+  std::string sheet;                                          // the sheet read, for a workbook (.xlsx)
   std::string profile;                                        // profile name used
   std::string shape;                                          // "wide", "grid" or "long"
   std::vector<std::pair<std::string, std::string>> metadata;  // in file order

@@ -12,7 +12,7 @@ namespace vzero::cli {
 
 namespace {
 
-constexpr const char* k_usage = R"(usage: vzero inspect FILE [--profile NAME|PATH]
+constexpr const char* k_usage = R"(usage: vzero inspect FILE [--profile NAME|PATH] [--sheet NAME]
 
 Shows what vzero reads from a raw plate-reader export: the shape (wide, grid or long),
 the profile used and why, the plate format, each channel with its quantity and unit, the
@@ -20,7 +20,8 @@ number of reads, the first and last read time in seconds, the temperature range,
 captured metadata, and how many values were overflow or missing, in which wells.
 
 Without --profile every built-in profile is tried on the start of the file and the best
-reader is named. Nothing is written; the file is only read.
+reader is named. A spreadsheet workbook (.xlsx) is read from its first sheet or the one
+named by --sheet. Nothing is written; the file is only read.
 
 options)";
 
@@ -47,11 +48,12 @@ std::string well_list(const Run& run, const Channel& c, ReadStatus s, int* count
 
 int cmd_inspect(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, profile;
+  std::string file, profile, sheet;
   po::options_description opts(k_usage);
   opts.add_options()("profile,p", po::value(&profile),
-                     "instrument profile: a built-in name or a .toml path (default: detect)")("help,h",
-                                                                                              "show this help");
+                     "instrument profile: a built-in name or a .toml path (default: detect)")(
+      "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")("help,h",
+                                                                                                    "show this help");
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;
@@ -63,11 +65,12 @@ int cmd_inspect(const Args& args) {
   }
   if (file.empty()) throw UsageError("expected a FILE to inspect");
 
-  ProfileChoice choice = choose_profile(file, profile);
-  Run run = read_run(file, choice.profile);
+  ProfileChoice choice = choose_profile(file, profile, sheet);
+  Run run = read_run(file, choice.profile, sheet);
   std::string out;
   out += fmt::format("file      {}\n", run.source);
   out += fmt::format("sha256    {}\n", run.sha256);
+  if (!run.sheet.empty()) out += fmt::format("sheet     {}\n", run.sheet);
   out += fmt::format("shape     {}\n", run.shape);
   out += fmt::format("profile   {} ({}; {})\n", run.profile, choice.profile.source, choice.reason);
   out +=

@@ -5,6 +5,7 @@
 #include <optional>
 
 #include "ingest/reader_common.hpp"
+#include "ingest/xlsx.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero {
@@ -100,9 +101,37 @@ InputError no_profile_error(const std::string& path, const std::string& head, co
   return InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
 }
 
+// A workbook's cells written as the profile reads them: its decimal mark, its delimiter (else
+// ',' or, with decimal commas, ';').
+detail::SheetStyle style_for(const Profile& p) {
+  return {p.delimiter != 0 ? p.delimiter : (p.decimal == ',' ? ';' : ','), p.decimal};
+}
+
+void check_no_sheet(const std::string& path, const std::string& sheet) {
+  if (sheet.empty()) return;
+  throw InputError(
+      Where{path},
+      fmt::format("expected a spreadsheet workbook (.xlsx) for --sheet \"{}\", found a text export", sheet),
+      {"leave out --sheet: it chooses a sheet of a workbook"});
+}
+
+ProfileChoice choose_in(const std::string& path, const std::string& requested, const detail::SheetText* book);
+
 }  // namespace
 
-Run read_run(const std::string& path, const Profile& profile) {
+Run read_run(const std::string& path, const Profile& profile, const std::string& sheet) {
+  if (detail::is_workbook(path)) {
+    const detail::SheetText book = detail::read_workbook(path, sheet, style_for(profile));
+    return detail::in_sheet(book, [&] {
+      detail::LineSource src(path, book.text, detail::LineSource::NoHash{});
+      Run run = dispatch(src, profile, false);
+      run.source = path;
+      run.sha256 = book.sha256;
+      run.sheet = book.sheet;
+      return run;
+    });
+  }
+  check_no_sheet(path, sheet);
   detail::LineSource src(path);
   Run run = dispatch(src, profile, false);
   run.source = path;
@@ -118,7 +147,20 @@ Run read_run_text(const std::string& name, std::string_view text, const Profile&
   return run;
 }
 
-ProfileChoice choose_profile(const std::string& path, const std::string& requested) {
+ProfileChoice choose_profile(const std::string& path, const std::string& requested, const std::string& sheet) {
+  if (!detail::is_workbook(path)) {
+    check_no_sheet(path, sheet);
+    return choose_in(path, requested, nullptr);
+  }
+  if (!requested.empty()) return choose_in(path, requested, nullptr);
+  const detail::SheetText book = detail::read_workbook(path, sheet, detail::SheetStyle{});
+  return detail::in_sheet(book, [&] { return choose_in(path, requested, &book); });
+}
+
+namespace {
+
+// choose_profile for a text export, or for a workbook's sheet rendered as text (`book`).
+ProfileChoice choose_in(const std::string& path, const std::string& requested, const detail::SheetText* book) {
   ProfileChoice choice;
   if (!requested.empty()) {
     choice.profile = load_profile(requested);
@@ -161,7 +203,10 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     head_is_file = !more && !src.cut();
     return more || !src.cut();
   };
-  {
+  if (book) {
+    detail::LineSource src(path, book->text, detail::LineSource::NoHash{});
+    sniff(src);
+  } else {
     // The first MiB is read, not the whole file as a full LineSource does; only when the
     // lines run past it (lines of 100s of KiB) is the file read again without a limit.
     detail::LineSource src(path, k_sniff_prefix_bytes);
@@ -171,7 +216,9 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
     }
   }
   if (detail::trim(head).empty()) {
-    throw InputError(Where{path}, "the file is empty", {"check that the right file was given"});
+    throw InputError(
+        Where{path}, book ? "the sheet is empty" : "the file is empty",
+        {book ? "pass the sheet that holds the reads with --sheet" : "check that the right file was given"});
   }
   std::string tried;
   long long best = 0;
@@ -217,5 +264,7 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
   choice.detected = true;
   return choice;
 }
+
+}  // namespace
 
 }  // namespace vzero

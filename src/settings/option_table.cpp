@@ -124,6 +124,9 @@ std::vector<OptionSpec> make_table() {
       "profile", 'p', k_io, OptionRole::io, "", [](S& s) { return &s.profile; },
       "instrument profile for every FILE: built-in name or .toml path (default: detect per file)"));
   t.push_back(text(
+      "sheet", 0, k_io, OptionRole::io, "", [](S& s) { return &s.sheet; },
+      "sheet of every .xlsx workbook FILE, by name (default: the first sheet)"));
+  t.push_back(text(
       "output", 'o', k_io, OptionRole::io, "rates.csv", [](S& s) { return &s.output; },
       "rates table; datapackage.json is written beside it"));
   t.push_back(text(

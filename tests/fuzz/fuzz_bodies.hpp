@@ -19,6 +19,7 @@
 #include <string_view>
 #include <vector>
 
+#include "ingest/xlsx.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 #include "vzero/method.hpp"
@@ -241,6 +242,53 @@ inline std::string fuzz_detect(std::string_view text) {
   } catch (const InputError&) {
     return {};
   }
+}
+
+// A rendered sheet (xlsx.hpp) read by every built-in profile: a reader's error must be moved
+// into the sheet (`fuzz.xlsx[Sheet]...`), never left at a line of the rendered text.
+inline std::string check_sheet(const detail::SheetText& book) {
+  static const std::vector<Profile> profiles = [] {
+    std::vector<Profile> v;
+    for (const auto& name : builtin_profile_names()) v.push_back(load_profile(name));
+    return v;
+  }();
+  if (!book.text.empty() && book.text.back() != '\n') return "rendered sheet does not end in a newline";
+  for (const Profile& p : profiles) {
+    try {
+      const Run run = detail::in_sheet(book, [&] { return read_run_text(book.file, book.text, p); });
+      std::string why = check_run(run);
+      if (!why.empty()) return p.name + ": " + why;
+    } catch (const InputError& e) {
+      if (e.where().file.rfind("fuzz.xlsx[", 0) != 0 || e.where().line != 0)
+        return p.name + ": error not placed in the sheet: " + e.formatted();
+    }
+  }
+  return {};
+}
+
+// Workbook bytes (.xlsx, an input starting "PK" or as an OLE file does): render_workbook
+// (libzip, the workbook parts, the first sheet). Any other input is the XML of a worksheet,
+// rendered with a fixed book (render_sheet): zip checksums keep most mutations of a whole
+// workbook from reaching its cells. Errors must name the workbook; then check_sheet.
+inline std::string fuzz_xlsx(std::string_view bytes) {
+  detail::SheetText book{"fuzz.xlsx", "Sheet1", {}, {}, {}};
+  try {
+    if (bytes.substr(0, 2) == "PK" || bytes.substr(0, 2) == "\xD0\xCF") {
+      book = detail::render_workbook("fuzz.xlsx", bytes, "", {});
+    } else {
+      using K = detail::xlsx::NumberKind;
+      static const detail::xlsx::Book fixed{{"Sheet1"},
+                                            {"xl/worksheets/sheet1.xml"},
+                                            {"Time [s]", "Temp [C]", "A1", "A2", "B1", "Channel: A405", "OVER", "well",
+                                             "time_s", "value", "Read 1 at 0:00:10 (25.0 C)", "#N/A", ""},
+                                            {K::number, K::time, K::date_time, K::date},
+                                            false};
+      detail::render_sheet(fixed, bytes, book);
+    }
+  } catch (const InputError& e) {
+    return e.where().file.rfind("fuzz.xlsx", 0) == 0 ? "" : "workbook error names another file: " + e.formatted();
+  }
+  return check_sheet(book);
 }
 
 // Assay method TOML (parse_method) with the long option names of `vzero rates` as keys.
