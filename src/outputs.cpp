@@ -47,6 +47,11 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     j["sha256"] = in.sha256;
     if (!in.profile.empty()) j["profile"] = in.profile;
     if (!in.shape.empty()) j["shape"] = in.shape;
+    if (!in.metadata.empty()) {
+      ordered_json meta = ordered_json::array();
+      for (const auto& [k, v] : in.metadata) meta.push_back({{"key", k}, {"value", v}});
+      j["metadata"] = meta;
+    }
     inputs.push_back(j);
   }
   prov["inputs"] = inputs;

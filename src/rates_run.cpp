@@ -70,8 +70,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   prov.tool_version = VZERO_VERSION;
   prov.options = resolved.recorded;
   prov.map_columns = out.map.columns;
-  prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", ""});
-  if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", ""});
+  prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", "", {}});
+  if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", "", {}});
 
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
@@ -111,10 +111,10 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape});
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->metadata});
     // A profile file is an input once, however many exports it read.
     if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
-      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", ""});
+      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}});
     out.analyses.push_back(std::move(f.analysis));
   }
 
