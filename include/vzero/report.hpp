@@ -50,25 +50,40 @@
 
 namespace vzero {
 
-struct ReportInput {
-  Table rates;                       // rates table (required): one row per well and channel
-  std::optional<Table> traces;       // per-read traces; without it panels show no curve
-  std::optional<Table> summary;      // replicate summary
-  std::optional<Table> diagnostics;  // fit diagnostics (observed points of each fit)
-  std::string fit_json;              // text of fit.json; "" = no fit section
-  std::string fit_source;            // its name, for messages
-  std::string package_json;          // text of datapackage.json; "" = provenance unknown
-  std::string package_source;        // its name, for messages
+// One fit to show: the text of fit.json, or of the fit table (`vzero fit -o`; it holds no
+// covariance, so its curves are drawn without a band), with the fit's points if known.
+struct ReportFit {
+  std::string text;
+  std::string source;                // its name, for messages
+  std::optional<Table> diagnostics;  // `vzero fit --diagnostics`: the fitted points
 };
 
-// Paths of the files a run wrote; "" = not given. `rates` is required.
+struct ReportInput {
+  Table rates;                   // rates table (required): one row per well and channel
+  std::optional<Table> traces;   // per-read traces; without it panels show no curve
+  std::optional<Table> summary;  // replicate summary
+  std::vector<ReportFit> fits;   // fits, in order
+  std::string package_json;      // text of datapackage.json (required: plate, direction, factor, map columns)
+  std::string package_source;    // its name, for messages
+};
+
+// Paths of the files a run wrote; "" = not given. `rates` and `package` are required.
 struct ReportFiles {
-  std::string rates, traces, summary, fit, diagnostics, package;
+  std::string rates, traces, summary, package;
+  std::vector<std::string> fits;  // fit.json or fit.csv files
+  std::string diagnostics;        // diagnostics of the first fit
 };
 
 // Reads the given files. InputError for a file that cannot be read or parsed (CSV shape,
 // JSON syntax); column checks happen in render_report.
 ReportInput read_report_input(const ReportFiles& files);
+
+// The files of one run, found from its folder or its rates table: datapackage.json beside
+// it names the rates, traces and summary tables (its resources, paths relative to it), and
+// every fit.json in the folder whose recorded source is one of those tables is a fit
+// (sorted by name). InputError when there is no datapackage.json or a table it names is
+// missing.
+ReportFiles find_run_files(const std::string& folder_or_rates);
 
 // The same tables from an analysis in memory, as `vzero rates` would write them.
 // `package_json` is the datapackage.json text (provenance), "" for none.
@@ -76,12 +91,19 @@ ReportInput read_report_input(const ReportFiles& files);
 ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
                          bool with_activity, bool with_specific, const SummaryTable& summary, std::string package_json);
 
+// How the panels' vertical axes are scaled.
+enum class PanelScale {
+  plate,  // one scale for the sample, blank and empty wells of a plate (standards get their own)
+  well,   // each panel its own range, with tick labels
+};
+
 struct ReportOptions {
   std::string title;       // page title; "" = "vzero run report: " + the export names
   std::string date;        // shown in the header as given; "" = no date (byte-identical reruns)
   int panel_wells = 96;    // plates with more wells get a heat-map overview and panel blocks
   int block_rows = 8;      // rows per panel block on large plates
   int block_columns = 12;  // columns per panel block on large plates
+  PanelScale scale = PanelScale::plate;
   // Empty if valid, else e.g. "block_rows is 0; a block needs at least one row".
   std::string validate() const;
 };
