@@ -220,11 +220,12 @@ std::string render_fit(const PageData& m, const FitView& fv, const ReportInput& 
   if (!member(doc, "fits").is_array())
     throw InputError(Where{fv.source}, "expected a \"fits\" list", {"give the --json file vzero fit wrote"});
   const std::string x_unit = x_unit_of(m, fv);
-  std::string h = fit_lede(fv);
+  std::string h = "<h3>Fit of " + escape(fv.from_table ? fv.source : str_of(doc, "source")) + " (" + escape(fv.source) +
+                  ")</h3>\n" + fit_lede(fv);
   for (const auto& f : member(doc, "fits")) {
     std::string group;
     for (const auto& [k, v] : member(f, "group").items()) group += (group.empty() ? "" : ", ") + k + " = " + text_of(v);
-    h += fmt::format("<article class=\"fit\"><h3>{}{}</h3>\n<p class=\"formula\">{}</p>\n", escape(str_of(f, "model")),
+    h += fmt::format("<article class=\"fit\"><h4>{}{}</h4>\n<p class=\"formula\">{}</p>\n", escape(str_of(f, "model")),
                      group.empty() ? "" : " \u00b7 " + escape(group), escape(str_of(f, "formula")));
     if (!member(f, "ok").is_boolean() || !member(f, "ok").get<bool>()) {
       h += "<p class=\"warn\">No fit: " + escape(str_of(f, "message")) + "</p></article>\n";

@@ -145,16 +145,13 @@ std::string chart_rate(const FitPlot& fp) {
 
 std::string chart_residuals(const FitPlot& fp) {
   double r_max = 0;
-  for (const auto* list : {&fp.pts.used, &fp.pts.left_out})
-    for (const auto& p : *list)
-      if (double r = p.v - fp.fitted(p); std::isfinite(r)) r_max = std::max(r_max, std::fabs(r));
+  for (const auto& p : fp.pts.used)
+    if (double r = p.v - fp.fitted(p); std::isfinite(r)) r_max = std::max(r_max, std::fabs(r));
   if (r_max == 0) r_max = 1;
   svg::Document d(480, 236);
   svg::Chart c(d, {70, 12, 390, 168}, fp.tx, svg::nice_ticks(-r_max * 1.05, r_max * 1.05, 5));
   c.axes("substrate S (" + fp.xu + ")", "v \u2212 v\u0302 (" + fp.vu + ")");
   c.hline(0, "zero");
-  left_out_markers(
-      c, fp, [](const Obs& p) { return p.s; }, [](const Obs& p, const FitPlot& f) { return p.v - f.fitted(p); });
   for (std::size_t l = 0; l < fp.levels.size(); ++l) {
     std::vector<double> sx, ry;
     for (const auto& p : fp.pts.used)
@@ -163,7 +160,7 @@ std::string chart_residuals(const FitPlot& fp) {
   }
   return figure(
       d, "residuals",
-      "Residuals: observed minus fitted rate. A trend with S says the model misses something." + left_out_caption(fp));
+      "Residuals of the fitted points: observed minus fitted rate. A trend with S says the model misses something.");
 }
 
 std::string chart_reciprocal(const FitPlot& fp) {

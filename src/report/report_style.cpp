@@ -59,7 +59,8 @@ a.up{font-size:.8rem;font-weight:400;margin-left:1em}
 .well.role-standard .frame{fill:#edf3f8}
 .well.role-empty .frame{fill:#fbfbfb;stroke-dasharray:2 2}
 .well.own-scale .frame{fill:#f3f3f3}
-.well.flagged .frame,.key-frame.flagged{fill:#fff;stroke:#D55E00;stroke-width:1.4}
+.well.flagged .frame,.key-frame.flagged{stroke:#D55E00;stroke-width:1.4}
+.key-frame{fill:#fff}
 .unread-well{fill:none;stroke:#dfe3e7;stroke-dasharray:1 3}
 .window{fill:#56B4E9;fill-opacity:.28;stroke:none}
 .trace{fill:none;stroke:#7a828c;stroke-width:.9;stroke-linejoin:round}
