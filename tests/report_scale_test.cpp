@@ -23,13 +23,14 @@ struct WellSpec {
   std::string well;
   std::vector<double> y;
   double slope_per_min = 0, intercept = 0;
+  std::string role = "sample";
 };
 
 ReportInput plate_of(const std::vector<WellSpec>& wells) {
   std::string rates = "source,channel,well,role,v0,v0_unit,slope,intercept,t_start_s,t_end_s,flags\n";
   std::string traces = "source,channel,well,time_s,status,raw,blank,corrected,concentration,used\n";
   for (const auto& w : wells) {
-    rates += fmt::format("x.csv,A340,{},sample,{},AU/min,{},{},0,100,\n", w.well, w.slope_per_min, w.slope_per_min,
+    rates += fmt::format("x.csv,A340,{},{},{},AU/min,{},{},0,100,\n", w.well, w.role, w.slope_per_min, w.slope_per_min,
                          w.intercept);
     for (std::size_t i = 0; i < w.y.size(); ++i)
       traces += fmt::format("x.csv,A340,{},{},ok,{},0,{},,1\n", w.well, 10 * i, w.y[i], w.y[i]);
@@ -79,6 +80,22 @@ TEST_CASE("a shared scale: the plate's range padded by 8 %, a 1-2-5 scale bar of
   CHECK(bars[0]->attr("data-value") == "2");
   CHECK(std::stod(bars[0]->attr("data-length")) == doctest::Approx(2 / 8.12 * plot_h).epsilon(0.005));
   CHECK(html.find("(\u22121.56 to 6.56 AU; the bar left of each row is 2 AU)") != std::string::npos);
+}
+
+TEST_CASE("a standard on a shared plate: its own scale, as tall as the plate's, centred on its value") {
+  // Samples as above (plate range −1.56 … 6.56, span 8.12); a standard flat at 100 is drawn
+  // on 100 ± 4.06 and looks flat.
+  const auto in = plate_of({{"A1", linear(0, 6), 3.6, 0},
+                            {"A2", linear(1, 1), 0, 1},
+                            {"A3", linear(-1, 2), 1.8, -1},
+                            {"B1", linear(100, 100), 0, 100, "standard"}});
+  auto doc = test::parse_xml(render_report(in));
+  REQUIRE(doc.error == "");
+  const XmlNode* g = panel(*doc.root, "B1");
+  CHECK(g->has_class("own-scale"));
+  CHECK(std::stod(g->attr("data-y-lo")) == doctest::Approx(95.94).epsilon(1e-12));
+  CHECK(std::stod(g->attr("data-y-hi")) == doctest::Approx(104.06).epsilon(1e-12));
+  CHECK(std::stod(panel(*doc.root, "A1")->attr("data-y-hi")) == doctest::Approx(6.56).epsilon(1e-12));
 }
 
 TEST_CASE("per-well scales: each panel its own padded range, with tick labels") {

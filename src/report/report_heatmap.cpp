@@ -152,8 +152,8 @@ std::string heat_map(const PlateView& p) {
   const double ky = top + std::max(plate_h, 150.0) + 16;
   double kx = left;
   d.raw(fmt::format("<path class=\"hm-flag\" d=\"M{} {}h-9l9 9z\"/>", d.n(kx + 10), d.n(ky - 8)));
-  d.text(kx + 14, ky, "flagged", "key");
-  kx += 70;
+  d.text(kx + 14, ky, "sample well with a flag", "key");
+  kx += 150;
   d.rect(kx, ky - 9, 11, 11, "hm-none");
   d.line(kx + 1, ky + 1, kx + 10, ky - 8, "hm-none-mark");
   d.text(kx + 15, ky, "no rate", "key");

@@ -56,6 +56,18 @@ std::string tooltip(const PlateView& p, const WellView& w) {
 
 namespace {
 
+// A well's own range; on a shared plate at least as tall as the plate's, centred on the
+// well's values, so a flat standard or a well off the plate's range still looks flat.
+YRange own_range(const WellView& w, const YRange& shared, PanelScale scale) {
+  YRange r = well_y_range(w);
+  const double need = shared.hi - shared.lo;
+  if (scale == PanelScale::plate && r.hi - r.lo < need) {
+    const double mid = (r.lo + r.hi) / 2;
+    r.lo = mid - need / 2, r.hi = mid + need / 2;
+  }
+  return r;
+}
+
 // The scale bar of a shared scale, in the margin left of one row of panels.
 void row_scale_bar(Document& d, const PlateView& p, const YRange& r, double row_y) {
   const double value = scale_bar_value(r.hi - r.lo);
@@ -93,7 +105,7 @@ std::string panel_grid(const PlateView& p, Block b, PanelScale scale) {
       }
       const WellView& w = p.wells[it->second];
       const bool own = scale == PanelScale::well || w.role == "standard" || !fits_in(w, shared);
-      draw_panel(d, p, w, x, y, own ? well_y_range(w) : shared);
+      draw_panel(d, p, w, x, y, own ? own_range(w, shared, scale) : shared);
     }
   }
   // Time axis under the last row: the same for every panel.
@@ -207,7 +219,8 @@ std::string render_plate(const PlateView& p, const ReportOptions& o) {
                  "<p class=\"note\">One panel per well: {} against time, on one vertical scale for the whole plate "
                  "({} to {} {}; the bar left of each row is {} {}), so a flat well looks flat. Standards, and "
                  "wells whose trace leaves that range, have their own scale, labelled in their panels (grey "
-                 "background). The number at the top right is v0 ({}); flags are written at the "
+                 "background), at least as tall as the plate's. The number at the top right is v0 ({}); flags are "
+                 "written at the "
                  "bottom, and a sample well with a flag has an orange frame.</p>\n",
                  what, human(shared.lo, 3), human(shared.hi, 3), escape(display_unit(p.y_unit)),
                  human(scale_bar_value(shared.hi - shared.lo)), escape(display_unit(p.y_unit)),
