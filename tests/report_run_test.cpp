@@ -76,6 +76,16 @@ TEST_CASE("vzero report RUN_FOLDER: the tables datapackage.json names and the fi
       dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   CHECK(test::slurp(dir / "explicit.html") == html);
+  // --y-scale well: every panel on its own labelled scale; a mistyped value is a usage error.
+  r = test::run_vzero("report run --y-scale well -q -o per_well.html", dir.path.string());
+  REQUIRE_MESSAGE(r.status == 0, r.describe());
+  auto per_well = test::parse_xml(test::slurp(dir / "per_well.html"));
+  REQUIRE(per_well.error == "");
+  CHECK(with_class(*per_well.root, "g", "own-scale").size() == 96);
+  CHECK(with_class(*doc.root, "g", "own-scale").size() < 96);
+  r = test::run_vzero("report run --y-scale plat -o x.html", dir.path.string());
+  CHECK(r.status == 2);
+  CHECK(r.err.rfind("vzero report: --y-scale is \"plat\"; expected plate or well", 0) == 0);
   // A folder without datapackage.json is an error that says what to give.
   r = test::run_vzero("report run/sub", dir.path.string());
   CHECK(r.status == 1);
