@@ -70,6 +70,52 @@ std::string cell_text(double v, int decimals) {
   return s;
 }
 
+// The colour bar at the right of the plate, with its ticks and arrows where rates lie beyond.
+void colour_bar(Document& d, const PlateView& p, const ColourScale& scale, double bar_x, double top, double bar_h) {
+  const double bar_w = 14;
+  const int steps = 64;
+  for (int k = 0; k < steps; ++k) {
+    const double f0 = static_cast<double>(k) / steps;
+    d.rect(bar_x, top + bar_h * (1 - f0 - 1.0 / steps), bar_w, bar_h / steps + 0.3, "bar-step",
+           {{"fill", svg::sequential(f0 + 0.5 / steps)}});
+  }
+  d.rect(bar_x, top, bar_w, bar_h, "bar-frame");
+  for (double v : scale.ticks) {
+    const double yy = top + bar_h * (1 - scale.frac(v));
+    d.line(bar_x + bar_w, yy, bar_x + bar_w + 4, yy, "tick-mark");
+    d.text(bar_x + bar_w + 6, yy + 3.5, svg::tick_label(v, scale.nice), "tick", "start");
+  }
+  // Arrows at an end beyond which some rates lie (they take the end colour).
+  if (scale.above) {
+    d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} -7l{} 7z\"/>", d.n(bar_x), d.n(top - 2), d.n(bar_w / 2),
+                      d.n(bar_w / 2)));
+    d.text(bar_x + bar_w + 6, top - 3, "more: darkest", "tick small");
+  }
+  if (scale.below) {
+    d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} 7l{} -7z\"/>", d.n(bar_x), d.n(top + bar_h + 2),
+                      d.n(bar_w / 2), d.n(bar_w / 2)));
+    d.text(bar_x + bar_w + 6, top + bar_h + 9, "less: lightest", "tick small");
+  }
+  d.text(bar_x + bar_w + 70, top + bar_h / 2, "v0 (" + display_unit(p.v0_unit) + ")", "axis-title", "middle", -90);
+}
+
+// The key under the heat map.
+void heat_key(Document& d, double left, double ky) {
+  double kx = left;
+  d.raw(fmt::format("<path class=\"hm-flag\" d=\"M{} {}h-9l9 9z\"/>", d.n(kx + 10), d.n(ky - 8)));
+  d.text(kx + 14, ky, "sample well with a flag", "key");
+  kx += 150;
+  d.rect(kx, ky - 9, 11, 11, "hm-none");
+  d.line(kx + 1, ky + 1, kx + 10, ky - 8, "hm-none-mark");
+  d.text(kx + 15, ky, "no rate", "key");
+  kx += 70;
+  d.rect(kx, ky - 9, 11, 11, "hm-empty");
+  d.text(kx + 15, ky, "empty in the plate map", "key");
+  kx += 150;
+  d.rect(kx, ky - 9, 11, 11, "hm-unread");
+  d.text(kx + 15, ky, "not read", "key");
+}
+
 }  // namespace
 
 std::string heat_map(const PlateView& p) {
@@ -120,49 +166,8 @@ std::string heat_map(const PlateView& p) {
       d.close_link();
     }
   }
-  // Colour bar.
-  if (scale.any) {
-    const double bar_h = std::max(plate_h, 150.0);
-    const int steps = 64;
-    for (int k = 0; k < steps; ++k) {
-      const double f0 = static_cast<double>(k) / steps;
-      d.rect(bar_x, top + bar_h * (1 - f0 - 1.0 / steps), bar_w, bar_h / steps + 0.3, "bar-step",
-             {{"fill", svg::sequential(f0 + 0.5 / steps)}});
-    }
-    d.rect(bar_x, top, bar_w, bar_h, "bar-frame");
-    for (double v : scale.ticks) {
-      const double yy = top + bar_h * (1 - scale.frac(v));
-      d.line(bar_x + bar_w, yy, bar_x + bar_w + 4, yy, "tick-mark");
-      d.text(bar_x + bar_w + 6, yy + 3.5, svg::tick_label(v, scale.nice), "tick", "start");
-    }
-    // Arrows at an end beyond which some rates lie (they take the end colour).
-    if (scale.above) {
-      d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} -7l{} 7z\"/>", d.n(bar_x), d.n(top - 2),
-                        d.n(bar_w / 2), d.n(bar_w / 2)));
-      d.text(bar_x + bar_w + 6, top - 3, "more: darkest", "tick small");
-    }
-    if (scale.below) {
-      d.raw(fmt::format("<path class=\"bar-beyond\" d=\"M{} {}l{} 7l{} -7z\"/>", d.n(bar_x), d.n(top + bar_h + 2),
-                        d.n(bar_w / 2), d.n(bar_w / 2)));
-      d.text(bar_x + bar_w + 6, top + bar_h + 9, "less: lightest", "tick small");
-    }
-    d.text(bar_x + bar_w + 70, top + bar_h / 2, "v0 (" + display_unit(p.v0_unit) + ")", "axis-title", "middle", -90);
-  }
-  // Key.
-  const double ky = top + std::max(plate_h, 150.0) + 16;
-  double kx = left;
-  d.raw(fmt::format("<path class=\"hm-flag\" d=\"M{} {}h-9l9 9z\"/>", d.n(kx + 10), d.n(ky - 8)));
-  d.text(kx + 14, ky, "sample well with a flag", "key");
-  kx += 150;
-  d.rect(kx, ky - 9, 11, 11, "hm-none");
-  d.line(kx + 1, ky + 1, kx + 10, ky - 8, "hm-none-mark");
-  d.text(kx + 15, ky, "no rate", "key");
-  kx += 70;
-  d.rect(kx, ky - 9, 11, 11, "hm-empty");
-  d.text(kx + 15, ky, "empty in the plate map", "key");
-  kx += 150;
-  d.rect(kx, ky - 9, 11, 11, "hm-unread");
-  d.text(kx + 15, ky, "not read", "key");
+  if (scale.any) colour_bar(d, p, scale, bar_x, top, std::max(plate_h, 150.0));
+  heat_key(d, left, top + std::max(plate_h, 150.0) + 16);
   return d.str({{"class", "heatmap"},
                 {"width", d.n(width)},
                 {"role", "img"},
