@@ -48,6 +48,11 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     if (!in.profile.empty()) j["profile"] = in.profile;
     if (!in.shape.empty()) j["shape"] = in.shape;
     if (!in.sheet.empty()) j["sheet"] = in.sheet;
+    if (!in.metadata.empty()) {
+      ordered_json meta = ordered_json::array();
+      for (const auto& [k, v] : in.metadata) meta.push_back({{"key", k}, {"value", v}});
+      j["metadata"] = meta;
+    }
     inputs.push_back(j);
   }
   prov["inputs"] = inputs;

@@ -191,10 +191,10 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet});
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet, f.run->metadata});
     // A profile file is an input once, however many exports it read.
     if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
-      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", ""});
+      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}});
     out.analyses.push_back(std::move(f.analysis));
   }
 

@@ -78,4 +78,14 @@ inline SimPlateFiles write_sim_plate(const std::string& dir, PlateFormat f, std:
   return out;
 }
 
+// The part of datapackage.json the report reads, for one unconverted channel of a 96-well
+// plate with no plate-map columns (as `vzero rates` writes it; see src/outputs.cpp).
+inline std::string mini_package(const std::string& source, const std::string& channel, const std::string& direction) {
+  return fmt::format(
+      R"({{"vzero": {{"map_columns": [], "channels": [{{"source": "{}", "channel": "{}", "conversion": "signal-only",
+      "v0_unit": "AU/min", "slope_unit": "AU/min", "plate": {{"wells": 96, "rows": 8, "columns": 12}},
+      "direction": "{}", "conc_per_signal": 1}}]}}}})",
+      source, channel, direction);
+}
+
 }  // namespace vzero::test

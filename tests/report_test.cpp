@@ -163,6 +163,15 @@ TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
   CHECK_MESSAGE(found, "sha256 " << digest << " not in the provenance table");
   CHECK(html.find("<dt>epsilon</dt><dd>18000</dd>") != std::string::npos);
   CHECK(html.find("no clock time") != std::string::npos);
+  // What the export says of itself (demo-data/hydrolase_wide.csv's header lines), and only
+  // the options that applied: a fixed path, so no water-band settings in the list.
+  for (const char* meta : {"<dt>Operator</dt><dd>demo</dd>", "<dt>Plate ID</dt><dd>DEMO-0001</dd>",
+                           "<dt>Run started</dt><dd>2026-11-30 10:15</dd>"})
+    CHECK_MESSAGE(html.find(meta) != std::string::npos, meta);
+  CHECK(html.find("<dt>water-k</dt>") == std::string::npos);
+  CHECK(html.find("<dt>path-cm</dt><dd>0.5</dd>") != std::string::npos);
+  CHECK(html.find("not applicable to this run (another path was taken): standard-read, water-high, water-k, "
+                  "water-low.") != std::string::npos);
 
   // One heat map with a cell per well; the summary table has a row per group.
   auto maps = find(root, "svg", "heatmap");
@@ -182,6 +191,18 @@ TEST_CASE("demo report from the files of a run: structure, provenance, fit") {
   for (const char* p : {"Vmax", "Km", "Kic", "v = Vmax*S/(Km*(1 + I/Kic) + S)"})
     CHECK_MESSAGE(fit_text.find(p) != std::string::npos, p);
   CHECK(find(*fits[0], "figure", "chart").size() == 3);
+  // The sample rows of the 5 nM group the fit left out (flagged in rates.csv) are drawn
+  // apart in the v–S chart, one mark each.
+  std::size_t left_out = 0;
+  for (const auto& row : rates.rows)
+    if (row[rates.column("role")] == "sample" && row[rates.column("enzyme_nM")] == "5" &&
+        !row[rates.column("flags")].empty())
+      ++left_out;
+  REQUIRE(left_out == 9);  // the fit's note: "skipped 9 flagged rows"
+  auto hollow = find(*fits[0], "path", "left-out");
+  REQUIRE(hollow.size() == 1);
+  const std::string hd = hollow[0]->attr("d");
+  CHECK(static_cast<std::size_t>(std::count(hd.begin(), hd.end(), 'M')) == left_out);
   auto bands = find(*fits[0], "polygon", "ci-band");
   REQUIRE(bands.size() == 2);
   CHECK(find(*fits[0], "path", "fit-curve").size() == 4);  // v–S and double-reciprocal, two levels each
@@ -211,7 +232,7 @@ TEST_CASE("the same inputs give the same bytes, in the rates call or from the fi
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   CHECK(test::slurp(dir / "again.html") == inline_html);
   // --date is the only way a date gets in.
-  r = test::run_vzero("report --rates rates.csv -q --date 2026-03-14 -o dated.html", dir.path.string());
+  r = test::run_vzero("report rates.csv -q --date 2026-03-14 -o dated.html", dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   CHECK(test::slurp(dir / "dated.html").find("date: 2026-03-14") != std::string::npos);
   CHECK(inline_html.find("date:") == std::string::npos);
@@ -243,35 +264,41 @@ TEST_CASE("1536-well plate: a heat-map overview and the panels in blocks of 8 x 
   CHECK(find(*doc.root, "path", "hm-flag").size() >= 4);
 }
 
-TEST_CASE("without traces, fit or package the page still renders and says what is missing") {
+TEST_CASE("without traces, summary or fit the page still renders and says what is missing; no package is an error") {
   test::TempDir dir;
   run_demo(dir);
-  auto r = test::run_vzero("report --rates rates.csv -o bare.html", dir.path.string());
+  auto r = test::run_vzero("report --rates rates.csv --package datapackage.json -o bare.html", dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   CHECK(r.out.rfind("wrote bare.html (", 0) == 0);
   const std::string html = test::slurp(dir / "bare.html");
   check_structure(html, read_table(dir / "rates.csv"));
   CHECK(html.find("No traces table was given: panels show the window but no curve (pass --traces).") !=
         std::string::npos);
-  CHECK(html.find("No datapackage.json was given: the inputs, their checksums and the options are not known to this "
-                  "report (pass --package).") != std::string::npos);
   CHECK(html.find("No summary table was given (pass --summary).") != std::string::npos);
   CHECK(html.find("id=\"fits\"") == std::string::npos);
+  // The report does not guess the plate, direction or map columns: datapackage.json is required.
+  r = test::run_vzero("report --rates rates.csv -o x.html", dir.path.string());
+  CHECK(r.status == 2);
+  CHECK(r.err.find("--rates needs --package datapackage.json") != std::string::npos);
   // Points of the fit without --diagnostics: taken from the fitted table at the fit's lines.
-  r = test::run_vzero("report --rates rates.csv --fit fit.json -q -o fit_only.html", dir.path.string());
+  r = test::run_vzero("report --rates rates.csv --package datapackage.json --fit fit.json -q -o fit_only.html",
+                      dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   auto doc = test::parse_xml(test::slurp(dir / "fit_only.html"));
   REQUIRE(doc.error == "");
-  auto pts = find(*doc.root, "path", "pt");
+  auto pts =
+      doc.root->all([](const XmlNode& n) { return n.name == "path" && n.has_class("pt") && !n.has_class("left-out"); });
   REQUIRE(pts.size() == 6);  // two levels in each of three charts
   CHECK(test::slurp(dir / "fit_only.html").find("No observed points") == std::string::npos);
 }
 
 TEST_CASE("a falling, unconverted signal is drawn in the reaction direction with its line on it") {
   // One well, signal falling 0.01 per s (e.g. NADH consumed), rate given per minute in the
-  // reaction direction: slope 0.6 AU/min, intercept 0; no package, so the direction is
-  // inferred from which sign the line fits.
+  // reaction direction: slope 0.6 AU/min, intercept 0; datapackage.json records the
+  // direction "down".
   ReportInput in;
+  in.package_json = test::mini_package("x.csv", "A340", "down");
+  in.package_source = "datapackage.json";
   in.rates = parse_table("r.csv",
                          "source,channel,well,row,column,role,v0,v0_se,v0_unit,slope,slope_unit,intercept,t_start_s,"
                          "t_end_s,flags\nx.csv,A340,B2,B,2,sample,0.6,0.01,AU/min,0.6,AU/min,0,20,80,\n");
@@ -313,6 +340,8 @@ TEST_CASE("a falling, unconverted signal is drawn in the reaction direction with
 
 TEST_CASE("errors name the file, the column and the fix") {
   ReportInput in;
+  in.package_json = test::mini_package("x.csv", "A405", "up");
+  in.package_source = "datapackage.json";
   in.rates = parse_table("r.csv", "source,channel,well,role,v0\nx.csv,A405,A1,sample,1\n");
   try {
     (void)render_report(in);
@@ -345,8 +374,7 @@ TEST_CASE("errors name the file, the column and the fix") {
   in.rates = parse_table("r.csv",
                          "source,channel,well,role,v0,v0_unit,slope,intercept,t_start_s,t_end_s,flags\n"
                          "x.csv,A405,A1,sample,1,uM/min,1,0,0,60,\n");
-  in.fit_json = "{x";
-  in.fit_source = "fit.json";
+  in.fits = {{"{x", "fit.json", std::nullopt}};
   try {
     (void)render_report(in);
     FAIL("expected an InputError");
@@ -357,20 +385,39 @@ TEST_CASE("errors name the file, the column and the fix") {
           "while parsing object key - invalid literal; last read: '{x'; expected string literal\n"
           "  possible fix: give the file vzero wrote, unchanged");
   }
-  in.fit_json = "{}";
+  in.fits = {{"{}", "fit.json", std::nullopt}};
   try {
     (void)render_report(in);
     FAIL("expected an InputError");
   } catch (const InputError& e) {
     CHECK(e.formatted() == "fit.json: expected a \"fits\" list\n  possible fix: give the --json file vzero fit wrote");
   }
+  in.fits.clear();
+  in.package_json = test::mini_package("x.csv", "A405", "sideways");
+  try {
+    (void)render_report(in);
+    FAIL("expected an InputError");
+  } catch (const InputError& e) {
+    CHECK(e.formatted() ==
+          "datapackage.json: expected vzero.channels[].direction \"up\" or \"down\"; found \"sideways\"\n"
+          "  possible fix: give the datapackage.json vzero rates wrote beside this rates table, unchanged");
+  }
+  in.package_json = "";
+  try {
+    (void)render_report(in);
+    FAIL("expected an InputError");
+  } catch (const InputError& e) {
+    CHECK(e.formatted().rfind("r.csv: the report needs the run's datapackage.json", 0) == 0);
+  }
   auto r = test::run_vzero("report -o x.html");
   CHECK(r.status == 2);
   CHECK(r.err ==
-        "vzero report: --rates rates.csv is required (the table vzero rates wrote)\n  see: vzero report --help\n");
-  r = test::run_vzero("report --rates /nonexistent/rates.csv -o x.html");
+        "vzero report: give the run folder (vzero report RUN_FOLDER) or --rates rates.csv\n  see: vzero report "
+        "--help\n");
+  r = test::run_vzero("report /nonexistent/run");
   CHECK(r.status == 1);
-  CHECK(r.err.rfind("/nonexistent/rates.csv: cannot open /nonexistent/rates.csv: No such file or directory", 0) == 0);
+  CHECK(r.err.rfind("/nonexistent/run: expected a run folder or its rates table; \"/nonexistent/run\" does not exist",
+                    0) == 0);
 }
 
 TEST_CASE("report options are validated") {
@@ -388,7 +435,7 @@ TEST_CASE("report options are validated") {
   CHECK_THROWS_AS((void)render_report(in, o), UsageError);
   auto r = test::run_vzero("report --help");
   CHECK(r.status == 0);
-  CHECK(r.out.rfind("usage: vzero report --rates rates.csv", 0) == 0);
+  CHECK(r.out.rfind("usage: vzero report RUN_FOLDER|rates.csv", 0) == 0);
 }
 
 TEST_CASE("a fluorescence run with standards shows its standard curve (REFERENCES §7 values)") {

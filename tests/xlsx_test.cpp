@@ -6,6 +6,7 @@
 #include <filesystem>
 
 #include "ingest/xlsx.hpp"
+#include <nlohmann/json.hpp>
 #include "test_support.hpp"
 #include "vzero/ingest.hpp"
 
@@ -103,8 +104,16 @@ TEST_CASE("--sheet chooses the sheet; a name not in the workbook lists the sheet
                                  demo("hydrolase_map.csv") + "' -q -o rates.csv",
                              dir.path.string());
     REQUIRE(r.status == 0);
-    CHECK(slurp(dir / "datapackage.json").find("\"shape\": \"wide\",\n        \"sheet\": \"Plate\"\n") !=
-          std::string::npos);
+    const auto pkg = nlohmann::json::parse(slurp(dir / "datapackage.json"));
+    int exports = 0;
+    for (const auto& in : pkg["vzero"]["inputs"])
+      if (in["kind"] == "export") {
+        ++exports;
+        CHECK(in["shape"] == "wide");
+        CHECK(in["sheet"] == "Plate");
+        CHECK(in["path"].get<std::string>().find("two_sheets.xlsx") != std::string::npos);
+      }
+    CHECK(exports == 1);
   }
   const auto wrong = run_vzero("inspect '" + book("two_sheets.xlsx") + "' --sheet plate");
   CHECK(wrong.status == 1);

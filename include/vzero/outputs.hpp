@@ -20,9 +20,11 @@ struct InputRecord {
   std::string kind;  // "export", "plate-map", "method", "profile"
   std::string path;
   std::string sha256;
-  std::string profile;  // for exports
-  std::string shape;    // for exports
-  std::string sheet;    // for exports that are workbooks: the sheet read
+  std::string profile;                                        // for exports
+  std::string shape;                                          // for exports
+  std::string sheet;                                          // for exports that are workbooks: the sheet read
+  std::vector<std::pair<std::string, std::string>> metadata;  // for exports: what the file says of itself
+                                                              // (operator, plate id, start time…), in file order
 };
 
 struct Provenance {

@@ -13,6 +13,7 @@
 #include "core/files.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
+#include "vzero/report.hpp"
 #include "vzero/table.hpp"
 
 namespace vzero::cli {
@@ -24,7 +25,7 @@ constexpr const char* k_usage = R"(usage: vzero fit TABLE.csv --x COLUMN [--y CO
                  [--model {models}|all]
                  [--inhibitor COLUMN] [--enzyme COLUMN] [--weight none|replicate-sd|relative]
                  [--include-flagged] [--role ROLE] [-o fit.csv] [--json fit.json]
-                 [--diagnostics FILE]
+                 [--diagnostics FILE] [--report report.html]
 
 Fits rate laws to initial rates by nonlinear least squares (Levenberg–Marquardt on the
 rates themselves, never on a linearised plot). TABLE is a rates table or a summary table
@@ -57,7 +58,9 @@ Output: a short table on stdout (not with -q, nor when an output file is '-'); -
 the tidy CSV (one row per group x model x parameter), --json the full results (covariance,
 correlation, starts, options), --diagnostics the linearised coordinates (1/S, 1/v; S, S/v;
 v/S, v) of every point and of the fitted curve. Files are written atomically; '-' writes
-that output to stdout instead. Exit status 0 when at least one fit succeeded, 1 when none
+that output to stdout instead. --report writes the run's report (vzero report) with this
+fit added: the table must sit in the folder vzero rates wrote, beside its datapackage.json.
+Exit status 0 when at least one fit succeeded, 1 when none
 did (the outputs are still written) or the input is bad, 2 for bad usage.
 
 example:
@@ -156,11 +159,23 @@ std::map<std::string, std::string> package_units(const std::string& table_path) 
   }
   return units;
 }
+// The run's report with this fit: the run's tables found beside the fitted table, the fit
+// and its points from memory.
+void write_report(const std::string& table, const std::string& path, const TableFit& result, const FitTableOptions& o,
+                  const std::string& json_path) {
+  ReportFiles files = find_run_files(table);
+  files.fits.clear();
+  ReportInput in = read_report_input(files);
+  in.fits.push_back({fit_json(result, o), json_path.empty() || json_path == "-" ? "the fit of this call" : json_path,
+                     parse_table("the fit's points", fit_diagnostics_csv(result))});
+  write_file_atomic(path, render_report(in));
+}
+
 }  // namespace
 
 int cmd_fit(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag;
+  std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag, report;
   std::vector<std::string> groups, models{"mm"}, start;
   FitOptions fit;
   po::options_description opts(usage());
@@ -178,6 +193,7 @@ int cmd_fit(const Args& args) {
       "output,o", po::value(&output), "write the tidy fit table here ('-' = stdout)")(
       "json", po::value(&json), "write all results as JSON here ('-' = stdout)")(
       "diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")(
+      "report", po::value(&report), "write the run's HTML report with this fit added (the table's run folder)")(
       "start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")(
       "confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")(
       "max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")(
@@ -236,6 +252,7 @@ int cmd_fit(const Args& args) {
     if (!output.empty() && output != "-") outs.push_back({"-o", output});
     if (!json.empty() && json != "-") outs.push_back({"--json", json});
     if (!diag.empty() && diag != "-") outs.push_back({"--diagnostics", diag});
+    if (!report.empty()) outs.push_back({"--report", report});
     detail::check_outputs({{"the table", file}}, outs);
   }
   Table table = read_table(file);
@@ -264,6 +281,7 @@ int cmd_fit(const Args& args) {
   if (!output.empty()) write_output(output, fit_csv(result));
   if (!json.empty()) write_output(json, fit_json(result, o));
   if (!diag.empty()) write_output(diag, fit_diagnostics_csv(result));
+  if (!report.empty()) write_report(file, report, result, o, json);
   if (to_stdout == 0 && vm.count("quiet") == 0) print_out(fit_text(result));
 
   int ok = 0;

@@ -1,11 +1,8 @@
 #include "vzero/report.hpp"
 
 #include <fmt/format.h>
-#include <cerrno>
-#include <cstring>
-#include <fstream>
-#include <sstream>
 
+#include "core/files.hpp"
 #include "report/report_model.hpp"
 #include "vzero/error.hpp"
 #include "vzero/outputs.hpp"
@@ -16,14 +13,7 @@ namespace vzero {
 namespace {
 
 std::string read_text(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
-    throw InputError(Where{path}, fmt::format("cannot open {}: {}", path, std::strerror(errno)),
-                     {"check the path and that the file is readable"});
-  }
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
+  return detail::read_whole_file(path, "check the path and that the file is readable").text;
 }
 
 // What the page says about itself: how to read it and why it holds no clock time.
@@ -53,15 +43,15 @@ std::string ReportOptions::validate() const {
 }
 
 ReportInput read_report_input(const ReportFiles& f) {
-  if (f.rates.empty()) throw UsageError("the report needs the rates table (--rates rates.csv)");
+  if (f.rates.empty()) throw UsageError("the report needs the rates table (--rates rates.csv, or the run folder)");
   ReportInput in;
   in.rates = read_table(f.rates);
   if (!f.traces.empty()) in.traces = read_table(f.traces);
   if (!f.summary.empty()) in.summary = read_table(f.summary);
-  if (!f.diagnostics.empty()) in.diagnostics = read_table(f.diagnostics);
-  if (!f.fit.empty()) {
-    in.fit_json = read_text(f.fit);
-    in.fit_source = f.fit;
+  for (const auto& path : f.fits) in.fits.push_back({read_text(path), path, std::nullopt});
+  if (!f.diagnostics.empty()) {
+    if (in.fits.empty()) throw UsageError("--diagnostics belongs to a fit: give the fit too (--fit fit.json)");
+    in.fits.front().diagnostics = read_table(f.diagnostics);
   }
   if (!f.package.empty()) {
     in.package_json = read_text(f.package);

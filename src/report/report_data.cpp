@@ -7,6 +7,7 @@
 #include "core/text.hpp"
 #include "report/report_model.hpp"
 #include "vzero/error.hpp"
+#include "vzero/svg.hpp"
 
 namespace vzero::detail::report {
 
@@ -43,6 +44,16 @@ std::string key_of(std::string_view source, std::string_view channel, std::strin
   return k;
 }
 
+// The plate facts of one (source, channel) as datapackage.json records them.
+const ChannelFacts& facts_of(const PageData& m, const Table& t, std::size_t r, const std::string& src,
+                             const std::string& ch) {
+  for (const auto& f : m.channels)
+    if (f.source == src && f.channel == ch) return f;
+  throw InputError(Where{t.source, t.line_of_row[r]},
+                   fmt::format("datapackage.json records no channel \"{}\" of \"{}\"", ch, src),
+                   {"give the datapackage.json written in the same vzero rates call as this rates table"});
+}
+
 void read_rates(const Table& t, PageData& m,
                 std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
   Columns c{t};
@@ -50,13 +61,13 @@ void read_rates(const Table& t, PageData& m,
   const int v0 = c.need("v0"), unit = c.need("v0_unit"), slope = c.need("slope"), intercept = c.need("intercept");
   const int t0 = c.need("t_start_s"), t1 = c.need("t_end_s"), flags = c.need("flags");
   const int se = c.opt("v0_se"), r2 = c.opt("r2"), conv = c.opt("conversion_pct"), np = c.opt("n_points");
-  const int no = c.opt("n_outliers"), tangent = c.opt("tangent"), slope_unit = c.opt("slope_unit");
-  // Plate-map columns sit between `role` and `v0` (the layout rates_csv writes).
+  const int no = c.opt("n_outliers"), tangent = c.opt("tangent");
+  // The plate-map columns are the ones datapackage.json names.
   std::vector<int> map_cols;
-  for (int k = role + 1; k < v0; ++k) {
-    map_cols.push_back(k);
-    m.map_columns.push_back(t.header[static_cast<std::size_t>(k)]);
-  }
+  for (const auto& name : m.map_columns)
+    map_cols.push_back(t.require_column(name,
+                                        "datapackage.json lists it as a plate-map column: give the rates "
+                                        "table written with it"));
   std::map<std::string, std::size_t> plate_of;
   for (std::size_t r = 0; r < t.rows.size(); ++r) {
     const std::string& src = c.cell(r, source);
@@ -68,16 +79,26 @@ void read_rates(const Table& t, PageData& m,
     std::string pk = key_of(src, ch, "");
     auto it = plate_of.find(pk);
     if (it == plate_of.end()) {
+      const ChannelFacts& f = facts_of(m, t, r, src, ch);
       PlateView p;
       p.id = fmt::format("p{}", m.plates.size() + 1);
       p.source = src;
       p.channel = ch;
       p.v0_unit = c.cell(r, unit);
-      if (slope_unit >= 0) p.signal_unit = per_min_stem(c.cell(r, slope_unit));
+      p.signal_unit = f.signal_unit;
+      p.format = f.format;
+      p.sign = f.sign;
+      p.converted = f.converted;
+      p.factor = f.factor;
       m.plates.push_back(std::move(p));
       it = plate_of.emplace(pk, m.plates.size() - 1).first;
     }
     PlateView& p = m.plates[it->second];
+    if (!p.format.holds(*id))
+      throw InputError(Where{t.source, t.line_of_row[r], t.column_of_cell[r][static_cast<std::size_t>(well)]},
+                       fmt::format("well {} lies outside the {}-well plate datapackage.json records", c.cell(r, well),
+                                   p.format.wells()),
+                       {"give the datapackage.json written in the same vzero rates call as this rates table"});
     WellView w;
     w.name = well_name(*id);
     w.id = *id;
@@ -100,90 +121,49 @@ void read_rates(const Table& t, PageData& m,
     w.n_outliers = no >= 0 ? static_cast<int>(c.number(r, no)) : 0;
     if (tangent >= 0) w.tangent = c.cell(r, tangent);
     w.line = t.line_of_row[r];
+    w.factor = p.converted ? p.factor : 1;
     index[key_of(src, ch, w.name)] = {it->second, p.wells.size()};
+    p.by_index[p.format.index(*id)] = p.wells.size();
     p.wells.push_back(std::move(w));
-  }
-  for (auto& p : m.plates) {
-    std::vector<WellId> ids;
-    for (std::size_t k = 0; k < p.wells.size(); ++k) ids.push_back(p.wells[k].id);
-    auto f = smallest_format_holding(ids);
-    p.format = f ? *f : PlateFormat{32, 48};
-    for (std::size_t k = 0; k < p.wells.size(); ++k) p.by_index[p.format.index(p.wells[k].id)] = k;
   }
 }
 
-// `direction`: +1 up, −1 down, 0 unknown (then inferred for unconverted channels).
+// The traces as drawn: the concentration when the channel was converted, else the
+// blank-corrected signal times the recorded direction (+1 up, −1 down).
 void read_traces(const Table& t, PageData& m,
-                 const std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index, int direction) {
+                 const std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
   Columns c{t};
   const int source = c.need("source"), channel = c.need("channel"), well = c.need("well"), time = c.need("time_s");
   const int corrected = c.need("corrected"), used = c.need("used");
-  const int status = c.opt("status"), conc = c.opt("concentration"), raw = c.opt("raw");
-  // Corrected signal and concentration per plate and well, until the plate's sign is known.
-  std::vector<std::vector<std::vector<double>>> corr(m.plates.size());
-  for (std::size_t p = 0; p < m.plates.size(); ++p) corr[p].resize(m.plates[p].wells.size());
-  std::vector<std::vector<std::vector<double>>> concs = corr;
+  const int status = c.opt("status"), raw = c.opt("raw");
+  const int conc = c.opt("concentration");
   for (std::size_t r = 0; r < t.rows.size(); ++r) {
     auto id = parse_well(c.cell(r, well));
     if (!id) continue;
     auto it = index.find(key_of(c.cell(r, source), c.cell(r, channel), well_name(*id)));
     if (it == index.end()) continue;  // a well the rates table does not hold
     auto [pi, wi] = it->second;
-    WellView& w = m.plates[pi].wells[wi];
-    m.plates[pi].has_traces = true;
+    PlateView& p = m.plates[pi];
+    WellView& w = p.wells[wi];
+    p.has_traces = true;
+    const double corr = c.number(r, corrected);
     w.time_s.push_back(c.number(r, time));
     w.raw.push_back(c.number(r, raw));
     w.status.push_back(status >= 0 ? std::string(trim(c.cell(r, status))) : "ok");
     w.used.push_back(trim(c.cell(r, used)) == "1" ? 1 : 0);
-    corr[pi][wi].push_back(c.number(r, corrected));
-    concs[pi][wi].push_back(c.number(r, conc));
-  }
-  for (std::size_t pi = 0; pi < m.plates.size(); ++pi) {
-    PlateView& p = m.plates[pi];
-    // Converted when any concentration is given; the sign of concentration/corrected is
-    // the reaction direction (concentrations are written in the reaction direction).
-    bool sign_known = false;
-    for (std::size_t wi = 0; wi < p.wells.size(); ++wi)
-      for (std::size_t i = 0; i < concs[pi][wi].size(); ++i) {
-        double a = concs[pi][wi][i], b = corr[pi][wi][i];
-        if (std::isfinite(a)) p.converted = true;
-        if (!sign_known && std::isfinite(a) && std::isfinite(b) && a != 0 && b != 0) {
-          p.sign = (a / b) < 0 ? -1 : 1;
-          sign_known = true;
-        }
-      }
-    if (!p.converted && direction != 0) {
-      p.sign = direction;
-    } else if (!p.converted && !sign_known) {
-      // Unconverted: the direction decides whether the line (in the reaction direction)
-      // matches +corrected or −corrected; take the one the wells' lines fit better.
-      double plus = 0, minus = 0;
-      for (std::size_t wi = 0; wi < p.wells.size(); ++wi) {
-        const WellView& w = p.wells[wi];
-        for (std::size_t i = 0; i < w.time_s.size(); ++i) {
-          if (!w.used[i] || !std::isfinite(corr[pi][wi][i])) continue;
-          double line = w.intercept + w.slope_per_min / 60.0 * w.time_s[i];
-          if (!std::isfinite(line)) continue;
-          plus += std::fabs(line - corr[pi][wi][i]);
-          minus += std::fabs(line + corr[pi][wi][i]);
-        }
-      }
-      p.sign = minus < plus ? -1 : 1;
+    if (!p.converted) {
+      w.y.push_back(p.sign * corr);
+      continue;
     }
-    for (std::size_t wi = 0; wi < p.wells.size(); ++wi) {
-      WellView& w = p.wells[wi];
-      for (std::size_t i = 0; p.converted && i < w.time_s.size() && std::isnan(w.factor); ++i) {
-        double a = concs[pi][wi][i], b = corr[pi][wi][i];
-        if (std::isfinite(a) && std::isfinite(b) && b != 0) w.factor = std::fabs(a / b);
-      }
-      w.y.resize(w.time_s.size());
-      for (std::size_t i = 0; i < w.time_s.size(); ++i)
-        w.y[i] = p.converted ? concs[pi][wi][i] : p.sign * corr[pi][wi][i];
-    }
+    if (conc < 0) t.require_column("concentration", "a converted channel's traces carry its concentration");
+    const double y = c.number(r, conc);
+    w.y.push_back(y);
+    // A factor that varies per well (a path per well) is the ratio the trace records.
+    if (std::isnan(w.factor) && std::isfinite(y) && std::isfinite(corr) && corr != 0) w.factor = std::fabs(y / corr);
   }
 }
 
-// Sets the drawn-units factor of every well and the plates' units and time axes.
+// Sets the plates' units and time axes.
 void finish_plates(PageData& m) {
   for (auto& p : m.plates) {
     std::string stem = per_min_stem(p.v0_unit);
@@ -194,14 +174,6 @@ void finish_plates(PageData& m) {
         if (std::isfinite(t)) t0 = std::min(t0, t), t1 = std::max(t1, t);
       for (double t : {w.t_start_s, w.t_end_s})
         if (std::isfinite(t)) t0 = std::min(t0, t), t1 = std::max(t1, t);
-      if (!p.converted) {
-        w.factor = 1;
-        continue;
-      }
-      // v0 = slope · factor, both per minute; when the slope is 0 or missing, the ratio of
-      // the drawn concentration to the corrected signal (read_traces) stands.
-      if (std::isfinite(w.v0) && std::isfinite(w.slope_per_min) && w.slope_per_min != 0)
-        w.factor = w.v0 / w.slope_per_min;
     }
     p.t_min_s = std::isfinite(t0) ? std::min(t0, 0.0) : 0;
     p.t_max_s = std::isfinite(t1) && t1 > p.t_min_s ? t1 : p.t_min_s + 1;
@@ -274,26 +246,17 @@ std::string export_names(const PageData& m) {
 
 PageData build_model(const ReportInput& in) {
   PageData m;
-  auto parse = [](const std::string& text, const std::string& name) {
-    try {
-      return nlohmann::json::parse(text);
-    } catch (const nlohmann::json::parse_error& e) {
-      throw InputError(Where{name}, fmt::format("cannot read the JSON: {}", e.what()),
-                       {"give the file vzero wrote, unchanged"});
-    }
-  };
-  if (!in.package_json.empty()) m.package = parse(in.package_json, in.package_source);
-  if (!in.fit_json.empty()) m.fit = parse(in.fit_json, in.fit_source);
-  // The direction the run was analysed in, when the package records it (0 = unknown).
-  int direction = 0;
-  if (m.package.is_object()) {
-    const auto& opts = member(member(m.package, "vzero"), "options");
-    if (opts.is_object() && opts.contains("direction") && opts["direction"].is_string())
-      direction = opts["direction"].get<std::string>() == "down" ? -1 : 1;
-  }
+  if (in.package_json.empty())
+    throw InputError(Where{in.rates.source},
+                     "the report needs the run's datapackage.json: it records each channel's plate, reaction "
+                     "direction and conversion factor, and which columns came from the plate map",
+                     {"give the run folder or its rates.csv (vzero report RUN_FOLDER), or --package datapackage.json"});
+  m.package = parse_json(in.package_json, in.package_source);
+  read_package(m, in.package_source);
+  for (const auto& f : in.fits) m.fits.push_back(read_fit(f));
   std::unordered_map<std::string, std::pair<std::size_t, std::size_t>> index;
   read_rates(in.rates, m, index);
-  if (in.traces) read_traces(*in.traces, m, index, direction);
+  if (in.traces) read_traces(*in.traces, m, index);
   finish_plates(m);
   return m;
 }

@@ -33,9 +33,13 @@ struct WellView {
   std::vector<double> time_s, y, raw;
   std::vector<std::string> status;
   std::vector<char> used;
-  double factor = NAN;  // drawn units per signal unit (for the fitted line)
+  double factor = NAN;  // drawn units per signal unit (for the fitted line): the recorded
+                        // conversion factor, 1 when unconverted
 
   bool flagged() const;  // any flag other than "empty"
+  // A sample well with a flag: its rate is not to be trusted as it stands (blanks,
+  // standards and empty wells carry flags that describe them, not a rate in doubt).
+  bool distrusted() const { return role == "sample" && flagged(); }
   // The fitted line in drawn units at time t: factor·(intercept + slope·t).
   double line_at(double t_s) const { return factor * (intercept + slope_per_min / 60.0 * t_s); }
 };
@@ -49,17 +53,37 @@ struct PlateView {
   std::string signal_unit;              // the channel's signal unit ("AU"), from slope_unit
   bool converted = false;               // the trace is a concentration
   double sign = 1;                      // −1 when the reaction makes the signal fall
+  double factor = NAN;                  // concentration per signal unit; NaN when it varies per well
   std::vector<WellView> wells;          // rates.csv order
   std::map<int, std::size_t> by_index;  // plate index → position in wells
   double t_min_s = 0, t_max_s = 1;      // shared time axis
   bool has_traces = false;
 };
 
+// What datapackage.json records about one channel of one export.
+struct ChannelFacts {
+  std::string source, channel;
+  PlateFormat format;
+  double sign = 1;         // direction: −1 down
+  bool converted = false;  // conversion other than signal-only
+  double factor = NAN;     // conc_per_signal; NaN when per well
+  std::string signal_unit;
+};
+
+// One fit document (fit.json, or a fit table turned into the same shape).
+struct FitView {
+  nlohmann::json doc;
+  std::string source;
+  const Table* diagnostics = nullptr;  // the fit's points, when given
+  bool from_table = false;             // read from a fit CSV: no covariance, no source lines
+};
+
 struct PageData {
   std::vector<PlateView> plates;
-  std::vector<std::string> map_columns;  // rates.csv columns between role and v0
-  nlohmann::json package;                // null when not given
-  nlohmann::json fit;                    // null when not given
+  std::vector<ChannelFacts> channels;    // from datapackage.json
+  std::vector<std::string> map_columns;  // datapackage.json's map_columns
+  nlohmann::json package;
+  std::vector<FitView> fits;
   // Finds the plate of (source, channel); nullptr if none.
   const PlateView* plate(const std::string& source, const std::string& channel) const;
   // The anchor of `well` in the first plate of `channel` that holds it, "" if none.
@@ -68,6 +92,14 @@ struct PageData {
 
 // Builds the model; InputError for missing columns or bad cells (file:line:column).
 PageData build_model(const ReportInput& input);
+
+// JSON text parsed, or InputError naming `name`.
+nlohmann::json parse_json(const std::string& text, const std::string& name);
+// Fills m.channels and m.map_columns from m.package; InputError naming `source` for a
+// missing or mistyped field.
+void read_package(PageData& m, const std::string& source);
+// A fit document from fit.json text, or from a fit table (vzero fit -o).
+FitView read_fit(const ReportFit& fit);
 
 // j[key] when j is an object holding key, else a null value (never inserts, never throws).
 const nlohmann::json& member(const nlohmann::json& j, const char* key);
@@ -83,9 +115,13 @@ std::string export_names(const PageData& m);
 std::string render_header(const PageData& m, const ReportOptions& o);
 std::string render_flags(const PageData& m);
 std::string render_plate(const PlateView& p, const ReportOptions& o);
+std::string heat_map(const PlateView& p);
+// A well's hover text: plate-map entries, v0, window, flags.
+std::string tooltip(const PlateView& p, const WellView& w);
 std::string render_standard_curves(const PageData& m);
 std::string render_summary(const PageData& m, const Table& summary);
 std::string render_fits(const PageData& m, const ReportInput& input);
+std::string render_fit(const PageData& m, const FitView& fit, const ReportInput& input);
 std::string page_css();
 
 // What each flag word means, in the report's words; "" for an unknown flag.

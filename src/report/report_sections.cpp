@@ -29,6 +29,56 @@ std::string pairs_list(const json& obj, const char* cls) {
   return h + "</dl>";
 }
 
+// Whether a recorded option had any effect, judged from the options in effect: settings
+// of a path not taken (water band on a fixed path, standard read without standards, blank
+// mode without blanks, tangent settings when no tangent is tried) did not apply.
+bool applies(const std::string& key, const json& opts) {
+  auto is = [&](const char* k, const char* v) { return text_of(member(opts, k)) == v; };
+  const bool signal_only = is("signal-only", "true"), water = is("water-peak", "true");
+  const bool standards = is("standards", "true");
+  if (key == "water-high" || key == "water-low" || key == "water-k") return water && !signal_only;
+  if (key == "path-cm") return !water && !standards && !signal_only;
+  if (key == "epsilon") return !standards && !signal_only;
+  if (key == "standard-read") return standards && !signal_only;
+  if (key == "conc-unit" || key == "max-conversion") return !signal_only;
+  if (key == "blank-mode" || key == "blank-noise-factor") return !is("blank", "none");
+  if (key == "curvature-alpha" || key == "curvature-min-pct") return is("window", "auto");
+  if (key == "tangent") return !is("window", "steepest");
+  if (key == "tangent-span") return !is("window", "steepest") && !is("tangent", "never");
+  if (key == "tangent-min-reads" || key == "tangent-alpha") return !is("window", "steepest") && is("tangent", "auto");
+  return true;
+}
+
+// The options that applied, and a line naming the ones recorded that did not.
+std::string options_list(const json& opts) {
+  std::string h = "<dl class=\"options\">", skipped;
+  for (const auto& [k, v] : opts.items()) {
+    if (applies(k, opts))
+      h += "<div><dt>" + escape(k) + "</dt><dd>" + escape(text_of(v)) + "</dd></div>";
+    else
+      skipped += (skipped.empty() ? "" : ", ") + escape(k);
+  }
+  h += "</dl>\n";
+  if (!skipped.empty())
+    h += "<p class=\"note\">Recorded but not applicable to this run (another path was taken): " + skipped + ".</p>\n";
+  return h;
+}
+
+// What each export says of itself (operator, plate id, start time…), as recorded.
+std::string export_metadata(const json& prov) {
+  std::string rows;
+  for (const auto& in : member(prov, "inputs")) {
+    const json& meta = member(in, "metadata");
+    if (!meta.is_array() || meta.empty()) continue;
+    std::string cells;
+    for (const auto& kv : meta)
+      cells += "<div><dt>" + escape(text_of(member(kv, "key"))) + "</dt><dd>" + escape(text_of(member(kv, "value"))) +
+               "</dd></div>";
+    rows += "<h4>" + escape(text_of(member(in, "path"))) + "</h4><dl class=\"options\">" + cells + "</dl>\n";
+  }
+  return rows.empty() ? std::string() : "<h3>From the exports</h3>\n" + rows;
+}
+
 }  // namespace
 
 std::string flag_meaning(const std::string& flag) {
@@ -81,15 +131,10 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
       }
   }
   h += "<a href=\"#summary\">Replicates</a>";
-  if (m.fit.is_object()) h += "<a href=\"#fits\">Kinetics fit</a>";
+  if (!m.fits.empty()) h += "<a href=\"#fits\">Kinetics fit</a>";
   h += "</nav>\n</header>\n";
 
   h += "<section id=\"provenance\">\n<h2>Provenance</h2>\n";
-  if (!prov.is_object()) {
-    h += "<p class=\"warn\">No datapackage.json was given: the inputs, their checksums and the options are not "
-         "known to this report (pass --package).</p>\n</section>\n";
-    return h;
-  }
   h += "<table class=\"inputs\"><thead><tr><th>input</th><th>file</th><th>read "
        "as</th><th>sha256</th></tr></thead><tbody>";
   for (const auto& in : member(prov, "inputs")) {
@@ -108,7 +153,8 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
          "</td><td>" + escape(conv) + "</td><td>" + escape(display_unit(text_of(member(ch, "v0_unit")))) + "</td></tr>";
   }
   h += "</tbody></table>\n";
-  h += "<h3>Options used</h3>\n" + pairs_list(member(prov, "options"), "options") + "\n";
+  h += export_metadata(prov);
+  h += "<h3>Options used</h3>\n" + options_list(member(prov, "options"));
   if (member(prov, "detected").is_object() && !member(prov, "detected").empty())
     h += "<h3>Chosen by vzero</h3>\n" + pairs_list(member(prov, "detected"), "options") + "\n";
   h += "</section>\n";

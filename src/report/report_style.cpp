@@ -58,19 +58,27 @@ a.up{font-size:.8rem;font-weight:400;margin-left:1em}
 .well.role-blank .frame{fill:#f5f2ea}
 .well.role-standard .frame{fill:#edf3f8}
 .well.role-empty .frame{fill:#fbfbfb;stroke-dasharray:2 2}
-.well.flagged .frame{stroke:#D55E00;stroke-width:1}
+.well.own-scale .frame{fill:#f3f3f3}
+.well.flagged .frame,.key-frame.flagged{stroke:#D55E00;stroke-width:1.4}
+.key-frame{fill:#fff}
 .unread-well{fill:none;stroke:#dfe3e7;stroke-dasharray:1 3}
 .window{fill:#56B4E9;fill-opacity:.28;stroke:none}
 .trace{fill:none;stroke:#7a828c;stroke-width:.9;stroke-linejoin:round}
 .used{fill:none;stroke:#1d2229}
+.window-ext{fill:#56B4E9;fill-opacity:.12;stroke:none}
 .fit-line{fill:none;stroke:#0072B2;stroke-width:1.8}
-.fit-line.tangent{stroke-dasharray:4 2}
+.fit-curve-well{fill:none;stroke:#0072B2;stroke-width:1.8}
+.fit-line.tangent{stroke:#D55E00;stroke-width:1.3;stroke-dasharray:3.5 2}
+.scale-bar{stroke:#1d2229;stroke-width:1.6}
+.ytick{font-size:6.5px;fill:#434b55}
+.scale-label{font-size:8px;fill:#1d2229}
 .outlier{fill:none;stroke:#D55E00;stroke-width:1.3}
 .unread{fill:#E69F00;stroke:#7a4f00;stroke-width:.4}
 .wname{font-size:10px;font-weight:700;fill:#1d2229}
 .wrole{font-size:8px;fill:#5b6470}
 .wv0{font-size:9px;fill:#1d2229}
 .wflags{font-size:7.6px;fill:#9a3d00}
+.wflags.quiet{fill:#5b6470}
 .wnote{font-size:8px;fill:#8a939c}
 .hm-cell{stroke:none}
 .hm-empty{fill:#fff;stroke:#aab2ba;stroke-width:.8;stroke-dasharray:2 1.5}
@@ -90,6 +98,7 @@ a.up{font-size:.8rem;font-weight:400;margin-left:1em}
 .ci-band{fill-opacity:.16;stroke:none}
 .fit-curve{fill:none;stroke-width:1.8}
 .pt,.legend-pt{fill:#fff;fill-opacity:.85;stroke-width:1.3}
+.pt.left-out{fill:none;stroke-dasharray:1.5 1}
 .zero{stroke:#5b6470;stroke-dasharray:3 3}
 .lod-band{fill:#CC79A7;fill-opacity:.14}
 @media print{
