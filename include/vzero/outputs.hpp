@@ -20,8 +20,10 @@ struct InputRecord {
   std::string kind;  // "export", "plate-map", "method", "profile"
   std::string path;
   std::string sha256;
-  std::string profile;  // for exports
-  std::string shape;    // for exports
+  std::string profile;                  // for exports
+  std::string shape;                    // for exports
+  std::vector<ReadFact> read;           // for exports: what the reader inferred (Run::read_facts)
+  std::vector<std::string> read_notes;  // for exports: lines read through (Run::read_notes)
 };
 
 struct Provenance {

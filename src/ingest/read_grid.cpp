@@ -1,6 +1,7 @@
 // Grid shape: per read a label line with the read time (grid.read_label, group 1; group 2
 // the temperature), a header of column numbers, then one line per plate row.
 #include <fmt/format.h>
+#include <algorithm>
 #include <cmath>
 
 #include "ingest/reader_common.hpp"
@@ -11,9 +12,10 @@ namespace vzero::detail {
 namespace {
 
 struct Layout {
-  std::vector<int> columns;   // 0-based plate columns, in header order
-  std::vector<int> rows;      // 0-based plate rows, in the order of the first read
-  std::vector<WellId> wells;  // slot order: row-major over rows × columns
+  std::vector<int> columns;    // 0-based plate columns, in header order
+  std::vector<int> rows;       // 0-based plate rows, in the order of the first read
+  std::vector<int> row_lines;  // the line of each in the first read
+  std::vector<WellId> wells;   // slot order: row-major over rows × columns
   int first_line = 0;
 };
 
@@ -23,6 +25,89 @@ struct Block {
   int label_line = 0;
   std::string label_text;
 };
+
+// The unit written right after the read time in a read label ("at 30 s", "at 2.5 min").
+std::optional<TimeUnit> unit_after(std::string_view rest) {
+  rest = trim(rest);
+  auto word = [&](std::string_view w) {
+    return rest.size() >= w.size() && iequals(rest.substr(0, w.size()), w) &&
+           (rest.size() == w.size() || !std::isalpha(static_cast<unsigned char>(rest[w.size()])));
+  };
+  if (word("s") || word("sec")) return TimeUnit::seconds;
+  if (word("min")) return TimeUnit::minutes;
+  if (word("h")) return TimeUnit::hours;
+  return std::nullopt;
+}
+
+// A line among a read's rows that is not a plate row but has a row's fields (the values of
+// each column): a row label off the plate's rows ("AG", "B.", "E:"), or another delimiter.
+void off_grid_row(const CompiledProfile& cp, std::string_view rl, char d, std::size_t columns, const Where& here) {
+  std::vector<Field> f;
+  split_fields_into(rl, d, f);
+  if (f.size() == columns + 2 && trim(f.back().text).empty()) f.pop_back();
+  if (f.size() == columns + 1 && looks_like_data_row(cp, rl, d)) {
+    throw InputError(here,
+                     fmt::format("expected a plate row label (A … H on a 96-well plate, A … AF at most), found \"{}\"",
+                                 trim(f[0].text)),
+                     {"correct the row label; every plate row of a read is read, none is skipped"});
+  }
+  if (auto e = delimiter_error(here, rl, d, columns + 1, "the values of a plate row")) throw *e;
+}
+
+// The error for two reads of a channel whose plate rows differ: at the read that lacks a row
+// the other has, where that row belongs (the line of the row found there instead, or the
+// line of its last row).
+[[noreturn]] void row_mismatch(const std::vector<int>& first, const std::vector<int>& first_lines,
+                               const std::vector<int>& rows, const std::vector<int>& row_lines, int label_line,
+                               Where where) {
+  std::size_t k = 0;
+  while (k < rows.size() && k < first.size() && rows[k] == first[k]) ++k;
+  const bool later_lacks = k < first.size() && std::find(rows.begin(), rows.end(), first[k]) == rows.end();
+  const std::vector<int>& lacking = later_lacks ? rows : first;
+  const std::vector<int>& lines = later_lacks ? row_lines : first_lines;
+  const int missing = later_lacks ? first[k] : rows[k];
+  where.line = k < lacking.size() ? lines[k] : lines.back();
+  throw InputError(where,
+                   fmt::format("expected row {} {} as in the {} of the channel, found {}", row_label(missing),
+                               k < lacking.size() ? "here" : "after row " + row_label(lacking.back()),
+                               later_lacks ? "first read" : fmt::format("read at line {}", label_line),
+                               k < lacking.size() ? "row " + row_label(lacking[k]) : std::string("none")),
+                   {"every read of a channel must cover the same wells; restore the missing row"});
+}
+
+bool column_header_look(std::string_view line, char d) {
+  std::vector<Field> f;
+  split_fields_into(line, d, f);
+  if (f.size() < 2 || !trim(f[0].text).empty()) return false;
+  for (std::size_t i = 1; i < f.size(); ++i)
+    if (!parse_number(trim(f[i].text)) && !(i + 1 == f.size() && trim(f[i].text).empty())) return false;
+  return true;
+}
+
+// A line outside any read that holds plate data: a header of column numbers or a plate row.
+// After a read ended by a line of another kind (`ended_line` > 0), the error is at that line.
+void stray_grid_line(const CompiledProfile& cp, std::string_view line, const Where& here, int ended_line,
+                     const std::string& ended_text, std::optional<InputError>& stray) {
+  const char d = cp.profile.delimiter ? cp.profile.delimiter : guess_delimiter(line);
+  if (d == 0) return;
+  std::vector<Field> f;
+  split_fields_into(line, d, f);
+  const bool row = parse_row_label(f[0].text) && looks_like_data_row(cp, line, d);
+  const bool header = column_header_look(line, d);
+  if (!row && !header) return;
+  const char* what = row ? "a plate row" : "a header of column numbers";
+  if (ended_line > 0) {
+    throw InputError(Where{here.file, ended_line, 1, ended_text},
+                     fmt::format("expected a plate row or the end of the read, found a line of another kind; {} "
+                                 "follows at line {}",
+                                 what, here.line),
+                     {"delete this line (or make it an empty line) so that the rows after it are read"});
+  }
+  // Kept for the end: when no line matches the read label at all, that is the better message.
+  if (!stray)
+    stray = InputError(here, fmt::format("expected a read label (`grid.read_label`) before {}, found none", what),
+                       {"restore the read label of this read, or make `grid.read_label` match it"});
+}
 
 }  // namespace
 
@@ -40,8 +125,11 @@ Run read_grid(ReaderInput in) {
   std::vector<double> vals;  // one read's values and statuses, row by row
   std::vector<ReadStatus> stats;
   std::string_view line;
-  bool pending_line = false;  // `line` must be handled again as an outside line
-  std::string header_text;    // the read's header line: its view dies when the row lines are fetched
+  bool pending_line = false;        // `line` must be handled again as an outside line
+  std::string header_text;          // the read's header line: its view dies when the row lines are fetched
+  int ended_line = 0;               // a line of another kind that ended a read's rows
+  std::optional<InputError> stray;  // plate data outside any read
+  std::string ended_text;
   const std::optional<PlateFormat> fixed = fixed_format(p);
 
   // In detection, a read cut short ends the reading only after a complete read: the first
@@ -68,20 +156,41 @@ Run read_grid(ReaderInput in) {
     if (auto s = match_section(in.cp, line)) {
       close_channel();
       section = *s;
+      section->line = ln;
+      ended_line = 0;
       continue;
     }
-    std::string time_text, temp_text;
+    re2::StringPiece time_sp, temp_sp;
     bool is_label = in.cp.read_label->NumberOfCapturingGroups() >= 2
-                        ? RE2::PartialMatch(line, *in.cp.read_label, &time_text, &temp_text)
-                        : RE2::PartialMatch(line, *in.cp.read_label, &time_text);
+                        ? RE2::PartialMatch(line, *in.cp.read_label, &time_sp, &temp_sp)
+                        : RE2::PartialMatch(line, *in.cp.read_label, &time_sp);
+    const std::string time_text(time_sp.data() ? std::string_view(time_sp.data(), time_sp.size()) : "");
+    const std::string temp_text(temp_sp.data() ? std::string_view(temp_sp.data(), temp_sp.size()) : "");
     if (!is_label) {
+      stray_grid_line(in.cp, line, Where{file, ln, 1, std::string(line)}, ended_line, ended_text, stray);
       match_capture(in.cp, line, run.metadata);
       continue;
     }
+    ended_line = 0;
     Block b;
     b.label_line = ln;
     b.label_text = std::string(line);
-    auto t = parse_time(time_text, p.time_unit, p.decimal);
+    TimeUnit unit = p.time_unit;
+    if (time_sp.data()) {
+      const auto after = static_cast<std::size_t>(time_sp.data() + time_sp.size() - line.data());
+      if (auto u = unit_after(line.substr(after))) {
+        unit = *u;
+        if (in.info.time_basis.empty())
+          in.info.time_basis = fmt::format("the read label at line {} (\"{}\")", ln, trim(line));
+      }
+    }
+    if (in.info.time_where.line == 0) {
+      in.info.time_where = Where{file, ln, 1, std::string(line)};
+      in.info.time_unit = unit;
+      if (in.info.time_basis.empty()) in.info.time_basis = p.time_unit_from;
+    }
+    in.info.saw_time(time_text);
+    auto t = parse_time(time_text, unit, p.decimal);
     if (!t) {
       bad_time_error(Where{file, ln, 1, std::string(line)}, time_text, p.time_unit, p.decimal,
                      "a read time in the read label",
@@ -113,6 +222,10 @@ Run read_grid(ReaderInput in) {
       header_text.assign(hline);
       char d = p.delimiter ? p.delimiter : guess_delimiter(hline);
       if (d == 0) d = '\t';
+      if (in.info.delimiter == 0) {
+        in.info.delimiter = d;
+        in.info.delimiter_line = p.delimiter ? 0 : hl;
+      }
       split_fields_into(hline, d, fields);
       std::vector<int> cols;
       for (std::size_t i = 1; i < fields.size(); ++i) {
@@ -150,16 +263,29 @@ Run read_grid(ReaderInput in) {
       std::vector<int> row_lines;
       std::string_view rl;
       bool more = false;
+      std::vector<int> blanks;  // blank lines among the rows, noted when a row follows
       while ((more = in.src.next(rl))) {
-        if (trim(rl).empty()) break;
+        int rln = in.src.line_number();
+        if (trim(rl).empty()) {
+          blanks.push_back(rln);
+          continue;
+        }
         split_views_into(rl, d, rf, scratch);
         auto row = parse_row_label(rf[0].text);
         if (!row) {
+          off_grid_row(in.cp, rl, d, cols.size(), Where{file, rln, rf[0].column, std::string(rl)});
           line = rl;
           pending_line = true;
+          ended_line = rln;
+          ended_text = std::string(rl);
           break;
         }
-        int rln = in.src.line_number();
+        for (int bl : blanks)
+          in.info.notes.push_back(
+              fmt::format("line {}: a blank line among the plate rows of the read at line {}, "
+                          "read through",
+                          bl, ln));
+        blanks.clear();
         if (rf.size() == cols.size() + 2 && trim(rf.back().text).empty()) rf.pop_back();
         if (rf.size() != cols.size() + 1) {
           if (in.prefix_only && read_before()) goto end_of_input;
@@ -193,6 +319,7 @@ Run read_grid(ReaderInput in) {
               stats[at + c] = ReadStatus::ok;
               break;
             case CellKind::overflow:
+              in.info.saw_overflow(rf[c + 1].text);
               stats[at + c] = ReadStatus::overflow;
               break;
             case CellKind::missing:
@@ -213,12 +340,17 @@ Run read_grid(ReaderInput in) {
       if (!current) {
         layout.columns = cols;
         layout.rows = rows;
+        layout.row_lines = row_lines;
         layout.first_line = ln;
         for (int r : rows)
           for (int c : cols) layout.wells.push_back(WellId{r, c});
-        current.emplace(section ? *section : default_section(p), layout.wells);
+        const SectionStart st = section ? *section : default_section(p);
+        in.info.channels.emplace_back(st.name, channel_basis(st, p));
+        current.emplace(st, layout.wells);
       } else if (cols != layout.columns || rows != layout.rows) {
         if (in.prefix_only && !more) goto end_of_input;
+        if (cols == layout.columns)
+          row_mismatch(layout.rows, layout.row_lines, rows, row_lines, ln, Where{file, 0, 1, ""});
         throw InputError(
             Where{file, ln, 0, b.label_text},
             fmt::format("the read at line {} has {} rows × {} columns; the first read of channel {} "
@@ -244,6 +376,7 @@ end_of_input:
                                   p.grid_read_label, at),
                       "try another profile with --profile"});
   }
+  if (stray) throw *stray;  // plate data no read label reads: nothing is dropped
   std::vector<WellId> all;
   for (const auto& d : done) all.insert(all.end(), d.first.wells().begin(), d.first.wells().end());
   run.format = decide_format(p, all, file, run.format_inferred);
