@@ -152,7 +152,7 @@ TEST_CASE("grid rows whose label is off the plate's rows are refused at their li
     CHECK(e.where().line == 4);
     CHECK(e.where().column == 1);
     CHECK(std::string(e.message()) ==
-          fmt::format("expected a plate row label (A … H on a 96-well plate, A … AF at most), found \"{}\"", bad));
+          fmt::format("expected a plate row label (A … Z, then AA … AF), found \"{}\"", bad));
   }
 }
 

@@ -48,12 +48,12 @@ std::string not_seconds(const Channel& c) {
   const double least = least_step_s(c.wells.size());
   if (step < least)
     return fmt::format(
-        "a median step of {} between reads of {} well{} (a plate reader needs at least {} s for "
+        "a median step of {:.4g} between reads of {} well{} (a plate reader needs at least {} s for "
         "that many wells)",
         step, c.wells.size(), c.wells.size() == 1 ? "" : "s", least);
   if (step < 1 && span < 60)
     return fmt::format(
-        "a median step of {} with all {} reads within {} (a whole run under a minute at "
+        "a median step of {:.4g} with all {} reads within {:.4g} (a whole run under a minute at "
         "sub-second steps, more likely minutes or hours)",
         step, c.reads(), span);
   return "";
@@ -74,10 +74,11 @@ void settle_time_unit(Run& run, const ReadInfo& info) {
     const double step = median_step(c.time_s), span = c.time_s.back() - c.time_s.front();
     throw InputError(
         info.time_where,
-        fmt::format("expected read times whose unit is stated, found plain numbers with no unit in the header or "
-                    "profile, and {}: not seconds. In minutes: a read every {} s over {} min; in hours: every {} "
-                    "min over {} h",
-                    why, step * 60, span, step * 60, span),
+        fmt::format(
+            "expected read times whose unit is stated, found plain numbers with no unit in the header or "
+            "profile, and {}: not seconds. In minutes: a read every {:.4g} s over {:.4g} min; in hours: every {:.4g} "
+            "min over {:.4g} h",
+            why, step * 60, span, step * 60, span),
         {"state the unit: pass --time-unit min (or h, or s), set `time_unit` in a profile, or name it in the "
          "time header, e.g. \"Time [min]\""});
   }
@@ -87,7 +88,7 @@ void settle_time_unit(Run& run, const ReadInfo& info) {
   if (!run.channels.empty() && run.channels.front().reads() > 1) {
     const Channel& c = run.channels.front();
     basis = fmt::format(
-        "no unit in the header or profile: read as seconds, a median step of {} s between reads of "
+        "no unit in the header or profile: read as seconds, a median step of {:.4g} s between reads of "
         "{} wells being plausible for a plate reader (time unit rule, README.md)",
         median_step(c.time_s), c.wells.size());
   }

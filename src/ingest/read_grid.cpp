@@ -47,8 +47,7 @@ void off_grid_row(const CompiledProfile& cp, std::string_view rl, char d, std::s
   if (f.size() == columns + 2 && trim(f.back().text).empty()) f.pop_back();
   if (f.size() == columns + 1 && looks_like_data_row(cp, rl, d)) {
     throw InputError(here,
-                     fmt::format("expected a plate row label (A … H on a 96-well plate, A … AF at most), found \"{}\"",
-                                 trim(f[0].text)),
+                     fmt::format("expected a plate row label (A … Z, then AA … AF), found \"{}\"", trim(f[0].text)),
                      {"correct the row label; every plate row of a read is read, none is skipped"});
   }
   if (auto e = delimiter_error(here, rl, d, columns + 1, "the values of a plate row")) throw *e;
