@@ -114,6 +114,9 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   return h;
 }
 
+// Detection reads the start of a file: a row cut short after a complete read ends it.
+struct CutShort {};
+
 // The reading of one file: a header opens a block of data rows; a blank line inside it is
 // read through with a note, and a line of another kind closes it. A data row that would
 // belong to a closed block is an error at the line that closed it (nothing dropped).
@@ -129,6 +132,7 @@ class WideReader {
   void open_block(Header h);
   void close_block();
   std::optional<double> row_time(const Header& h, std::string_view line);
+  bool starts_block(std::string_view line, int ln);
 
   ReaderInput in_;
   const Profile& p_;
@@ -193,6 +197,17 @@ std::optional<double> WideReader::row_time(const Header& h, std::string_view lin
   return parse_time(fields_v_[tcol].text, h.time_unit, p_.decimal);
 }
 
+// True when `line` is a header line (of the next block).
+bool WideReader::starts_block(std::string_view line, int ln) {
+  std::optional<InputError> ignored;
+  std::vector<Field> f;
+  try {
+    return try_header(p_, line, file_, ln, f, ignored, p_.delimiter).has_value();
+  } catch (const InputError&) {
+    return false;  // a line with a time column but not a header: an error of the block
+  }
+}
+
 // A line while a block is open; false when it closes the block and must be read as a line
 // outside any block.
 bool WideReader::block_line(std::string_view line, int ln) {
@@ -210,6 +225,10 @@ bool WideReader::block_line(std::string_view line, int ln) {
   if (!t || fields_v_.size() != expected) {
     Where here{file_, ln, 1, std::string(line)};
     if (auto e = delimiter_error(here, line, header_->delimiter, expected, "data fields")) throw *e;
+  }
+  if (!t && starts_block(line, ln)) {
+    close_block();  // the header of the next block (a channel without a section label)
+    return false;
   }
   if (!t) {
     if (fields_v_.size() == expected) {
@@ -234,6 +253,7 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
   std::size_t expected = header_->roles.size();
   if (fields_v_.size() == expected + 1 && trim(fields_v_.back().text).empty()) fields_v_.pop_back();
   if (fields_v_.size() != expected) {
+    if (in_.prefix_only && (current_->reads() > 0 || !done_.empty())) throw CutShort{};
     int col = fields_v_.size() > expected ? fields_v_[expected].column : static_cast<int>(line.size()) + 1;
     throw InputError(Where{file_, ln, col, std::string(line)},
                      fmt::format("expected {} fields as in the header at line {}, found {}", expected, header_->line,
@@ -331,16 +351,10 @@ Run WideReader::read() {
   std::string_view line;
   while (in_.src.next(line)) {
     const int ln = in_.src.line_number();
-    if (header_) {
-      if (in_.prefix_only && (current_->reads() > 0 || !done_.empty())) {
-        try {
-          if (block_line(line, ln)) continue;
-        } catch (const InputError&) {
-          break;
-        }
-      } else if (block_line(line, ln)) {
-        continue;
-      }
+    try {
+      if (header_ && block_line(line, ln)) continue;
+    } catch (const CutShort&) {
+      break;
     }
     outside_line(line, ln);
   }
