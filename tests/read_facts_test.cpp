@@ -187,3 +187,29 @@ TEST_CASE("overflow tokens as the file writes them and the channel's source are 
   CHECK(fact(run, "channel")->value == "A405");
   CHECK(fact(run, "channel")->basis == "the section label at line 1");
 }
+
+TEST_CASE(
+    "long tables: blank and comment lines read through with notes; rows with no header or another delimiter refused") {
+  const std::string text = "well,time_s,value\nA1,0,0.1\n\nA1,30,0.2\n# lamp check\nA1,60,0.3\n";
+  const Run run = read_run_text("l.csv", text, load_profile("long-generic"));
+  CHECK(run.channels[0].reads() == 3);  // the three rows of the file
+  CHECK(run.read_notes == std::vector<std::string>{"line 3: a blank line inside the table, read through",
+                                                   "line 5: a comment line inside the table, read through"});
+  const InputError headless = read_error("A1,0,0.1\nA1,30,0.2\n", load_profile("long-generic"));
+  CHECK(headless.where().line == 1);
+  CHECK(std::string(headless.message()).find("expected a header line") == 0);
+  const InputError delim =
+      read_error("well,time_s,value\nA1,0,0.1\nA1;30;0.2\nA1,60,0.3\n", load_profile("long-generic"));
+  CHECK(delim.where().line == 3);
+  CHECK(std::string(delim.message()).find("a delimiter problem") != std::string::npos);
+}
+
+TEST_CASE("a grid read label's unit (\"at 30 s\") states the unit; a bare number is checked by the rule") {
+  const std::string stated = "Read 1 at 0 s\n\t1\nA\t0.1\n\nRead 2 at 30 s\n\t1\nA\t0.2\n";
+  const Run a = read_run_text("g.txt", stated, load_profile("grid-generic"));
+  CHECK(fact(a, "time_unit")->basis == "the read label at line 1 (\"Read 1 at 0 s\")");
+  const std::string bare = "Read 1 at 0\n\t1\nA\t0.1\n\nRead 2 at 0.5\n\t1\nA\t0.2\n\nRead 3 at 1\n\t1\nA\t0.3\n";
+  const InputError e = read_error(bare, load_profile("grid-generic"));
+  CHECK(e.where().line == 1);  // the first read label
+  CHECK(std::string(e.message()).find("not seconds") != std::string::npos);
+}
