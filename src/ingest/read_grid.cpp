@@ -108,6 +108,84 @@ void stray_grid_line(const CompiledProfile& cp, std::string_view line, const Whe
                        {"restore the read label of this read, or make `grid.read_label` match it"});
 }
 
+// The read time (and temperature) of a read label; a unit written after the time
+// ("at 30 s") states the unit. Notes the time unit's basis in `in.info` at the first label.
+Block read_label(ReaderInput& in, std::string_view line, int ln, const re2::StringPiece& time_sp,
+                 const std::string& temp_text) {
+  const Profile& p = in.cp.profile;
+  const std::string& file = in.src.name();
+  const std::string time_text(time_sp.data() ? std::string_view(time_sp.data(), time_sp.size()) : "");
+  Block b;
+  b.label_line = ln;
+  b.label_text = std::string(line);
+  TimeUnit unit = p.time_unit;
+  if (time_sp.data()) {
+    const auto after = static_cast<std::size_t>(time_sp.data() + time_sp.size() - line.data());
+    if (auto u = unit_after(line.substr(after))) {
+      unit = *u;
+      if (in.info.time_basis.empty())
+        in.info.time_basis = fmt::format("the read label at line {} (\"{}\")", ln, trim(line));
+    }
+  }
+  if (in.info.time_where.line == 0) {
+    in.info.time_where = Where{file, ln, 1, std::string(line)};
+    in.info.time_unit = unit;
+    if (in.info.time_basis.empty()) in.info.time_basis = p.time_unit_from;
+  }
+  in.info.saw_time(time_text);
+  auto t = parse_time(time_text, unit, p.decimal);
+  if (!t) {
+    bad_time_error(Where{file, ln, 1, std::string(line)}, time_text, unit, p.decimal, "a read time in the read label",
+                   {"make group 1 of `grid.read_label` capture the time (number or h:mm:ss)"});
+  }
+  b.time_s = *t;
+  if (!temp_text.empty()) {
+    auto v = parse_number(temp_text, p.decimal);
+    if (!v) {
+      throw InputError(
+          Where{file, ln, 1, std::string(line)},
+          fmt::format("expected a temperature in the read label, found {}", describe_found(temp_text, p.decimal)),
+          {"make group 2 of `grid.read_label` capture only the number"});
+    }
+    b.temp_c = *v;
+  }
+  return b;
+}
+
+// The 0-based plate columns a header of column numbers names (`at`: its file, line and text).
+std::vector<int> column_numbers(const std::vector<Field>& fields, const std::optional<PlateFormat>& fixed, Where at,
+                                int ln) {
+  const auto here = [&](int column) {
+    at.column = column;
+    return at;
+  };
+  std::vector<int> cols;
+  for (std::size_t i = 1; i < fields.size(); ++i) {
+    auto sv = trim(fields[i].text);
+    if (sv.empty() && i + 1 == fields.size()) break;
+    auto v = parse_number(sv);
+    if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
+      throw InputError(
+          here(fields[i].column),
+          fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"", ln,
+                      sv),
+          {"check that `grid.read_label` matches only read labels"});
+    }
+    int col = static_cast<int>(*v) - 1;
+    if (fixed && col >= fixed->columns) off_plate_column_error(*fixed, col, here(fields[i].column));
+    for (std::size_t k = 0; k < cols.size(); ++k) {
+      if (cols[k] == col)
+        throw InputError(here(fields[i].column),
+                         fmt::format("column {} appears twice in the header after the read label at line {} "
+                                     "(fields {} and {})",
+                                     col + 1, ln, k + 2, i + 1),
+                         {"remove the duplicated column; each well may appear once per read"});
+    }
+    cols.push_back(col);
+  }
+  return cols;
+}
+
 }  // namespace
 
 Run read_grid(ReaderInput in) {
@@ -163,7 +241,6 @@ Run read_grid(ReaderInput in) {
     bool is_label = in.cp.read_label->NumberOfCapturingGroups() >= 2
                         ? RE2::PartialMatch(line, *in.cp.read_label, &time_sp, &temp_sp)
                         : RE2::PartialMatch(line, *in.cp.read_label, &time_sp);
-    const std::string time_text(time_sp.data() ? std::string_view(time_sp.data(), time_sp.size()) : "");
     const std::string temp_text(temp_sp.data() ? std::string_view(temp_sp.data(), temp_sp.size()) : "");
     if (!is_label) {
       stray_grid_line(in.cp, line, Where{file, ln, 1, std::string(line)}, ended_line, ended_text, stray);
@@ -171,41 +248,7 @@ Run read_grid(ReaderInput in) {
       continue;
     }
     ended_line = 0;
-    Block b;
-    b.label_line = ln;
-    b.label_text = std::string(line);
-    TimeUnit unit = p.time_unit;
-    if (time_sp.data()) {
-      const auto after = static_cast<std::size_t>(time_sp.data() + time_sp.size() - line.data());
-      if (auto u = unit_after(line.substr(after))) {
-        unit = *u;
-        if (in.info.time_basis.empty())
-          in.info.time_basis = fmt::format("the read label at line {} (\"{}\")", ln, trim(line));
-      }
-    }
-    if (in.info.time_where.line == 0) {
-      in.info.time_where = Where{file, ln, 1, std::string(line)};
-      in.info.time_unit = unit;
-      if (in.info.time_basis.empty()) in.info.time_basis = p.time_unit_from;
-    }
-    in.info.saw_time(time_text);
-    auto t = parse_time(time_text, unit, p.decimal);
-    if (!t) {
-      bad_time_error(Where{file, ln, 1, std::string(line)}, time_text, p.time_unit, p.decimal,
-                     "a read time in the read label",
-                     {"make group 1 of `grid.read_label` capture the time (number or h:mm:ss)"});
-    }
-    b.time_s = *t;
-    if (!temp_text.empty()) {
-      auto v = parse_number(temp_text, p.decimal);
-      if (!v) {
-        throw InputError(
-            Where{file, ln, 1, std::string(line)},
-            fmt::format("expected a temperature in the read label, found {}", describe_found(temp_text, p.decimal)),
-            {"make group 2 of `grid.read_label` capture only the number"});
-      }
-      b.temp_c = *v;
-    }
+    const Block b = read_label(in, line, ln, time_sp, temp_text);
     // Header of column numbers.
     std::string_view hline;
     do {
@@ -226,31 +269,7 @@ Run read_grid(ReaderInput in) {
         in.info.delimiter_line = p.delimiter ? 0 : hl;
       }
       split_fields_into(hline, d, fields);
-      std::vector<int> cols;
-      for (std::size_t i = 1; i < fields.size(); ++i) {
-        auto sv = trim(fields[i].text);
-        if (sv.empty() && i + 1 == fields.size()) break;
-        auto v = parse_number(sv);
-        if (!v || *v < 1 || *v > 48 || *v != std::floor(*v)) {
-          throw InputError(
-              Where{file, hl, fields[i].column, header_text},
-              fmt::format("expected a column number (1–48) in the header after the read label at line {}, found \"{}\"",
-                          ln, sv),
-              {"check that `grid.read_label` matches only read labels"});
-        }
-        int col = static_cast<int>(*v) - 1;
-        if (fixed && col >= fixed->columns)
-          off_plate_column_error(*fixed, col, Where{file, hl, fields[i].column, header_text});
-        for (std::size_t k = 0; k < cols.size(); ++k) {
-          if (cols[k] == col)
-            throw InputError(Where{file, hl, fields[i].column, header_text},
-                             fmt::format("column {} appears twice in the header after the read label at line {} "
-                                         "(fields {} and {})",
-                                         col + 1, ln, k + 2, i + 1),
-                             {"remove the duplicated column; each well may appear once per read"});
-        }
-        cols.push_back(col);
-      }
+      const std::vector<int> cols = column_numbers(fields, fixed, Where{file, hl, 0, header_text}, ln);
       if (cols.empty()) {
         throw InputError(Where{file, hl, 1, header_text},
                          "expected a header of column numbers (empty first field, then 1, 2, …)", {});
