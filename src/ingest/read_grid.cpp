@@ -186,6 +186,33 @@ std::vector<int> column_numbers(const std::vector<Field>& fields, const std::opt
   return cols;
 }
 
+// Appends one plate row's values and read statuses to `vals` and `stats`.
+void read_row_values(ReaderInput& in, const std::vector<FieldView>& rf, const std::vector<int>& cols, int row, int rln,
+                     std::string_view rl, std::vector<double>& vals, std::vector<ReadStatus>& stats) {
+  const std::size_t at = vals.size();
+  vals.resize(at + cols.size(), 0.0);
+  stats.resize(at + cols.size(), ReadStatus::missing);
+  for (std::size_t c = 0; c < cols.size(); ++c) {
+    double v = 0;
+    switch (read_cell(in.cp, rf[c + 1].text, v)) {
+      case CellKind::number:
+        vals[at + c] = v;
+        stats[at + c] = ReadStatus::ok;
+        break;
+      case CellKind::overflow:
+        in.info.saw_overflow(rf[c + 1].text);
+        stats[at + c] = ReadStatus::overflow;
+        break;
+      case CellKind::missing:
+        stats[at + c] = ReadStatus::missing;
+        break;
+      case CellKind::bad:
+        bad_value_error(in.cp.profile, in.src.name(), rln, rf[c + 1].column, rl, rf[c + 1].text,
+                        "well " + well_name(WellId{row, cols[c]}));
+    }
+  }
+}
+
 }  // namespace
 
 Run read_grid(ReaderInput in) {
@@ -326,28 +353,7 @@ Run read_grid(ReaderInput in) {
           *in.first_value = Where{file, rln, rf[1].column, std::string(rl)};
         rows.push_back(*row);
         row_lines.push_back(rln);
-        const std::size_t at = vals.size();
-        vals.resize(at + cols.size(), 0.0);
-        stats.resize(at + cols.size(), ReadStatus::missing);
-        for (std::size_t c = 0; c < cols.size(); ++c) {
-          double v = 0;
-          switch (read_cell(in.cp, rf[c + 1].text, v)) {
-            case CellKind::number:
-              vals[at + c] = v;
-              stats[at + c] = ReadStatus::ok;
-              break;
-            case CellKind::overflow:
-              in.info.saw_overflow(rf[c + 1].text);
-              stats[at + c] = ReadStatus::overflow;
-              break;
-            case CellKind::missing:
-              stats[at + c] = ReadStatus::missing;
-              break;
-            case CellKind::bad:
-              bad_value_error(p, file, rln, rf[c + 1].column, rl, rf[c + 1].text,
-                              "well " + well_name(WellId{*row, cols[c]}));
-          }
-        }
+        read_row_values(in, rf, cols, *row, rln, rl, vals, stats);
       }
       if (rows.empty()) {
         if (in.prefix_only && !more && read_before()) goto end_of_input;
