@@ -213,3 +213,14 @@ TEST_CASE("a grid read label's unit (\"at 30 s\") states the unit; a bare number
   CHECK(e.where().line == 1);  // the first read label
   CHECK(std::string(e.message()).find("not seconds") != std::string::npos);
 }
+
+TEST_CASE("--time-unit that contradicts the unit in the time header is refused, not overridden in silence") {
+  Profile p = load_profile("wide-generic");
+  state_time_unit(p, "min");
+  const InputError e = read_error(wide96("Time [s]", steps(3, 30)), p);
+  CHECK(e.where().line == 1);
+  CHECK(std::string(e.message()) ==
+        "expected times in min as --time-unit min states, found the time header \"Time [s]\" stating s");
+  state_time_unit(p, "s");
+  CHECK(read_run_text("t.csv", wide96("Time [s]", steps(3, 30)), p).channels[0].time_s.back() == 60.0);
+}

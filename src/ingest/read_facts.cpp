@@ -102,6 +102,16 @@ std::string channel_basis(const SectionStart& s, const Profile& p) {
   return fmt::format("no section label: profile {} `signal.name`", p.name);
 }
 
+void check_stated_unit(const Profile& p, std::optional<TimeUnit> stated, const Where& where, std::string_view what) {
+  // A profile's time_unit is for times whose header names none (instrument-profiles/README.md);
+  // --time-unit is said of this file, so a header that says otherwise is a contradiction.
+  if (!stated || p.time_unit_from.rfind("--time-unit", 0) != 0 || *stated == p.time_unit) return;
+  throw InputError(where,
+                   fmt::format("expected times in {} as {} states, found {} stating {}", to_string(p.time_unit),
+                               p.time_unit_from, what, to_string(*stated)),
+                   {fmt::format("leave out the unit ({} states it), or correct it", what)});
+}
+
 void ReadInfo::saw_overflow(std::string_view token) {
   const std::string t(trim(token));
   if (std::find(overflow_seen.begin(), overflow_seen.end(), t) == overflow_seen.end()) overflow_seen.push_back(t);

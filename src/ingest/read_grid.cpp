@@ -122,6 +122,7 @@ Block read_label(ReaderInput& in, std::string_view line, int ln, const re2::Stri
   if (time_sp.data()) {
     const auto after = static_cast<std::size_t>(time_sp.data() + time_sp.size() - line.data());
     if (auto u = unit_after(line.substr(after))) {
+      check_stated_unit(p, u, Where{file, ln, 1, std::string(line)}, fmt::format("the read label at line {}", ln));
       unit = *u;
       if (in.info.time_basis.empty())
         in.info.time_basis = fmt::format("the read label at line {} (\"{}\")", ln, trim(line));

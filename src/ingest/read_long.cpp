@@ -135,6 +135,8 @@ Run read_long(ReaderInput in) {
           c.line = ln;
           const FieldView& tf = views[static_cast<std::size_t>(c.time)];
           const auto stated = unit_in_header(tf.text);
+          check_stated_unit(p, stated, Where{file, ln, tf.column, std::string(line)},
+                            fmt::format("the time header \"{}\"", trim(tf.text)));
           c.time_unit = stated.value_or(p.time_unit);
           in.info.time_unit = c.time_unit;
           in.info.time_basis = stated ? fmt::format("the time header \"{}\"", trim(tf.text)) : p.time_unit_from;

@@ -72,6 +72,8 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   h.time_col = time_col;
   const Field& tf = fields[static_cast<std::size_t>(time_col)];
   const auto stated = unit_in_header(tf.text);
+  check_stated_unit(p, stated, Where{file, line_no, tf.column, std::string(line)},
+                    fmt::format("the time header \"{}\"", trim(tf.text)));
   h.time_unit = stated.value_or(p.time_unit);
   h.time_basis = stated ? fmt::format("the time header \"{}\"", trim(tf.text)) : p.time_unit_from;
   h.time_where = Where{file, line_no, tf.column, std::string(line)};

@@ -142,6 +142,10 @@ struct ReadInfo {
   void saw_overflow(std::string_view token);
 };
 
+// The InputError for a unit the file states (`stated`, in a time header or read label, at
+// `where`) that differs from the one --time-unit states.
+void check_stated_unit(const Profile& p, std::optional<TimeUnit> stated, const Where& where, std::string_view what);
+
 // Applies the time unit rule (InputError when plain-number times are implausible as seconds
 // and nothing states their unit) and fills run.read_facts and run.read_notes.
 void settle_reading(Run& run, ReadInfo& info, const Profile& p);
