@@ -224,3 +224,12 @@ TEST_CASE("--time-unit that contradicts the unit in the time header is refused, 
   state_time_unit(p, "s");
   CHECK(read_run_text("t.csv", wide96("Time [s]", steps(3, 30)), p).channels[0].time_s.back() == 60.0);
 }
+
+TEST_CASE("grid: a plate layout block of text is no data; a header and rows with no read label are refused") {
+  const std::string reads = "Read 1 at 0:00:00\n\t1\t2\nA\t0.1\t0.2\n\nRead 2 at 0:00:30\n\t1\t2\nA\t0.2\t0.3\n";
+  const Run run = read_run_text("g.txt", "Layout\n\t1\t2\nA\tS1\tS2\n\n" + reads, load_profile("grid-generic"));
+  CHECK(run.channels[0].reads() == 2);
+  const InputError e = read_error(reads + "\n\t1\t2\nA\t0.3\t0.4\n", load_profile("grid-generic"));
+  CHECK(e.where().line == 9);  // the header of column numbers of the read whose label is missing
+  CHECK(std::string(e.message()).find("expected a read label") == 0);
+}

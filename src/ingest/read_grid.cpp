@@ -83,29 +83,53 @@ bool column_header_look(std::string_view line, char d) {
   return true;
 }
 
-// A line outside any read that holds plate data: a header of column numbers or a plate row.
-// After a read ended by a line of another kind (`ended_line` > 0), the error is at that line.
+// Plate data outside any read: a header of column numbers (kept until the next line shows
+// whether plate rows follow it: a plate layout block of text is no data) and plate rows.
+struct Stray {
+  std::optional<InputError> error;  // the first, thrown at the end unless no read label matched at all
+  int header_line = 0;              // a header of column numbers just before, outside any read
+  std::string header_text;
+};
+
+// A line outside any read: an error when it is a plate row (at the header of column numbers
+// before it, if any, or at the line of another kind that ended a read's rows).
 void stray_grid_line(const CompiledProfile& cp, std::string_view line, const Where& here, int ended_line,
-                     const std::string& ended_text, std::optional<InputError>& stray) {
+                     const std::string& ended_text, Stray& st) {
   const char d = cp.profile.delimiter ? cp.profile.delimiter : guess_delimiter(line);
-  if (d == 0) return;
+  if (d == 0) {
+    st.header_line = 0;
+    return;
+  }
+  if (column_header_look(line, d)) {
+    st.header_line = here.line;
+    st.header_text = std::string(line);
+    return;
+  }
   std::vector<Field> f;
   split_fields_into(line, d, f);
   const bool row = parse_row_label(f[0].text) && looks_like_data_row(cp, line, d);
-  const bool header = column_header_look(line, d);
-  if (!row && !header) return;
-  const char* what = row ? "a plate row" : "a header of column numbers";
-  if (ended_line > 0) {
+  const int header = st.header_line;
+  st.header_line = 0;
+  if (!row) return;
+  if (ended_line > 0 && header != ended_line) {
     throw InputError(Where{here.file, ended_line, 1, ended_text},
-                     fmt::format("expected a plate row or the end of the read, found a line of another kind; {} "
-                                 "follows at line {}",
-                                 what, here.line),
+                     fmt::format("expected a plate row or the end of the read, found a line of another kind; a "
+                                 "plate row follows at line {}",
+                                 here.line),
                      {"delete this line (or make it an empty line) so that the rows after it are read"});
   }
-  // Kept for the end: when no line matches the read label at all, that is the better message.
-  if (!stray)
-    stray = InputError(here, fmt::format("expected a read label (`grid.read_label`) before {}, found none", what),
-                       {"restore the read label of this read, or make `grid.read_label` match it"});
+  if (!st.error) {
+    Where at = here;
+    if (header > 0) {
+      at.line = header;
+      at.text = st.header_text;
+    }
+    st.error =
+        InputError(at,
+                   fmt::format("expected a read label (`grid.read_label`) before {}, found none",
+                               header > 0 ? "this header of column numbers and its plate rows" : "this plate row"),
+                   {"restore the read label of this read, or make `grid.read_label` match it"});
+  }
 }
 
 // The read time (and temperature) of a read label; a unit written after the time
@@ -230,10 +254,10 @@ Run read_grid(ReaderInput in) {
   std::vector<double> vals;  // one read's values and statuses, row by row
   std::vector<ReadStatus> stats;
   std::string_view line;
-  bool pending_line = false;        // `line` must be handled again as an outside line
-  std::string header_text;          // the read's header line: its view dies when the row lines are fetched
-  int ended_line = 0;               // a line of another kind that ended a read's rows
-  std::optional<InputError> stray;  // plate data outside any read
+  bool pending_line = false;  // `line` must be handled again as an outside line
+  std::string header_text;    // the read's header line: its view dies when the row lines are fetched
+  int ended_line = 0;         // a line of another kind that ended a read's rows
+  Stray stray;                // plate data outside any read
   std::string ended_text;
   const std::optional<PlateFormat> fixed = fixed_format(p);
 
@@ -276,6 +300,7 @@ Run read_grid(ReaderInput in) {
       continue;
     }
     ended_line = 0;
+    stray.header_line = 0;
     const Block b = read_label(in, line, ln, time_sp, temp_text);
     // Header of column numbers.
     std::string_view hline;
@@ -401,7 +426,7 @@ end_of_input:
                                   p.grid_read_label, at),
                       "try another profile with --profile"});
   }
-  if (stray) throw *stray;  // plate data no read label reads: nothing is dropped
+  if (stray.error) throw *stray.error;  // plate data no read label reads: nothing is dropped
   std::vector<WellId> all;
   for (const auto& d : done) all.insert(all.end(), d.first.wells().begin(), d.first.wells().end());
   run.format = decide_format(p, all, file, run.format_inferred);
