@@ -12,9 +12,10 @@ namespace vzero::detail {
 namespace {
 
 // The least time a plate reader needs between two reads of `wells` wells, in seconds: 0.02 s
-// per well, at most 2 s. Common practice: a reader moves the plate (or its optics) from well
-// to well, and the quickest take a few seconds for 96 wells (about 0.05 s a well); 0.02 s
-// a well stays below every reader we know of, so a step under it cannot be seconds.
+// per well, at most 2 s (the cap leaves room for imaging readers that read a whole plate at
+// once). Source: common practice, from memory: a reader moves the plate (or its optics) from
+// well to well, and the quickest take about 5 s for 96 wells (about 0.05 s a well); 0.02 s a
+// well is well below that, so a step under it is not seconds.
 double least_step_s(std::size_t wells) { return std::min(2.0, 0.02 * static_cast<double>(wells)); }
 
 double median_step(const std::vector<double>& t) {
