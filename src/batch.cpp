@@ -82,6 +82,7 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
       try {
         f.path = paths[static_cast<std::size_t>(i)];
         f.choice = choose_profile(f.path, o.profile, o.sheet);
+        if (!o.time_unit.empty()) state_time_unit(f.choice.profile, o.time_unit);
         f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile, o.sheet));
         check_plate_map(map, *f.run);
         AnalysisOptions ao = o.analysis;

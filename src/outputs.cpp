@@ -53,6 +53,19 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
       for (const auto& [k, v] : in.metadata) meta.push_back({{"key", k}, {"value", v}});
       j["metadata"] = meta;
     }
+    if (!in.read.empty()) {
+      // Per fact its value and basis; the channels (one fact each) as a list.
+      ordered_json read;
+      for (const auto& f : in.read) {
+        ordered_json one = {{"value", f.value}, {"basis", f.basis}};
+        if (f.name == "channel")
+          read["channels"].push_back(one);
+        else
+          read[f.name] = one;
+      }
+      read["notes"] = in.read_notes;
+      j["read"] = read;
+    }
     inputs.push_back(j);
   }
   prov["inputs"] = inputs;

@@ -157,6 +157,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   BatchOptions batch;
   batch.profile = s.profile;
   batch.sheet = s.sheet;
+  batch.time_unit = s.time_unit;
   batch.analysis = s.analysis;
   batch.map_columns = out.map.columns;
   batch.with_activity = with_activity;
@@ -191,10 +192,15 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet, f.run->metadata});
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet,
+                           f.run->metadata, f.run->read_facts, f.run->read_notes});
+    for (const auto& fact : f.run->read_facts)
+      if (fact.name == "time_unit" && fact.basis.rfind("no unit", 0) == 0)
+        out.notes.push_back(fmt::format("{}: read times taken as seconds: {}", f.path, fact.basis));
+    for (const auto& n : f.run->read_notes) out.notes.push_back(fmt::format("{}: {}", f.path, n));
     // A profile file is an input once, however many exports it read.
     if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
-      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}});
+      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}, {}});
     out.analyses.push_back(std::move(f.analysis));
   }
 

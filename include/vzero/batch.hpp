@@ -28,6 +28,7 @@ namespace vzero {
 struct BatchOptions {
   std::string profile;                   // built-in name or .toml path for every file; "" = detect per file
   std::string sheet;                     // sheet of every .xlsx workbook; "" = its first sheet
+  std::string time_unit;                 // --time-unit: "s", "min" or "h"; "" = as the header or profile says
   AnalysisOptions analysis;              // analysis.threads is the pool size (0 = all cores)
   std::vector<std::string> map_columns;  // plate-map columns, for the rates rows
   bool with_activity = false;            // rates rows with activity_U / activity_nkat

@@ -25,6 +25,8 @@ struct InputRecord {
   std::string sheet;                                          // for exports that are workbooks: the sheet read
   std::vector<std::pair<std::string, std::string>> metadata;  // for exports: what the file says of itself
                                                               // (operator, plate id, start time…), in file order
+  std::vector<ReadFact> read;           // for exports: what the reader inferred (Run::read_facts)
+  std::vector<std::string> read_notes;  // for exports: lines read through (Run::read_notes)
 };
 
 struct Provenance {

@@ -55,6 +55,10 @@ struct Profile {
   char decimal = '.';   // '.' or ','
   int plate_wells = 0;  // 0 = smallest standard plate holding the wells read
   TimeUnit time_unit = TimeUnit::seconds;
+  // Who states `time_unit`: "profile FILE" when a profile file of the user's sets it,
+  // "--time-unit" when the option does; empty for the built-in profiles, whose "s" is a
+  // default that plain-number times are checked against (the time unit rule, README.md).
+  std::string time_unit_from;
   std::vector<std::string> overflow_tokens{"OVER", "overflow", "SAT"};
   std::vector<std::string> missing_tokens{"", "NA", "N/A", "-", "NaN"};
   // Header names, compared case-insensitively after trimming.
@@ -83,6 +87,11 @@ Profile parse_profile(std::string_view toml_text, const std::string& source, con
 
 // A built-in profile name ("wide-generic") or a path to a .toml file.
 Profile load_profile(const std::string& name_or_path);
+
+// Sets the unit of plain-number times as --time-unit does ("s", "min" or "h"; UsageError
+// otherwise): it then counts as stated (Profile::time_unit_from), though a unit in the time
+// header still wins.
+void state_time_unit(Profile& p, const std::string& unit);
 
 // Names of the built-in profiles, sorted.
 std::vector<std::string> builtin_profile_names();

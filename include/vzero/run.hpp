@@ -87,6 +87,14 @@ struct Channel {
   int column_of(int plate_index) const;
 };
 
+// One thing a reader decided about a file: `name` ("delimiter", "time_unit", …), the value
+// it took and on what basis (the profile, a header, or a rule worked on the file).
+struct ReadFact {
+  std::string name;
+  std::string value;
+  std::string basis;
+};
+
 struct Run {
   std::string source;                                         // path as given by the user
   std::string sha256;                                         // hex digest of the bytes read
@@ -97,6 +105,11 @@ struct Run {
   PlateFormat format;
   bool format_inferred = true;  // false when the profile fixed it
   std::vector<Channel> channels;
+  // What the reader inferred (shape, delimiter, decimal mark, time unit, plate format, channels,
+  // overflow tokens), shown by `inspect` and recorded in datapackage.json, and the lines it
+  // read through rather than as data (a blank line inside a block, a comment line).
+  std::vector<ReadFact> read_facts;
+  std::vector<std::string> read_notes;
 
   const Channel* find_channel(std::string_view name) const;
 };

@@ -30,6 +30,7 @@ struct RunSettings {
   std::string method;                               // assay method file ("" = none)
   std::string profile;                              // instrument profile for every file ("" = detect per file)
   std::string sheet;                                // sheet of every .xlsx workbook ("" = its first sheet)
+  std::string time_unit;                            // "s", "min", "h" for plain-number times ("" = not stated)
   std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
   std::string traces, summary, report;              // optional outputs ("" = not written)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates

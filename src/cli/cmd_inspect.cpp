@@ -12,12 +12,15 @@ namespace vzero::cli {
 
 namespace {
 
-constexpr const char* k_usage = R"(usage: vzero inspect FILE [--profile NAME|PATH] [--sheet NAME]
+constexpr const char* k_usage = R"(usage: vzero inspect FILE [--profile NAME|PATH] [--sheet NAME] [--time-unit s|min|h]
 
 Shows what vzero reads from a raw plate-reader export: the shape (wide, grid or long),
 the profile used and why, the plate format, each channel with its quantity and unit, the
 number of reads, the first and last read time in seconds, the temperature range, the
-captured metadata, and how many values were overflow or missing, in which wells.
+captured metadata, and how many values were overflow or missing, in which wells; then
+what the reader inferred (delimiter, decimal mark, time unit, plate format, channels,
+overflow tokens), each with its basis, and the lines it read through (a blank line inside a
+data block, …). `vzero rates` records the same in datapackage.json.
 
 Without --profile every built-in profile is tried on the start of the file and the best
 reader is named. A spreadsheet workbook (.xlsx) is read from its first sheet or the one
@@ -48,12 +51,14 @@ std::string well_list(const Run& run, const Channel& c, ReadStatus s, int* count
 
 int cmd_inspect(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, profile, sheet;
+  std::string file, profile, sheet, time_unit;
   po::options_description opts(k_usage);
   opts.add_options()("profile,p", po::value(&profile),
                      "instrument profile: a built-in name or a .toml path (default: detect)")(
-      "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")("help,h",
-                                                                                                    "show this help");
+      "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")(
+      "time-unit", po::value(&time_unit),
+      "unit of plain-number read times when the time header names none: s, min or h (as vzero rates)")(
+      "help,h", "show this help");
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;
@@ -66,6 +71,7 @@ int cmd_inspect(const Args& args) {
   if (file.empty()) throw UsageError("expected a FILE to inspect");
 
   ProfileChoice choice = choose_profile(file, profile, sheet);
+  if (!time_unit.empty()) state_time_unit(choice.profile, time_unit);
   Run run = read_run(file, choice.profile, sheet);
   std::string out;
   out += fmt::format("file      {}\n", run.source);
@@ -103,6 +109,10 @@ int cmd_inspect(const Args& args) {
     list = well_list(run, c, ReadStatus::missing, &n);
     out += fmt::format("  missing  {}{}\n", n, n ? " in " + list : "");
   }
+  out += "read\n";
+  for (const auto& f : run.read_facts)
+    out += fmt::format("  {:<15} {}{}\n", f.name, f.value, f.basis.empty() ? "" : "  (" + f.basis + ")");
+  for (const auto& n : run.read_notes) out += fmt::format("  note: {}\n", n);
   print_out(out);
   return 0;
 }

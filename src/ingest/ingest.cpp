@@ -14,7 +14,8 @@ namespace {
 
 Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only, Where* first_value = nullptr) {
   detail::CompiledProfile cp(profile);
-  detail::ReaderInput in{src, cp, prefix_only, first_value};
+  detail::ReadInfo info;
+  detail::ReaderInput in{src, cp, info, prefix_only, first_value};
   Run run;
   switch (profile.shape) {
     case Shape::wide:
@@ -29,6 +30,7 @@ Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only, 
   }
   run.profile = profile.name;
   run.shape = std::string(to_string(profile.shape));
+  if (!prefix_only) detail::settle_reading(run, info, profile);
   return run;
 }
 

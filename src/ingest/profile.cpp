@@ -113,6 +113,7 @@ class ProfileParser {
         p.time_unit = TimeUnit::hours;
       else
         bad_value(root_, "time_unit", *v, "\"s\", \"min\" or \"h\"");
+      p.time_unit_from = "profile " + source_;
     }
     if (auto v = strings_at(root_, "overflow", "")) p.overflow_tokens = *v;
     if (auto v = strings_at(root_, "missing", "")) p.missing_tokens = *v;
@@ -302,6 +303,18 @@ Profile parse_profile(std::string_view text, const std::string& source, const st
   return p;
 }
 
+void state_time_unit(Profile& p, const std::string& unit) {
+  if (unit == "s")
+    p.time_unit = TimeUnit::seconds;
+  else if (unit == "min")
+    p.time_unit = TimeUnit::minutes;
+  else if (unit == "h")
+    p.time_unit = TimeUnit::hours;
+  else
+    throw UsageError(fmt::format("--time-unit is \"{}\"; use s, min or h", unit));
+  p.time_unit_from = "--time-unit " + unit;
+}
+
 std::vector<std::string> builtin_profile_names() {
   std::vector<std::string> out;
   for (const auto& e : detail::embedded_profiles()) out.emplace_back(e.name);
@@ -314,6 +327,7 @@ Profile load_profile(const std::string& name_or_path) {
     if (name_or_path == e.name) {
       Profile p = parse_profile(e.text, std::string("built-in profile ") + e.name, e.name);
       p.source = "built-in";
+      p.time_unit_from.clear();  // a built-in's time_unit is a default (see Profile)
       return p;
     }
   }

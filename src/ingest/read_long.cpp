@@ -18,6 +18,7 @@
 #include <numeric>
 #include <unordered_map>
 
+#include "ingest/long_rows.hpp"
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
 
@@ -25,86 +26,7 @@ namespace vzero::detail {
 
 namespace {
 
-constexpr int k_max_wells = 32 * 48;  // row * 48 + column, the largest plate's layout
-
-// One observation. The status sits in the top two bits of `read`.
-struct Row {
-  double value;        // NaN unless the status is ok
-  std::uint32_t read;  // index of the row's time among its channel's distinct times
-  std::uint16_t well;  // row * 48 + column
-  std::uint16_t channel;
-};
-static_assert(sizeof(Row) == 16);
-constexpr std::uint32_t k_read_mask = (1u << 30) - 1;
-
-// Rows in file order, in blocks mapped from the OS so that each can be given back at once.
-class RowStore {
- public:
-  static constexpr std::size_t k_block = std::size_t{1} << 20;  // rows per block (16 MiB)
-  RowStore() = default;
-  RowStore(const RowStore&) = delete;
-  RowStore& operator=(const RowStore&) = delete;
-  ~RowStore() {
-    for (std::size_t b = 0; b < blocks_.size(); ++b) release(b);
-  }
-  void push(const Row& r) {
-    if (size_ % k_block == 0) {
-      void* m = mmap(nullptr, k_block * sizeof(Row), PROT_READ | PROT_WRITE, MAP_PRIVATE | MAP_ANONYMOUS, -1, 0);
-      if (m == MAP_FAILED) throw std::bad_alloc();
-      blocks_.push_back(static_cast<Row*>(m));
-    }
-    blocks_.back()[size_ % k_block] = r;
-    ++size_;
-  }
-  std::size_t size() const { return size_; }
-  const Row& operator[](std::size_t k) const { return blocks_[k / k_block][k % k_block]; }
-  void release(std::size_t b) {
-    if (blocks_[b]) munmap(blocks_[b], k_block * sizeof(Row));
-    blocks_[b] = nullptr;
-  }
-
- private:
-  std::vector<Row*> blocks_;
-  std::size_t size_ = 0;
-};
-
-// A channel's distinct read times and what is known per time.
-struct ChannelRows {
-  std::string name;
-  std::vector<double> times;                        // by read index, in order of first appearance
-  std::unordered_map<double, std::uint32_t> index;  // time → read index
-  std::uint32_t last = 0;                           // read index of the previous row
-  std::vector<std::uint64_t> seen;                  // bit per (read, well): a row was given
-  std::vector<double> temp;                         // by read: temperature of the lowest well giving one
-  std::vector<std::uint16_t> temp_well;
-  std::vector<bool> wells = std::vector<bool>(k_max_wells, false);
-  // The duplicated (time, well) that sorts first, and the row that repeated it.
-  bool dup = false;
-  double dup_time = 0;
-  std::uint16_t dup_well = 0;
-  std::uint32_t dup_read = 0;
-  std::size_t dup_row = 0;
-
-  static constexpr std::size_t k_words = k_max_wells / 64;  // bitset words per read
-
-  std::uint32_t read_of(double t) {
-    // Rows usually come time by time or well by well: try the previous, the next and the
-    // first time before the table.
-    if (!times.empty()) {
-      if (times[last] == t) return last;
-      if (last + 1 < times.size() && times[last + 1] == t) return ++last;
-      if (times[0] == t) return last = 0;
-    }
-    const auto [it, fresh] = index.try_emplace(t, static_cast<std::uint32_t>(times.size()));
-    if (fresh) {
-      times.push_back(t);
-      seen.resize(seen.size() + k_words, 0);
-      temp.push_back(NAN);
-      temp_well.push_back(std::uint16_t{0xffff});
-    }
-    return last = it->second;
-  }
-};
+using namespace long_rows;
 
 struct Columns {
   char delimiter = ',';
@@ -182,13 +104,18 @@ Run read_long(ReaderInput in) {
   std::string last_channel_text;
   std::size_t last_channel = 0;
   const std::optional<PlateFormat> fixed = fixed_format(p);
-  std::optional<InputError> near;  // a line naming the well column and only one of time and value
+  std::optional<InputError> near;        // a line naming the well column and only one of time and value
+  std::optional<InputError> near_delim;  // a header split with another delimiter than the profile's
+  std::optional<InputError> headless;    // a data row (one well name, numbers) before any header
 
   while (in.src.next(line)) {
     const int ln = in.src.line_number();
     std::string_view tl = trim(line);
     if (tl.empty()) {
-      if (cols) skipped_at.push_back(rows.size());
+      if (cols) {
+        skipped_at.push_back(rows.size());
+        in.info.notes.push_back(fmt::format("line {}: a blank line inside the table, read through", ln));
+      }
       continue;
     }
     if (!cols) {
@@ -206,17 +133,40 @@ Run read_long(ReaderInput in) {
           c.temp = find_column(views, p.temperature_columns);
           c.count = views.size();
           c.line = ln;
-          c.time_unit = unit_in_header(views[static_cast<std::size_t>(c.time)].text).value_or(p.time_unit);
+          const FieldView& tf = views[static_cast<std::size_t>(c.time)];
+          const auto stated = unit_in_header(tf.text);
+          check_stated_unit(p, stated, Where{file, ln, tf.column, std::string(line)},
+                            fmt::format("the time header \"{}\"", trim(tf.text)));
+          c.time_unit = stated.value_or(p.time_unit);
+          in.info.time_unit = c.time_unit;
+          in.info.time_basis = stated ? fmt::format("the time header \"{}\"", trim(tf.text)) : p.time_unit_from;
+          in.info.time_where = Where{file, ln, tf.column, std::string(line)};
+          in.info.delimiter = d;
+          in.info.delimiter_line = p.delimiter ? 0 : ln;
           cols = c;
           continue;
         }
         if (c.well >= 0 && !near) near = near_header(p, c, views, line, file, ln);
+      }
+      if (!headless && looks_like_observation(in.cp, line, p.delimiter ? p.delimiter : guess_delimiter(line)))
+        headless = InputError(Where{file, ln, 1, std::string(line)},
+                              "expected a header line naming the well, time and value columns before this data row, "
+                              "found none",
+                              {"restore the header line, or set `columns.well`, `columns.time` and `columns.value` "
+                               "in the profile to this file's header names"});
+      if (!near_delim && !in.prefix_only && p.delimiter != 0 && guess_delimiter(line) != 0 &&
+          guess_delimiter(line) != p.delimiter) {
+        split_views_into(line, guess_delimiter(line), views, scratch);
+        if (find_column(views, p.well_columns) >= 0 && find_column(views, p.time_columns) >= 0)
+          near_delim =
+              delimiter_error(Where{file, ln, 1, std::string(line)}, line, p.delimiter, views.size(), "header fields");
       }
       match_capture(in.cp, line, run.metadata);
       continue;
     }
     if (tl.front() == '#') {
       skipped_at.push_back(rows.size());
+      in.info.notes.push_back(fmt::format("line {}: a comment line inside the table, read through", ln));
       match_capture(in.cp, line, run.metadata);
       continue;
     }
@@ -224,6 +174,8 @@ Run read_long(ReaderInput in) {
     if (views.size() == cols->count + 1 && trim(views.back().text).empty()) views.pop_back();
     if (views.size() != cols->count) {
       if (in.prefix_only && rows.size() > 0) break;
+      if (auto e = delimiter_error(Where{file, ln, 1, std::string(line)}, line, cols->delimiter, cols->count, "fields"))
+        throw *e;
       int col = views.size() > cols->count ? views[cols->count].column : static_cast<int>(line.size()) + 1;
       throw InputError(Where{file, ln, col, std::string(line)},
                        fmt::format("expected {} fields as in the header at line {}, found {}", cols->count, cols->line,
@@ -240,6 +192,7 @@ Run read_long(ReaderInput in) {
     if (fixed && !fixed->holds(*w)) off_plate_error(*fixed, *w, Where{file, ln, wf.column, std::string(line)});
     const FieldView& tf = views[static_cast<std::size_t>(cols->time)];
     auto t = parse_time(tf.text, cols->time_unit, p.decimal);
+    in.info.saw_time(tf.text);
     if (!t) {
       bad_time_error(Where{file, ln, tf.column, std::string(line)}, tf.text, cols->time_unit, p.decimal, "a read time",
                      {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss"});
@@ -252,6 +205,7 @@ Run read_long(ReaderInput in) {
       case CellKind::number:
         break;
       case CellKind::overflow:
+        in.info.saw_overflow(vf.text);
         r.value = std::nan("");
         status = ReadStatus::overflow;
         break;
@@ -324,7 +278,9 @@ Run read_long(ReaderInput in) {
     }
     rows.push(r);
   }
+  if (!cols && near_delim) throw *near_delim;
   if (!cols && near) throw *near;
+  if (!cols && headless) throw *headless;
   if (!cols) {
     throw InputError(
         Where{file}, "found no header naming the well, time and value columns",
@@ -382,6 +338,9 @@ Run read_long(ReaderInput in) {
       s.unit = p.signal_unit;
       guess_quantity(s.name, s.quantity, s.unit);
       if (s.quantity == Quantity::other) s.quantity = p.signal_quantity;
+      in.info.channels.emplace_back(s.name, fmt::format("the channel column of the header at line {}", cols->line));
+    } else {
+      in.info.channels.emplace_back(s.name, channel_basis(s, p));
     }
     ch.name = s.name;
     ch.quantity = s.quantity;

@@ -19,6 +19,8 @@ struct Header {
   std::vector<WellId> wells;
   int time_col = -1, temp_col = -1;
   TimeUnit time_unit = TimeUnit::seconds;
+  std::string time_basis;  // what states the unit; empty when nothing does
+  Where time_where;        // the time header cell
   int line = 0;
 };
 
@@ -51,8 +53,8 @@ void note_near_header(const Profile& p, std::string_view line, const std::string
 // A header line has a time column and at least one well column. The first line with well
 // columns but no time column is kept in `near` (the error when no header is found).
 std::optional<Header> try_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
-                                 std::vector<Field>& fields, std::optional<InputError>& near) {
-  char d = p.delimiter ? p.delimiter : guess_delimiter(line);
+                                 std::vector<Field>& fields, std::optional<InputError>& near, char delimiter) {
+  char d = delimiter ? delimiter : guess_delimiter(line);
   if (d == 0) return std::nullopt;
   split_fields_into(line, d, fields);
   int time_col = -1, wells = 0;
@@ -68,7 +70,13 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   h.delimiter = d;
   h.line = line_no;
   h.time_col = time_col;
-  h.time_unit = unit_in_header(fields[static_cast<std::size_t>(time_col)].text).value_or(p.time_unit);
+  const Field& tf = fields[static_cast<std::size_t>(time_col)];
+  const auto stated = unit_in_header(tf.text);
+  check_stated_unit(p, stated, Where{file, line_no, tf.column, std::string(line)},
+                    fmt::format("the time header \"{}\"", trim(tf.text)));
+  h.time_unit = stated.value_or(p.time_unit);
+  h.time_basis = stated ? fmt::format("the time header \"{}\"", trim(tf.text)) : p.time_unit_from;
+  h.time_where = Where{file, line_no, tf.column, std::string(line)};
   std::vector<int> seen_at(32 * 48, 0);  // field where each well was first seen, 0 = not yet
   const std::optional<PlateFormat> fixed = fixed_format(p);
   for (std::size_t i = 0; i < fields.size(); ++i) {
@@ -108,148 +116,276 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   return h;
 }
 
-}  // namespace
+// Detection reads the start of a file: a row cut short after a complete read ends it.
+struct CutShort {};
 
-Run read_wide(ReaderInput in) {
-  const Profile& p = in.cp.profile;
-  const std::string& file = in.src.name();
-  Run run;
-  std::vector<ChannelBuilder> done;
-  std::vector<int> done_header_line;  // header line of each finished channel, for messages
-  std::optional<SectionStart> section;
-  std::optional<Header> header;
-  std::optional<ChannelBuilder> current;
-  std::vector<Field> fields;
-  std::vector<FieldView> fields_v;  // data lines: views, no allocation per value
-  std::string scratch;
+// The reading of one file: a header opens a block of data rows; a blank line inside it is
+// read through with a note, and a line of another kind closes it. A data row that would
+// belong to a closed block is an error at the line that closed it (nothing dropped).
+class WideReader {
+ public:
+  explicit WideReader(ReaderInput in) : in_(in), p_(in.cp.profile), file_(in.src.name()) {}
+  Run read();
+
+ private:
+  bool block_line(std::string_view line, int ln);
+  void data_row(std::string_view line, int ln, double t, std::size_t tcol);
+  void outside_line(std::string_view line, int ln);
+  void open_block(Header h);
+  void close_block();
+  std::optional<double> row_time(const Header& h, std::string_view line);
+  bool starts_block(std::string_view line, int ln);
+
+  ReaderInput in_;
+  const Profile& p_;
+  const std::string& file_;
+  Run run_;
+  std::vector<ChannelBuilder> done_;
+  std::vector<int> done_header_line_;  // header line of each finished channel, for messages
+  std::optional<SectionStart> section_;
+  std::optional<Header> header_;
+  std::optional<ChannelBuilder> current_;
+  std::vector<int> blanks_;  // blank lines inside the open block, not yet followed by a row
+  // The block a line of another kind closed, that line and its text: a data row of that
+  // block further on is an error there.
+  std::optional<Header> ended_;
+  int ended_line_ = 0;
+  std::string ended_text_;
+  std::vector<Field> fields_;
+  std::vector<FieldView> fields_v_;  // data lines: views, no allocation per value
+  std::string scratch_;
+  std::optional<InputError> near_header_;  // a header of wells without a time column
+  std::optional<InputError> near_delim_;   // a header split with another delimiter than the profile's
+  std::optional<InputError> headless_;     // a data row before any header
+};
+
+void WideReader::open_block(Header h) {
+  header_ = std::move(h);
+  ended_.reset();
+  const SectionStart s = section_ ? *section_ : default_section(p_);
+  in_.info.channels.emplace_back(s.name, channel_basis(s, p_));
+  current_.emplace(s, header_->wells);
+  if (in_.info.delimiter == 0) {
+    in_.info.delimiter = header_->delimiter;
+    in_.info.delimiter_line = p_.delimiter ? 0 : header_->line;
+    in_.info.time_unit = header_->time_unit;
+    in_.info.time_basis = header_->time_basis;
+    in_.info.time_where = header_->time_where;
+  }
+}
+
+void WideReader::close_block() {
+  if (current_) {
+    for (const auto& d : done_) {
+      if (d.name() == current_->name()) {
+        throw InputError(Where{file_, header_->line},
+                         fmt::format("channel {} appears twice in the file", current_->name()),
+                         {"give each channel section its own label, or split the file"});
+      }
+    }
+    done_.push_back(std::move(*current_));
+    done_header_line_.push_back(header_->line);
+    current_.reset();
+  }
+  header_.reset();
+  section_.reset();
+  blanks_.clear();
+}
+
+std::optional<double> WideReader::row_time(const Header& h, std::string_view line) {
+  split_views_into(line, h.delimiter, fields_v_, scratch_);
+  const auto tcol = static_cast<std::size_t>(h.time_col);
+  if (tcol >= fields_v_.size()) return std::nullopt;
+  return parse_time(fields_v_[tcol].text, h.time_unit, p_.decimal);
+}
+
+// True when `line` is a header line (of the next block).
+bool WideReader::starts_block(std::string_view line, int ln) {
+  std::optional<InputError> ignored;
+  std::vector<Field> f;
+  try {
+    return try_header(p_, line, file_, ln, f, ignored, p_.delimiter).has_value();
+  } catch (const InputError&) {
+    return false;  // a line with a time column but not a header: an error of the block
+  }
+}
+
+// A line while a block is open; false when it closes the block and must be read as a line
+// outside any block.
+bool WideReader::block_line(std::string_view line, int ln) {
+  if (trim(line).empty()) {
+    blanks_.push_back(ln);
+    return true;
+  }
+  if (match_section(in_.cp, line)) {
+    close_block();
+    return false;
+  }
+  const auto t = row_time(*header_, line);
+  const auto tcol = static_cast<std::size_t>(header_->time_col);
+  const std::size_t expected = header_->roles.size();
+  if (!t || fields_v_.size() != expected) {
+    Where here{file_, ln, 1, std::string(line)};
+    if (auto e = delimiter_error(here, line, header_->delimiter, expected, "data fields")) throw *e;
+  }
+  if (!t && starts_block(line, ln)) {
+    close_block();  // the header of the next block (a channel without a section label)
+    return false;
+  }
+  if (!t) {
+    if (fields_v_.size() == expected) {
+      bad_time_error(Where{file_, ln, tcol < fields_v_.size() ? fields_v_[tcol].column : 1, std::string(line)},
+                     tcol < fields_v_.size() ? fields_v_[tcol].text : std::string_view(), header_->time_unit,
+                     p_.decimal, "a read time",
+                     {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss",
+                      "end the data block with an empty line before any trailing text"});
+    }
+    // A line of another shape ends the block (trailing notes, a new preamble).
+    ended_ = *header_;
+    ended_line_ = ln;
+    ended_text_ = std::string(line);
+    close_block();
+    return false;
+  }
+  data_row(line, ln, *t, tcol);
+  return true;
+}
+
+void WideReader::data_row(std::string_view line, int ln, double t, std::size_t tcol) {
+  std::size_t expected = header_->roles.size();
+  if (fields_v_.size() == expected + 1 && trim(fields_v_.back().text).empty()) fields_v_.pop_back();
+  if (fields_v_.size() != expected) {
+    if (in_.prefix_only && (current_->reads() > 0 || !done_.empty())) throw CutShort{};
+    int col = fields_v_.size() > expected ? fields_v_[expected].column : static_cast<int>(line.size()) + 1;
+    throw InputError(Where{file_, ln, col, std::string(line)},
+                     fmt::format("expected {} fields as in the header at line {}, found {}", expected, header_->line,
+                                 fields_v_.size()),
+                     {"check for a truncated or extra field; a file cut off mid-row must be re-exported or "
+                      "the incomplete last line deleted"});
+  }
+  for (int b : blanks_)
+    in_.info.notes.push_back(
+        fmt::format("line {}: a blank line inside the data block of line {}, read through", b, header_->line));
+  blanks_.clear();
+  in_.info.saw_time(fields_v_[tcol].text);
+  double temp = std::nan("");
+  if (header_->temp_col >= 0) {
+    const auto& f = fields_v_[static_cast<std::size_t>(header_->temp_col)];
+    double v = 0;
+    CellKind k = read_cell(in_.cp, f.text, v);
+    if (k == CellKind::number)
+      temp = v;
+    else if (k == CellKind::bad)
+      bad_value_error(p_, file_, ln, f.column, line, f.text, "the temperature");
+  }
+  int read = current_->add_read(t, temp, Where{file_, ln, fields_v_[tcol].column, std::string(line)});
+  if (in_.first_value && in_.first_value->line == 0) {
+    for (std::size_t i = 0; i < fields_v_.size() && in_.first_value->line == 0; ++i)
+      if (header_->roles[i] == ColumnRole::well)
+        *in_.first_value = Where{file_, ln, fields_v_[i].column, std::string(line)};
+  }
+  for (std::size_t i = 0; i < fields_v_.size(); ++i) {
+    if (header_->roles[i] != ColumnRole::well) continue;
+    double v = 0;
+    switch (read_cell(in_.cp, fields_v_[i].text, v)) {
+      case CellKind::number:
+        current_->set(read, header_->slot[i], v, ReadStatus::ok);
+        break;
+      case CellKind::overflow:
+        in_.info.saw_overflow(fields_v_[i].text);
+        current_->set(read, header_->slot[i], 0, ReadStatus::overflow);
+        break;
+      case CellKind::missing:
+        current_->set(read, header_->slot[i], 0, ReadStatus::missing);
+        break;
+      case CellKind::bad:
+        bad_value_error(p_, file_, ln, fields_v_[i].column, line, fields_v_[i].text,
+                        "well " + well_name(header_->wells[static_cast<std::size_t>(header_->slot[i])]));
+    }
+  }
+}
+
+void WideReader::outside_line(std::string_view line, int ln) {
+  if (trim(line).empty()) return;
+  if (auto s = match_section(in_.cp, line)) {
+    section_ = *s;
+    section_->line = ln;
+    return;
+  }
+  if (auto h = try_header(p_, line, file_, ln, fields_, near_header_, p_.delimiter)) {
+    open_block(std::move(*h));
+    return;
+  }
+  if (p_.delimiter != 0 && !near_delim_ && !in_.prefix_only) {
+    const char other = guess_delimiter(line);
+    std::optional<InputError> ignored;
+    try {
+      if (other != 0 && other != p_.delimiter && try_header(p_, line, file_, ln, fields_, ignored, other))
+        near_delim_ = delimiter_error(Where{file_, ln, 1, std::string(line)}, line, p_.delimiter, fields_.size(),
+                                      "header fields");
+    } catch (const InputError&) {
+      // not a header with that delimiter either
+    }
+  }
+  if (ended_ && row_time(*ended_, line) && fields_v_.size() >= ended_->roles.size() &&
+      fields_v_.size() <= ended_->roles.size() + 1) {
+    throw InputError(Where{file_, ended_line_, 1, ended_text_},
+                     fmt::format("expected a data row or the end of the data block of line {}, found a line of another "
+                                 "kind; data rows of that block follow at line {}",
+                                 ended_->line, ln),
+                     {"delete this line (or make it an empty line) so that the rows after it are read",
+                      "if the rows after it are another table, give them their own header line"});
+  }
+  const char d = p_.delimiter ? p_.delimiter : guess_delimiter(line);
+  if (!ended_ && !headless_ && looks_like_data_row(in_.cp, line, d)) {
+    std::vector<Field> f;
+    split_fields_into(line, d, f);
+    if (parse_time(f[0].text, p_.time_unit, p_.decimal) && f.size() >= 3) {
+      headless_ = InputError(Where{file_, ln, 1, std::string(line)},
+                             "expected a header line (a time column and well columns) before this data row, found none",
+                             {"restore the header line of this block, or check `columns.time` in the profile"});
+    }
+  }
+  match_capture(in_.cp, line, run_.metadata);
+}
+
+Run WideReader::read() {
   std::string_view line;
-  std::optional<InputError> near_header;  // a header of wells without a time column
-
-  auto close_block = [&]() {
-    if (current) {
-      for (const auto& d : done) {
-        if (d.name() == current->name()) {
-          throw InputError(Where{file, header->line},
-                           fmt::format("channel {} appears twice in the file", current->name()),
-                           {"give each channel section its own label, or split the file"});
-        }
-      }
-      done.push_back(std::move(*current));
-      done_header_line.push_back(header->line);
-      current.reset();
+  while (in_.src.next(line)) {
+    const int ln = in_.src.line_number();
+    try {
+      if (header_ && block_line(line, ln)) continue;
+    } catch (const CutShort&) {
+      break;
     }
-    header.reset();
-    section.reset();
-  };
-
-  while (in.src.next(line)) {
-    const int ln = in.src.line_number();
-    if (header) {
-      if (trim(line).empty()) {
-        close_block();
-        continue;
-      }
-      if (auto s = match_section(in.cp, line)) {
-        close_block();
-        section = *s;
-        continue;
-      }
-      split_views_into(line, header->delimiter, fields_v, scratch);
-      auto tcol = static_cast<std::size_t>(header->time_col);
-      std::optional<double> t;
-      if (tcol < fields_v.size()) t = parse_time(fields_v[tcol].text, header->time_unit, p.decimal);
-      if (!t) {
-        if (fields_v.size() == header->roles.size()) {
-          bad_time_error(Where{file, ln, tcol < fields_v.size() ? fields_v[tcol].column : 1, std::string(line)},
-                         tcol < fields_v.size() ? fields_v[tcol].text : std::string_view(), header->time_unit,
-                         p.decimal, "a read time",
-                         {"write times as numbers (unit from the header or `time_unit`) or as h:mm:ss",
-                          "end the data block with an empty line before any trailing text"});
-        }
-        // A line of another shape ends the block (trailing notes, a new preamble).
-        close_block();
-        match_capture(in.cp, line, run.metadata);
-        continue;
-      }
-      std::size_t expected = header->roles.size();
-      if (fields_v.size() == expected + 1 && trim(fields_v.back().text).empty()) fields_v.pop_back();
-      if (fields_v.size() != expected) {
-        if (in.prefix_only && (current->reads() > 0 || !done.empty())) break;
-        int col = fields_v.size() > expected ? fields_v[expected].column : static_cast<int>(line.size()) + 1;
-        throw InputError(Where{file, ln, col, std::string(line)},
-                         fmt::format("expected {} fields as in the header at line {}, found {}", expected, header->line,
-                                     fields_v.size()),
-                         {"check for a truncated or extra field; a file cut off mid-row must be re-exported or "
-                          "the incomplete last line deleted"});
-      }
-      double temp = std::nan("");
-      if (header->temp_col >= 0) {
-        const auto& f = fields_v[static_cast<std::size_t>(header->temp_col)];
-        double v = 0;
-        CellKind k = read_cell(in.cp, f.text, v);
-        if (k == CellKind::number)
-          temp = v;
-        else if (k == CellKind::bad)
-          bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
-      }
-      int read = current->add_read(*t, temp, Where{file, ln, fields_v[tcol].column, std::string(line)});
-      if (in.first_value && in.first_value->line == 0) {
-        for (std::size_t i = 0; i < fields_v.size() && in.first_value->line == 0; ++i)
-          if (header->roles[i] == ColumnRole::well)
-            *in.first_value = Where{file, ln, fields_v[i].column, std::string(line)};
-      }
-      for (std::size_t i = 0; i < fields_v.size(); ++i) {
-        if (header->roles[i] != ColumnRole::well) continue;
-        double v = 0;
-        switch (read_cell(in.cp, fields_v[i].text, v)) {
-          case CellKind::number:
-            current->set(read, header->slot[i], v, ReadStatus::ok);
-            break;
-          case CellKind::overflow:
-            current->set(read, header->slot[i], 0, ReadStatus::overflow);
-            break;
-          case CellKind::missing:
-            current->set(read, header->slot[i], 0, ReadStatus::missing);
-            break;
-          case CellKind::bad:
-            bad_value_error(p, file, ln, fields_v[i].column, line, fields_v[i].text,
-                            "well " + well_name(header->wells[static_cast<std::size_t>(header->slot[i])]));
-        }
-      }
-      continue;
-    }
-    if (trim(line).empty()) continue;
-    if (auto s = match_section(in.cp, line)) {
-      section = *s;
-      continue;
-    }
-    if (auto h = try_header(p, line, file, ln, fields, near_header)) {
-      header = std::move(*h);
-      current.emplace(section ? *section : default_section(p), header->wells);
-      continue;
-    }
-    match_capture(in.cp, line, run.metadata);
+    outside_line(line, ln);
   }
   close_block();
-  if (done.empty() && near_header) throw *near_header;
-  if (done.empty()) {
-    throw InputError(Where{file},
+  if (done_.empty() && near_delim_) throw *near_delim_;
+  if (done_.empty() && near_header_) throw *near_header_;
+  if (headless_) throw *headless_;  // data rows no header reads: nothing is dropped
+  if (done_.empty()) {
+    throw InputError(Where{file_},
                      "found no data: expected a header line with a time column and well columns (A1, A2, …)",
                      {"check `columns.time` in the profile names this file's time header",
                       "try another profile with --profile (vzero inspect lists the built-in ones)"});
   }
   std::vector<WellId> all;
-  for (const auto& b : done) all.insert(all.end(), b.wells().begin(), b.wells().end());
-  run.format = decide_format(p, all, file, run.format_inferred);
-  for (std::size_t i = 0; i < done.size(); ++i) {
-    if (done[i].reads() == 0) {
-      throw InputError(Where{file, done_header_line[i]},
-                       fmt::format("channel {} has a header but no reads", done[i].name()),
+  for (const auto& b : done_) all.insert(all.end(), b.wells().begin(), b.wells().end());
+  run_.format = decide_format(p_, all, file_, run_.format_inferred);
+  for (std::size_t i = 0; i < done_.size(); ++i) {
+    if (done_[i].reads() == 0) {
+      throw InputError(Where{file_, done_header_line_[i]},
+                       fmt::format("channel {} has a header but no reads", done_[i].name()),
                        {"check that the export is complete; delete the header if the channel was not read"});
     }
-    run.channels.push_back(std::move(done[i]).finish(run.format));
+    run_.channels.push_back(std::move(done_[i]).finish(run_.format));
   }
-  return run;
+  return std::move(run_);
 }
+
+}  // namespace
+
+Run read_wide(ReaderInput in) { return WideReader(in).read(); }
 
 }  // namespace vzero::detail

@@ -35,7 +35,10 @@ struct SectionStart {
   std::string name;
   Quantity quantity = Quantity::other;
   std::string unit;
+  int line = 0;  // of the section label; 0 for the profile's default channel
 };
+// Where a channel's name came from, for ReadInfo::channels.
+std::string channel_basis(const SectionStart& s, const Profile& p);
 
 // The channel a line starts, if it matches a section label.
 std::optional<SectionStart> match_section(const CompiledProfile& cp, std::string_view line);
@@ -121,9 +124,49 @@ PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, co
 // Default channel when no section label was seen.
 SectionStart default_section(const Profile& p);
 
+// What a reader learns about a file beyond its values, turned into Run::read_facts by
+// settle_reading once the whole file is read.
+struct ReadInfo {
+  char delimiter = 0;      // of the data lines
+  int delimiter_line = 0;  // the line it was guessed from; 0 when the profile fixes it
+  TimeUnit time_unit = TimeUnit::seconds;
+  std::string time_basis;    // e.g. "the header \"Time [min]\""; empty when nothing states the unit
+  Where time_where;          // the time header cell, or the first read label
+  bool plain_times = false;  // some time is a plain number (not a clock time h:mm:ss)
+  std::vector<std::pair<std::string, std::string>> channels;  // per channel: name, where it came from
+  std::vector<std::string> overflow_seen;                     // overflow tokens as written, distinct, in file order
+  std::vector<std::string> notes;
+  void saw_time(std::string_view text) {
+    if (!plain_times && text.find(':') == std::string_view::npos) plain_times = true;
+  }
+  void saw_overflow(std::string_view token);
+};
+
+// The InputError for a unit the file states (`stated`, in a time header or read label, at
+// `where`) that differs from the one --time-unit states.
+void check_stated_unit(const Profile& p, std::optional<TimeUnit> stated, const Where& where, std::string_view what);
+
+// Applies the time unit rule (InputError when plain-number times are implausible as seconds
+// and nothing states their unit) and fills run.read_facts and run.read_notes.
+void settle_reading(Run& run, ReadInfo& info, const Profile& p);
+
+// The error for a line that splits into the expected `fields` with another delimiter than
+// `used`, if it does: a delimiter problem, not a data problem.
+std::optional<InputError> delimiter_error(Where where, std::string_view line, char used, std::size_t fields,
+                                          std::string_view what);
+
+// True when `line`, split with `d`, has >= 2 fields and every field but the first reads as a
+// number or an overflow/missing token, and the first is not empty: a data row's look.
+bool looks_like_data_row(const CompiledProfile& cp, std::string_view line, char d);
+
+// A line that reads as a long table's observation: >= 3 fields, exactly one a well name, at
+// most one other text (a channel name), the rest numbers or tokens (one number at least).
+bool looks_like_observation(const CompiledProfile& cp, std::string_view line, char d);
+
 struct ReaderInput {
   LineSource& src;
   const CompiledProfile& cp;
+  ReadInfo& info;
   // Reading the start of a file to detect its shape: a bad line after the first complete
   // read ends the reading instead of failing it (the chosen profile's full read reports it).
   bool prefix_only = false;

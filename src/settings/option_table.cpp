@@ -123,6 +123,20 @@ std::vector<OptionSpec> make_table() {
   t.push_back(text(
       "profile", 'p', k_io, OptionRole::io, "", [](S& s) { return &s.profile; },
       "instrument profile for every FILE: built-in name or .toml path (default: detect per file)"));
+  {
+    OptionSpec o = choice(
+        "time-unit", k_io, "", {"s", "min", "h"},
+        [](S& s, const V& v) {
+          s.time_unit = v.text;
+          return std::string();
+        },
+        [](const S& s) { return s.time_unit; },
+        "unit of read times written as plain numbers when the time header names none (the profile key "
+        "`time_unit`); without it such times are read as seconds only when the steps between reads are "
+        "plausible as seconds, else vzero stops and asks");
+    o.role = OptionRole::io;
+    t.push_back(o);
+  }
   t.push_back(text(
       "sheet", 0, k_io, OptionRole::io, "", [](S& s) { return &s.sheet; },
       "sheet of every .xlsx workbook FILE, by name (default: the first sheet)"));
