@@ -21,6 +21,39 @@ std::span<const EnumName<Direction>> enum_names<Direction>() {
   return k_directions;
 }
 
+void sort_rate_words(const std::vector<std::string>& words, Role role, bool used_high, std::vector<std::string>& flags,
+                     std::vector<std::string>& notes) {
+  const auto add = [](std::vector<std::string>& to, const std::string& w) {
+    if (std::find(to.begin(), to.end(), w) == to.end()) to.push_back(w);
+  };
+  for (const auto& f : words) {
+    const bool note =
+        f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
+    switch (role) {
+      case Role::empty:
+        break;  // nothing to judge
+      case Role::blank:
+        // A blank is judged as a blank: scatter (blank-noisy) and a disturbed start
+        // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts.
+        if (f == "nonlinear")
+          add(flags, "blank-drift");
+        else if (note)
+          add(notes, f);
+        break;
+      case Role::standard:
+        // A standard is a level, not a rate: only reads it cannot be judged by count.
+        if (note)
+          add(notes, f);
+        else if (f == "too-few-reads" || f == "ceiling" || f == "saturated")
+          add(flags, f);
+        break;
+      case Role::sample:
+        add(note ? notes : flags, f);
+        break;
+    }
+  }
+}
+
 void parallel_for(int n, int threads, const std::function<void(int)>& fn) {
   int t = threads > 0 ? threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
   t = std::min(t, std::max(1, n / 16));
@@ -182,30 +215,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
       for (int i = 0; i < reads; ++i)
         used_high |= !row.rate.used.empty() && row.rate.used[static_cast<std::size_t>(i)] &&
                      c.values(i, j) >= rate_options.signal_ceiling;
-    for (const auto& f : row.rate.flags) {
-      bool note =
-          f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
-      if (row.role == Role::empty) continue;  // nothing to judge
-      if (row.role == Role::blank) {
-        // A blank is judged as a blank: scatter (blank-noisy) and a disturbed start
-        // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts.
-        if (f == "nonlinear")
-          add_flag(row.flags, "blank-drift");
-        else if (note)
-          add_flag(row.notes, f);
-        continue;
-      }
-      if (row.role == Role::standard) {
-        // A standard is a level, not a rate: only reads it cannot be judged by count.
-        bool level = f == "too-few-reads" || f == "ceiling" || f == "saturated";
-        if (level && !note)
-          add_flag(row.flags, f);
-        else if (note)
-          add_flag(row.notes, f);
-        continue;
-      }
-      add_flag(note ? row.notes : row.flags, f);
-    }
+    sort_rate_words(row.rate.flags, row.role, used_high, row.flags, row.notes);
     if (row.role == Role::empty) add_flag(row.notes, "empty");
     // No substrate known (or no concentration scale): the window had no conversion limit.
     if (row.role == Role::sample && !(tv.substrate > 0 && std::isfinite(tv.conc_per_signal)))

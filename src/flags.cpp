@@ -36,7 +36,9 @@ constexpr std::array<MarkInfo, 23> k_marks{{
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
     {"depleted", flag, "sample",
-     "the conversion limit (`--max-conversion` of `substrate`) is passed before the shortest window ends"},
+     "the conversion limit (`--max-conversion` of `substrate`) is passed before the shortest window ends, or "
+     "the window after a lag sits where more than half that limit is converted at its middle: v0 at the "
+     "starting substrate is underestimated"},
     {"noise", flag, "sample",
      "the rate cannot be told from noise: its 95 % interval holds 0, or it is below 3 × the slope SD that the blank's "
      "read noise alone would give"},

@@ -316,3 +316,30 @@ TEST_CASE("a window followed by a steeper stretch is flagged rising") {
   opt.detect_lag = false;
   CHECK(!has_flag(vzero::find_rate(v, opt), "rising"));
 }
+
+TEST_CASE("a window after a lag that used much of the substrate is flagged depleted") {
+  // The lag curve above with little read noise (1e-4), so the lag scan finds the lag and the
+  // window starts after it. First with a substrate so large that no limit matters, to learn
+  // where the window starts; then with a substrate of which 7 % is converted there (closed
+  // form P(t_start) / 0.07): the window's middle then lies above 7 % converted, more than
+  // half the 10 % limit (the most a window from the start ending at the limit has).
+  const Trace tr = lag_curve(0.001, 160);
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  vzero::TraceView v = tr.view(1e-4);
+  v.conc_per_signal = 1;
+  v.substrate = 1e9;
+  const auto free_run = vzero::find_rate(v, opt);
+  REQUIRE(free_run.lag_s > 0);
+  CHECK(!has_flag(free_run, "depleted"));
+  const double t0 = free_run.t_start_s;
+  const double p0 = 0.001 * (t0 - 160 * (1 - std::exp(-t0 / 160)));
+  v.substrate = p0 / 0.07;
+  const auto r = vzero::find_rate(v, opt);
+  CHECK(r.lag_s > 0);
+  CHECK(r.conversion > 0.07);
+  CHECK(has_flag(r, "depleted"));
+  // Without the lag check the window starts at the first read: the ordinary limit applies.
+  opt.detect_lag = false;
+  CHECK(!has_flag(vzero::find_rate(v, opt), "depleted"));
+}

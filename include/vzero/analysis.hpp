@@ -16,9 +16,9 @@
 
 #include "vzero/blank.hpp"
 #include "vzero/convert.hpp"
+#include "vzero/enum_names.hpp"
 #include "vzero/plate_map.hpp"
 #include "vzero/rates.hpp"
-#include "vzero/enum_names.hpp"
 #include "vzero/run.hpp"
 
 namespace vzero {
@@ -51,7 +51,7 @@ struct AnalysisOptions {
   // Inner-filter correction of fluorescence channels, F·10^((A_ex + A_em)/2), from the mean
   // absorbance of each well in these two channels (empty = no correction).
   std::string inner_filter_ex, inner_filter_em;
-  int threads = 0;  // 0 = all cores
+  int threads = 0;                                // 0 = all cores
   std::vector<ChannelSettings> channel_settings;  // per-channel overrides; a named channel must be in every run
 };
 
@@ -93,6 +93,14 @@ struct RunAnalysis {
   const Run* run = nullptr;
   std::vector<ChannelAnalysis> channels;
 };
+
+// Sorts the words find_rate raised for a well of `role` into rates.csv's `flags` (trust
+// withheld) and `notes` (corrections made): lag, outliers, overflow, a disturbed start and
+// ceiling reads the window left out (`used_high` false) are notes; blanks are judged as
+// blanks (nonlinear becomes blank-drift), standards as levels (too-few-reads, ceiling,
+// saturated), empty wells not at all. Words already present are not repeated.
+void sort_rate_words(const std::vector<std::string>& words, Role role, bool used_high, std::vector<std::string>& flags,
+                     std::vector<std::string>& notes);
 
 // Throws InputError for conversion problems (no standards, missing water channels, …) and
 // UsageError for a requested channel the run lacks. The options must pass

@@ -233,6 +233,12 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
       baseline = b.intercept + b.slope * t_ref;
     }
     r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;
+    // A window after a lag rates the reaction at the substrate the lag left: when more than
+    // half the conversion limit is used at its middle (where a window from the start that
+    // ends at the limit has its middle at most), v0 at the starting substrate is
+    // underestimated by more than the limit allows anywhere else.
+    const double at_start = (line.intercept + line.slope * r.t_start_s - baseline) * tr.conc_per_signal / tr.substrate;
+    if (r.lag_s > 0 && 0.5 * (at_start + r.conversion) > 0.5 * opt.max_conversion) add_flag(r, "depleted");
   }
 
   // Initial tangent of a parabola, for curving wells.

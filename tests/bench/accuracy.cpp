@@ -307,9 +307,12 @@ std::string class_table(const Totals& tot) {
       "   wells the v0 of the same well simulated without spikes within 2 % or within the 95 % interval,\n"
       "   for the others |error| <= 5 %;\n"
       "   depletion (> 50 % converted by the last read) and none are listed for their errors)\n\n";
-  out += "flags raised:";
+  out += "flags raised (as rates.csv sorts them; notes apart):";
   for (const auto& [f, n] : tot.flags) out += fmt::format(" {} {},", f, n);
   if (!tot.flags.empty()) out.pop_back();
+  out += "\nnotes (corrections made, the rate kept):";
+  for (const auto& [f, n] : tot.notes) out += fmt::format(" {} {},", f, n);
+  if (!tot.notes.empty()) out.pop_back();
   out += "\nwindow ended by:";
   for (const auto& [f, n] : tot.ends) out += fmt::format(" {} {},", f, n);
   out.pop_back();

@@ -48,7 +48,7 @@ struct Totals {
   std::vector<WellLine> wells;  // for --worst
   std::vector<double> err, naive, err_clean;
   int sample_wells = 0, blank_wells = 0, results = 0, finite = 0, plates = 0, tangent_used = 0;
-  std::map<std::string, int> flags, ends;
+  std::map<std::string, int> flags, notes, ends;  // flags and notes as rates.csv sorts them
   std::map<std::string, ClassStats> classes;
   std::vector<WellRecord> records;
 };

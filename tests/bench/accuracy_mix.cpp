@@ -180,15 +180,16 @@ std::string overall(const Totals& tot, Headline& h) {
                      pct(measurable, static_cast<int>(recs.size())));
   out += fmt::format("unflagged artefact wells above 10 % error: {} of {} ({}); above 15 %: {} ({})\n", art10,
                      art_unflagged, pct(art10, art_unflagged), art15, pct(art15, art_unflagged));
-  out += fmt::format("clean wells flagged: {} of {} ({}); their flags:", clean_flagged, clean,
-                     pct(clean_flagged, clean));
+  out +=
+      fmt::format("clean wells flagged: {} of {} ({}); their flags:", clean_flagged, clean, pct(clean_flagged, clean));
   for (const auto& [flag, n] : clean_flags) out += fmt::format(" {} {}", flag, n);
   out += "\n";
   {
     const auto imprecise = [](const WellRecord& r) {
       return std::find(r.flags.begin(), r.flags.end(), "imprecise") != r.flags.end();
     };
-    const Figures ci = weighted(recs, [&](const WellRecord& r) { return clean_well(r) && imprecise(r); }, abs_err);
+    const Figures ci = weighted(
+        recs, [&](const WellRecord& r) { return clean_well(r) && imprecise(r); }, abs_err);
     int n_clean = 0, cov_clean = 0, n_unfl = 0, cov_unfl = 0, other = 0;
     for (const auto& r : recs) {
       if (clean_well(r)) n_clean++, cov_clean += r.covered;

@@ -7,6 +7,7 @@
 
 #include "accuracy_harness.hpp"
 #include "rates/robust.hpp"
+#include "vzero/analysis.hpp"
 #include "vzero/blank.hpp"
 
 namespace vzero::accuracy {
@@ -199,12 +200,17 @@ void account_classes(const sim::Plate& p, const sim::Plate& twin, const PlateRun
 }
 
 std::string listing_line(const PlateRun& run, const sim::Plate& p, int w, unsigned art, const RateResult& r, double err,
-                         double naive_err) {
+                         double naive_err, const std::vector<std::string>& flags,
+                         const std::vector<std::string>& notes) {
   const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
   // Time to 10 % conversion from the integrated equation, from reaction start.
   const double t10 = (0.1 * truth.s0_uM + truth.km_uM * std::log(1 / 0.9)) / truth.vmax_uM_s;
-  std::string fl;
-  for (const auto& f : r.flags) fl += f + ";";
+  std::string fl;  // the flags, then the notes in brackets
+  for (const auto& f : flags) fl += f + ";";
+  if (!notes.empty()) {
+    fl += "[";
+    for (const auto& f : notes) fl += f + (&f == &notes.back() ? "]" : ",");
+  }
   return fmt::format(
       "seed {} well {:>2} S0/Km {:4.2f} t10 {:6.1f}s dt {:2.0f} dead {:4.1f} n {:2} art {:2} | "
       "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
@@ -247,6 +253,13 @@ void run_plate(const PlateRun& run, Totals& tot) {
     tr.rate_sd = blanks.rate_sd * std::sqrt(1.0 + 1.0 / std::max(1, blanks.per_row[row]));
     const RateResult r = find_rate(tr, run.options);
     ++tot.results;
+    // What rates.csv would say of the well: its flags (trust withheld) apart from its notes
+    // (corrections made), sorted as the pipeline sorts them (vzero::sort_rate_words).
+    bool used_high = false;
+    for (std::size_t i = 0; i < reads && i < r.used.size(); ++i)
+      used_high |= r.used[i] && raw[i] >= run.options.signal_ceiling;
+    std::vector<std::string> flags, notes;
+    sort_rate_words(r.flags, Role::sample, used_high, flags, notes);
     if (w == run.dump_well) dump(p, w, tr, r, raw, y, st);
     const double v0 = r.slope / p.signal_per_uM;
     const double err = std::isfinite(v0) ? 100 * std::fabs(v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY;
@@ -259,9 +272,10 @@ void run_plate(const PlateRun& run, Totals& tot) {
     tot.naive.push_back(naive_err);
     // The default listing knows the default scenario's artefacts only; the mix shows them all.
     const unsigned art = run.mix ? truth.artefacts : truth.artefacts & sim::k_default_scenario_bits;
-    tot.wells.push_back({err, listing_line(run, p, w, art, r, err, naive_err)});
-    if (r.flags.empty()) tot.err_clean.push_back(err);
-    for (const auto& f : r.flags) ++tot.flags[f];
+    tot.wells.push_back({err, listing_line(run, p, w, art, r, err, naive_err, flags, notes)});
+    if (flags.empty()) tot.err_clean.push_back(err);
+    for (const auto& f : flags) ++tot.flags[f];
+    for (const auto& f : notes) ++tot.notes[f];
     ++tot.ends[r.window_end];
     account_classes(p, twin, run, blanks, w, art, tr, r, err, naive_err, tot);
     const double oracle_v0 = oracle_slope(p, truth, y, st) / p.signal_per_uM;
@@ -275,9 +289,9 @@ void run_plate(const PlateRun& run, Totals& tot) {
                    std::isfinite(v0) ? 100 * (v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY,
                    naive_err,
                    std::isfinite(oracle_v0) ? 100 * std::fabs(oracle_v0 - truth.v0_uM_s) / truth.v0_uM_s : INFINITY,
-                   !r.flags.empty(),
+                   !flags.empty(),
                    r.tangent == "parabola",
-                   r.flags,
+                   flags,
                    r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM};
     if (run.mix)
       tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} blank-dist {:+.5f} | {}",

@@ -21,10 +21,11 @@ for t in $targets; do
   esac
   mkdir -p "corpus-$t" "artifacts/$t" logs
   echo "fuzz_$t: ${seconds} s"
-  nice -n 10 "./fuzz_$t" -jobs=1 -workers=1 -max_total_time="$seconds" -max_len="$max_len" \
+  # One process in the foreground (no -jobs): its log is its own, so two runs of this script
+  # with different targets can share the build folder.
+  nice -n "${VZERO_FUZZ_NICE:-10}" "./fuzz_$t" -max_total_time="$seconds" -max_len="$max_len" \
     -timeout=10 -rss_limit_mb=2048 -dict="$here/$dict" -artifact_prefix="artifacts/$t/" \
-    -print_final_stats=1 "corpus-$t" "seeds/$t" > "logs/$t.driver.log" 2>&1
-  mv -f fuzz-0.log "logs/$t.log" 2>/dev/null
+    -print_final_stats=1 "corpus-$t" "seeds/$t" > "logs/$t.log" 2>&1
   grep -E "^stat::number_of_executed_units|^stat::average_exec_per_sec|DONE|ERROR|SUMMARY" "logs/$t.log" | tail -5
   ls "artifacts/$t"
 done
