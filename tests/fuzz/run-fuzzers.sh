@@ -24,7 +24,7 @@ for t in $targets; do
   # One process in the foreground (no -jobs): its log is its own, so two runs of this script
   # with different targets can share the build folder.
   nice -n "${VZERO_FUZZ_NICE:-10}" "./fuzz_$t" -max_total_time="$seconds" -max_len="$max_len" \
-    -timeout=10 -rss_limit_mb=2048 -dict="$here/$dict" -artifact_prefix="artifacts/$t/" \
+    -timeout="${VZERO_FUZZ_TIMEOUT:-10}" -rss_limit_mb=2048 -dict="$here/$dict" -artifact_prefix="artifacts/$t/" \
     -print_final_stats=1 "corpus-$t" "seeds/$t" > "logs/$t.log" 2>&1
   grep -E "^stat::number_of_executed_units|^stat::average_exec_per_sec|DONE|ERROR|SUMMARY" "logs/$t.log" | tail -5
   ls "artifacts/$t"
