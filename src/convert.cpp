@@ -23,14 +23,13 @@ std::string_view to_string(ConvertMode m) {
 }
 
 const std::vector<EpsilonPreset>& epsilon_presets() {
-  // Only values with a source we can name. p-nitrophenolate is deliberately absent: its
+  // Only values in common use (common practice). p-nitrophenolate is deliberately absent: its
   // published ε405 spans ~18,000–18,400 M⁻¹·cm⁻¹ and depends on pH, so the user must give it.
   static const std::vector<EpsilonPreset> presets = {
       {"nadh-340", 6220.0, "340 nm",
-       "NADH, 6220 M⁻¹·cm⁻¹ at 340 nm: widely used; commonly cited to Horecker & Kornberg (1948) "
-       "J. Biol. Chem. 175, 385 (citation from memory, not verified)"},
+       "NADH, 6220 M⁻¹·cm⁻¹ at 340 nm: the value in common use (common practice)"},
       {"nadph-340", 6220.0, "340 nm",
-       "NADPH, 6220 M⁻¹·cm⁻¹ at 340 nm: the value commonly used for NADPH as for NADH (from memory)"},
+       "NADPH, 6220 M⁻¹·cm⁻¹ at 340 nm: as for NADH (common practice)"},
   };
   return presets;
 }

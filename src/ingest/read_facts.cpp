@@ -1,5 +1,5 @@
-// What a reader inferred about a file, and the time unit rule (README.md, "What vzero infers
-// from an export").
+// What a reader inferred about a file, and the time unit rule (docs/inputs.md, "What vzero
+// infers, and says").
 #include <fmt/format.h>
 #include <algorithm>
 #include <cmath>

@@ -13,7 +13,7 @@
 //     --long-rows N     rows of the big long-shape file (default 50,000,000)
 //     --big-read-only   read the big inputs but do not analyse them (--long-read-only: the long file only)
 //     --quick           small sizes, one repetition (a smoke test)
-// tests/bench/run.sh runs it with the pandas yardstick; README "Performance" quotes it.
+// tests/bench/run.sh runs it with the pandas yardstick; docs/performance.md quotes it.
 #include <fcntl.h>
 #include <spawn.h>
 #include <sys/resource.h>
