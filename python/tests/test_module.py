@@ -185,3 +185,19 @@ def test_bad_method_value_points_at_the_method_file(tmp_path):
 def test_unknown_option_is_a_usage_error():
     with pytest.raises(vzero.UsageError, match="max-convertion"):
         vzero.rates([os.path.join(SRC, PLATE)], layout=os.path.join(SRC, MAP), max_convertion=5)
+
+
+def test_flags_and_dashed_names(tmp_path, monkeypatch):
+    # signal_only=True is the flag --signal-only; a dashed key is taken as written.
+    r = cli("rates", PLATE, "--layout", MAP, "--signal-only", "--conc-unit", "uM", "-q", "-o", str(tmp_path / "r.csv"))
+    assert r.returncode == 0, r.stderr
+    monkeypatch.chdir(SRC)
+    out = vzero.rates_outputs(PLATE, layout=MAP, signal_only=True, summary=False, **{"conc-unit": "uM"})
+    assert out["csv"]["rates"] == read_text(tmp_path / "r.csv")
+    assert (out["rates"]["v0_unit"] != "uM/min").all()  # no conversion: signal units per minute
+
+
+def test_one_thread_gives_the_same_bytes(module_run, monkeypatch):
+    monkeypatch.chdir(SRC)
+    one = vzero.rates_outputs([PLATE], layout=MAP, method=METHOD, traces=True, threads=1)
+    assert one["csv"] == module_run["csv"]
