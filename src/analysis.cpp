@@ -226,7 +226,8 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     double blank_rate = sign * wb.blank_rate;
     if (o.blank.mode == BlankMode::rate && o.blank.strategy != BlankStrategy::none && row.role != Role::blank &&
         !std::isnan(row.rate.t_start_s)) {
-      blank_rate = sign * blank_rate_between(c, map, run.format, o.blank, j, row.rate.t_start_s, row.rate.t_end_s);
+      blank_rate =
+          sign * blank_rate_between(c, map, run.format, o.blank, ca.blank, j, row.rate.t_start_s, row.rate.t_end_s);
       if (!std::isnan(blank_rate))
         slope -= blank_rate;
       else if (wb.blank_wells.empty() == false)

@@ -125,6 +125,8 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   r.corrected = c.values;
   r.status = c.status;
   r.wells.resize(static_cast<std::size_t>(cols));
+  r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
+  r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
 
   std::vector<int> all_blanks;
   for (Eigen::Index j = 0; j < cols; ++j) {
@@ -150,7 +152,11 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
         }
     }
     Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
-    if (skip > 0) disturbed[b] = l;
+    if (skip > 0) {
+      disturbed[b] = l;
+      r.line_slope[static_cast<std::size_t>(b)] = l.slope;
+      r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
+    }
     blank_line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
@@ -269,8 +275,8 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   return r;
 }
 
-double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o, int column,
-                          double t0, double t1) {
+double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o,
+                          const BlankResult& blanks, int column, double t0, double t1) {
   std::vector<int> all_blanks;
   for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
@@ -285,7 +291,9 @@ double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, 
     int n = 0;
     for (int b : use)
       if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) {
-        s += c.values(static_cast<Eigen::Index>(i), b);
+        const auto k = static_cast<std::size_t>(b);
+        s += std::isnan(blanks.line_slope[k]) ? c.values(static_cast<Eigen::Index>(i), b)
+                                              : blanks.line_intercept[k] + blanks.line_slope[k] * c.time_s[i];
         ++n;
       }
     if (n > 0) {

@@ -61,6 +61,9 @@ struct BlankResult {
   Eigen::MatrixXd corrected;     // raw − blank; NaN where unusable
   StatusMatrix status;           // raw status; `excluded` where the blank has no value at that read
   std::vector<WellBlank> wells;  // one per channel column
+  // Per channel column, for blank wells with a disturbed start: the line (signal = intercept
+  // + slope·t) of their reads after it, which stands in for their reads; NaN elsewhere.
+  std::vector<double> line_slope, line_intercept;
 };
 
 // One blank well's start, screened as a sample's is (src/rates/start_screen.hpp: a jump or a
@@ -74,8 +77,10 @@ int screen_blank_start(const std::vector<double>& time_s, const double* y, const
 BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
 
 // Mean blank trace's OLS slope over [t0_s, t1_s] for channel column `column` (signal units
-// per second), used by the `rate` mode; NaN when the well has no blank or too few reads.
+// per second), used by the `rate` mode; NaN when the well has no blank or too few reads. A
+// blank with a disturbed start enters by its line (`blanks`, from apply_blank), as in the
+// trace mode, so its disturbance never reaches a sample.
 double blank_rate_between(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options,
-                          int column, double t0_s, double t1_s);
+                          const BlankResult& blanks, int column, double t0_s, double t1_s);
 
 }  // namespace vzero
