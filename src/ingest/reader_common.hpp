@@ -59,6 +59,10 @@ inline constexpr double k_max_time_s = 1e10;
 // with their units ("0 min 20 s", "1 h 5 min"); nullopt
 // when the text is no time or lies beyond k_max_time_s.
 std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal);
+// "1 h 2 min 3.5 s", "0 min 20 s", "20s": numbers each followed by its unit (h, min, s), the
+// units in that order, each at most once, in seconds; nullopt for any other text
+// (cell_forms.cpp, as temperature_header and overflow_form).
+std::optional<double> worded_time(std::string_view text, char decimal);
 // True when parse_time refuses `text` only because it lies beyond k_max_time_s (or beyond a
 // double).
 bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal);
