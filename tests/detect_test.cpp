@@ -28,9 +28,13 @@ std::string detection_message(const std::string& name) {
   }
 }
 
-const std::string k_nearest_tail =
-    ", the nearest, stops here; if the file has another layout, write a profile for it "
-    "(instrument-profiles/README.md) and pass it with --profile";
+// The last fix of every such message, for the nearest profile `name`.
+std::string nearest_fix(const std::string& name) {
+  return "if the file has another layout, write a profile for it (instrument-profiles/README.md: start from `vzero "
+         "profile show " +
+         name + "`, test it with `vzero profile check FILE --profile yours.toml`) and put it in your profile folder "
+         "or pass it with --profile";
+}
 
 }  // namespace
 
@@ -38,12 +42,12 @@ TEST_CASE("a grid read with a header and no plate row is blamed on its header li
   // Before: "no built-in profile reads this file; what each found:" with no line, and
   // grid-generic "found no reads: no line matches the profile's `grid.read_label`".
   CHECK(detection_message("fail_grid_header_no_rows.txt") ==
-        "fail_grid_header_no_rows.txt:4: expected plate rows (A, B, …) after the header of the read at line 3\n"
+        "fail_grid_header_no_rows.txt:4: no built-in profile reads this file; the nearest, grid-generic, stops here: "
+        "expected plate rows (A, B, …) after the header of the read at line 3\n"
         "  line 4: \t1\t2\t3\n"
         "  possible fixes:\n"
         "    - check that the export is complete\n"
-        "    - no built-in profile reads this file; grid-generic" +
-            k_nearest_tail);
+        "    - " + nearest_fix("grid-generic"));
 }
 
 TEST_CASE("a file whose every value is an overflow token names the profile that reads its layout") {
@@ -91,36 +95,36 @@ TEST_CASE("a file with CR-only line ends is read as its LF original") {
 TEST_CASE("a header of wells without a time column is blamed on that header") {
   // Before (both files): "no built-in profile reads this file; what each found:", no line.
   CHECK(detection_message("fail_no_time_column.csv") ==
-        "fail_no_time_column.csv:2:1: expected a time column (\"time\", \"time [s]\", \"time (s)\", \"time_s\", "
+        "fail_no_time_column.csv:2:1: no built-in profile reads this file; the nearest, wide-generic, stops here: "
+        "expected a time column (\"time\", \"time [s]\", \"time (s)\", \"time_s\", "
         "\"time [min]\", \"time (min)\", \"time_min\") in this header of 3 well columns, found none\n"
         "  line 2: A1,A2,A3\n"
         "  possible fixes:\n"
         "    - add the column of read times to the export, with a header such as \"Time [s]\" (or \"Time [min]\")\n"
-        "    - no built-in profile reads this file; wide-generic" +
-            k_nearest_tail);
+        "    - " + nearest_fix("wide-generic"));
   CHECK(detection_message("fail_time_column_unknown_name.csv") ==
-        "fail_time_column_unknown_name.csv:2:1: expected a time column (\"time\", \"time [s]\", \"time (s)\", "
+        "fail_time_column_unknown_name.csv:2:1: no built-in profile reads this file; the nearest, wide-generic, stops here: "
+        "expected a time column (\"time\", \"time [s]\", \"time (s)\", "
         "\"time_s\", \"time [min]\", \"time (min)\", \"time_min\") in this header of 3 well columns, found "
         "\"Elapsed\"\n"
         "  line 2: Elapsed,A1,A2,A3\n"
         "  possible fixes:\n"
         "    - if \"Elapsed\" holds the read times, name it \"Time [s]\" (or \"Time [min]\") in the header, or add it "
         "to `columns.time` in a profile of your own (instrument-profiles/README.md)\n"
-        "    - no built-in profile reads this file; wide-generic" +
-            k_nearest_tail);
+        "    - " + nearest_fix("wide-generic"));
 }
 
 TEST_CASE("a long header without a value column is blamed on that header, at the unknown column") {
   // Before: "no built-in profile reads this file; what each found:", no line.
   CHECK(detection_message("fail_no_value_column_long.csv") ==
-        "fail_no_value_column_long.csv:2:11: expected a value column (\"value\", \"signal\", \"reading\") in this "
+        "fail_no_value_column_long.csv:2:11: no built-in profile reads this file; the nearest, long-generic, stops here: "
+        "expected a value column (\"value\", \"signal\", \"reading\") in this "
         "header, found \"absorbance\"\n"
         "  line 2: well,time,absorbance\n"
         "  possible fixes:\n"
         "    - if \"absorbance\" holds the values, name it \"value\" in the header, or add it to `columns.value` in a "
         "profile of your own (instrument-profiles/README.md)\n"
-        "    - no built-in profile reads this file; long-generic" +
-            k_nearest_tail);
+        "    - " + nearest_fix("long-generic"));
 }
 
 TEST_CASE("near misses do not disturb a file another profile reads, nor a plate map's hint") {

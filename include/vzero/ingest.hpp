@@ -32,13 +32,15 @@ struct ProfileChoice {
   std::string reason;     // why, in words, e.g. "wide-generic: header at line 7 ..."
 };
 
-// `requested` is a built-in profile name or a path; empty means detect: every built-in
-// profile is tried on the start of the file and the one that reads the most values
-// without error wins (ties go to the first name in sorted order). When none reads a
-// number, throws an InputError naming the nearest profile: one that reads the layout but
-// finds only overflow or missing tokens (at the first value), else the one that stops
-// furthest into the file (its line, what it expected and found, its fixes), else listing
-// what each profile found. The start is bounded whatever the file's
+// `requested` is a profile name (the user's profile folders first, then the built-ins) or a
+// path; empty means detect: the profiles of the user's folders (profile_folders()), then,
+// if none of them reads a number, every built-in profile, are tried on the start of the file
+// and the one that reads the most values without error wins (ties go to the first tried:
+// file name order, built-ins by name). When none reads a number, throws an InputError naming
+// the nearest profile: one that reads the layout but finds only overflow or missing tokens
+// (at the first value), else the one that stops furthest into the file (the message leads
+// with its name, then its line:column, what it expected and found, and its fixes), else
+// listing what each profile found. The start is bounded whatever the file's
 // size: the first 400 lines, no more than 64 KiB of them besides the longest, read from the
 // first MiB (further only when its lines run past it; a line is at most 16 MiB).
 // A workbook's sheet (`sheet`, as for read_run) is rendered as text and detected the same way.

@@ -85,7 +85,8 @@ struct Profile {
 // bad values and regexes that do not compile are InputErrors with the profile's line.
 Profile parse_profile(std::string_view toml_text, const std::string& source, const std::string& name);
 
-// A built-in profile name ("wide-generic") or a path to a .toml file.
+// A profile name or a path to a .toml file. A name is looked up in the profile folders
+// first (see profile_folders), then among the built-in profiles.
 Profile load_profile(const std::string& name_or_path);
 
 // Sets the unit of plain-number times as --time-unit does ("s", "min" or "h"; UsageError
@@ -93,8 +94,35 @@ Profile load_profile(const std::string& name_or_path);
 // header still wins.
 void state_time_unit(Profile& p, const std::string& unit);
 
+// The built-in profile of that name (source "built-in"), if there is one.
+std::optional<Profile> builtin_profile(const std::string& name);
+
 // Names of the built-in profiles, sorted.
 std::vector<std::string> builtin_profile_names();
+
+// The profile folders of this user, in the order detection tries them: the folder named by
+// the environment variable VZERO_PROFILES, then $XDG_CONFIG_HOME/vzero/profiles (else
+// ~/.config/vzero/profiles). `from` says which ("VZERO_PROFILES", "user config folder").
+// A folder that does not exist is left out, except VZERO_PROFILES naming no folder: an
+// InputError with the fix.
+struct ProfileFolder {
+  std::string path;
+  std::string from;
+};
+std::vector<ProfileFolder> profile_folders();
+// $XDG_CONFIG_HOME/vzero/profiles, else ~/.config/vzero/profiles, whether or not it exists
+// ("" without HOME).
+std::string user_profile_folder();
+
+// A built-in profile as a commented TOML template to copy: a header saying how to use it,
+// its text with `name` changed to "my-NAME", and the keys it leaves at their defaults
+// written out as comments. Empty when `name` is no built-in profile.
+std::string profile_template(const std::string& name);
+
+// Every *.toml profile of the profile folders, folder by folder in that order, by file name
+// within one. Each is parsed as load_profile parses a file (source = its path); a profile
+// that does not parse is an InputError naming its line, never skipped.
+std::vector<Profile> folder_profiles();
 
 namespace detail {
 struct EmbeddedProfile {

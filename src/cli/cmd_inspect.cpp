@@ -49,30 +49,8 @@ std::string well_list(const Run& run, const Channel& c, ReadStatus s, int* count
 
 }  // namespace
 
-int cmd_inspect(const Args& args) {
-  namespace po = boost::program_options;
-  std::string file, profile, sheet, time_unit;
-  po::options_description opts(k_usage);
-  opts.add_options()("profile,p", po::value(&profile),
-                     "instrument profile: a built-in name or a .toml path (default: detect)")(
-      "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")(
-      "time-unit", po::value(&time_unit),
-      "unit of plain-number read times when the time header names none: s, min or h (as vzero rates)")(
-      "help,h", "show this help");
-  po::options_description hidden;
-  hidden.add_options()("file", po::value(&file));
-  po::positional_options_description pos;
-  pos.add("file", 1);
-  auto vm = parse_command_line(args, opts, hidden, pos);
-  if (vm.count("help")) {
-    print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() + "\n");
-    return 0;
-  }
-  if (file.empty()) throw UsageError("expected a FILE to inspect");
-
-  ProfileChoice choice = choose_profile(file, profile, sheet);
-  if (!time_unit.empty()) state_time_unit(choice.profile, time_unit);
-  Run run = read_run(file, choice.profile, sheet);
+// What inspect prints about a run read with `choice`.
+std::string describe_run(const Run& run, const ProfileChoice& choice) {
   std::string out;
   out += fmt::format("file      {}\n", run.source);
   out += fmt::format("sha256    {}\n", run.sha256);
@@ -113,6 +91,34 @@ int cmd_inspect(const Args& args) {
   for (const auto& f : run.read_facts)
     out += fmt::format("  {:<15} {}{}\n", f.name, f.value, f.basis.empty() ? "" : "  (" + f.basis + ")");
   for (const auto& n : run.read_notes) out += fmt::format("  note: {}\n", n);
+  return out;
+}
+
+int cmd_inspect(const Args& args) {
+  namespace po = boost::program_options;
+  std::string file, profile, sheet, time_unit;
+  po::options_description opts(k_usage);
+  opts.add_options()("profile,p", po::value(&profile),
+                     "instrument profile: a built-in name or a .toml path (default: detect)")(
+      "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")(
+      "time-unit", po::value(&time_unit),
+      "unit of plain-number read times when the time header names none: s, min or h (as vzero rates)")(
+      "help,h", "show this help");
+  po::options_description hidden;
+  hidden.add_options()("file", po::value(&file));
+  po::positional_options_description pos;
+  pos.add("file", 1);
+  auto vm = parse_command_line(args, opts, hidden, pos);
+  if (vm.count("help")) {
+    print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() + "\n");
+    return 0;
+  }
+  if (file.empty()) throw UsageError("expected a FILE to inspect");
+
+  ProfileChoice choice = choose_profile(file, profile, sheet);
+  if (!time_unit.empty()) state_time_unit(choice.profile, time_unit);
+  Run run = read_run(file, choice.profile, sheet);
+  const std::string out = describe_run(run, choice);
   print_out(out);
   return 0;
 }

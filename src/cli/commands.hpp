@@ -6,6 +6,8 @@
 #include <string>
 #include <vector>
 
+#include "vzero/ingest.hpp"
+
 namespace vzero::cli {
 
 using Args = std::vector<std::string>;
@@ -14,6 +16,10 @@ int cmd_inspect(const Args& args);
 int cmd_rates(const Args& args);
 int cmd_fit(const Args& args);
 int cmd_report(const Args& args);
+int cmd_profile(const Args& args);
+
+// What `vzero inspect` prints about a run read with `choice` (also `vzero profile check`).
+std::string describe_run(const Run& run, const ProfileChoice& choice);
 
 // Writes text to stdout; a closed pipe (vzero ... | head) is not an error.
 void print_out(const std::string& text);

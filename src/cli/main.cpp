@@ -27,6 +27,8 @@ commands:
                       rates.csv and datapackage.json (and optional traces and summary)
   fit TABLE.csv       fit Michaelis–Menten and related models to a rates or summary table
   report ...          write a self-contained HTML report of a run
+  profile list|show|check   the instrument profiles (built-in and yours): list them, print
+                      one as a template to copy, check one on an export
 
   vzero COMMAND --help    options of one command
   vzero --version         the version
@@ -104,9 +106,11 @@ int main(int argc, char** argv) {
     if (command == "rates") return cmd_rates(rest);
     if (command == "fit") return cmd_fit(rest);
     if (command == "report") return cmd_report(rest);
-    const std::string near = vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report"}, 2);
+    if (command == "profile") return cmd_profile(rest);
+    const std::string near =
+        vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report", "profile"}, 2);
     print_err(
-        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report (see vzero --help)",
+        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report, profile (see vzero --help)",
                     command, near.empty() ? "" : "did you mean " + near + "? "));
     return 2;
   } catch (const vzero::UsageError& e) {

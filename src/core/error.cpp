@@ -1,6 +1,7 @@
 #include "vzero/error.hpp"
 
 #include <fmt/format.h>
+#include <algorithm>
 
 namespace vzero {
 
@@ -10,6 +11,22 @@ std::string location(const Where& w) {
   if (w.line <= 0) return w.file + ": ";
   if (w.column <= 0) return fmt::format("{}:{}: ", w.file, w.line);
   return fmt::format("{}:{}:{}: ", w.file, w.line, w.column);
+}
+
+// A long line is cut so the message stays readable: its first 157 bytes, or when the column
+// named lies beyond them, 157 bytes centred on that column, "..." marking each cut (cuts
+// fall between UTF-8 characters).
+std::string excerpt(const std::string& text, int column) {
+  constexpr std::size_t k_keep = 157;
+  if (text.size() <= 160) return text;
+  const auto cont = [&](std::size_t i) { return i < text.size() && (static_cast<unsigned char>(text[i]) & 0xC0) == 0x80; };
+  std::size_t from = 0;
+  const auto at = static_cast<std::size_t>(column > 0 ? column - 1 : 0);
+  if (at + 20 > k_keep) from = std::min(at - k_keep / 2, text.size() - k_keep);
+  while (from > 0 && cont(from)) --from;
+  std::size_t to = std::min(text.size(), from + k_keep);
+  while (to < text.size() && cont(to)) ++to;
+  return (from > 0 ? "..." : "") + text.substr(from, to - from) + (to < text.size() ? "..." : "");
 }
 }  // namespace
 
@@ -22,9 +39,7 @@ InputError::InputError(Where where, std::string what, std::vector<std::string> f
 std::string InputError::formatted() const {
   std::string out = location(where_) + message_;
   if (!where_.text.empty()) {
-    // Long lines are cut so the message stays readable; the column still points into it.
-    std::string shown = where_.text.size() > 160 ? where_.text.substr(0, 157) + "..." : where_.text;
-    out += fmt::format("\n  line {}: {}", where_.line, shown);
+    out += fmt::format("\n  line {}: {}", where_.line, excerpt(where_.text, where_.column));
   }
   if (fixes_.size() == 1) {
     out += "\n  possible fix: " + fixes_.front();

@@ -38,7 +38,7 @@ Run dispatch(detail::LineSource& src, const Profile& profile, bool prefix_only, 
 const std::vector<Profile>& builtin_profiles() {
   static const std::vector<Profile> all = [] {
     std::vector<Profile> v;
-    for (const auto& name : builtin_profile_names()) v.push_back(load_profile(name));
+    for (const auto& name : builtin_profile_names()) v.push_back(*builtin_profile(name));
     return v;
   }();
   return all;
@@ -61,31 +61,46 @@ struct TokensOnly {
   long long overflow = 0, missing = 0;
 };
 
-// The error when no built-in profile reads a file, naming the nearest: one that read its
-// layout but found only tokens, else the one that stopped furthest into the file (its error
-// and place), else what each found.
+// What detection learnt from the profiles tried on the head of a file.
+struct Trial {
+  const std::string& path;
+  const std::string& head;
+  std::string tried;  // what each profile found, a line each
+  long long best = 0;
+  // The error of the profile that got furthest into the file (a line, not "found no header").
+  std::optional<InputError> furthest;
+  std::string furthest_name;
+  std::optional<TokensOnly> tokens;  // the first profile that read the layout but no number
+};
+
+// The error when no profile reads a file (`none` says which were tried), naming the nearest:
+// one that read its layout but found only tokens, else the one that stopped furthest into the
+// file (its name, place and reason, and its fixes), else what each found.
 InputError no_profile_error(const std::string& path, const std::string& head, const std::string& scope,
-                            const std::string& tried, const std::optional<TokensOnly>& tokens,
-                            const std::optional<InputError>& furthest, const std::string& furthest_name) {
-  if (tokens) {
+                            const std::string& none, const Trial& t) {
+  if (const auto& tokens = t.tokens) {
     return InputError(
         tokens->first_value,
-        fmt::format("expected numbers among the values, found only overflow or missing tokens: the built-in profile {} "
+        fmt::format("expected numbers among the values, found only overflow or missing tokens: the {} profile {} "
                     "reads this file's layout, and all {} values {} are tokens ({} overflow, {} missing)",
-                    tokens->name, tokens->overflow + tokens->missing, scope, tokens->overflow, tokens->missing),
+                    none == "no built-in profile" ? "built-in" : "nearest", tokens->name,
+                    tokens->overflow + tokens->missing, scope, tokens->overflow, tokens->missing),
         {"check that the plate was read as intended: with no number in any well there is no rate to find",
          fmt::format("to read the file as it is (every well then flagged), pass --profile {}", tokens->name)});
   }
-  if (furthest) {
-    // One profile recognised the layout and stopped at a line: that error, with its place
-    // and fixes, tells the user more than the list of what every profile found.
+  if (const auto& furthest = t.furthest) {
+    // One profile recognised the layout and stopped at a line: its name, that line and its
+    // reason tell the user more than the list of what every profile found.
     std::vector<std::string> fixes = furthest->fixes();
-    fixes.push_back(
-        fmt::format("no built-in profile reads this file; {}, the nearest, stops here; if the file has "
-                    "another layout, write a profile for it (instrument-profiles/README.md) and pass it "
-                    "with --profile",
-                    furthest_name));
-    return InputError(furthest->where(), furthest->message(), std::move(fixes));
+    fixes.push_back(fmt::format(
+        "if the file has another layout, write a profile for it (instrument-profiles/README.md: start from `vzero "
+        "profile show {}`, test it with `vzero profile check FILE --profile yours.toml`) and put it in your "
+        "profile folder or pass it with --profile",
+        t.furthest_name));
+    return InputError(furthest->where(),
+                      fmt::format("{} reads this file; the nearest, {}, stops here: {}", none, t.furthest_name,
+                                  furthest->message()),
+                      std::move(fixes));
   }
   std::vector<std::string> fixes;
   // A plate map given where the export belongs is a common slip.
@@ -100,7 +115,7 @@ InputError no_profile_error(const std::string& path, const std::string& head, co
   if (lowered.find("well") != std::string::npos && lowered.find("role") != std::string::npos)
     fixes.emplace_back("this looks like a plate map (it has `well` and `role` columns): pass it with --layout");
   fixes.emplace_back("write a profile for this export (see instrument-profiles/README.md) and pass it with --profile");
-  return InputError(Where{path}, "no built-in profile reads this file; what each found:" + tried, fixes);
+  return InputError(Where{path}, none + " reads this file; what each found:" + t.tried, fixes);
 }
 
 // A workbook's cells written as the profile reads them: its decimal mark, its delimiter (else
@@ -160,6 +175,38 @@ ProfileChoice choose_profile(const std::string& path, const std::string& request
 }
 
 namespace {
+
+// One profile tried on the head of a file: the best reader so far is kept in `choice`, the
+// nearest miss (the error furthest into the file) and the first reader of tokens only in `t`.
+void try_profile(Trial& t, const Profile& p, const std::string& lines, ProfileChoice& choice) {
+  try {
+    detail::LineSource src(t.path, t.head, detail::LineSource::NoHash{});
+    Where first_value;
+    Run run = dispatch(src, p, true, &first_value);
+    long long n = ok_values(run);
+    t.tried += fmt::format("\n    {}: reads {} values", p.name, n);
+    if (n > t.best) {
+      t.best = n;
+      choice.profile = p;
+      choice.reason = p.source == "built-in"
+                          ? fmt::format("detected: it reads {} values in {} without error", n, lines)
+                          : fmt::format("detected, from your profile folder: it reads {} values in {} without error",
+                                        n, lines);
+    }
+    if (first_value.line == 0) first_value = Where{t.path};
+    if (n == 0 && !t.tokens)
+      t.tokens = TokensOnly{p.name, first_value, count_status(run, ReadStatus::overflow),
+                            count_status(run, ReadStatus::missing)};
+  } catch (const InputError& e) {
+    t.tried += fmt::format("\n    {}: {}", p.name, e.message());
+    const Where& w = e.where();
+    if (w.line > 0 && (!t.furthest || w.line > t.furthest->where().line ||
+                       (w.line == t.furthest->where().line && w.column > t.furthest->where().column))) {
+      t.furthest = e;
+      t.furthest_name = p.name;
+    }
+  }
+}
 
 // choose_profile for a text export, or for a workbook's sheet rendered as text (`book`).
 ProfileChoice choose_in(const std::string& path, const std::string& requested, const detail::SheetText* book) {
@@ -222,46 +269,18 @@ ProfileChoice choose_in(const std::string& path, const std::string& requested, c
         Where{path}, book ? "the sheet is empty" : "the file is empty",
         {book ? "pass the sheet that holds the reads with --sheet" : "check that the right file was given"});
   }
-  std::string tried;
-  long long best = 0;
-  // The error of the profile that got furthest into the file (a line, not "found no header").
-  std::optional<InputError> furthest;
-  std::string furthest_name;
-  std::optional<TokensOnly> tokens;  // the first profile that read the layout but no number
-  const auto& names = builtin_profile_names();
-  const auto& profiles = builtin_profiles();
-  for (std::size_t k = 0; k < names.size(); ++k) {
-    const std::string& name = names[k];
-    const Profile& p = profiles[k];
-    try {
-      detail::LineSource src(path, head, detail::LineSource::NoHash{});
-      Where first_value;
-      Run run = dispatch(src, p, true, &first_value);
-      long long n = ok_values(run);
-      tried += fmt::format("\n    {}: reads {} values", name, n);
-      if (n > best) {
-        best = n;
-        choice.profile = p;
-        choice.reason = fmt::format("detected: it reads {} values in the first {} lines without error", n,
-                                    capped ? sniffed : k_sniff_lines);
-      }
-      if (first_value.line == 0) first_value = Where{path};
-      if (n == 0 && !tokens)
-        tokens = TokensOnly{name, first_value, count_status(run, ReadStatus::overflow),
-                            count_status(run, ReadStatus::missing)};
-    } catch (const InputError& e) {
-      tried += fmt::format("\n    {}: {}", name, e.message());
-      const Where& w = e.where();
-      if (w.line > 0 && (!furthest || w.line > furthest->where().line ||
-                         (w.line == furthest->where().line && w.column > furthest->where().column))) {
-        furthest = e;
-        furthest_name = name;
-      }
-    }
+  Trial trial{path, head, "", 0, {}, {}, {}};
+  const std::string lines = fmt::format("the first {} lines", capped ? sniffed : k_sniff_lines);
+  // The user's profile folders first: one of them that reads the file wins over the built-ins.
+  const std::vector<Profile> own = folder_profiles();
+  for (const auto& p : own) try_profile(trial, p, lines, choice);
+  if (trial.best == 0) {
+    for (const auto& p : builtin_profiles()) try_profile(trial, p, lines, choice);
   }
-  if (best == 0) {
+  if (trial.best == 0) {
     throw no_profile_error(path, head, head_is_file ? "in the file" : fmt::format("in its first {} lines", sniffed),
-                           tried, tokens, furthest, furthest_name);
+                           own.empty() ? "no built-in profile" : "no profile (built-in or of your profile folders)",
+                           trial);
   }
   choice.detected = true;
   return choice;

@@ -322,22 +322,34 @@ std::vector<std::string> builtin_profile_names() {
   return out;
 }
 
-Profile load_profile(const std::string& name_or_path) {
+std::optional<Profile> builtin_profile(const std::string& name) {
   for (const auto& e : detail::embedded_profiles()) {
-    if (name_or_path == e.name) {
+    if (name == e.name) {
       Profile p = parse_profile(e.text, std::string("built-in profile ") + e.name, e.name);
       p.source = "built-in";
       p.time_unit_from.clear();  // a built-in's time_unit is a default (see Profile)
       return p;
     }
   }
+  return std::nullopt;
+}
+
+Profile load_profile(const std::string& name_or_path) {
   namespace fs = std::filesystem;
+  // A plain name: the user's profile folders first, as detection tries them.
+  if (fs::path(name_or_path).extension() != ".toml") {
+    for (auto& p : folder_profiles())
+      if (p.name == name_or_path) return std::move(p);
+  }
+  if (auto p = builtin_profile(name_or_path)) return std::move(*p);
   std::error_code ec;
   if (!fs::is_regular_file(name_or_path, ec)) {
     std::string names;
     for (const auto& n : builtin_profile_names()) names += (names.empty() ? "" : ", ") + n;
     throw InputError(Where{}, fmt::format("no profile named \"{}\" and no such file", name_or_path),
-                     {fmt::format("use a built-in profile ({}) or the path of a .toml profile", names)});
+                     {fmt::format("use a built-in profile ({}), one of your profile folders (vzero profile list) or the path of "
+                                  "a .toml profile",
+                                  names)});
   }
   detail::FileBytes f = detail::read_whole_file(name_or_path, "check the --profile path");
   Profile p = parse_profile(f.text, name_or_path, fs::path(name_or_path).stem().string());

@@ -2,7 +2,9 @@
 // infers, and says").
 #include <fmt/format.h>
 #include <algorithm>
+#include <cctype>
 #include <cmath>
+#include <string>
 
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
@@ -118,8 +120,47 @@ void ReadInfo::saw_overflow(std::string_view token) {
   if (std::find(overflow_seen.begin(), overflow_seen.end(), t) == overflow_seen.end()) overflow_seen.push_back(t);
 }
 
+void ReadInfo::saw_preamble(std::string_view line, int ln) {
+  if (wavelengths.size() > 8) return;  // enough to know there is more than one
+  const auto digit = [&](std::size_t i) { return std::isdigit(static_cast<unsigned char>(line[i])) != 0; };
+  for (std::size_t at = line.find("nm"); at != std::string_view::npos; at = line.find("nm", at + 2)) {
+    if (at + 2 < line.size() && std::isalnum(static_cast<unsigned char>(line[at + 2]))) continue;  // "nmol"
+    std::size_t end = at;
+    while (end > 0 && line[end - 1] == ' ') --end;
+    std::size_t begin = end;
+    while (begin > 0 && digit(begin - 1)) --begin;
+    if (end - begin < 3 || end - begin > 4 || (begin > 0 && (line[begin - 1] == '.' || line[begin - 1] == ',')))
+      continue;
+    const int nm = std::stoi(std::string(line.substr(begin, end - begin)));
+    if (nm < 200 || nm > 1000) continue;
+    if (std::none_of(wavelengths.begin(), wavelengths.end(), [&](const Wavelength& w) { return w.nm == nm; }))
+      wavelengths.push_back({nm, std::string(line.substr(begin, at + 2 - begin)), ln});
+  }
+}
+
+namespace {
+// A file with one channel that no section names, and one wavelength in the lines outside its
+// data ("Wavelength: 340 nm"): the channel is named from it, A340 (absorbance, AU), unless the
+// profile names the channel (`signal.name`).
+void channel_from_wavelength(Run& run, ReadInfo& info, const Profile& p) {
+  if (run.channels.size() != 1 || info.channels.size() != 1 || info.wavelengths.size() != 1) return;
+  if (p.signal_name != Profile{}.signal_name || run.channels[0].name != p.signal_name) return;
+  if (info.channels[0].second.rfind("no section label", 0) != 0) return;
+  const auto& w = info.wavelengths[0];
+  Channel& c = run.channels[0];
+  c.name = fmt::format("A{}", w.nm);
+  c.quantity = Quantity::other;
+  c.unit.clear();
+  guess_quantity(c.name, c.quantity, c.unit);
+  info.channels[0] = {c.name, fmt::format("no section label; the wavelength \"{}\" at line {}, the only one "
+                                          "outside the data, read as an absorbance channel",
+                                          w.text, w.line)};
+}
+}  // namespace
+
 void settle_reading(Run& run, ReadInfo& info, const Profile& p) {
   settle_time_unit(run, info);
+  channel_from_wavelength(run, info, p);
   const std::string from_profile = fmt::format("profile {}", p.name);
   run.read_facts.insert(run.read_facts.begin(), ReadFact{"shape", run.shape, from_profile});
   if (info.delimiter != 0) {
@@ -138,8 +179,16 @@ void settle_reading(Run& run, ReadInfo& info, const Profile& p) {
   for (const auto& [name, basis] : info.channels) run.read_facts.push_back({"channel", name, basis});
   std::string seen;
   for (const auto& t : info.overflow_seen) seen += (seen.empty() ? "\"" : ", \"") + t + "\"";
-  run.read_facts.push_back({"overflow_tokens", seen.empty() ? "none in the file" : seen,
-                            fmt::format("{} `overflow` ({})", from_profile, quoted_list(p.overflow_tokens))});
+  std::string basis = fmt::format("{} `overflow` ({})", from_profile, quoted_list(p.overflow_tokens));
+  const auto in_list = [&](const std::string& t) {
+    return std::any_of(p.overflow_tokens.begin(), p.overflow_tokens.end(),
+                       [&](const std::string& tok) { return iequals(t, tok); });
+  };
+  if (std::any_of(info.overflow_seen.begin(), info.overflow_seen.end(), [&](const auto& t) { return !in_list(t); }))
+    basis += ", and the spellings every profile reads: a value above the range (\">3.5\"), a run of '*', or " +
+             quoted_list(std::vector<std::string>(std::begin(k_overflow_words), std::end(k_overflow_words))) +
+             " in any case";
+  run.read_facts.push_back({"overflow_tokens", seen.empty() ? "none in the file" : seen, basis});
   constexpr std::size_t k_notes = 50;  // a file with a blank line after every row says so once
   if (info.notes.size() > k_notes) {
     const std::size_t more = info.notes.size() - k_notes;

@@ -297,6 +297,7 @@ Run read_grid(ReaderInput in) {
     if (!is_label) {
       stray_grid_line(in.cp, line, Where{file, ln, 1, std::string(line)}, ended_line, ended_text, stray);
       match_capture(in.cp, line, run.metadata);
+      in.info.saw_preamble(line, ln);
       continue;
     }
     ended_line = 0;

@@ -78,7 +78,7 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
     const auto k = static_cast<int>(i);
     const std::string_view name = trim(views[i].text);
     if (name.empty() || k == c.well || k == c.time || k == c.value) continue;
-    if (named(name, p.channel_columns) || named(name, p.temperature_columns)) continue;
+    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
     unknown = &views[i];
     ++unknowns;
   }
@@ -130,7 +130,9 @@ Run read_long(ReaderInput in) {
         if (c.time >= 0) c.value = find_column(views, p.value_columns);
         if (c.well >= 0 && c.time >= 0 && c.value >= 0) {
           c.channel = find_column(views, p.channel_columns);
-          c.temp = find_column(views, p.temperature_columns);
+          c.temp = -1;
+          for (std::size_t i = 0; i < views.size() && c.temp < 0; ++i)
+            if (temperature_header(views[i].text, p.temperature_columns)) c.temp = static_cast<int>(i);
           c.count = views.size();
           c.line = ln;
           const FieldView& tf = views[static_cast<std::size_t>(c.time)];
@@ -162,12 +164,14 @@ Run read_long(ReaderInput in) {
               delimiter_error(Where{file, ln, 1, std::string(line)}, line, p.delimiter, views.size(), "header fields");
       }
       match_capture(in.cp, line, run.metadata);
+      in.info.saw_preamble(line, ln);
       continue;
     }
     if (tl.front() == '#') {
       skipped_at.push_back(rows.size());
       in.info.notes.push_back(fmt::format("line {}: a comment line inside the table, read through", ln));
       match_capture(in.cp, line, run.metadata);
+      in.info.saw_preamble(line, ln);
       continue;
     }
     split_views_into(line, cols->delimiter, views, scratch);

@@ -10,7 +10,9 @@ namespace vzero::detail {
 
 namespace {
 
-enum class ColumnRole { time, temperature, ignored, well };
+// padding: an empty header field at the end of the line (with only empty ones after it),
+// whose cells must be empty too.
+enum class ColumnRole { time, temperature, ignored, padding, well };
 
 struct Header {
   char delimiter = ',';
@@ -31,6 +33,14 @@ bool matches_any(std::string_view text, const std::vector<std::string>& names) {
   return false;
 }
 
+// True when field i and every field after it are empty: the columns a spreadsheet adds at
+// the end of each line when it saves a CSV again.
+bool trailing_empty(const std::vector<Field>& fields, std::size_t i) {
+  for (std::size_t k = i; k < fields.size(); ++k)
+    if (!trim(fields[k].text).empty()) return false;
+  return true;
+}
+
 // Keeps in `near` a line of well columns that lacks only a time column: every field a well,
 // an empty field, a temperature or ignored column, but for at most one (a time column under
 // a name the profile does not know).
@@ -39,7 +49,7 @@ void note_near_header(const Profile& p, std::string_view line, const std::string
   const Field* unknown = nullptr;
   for (const auto& f : fields) {
     const std::string_view name = trim(f.text);
-    if (name.empty() || parse_well(name) || matches_any(name, p.temperature_columns) ||
+    if (name.empty() || parse_well(name) || temperature_header(name, p.temperature_columns) ||
         matches_any(name, p.ignore_columns))
       continue;
     if (unknown) return;  // two fields that are neither: not a header of wells
@@ -85,7 +95,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
     if (col == time_col) {
       h.roles.push_back(ColumnRole::time);
       h.slot.push_back(-1);
-    } else if (h.temp_col < 0 && matches_any(name, p.temperature_columns)) {
+    } else if (h.temp_col < 0 && temperature_header(name, p.temperature_columns)) {
       h.temp_col = col;
       h.roles.push_back(ColumnRole::temperature);
       h.slot.push_back(-1);
@@ -103,8 +113,8 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.roles.push_back(ColumnRole::well);
       h.slot.push_back(static_cast<int>(h.wells.size()));
       h.wells.push_back(*w);
-    } else if (matches_any(name, p.ignore_columns) || (name.empty() && i + 1 == fields.size())) {
-      h.roles.push_back(ColumnRole::ignored);
+    } else if (matches_any(name, p.ignore_columns) || (name.empty() && trailing_empty(fields, i))) {
+      h.roles.push_back(name.empty() ? ColumnRole::padding : ColumnRole::ignored);
       h.slot.push_back(-1);
     } else {
       throw InputError(
@@ -285,6 +295,12 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
         *in_.first_value = Where{file_, ln, fields_v_[i].column, std::string(line)};
   }
   for (std::size_t i = 0; i < fields_v_.size(); ++i) {
+    if (header_->roles[i] == ColumnRole::padding && !trim(fields_v_[i].text).empty()) {
+      throw InputError(Where{file_, ln, fields_v_[i].column, std::string(line)},
+                       fmt::format("expected an empty cell under the empty header field {} of line {}, found \"{}\"",
+                                   i + 1, header_->line, trim(fields_v_[i].text)),
+                       {"give the column a header (a well name, or a name listed in `columns.ignore`)"});
+    }
     if (header_->roles[i] != ColumnRole::well) continue;
     double v = 0;
     switch (read_cell(in_.cp, fields_v_[i].text, v)) {
@@ -347,6 +363,7 @@ void WideReader::outside_line(std::string_view line, int ln) {
     }
   }
   match_capture(in_.cp, line, run_.metadata);
+  in_.info.saw_preamble(line, ln);
 }
 
 Run WideReader::read() {

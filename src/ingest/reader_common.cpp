@@ -66,6 +66,11 @@ std::optional<SectionStart> match_section(const CompiledProfile& cp, std::string
     if (!hit) continue;
     SectionStart s;
     s.name = name.empty() ? (rule.name.empty() ? cp.profile.signal_name : rule.name) : name;
+    // An absorbance section that captures a bare wavelength ("340" of "Wavelength: 340 nm")
+    // is named as absorbance channels are, A340.
+    if (rule.quantity == Quantity::absorbance && !name.empty() &&
+        name.find_first_not_of("0123456789") == std::string::npos)
+      s.name = "A" + name;
     s.unit = rule.unit;
     if (rule.quantity) {
       s.quantity = *rule.quantity;
@@ -100,8 +105,10 @@ bool match_capture(const CompiledProfile& cp, std::string_view line,
   return false;
 }
 
+
 std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal) {
   text = trim(text);
+  if (!text.empty() && std::isalpha(static_cast<unsigned char>(text.back()))) return worded_time(text, decimal);
   if (text.find(':') != std::string_view::npos) {
     // h:mm:ss(.s) or mm:ss(.s)
     std::vector<std::string_view> parts;
@@ -226,7 +233,7 @@ CellKind read_cell(const Profile& p, std::string_view text, double& value) {
     value = *v;
     return CellKind::number;
   }
-  return CellKind::bad;
+  return overflow_form(t, p.decimal) ? CellKind::overflow : CellKind::bad;
 }
 
 CellKind read_cell(const CompiledProfile& cp, std::string_view text, double& value) {

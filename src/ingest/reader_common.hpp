@@ -3,6 +3,7 @@
 
 #include <re2/re2.h>
 
+#include <cctype>
 #include <memory>
 #include <optional>
 #include <string>
@@ -54,9 +55,14 @@ void guess_quantity(const std::string& name, Quantity& quantity, std::string& un
 // is a wrong unit or a wrong column; it also keeps every time finite in seconds.
 inline constexpr double k_max_time_s = 1e10;
 
-// Seconds from a time cell: plain numbers in `unit`, or clock text h:mm:ss / mm:ss; nullopt
+// Seconds from a time cell: plain numbers in `unit`, clock text h:mm:ss / mm:ss, or numbers
+// with their units ("0 min 20 s", "1 h 5 min"); nullopt
 // when the text is no time or lies beyond k_max_time_s.
 std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal);
+// "1 h 2 min 3.5 s", "0 min 20 s", "20s": numbers each followed by its unit (h, min, s), the
+// units in that order, each at most once, in seconds; nullopt for any other text
+// (cell_forms.cpp, as temperature_header and overflow_form).
+std::optional<double> worded_time(std::string_view text, char decimal);
 // True when parse_time refuses `text` only because it lies beyond k_max_time_s (or beyond a
 // double).
 bool time_out_of_range(std::string_view text, TimeUnit unit, char decimal);
@@ -70,6 +76,11 @@ std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal,
 // The unit a time header names ("Time [min]", "time_s"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
 
+// True when a header names the temperature column: one of `names` (case-insensitive), or
+// one of them, "temp" or "t" with a unit of degrees Celsius after it ("Temperature (°C)",
+// "Temp [°C]", "T(C)", "temp °C").
+bool temperature_header(std::string_view header, const std::vector<std::string>& names);
+
 // "a", "b", "c": names as a message lists them.
 std::string quoted_list(const std::vector<std::string>& names);
 // The error for a header line without a `what` column ("time" or "value", named one of
@@ -77,6 +88,11 @@ std::string quoted_list(const std::vector<std::string>& names);
 // no column of the profile names (the missing column under another name; empty if none).
 InputError missing_column_error(Where where, std::string_view what, const std::vector<std::string>& names,
                                 std::string_view context, std::string_view unknown);
+
+// Overflow as every profile reads it, besides its `overflow` list (case-insensitive): these
+// words, a value above the range (">3.5", the profile's decimal mark) or a run of '*'.
+inline constexpr const char* k_overflow_words[] = {"OVER", "overflow", "OVRFLW", "OVFL", "OVF", "saturated"};
+bool overflow_form(std::string_view text, char decimal);
 
 enum class CellKind { number, overflow, missing, bad };
 // Classifies one value cell: overflow token, missing token, number, or bad text.
@@ -135,9 +151,21 @@ struct ReadInfo {
   bool plain_times = false;  // some time is a plain number (not a clock time h:mm:ss)
   std::vector<std::pair<std::string, std::string>> channels;  // per channel: name, where it came from
   std::vector<std::string> overflow_seen;                     // overflow tokens as written, distinct, in file order
+  // Wavelengths written in lines outside the data ("340 nm"): distinct nm values, with the
+  // text and line of the first mention.
+  struct Wavelength {
+    int nm = 0;
+    std::string text;
+    int line = 0;
+  };
+  std::vector<Wavelength> wavelengths;
+  void saw_preamble(std::string_view line, int ln);
   std::vector<std::string> notes;
   void saw_time(std::string_view text) {
-    if (!plain_times && text.find(':') == std::string_view::npos) plain_times = true;
+    // A clock time (h:mm:ss) or a time with its units ("0 min 20 s") states its unit.
+    if (!plain_times && text.find(':') == std::string_view::npos &&
+        (text.empty() || !std::isalpha(static_cast<unsigned char>(trim(text).empty() ? '0' : trim(text).back()))))
+      plain_times = true;
   }
   void saw_overflow(std::string_view token);
 };

@@ -1,0 +1,73 @@
+// The written forms of cells every profile reads: times with their units ("0 min 20 s"),
+// temperature headers with a Celsius unit, and the overflow spellings (reader_common.hpp).
+#include <cctype>
+
+#include "ingest/reader_common.hpp"
+
+namespace vzero::detail {
+
+// "1 h 2 min 3.5 s", "0 min 20 s", "20s": numbers each followed by its unit (h, min, s), the
+// units in that order, each at most once; nullopt for any other text.
+std::optional<double> worded_time(std::string_view text, char decimal) {
+  double total = 0;
+  int last = -1;  // index of the previous unit in {h, min, s}
+  std::size_t at = 0;
+  while (at < text.size()) {
+    const std::size_t num_end = text.find_first_not_of("0123456789.,", at);
+    if (num_end == std::string_view::npos || num_end == at) return std::nullopt;
+    const auto v = parse_number(text.substr(at, num_end - at), decimal);
+    std::size_t u = text.find_first_not_of(' ', num_end);
+    if (!v || *v < 0 || u == std::string_view::npos) return std::nullopt;
+    std::size_t u_end = u;
+    while (u_end < text.size() && std::isalpha(static_cast<unsigned char>(text[u_end]))) ++u_end;
+    const std::string_view word = text.substr(u, u_end - u);
+    const int k = word == "h" ? 0 : word == "min" ? 1 : word == "s" ? 2 : -1;
+    if (k <= last) return std::nullopt;
+    last = k;
+    total += *v * (k == 0 ? 3600 : k == 1 ? 60 : 1);
+    at = std::min(text.size(), text.find_first_not_of(' ', u_end));
+  }
+  if (last < 0 || !(total <= k_max_time_s)) return std::nullopt;
+  return total;
+}
+
+namespace {
+// "°C", "C", "degC", "deg C" (any case, "°" or "º" or none): a unit of degrees Celsius.
+bool celsius(std::string_view unit) {
+  std::string u = lower(trim(unit));
+  for (const char* deg : {"\xc2\xb0", "\xc2\xba", "deg"})
+    if (u.rfind(deg, 0) == 0) u = std::string(trim(std::string_view(u).substr(std::char_traits<char>::length(deg))));
+  return u == "c";
+}
+}  // namespace
+
+bool temperature_header(std::string_view header, const std::vector<std::string>& names) {
+  const std::string_view h = trim(header);
+  const auto named = [&](std::string_view stem, bool with_unit) {
+    for (const auto& n : names)
+      if (iequals(stem, n)) return true;
+    return with_unit && (iequals(stem, "t") || iequals(stem, "temp") || iequals(stem, "temperature"));
+  };
+  if (named(h, false)) return true;
+  if (h.size() < 2) return false;
+  std::size_t open = std::string_view::npos;
+  if (h.back() == ')') open = h.rfind('(');
+  if (h.back() == ']') open = h.rfind('[');
+  if (open != std::string_view::npos) {
+    return open > 0 && celsius(h.substr(open + 1, h.size() - open - 2)) && named(trim(h.substr(0, open)), true);
+  }
+  const std::size_t space = h.rfind(' ');  // "Temp °C"
+  return space != std::string_view::npos && celsius(h.substr(space + 1)) && named(trim(h.substr(0, space)), true);
+}
+
+bool overflow_form(std::string_view text, char decimal) {
+  const std::string_view t = trim(text);
+  if (t.empty()) return false;
+  if (t.find_first_not_of('*') == std::string_view::npos) return true;
+  if (t.front() == '>') return parse_number(trim(t.substr(1)), decimal).has_value();
+  for (const char* word : k_overflow_words)
+    if (iequals(t, word)) return true;
+  return false;
+}
+
+}  // namespace vzero::detail
