@@ -2,7 +2,15 @@
 
 #include <algorithm>
 
+#include <fmt/format.h>
+
 #include <nlohmann/json.hpp>
+
+#include <filesystem>
+
+#include "core/files.hpp"
+#include "core/line_source.hpp"
+#include "output_tables.hpp"
 
 namespace vzero {
 
@@ -144,6 +152,60 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
   prov["channels"] = conv;
   pkg["vzero"] = prov;
   return pkg.dump(2) + "\n";
+}
+
+void traces_csv_pieces(const std::vector<RunAnalysis>& runs, const std::function<void(std::string_view)>& take) {
+  const auto columns = detail::columns_for(detail::trace_declaration(), detail::NoContext{});
+  {
+    detail::CsvOut out;
+    detail::write_header(out, columns);
+    take(out.view());
+  }
+  for (const auto& run : runs)
+    for (const auto& ca : run.channels)
+      for (const auto& r : ca.rows) {  // the order of detail::write_trace_rows
+        const int j = ca.channel->column_of(r.plate_index);
+        const double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
+        detail::CsvOut out;
+        for (int i = 0; i < ca.channel->reads(); ++i)
+          detail::write_row(out, columns, detail::TraceRowRef{run, ca, r, i, j, factor});
+        take(out.view());
+      }
+}
+
+std::string with_table_hashes(const std::string& package_json,
+                              const std::map<std::string, std::string>& sha256_by_name) {
+  auto pkg = nlohmann::ordered_json::parse(package_json);
+  for (auto& r : pkg["resources"]) {
+    auto it = sha256_by_name.find(r.value("name", ""));
+    if (it != sha256_by_name.end()) r["hash"] = "sha256:" + it->second;
+  }
+  return pkg.dump(2) + "\n";
+}
+
+std::vector<std::string> unpublished_tables(const std::string& package_path) {
+  namespace fs = std::filesystem;
+  const auto pkg = nlohmann::json::parse(
+      detail::read_whole_file(package_path, "check the path and that the file is readable").text, nullptr, false);
+  std::vector<std::string> out;
+  if (pkg.is_discarded() || !pkg.is_object() || !pkg.contains("resources") || !pkg["resources"].is_array()) return out;
+  const fs::path dir = fs::path(package_path).parent_path();
+  for (const auto& r : pkg["resources"]) {
+    if (!r.is_object() || !r.contains("hash") || !r["hash"].is_string() || !r.contains("path") ||
+        !r["path"].is_string())
+      continue;
+    const std::string hash = r["hash"].get<std::string>(), rel = r["path"].get<std::string>();
+    if (hash.rfind("sha256:", 0) != 0) continue;
+    const fs::path file = dir / rel;
+    std::error_code ec;
+    const bool there = fs::is_regular_file(file, ec);
+    if (there && detail::sha256_of_file(file.string()) == hash.substr(7)) continue;
+    out.push_back(fmt::format(
+        "{} is not the one datapackage.json describes ({}): a run was interrupted while publishing its outputs, or "
+        "the file was changed since",
+        file.string(), there ? "its sha256 differs from the recorded hash" : "it is missing"));
+  }
+  return out;
 }
 
 }  // namespace vzero

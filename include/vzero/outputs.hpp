@@ -6,6 +6,8 @@
 // schema fields below all come from that declaration.
 #pragma once
 
+#include <functional>
+#include <map>
 #include <string>
 #include <utility>
 #include <vector>
@@ -52,6 +54,9 @@ std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);
 std::string traces_csv_rows(const RunAnalysis& run);
+// The same text as traces_csv, handed to `take` in pieces of whole lines (the header, then
+// one well's reads at a time), so that no more than one well's text is held at once.
+void traces_csv_pieces(const std::vector<RunAnalysis>& runs, const std::function<void(std::string_view)>& take);
 
 std::vector<FieldSpec> summary_fields(const SummaryTable& s);
 std::string summary_csv(const SummaryTable& s);
@@ -61,6 +66,19 @@ struct PackagedTable {
   std::string path;  // file name relative to the package
   std::vector<FieldSpec> fields;
 };
+
+// The datapackage.json text with the Data Package `hash` ("sha256:HEX") of each table
+// resource named in `sha256_by_name` ("rates", "traces", "summary" → hex digest of the file
+// as published). vzero rates records them and puts datapackage.json in place last, so a set
+// left half-published by a crash between the renames no longer matches it.
+std::string with_table_hashes(const std::string& package_json, const std::map<std::string, std::string>& sha256_by_name);
+
+// The tables of the datapackage.json at `package_path` whose file beside it is not the one
+// it describes (missing, or other bytes than its recorded hash), one message each, e.g.
+// "rates.csv is not the one datapackage.json describes: ...". Empty for a whole set, for a
+// package without hashes and for one that does not parse (its readers say so); InputError
+// when the file cannot be read.
+std::vector<std::string> unpublished_tables(const std::string& package_path);
 
 // The datapackage.json text for the tables written (paths relative to its folder).
 std::string datapackage_json(const std::vector<PackagedTable>& tables, const Provenance& provenance,

@@ -42,6 +42,7 @@
 //   vzero::write_file_atomic("report.html", html);
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -63,6 +64,12 @@ struct ReportFit {
 struct ReportInput {
   Table rates;                   // rates table (required): one row per well and channel
   std::optional<Table> traces;   // per-read traces; without it panels show no curve
+  // Instead of `traces`, the traces table read row by row while the page is drawn, so that
+  // the report's memory grows with the wells, not with the reads: a file (read_report_input
+  // sets it), or CSV text handed to the given function in pieces of whole lines, the header
+  // first (report_input; it refers to the analyses, which must outlive the input).
+  std::string traces_file;
+  std::function<void(const std::function<void(std::string_view)>&)> traces_text;
   std::optional<Table> summary;  // replicate summary
   std::vector<ReportFit> fits;   // fits, in order
   std::string package_json;      // text of datapackage.json (required: plate, direction, factor, map columns)

@@ -7,6 +7,7 @@
 //   vzero::write_file_atomic("out.csv", text);     // temp file + rename: no half files
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -46,6 +47,40 @@ struct FieldSpec {
 Table read_table(const std::string& path);
 Table parse_table(std::string name, std::string_view text);
 
+// One row of a table read row by row: valid only while the callback runs.
+struct TableRow {
+  const Table& head;                           // source, delimiter and header (no rows)
+  const std::vector<std::string_view>& cells;  // trimmed, one per header column
+  const std::vector<int>& columns;             // 1-based column of each cell's first character
+  int line = 0;                                // 1-based file line
+  // As Table::number: nothing when empty, InputError with file:line:column when text.
+  std::optional<double> number(int col) const;
+};
+using TableRowFn = std::function<void(const TableRow&)>;
+
+// A table read row by row, with read_table's rules and errors: each row goes to the
+// callback and is not kept, so memory does not grow with the rows. Feed it lines (without
+// their line end) in order, then call finish(), which throws for a table without a header.
+class TableLines {
+ public:
+  TableLines(std::string source, TableRowFn row);
+  void line(std::string_view text, int line_number);
+  // Text of whole lines ('\n'-ended, as vzero's CSV writer makes them), numbered on.
+  void text(std::string_view lines);
+  const Table& finish() const;
+  const Table& head() const { return head_; }
+
+ private:
+  Table head_;
+  TableRowFn row_;
+  bool have_header_ = false;
+  int next_line_ = 1;
+  std::vector<std::string_view> cells_;
+  std::vector<int> columns_;
+};
+// The file at `path` through TableLines; returns the head.
+Table stream_table(const std::string& path, const TableRowFn& row);
+
 // Quotes a CSV field when it holds ',' '"' CR or LF (RFC 4180), or ';' or tab (so that no
 // delimiter guess splits it); the rule every CSV vzero writes follows (core/csv_write.hpp).
 std::string csv_field(std::string_view text);
@@ -82,6 +117,8 @@ class AtomicFile {
   AtomicFile& operator=(const AtomicFile&) = delete;
   void append(std::string_view text);
   void commit();
+  // SHA-256 (hex) of every byte appended so far: what the published file will hold.
+  std::string sha256() const;
 
  private:
   [[noreturn]] void fail(int err);
@@ -90,6 +127,7 @@ class AtomicFile {
   int fd_ = -1;
   bool device_ = false, done_ = false;
   std::size_t written_ = 0, started_ = 0;  // bytes written; bytes handed to the disk so far
+  void* hash_ = nullptr;                   // the digest of what was appended (an EVP_MD_CTX)
 };
 
 // Removes every AtomicFile temporary file of this process that is not yet committed. Safe to

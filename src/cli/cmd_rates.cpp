@@ -8,6 +8,7 @@
 #include <boost/program_options.hpp>
 #include <chrono>
 #include <cstdio>
+#include <filesystem>
 #include <map>
 #include <memory>
 
@@ -16,6 +17,7 @@
 #include "cli/rates_settings.hpp"
 #include "vzero/error.hpp"
 #include "vzero/flags.hpp"
+#include "vzero/outputs.hpp"
 #include "vzero/rates_run.hpp"
 #include "vzero/table.hpp"
 
@@ -67,6 +69,12 @@ class FileSink : public OutputSink {
     file(table_paths_.at(std::string(table))).append(text);
   }
   void write(const std::string& path, std::string_view text) { file(path).append(text); }
+  // SHA-256 of what the file at `path` will hold ("" when nothing was written to it).
+  std::string sha256(const std::string& path) const {
+    auto it = files_.find(path);
+    return it == files_.end() ? std::string() : it->second->sha256();
+  }
+  // Puts the files in place in the order they were first written to.
   void publish() {
     for (const auto& path : order_) files_.at(path)->commit();
   }
@@ -84,6 +92,16 @@ class FileSink : public OutputSink {
   std::map<std::string, std::unique_ptr<AtomicFile>> files_;
   std::vector<std::string> order_;
 };
+
+// An earlier call whose outputs in this folder were not all put in place (a crash between
+// the renames): said before this call replaces them.
+void warn_half_published(const RunSettings& s) {
+  const auto package = std::filesystem::path(s.output).parent_path() / "datapackage.json";
+  std::error_code ec;
+  if (s.quiet || !std::filesystem::is_regular_file(package, ec)) return;
+  for (const auto& m : unpublished_tables(package.string()))
+    print_err("warning: an earlier run's outputs here were left half-published: " + m);
+}
 
 constexpr const char* k_usage = R"(usage: vzero rates FILE... --layout MAP.csv [options]
 
@@ -129,6 +147,7 @@ int cmd_rates(const Args& args) {
   }
   const ResolvedSettings resolved = settings_from(vm);
   const RunSettings& s = resolved.settings;
+  warn_half_published(s);
   FileSink sink({{"rates", s.output}, {"traces", s.traces}});
   ProgressLine meter(!s.quiet && s.files.size() > 1 && isatty(STDERR_FILENO));
   RatesOutputs out = run_rates(resolved, sink, meter.callback());
@@ -137,10 +156,16 @@ int cmd_rates(const Args& args) {
     for (const auto& n : out.notes) print_err("note: " + n);
     for (const auto& w : out.warnings) print_err("warning: " + w);
   }
-  // Every output is written in full to its temporary file first; then all are put in place.
+  // Every output is written in full to its temporary file first; then all are put in place,
+  // datapackage.json last: it records each table's hash, so a crash between the renames
+  // leaves tables that the datapackage.json beside them does not describe, which `vzero
+  // report` refuses and the next `vzero rates` in the folder points out.
   if (!s.summary.empty()) sink.write(s.summary, out.summary_csv);
-  sink.write(out.datapackage_path, out.datapackage_json);
   if (!s.report.empty()) sink.write(s.report, out.report_html);
+  std::map<std::string, std::string> hashes{{"rates", sink.sha256(s.output)}};
+  if (!s.traces.empty()) hashes["traces"] = sink.sha256(s.traces);
+  if (!s.summary.empty()) hashes["summary"] = sink.sha256(s.summary);
+  sink.write(out.datapackage_path, with_table_hashes(out.datapackage_json, hashes));
   sink.publish();
   if (!s.quiet) print_out(run_digest(out.analyses, out.summary, s, out.datapackage_path));
   return 0;

@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include <fmt/format.h>
+#include <openssl/evp.h>
 #include <atomic>
 #include <cerrno>
 #include <cstdlib>
@@ -50,66 +51,103 @@ std::optional<double> Table::number(std::size_t row, int col) const {
   return v;
 }
 
+std::optional<double> TableRow::number(int col) const {
+  const std::string_view cell = cells[static_cast<std::size_t>(col)];
+  if (cell.empty()) return std::nullopt;
+  auto v = detail::parse_number(cell, '.');
+  if (!v) {
+    throw InputError(Where{head.source, line, columns[static_cast<std::size_t>(col)]},
+                     fmt::format("expected a number in column \"{}\", found {}", head.header[static_cast<std::size_t>(col)],
+                                 detail::describe_found(cell)),
+                     {"write numbers with '.' as the decimal mark and no units or thousands separators"});
+  }
+  return v;
+}
+
+TableLines::TableLines(std::string source, TableRowFn row) : row_(std::move(row)) { head_.source = std::move(source); }
+
+void TableLines::line(std::string_view line, int line_number) {
+  next_line_ = line_number + 1;
+  auto trimmed = detail::trim(line);
+  if (trimmed.empty() || trimmed.front() == '#') return;
+  if (!have_header_) {
+    head_.delimiter = detail::guess_delimiter(line);
+    if (head_.delimiter == 0) head_.delimiter = ',';
+  }
+  thread_local std::vector<detail::Field> fields;
+  bool unclosed = false;
+  detail::split_fields_into(line, head_.delimiter, fields, &unclosed);
+  if (unclosed) {
+    throw InputError(Where{head_.source, line_number, fields.back().column, std::string(line)},
+                     "a quoted field does not end on this line",
+                     {"close the quote; vzero does not read line breaks inside quoted fields"});
+  }
+  if (!have_header_) {
+    for (const auto& f : fields) {
+      std::string name(detail::trim(f.text));
+      if (name.empty()) {
+        throw InputError(Where{head_.source, line_number, f.column, std::string(line)},
+                         "expected a column name in the header, found an empty field", {"give every column a name"});
+      }
+      if (head_.column(name) >= 0) {
+        throw InputError(Where{head_.source, line_number, f.column, std::string(line)},
+                         fmt::format("column name \"{}\" appears twice in the header", name),
+                         {"rename one of the two columns"});
+      }
+      head_.header.push_back(std::move(name));
+    }
+    have_header_ = true;
+    return;
+  }
+  if (fields.size() != head_.header.size()) {
+    int col = fields.size() > head_.header.size() ? fields[head_.header.size()].column
+                                                  : static_cast<int>(line.size()) + 1;
+    throw InputError(Where{head_.source, line_number, col, std::string(line)},
+                     fmt::format("expected {} fields as in the header, found {}", head_.header.size(), fields.size()),
+                     {fmt::format("make every row hold {} fields separated by '{}'", head_.header.size(),
+                                  detail::describe_delimiter(head_.delimiter))});
+  }
+  cells_.clear();
+  columns_.clear();
+  for (const auto& f : fields) {
+    cells_.push_back(detail::trim(f.text));
+    columns_.push_back(f.column);
+  }
+  row_(TableRow{head_, cells_, columns_, line_number});
+}
+
+void TableLines::text(std::string_view lines) {
+  while (!lines.empty()) {
+    const std::size_t end = std::min(lines.find('\n'), lines.size());
+    std::string_view one = lines.substr(0, end);
+    if (!one.empty() && one.back() == '\r') one.remove_suffix(1);
+    line(one, next_line_);
+    lines.remove_prefix(std::min(end + 1, lines.size()));
+  }
+}
+
+const Table& TableLines::finish() const {
+  if (!have_header_) {
+    throw InputError(Where{head_.source}, "the file is empty (expected a header line and rows)",
+                     {"check that the right file was given"});
+  }
+  return head_;
+}
+
 namespace {
 Table parse_lines(detail::LineSource& src) {
   Table t;
-  t.source = src.name();
+  TableLines lines(src.name(), [&t](const TableRow& r) {
+    t.rows.emplace_back(r.cells.begin(), r.cells.end());
+    t.column_of_cell.push_back(r.columns);
+    t.line_of_row.push_back(r.line);
+  });
   std::string_view line;
-  std::vector<detail::Field> fields;
-  bool have_header = false;
-  while (src.next(line)) {
-    auto trimmed = detail::trim(line);
-    if (trimmed.empty() || trimmed.front() == '#') continue;
-    if (!have_header) {
-      t.delimiter = detail::guess_delimiter(line);
-      if (t.delimiter == 0) t.delimiter = ',';
-    }
-    bool unclosed = false;
-    detail::split_fields_into(line, t.delimiter, fields, &unclosed);
-    if (unclosed) {
-      throw InputError(Where{t.source, src.line_number(), fields.back().column, std::string(line)},
-                       "a quoted field does not end on this line",
-                       {"close the quote; vzero does not read line breaks inside quoted fields"});
-    }
-    if (!have_header) {
-      for (const auto& f : fields) {
-        std::string name(detail::trim(f.text));
-        if (name.empty()) {
-          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
-                           "expected a column name in the header, found an empty field", {"give every column a name"});
-        }
-        if (t.column(name) >= 0) {
-          throw InputError(Where{t.source, src.line_number(), f.column, std::string(line)},
-                           fmt::format("column name \"{}\" appears twice in the header", name),
-                           {"rename one of the two columns"});
-        }
-        t.header.push_back(std::move(name));
-      }
-      have_header = true;
-      continue;
-    }
-    if (fields.size() != t.header.size()) {
-      int col = fields.size() > t.header.size() ? fields[t.header.size()].column : static_cast<int>(line.size()) + 1;
-      throw InputError(Where{t.source, src.line_number(), col, std::string(line)},
-                       fmt::format("expected {} fields as in the header, found {}", t.header.size(), fields.size()),
-                       {fmt::format("make every row hold {} fields separated by '{}'", t.header.size(),
-                                    detail::describe_delimiter(t.delimiter))});
-    }
-    std::vector<std::string> row;
-    std::vector<int> cols;
-    row.reserve(fields.size());
-    for (auto& f : fields) {
-      row.emplace_back(detail::trim(f.text));
-      cols.push_back(f.column);
-    }
-    t.rows.push_back(std::move(row));
-    t.column_of_cell.push_back(std::move(cols));
-    t.line_of_row.push_back(src.line_number());
-  }
-  if (!have_header) {
-    throw InputError(Where{t.source}, "the file is empty (expected a header line and rows)",
-                     {"check that the right file was given"});
-  }
+  while (src.next(line)) lines.line(line, src.line_number());
+  Table head = lines.finish();
+  t.source = std::move(head.source);
+  t.delimiter = head.delimiter;
+  t.header = std::move(head.header);
   return t;
 }
 }  // namespace
@@ -122,6 +160,14 @@ Table read_table(const std::string& path) {
 Table parse_table(std::string name, std::string_view text) {
   detail::LineSource src(std::move(name), text);
   return parse_lines(src);
+}
+
+Table stream_table(const std::string& path, const TableRowFn& row) {
+  detail::LineSource src(path);
+  TableLines lines(src.name(), row);
+  std::string_view line;
+  while (src.next(line)) lines.line(line, src.line_number());
+  return lines.finish();
 }
 
 std::string csv_field(std::string_view text) {
@@ -178,6 +224,12 @@ void remove_temporary_outputs() noexcept {
 }
 
 AtomicFile::AtomicFile(const std::string& path) : path_(path) {
+  auto* ctx = EVP_MD_CTX_new();
+  if (!ctx || EVP_DigestInit_ex(ctx, EVP_sha256(), nullptr) != 1) {
+    EVP_MD_CTX_free(ctx);
+    throw std::bad_alloc();
+  }
+  hash_ = ctx;
   namespace fs = std::filesystem;
   fs::path target(path);
   std::error_code ec;
@@ -210,6 +262,7 @@ AtomicFile::AtomicFile(const std::string& path) : path_(path) {
 }
 
 AtomicFile::~AtomicFile() {
+  EVP_MD_CTX_free(static_cast<EVP_MD_CTX*>(hash_));
   unlist_temp(slot_);
   if (fd_ >= 0) ::close(fd_);
   if (!done_ && !tmp_.empty()) ::unlink(tmp_.c_str());
@@ -230,7 +283,21 @@ void AtomicFile::fail(int err) {
                    {"check that the output folder exists, is writable and has free space"});
 }
 
+std::string AtomicFile::sha256() const {
+  EVP_MD_CTX* copy = EVP_MD_CTX_new();
+  unsigned char md[EVP_MAX_MD_SIZE];
+  unsigned int len = 0;
+  const bool ok = copy && EVP_MD_CTX_copy_ex(copy, static_cast<EVP_MD_CTX*>(hash_)) == 1 &&
+                  EVP_DigestFinal_ex(copy, md, &len) == 1;
+  EVP_MD_CTX_free(copy);
+  if (!ok) throw std::bad_alloc();
+  std::string hex;
+  for (unsigned int i = 0; i < len; ++i) hex += fmt::format("{:02x}", md[i]);
+  return hex;
+}
+
 void AtomicFile::append(std::string_view text) {
+  EVP_DigestUpdate(static_cast<EVP_MD_CTX*>(hash_), text.data(), text.size());
   const char* p = text.data();
   std::size_t left = text.size();
   while (left > 0) {

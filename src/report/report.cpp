@@ -46,7 +46,7 @@ ReportInput read_report_input(const ReportFiles& f) {
   if (f.rates.empty()) throw UsageError("the report needs the rates table (--rates rates.csv, or the run folder)");
   ReportInput in;
   in.rates = read_table(f.rates);
-  if (!f.traces.empty()) in.traces = read_table(f.traces);
+  in.traces_file = f.traces;
   if (!f.summary.empty()) in.summary = read_table(f.summary);
   for (const auto& path : f.fits) in.fits.push_back({read_text(path), path, std::nullopt});
   if (!f.diagnostics.empty()) {
@@ -65,7 +65,7 @@ ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector
                          std::string package_json) {
   ReportInput in;
   in.rates = parse_table("rates table", rates_csv(runs, map_columns, with_activity, with_specific));
-  in.traces = parse_table("traces table", traces_csv(runs));
+  in.traces_text = [&runs](const std::function<void(std::string_view)>& take) { traces_csv_pieces(runs, take); };
   in.summary = parse_table("summary table", summary_csv(summary));
   in.package_json = std::move(package_json);
   in.package_source = "datapackage.json";
@@ -75,7 +75,7 @@ ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector
 std::string render_report(const ReportInput& input, const ReportOptions& options) {
   if (auto why = options.validate(); !why.empty()) throw UsageError(why);
   namespace r = detail::report;
-  const r::PageData m = r::build_model(input);
+  const r::PageData m = r::build_model(input, options.scale);
   const std::string title = options.title.empty() ? "Run report: " + r::export_names(m) : options.title;
   std::string h;
   h.reserve(1 << 20);

@@ -6,6 +6,7 @@
 
 #include "core/text.hpp"
 #include "report/report_model.hpp"
+#include "report/report_panel.hpp"
 #include "vzero/error.hpp"
 #include "vzero/svg.hpp"
 
@@ -128,38 +129,97 @@ void read_rates(const Table& t, PageData& m,
   }
 }
 
+using WellIndex = std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>;
+
 // The traces as drawn: the concentration when the channel was converted, else the
-// blank-corrected signal times the recorded direction (+1 up, −1 down).
-void read_traces(const Table& t, PageData& m,
-                 const std::unordered_map<std::string, std::pair<std::size_t, std::size_t>>& index) {
-  Columns c{t};
-  const int source = c.need("source"), channel = c.need("channel"), well = c.need("well"), time = c.need("time_s");
-  const int corrected = c.need("corrected"), used = c.need("used");
-  const int status = c.opt("status"), raw = c.opt("raw");
-  const int conc = c.opt("concentration");
-  for (std::size_t r = 0; r < t.rows.size(); ++r) {
-    auto id = parse_well(c.cell(r, well));
-    if (!id) continue;
-    auto it = index.find(key_of(c.cell(r, source), c.cell(r, channel), well_name(*id)));
-    if (it == index.end()) continue;  // a well the rates table does not hold
+// blank-corrected signal times the recorded direction (+1 up, −1 down). Reads one row at a
+// time (TableLines), so the table itself is never held.
+class TraceRows {
+ public:
+  TraceRows(PageData& m, const WellIndex& index) : m_(m), index_(index) {}
+  // The columns are checked at the first row, or here for a table without rows.
+  void check(const Table& head) {
+    if (source_ < 0) columns(head);
+  }
+  void row(const TableRow& r) {
+    if (source_ < 0) columns(r.head);
+    auto id = parse_well(r.cells[static_cast<std::size_t>(well_)]);
+    if (!id) return;
+    key_.clear();
+    key_.append(r.cells[static_cast<std::size_t>(source_)]).append(1, '\x1f');
+    key_.append(r.cells[static_cast<std::size_t>(channel_)]).append(1, '\x1f').append(well_name(*id));
+    auto it = index_.find(key_);
+    if (it == index_.end()) return;  // a well the rates table does not hold
     auto [pi, wi] = it->second;
-    PlateView& p = m.plates[pi];
+    PlateView& p = m_.plates[pi];
     WellView& w = p.wells[wi];
     p.has_traces = true;
-    const double corr = c.number(r, corrected);
-    w.time_s.push_back(c.number(r, time));
-    w.raw.push_back(c.number(r, raw));
-    w.status.push_back(status >= 0 ? std::string(trim(c.cell(r, status))) : "ok");
-    w.used.push_back(trim(c.cell(r, used)) == "1" ? 1 : 0);
+    const double corr = number(r, corrected_);
+    w.time_s.push_back(number(r, time_));
+    w.read_ok.push_back(status_ < 0 || r.cells[static_cast<std::size_t>(status_)] == "ok");
+    w.used.push_back(r.cells[static_cast<std::size_t>(used_)] == "1" ? 1 : 0);
     if (!p.converted) {
       w.y.push_back(p.sign * corr);
-      continue;
+      return;
     }
-    if (conc < 0) t.require_column("concentration", "a converted channel's traces carry its concentration");
-    const double y = c.number(r, conc);
+    if (conc_ < 0) r.head.require_column("concentration", "a converted channel's traces carry its concentration");
+    const double y = number(r, conc_);
     w.y.push_back(y);
     // A factor that varies per well (a path per well) is the ratio the trace records.
     if (std::isnan(w.factor) && std::isfinite(y) && std::isfinite(corr) && corr != 0) w.factor = std::fabs(y / corr);
+  }
+
+ private:
+  void columns(const Table& t) {
+    auto need = [&](std::string_view name) {
+      return t.require_column(name, "give the table vzero rates wrote (it has this column)");
+    };
+    source_ = need("source"), channel_ = need("channel"), well_ = need("well"), time_ = need("time_s");
+    corrected_ = need("corrected"), used_ = need("used");
+    status_ = t.column("status"), conc_ = t.column("concentration");
+  }
+  static double number(const TableRow& r, int c) {
+    if (c < 0) return NAN;
+    auto v = r.number(c);
+    return v ? *v : NAN;
+  }
+  PageData& m_;
+  const WellIndex& index_;
+  std::string key_;
+  int source_ = -1, channel_ = -1, well_ = -1, time_ = -1, corrected_ = -1, used_ = -1, status_ = -1, conc_ = -1;
+};
+
+void read_traces(const ReportInput& in, PageData& m, const WellIndex& index) {
+  TraceRows reader(m, index);
+  auto take = [&reader](const TableRow& r) { reader.row(r); };
+  if (in.traces) {
+    const Table& t = *in.traces;
+    std::vector<std::string_view> cells;
+    for (std::size_t r = 0; r < t.rows.size(); ++r) {
+      cells.assign(t.rows[r].begin(), t.rows[r].end());
+      take(TableRow{t, cells, t.column_of_cell[r], t.line_of_row[r]});
+    }
+    reader.check(t);
+  } else if (!in.traces_file.empty()) {
+    reader.check(stream_table(in.traces_file, take));
+  } else if (in.traces_text) {
+    TableLines lines("traces table", take);
+    in.traces_text([&lines](std::string_view text) { lines.text(text); });
+    reader.check(lines.finish());
+  }
+}
+
+// What is taken from every read before the plate is thinned to what its panels show: each
+// well's last used read and a tangent well's parabola.
+void thin_plates(PageData& m, PanelScale scale) {
+  for (auto& p : m.plates) {
+    for (auto& w : p.wells) {
+      for (std::size_t i = 0; i < w.time_s.size(); ++i)
+        if (w.used[i] && std::isfinite(w.time_s[i]))
+          w.last_used_s = std::isnan(w.last_used_s) ? w.time_s[i] : std::max(w.last_used_s, w.time_s[i]);
+      if (w.tangent == "parabola") w.parabola = fit_parabola(w);
+    }
+    thin_plate(p, scale);
   }
 }
 
@@ -244,7 +304,7 @@ std::string export_names(const PageData& m) {
   return out;
 }
 
-PageData build_model(const ReportInput& in) {
+PageData build_model(const ReportInput& in, PanelScale scale) {
   PageData m;
   if (in.package_json.empty())
     throw InputError(Where{in.rates.source},
@@ -254,10 +314,11 @@ PageData build_model(const ReportInput& in) {
   m.package = parse_json(in.package_json, in.package_source);
   read_package(m, in.package_source);
   for (const auto& f : in.fits) m.fits.push_back(read_fit(f));
-  std::unordered_map<std::string, std::pair<std::size_t, std::size_t>> index;
+  WellIndex index;
   read_rates(in.rates, m, index);
-  if (in.traces) read_traces(*in.traces, m, index);
+  read_traces(in, m, index);
   finish_plates(m);
+  thin_plates(m, scale);
   return m;
 }
 

@@ -30,11 +30,20 @@ struct WellView {
   int line = 0;         // rates.csv line
   // The trace, as drawn: `y` is the concentration, or the blank-corrected signal in the
   // reaction direction when the channel was not converted.
-  std::vector<double> time_s, y, raw;
-  std::vector<std::string> status;
+  // Thinned to what the panel can show once the plate's time axis is known (thin_plate).
+  std::vector<double> time_s, y;
+  std::vector<char> read_ok;  // status "ok" (a value was read)
   std::vector<char> used;
   double factor = NAN;  // drawn units per signal unit (for the fitted line): the recorded
                         // conversion factor, 1 when unconverted
+  // Taken from every read before thinning: the time of the last used read, and a tangent
+  // well's least-squares parabola through its used reads (drawn units, time centred on tm).
+  double last_used_s = NAN;
+  struct Parabola {
+    bool ok = false;
+    double tm = 0, c0 = NAN, c1 = NAN, c2 = NAN;
+    double at(double t) const { return c0 + c1 * (t - tm) + c2 * (t - tm) * (t - tm); }
+  } parabola;
 
   bool flagged() const;  // any flag other than "empty"
   // A sample well with a flag: its rate is not to be trusted as it stands (blanks,
@@ -90,8 +99,8 @@ struct PageData {
   std::string anchor_of(const std::string& channel, const std::string& well) const;
 };
 
-// Builds the model; InputError for missing columns or bad cells (file:line:column).
-PageData build_model(const ReportInput& input);
+// Builds the model, each well's reads thinned to what its panel shows on `scale`; InputError for missing columns or bad cells (file:line:column).
+PageData build_model(const ReportInput& input, PanelScale scale = PanelScale::plate);
 
 // JSON text parsed, or InputError naming `name`.
 nlohmann::json parse_json(const std::string& text, const std::string& name);

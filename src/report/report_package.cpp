@@ -12,6 +12,7 @@
 #include "report/report_model.hpp"
 #include "vzero/error.hpp"
 #include "vzero/kinetic_model.hpp"
+#include "vzero/outputs.hpp"
 
 namespace vzero::detail::report {
 
@@ -165,6 +166,14 @@ ReportFiles find_run_files(const std::string& given) {
                      {"give the folder vzero rates wrote into (its -o folder), or --rates and --package"});
   ReportFiles f;
   f.package = pkg_path.string();
+  // A set whose tables are not the ones datapackage.json records (by hash) is refused.
+  if (const auto stale = unpublished_tables(f.package); !stale.empty()) {
+    std::string what = stale.front();
+    for (std::size_t i = 1; i < stale.size(); ++i) what += "; " + stale[i];
+    throw InputError(Where{f.package}, what,
+                     {"rerun vzero rates to write the whole set again",
+                      "or draw the tables as they are with --rates, --package and --traces"});
+  }
   const nlohmann::json pkg = detail::report::parse_json(
       detail::read_whole_file(f.package, "check the path and that the file is readable").text, f.package);
   for (const auto& r : detail::report::member(pkg, "resources")) {

@@ -50,9 +50,7 @@ bool has_line(const WellView& w) {
 // Last used read of a tangent well (the parabola's window ends there), else t_end.
 double used_end(const WellView& w) {
   double end = w.t_end_s;
-  if (tangent_well(w))
-    for (std::size_t i = 0; i < w.time_s.size(); ++i)
-      if (w.used[i] && std::isfinite(w.time_s[i])) end = std::max(end, w.time_s[i]);
+  if (tangent_well(w) && std::isfinite(w.last_used_s)) end = std::max(end, w.last_used_s);
   return end;
 }
 
@@ -139,6 +137,17 @@ YRange plate_y_range(const PlateView& p) {
   return padded(lo, hi);
 }
 
+YRange panel_range(const WellView& w, const YRange& shared, PanelScale scale) {
+  if (scale == PanelScale::plate && w.role != "standard" && fits_in(w, shared)) return shared;
+  YRange r = well_y_range(w);
+  const double need = shared.hi - shared.lo;
+  if (scale == PanelScale::plate && r.hi - r.lo < need) {
+    const double mid = (r.lo + r.hi) / 2;
+    r.lo = mid - need / 2, r.hi = mid + need / 2;
+  }
+  return r;
+}
+
 bool fits_in(const WellView& w, const YRange& r) {
   const auto [lo, hi] = extent(w);
   return !std::isfinite(lo) || (lo >= r.lo && hi <= r.hi);
@@ -181,7 +190,7 @@ void draw_fit(Document& d, const WellView& w, const svg::Scale& sx, const svg::S
     d.polyline({{sx(w.t_start_s), sy(w.line_at(w.t_start_s))}, {sx(w.t_end_s), sy(w.line_at(w.t_end_s))}}, "fit-line");
     return;
   }
-  const Parabola q = fit_parabola(w);
+  const Parabola& q = w.parabola;
   const double end = used_end(w);
   if (!q.ok) return;
   std::vector<svg::Point> curve;
@@ -201,7 +210,7 @@ void draw_reads(Document& d, const WellView& w, const svg::Scale& sx, const svg:
   std::vector<svg::Point> trace, used, outliers, unread;
   for (std::size_t i = 0; i < w.time_s.size(); ++i) {
     const double t = w.time_s[i], v = w.y[i];
-    const bool ok = w.status[i] == "ok";
+    const bool ok = w.read_ok[i] != 0;
     if (!ok) unread.push_back({sx(t), top + 2.5});
     if (!std::isfinite(v) || !std::isfinite(t)) {
       trace.push_back({NAN, NAN});
@@ -215,7 +224,7 @@ void draw_reads(Document& d, const WellView& w, const svg::Scale& sx, const svg:
       outliers.push_back({sx(t), sy(v)});
   }
   d.polyline(trace, "trace");
-  d.markers(used, svg::Marker::dot, 1.1, "used");
+  d.markers(used, svg::Marker::dot, k_used_dot_radius, "used");
   d.markers(outliers, svg::Marker::cross, 2, "outlier");
   d.markers(unread, svg::Marker::triangle, 2.2, "unread");
 }

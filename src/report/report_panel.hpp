@@ -12,6 +12,7 @@ constexpr double k_panel_w = 104, k_panel_h = 90, k_gap = 4;
 constexpr double k_panel_top = 15, k_panel_bottom = 20;  // name and v0 above, two lines of flags below
 // The plot area's height, the same in every panel.
 constexpr double k_plot_h = k_panel_h - k_panel_top - k_panel_bottom;
+constexpr double k_used_dot_radius = 1.1;  // a used read's dot
 constexpr double k_pad = 0.08;  // share of the range added above and below the drawn values
 
 // A panel's vertical range in drawn units (already padded).
@@ -34,17 +35,31 @@ YRange plate_y_range(const PlateView& p);
 // Whether every drawn value of `w` lies inside r (else the well gets its own scale).
 bool fits_in(const WellView& w, const YRange& r);
 
+// The range a well's panel is drawn on, given the plate's shared range: the shared one,
+// or (per-well scales, standards, wells that leave it) the well's own, on a shared plate
+// at least as tall as the plate's and centred on the well's values.
+YRange panel_range(const WellView& w, const YRange& shared, PanelScale scale);
+
 // The scale bar's length: the largest 1, 2 or 5 × 10^k not above half the span.
 double scale_bar_value(double span);
 
 // The least-squares parabola through a tangent well's used reads (drawn units, time
-// centred on tm): the curve whose initial tangent is the well's v0.
-struct Parabola {
-  bool ok = false;
-  double tm = 0, c0 = NAN, c1 = NAN, c2 = NAN;
-  double at(double t) const { return c0 + c1 * (t - tm) + c2 * (t - tm) * (t - tm); }
-};
+// centred on tm): the curve whose initial tangent is the well's v0. Called on the reads
+// before thinning (WellView::parabola keeps it).
+using Parabola = WellView::Parabola;
 Parabola fit_parabola(const WellView& w);
+
+// Thinning (src/report/report_thin.cpp): keeps of each well's reads only what its panel
+// can show. The plot is k_panel_w − 6 units wide; it is cut into k_thin_columns per unit
+// (2: a column is half a CSS pixel), and used dots are kept at least every k_thin_dot_step
+// units vertically. Every well's last_used_s and parabola must be set first (from all
+// reads). Returns the number of reads dropped.
+constexpr double k_thin_columns = 2, k_thin_dot_step = 0.5;
+std::size_t thin_plate(PlateView& p, PanelScale scale);
+// The reads of one well to keep: indices into its vectors, ascending (thin_plate's rule),
+// for a panel drawn on `sx` (time) and `sy` (values).
+std::vector<std::size_t> kept_reads(const WellView& w, const svg::Scale& sx, const svg::Scale& sy,
+                                    double columns_per_unit, double dot_step);
 
 // Draws the panel of `w` with its top-left corner at (x, y).
 void draw_panel(svg::Document& d, const PlateView& p, const WellView& w, double x, double y, const YRange& range);

@@ -56,18 +56,6 @@ std::string tooltip(const PlateView& p, const WellView& w) {
 
 namespace {
 
-// A well's own range; on a shared plate at least as tall as the plate's, centred on the
-// well's values, so a flat standard or a well off the plate's range still looks flat.
-YRange own_range(const WellView& w, const YRange& shared, PanelScale scale) {
-  YRange r = well_y_range(w);
-  const double need = shared.hi - shared.lo;
-  if (scale == PanelScale::plate && r.hi - r.lo < need) {
-    const double mid = (r.lo + r.hi) / 2;
-    r.lo = mid - need / 2, r.hi = mid + need / 2;
-  }
-  return r;
-}
-
 // The scale bar of a shared scale, in the margin left of one row of panels.
 void row_scale_bar(Document& d, const PlateView& p, const YRange& r, double row_y) {
   const double value = scale_bar_value(r.hi - r.lo);
@@ -103,9 +91,7 @@ std::string panel_grid(const PlateView& p, Block b, PanelScale scale) {
         d.text(x + k_panel_w / 2, y + k_panel_h / 2 + 3, well_name(id) + " not read", "wnote", "middle");
         continue;
       }
-      const WellView& w = p.wells[it->second];
-      const bool own = scale == PanelScale::well || w.role == "standard" || !fits_in(w, shared);
-      draw_panel(d, p, w, x, y, own ? own_range(w, shared, scale) : shared);
+      draw_panel(d, p, p.wells[it->second], x, y, panel_range(p.wells[it->second], shared, scale));
     }
   }
   // Time axis under the last row: the same for every panel.

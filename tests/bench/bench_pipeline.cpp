@@ -13,6 +13,8 @@
 //     --long-rows N     rows of the big long-shape file (default 50,000,000)
 //     --big-read-only   read the big inputs but do not analyse them (--long-read-only: the long file only)
 //     --quick           small sizes, one repetition (a smoke test)
+//     --write-plate W R write DIR/plate_WxR.csv (wide, W wells, R reads, seed 21) and DIR/map_W.csv,
+//                       then stop (the report's size and memory are measured on such a plate)
 // tests/bench/run.sh runs it with the pandas yardstick; docs/performance.md quotes it.
 #include <fcntl.h>
 #include <spawn.h>
@@ -53,6 +55,7 @@ struct Config {
   int reps = 3;
   long long long_rows = 50'000'000;
   bool big_read_only = false, long_read_only = false, quick = false;
+  int plate_wells = 0, plate_reads = 0;  // --write-plate
   bool wants(const std::string& s) const { return std::find(sections.begin(), sections.end(), s) != sections.end(); }
 };
 
@@ -517,7 +520,10 @@ int main(int argc, char** argv) {
       c.big_read_only = true;
     else if (a == "--long-read-only")
       c.long_read_only = true;
-    else if (a == "--quick") {
+    else if (a == "--write-plate") {
+      c.plate_wells = std::stoi(next());
+      c.plate_reads = std::stoi(next());
+    } else if (a == "--quick") {
       c.quick = true;
       c.reps = 1;
     } else if (a == "--sections") {
@@ -532,7 +538,7 @@ int main(int argc, char** argv) {
       std::fprintf(stderr,
                    "usage: vzero_bench [--dir DIR] [--reps N] [--sections files,scaling,threads,batch,big]\n"
                    "       [--vzero PATH] [--pandas SCRIPT] [--python PATH] [--long-rows N] [--big-read-only]\n"
-                   "       [--long-read-only] [--quick]\n");
+                   "       [--long-read-only] [--quick] [--write-plate WELLS READS]\n");
       return 2;
     }
   }
@@ -546,6 +552,12 @@ int main(int argc, char** argv) {
     c.dir = tmpl;
   }
   fs::create_directories(c.dir);
+  if (c.plate_wells > 0) {
+    const std::string path = fmt::format("{}/plate_{}x{}.csv", c.dir, c.plate_wells, c.plate_reads);
+    generate(path, "wide", c.plate_wells, c.plate_reads, 21, map_path(c, c.plate_wells));
+    fmt::print("wrote {} and {}\n", path, map_path(c, c.plate_wells));
+    return 0;
+  }
   fmt::print("vzero_bench: the pipeline on simulated plates (tests/sim/plate_sim.hpp, invented scenario)\n");
   fmt::print("machine: {}, {} hardware threads; load average at start {}\n", cpu_model(),
              std::thread::hardware_concurrency(), load_average());
