@@ -140,4 +140,8 @@ TEST_CASE("method channel tables: unknown channels and keys, and incomplete conv
             m + ":2:1: [channel.A340]: Beer–Lambert needs a path length", 0) == 0);
   CHECK(run_error(dir, "path-cm = 0.5\n[channel.A340]\nepsilon = -1\n").rfind(
             m + ":3:1: method key `epsilon` is \"-1\"; expected a number above 0", 0) == 0);
+  // An empty table (a misspelt channel name in it would otherwise pass unnoticed).
+  CHECK(run_error(dir, "epsilon = 6220\npath-cm = 0.5\n[channel.A34O]\n").rfind(m + ":3:", 0) == 0);
+  CHECK(run_error(dir, "epsilon = 6220\npath-cm = 0.5\n[channel.A34O]\n").find("holds no settings") !=
+        std::string::npos);
 }
