@@ -5,6 +5,7 @@
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
+#include "core/stats.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
 
@@ -70,7 +71,7 @@ std::string describe_run(const Run& run, const ProfileChoice& choice) {
     out += fmt::format("  wells   {}\n", c.wells.size());
     out += fmt::format("  reads   {}, from {} s to {} s", c.reads(), format_seconds(c.time_s.front()),
                        format_seconds(c.time_s.back()));
-    if (c.reads() > 1) out += fmt::format(" (median step {} s)", format_seconds(median_step(c.time_s)));
+    if (c.reads() > 1) out += fmt::format(" (median step {} s)", format_seconds(detail::median_step(c.time_s)));
     out += "\n";
     if (!c.temperature_c.empty()) {
       double lo = INFINITY, hi = -INFINITY;

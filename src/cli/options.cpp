@@ -79,12 +79,5 @@ std::string builtin_profile_list() {
 
 std::string format_seconds(double s) { return fmt::format("{:g}", s); }
 
-double median_step(const std::vector<double>& t) {
-  std::vector<double> d;
-  for (std::size_t i = 1; i < t.size(); ++i) d.push_back(t[i] - t[i - 1]);
-  if (d.empty()) return 0;
-  std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
-  return d[d.size() / 2];
-}
 
 }  // namespace vzero::cli

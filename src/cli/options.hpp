@@ -19,6 +19,5 @@ boost::program_options::variables_map parse_command_line(
 std::string help_text(const boost::program_options::options_description& opts);
 std::string builtin_profile_list();
 std::string format_seconds(double s);
-double median_step(const std::vector<double>& t);
 
 }  // namespace vzero::cli

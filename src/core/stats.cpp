@@ -2,6 +2,7 @@
 
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
+#include <algorithm>
 #include <cmath>
 #include <map>
 #include <utility>
@@ -33,6 +34,14 @@ double student_t_quantile(double p, double df) {
 double student_t_sf(double t, double df) {
   if (std::isnan(t) || !(df > 0)) return NAN;
   return boost::math::cdf(boost::math::complement(boost::math::students_t_distribution<double, Policy>(df), t));
+}
+
+double median_step(const std::vector<double>& t) {
+  std::vector<double> d;
+  for (std::size_t i = 1; i < t.size(); ++i) d.push_back(t[i] - t[i - 1]);
+  if (d.empty()) return 0;
+  std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
+  return d[d.size() / 2];
 }
 
 }  // namespace vzero::detail

@@ -4,6 +4,8 @@
 //   student_t_quantile(0.975, 10) = 2.228138851986274 (R qt)
 #pragma once
 
+#include <vector>
+
 namespace vzero::detail {
 
 // Quantiles; NaN outside 0 < p < 1 or for df ≤ 0. The t quantile of the same (p, df) is
@@ -13,5 +15,9 @@ double student_t_quantile(double p, double df);
 // Upper tail P(T > t) of Student's t with df degrees of freedom, computed as a tail (no
 // cancellation in 1 − P far out).
 double student_t_sf(double t, double df);
+
+// The median of the steps between consecutive times (0 for fewer than two): the read
+// interval `inspect` shows and the time-unit rule judges.
+double median_step(const std::vector<double>& t);
 
 }  // namespace vzero::detail

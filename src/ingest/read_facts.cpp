@@ -6,6 +6,7 @@
 #include <cmath>
 #include <string>
 
+#include "core/stats.hpp"
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
 
@@ -20,13 +21,6 @@ namespace {
 // well is well below that, so a step under it is not seconds.
 double least_step_s(std::size_t wells) { return std::min(2.0, 0.02 * static_cast<double>(wells)); }
 
-double median_step(const std::vector<double>& t) {
-  std::vector<double> d;
-  for (std::size_t i = 1; i < t.size(); ++i) d.push_back(t[i] - t[i - 1]);
-  if (d.empty()) return 0;
-  std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
-  return d[d.size() / 2];
-}
 
 std::string delimiter_name(char d) {
   switch (d) {
