@@ -132,14 +132,15 @@ TEST_CASE("method channel tables: unknown channels and keys, and incomplete conv
   CHECK(bad_key.rfind(m + ":2:1: method key `blank` cannot be set per channel (in [channel.A340])", 0) == 0);
   CHECK(bad_key.find("a channel's table takes epsilon, epsilon-preset, path-cm, direction, signal-ceiling, "
                      "absorbance-limit") != std::string::npos);
-  CHECK(run_error(dir, "[channel.A340]\npath-cm = 1\n").rfind(
-            m + ":2:1: method key `path-cm` is \"1\"; a path length needs an ε: give epsilon in [channel.A340] or "
-                "for the run",
-            0) == 0);
-  CHECK(run_error(dir, "[channel.A340]\nepsilon = 6220\n").rfind(
-            m + ":2:1: [channel.A340]: Beer–Lambert needs a path length", 0) == 0);
-  CHECK(run_error(dir, "path-cm = 0.5\n[channel.A340]\nepsilon = -1\n").rfind(
-            m + ":3:1: method key `epsilon` is \"-1\"; expected a number above 0", 0) == 0);
+  CHECK(
+      run_error(dir, "[channel.A340]\npath-cm = 1\n")
+          .rfind(m + ":2:1: method key `path-cm` is \"1\"; a path length needs an ε: give epsilon in [channel.A340] or "
+                     "for the run",
+                 0) == 0);
+  CHECK(run_error(dir, "[channel.A340]\nepsilon = 6220\n")
+            .rfind(m + ":2:1: [channel.A340]: Beer–Lambert needs a path length", 0) == 0);
+  CHECK(run_error(dir, "path-cm = 0.5\n[channel.A340]\nepsilon = -1\n")
+            .rfind(m + ":3:1: method key `epsilon` is \"-1\"; expected a number above 0", 0) == 0);
   // An empty table (a misspelt channel name in it would otherwise pass unnoticed).
   CHECK(run_error(dir, "epsilon = 6220\npath-cm = 0.5\n[channel.A34O]\n").rfind(m + ":3:", 0) == 0);
   CHECK(run_error(dir, "epsilon = 6220\npath-cm = 0.5\n[channel.A34O]\n").find("holds no settings") !=

@@ -79,5 +79,4 @@ std::string builtin_profile_list() {
 
 std::string format_seconds(double s) { return fmt::format("{:g}", s); }
 
-
 }  // namespace vzero::cli

@@ -1,8 +1,8 @@
 #include "core/stats.hpp"
 
+#include <algorithm>
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
-#include <algorithm>
 #include <cmath>
 #include <map>
 #include <utility>

@@ -21,7 +21,6 @@ namespace {
 // well is well below that, so a step under it is not seconds.
 double least_step_s(std::size_t wells) { return std::min(2.0, 0.02 * static_cast<double>(wells)); }
 
-
 std::string delimiter_name(char d) {
   switch (d) {
     case ',':

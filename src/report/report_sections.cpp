@@ -6,6 +6,7 @@
 
 #include "core/text.hpp"
 #include "report/report_model.hpp"
+#include "vzero/flags.hpp"
 #include "vzero/svg.hpp"
 
 namespace vzero::detail::report {
@@ -82,32 +83,14 @@ std::string export_metadata(const json& prov) {
 }  // namespace
 
 std::string flag_meaning(const std::string& flag) {
-  static const std::map<std::string, std::string> meanings = {
-      {"overflow", "the instrument reported reads beyond its range"},
-      {"ceiling", "reads reached the detector's linear limit; the window ends before them"},
-      {"too-few-reads", "fewer usable reads than a window needs; any rate uses all of them"},
-      {"nonlinear", "no straight stretch long enough: even the shortest window is curved"},
-      {"depleted", "the conversion limit was passed before the shortest window ended"},
-      {"lag", "the rate rose over the first reads; they were skipped"},
-      {"disturbed", "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
-      {"rising", "the rate still rises across the window (a lag not over): v0 is underestimated"},
-      {"imprecise", "the rate's 95 % interval is wider than the precision limit allows"},
-      {"saturated", "the trace sat at the detector's maximum: its rate says nothing about the enzyme"},
-      {"blank-disturbed", "this blank's first reads jumped or decayed; its fitted line stands in for them"},
-      {"blank-drift", "this blank's trace bends: no straight blank line describes it"},
-      {"no-limit", "no substrate concentration known: no conversion limit applied"},
-      {"blank-line", "a blank used had a disturbed start, so its fitted line was subtracted instead"},
-      {"outliers", "reads inside the window were left out as outliers"},
-      {"noise", "the rate cannot be told apart from the noise"},
-      {"negative", "the rate runs against the reaction direction given"},
-      {"empty", "the plate map puts nothing in this well"},
-      {"blank-missing", "no blank well to subtract"},
-      {"blank-noisy", "a blank well scatters far more than the other blanks"},
-      {"no-path", "no usable path length, so no concentration"},
-      {"outside-standards", "window reads lie outside the standard curve's calibrated signal range"},
-  };
-  auto it = meanings.find(flag);
-  return it == meanings.end() ? std::string() : it->second;
+  // The one table of flag and note words (include/vzero/flags.hpp), without its Markdown.
+  const MarkInfo* m = find_mark(flag, MarkKind::flag);
+  if (!m) m = find_mark(flag, MarkKind::note);
+  std::string out;
+  if (m)
+    for (char c : m->meaning)
+      if (c != '`') out += c;
+  return out;
 }
 
 std::string render_header(const PageData& m, const ReportOptions& o) {

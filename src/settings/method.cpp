@@ -113,15 +113,16 @@ void read_channel_tables(const toml::table& channels, std::string_view text, con
   for (const auto& [ck, cv] : channels) {
     const auto* t = cv.as_table();
     if (!t)
-      throw InputError(Where{name, static_cast<int>(ck.source().begin.line), static_cast<int>(ck.source().begin.column)},
-                       fmt::format("`channel.{}` must be a table of that channel's settings", ck.str()),
-                       {fmt::format("write [channel.{}] on its own line, then its keys (e.g. epsilon = 6220) below it",
-                                    ck.str())});
+      throw InputError(
+          Where{name, static_cast<int>(ck.source().begin.line), static_cast<int>(ck.source().begin.column)},
+          fmt::format("`channel.{}` must be a table of that channel's settings", ck.str()),
+          {fmt::format("write [channel.{}] on its own line, then its keys (e.g. epsilon = 6220) below it", ck.str())});
     // An empty table would say nothing, and a misspelt channel name in it nothing either.
     if (t->empty())
-      throw InputError(Where{name, static_cast<int>(ck.source().begin.line), static_cast<int>(ck.source().begin.column)},
-                       fmt::format("[channel.{}] holds no settings", ck.str()),
-                       {fmt::format("give the channel's settings below it (e.g. epsilon = 6220), or remove the table")});
+      throw InputError(
+          Where{name, static_cast<int>(ck.source().begin.line), static_cast<int>(ck.source().begin.column)},
+          fmt::format("[channel.{}] holds no settings", ck.str()),
+          {fmt::format("give the channel's settings below it (e.g. epsilon = 6220), or remove the table")});
     for (const auto& [k, v] : *t) {
       MethodEntry e = named_entry(k, channel_keys, name, std::string(ck.str()));
       read_value(v, e, text, name);
