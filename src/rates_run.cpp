@@ -86,6 +86,7 @@ std::string missing_substrate_warning(const std::vector<RunAnalysis>& analyses, 
 void check_output_paths(const RunSettings& s, const std::string& package) {
   std::vector<detail::NamedPath> inputs, outputs;
   for (const auto& f : s.files) inputs.push_back({"the export", f});
+  if (!s.files_from.empty()) inputs.push_back({"the file list (--files-from)", s.files_from});
   inputs.push_back({"the plate map (--layout)", s.layout});
   if (!s.method.empty()) inputs.push_back({"the method file (--method)", s.method});
   std::error_code ec;
@@ -133,23 +134,52 @@ void add_run_notes(const RunSettings& s, bool unconverted, RatesOutputs& out) {
   out.provenance.warnings = out.warnings;
 }
 
+// The exports a --files-from list names, after those given: one path per line, surrounding
+// spaces trimmed, blank lines and lines starting with # skipped.
+RunSettings with_listed_files(const RunSettings& given, std::string& list_sha256) {
+  RunSettings s = given;
+  if (s.files_from.empty()) return s;
+  const detail::FileBytes list =
+      detail::read_whole_file(s.files_from, "give a text file with one export path per line (--files-from)");
+  list_sha256 = list.sha256;
+  std::size_t start = 0, listed = 0;
+  while (start < list.text.size()) {
+    std::size_t end = list.text.find('\n', start);
+    if (end == std::string::npos) end = list.text.size();
+    std::string line = list.text.substr(start, end - start);
+    start = end + 1;
+    while (!line.empty() && (line.back() == '\r' || line.back() == ' ' || line.back() == '\t')) line.pop_back();
+    const std::size_t first = line.find_first_not_of(" \t");
+    if (first == std::string::npos || line[first] == '#') continue;
+    s.files.push_back(line.substr(first));
+    ++listed;
+  }
+  if (listed == 0)
+    throw InputError(Where{s.files_from, 1, 1, ""}, "the file list names no export",
+                     {"write one export path per line (lines starting with # are comments)"});
+  return s;
+}
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
                        const std::function<void(const BatchProgress&)>& progress) {
-  const RunSettings& s = resolved.settings;
-  if (s.files.empty()) throw UsageError("expected one or more export FILEs");
+  std::string list_sha256;
+  const RunSettings s = with_listed_files(resolved.settings, list_sha256);
+  if (s.files.empty()) throw UsageError("expected one or more export FILEs (or --files-from LIST)");
   if (s.layout.empty()) throw UsageError("--layout MAP.csv is required (the plate map: which well holds what)");
   const fs::path dir = fs::path(s.output).parent_path();
   check_output_paths(s, (dir / "datapackage.json").string());
   RatesOutputs out;
-  const bool unconverted = s.analysis.convert.mode == ConvertMode::signal_only &&
-                           std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end();
+  const bool unconverted =
+      s.analysis.convert.mode == ConvertMode::signal_only &&
+      std::find(resolved.given.begin(), resolved.given.end(), "signal-only") == resolved.given.end();
   if (unconverted && s.analysis.channel_settings.empty())
     out.notes.push_back(
         "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
         "rates stay in signal units per minute");
   read_map(resolved, out);
+  if (!s.files_from.empty()) out.provenance.inputs.push_back({"file-list", s.files_from, list_sha256, "", ""});
   Provenance& prov = out.provenance;
 
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
@@ -192,8 +222,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
     if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet,
-                           f.run->metadata, f.run->read_facts, f.run->read_notes});
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet, f.run->metadata,
+                           f.run->read_facts, f.run->read_notes});
     for (const auto& fact : f.run->read_facts)
       if (fact.name == "time_unit" && fact.basis.rfind("no unit", 0) == 0)
         out.notes.push_back(fmt::format("{}: read times taken as seconds: {}", f.path, fact.basis));
@@ -212,7 +242,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
   if (!s.summary.empty()) {
     out.summary_csv = summary_csv(out.summary);
-    tables.push_back({"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
+    tables.push_back(
+        {"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);

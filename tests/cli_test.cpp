@@ -269,7 +269,8 @@ TEST_CASE("a prefix of an option or a mistyped command is never guessed, only su
   auto command = run_vzero("rate x.csv");
   CHECK(command.status == 2);
   CHECK(command.err ==
-        "vzero: unknown command \"rate\"; did you mean rates? commands are inspect, rates, fit, report, profile (see vzero "
+        "vzero: unknown command \"rate\"; did you mean rates? commands are inspect, rates, fit, report, profile (see "
+        "vzero "
         "--help)\n");
 }
 
@@ -423,4 +424,30 @@ TEST_CASE("--summary-per-file keeps the exports apart in the summary") {
     CHECK(pv.has_value() == av.has_value());
     if (pv && av) CHECK(*pv == doctest::Approx(*av).epsilon(1e-12));
   }
+}
+
+TEST_CASE("--files-from reads the exports from a list, as if they were typed") {
+  TempDir dir;
+  const std::string wide = source("demo-data/hydrolase_wide.csv"), lng = source("demo-data/hydrolase_long.csv");
+  spit((dir.path / "list.txt").string(), "# a job's exports\n\n  " + wide + "  \r\n" + lng + "\n");
+  const std::string common = " --layout " + demo("hydrolase_map.csv") + " --method " + demo("esterase_method.toml");
+  auto typed = run_vzero("rates '" + wide + "' '" + lng + "' -o typed.csv -q" + common, dir.path.string());
+  auto listed = run_vzero("rates --files-from list.txt -o listed.csv -q" + common, dir.path.string());
+  INFO(typed.describe(), listed.describe());
+  REQUIRE(typed.status == 0);
+  REQUIRE(listed.status == 0);
+  CHECK(slurp((dir.path / "typed.csv").string()) == slurp((dir.path / "listed.csv").string()));
+  // The list is an input of the run: recorded with its checksum.
+  const auto pkg = nlohmann::json::parse(slurp((dir.path / "datapackage.json").string()));
+  int lists = 0;
+  for (const auto& in : pkg["vzero"]["inputs"]) lists += in["kind"] == "file-list";
+  CHECK(lists == 1);
+  // A list that names nothing, and a list that is not there, are errors naming the file.
+  spit((dir.path / "empty.txt").string(), "# nothing yet\n\n");
+  auto empty = run_vzero("rates --files-from empty.txt -o e.csv" + common, dir.path.string());
+  CHECK(empty.status == 1);
+  CHECK(empty.err.rfind("empty.txt:1:1: the file list names no export", 0) == 0);
+  auto missing = run_vzero("rates --files-from nope.txt -o m.csv" + common, dir.path.string());
+  CHECK(missing.status == 1);
+  CHECK(missing.err.find("nope.txt") != std::string::npos);
 }

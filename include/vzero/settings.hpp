@@ -33,6 +33,7 @@ struct RunSettings {
   std::string time_unit;                            // "s", "min", "h" for plain-number times ("" = not stated)
   std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
   std::string traces, summary, report;              // optional outputs ("" = not written)
+  std::string files_from;                           // a file listing more exports, one per line ("" = none)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates
   bool summary_per_file = false;                   // summary groups kept apart per export file
   bool quiet = false;

@@ -141,6 +141,10 @@ std::vector<OptionSpec> make_table() {
       "sheet", 0, k_io, OptionRole::io, "", [](S& s) { return &s.sheet; },
       "sheet of every .xlsx workbook FILE, by name (default: the first sheet)"));
   t.push_back(text(
+      "files-from", 0, k_io, OptionRole::io, "", [](S& s) { return &s.files_from; },
+      "also read the exports listed in this file, one path per line (blank lines and # comments skipped; "
+      "relative paths as if typed here), after those on the command line: for job arrays and long lists"));
+  t.push_back(text(
       "output", 'o', k_io, OptionRole::io, "rates.csv", [](S& s) { return &s.output; },
       "rates table; datapackage.json is written beside it"));
   t.push_back(text(
