@@ -224,12 +224,7 @@ Run read_long(ReaderInput in) {
     double temp_c = std::nan("");
     if (cols->temp >= 0) {
       const FieldView& f = views[static_cast<std::size_t>(cols->temp)];
-      double tv = 0;
-      CellKind k = read_cell(in.cp, f.text, tv);
-      if (k == CellKind::number)
-        temp_c = tv;
-      else if (k == CellKind::bad)
-        bad_value_error(p, file, ln, f.column, line, f.text, "the temperature");
+      temp_c = temperature_cell(in.cp, p, file, ln, f.column, line, f.text);
     }
     std::size_t ch = 0;
     if (cols->channel >= 0) {

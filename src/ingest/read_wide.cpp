@@ -281,12 +281,7 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
   double temp = std::nan("");
   if (header_->temp_col >= 0) {
     const auto& f = fields_v_[static_cast<std::size_t>(header_->temp_col)];
-    double v = 0;
-    CellKind k = read_cell(in_.cp, f.text, v);
-    if (k == CellKind::number)
-      temp = v;
-    else if (k == CellKind::bad)
-      bad_value_error(p_, file_, ln, f.column, line, f.text, "the temperature");
+    temp = temperature_cell(in_.cp, p_, file_, ln, f.column, line, f.text);
   }
   int read = current_->add_read(t, temp, Where{file_, ln, fields_v_[tcol].column, std::string(line)});
   if (in_.first_value && in_.first_value->line == 0) {

@@ -105,7 +105,6 @@ bool match_capture(const CompiledProfile& cp, std::string_view line,
   return false;
 }
 
-
 std::optional<double> parse_time(std::string_view text, TimeUnit unit, char decimal) {
   text = trim(text);
   if (!text.empty() && std::isalpha(static_cast<unsigned char>(text.back()))) return worded_time(text, decimal);
@@ -244,6 +243,14 @@ CellKind read_cell(const CompiledProfile& cp, std::string_view text, double& val
     }
   }
   return read_cell(cp.profile, text, value);
+}
+
+double temperature_cell(const CompiledProfile& cp, const Profile& p, const std::string& file, int line, int column,
+                        std::string_view line_text, std::string_view cell) {
+  double v = 0;
+  const CellKind k = read_cell(cp, cell, v);
+  if (k == CellKind::bad) bad_value_error(p, file, line, column, line_text, cell, "the temperature");
+  return k == CellKind::number ? v : std::nan("");
 }
 
 void bad_value_error(const Profile& p, const std::string& file, int line, int column, std::string_view line_text,

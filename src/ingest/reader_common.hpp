@@ -103,6 +103,10 @@ CellKind read_cell(const CompiledProfile& cp, std::string_view text, double& val
 // The error for a value cell that is not a number, with fixes suited to what it holds.
 [[noreturn]] void bad_value_error(const Profile& p, const std::string& file, int line, int column,
                                   std::string_view line_text, std::string_view cell, const std::string& what_cell);
+// A read's temperature cell: NaN when it is empty, missing or overflow; text that is not a
+// number is the error above, at `column`.
+double temperature_cell(const CompiledProfile& cp, const Profile& p, const std::string& file, int line, int column,
+                        std::string_view line_text, std::string_view cell);
 
 // Collects one channel's reads; wells in any order (columns are sorted by plate index
 // when the channel is finished).
