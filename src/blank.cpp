@@ -118,6 +118,25 @@ int screen_blank_start(const std::vector<double>& time_s, const double* y, const
   return std::isfinite(l.slope) ? s.skip : 0;
 }
 
+double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
+  std::vector<double> dist;
+  int dof = 0;
+  for (const auto& set : sets) {
+    if (set.size() < 2) continue;
+    std::vector<double> v = set;
+    std::sort(v.begin(), v.end());
+    const std::size_t h = v.size() / 2;
+    const double med = v.size() % 2 ? v[h] : 0.5 * (v[h - 1] + v[h]);
+    const double n = static_cast<double>(v.size());
+    for (double x : v) dist.push_back(std::fabs(x - med) * std::sqrt(n / (n - 1)));
+    dof += static_cast<int>(v.size()) - 1;
+  }
+  if (dof < 2) return NAN;
+  std::sort(dist.begin(), dist.end());
+  const std::size_t h = dist.size() / 2;
+  return 1.4826 * (dist.size() % 2 ? dist[h] : 0.5 * (dist[h - 1] + dist[h]));
+}
+
 BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
   const Eigen::Index reads = c.values.rows(), cols = c.values.cols();
   BlankResult r;
@@ -160,20 +179,24 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     blank_line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
-  // Well-to-well drift: the robust SD of the blank wells' own rates.
+  // Well-to-well drift: the blank wells' own rates about their set's (within_set_rate_sd);
+  // when no set has two blanks, their spread over the channel (every difference counted).
   double rate_sd = NAN;
   {
-    std::vector<double> slopes;
-    for (int b : all_blanks)
-      if (std::isfinite(blank_line[b].slope)) slopes.push_back(blank_line[b].slope);
-    if (slopes.size() >= 3) {
-      std::sort(slopes.begin(), slopes.end());
-      const std::size_t h = slopes.size() / 2;
-      const double med = slopes.size() % 2 ? slopes[h] : 0.5 * (slopes[h - 1] + slopes[h]);
-      for (double& v : slopes) v = std::fabs(v - med);
-      std::sort(slopes.begin(), slopes.end());
-      rate_sd = 1.4826 * (slopes.size() % 2 ? slopes[h] : 0.5 * (slopes[h - 1] + slopes[h]));
+    std::map<std::string, std::vector<double>> by_set;
+    std::vector<double> every;
+    for (int b : all_blanks) {
+      if (!std::isfinite(blank_line[b].slope)) continue;
+      every.push_back(blank_line[b].slope);
+      const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+      if (o.strategy == BlankStrategy::matched && bi && !bi->match.empty())
+        by_set[bi->match].push_back(blank_line[b].slope);
     }
+    std::vector<std::vector<double>> sets;
+    if (o.strategy == BlankStrategy::matched)
+      for (auto& [match, rates] : by_set) sets.push_back(std::move(rates));
+    rate_sd = within_set_rate_sd(sets);
+    if (std::isnan(rate_sd) && every.size() >= 3) rate_sd = within_set_rate_sd({every});
   }
   double median_sd = NAN;
   if (sds.size() >= 3) {

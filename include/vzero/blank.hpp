@@ -74,6 +74,15 @@ struct BlankResult {
 int screen_blank_start(const std::vector<double>& time_s, const double* y, const ReadStatus* status, double& slope,
                        double& intercept);
 
+// Well-to-well drift: how far blank wells' own rates scatter about the other blanks of the
+// set a sample subtracts (one set per `match` value for `matched`, every blank for `plate`).
+// Within each set of 2 or more rates, each rate's distance from the set's median, scaled by
+// √(n/(n−1)) (exact for a mean, so that a pair gives |r₁ − r₂|/√2); the robust SD (1.4826 ×
+// median absolute value) of those distances pooled over the sets. Differences between sets
+// (a substrate that hydrolyses faster at a higher concentration) are not scatter: matched
+// blanks subtract them. Needs 2 or more degrees of freedom (Σ(n − 1) ≥ 2), else NaN.
+double within_set_rate_sd(const std::vector<std::vector<double>>& sets);
+
 BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
 
 // Mean blank trace's OLS slope over [t0_s, t1_s] for channel column `column` (signal units

@@ -220,6 +220,7 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.r2 = line.r2;
   // Converted at the window's end: the product formed since reaction start, from the curve
   // (the fixed windows take the baseline from their own line's first reads).
+  double mid_conversion = NAN;  // converted at the window's middle
   if (std::isfinite(limit_per_signal)) {
     double baseline = w.baseline;
     if (!std::isfinite(baseline)) {
@@ -238,7 +239,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     // ends at the limit has its middle at most), v0 at the starting substrate is
     // underestimated by more than the limit allows anywhere else.
     const double at_start = (line.intercept + line.slope * r.t_start_s - baseline) * tr.conc_per_signal / tr.substrate;
-    if (r.lag_s > 0 && 0.5 * (at_start + r.conversion) > 0.5 * opt.max_conversion) add_flag(r, "depleted");
+    mid_conversion = 0.5 * (at_start + r.conversion);
+    if (r.lag_s > 0 && mid_conversion > 0.5 * opt.max_conversion) add_flag(r, "depleted");
   }
 
   // Initial tangent of a parabola, for curving wells.
@@ -266,6 +268,15 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
       r.ci_low = tf.ci_low;
       r.ci_high = tf.ci_high;
     }
+  }
+  // A straight line rates the reaction at the substrate left at its window's middle: with a
+  // fraction c converted there, v0 can lie up to line/(1 − c) − line above it (the Michaelis–
+  // Menten rate falls no faster than the substrate, v/v0 ≥ 1 − c; the bound is reached far
+  // below Km). The interval's upper side carries that possible bias in quadrature.
+  if (r.tangent == "slope" && r.slope > 0 && std::isfinite(mid_conversion) && mid_conversion > 0 &&
+      std::isfinite(r.ci_high)) {
+    const double c = std::min(mid_conversion, 0.5);
+    r.ci_high = r.slope + std::hypot(r.ci_high - r.slope, r.slope * c / (1 - c));
   }
 
   // Distinguishable from noise?

@@ -6,9 +6,11 @@
 // wells on its plate). A weighted percentile q is the smallest error whose cumulative weight
 // reaches q of the total (for equal weights: the lower of the two middle values at 50 %).
 // An artefact well carries any artefact bit but "depletion" (> 50 % converted by the last
-// read, ordinary chemistry); a clean well carries none and is measurable (a perfect
-// straight-line window of ≥ 5 noise-free reads is within 5 % of v0), so a flag on it is a
-// false alarm.
+// read, ordinary chemistry); a clean well carries none, is measurable (a perfect
+// straight-line window of ≥ 5 noise-free reads is within 5 % of v0) and is not noise-limited
+// (that window, knowing the truth, reaches the rate finder's precision limit against the read
+// noise and the per-well drift), so a flag on it is a false alarm. Noise-limited wells with no
+// artefact are counted apart: an `imprecise` flag there is right.
 #include <algorithm>
 #include <cmath>
 #include <functional>
@@ -43,7 +45,8 @@ constexpr Named k_artefacts[] = {
 };
 
 bool artefact_well(const WellRecord& r) { return (r.artefacts & ~static_cast<unsigned>(sim::k_depletion)) != 0; }
-bool clean_well(const WellRecord& r) { return !artefact_well(r) && r.measurable; }
+bool clean_well(const WellRecord& r) { return !artefact_well(r) && r.measurable && !r.noise_limited; }
+bool noise_limited_well(const WellRecord& r) { return !artefact_well(r) && r.measurable && r.noise_limited; }
 
 struct Figures {
   int wells = 0;
@@ -152,12 +155,15 @@ std::string overall(const Totals& tot, Headline& h) {
   const Figures naive = weighted(recs, all, naive_err);
   int art_unflagged = 0, art10 = 0, art15 = 0, clean = 0, clean_flagged = 0, measurable = 0;
   std::map<std::string, int> clean_flags;
+  std::map<sim::PlateKind, std::pair<int, int>> clean_by_kind;  // flagged, clean
   for (const auto& r : recs) {
     measurable += r.measurable;
     if (clean_well(r)) {
       ++clean;
       clean_flagged += r.flagged;
       for (const auto& f : r.flags) ++clean_flags[f];
+      clean_by_kind[r.kind].first += r.flagged;
+      ++clean_by_kind[r.kind].second;
     }
     if (!artefact_well(r) || r.flagged) continue;
     ++art_unflagged;
@@ -183,6 +189,9 @@ std::string overall(const Totals& tot, Headline& h) {
   out +=
       fmt::format("clean wells flagged: {} of {} ({}); their flags:", clean_flagged, clean, pct(clean_flagged, clean));
   for (const auto& [flag, n] : clean_flags) out += fmt::format(" {} {}", flag, n);
+  out += "\n  by plate kind (flagged of clean):";
+  for (const auto& [kind, fc] : clean_by_kind)
+    out += fmt::format(" {} {}/{}", sim::to_string(kind), fc.first, fc.second);
   out += "\n";
   {
     const auto imprecise = [](const WellRecord& r) {
@@ -201,6 +210,18 @@ std::string overall(const Totals& tot, Headline& h) {
         "truth in {} of clean wells, {} of unflagged wells\n",
         ci.wells, ci.median, ci.p90, pct(cov_clean, n_clean), pct(cov_unfl, n_unfl));
     out += fmt::format("clean wells flagged for more than imprecision: {} ({})\n", other, pct(other, n_clean));
+    int n_limited = 0, limited_imprecise = 0, limited_other = 0;
+    for (const auto& r : recs) {
+      if (!noise_limited_well(r)) continue;
+      ++n_limited;
+      limited_imprecise += imprecise(r);
+      limited_other += r.flagged && !(r.flags.size() == 1 && imprecise(r));
+    }
+    const Figures lim = weighted(recs, noise_limited_well, abs_err);
+    out += fmt::format(
+        "noise-limited wells (no artefact, but even the truth's best line misses the precision limit): {}; flagged\n"
+        "  imprecise {} ({}), flagged for more {}; their |error| median {:.2f} % p90 {:.2f} %\n",
+        n_limited, limited_imprecise, pct(limited_imprecise, n_limited), limited_other, lim.median, lim.p90);
   }
   const int lost = tot.sample_wells - tot.finite;
   out += fmt::format("wells lost: {} of {} (no result or no finite v0)\n", lost, tot.sample_wells);

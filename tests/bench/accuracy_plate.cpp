@@ -33,7 +33,7 @@ struct Blanks {
   std::vector<std::vector<double>> mean;  // [row][read]
   std::vector<int> per_row;
   double sd = NAN;
-  double rate_sd = NAN;  // robust SD of the blank wells' own OLS rates (well-to-well drift)
+  double rate_sd = NAN;  // the blank wells' own OLS rates about their row's (within_set_rate_sd)
 };
 
 Blanks row_blanks(const sim::Plate& p, Totals& tot) {
@@ -44,7 +44,7 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
   std::vector<double> sds;
   // A blank with a disturbed start stands in by its fitted line, as apply_blank does.
   std::vector<std::vector<double>> screened(p.signal.size());
-  std::vector<double> rates;
+  std::vector<std::vector<double>> rates(static_cast<std::size_t>(p.rows));  // per row: its blanks' rates
   for (std::size_t w = 0; w < p.signal.size(); ++w) {
     if (p.truth[w].role != sim::Role::blank) continue;
     screened[w] = p.signal[w];
@@ -57,13 +57,11 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
         bt.push_back(p.time_s[i]);
         by.push_back(screened[w][i]);
       }
-    if (bt.size() >= 3) rates.push_back(vzero::detail::ols(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
+    if (bt.size() >= 3)
+      rates[w / static_cast<std::size_t>(p.columns)].push_back(
+          vzero::detail::ols(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
   }
-  if (rates.size() >= 3) {
-    const double med = vzero::detail::median_inplace(rates);
-    for (double& r : rates) r = std::fabs(r - med);
-    b.rate_sd = 1.4826 * vzero::detail::median_inplace(rates);
-  }
+  b.rate_sd = within_set_rate_sd(rates);
   for (int row = 0; row < p.rows; ++row) {
     for (int i = 0; i < reads; ++i) {
       double sum = 0;
@@ -214,10 +212,11 @@ std::string listing_line(const PlateRun& run, const sim::Plate& p, int w, unsign
   return fmt::format(
       "seed {} well {:>2} S0/Km {:4.2f} t10 {:6.1f}s dt {:2.0f} dead {:4.1f} n {:2} art {:2} | "
       "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
-      "line {:+.4f} tan {:+.4f} | {}",
+      "line {:+.4f} tan {:+.4f} hw {:.3f} | {}",
       run.seed, w, truth.s0_uM / truth.km_uM, t10, p.read_interval_s, p.dead_time_s, p.time_s.size(), art, err,
       naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers, r.tangent, r.window_end, r.lag_s,
-      r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1, r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1, fl);
+      r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1, r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1,
+      0.5 * (r.ci_high - r.ci_low) / std::fabs(r.slope), fl);
 }
 
 }  // namespace
@@ -292,10 +291,12 @@ void run_plate(const PlateRun& run, Totals& tot) {
                    !flags.empty(),
                    r.tangent == "parabola",
                    flags,
-                   r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM};
+                   r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM,
+                   !(truth.ideal_half_width <= run.options.precision_limit)};
     if (run.mix)
-      tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} blank-dist {:+.5f} | {}",
+      tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} ideal-hw {:.3f} blank-dist {:+.5f} | {}",
                                            to_string(run.kind), truth.measurable ? "yes" : "no", truth.line_error,
+                                           truth.ideal_half_width,
                                            truth.blank_disturbance_AU, artefact_names(truth.artefacts));
     tot.records.push_back(rec);
   }

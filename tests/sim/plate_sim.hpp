@@ -216,6 +216,9 @@ inline void judge_well(const PlateSpec& spec, const Plate& plate, WellTruth& tr)
     tr.measurable = tr.line_error <= spec.measurable_within;
     tr.oracle_first = lw.first;
     tr.oracle_last = lw.last;
+    const double drift = spec.well_drift_sd * std::sqrt(1.0 + 1.0 / std::max(1, spec.blank_columns)) /
+                         std::fabs(tr.v0_uM_s * plate.signal_per_uM);
+    if (lw.first >= 0) tr.ideal_half_width = 1.959963984540054 * std::hypot(lw.se, drift);
   }
 }
 

@@ -62,6 +62,11 @@ struct WellTruth {
   // the SE from the read noise at zero signal of a trace minus its row's blank mean
   // (sim_physics.hpp line_windows); −1 when no window is long enough.
   int oracle_first = -1, oracle_last = -1;
+  // The precision that window can reach: the relative 95 % half-width of its slope from the
+  // read noise (as above) and the per-well drift (the well's own and its blank mean's) in
+  // quadrature. Above a rate finder's precision limit, no method can meet it on this well:
+  // the well is noise-limited, and an `imprecise` flag on it is the flag doing its job.
+  double ideal_half_width = INFINITY;
 };
 
 // Scenario knobs; the defaults are the scenario described at the top.
