@@ -343,3 +343,35 @@ TEST_CASE("a window after a lag that used much of the substrate is flagged deple
   opt.detect_lag = false;
   CHECK(!has_flag(vzero::find_rate(v, opt), "depleted"));
 }
+
+TEST_CASE("a straight line's depletion bias lies inside the interval's upper side") {
+  // First-order progress (far below Km, the bound's worst case; closed form worked here):
+  // P(t) = S0·(1 − e^(−kt)), S0 = 100 µM, k = 1e-3 /s, so v0 = k·S0 = 0.1 µM/s; 60 reads
+  // 10 s apart, signal in µM (conc_per_signal 1). 10 % is converted by −ln(0.9)/k = 105 s,
+  // so the window holds about the first 11 reads and its line rates the reaction at about
+  // 5 % less substrate: below v0. The interval's upper side carries line·c/(1 − c), c the
+  // conversion at the window's middle (at least half the conversion at its end).
+  Trace tr;
+  for (int i = 0; i < 60; ++i) {
+    tr.t.push_back(10.0 * i);
+    tr.y.push_back(100.0 * -std::expm1(-1e-3 * 10.0 * i));
+  }
+  tr.st.assign(tr.t.size(), ReadStatus::ok);
+  vzero::TraceView v = tr.view();
+  v.substrate = 100;
+  v.conc_per_signal = 1;
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  const auto r = vzero::find_rate(v, opt);
+  REQUIRE(std::isfinite(r.conversion));
+  CHECK(r.slope < 0.1);           // the line is low ...
+  CHECK(r.slope > 0.1 * 0.9);     // ... by about half the conversion
+  CHECK(r.ci_high >= 0.1);        // and the interval holds v0
+  const double c = 0.5 * r.conversion;
+  CHECK(r.ci_high - r.slope >= r.slope * c / (1 - c) * (1 - 1e-12));
+  // Without the substrate nothing bounds the bias: the upper side is the estimator's own,
+  // and it misses v0.
+  vzero::TraceView bare = tr.view();
+  const auto b = vzero::find_rate(bare, opt);
+  CHECK(b.ci_high < 0.1);
+}
