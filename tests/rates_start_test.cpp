@@ -6,6 +6,7 @@
 #include <cmath>
 #include <vector>
 
+#include "rates/lag_model.hpp"
 #include "rates/start_screen.hpp"
 #include "test_support.hpp"
 #include "vzero/blank.hpp"
@@ -286,13 +287,15 @@ Trace lag_curve(double v, double tau) {
 }  // namespace
 
 TEST_CASE("a window followed by a steeper stretch is flagged rising") {
-  // v = 0.001 /s, τ = 160 s, substrate 1 (conc_per_signal 1): 10 % is converted by t ≈ 220 s
-  // (P(220) = 0.100, worked from the closed form), so the conversion limit ends the window
-  // near 220 s, while the rate there is still 1 − e^(−220/160) = 75 % of v. With read noise
-  // 0.012 the lag scan's 5-read blocks cannot see the lag (their slopes differ by at most
-  // ≈ 0.00077 < 4·√2·0.012/√4000 = 0.0011), but the stretch of the window's length after it
-  // (slope ≈ 0.00088 against the window's ≈ 0.00046) differs by ≈ 8 standard errors.
-  const Trace tr = lag_curve(0.001, 160);
+  // A rate that doubles at 600 s (0.0005 /s, then 0.001 /s; 60 reads 20 s apart), substrate
+  // 1 (conc_per_signal 1): 10 % is converted at 200 s, so the conversion limit ends the
+  // window there, and the lag shape is fitted up to twice that (400 s), where the trace is
+  // still straight: no lag is seen. Of the blocks of the window's length after it, the one
+  // from 600 s climbs at 0.001 against the window's 0.0005, ≈ 8 standard errors apart
+  // (σ = 0.012: SE of an 11-read slope over 200 s = 0.012/√44,000 ≈ 5.7e-5; worked here).
+  Trace tr = lag_curve(0.001, 160);
+  for (std::size_t i = 0; i < tr.t.size(); ++i)
+    tr.y[i] = tr.t[i] <= 600 ? 0.0005 * tr.t[i] : 0.3 + 0.001 * (tr.t[i] - 600);
   vzero::TraceView v = tr.view(0.012);
   v.substrate = 1;
   v.conc_per_signal = 1;
@@ -300,7 +303,7 @@ TEST_CASE("a window followed by a steeper stretch is flagged rising") {
   opt.tangent = vzero::TangentMode::never;
   const auto r = vzero::find_rate(v, opt);
   CHECK(r.window_end == "conversion");
-  CHECK(r.slope < 0.6 * 0.001);  // the window's chord, far below v
+  CHECK(r.slope == doctest::Approx(0.0005).epsilon(1e-9));
   CHECK(has_flag(r, "rising"));
   CHECK(!has_flag(r, "lag"));
 
@@ -315,6 +318,42 @@ TEST_CASE("a window followed by a steeper stretch is flagged rising") {
   // With the lag check off (--lag-check off) nothing is looked for.
   opt.detect_lag = false;
   CHECK(!has_flag(vzero::find_rate(v, opt), "rising"));
+}
+
+TEST_CASE("a lag too gentle for short blocks is recognised by its shape; the window starts after it") {
+  // v = 0.001 /s, τ = 160 s, read noise 0.012 (as lag_curve above): 5-read blocks' slopes
+  // differ by at most ≈ 0.00077 < 4·√2·0.012/√4000 = 0.0011, so the block scan sees nothing,
+  // but the lag curve fits the reads far better than a line. The window starts where the
+  // rate has reached 95 % of v (3τ = 480 s, within a grid step of τ) and its slope is near v.
+  const Trace tr = lag_curve(0.001, 160);
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  const auto r = vzero::find_rate(tr.view(0.012), opt);
+  CHECK(has_flag(r, "lag"));
+  CHECK(r.t_start_s >= 360);
+  CHECK(r.t_start_s <= 600);
+  CHECK(std::fabs(r.slope / 0.001 - 1) < 0.1);
+  CHECK(!has_flag(r, "rising"));
+  // With substrate 1 (conc_per_signal 1), P(480 s) = 0.001·(480 − 160·(1 − e⁻³)) = 0.328:
+  // a third is used before the window starts, so the rate it measures is not v0: depleted.
+  vzero::TraceView v = tr.view(0.012);
+  v.substrate = 1;
+  v.conc_per_signal = 1;
+  CHECK(has_flag(vzero::find_rate(v, opt), "depleted"));
+  // The shape test itself (lag_model.hpp): the noise-free lag curve picks a τ within a grid
+  // step (the grid's ratio is (τmax/τmin)^(1/23)) of 160 s; a curve that only bends down
+  // (first order) and a straight line gain nothing.
+  const double tau_max = 1180.0 / 3, ratio = std::pow(tau_max / 10.0, 1.0 / 23);
+  const auto shape = vzero::detail::fit_lag_shape(tr.t.data(), tr.y.data(), 30, 0.001, tau_max);
+  CHECK(shape.tau_s > 160 / ratio);
+  CHECK(shape.tau_s < 160 * ratio);
+  std::vector<double> fo(tr.t.size()), line(tr.t.size());
+  for (std::size_t i = 0; i < tr.t.size(); ++i) {
+    fo[i] = 1 - std::exp(-tr.t[i] / 600);
+    line[i] = 0.2 + 0.001 * tr.t[i];
+  }
+  CHECK(vzero::detail::fit_lag_shape(tr.t.data(), fo.data(), 30, 0.001, tau_max).tau_s == 0);
+  CHECK(vzero::detail::fit_lag_shape(tr.t.data(), line.data(), 30, 0.001, tau_max).gain < 1e-6);
 }
 
 TEST_CASE("a window after a lag that used much of the substrate is flagged depleted") {

@@ -3,6 +3,7 @@
 #include <algorithm>
 
 #include "core/stats.hpp"
+#include "rates/lag_model.hpp"
 #include "rates/rate_window.hpp"
 #include "rates/start_screen.hpp"
 #include "rates/window_stats.hpp"
@@ -113,6 +114,29 @@ int lag_scan(const WindowStats& stats, const std::vector<double>& t, int s0, int
   for (std::size_t j = 1; j <= top; ++j)
     if (b[top] - b[j] <= std::hypot(se[j], se[top])) return s0 + static_cast<int>(j);
   return s0 + static_cast<int>(top);
+}
+
+// A lag by its shape (lag_model.hpp), for ramps too gentle for lag_scan's short windows: the
+// lag curve fitted to the reads from s0 up to twice the conversion limit (the first half of
+// the run when no limit is known; at least 2p reads), τ up to a third of the run. When it
+// fits better than a line by more than k_lag_gain read-noise variances, the window starts
+// where the rate has reached 95 % of its steady value (3τ), at most lag_max reads on.
+constexpr double k_lag_gain = 9.0;
+int lag_by_shape(const std::vector<double>& t, const std::vector<double>& y, int s0, int p, int lag_max, double sd,
+                 double baseline, double limit_signal) {
+  const int mc = static_cast<int>(t.size());
+  if (lag_max < 1 || !(sd > 0)) return s0;
+  int last = s0;
+  if (std::isfinite(limit_signal) && std::isfinite(baseline))
+    while (last + 1 < mc && y[z(last + 1)] - baseline <= 2 * limit_signal) ++last;
+  else
+    last = s0 + (mc - s0) / 2 - 1;
+  last = std::min(mc - 1, std::max(last, s0 + 2 * p - 1));
+  const LagShape lag = fit_lag_shape(t.data() + s0, y.data() + s0, last - s0 + 1, sd, (t[z(mc - 1)] - t[z(s0)]) / 3);
+  if (!(lag.gain > k_lag_gain)) return s0;
+  int s = s0;
+  while (s < s0 + lag_max && t[z(s)] - t[z(s0)] < 3 * lag.tau_s) ++s;
+  return s;
 }
 
 // A stretch after the window [s, e) steeper than the window itself: once an enzyme reaction
@@ -266,6 +290,7 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   int s = s0;
   if (opt.detect_lag) {
     s = lag_scan(stats, ct, s0, p, lag_max, sd);
+    if (s == s0) s = lag_by_shape(ct, cy, s0, p, lag_max, sd, baseline, limit_signal);
     w.lag = s > s0;
   }
   const std::vector<WindowRule>& rules = opt.window_rules ? *opt.window_rules : default_window_rules();

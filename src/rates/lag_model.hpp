@@ -1,0 +1,25 @@
+// A lag recognised by its shape: the progress curve of a reaction whose rate climbs
+// exponentially to a steady value (a hysteretic enzyme, a coupling step catching up:
+// P(t) = v·(t − τ·(1 − e^(−t/τ))), from memory; the form of Frieden's hysteretic-enzyme
+// equation with no initial rate). Internal to the rate finder (src/rates).
+#pragma once
+
+#include <cmath>
+
+namespace vzero::detail {
+
+struct LagShape {
+  double tau_s = 0;   // the time constant that fits best (0 = a straight line fits as well)
+  double slope = NAN; // its steady rate v
+  double gain = 0;    // (RSS of the line − RSS of the lag curve) / sd²: how much better it fits
+};
+
+// Fits y = a + v·g_τ(t − t₀), g_τ(u) = u − τ·(1 − e^(−u/τ)), by linear least squares in
+// (a, v) for each τ of a log-spaced grid from half the median read interval to `tau_max_s`
+// (k_lag_grid values), keeping v > 0; returns the best τ against the straight line (τ → 0).
+// g is convex, so a curve that only bends down (substrate used up) never gains: the best τ
+// of a concave trace stays 0. O(k_lag_grid · n).
+inline constexpr int k_lag_grid = 24;
+LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, double tau_max_s);
+
+}  // namespace vzero::detail
