@@ -122,8 +122,8 @@ int lag_scan(const WindowStats& stats, const std::vector<double>& t, int s0, int
 // fits better than a line by more than k_lag_gain read-noise variances, the window starts
 // where the rate has reached 95 % of its steady value (3τ), at most lag_max reads on.
 constexpr double k_lag_gain = 9.0;
-int lag_by_shape(const std::vector<double>& t, const std::vector<double>& y, int s0, int p, int lag_max, double sd,
-                 double baseline, double limit_signal) {
+int lag_by_shape(const WindowStats& stats, const std::vector<double>& t, const std::vector<double>& y, int s0, int p,
+                 int lag_max, double sd, double baseline, double limit_signal) {
   const int mc = static_cast<int>(t.size());
   if (lag_max < 1 || !(sd > 0)) return s0;
   int last = s0;
@@ -132,6 +132,9 @@ int lag_by_shape(const std::vector<double>& t, const std::vector<double>& y, int
   else
     last = s0 + (mc - s0) / 2 - 1;
   last = std::min(mc - 1, std::max(last, s0 + 2 * p - 1));
+  // The lag curve is convex: reads whose parabola bends down (or not at all) cannot fit it
+  // better than a line, so the fit is spared them.
+  if (!(stats.test(s0, last + 1, sd, t[z(s0)]).curvature > 0)) return s0;
   const LagShape lag = fit_lag_shape(t.data() + s0, y.data() + s0, last - s0 + 1, sd, (t[z(mc - 1)] - t[z(s0)]) / 3);
   if (!(lag.gain > k_lag_gain)) return s0;
   int s = s0;
@@ -290,7 +293,7 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   int s = s0;
   if (opt.detect_lag) {
     s = lag_scan(stats, ct, s0, p, lag_max, sd);
-    if (s == s0) s = lag_by_shape(ct, cy, s0, p, lag_max, sd, baseline, limit_signal);
+    if (s == s0) s = lag_by_shape(stats, ct, cy, s0, p, lag_max, sd, baseline, limit_signal);
     w.lag = s > s0;
   }
   const std::vector<WindowRule>& rules = opt.window_rules ? *opt.window_rules : default_window_rules();
