@@ -49,6 +49,12 @@ long long wells_of(const RunAnalysis& a) {
   return n;
 }
 
+long long trace_rows_of(const RunAnalysis& a) {
+  long long n = 0;
+  for (const auto& ca : a.channels) n += static_cast<long long>(ca.rows.size()) * ca.channel->reads();
+  return n;
+}
+
 }  // namespace
 
 std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, const PlateMap& map, const BatchOptions& o,
@@ -89,8 +95,10 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
         ao.threads = inner;
         f.analysis = analyse_run(*f.run, map, ao);
         f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific);
-        if (o.trace_rows) f.trace_rows = traces_csv_rows(f.analysis);
-        if (!o.keep_data) keep_results_only(f);
+        // A large file's traces are written by `ready` from the analysis, a well at a time.
+        f.traces_from_analysis = o.trace_rows && ready && trace_rows_of(f.analysis) > k_pool_trace_rows;
+        if (o.trace_rows && !f.traces_from_analysis) f.trace_rows = traces_csv_rows(f.analysis);
+        if (!o.keep_data && !(ready && (o.keep_data_until_ready || f.traces_from_analysis))) keep_results_only(f);
       } catch (...) {
         errors[static_cast<std::size_t>(i)] = std::current_exception();
         int seen = first_failed.load();
@@ -104,7 +112,11 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
         state.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
         if (progress) progress(state);
         finished[static_cast<std::size_t>(i)] = 1;
-        for (; ready && next_ready < out.size() && finished[next_ready]; ++next_ready) ready(out[next_ready]);
+        for (; ready && next_ready < out.size() && finished[next_ready]; ++next_ready) {
+          BatchFile& g = out[next_ready];
+          ready(g);
+          if (!o.keep_data && (o.keep_data_until_ready || g.traces_from_analysis)) keep_results_only(g);
+        }
       }
     }
   };

@@ -154,23 +154,17 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
   return pkg.dump(2) + "\n";
 }
 
-void traces_csv_pieces(const std::vector<RunAnalysis>& runs, const std::function<void(std::string_view)>& take) {
+void traces_csv_pieces(const RunAnalysis& run, const std::function<void(std::string_view)>& take) {
   const auto columns = detail::columns_for(detail::trace_declaration(), detail::NoContext{});
-  {
-    detail::CsvOut out;
-    detail::write_header(out, columns);
-    take(out.view());
-  }
-  for (const auto& run : runs)
-    for (const auto& ca : run.channels)
-      for (const auto& r : ca.rows) {  // the order of detail::write_trace_rows
-        const int j = ca.channel->column_of(r.plate_index);
-        const double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
-        detail::CsvOut out;
-        for (int i = 0; i < ca.channel->reads(); ++i)
-          detail::write_row(out, columns, detail::TraceRowRef{run, ca, r, i, j, factor});
-        take(out.view());
-      }
+  for (const auto& ca : run.channels)
+    for (const auto& r : ca.rows) {  // the order of detail::write_trace_rows
+      const int j = ca.channel->column_of(r.plate_index);
+      const double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
+      detail::CsvOut out;
+      for (int i = 0; i < ca.channel->reads(); ++i)
+        detail::write_row(out, columns, detail::TraceRowRef{run, ca, r, i, j, factor});
+      take(out.view());
+    }
 }
 
 std::string with_table_hashes(const std::string& package_json,

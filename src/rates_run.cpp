@@ -5,6 +5,7 @@
 #include <cmath>
 #include <exception>
 #include <filesystem>
+#include <optional>
 #include <set>
 
 #include "core/files.hpp"
@@ -160,6 +161,39 @@ RunSettings with_listed_files(const RunSettings& given, std::string& list_sha256
   return s;
 }
 
+// The batch's ordered consumer: each finished file's rows go to the sink (a large file's
+// traces a well at a time, from its analysis) and its plates to the report. A sink error
+// waits until every input has been read, so that input errors are reported first.
+struct FileConsumer {
+  OutputSink& sink;
+  const std::vector<std::string>& map_columns;
+  bool with_activity, with_specific, traces;
+  RunReport* report;  // nullptr: no report
+  bool started = false;
+  std::exception_ptr error;
+
+  void operator()(BatchFile& f) {
+    if (error) return;
+    try {
+      if (report) report->add(f.analysis);
+      if (!started) {
+        started = true;
+        sink.append("rates", rates_csv({}, map_columns, with_activity, with_specific));
+        if (traces) sink.append("traces", traces_csv({}));
+      }
+      sink.append("rates", f.rates_rows);
+      std::string().swap(f.rates_rows);
+      if (f.traces_from_analysis)
+        traces_csv_pieces(f.analysis, [this](std::string_view rows) { sink.append("traces", rows); });
+      else if (traces)
+        sink.append("traces", f.trace_rows);
+      std::string().swap(f.trace_rows);
+    } catch (...) {
+      error = std::current_exception();
+    }
+  }
+};
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
@@ -193,31 +227,13 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.with_activity = with_activity;
   batch.with_specific = with_specific;
   batch.trace_rows = !s.traces.empty();
-  batch.keep_data = !s.report.empty();
-  // Tables go to the sink as the files finish, in order; a sink error waits until every input
-  // has been read, so that input errors are reported first.
-  bool started = false;
-  std::exception_ptr sink_error;
-  auto ready = [&](BatchFile& f) {
-    if (sink_error) return;
-    try {
-      if (!started) {
-        started = true;
-        sink.append("rates", rates_csv({}, out.map.columns, with_activity, with_specific));
-        if (batch.trace_rows) sink.append("traces", traces_csv({}));
-      }
-      sink.append("rates", f.rates_rows);
-      std::string().swap(f.rates_rows);
-      if (batch.trace_rows) {
-        sink.append("traces", f.trace_rows);
-        std::string().swap(f.trace_rows);
-      }
-    } catch (...) {
-      sink_error = std::current_exception();
-    }
-  };
-  out.files = analyse_files(s.files, out.map, batch, progress, ready);
-  if (sink_error) std::rethrow_exception(sink_error);
+  // The report takes each file's plates as it finishes; its reads are dropped after that.
+  batch.keep_data_until_ready = !s.report.empty();
+  std::optional<RunReport> report;
+  if (!s.report.empty()) report.emplace(out.map.columns);
+  FileConsumer ready{sink, out.map.columns, with_activity, with_specific, batch.trace_rows, report ? &*report : nullptr};
+  out.files = analyse_files(s.files, out.map, batch, progress, std::ref(ready));
+  if (ready.error) std::rethrow_exception(ready.error);
 
   std::set<std::string> profiles_listed;
   for (auto& f : out.files) {
@@ -247,9 +263,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);
-  if (!s.report.empty())
-    out.report_html = render_report(
-        report_input(out.analyses, out.map.columns, with_activity, with_specific, out.summary, out.datapackage_json));
+  if (report) out.report_html = report->render(out.summary, out.datapackage_json);
   return out;
 }
 

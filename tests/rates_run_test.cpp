@@ -7,18 +7,9 @@
 #include "core/files.hpp"
 #include "test_support.hpp"
 #include "vzero/outputs.hpp"
-#include "vzero/report.hpp"
 
 using namespace vzero;
 using namespace vzero::test;
-
-namespace {
-std::string csv_header_of(const vzero::Table& t) {
-  std::string h;
-  for (const auto& c : t.header) h += (h.empty() ? "" : ",") + c;
-  return h + "\n";
-}
-}  // namespace
 
 TEST_CASE("run_rates gives exactly what vzero rates writes") {
   TempDir dir;
@@ -73,33 +64,4 @@ TEST_CASE("a profile file read by several exports is one input") {
   for (const auto& in : r.provenance.inputs) profiles += in.kind == "profile";
   CHECK(profiles == 1);
   CHECK(r.analyses.size() == 2);
-}
-
-TEST_CASE("the report made with the run keeps every rates column (specific activity included)") {
-  TempDir dir;
-  // The demo map with an enzyme mass column (invented: 1 µg of enzyme per well).
-  std::string map = slurp(source("demo-data/hydrolase_map.csv"));
-  std::string with_mass;
-  for (std::size_t at = 0; at < map.size();) {
-    const std::size_t end = map.find('\n', at);
-    std::string line = map.substr(at, end - at);
-    at = end == std::string::npos ? map.size() : end + 1;
-    if (!line.empty() && line[0] != '#') line += line.rfind("well,", 0) == 0 ? ",enzyme_mg" : ",0.001";
-    with_mass += line + "\n";
-  }
-  spit((dir.path / "map.csv").string(), with_mass);
-  ResolvedSettings s = resolve_settings({{"layout", (dir.path / "map.csv").string()},
-                                         {"output", (dir.path / "rates.csv").string()},
-                                         {"epsilon", "18000"},
-                                         {"path-cm", "0.5"},
-                                         {"well-volume-ul", "200"},
-                                         {"enzyme-mg-column", "enzyme_mg"},
-                                         {"report", (dir.path / "report.html").string()}});  // keeps the reads
-  s.settings.files = {source("demo-data/hydrolase_wide.csv")};
-  StringSink sink;
-  RatesOutputs r = run_rates(s, sink);
-  const ReportInput in = report_input(r.analyses, r.map.columns, true, true, r.summary, r.datapackage_json);
-  CHECK(in.rates.column("specific_activity_U_per_mg") >= 0);
-  CHECK(sink.text().at("rates").rfind(csv_header_of(in.rates), 0) == 0);
-  CHECK(!r.report_html.empty());
 }

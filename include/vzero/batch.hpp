@@ -33,11 +33,20 @@ struct BatchOptions {
   std::vector<std::string> map_columns;  // plate-map columns, for the rates rows
   bool with_activity = false;            // rates rows with activity_U / activity_nkat
   bool with_specific = false;            // rates rows with specific_activity_U_per_mg
-  bool trace_rows = false;               // also format the traces rows
+  // Also format the traces rows: in the pool, for a file of up to k_pool_trace_rows rows;
+  // a larger file leaves them to `ready` (BatchFile::traces_from_analysis), which streams
+  // them from its analysis, so that no file's whole traces text is ever held.
+  bool trace_rows = false;
   // Keep every run's reads and matrices (a report draws them). Otherwise each file keeps
   // only what rates.csv, the summary and datapackage.json need once its rows are written.
   bool keep_data = false;
+  // Keep each file's reads and matrices until `ready` has seen it (it draws a report from
+  // them), then drop them unless keep_data.
+  bool keep_data_until_ready = false;
 };
+
+// Traces rows a file may have for the pool to format them (about 100 bytes each).
+inline constexpr long long k_pool_trace_rows = 1 << 18;
 
 struct BatchFile;
 
@@ -47,7 +56,10 @@ struct BatchFile {
   std::unique_ptr<Run> run;  // stays at one address: the analysis points into it
   RunAnalysis analysis;
   std::string rates_rows;  // rates.csv rows of this file (no header)
-  std::string trace_rows;  // traces rows (no header), when asked
+  std::string trace_rows;  // traces rows (no header), when asked and the file is small
+  // Traces asked of a file above k_pool_trace_rows with a `ready` callback: trace_rows is
+  // empty and the reads are kept for `ready` to write them (traces_csv_pieces).
+  bool traces_from_analysis = false;
 };
 
 struct BatchProgress {

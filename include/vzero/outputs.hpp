@@ -54,9 +54,9 @@ std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);
 std::string traces_csv_rows(const RunAnalysis& run);
-// The same text as traces_csv, handed to `take` in pieces of whole lines (the header, then
-// one well's reads at a time), so that no more than one well's text is held at once.
-void traces_csv_pieces(const std::vector<RunAnalysis>& runs, const std::function<void(std::string_view)>& take);
+// The same text as traces_csv_rows, handed to `take` in pieces of whole lines (one well's
+// reads at a time), so that no more than one well's text is held at once.
+void traces_csv_pieces(const RunAnalysis& run, const std::function<void(std::string_view)>& take);
 
 std::vector<FieldSpec> summary_fields(const SummaryTable& s);
 std::string summary_csv(const SummaryTable& s);

@@ -42,7 +42,7 @@
 //   vzero::write_file_atomic("report.html", html);
 #pragma once
 
-#include <functional>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -64,12 +64,9 @@ struct ReportFit {
 struct ReportInput {
   Table rates;                   // rates table (required): one row per well and channel
   std::optional<Table> traces;   // per-read traces; without it panels show no curve
-  // Instead of `traces`, the traces table read row by row while the page is drawn, so that
-  // the report's memory grows with the wells, not with the reads: a file (read_report_input
-  // sets it), or CSV text handed to the given function in pieces of whole lines, the header
-  // first (report_input; it refers to the analyses, which must outlive the input).
+  // Instead of `traces`, the traces file read row by row while the page is drawn, so that
+  // the report's memory grows with the wells, not with the reads (read_report_input sets it).
   std::string traces_file;
-  std::function<void(const std::function<void(std::string_view)>&)> traces_text;
   std::optional<Table> summary;  // replicate summary
   std::vector<ReportFit> fits;   // fits, in order
   std::string package_json;      // text of datapackage.json (required: plate, direction, factor, map columns)
@@ -94,12 +91,6 @@ ReportInput read_report_input(const ReportFiles& files);
 // missing.
 ReportFiles find_run_files(const std::string& folder_or_rates);
 
-// The same tables from an analysis in memory, as `vzero rates` would write them.
-// `package_json` is the datapackage.json text (provenance), "" for none.
-// `with_activity` and `with_specific` as for rates_csv.
-ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                         bool with_activity, bool with_specific, const SummaryTable& summary, std::string package_json);
-
 // How the panels' vertical axes are scaled.
 enum class PanelScale {
   plate,  // one scale for the sample, blank and empty wells of a plate (standards get their own)
@@ -115,6 +106,34 @@ struct ReportOptions {
   PanelScale scale = PanelScale::plate;
   // Empty if valid, else e.g. "block_rows is 0; a block needs at least one row".
   std::string validate() const;
+};
+
+namespace detail::report {
+struct PageData;
+}
+
+// The report of a run in memory (`vzero rates --report`), drawn from the analyses, not from
+// their tables: add() takes each export's plates from its analysis and thins its reads at
+// once to what the panels show, so the caller may drop the reads after it; render() ends
+// the page with the replicate summary and the run's datapackage.json text. The page is the
+// one render_report draws from the files the same run writes (rates, traces, summary,
+// datapackage.json), byte for byte.
+class RunReport {
+ public:
+  // `map_columns` as for rates_csv. UsageError for invalid options.
+  explicit RunReport(std::vector<std::string> map_columns, ReportOptions options = {});
+  ~RunReport();
+  RunReport(RunReport&&) noexcept;
+  RunReport& operator=(RunReport&&) noexcept;
+  // Exports in the order of the rates table.
+  void add(const RunAnalysis& run);
+  std::string render(const SummaryTable& summary, const std::string& package_json) const;
+
+ private:
+  std::vector<std::string> map_columns_;
+  ReportOptions options_;
+  std::unique_ptr<detail::report::PageData> page_;
+  int line_ = 1;  // the rates table's line of the last well added
 };
 
 // The whole page. Throws InputError (file:line:column) when a table lacks a column the

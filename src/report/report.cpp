@@ -5,7 +5,6 @@
 #include "core/files.hpp"
 #include "report/report_model.hpp"
 #include "vzero/error.hpp"
-#include "vzero/outputs.hpp"
 #include "vzero/svg.hpp"
 
 namespace vzero {
@@ -60,42 +59,39 @@ ReportInput read_report_input(const ReportFiles& f) {
   return in;
 }
 
-ReportInput report_input(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                         bool with_activity, bool with_specific, const SummaryTable& summary,
-                         std::string package_json) {
-  ReportInput in;
-  in.rates = parse_table("rates table", rates_csv(runs, map_columns, with_activity, with_specific));
-  in.traces_text = [&runs](const std::function<void(std::string_view)>& take) { traces_csv_pieces(runs, take); };
-  in.summary = parse_table("summary table", summary_csv(summary));
-  in.package_json = std::move(package_json);
-  in.package_source = "datapackage.json";
-  return in;
-}
-
 std::string render_report(const ReportInput& input, const ReportOptions& options) {
   if (auto why = options.validate(); !why.empty()) throw UsageError(why);
   namespace r = detail::report;
   const r::PageData m = r::build_model(input, options.scale);
-  const std::string title = options.title.empty() ? "Run report: " + r::export_names(m) : options.title;
+  return r::render_page(m, input.summary ? &*input.summary : nullptr, &input, options);
+}
+
+namespace detail::report {
+
+std::string render_page(const PageData& m, const Table* summary, const ReportInput* fits_from,
+                        const ReportOptions& options) {
+  const std::string title = options.title.empty() ? "Run report: " + export_names(m) : options.title;
   std::string h;
   h.reserve(1 << 20);
   h += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n";
   h += "<meta name=\"generator\" content=\"vzero " + std::string(VZERO_VERSION) + "\"/>\n";
-  h += "<title>" + svg::escape(title) + "</title>\n<style>" + r::page_css() + "</style>\n</head>\n<body>\n<main>\n";
-  h += r::render_header(m, options);
-  h += r::render_flags(m);
-  for (const auto& p : m.plates) h += r::render_plate(p, options);
-  h += r::render_standard_curves(m);
-  if (input.summary)
-    h += r::render_summary(m, *input.summary);
+  h += "<title>" + svg::escape(title) + "</title>\n<style>" + page_css() + "</style>\n</head>\n<body>\n<main>\n";
+  h += render_header(m, options);
+  h += render_flags(m);
+  for (const auto& p : m.plates) h += render_plate(p, options);
+  h += render_standard_curves(m);
+  if (summary)
+    h += render_summary(m, *summary);
   else
     h += "<section id=\"summary\">\n<h2>Replicates</h2>\n<p class=\"note\">No summary table was given (pass "
          "--summary).</p>\n</section>\n";
-  h += r::render_fits(m, input);
+  if (fits_from) h += render_fits(m, *fits_from);
   h += about_section();
   h += "</main>\n</body>\n</html>\n";
   return h;
 }
+
+}  // namespace detail::report
 
 }  // namespace vzero

@@ -202,10 +202,6 @@ void read_traces(const ReportInput& in, PageData& m, const WellIndex& index) {
     reader.check(t);
   } else if (!in.traces_file.empty()) {
     reader.check(stream_table(in.traces_file, take));
-  } else if (in.traces_text) {
-    TableLines lines("traces table", take);
-    in.traces_text([&lines](std::string_view text) { lines.text(text); });
-    reader.check(lines.finish());
   }
 }
 
@@ -213,12 +209,7 @@ void read_traces(const ReportInput& in, PageData& m, const WellIndex& index) {
 // well's last used read and a tangent well's parabola.
 void thin_plates(PageData& m, PanelScale scale) {
   for (auto& p : m.plates) {
-    for (auto& w : p.wells) {
-      for (std::size_t i = 0; i < w.time_s.size(); ++i)
-        if (w.used[i] && std::isfinite(w.time_s[i]))
-          w.last_used_s = std::isnan(w.last_used_s) ? w.time_s[i] : std::max(w.last_used_s, w.time_s[i]);
-      if (w.tangent == "parabola") w.parabola = fit_parabola(w);
-    }
+    for (auto& w : p.wells) take_from_all_reads(w);
     thin_plate(p, scale);
   }
 }
@@ -226,8 +217,6 @@ void thin_plates(PageData& m, PanelScale scale) {
 // Sets the plates' units and time axes.
 void finish_plates(PageData& m) {
   for (auto& p : m.plates) {
-    std::string stem = per_min_stem(p.v0_unit);
-    p.y_unit = stem.empty() ? p.v0_unit : stem;
     double t0 = INFINITY, t1 = -INFINITY;
     for (auto& w : p.wells) {
       for (double t : w.time_s)
@@ -235,8 +224,7 @@ void finish_plates(PageData& m) {
       for (double t : {w.t_start_s, w.t_end_s})
         if (std::isfinite(t)) t0 = std::min(t0, t), t1 = std::max(t1, t);
     }
-    p.t_min_s = std::isfinite(t0) ? std::min(t0, 0.0) : 0;
-    p.t_max_s = std::isfinite(t1) && t1 > p.t_min_s ? t1 : p.t_min_s + 1;
+    set_axes(p, t0, t1);
   }
 }
 
@@ -270,6 +258,13 @@ std::string PageData::anchor_of(const std::string& channel, const std::string& w
     if (it != p.by_index.end()) return p.wells[it->second].anchor;
   }
   return {};
+}
+
+void set_axes(PlateView& p, double t0, double t1) {
+  std::string stem = per_min_stem(p.v0_unit);
+  p.y_unit = stem.empty() ? p.v0_unit : stem;
+  p.t_min_s = std::isfinite(t0) ? std::min(t0, 0.0) : 0;
+  p.t_max_s = std::isfinite(t1) && t1 > p.t_min_s ? t1 : p.t_min_s + 1;
 }
 
 std::string display_unit(const std::string& unit) {

@@ -102,6 +102,13 @@ struct PageData {
 // Builds the model, each well's reads thinned to what its panel shows on `scale`; InputError for missing columns or bad cells (file:line:column).
 PageData build_model(const ReportInput& input, PanelScale scale = PanelScale::plate);
 
+// Sets the plate's y unit and time axis from the earliest and latest time drawn (reads and
+// windows; ±INFINITY when none).
+void set_axes(PlateView& p, double t_lo, double t_hi);
+// The page of a model: `summary` and `fits_from` (the input the fits were read with) may be null.
+std::string render_page(const PageData& m, const Table* summary, const ReportInput* fits_from,
+                        const ReportOptions& options);
+
 // JSON text parsed, or InputError naming `name`.
 nlohmann::json parse_json(const std::string& text, const std::string& name);
 // Fills m.channels and m.map_columns from m.package; InputError naming `source` for a

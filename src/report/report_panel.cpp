@@ -85,17 +85,6 @@ void own_scale(Document& d, const svg::Scale& sy, const YRange& r, double ax) {
 
 namespace {
 
-// The drawn values' extent, unpadded; NaN when the well has none.
-std::pair<double, double> extent(const WellView& w) {
-  double lo = INFINITY, hi = -INFINITY;
-  for (double v : w.y)
-    if (std::isfinite(v)) lo = std::min(lo, v), hi = std::max(hi, v);
-  if (has_line(w) && !tangent_well(w))
-    for (double t : {w.t_start_s, w.t_end_s}) lo = std::min(lo, w.line_at(t)), hi = std::max(hi, w.line_at(t));
-  if (!std::isfinite(lo)) return {NAN, NAN};
-  return {lo, hi};
-}
-
 YRange padded(double lo, double hi) {
   if (!std::isfinite(lo)) lo = 0, hi = 1;
   if (hi - lo <= 0) lo -= 0.5, hi += 0.5;
@@ -105,8 +94,18 @@ YRange padded(double lo, double hi) {
 
 }  // namespace
 
+std::pair<double, double> drawn_extent(const WellView& w) {
+  double lo = INFINITY, hi = -INFINITY;
+  for (double v : w.y)
+    if (std::isfinite(v)) lo = std::min(lo, v), hi = std::max(hi, v);
+  if (has_line(w) && !tangent_well(w))
+    for (double t : {w.t_start_s, w.t_end_s}) lo = std::min(lo, w.line_at(t)), hi = std::max(hi, w.line_at(t));
+  if (!std::isfinite(lo)) return {NAN, NAN};
+  return {lo, hi};
+}
+
 YRange well_y_range(const WellView& w) {
-  const auto [lo, hi] = extent(w);
+  const auto [lo, hi] = drawn_extent(w);
   YRange r = padded(lo, hi);
   r.own = true;
   return r;
@@ -116,9 +115,13 @@ YRange plate_y_range(const PlateView& p) {
   std::vector<double> lows, highs;
   for (const auto& w : p.wells) {
     if (w.role == "standard") continue;
-    const auto [lo, hi] = extent(w);
+    const auto [lo, hi] = drawn_extent(w);
     if (std::isfinite(lo)) lows.push_back(lo), highs.push_back(hi);
   }
+  return shared_y_range(std::move(lows), std::move(highs));
+}
+
+YRange shared_y_range(std::vector<double> lows, std::vector<double> highs) {
   if (lows.empty()) return padded(NAN, NAN);
   std::sort(lows.begin(), lows.end());
   std::sort(highs.begin(), highs.end());
@@ -149,7 +152,7 @@ YRange panel_range(const WellView& w, const YRange& shared, PanelScale scale) {
 }
 
 bool fits_in(const WellView& w, const YRange& r) {
-  const auto [lo, hi] = extent(w);
+  const auto [lo, hi] = drawn_extent(w);
   return !std::isfinite(lo) || (lo >= r.lo && hi <= r.hi);
 }
 

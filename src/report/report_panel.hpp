@@ -32,6 +32,10 @@ YRange well_y_range(const WellView& w);
 constexpr std::size_t k_trim_wells = 20;
 constexpr double k_reach = 0.25;
 YRange plate_y_range(const PlateView& p);
+// The same from the drawn_extent of each well other than a standard that has values.
+YRange shared_y_range(std::vector<double> lows, std::vector<double> highs);
+// The drawn values' extent (trace and fitted line), unpadded; NaN when the well has none.
+std::pair<double, double> drawn_extent(const WellView& w);
 // Whether every drawn value of `w` lies inside r (else the well gets its own scale).
 bool fits_in(const WellView& w, const YRange& r);
 
@@ -56,6 +60,11 @@ Parabola fit_parabola(const WellView& w);
 // reads). Returns the number of reads dropped.
 constexpr double k_thin_columns = 2, k_thin_dot_step = 0.5;
 std::size_t thin_plate(PlateView& p, PanelScale scale);
+// What is taken from every read before thinning: the last used read and a tangent well's parabola.
+void take_from_all_reads(WellView& w);
+// One well of thin_plate: `sx` the plate's time scale, `shared` its shared range. Returns
+// the number of reads dropped.
+std::size_t thin_well(WellView& w, const svg::Scale& sx, const YRange& shared, PanelScale scale);
 // The reads of one well to keep: indices into its vectors, ascending (thin_plate's rule),
 // for a panel drawn on `sx` (time) and `sy` (values).
 std::vector<std::size_t> kept_reads(const WellView& w, const svg::Scale& sx, const svg::Scale& sy,

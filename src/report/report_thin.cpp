@@ -110,26 +110,36 @@ std::vector<std::size_t> kept_reads(const WellView& w, const svg::Scale& sx, con
   return out;
 }
 
+void take_from_all_reads(WellView& w) {
+  for (std::size_t i = 0; i < w.time_s.size(); ++i)
+    if (w.used[i] && std::isfinite(w.time_s[i]))
+      w.last_used_s = std::isnan(w.last_used_s) ? w.time_s[i] : std::max(w.last_used_s, w.time_s[i]);
+  if (w.tangent == "parabola") w.parabola = fit_parabola(w);
+}
+
+std::size_t thin_well(WellView& w, const svg::Scale& sx, const YRange& shared, PanelScale scale) {
+  const YRange r = panel_range(w, shared, scale);
+  const auto kept = kept_reads(w, sx, svg::Scale{r.lo, r.hi, k_plot_h, 0}, k_thin_columns, k_thin_dot_step);
+  if (kept.size() == w.time_s.size()) return 0;
+  auto pick = [&](auto& v) {
+    std::remove_reference_t<decltype(v)> out;
+    out.reserve(kept.size());
+    for (std::size_t i : kept) out.push_back(v[i]);
+    v.swap(out);
+  };
+  const std::size_t dropped = w.time_s.size() - kept.size();
+  pick(w.time_s);
+  pick(w.y);
+  pick(w.read_ok);
+  pick(w.used);
+  return dropped;
+}
+
 std::size_t thin_plate(PlateView& p, PanelScale scale) {
   const svg::Scale sx{p.t_min_s, p.t_max_s, 0, k_panel_w - 6};
   const YRange shared = plate_y_range(p);
   std::size_t dropped = 0;
-  for (auto& w : p.wells) {
-    const YRange r = panel_range(w, shared, scale);
-    const auto kept = kept_reads(w, sx, svg::Scale{r.lo, r.hi, k_plot_h, 0}, k_thin_columns, k_thin_dot_step);
-    if (kept.size() == w.time_s.size()) continue;
-    dropped += w.time_s.size() - kept.size();
-    auto pick = [&](auto& v) {
-      std::remove_reference_t<decltype(v)> out;
-      out.reserve(kept.size());
-      for (std::size_t i : kept) out.push_back(v[i]);
-      v.swap(out);
-    };
-    pick(w.time_s);
-    pick(w.y);
-    pick(w.read_ok);
-    pick(w.used);
-  }
+  for (auto& w : p.wells) dropped += thin_well(w, sx, shared, scale);
   return dropped;
 }
 
