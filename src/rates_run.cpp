@@ -9,6 +9,7 @@
 
 #include "core/files.hpp"
 #include "core/text.hpp"
+#include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/method.hpp"
 #include "vzero/report.hpp"
@@ -96,6 +97,7 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   if (!s.traces.empty()) outputs.push_back({"--traces", s.traces});
   if (!s.summary.empty()) outputs.push_back({"--summary", s.summary});
   if (!s.report.empty()) outputs.push_back({"--report", s.report});
+  if (!s.enzymeml.empty()) outputs.push_back({"--enzymeml", s.enzymeml});
   outputs.push_back({"datapackage.json (written beside --output)", package});
   detail::check_outputs(inputs, outputs);
 }
@@ -160,6 +162,16 @@ RunSettings with_listed_files(const RunSettings& given, std::string& list_sha256
   return s;
 }
 
+// What the EnzymeML document says beyond the analyses: the options, the run's units and the
+// reaction volume (well-volume-ul, else the fill volume given for the path length).
+EnzymeMLOptions enzymeml_options(const RunSettings& s) {
+  EnzymeMLOptions o = s.enzymeml_options;
+  o.conc_unit = s.analysis.convert.conc_unit;
+  o.tool_version = VZERO_VERSION;
+  o.volume_ul = std::isnan(s.analysis.well_volume_ul) ? s.analysis.convert.volume_ul : s.analysis.well_volume_ul;
+  return o;
+}
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
@@ -193,7 +205,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.with_activity = with_activity;
   batch.with_specific = with_specific;
   batch.trace_rows = !s.traces.empty();
-  batch.keep_data = !s.report.empty();
+  batch.keep_data = !s.report.empty() || !s.enzymeml.empty();
   // Tables go to the sink as the files finish, in order; a sink error waits until every input
   // has been read, so that input errors are reported first.
   bool started = false;
@@ -247,6 +259,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);
+  if (!s.enzymeml.empty()) out.enzymeml_json = enzymeml_json(out.analyses, out.map, enzymeml_options(s));
   if (!s.report.empty())
     out.report_html = render_report(
         report_input(out.analyses, out.map.columns, with_activity, with_specific, out.summary, out.datapackage_json));
