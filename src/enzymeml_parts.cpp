@@ -153,3 +153,51 @@ WellFacts well_facts(const PlateMap& map, const FactColumns& c, const WellInfo* 
 }
 
 }  // namespace vzero::detail
+
+namespace vzero::detail {
+
+namespace {
+
+// Exponents of one unit text: mole, litre, per-minute, and its power of ten.
+struct UnitPowers {
+  int mole = 0, litre = 0, per_min = 0, pow10 = 0;
+  bool known = true;
+};
+
+void add_atom(UnitPowers& u, std::string_view atom, int sign) {
+  bool per_min = false;
+  if (atom.size() > 4 && atom.substr(atom.size() - 4) == "/min") {
+    per_min = true;
+    atom.remove_suffix(4);
+  }
+  if (atom == "M" || atom == "mM" || atom == "uM" || atom == "nM") {
+    u.mole += sign;
+    u.litre -= sign;
+    u.pow10 += sign * mole_scale(std::string(atom));
+  } else if (atom != "1") {
+    u.known = false;
+  }
+  if (per_min) u.per_min += sign;
+}
+
+}  // namespace
+
+Json unit_from_text(const std::string& text) {
+  UnitPowers u;
+  std::size_t start = 0;
+  for (int sign = 1;; sign = -1) {
+    const std::size_t end = text.find(" per ", start);
+    add_atom(u, std::string_view(text).substr(start, end == std::string::npos ? std::string::npos : end - start), sign);
+    if (end == std::string::npos) break;
+    start = end + 5;
+  }
+  if (!u.known) return Json();
+  Json base = Json::array();
+  if (u.mole) base.push_back(base_unit("mole", u.mole, 1, u.mole == 1 ? u.pow10 : 0));
+  if (u.litre) base.push_back(base_unit("litre", u.litre));
+  if (u.per_min) base.push_back(base_unit("second", -u.per_min, 60));
+  if (base.empty() || (u.pow10 && u.mole != 1)) base.push_back(base_unit("dimensionless", 1, 1, u.mole == 1 ? 0 : u.pow10));
+  return unit(id_part(text), text, std::move(base));
+}
+
+}  // namespace vzero::detail

@@ -25,6 +25,10 @@ Json celsius_unit();
 Json signal_unit(const std::string& unit);
 Json signal_per_min_unit(const std::string& unit);
 
+// A fit table's unit text ("uM", "uM/min", "1", "uM/min per nM", "uM/min per nM per uM")
+// as a UnitDefinition; null for a unit it does not know (left out, never guessed).
+Json unit_from_text(const std::string& text);
+
 // `text` as an identifier: letters, digits and _ kept, anything else _.
 std::string id_part(std::string_view text);
 

@@ -47,4 +47,13 @@ struct EnzymeMLOptions {
 // outside 0–14, at the map's line.
 std::string enzymeml_json(const std::vector<RunAnalysis>& runs, const PlateMap& map, const EnzymeMLOptions& options);
 
+struct TableFit;  // include/vzero/fit.hpp
+
+// `document` (the text vzero rates --enzymeml wrote, read from `document_name`) with the
+// fit added: each fitted group × model as a rateLaw equation, its estimates (and kcat,
+// kcat/Km) as parameters with standard errors, starting values and units, and, when exactly
+// one fit succeeded, as the reaction's kinetic_law. Throws InputError when `document` is
+// not an EnzymeML 2 document with a reaction.
+std::string enzymeml_with_fit(const std::string& document, const std::string& document_name, const TableFit& fit);
+
 }  // namespace vzero
