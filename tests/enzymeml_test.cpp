@@ -34,8 +34,8 @@ std::string demo_run(const TempDir& d, const std::string& extra) {
 
 TEST_CASE("the demo run's EnzymeML document keeps the standard's rules") {
   TempDir d;
-  auto r = run_vzero(demo_run(d, "--well-volume-ul 200 --ph 7.5 --temperature-c 25 --enzyme 'EstD (invented)' "
-                                 "--buffer '50 mM HEPES' --enzymeml-creator Ada,Example,ada@example.org"));
+  auto r = run_vzero(demo_run(d, "--well-volume-ul 200 --assay-ph 7.5 --assay-temperature-c 25 --enzyme 'EstD (invented)' "
+                                 "--assay-buffer '50 mM HEPES' --enzymeml-creator Ada,Example,ada@example.org"));
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const json doc = json::parse(slurp(d / "run.json"));
   CHECK_MESSAGE(standard_problems(doc).empty(), joined(standard_problems(doc)));
@@ -183,10 +183,10 @@ TEST_CASE("plate-map columns give each well its own facts; a bad one stops at it
   spit(d / "map.csv", map);
   auto r = run_vzero("rates " + demo("hydrolase_wide.csv") + " --layout '" + (d / "map.csv") + "' --method " +
                      demo("esterase_method.toml") + " -o '" + (d / "rates.csv") + "' --enzymeml '" + (d / "run.json") +
-                     "' --ph 6 --quiet");
+                     "' --assay-ph 6 --quiet");
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const json doc = json::parse(slurp(d / "run.json"));
-  CHECK(doc["measurements"][0]["ph"] == 8.1);  // the map's first row wins over --ph 6
+  CHECK(doc["measurements"][0]["ph"] == 8.1);  // the map's first row wins over --assay-ph 6
   CHECK(doc["measurements"][1]["ph"] == 7);
   CHECK(doc["measurements"][0]["temperature"] == 30);
   CHECK(doc["vessels"][0]["volume"] == 150);

@@ -49,13 +49,13 @@ void add_enzymeml_options(std::vector<OptionSpec>& t) {
     t.push_back(o);
   }
   {
-    OptionSpec o = described("ph", OptionKind::number, "", "pH of the assay (map column `ph`)");
+    OptionSpec o = described("assay-ph", OptionKind::number, "", "pH of the assay (map column `ph`)");
     o.range = NumberRange{0, 14, false, false};
     o.number_field = [](S& s) { return &s.enzymeml_options.ph; };
     t.push_back(o);
   }
   {
-    OptionSpec o = described("temperature-c", OptionKind::number, "°C",
+    OptionSpec o = described("assay-temperature-c", OptionKind::number, "°C",
                              "assay temperature, °C (map column `temperature_c`; default: the mean of the "
                              "export's read temperatures, when it has them)");
     o.range = NumberRange{-273.15, 1e300, false, false};
@@ -63,7 +63,7 @@ void add_enzymeml_options(std::vector<OptionSpec>& t) {
     t.push_back(o);
   }
   {
-    OptionSpec o = described("buffer", OptionKind::text, "", "the assay buffer, e.g. \"50 mM HEPES, 100 mM NaCl\" "
+    OptionSpec o = described("assay-buffer", OptionKind::text, "", "the assay buffer, e.g. \"50 mM HEPES, 100 mM NaCl\" "
                                                              "(map column `buffer`)");
     o.text_field = [](S& s) { return &s.enzymeml_options.buffer; };
     t.push_back(o);
