@@ -220,3 +220,29 @@ TEST_CASE("--enzymeml may not replace an input or another output") {
   CHECK_MESSAGE(r.err.find("--enzymeml") != std::string::npos, r.describe());
   CHECK(slurp(d / "map.csv") == slurp(source("demo-data/hydrolase_map.csv")));
 }
+
+TEST_CASE("with --direction down the course is the falling species' concentration: traces.csv's with the sign turned") {
+  // The demo's signal rises; told down, vzero still writes every read (its rates are then
+  // flagged). Check value: traces.csv's concentration, negated (exact in floating point).
+  TempDir d;
+  REQUIRE(run_vzero(demo_run(d, "--direction down")).status == 0);
+  const json doc = json::parse(slurp(d / "run.json"));
+  CHECK_MESSAGE(standard_problems(doc).empty(), joined(standard_problems(doc)));
+  const vzero::Table traces = vzero::read_table(d / "traces.csv");
+  const auto col = [&](const char* n) { return static_cast<std::size_t>(traces.column(n)); };
+  std::vector<double> expected;
+  for (const auto& row : traces.rows)
+    if (row[col("well")] == "A1" && row[col("status")] == "ok" && !row[col("concentration")].empty())
+      expected.push_back(-std::strtod(row[col("concentration")].c_str(), nullptr));
+  REQUIRE(doc["measurements"][0]["id"] == "m1_A1");
+  bool seen = false;
+  for (const auto& s : doc["measurements"][0]["species_data"])
+    if (s.value("data_type", "") == "concentration" && s.contains("data")) {
+      seen = true;
+      CHECK(s["species_id"] == "c1");
+      CHECK(s["data"].get<std::vector<double>>() == expected);
+    }
+  CHECK(seen);
+  CHECK(doc["reactions"][0]["reactants"][1]["species_id"] == "c1");
+  CHECK(doc["reactions"][0]["products"].empty());
+}
