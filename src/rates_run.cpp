@@ -10,6 +10,7 @@
 
 #include "core/files.hpp"
 #include "core/text.hpp"
+#include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/method.hpp"
 #include "vzero/report.hpp"
@@ -97,6 +98,7 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   if (!s.traces.empty()) outputs.push_back({"--traces", s.traces});
   if (!s.summary.empty()) outputs.push_back({"--summary", s.summary});
   if (!s.report.empty()) outputs.push_back({"--report", s.report});
+  if (!s.enzymeml.empty()) outputs.push_back({"--enzymeml", s.enzymeml});
   outputs.push_back({"datapackage.json (written beside --output)", package});
   detail::check_outputs(inputs, outputs);
 }
@@ -194,6 +196,16 @@ struct FileConsumer {
   }
 };
 
+// What the EnzymeML document says beyond the analyses: the options, the run's units and the
+// reaction volume (well-volume-ul, else the fill volume given for the path length).
+EnzymeMLOptions enzymeml_options(const RunSettings& s) {
+  EnzymeMLOptions o = s.enzymeml_options;
+  o.conc_unit = s.analysis.convert.conc_unit;
+  o.tool_version = VZERO_VERSION;
+  o.volume_ul = std::isnan(s.analysis.well_volume_ul) ? s.analysis.convert.volume_ul : s.analysis.well_volume_ul;
+  return o;
+}
+
 }  // namespace
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
@@ -229,6 +241,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.trace_rows = !s.traces.empty();
   // The report takes each file's plates as it finishes; its reads are dropped after that.
   batch.keep_data_until_ready = !s.report.empty();
+  // The EnzymeML document needs every file's reads after the batch.
+  batch.keep_data = !s.enzymeml.empty();
   std::optional<RunReport> report;
   if (!s.report.empty()) report.emplace(out.map.columns);
   FileConsumer ready{sink, out.map.columns, with_activity, with_specific, batch.trace_rows, report ? &*report : nullptr};
@@ -263,6 +277,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);
+  if (!s.enzymeml.empty()) out.enzymeml_json = enzymeml_json(out.analyses, out.map, enzymeml_options(s));
   if (report) out.report_html = report->render(out.summary, out.datapackage_json);
   return out;
 }

@@ -53,6 +53,7 @@ struct RatesOutputs {
   std::string datapackage_json;  // for settings.output's folder
   std::string datapackage_path;  // where it belongs: beside settings.output
   std::string report_html;       // "" unless settings.report names a file
+  std::string enzymeml_json;     // "" unless settings.enzymeml names a file (include/vzero/enzymeml.hpp)
   Provenance provenance;
   std::vector<std::string> notes;     // for the console: what was assumed (no conversion given, …)
   std::vector<std::string> warnings;  // for the console and datapackage.json: what may make rates wrong

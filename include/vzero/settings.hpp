@@ -19,6 +19,7 @@
 #include <vector>
 
 #include "vzero/analysis.hpp"
+#include "vzero/enzymeml.hpp"
 
 namespace vzero {
 
@@ -34,6 +35,8 @@ struct RunSettings {
   std::string output = "rates.csv";                 // rates table; datapackage.json goes beside it
   std::string traces, summary, report;              // optional outputs ("" = not written)
   std::string files_from;                           // a file listing more exports, one per line ("" = none)
+  std::string enzymeml;                             // EnzymeML document ("" = not written)
+  EnzymeMLOptions enzymeml_options;                 // what it says beyond the analyses (STRENDA fields)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates
   bool summary_per_file = false;                   // summary groups kept apart per export file
   bool quiet = false;

@@ -11,6 +11,7 @@
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
 #include "core/files.hpp"
+#include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 #include "vzero/report.hpp"
@@ -176,6 +177,7 @@ void write_report(const std::string& table, const std::string& path, const Table
 int cmd_fit(const Args& args) {
   namespace po = boost::program_options;
   std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag, report;
+  std::string enzymeml, enzymeml_from;
   std::vector<std::string> groups, models{"mm"}, start;
   FitOptions fit;
   po::options_description opts(usage());
@@ -194,6 +196,8 @@ int cmd_fit(const Args& args) {
       "json", po::value(&json), "write all results as JSON here ('-' = stdout)")(
       "diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")(
       "report", po::value(&report), "write the run's HTML report with this fit added (the table's run folder)")(
+      "enzymeml", po::value(&enzymeml), "write the EnzymeML document of --enzymeml-from with the fit added here")(
+      "enzymeml-from", po::value(&enzymeml_from), "the EnzymeML document vzero rates --enzymeml wrote for this table")(
       "start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")(
       "confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")(
       "max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")(
@@ -253,7 +257,13 @@ int cmd_fit(const Args& args) {
     if (!json.empty() && json != "-") outs.push_back({"--json", json});
     if (!diag.empty() && diag != "-") outs.push_back({"--diagnostics", diag});
     if (!report.empty()) outs.push_back({"--report", report});
-    detail::check_outputs({{"the table", file}}, outs);
+    if (enzymeml.empty() != enzymeml_from.empty())
+      throw UsageError("--enzymeml OUT and --enzymeml-from DOC go together: the fit is added to the document "
+                       "vzero rates --enzymeml wrote");
+    if (!enzymeml.empty()) outs.push_back({"--enzymeml", enzymeml});
+    std::vector<detail::NamedPath> ins{{"the table", file}};
+    if (!enzymeml_from.empty()) ins.push_back({"--enzymeml-from", enzymeml_from});
+    detail::check_outputs(ins, outs);
   }
   Table table = read_table(file);
   o.column_units = package_units(file);
@@ -278,10 +288,17 @@ int cmd_fit(const Args& args) {
   }
 
   TableFit result = fit_table(table, o);
+  // The document is read and extended before any output is written: a wrong file stops here.
+  const std::string enzymeml_text =
+      enzymeml.empty() ? std::string()
+                       : enzymeml_with_fit(
+                             detail::read_whole_file(enzymeml_from, "pass the document vzero rates --enzymeml wrote").text,
+                             enzymeml_from, result);
   if (!output.empty()) write_output(output, fit_csv(result));
   if (!json.empty()) write_output(json, fit_json(result, o));
   if (!diag.empty()) write_output(diag, fit_diagnostics_csv(result));
   if (!report.empty()) write_report(file, report, result, o, json);
+  if (!enzymeml.empty()) write_file_atomic(enzymeml, enzymeml_text);
   if (to_stdout == 0 && vm.count("quiet") == 0) print_out(fit_text(result));
 
   int ok = 0;

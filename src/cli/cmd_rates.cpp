@@ -162,6 +162,7 @@ int cmd_rates(const Args& args) {
   // report` refuses and the next `vzero rates` in the folder points out.
   if (!s.summary.empty()) sink.write(s.summary, out.summary_csv);
   if (!s.report.empty()) sink.write(s.report, out.report_html);
+  if (!s.enzymeml.empty()) sink.write(s.enzymeml, out.enzymeml_json);
   std::map<std::string, std::string> hashes{{"rates", sink.sha256(s.output)}};
   if (!s.traces.empty()) hashes["traces"] = sink.sha256(s.traces);
   if (!s.summary.empty()) hashes["summary"] = sink.sha256(s.summary);

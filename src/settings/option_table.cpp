@@ -10,6 +10,10 @@
 
 namespace vzero {
 
+namespace detail {
+void add_enzymeml_options(std::vector<OptionSpec>& t);  // option_table_enzymeml.cpp
+}
+
 namespace {
 
 using S = RunSettings;
@@ -156,6 +160,9 @@ std::vector<OptionSpec> make_table() {
   t.push_back(text(
       "report", 0, k_io, OptionRole::io, "", [](S& s) { return &s.report; },
       "also write the HTML run report here (see vzero report --help)"));
+  t.push_back(text(
+      "enzymeml", 0, k_io, OptionRole::io, "", [](S& s) { return &s.enzymeml; },
+      "also write the run as an EnzymeML 2.0 JSON document here (see the EnzymeML options below)"));
   t.push_back(special(
       "summary-leave-out", k_io, OptionKind::list, OptionRole::analysis, "replicate",
       [](S& s, const V& v) {
@@ -397,6 +404,7 @@ std::vector<OptionSpec> make_table() {
   t.push_back(number(
       "tangent-alpha", k_rate, "0.05", "", k_alpha, [](S& s) { return &s.analysis.rates.tangent_alpha; },
       "one-sided significance the parabola's bend needs before its tangent is used"));
+  detail::add_enzymeml_options(t);
   return t;
 }
 
