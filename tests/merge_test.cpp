@@ -7,6 +7,7 @@
 #include <filesystem>
 #include <string>
 
+#include "core/files.hpp"
 #include "test_support.hpp"
 
 using namespace vzero::test;
@@ -124,6 +125,27 @@ TEST_CASE("runs that are not parts of one run are refused, naming the run and th
     spit(dir / "p1/rates.csv", slurp(dir / "p1/rates.csv") + "\n");
     CHECK(refused("p1 p2").find("p1/rates.csv is not the one datapackage.json describes (its sha256 differs from "
                                 "the recorded hash)") != std::string::npos);
+  }
+  SUBCASE("a run's rates.csv that does not follow its exports, hash and all") {
+    REQUIRE(rates(dir, "hydrolase_wide.csv hydrolase_long.csv", "p3").status == 0);
+    const std::string table = slurp(dir / "p3/rates.csv");
+    std::string kept;  // the rows of hydrolase_long.csv dropped, the recorded hash made to match
+    for (std::size_t at = 0; at < table.size();) {
+      const std::size_t end = table.find('\n', at) + 1;
+      if (table.compare(at, 19, "hydrolase_long.csv,") != 0) kept += table.substr(at, end - at);
+      at = end;
+    }
+    REQUIRE(kept.size() < table.size());
+    spit(dir / "p3/rates.csv", kept);
+    std::string pkg = slurp(dir / "p3/datapackage.json");
+    const std::string old_hash = "sha256:" + vzero::detail::sha256_hex(table);
+    REQUIRE(pkg.find(old_hash) != std::string::npos);
+    pkg.replace(pkg.find(old_hash), old_hash.size(), "sha256:" + vzero::detail::sha256_hex(kept));
+    spit(dir / "p3/datapackage.json", pkg);
+    CHECK(refused("p3") ==
+          "p3/rates.csv: expected rows of hydrolase_long.csv, found none: rates.csv does not follow the exports "
+          "p3/datapackage.json lists\n  possible fix: merge the run folder as `vzero rates` wrote it, or run that "
+          "part again\n");
   }
   SUBCASE("runs that wrote different tables") {
     fs::create_directories(dir.path / "p3");
