@@ -89,8 +89,8 @@ ordered_json path_of(const ordered_json& resource) {
   return resource.is_object() ? resource.value("path", ordered_json()) : ordered_json();
 }
 
-[[noreturn]] void unlike(const RunPackage& first, const std::string& field, const Where& at,
-                         const ordered_json& want, const ordered_json& found) {
+[[noreturn]] void unlike(const RunPackage& first, const std::string& field, const Where& at, const ordered_json& want,
+                         const ordered_json& found) {
   throw InputError(at,
                    fmt::format("expected {} as in {} ({}), found {}: the runs are not parts of one run", field,
                                first.path, shown(want), shown(found)),
@@ -106,16 +106,16 @@ void check_alike(const RunPackage& first, const RunPackage& run) {
   for (const auto* o : {&a["options"], &b["options"]})
     for (const auto& [k, v] : o->items())
       if (!a["options"].contains(k) || !b["options"].contains(k) || a["options"][k] != b["options"][k])
-        unlike(first, "option " + k, where_in(run, "\"" + k + "\":", "\"options\""), a["options"].value(k, ordered_json()),
-               b["options"].value(k, ordered_json()));
+        unlike(first, "option " + k, where_in(run, "\"" + k + "\":", "\"options\""),
+               a["options"].value(k, ordered_json()), b["options"].value(k, ordered_json()));
   const ordered_json ia = shared_inputs(first), ib = shared_inputs(run);
   for (std::size_t i = 0; i < std::max(ia.size(), ib.size()); ++i) {
     const ordered_json x = i < ia.size() ? ia[i] : ordered_json(), y = i < ib.size() ? ib[i] : ordered_json();
     if (x == y) continue;
     const std::string kind = (x.is_null() ? y : x).value("kind", "");
     const std::string field = x.is_null() || y.is_null() || x["path"] == y["path"] ? "sha256" : "path";
-    unlike(first, "the " + kind + " input's " + field, where_in(run, "\"" + kind + "\""),
-           x.is_null() ? x : x[field], y.is_null() ? y : y[field]);
+    unlike(first, "the " + kind + " input's " + field, where_in(run, "\"" + kind + "\""), x.is_null() ? x : x[field],
+           y.is_null() ? y : y[field]);
   }
   for (const char* key : {"map_columns", "map_column_uses"})
     if (a.value(key, ordered_json()) != b.value(key, ordered_json()))
@@ -149,22 +149,25 @@ void add_provenance(const RunPackage& run, Merged& m) {
       auto [it, fresh] = m.profile_sha.emplace(path, sha);
       if (fresh) m.inputs.push_back(in);
       if (!fresh && it->second != sha)
-        throw InputError(at, fmt::format("expected the profile {} with sha256 {} (as an earlier run read it), found {}",
-                                         path, it->second, sha),
+        throw InputError(at,
+                         fmt::format("expected the profile {} with sha256 {} (as an earlier run read it), found {}",
+                                     path, it->second, sha),
                          {"let every part read the same profile file; merge only runs made with it"});
       continue;
     }
     if (kind != "export")
-      throw InputError(at, fmt::format("expected inputs of kind export, profile, plate-map, method or file-list, "
-                                       "found \"{}\" (written by another vzero?)",
-                                       kind),
+      throw InputError(at,
+                       fmt::format("expected inputs of kind export, profile, plate-map, method or file-list, "
+                                   "found \"{}\" (written by another vzero?)",
+                                   kind),
                        {"merge with the vzero that wrote the runs"});
     for (const auto& [key, what] : {std::pair{"path:" + path, "path"}, std::pair{"sha256:" + sha, "sha256"}}) {
       auto [it, fresh] = m.export_run.emplace(key, run.path);
       if (!fresh)
-        throw InputError(at, fmt::format("expected each export in one run only, found {} in {} too (same {}): its "
-                                         "wells would count twice",
-                                         path, it->second, what),
+        throw InputError(at,
+                         fmt::format("expected each export in one run only, found {} in {} too (same {}): its "
+                                     "wells would count twice",
+                                     path, it->second, what),
                          {"give each export to one part only (cut one file list into pieces; see docs/cluster.md)"});
     }
     m.inputs.push_back(in);
@@ -316,6 +319,7 @@ MergedSet merge_runs(const std::vector<std::string>& run_dirs, const std::string
   set.exports = 0;
   for (const auto& run : runs) set.exports += run.exports.size();
   set.wells = rates.rows();
+  set.warnings = shared_warnings;
   return set;
 }
 

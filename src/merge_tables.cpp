@@ -75,10 +75,10 @@ void take_header(std::string_view line, const std::string& file, std::string& fi
   }
   if (line == first_header) return;
   auto shown = [](std::string_view s) { return std::string(s.substr(0, s.find_first_of("\r\n"))); };
-  throw InputError(Where{file, 1, 1, shown(line)},
-                   fmt::format("expected the columns of the first run's table ({}), found other columns",
-                               shown(first_header)),
-                   {"merge only runs made with the same vzero and options (the header follows from them)"});
+  throw InputError(
+      Where{file, 1, 1, shown(line)},
+      fmt::format("expected the columns of the first run's table ({}), found other columns", shown(first_header)),
+      {"merge only runs made with the same vzero and options (the header follows from them)"});
 }
 
 }  // namespace
@@ -103,23 +103,24 @@ struct RatesMerger::RunState {
 };
 
 RatesMerger::RatesMerger(const RunPackage& first)
-    : summary_(first.pkg["vzero"].value("map_columns", std::vector<std::string>{}),
-               [&] {
-                 // summary-leave-out as the option table reads a list: comma-separated, trimmed.
-                 std::vector<std::string> out;
-                 const auto& o = first.pkg["vzero"]["options"];
-                 std::string text = o.contains("summary-leave-out") ? o["summary-leave-out"].get<std::string>() : "";
-                 for (std::size_t start = 0; start <= text.size();) {
-                   std::size_t end = std::min(text.find(',', start), text.size());
-                   auto t = text.substr(start, end - start);
-                   t.erase(0, t.find_first_not_of(" \t"));
-                   t.erase(t.find_last_not_of(" \t") + 1);
-                   if (!t.empty()) out.push_back(t);
-                   start = end + 1;
-                 }
-                 return out;
-               }(),
-               first.pkg["vzero"]["options"].value("summary-per-file", "false") == "true") {
+    : summary_(
+          first.pkg["vzero"].value("map_columns", std::vector<std::string>{}),
+          [&] {
+            // summary-leave-out as the option table reads a list: comma-separated, trimmed.
+            std::vector<std::string> out;
+            const auto& o = first.pkg["vzero"]["options"];
+            std::string text = o.contains("summary-leave-out") ? o["summary-leave-out"].get<std::string>() : "";
+            for (std::size_t start = 0; start <= text.size();) {
+              std::size_t end = std::min(text.find(',', start), text.size());
+              auto t = text.substr(start, end - start);
+              t.erase(0, t.find_first_not_of(" \t"));
+              t.erase(t.find_last_not_of(" \t") + 1);
+              if (!t.empty()) out.push_back(t);
+              start = end + 1;
+            }
+            return out;
+          }(),
+          first.pkg["vzero"]["options"].value("summary-per-file", "false") == "true") {
   const auto& v = first.pkg["vzero"];
   map_columns_ = v.value("map_columns", std::vector<std::string>{});
   for (const auto& u : v["map_column_uses"])
@@ -148,12 +149,12 @@ void RatesMerger::row(const TableRow& r, RunState& st) {
   if (cell(st.source) != st.current) {
     const auto& exports = st.run.exports;
     if (st.next >= exports.size() || exports[st.next] != cell(st.source))
-      throw InputError(Where{r.head.source, r.line, r.columns[static_cast<std::size_t>(st.source)]},
-                       fmt::format("expected rows of {}, found rows of {}: rates.csv does not follow the exports "
-                                   "{} lists",
-                                   st.next < exports.size() ? exports[st.next] : "no further export",
-                                   cell(st.source), st.run.path),
-                       {"merge the run folder as `vzero rates` wrote it, or run that part again"});
+      throw InputError(
+          Where{r.head.source, r.line, r.columns[static_cast<std::size_t>(st.source)]},
+          fmt::format("expected rows of {}, found rows of {}: rates.csv does not follow the exports "
+                      "{} lists",
+                      st.next < exports.size() ? exports[st.next] : "no further export", cell(st.source), st.run.path),
+          {"merge the run folder as `vzero rates` wrote it, or run that part again"});
     st.current = std::string(cell(st.source));
     ++st.next;
   }
@@ -192,9 +193,10 @@ std::string RatesMerger::add_run(const RunPackage& run, std::string& first_heade
       });
   lines.finish();
   if (st.next != run.exports.size())
-    throw InputError(Where{file}, fmt::format("expected rows of {}, found none: rates.csv does not follow the exports "
-                                              "{} lists",
-                                              run.exports[st.next], run.path),
+    throw InputError(Where{file},
+                     fmt::format("expected rows of {}, found none: rates.csv does not follow the exports "
+                                 "{} lists",
+                                 run.exports[st.next], run.path),
                      {"merge the run folder as `vzero rates` wrote it, or run that part again"});
   return missing_substrate_text(st.wells.names.size(), st.wells.first, map_source_);
 }

@@ -27,10 +27,11 @@ void demo_inputs(const TempDir& dir) {
   spit(dir / "map.csv", map);
 }
 
-CommandResult rates(const TempDir& dir, const std::string& files, const std::string& out, const std::string& more = "") {
+CommandResult rates(const TempDir& dir, const std::string& files, const std::string& out,
+                    const std::string& more = "") {
   fs::create_directories(dir.path / out);
-  return run_vzero("rates " + files + " --layout map.csv --method esterase_method.toml -o " + out + "/rates.csv --traces " +
-                       out + "/traces.csv --summary " + out + "/summary.csv -q " + more,
+  return run_vzero("rates " + files + " --layout map.csv --method esterase_method.toml -o " + out +
+                       "/rates.csv --traces " + out + "/traces.csv --summary " + out + "/summary.csv -q " + more,
                    dir.path.string());
 }
 
@@ -99,7 +100,8 @@ TEST_CASE("runs that are not parts of one run are refused, naming the run and th
     REQUIRE(rates(dir, "hydrolase_long.csv", "p3").status == 0);
     const auto [n, text] = line_of(dir / "p3/datapackage.json", "\"plate-map\"");
     const std::string err = refused("p1 p3");
-    CHECK(err.rfind("p3/datapackage.json:" + std::to_string(n) + ":17: expected the plate-map input's sha256 as in "
+    CHECK(err.rfind("p3/datapackage.json:" + std::to_string(n) +
+                        ":17: expected the plate-map input's sha256 as in "
                         "p1/datapackage.json (\"",
                     0) == 0);
     CHECK(err.find("\"), found \"") != std::string::npos);
@@ -154,10 +156,11 @@ TEST_CASE("runs that are not parts of one run are refused, naming the run and th
                       dir.path.string())
                 .status == 0);
     const auto [n, text] = line_of(dir / "p3/datapackage.json", "\"resources\"");
-    CHECK(refused("p1 p3") == "p3/datapackage.json:" + std::to_string(n) +
-                                  ":3: expected table 2 as in p1/datapackage.json (\"traces.csv\"), found \"summary.csv\": "
-                                  "the runs are not parts of one run\n  line " +
-                                  std::to_string(n) + ": " + text + fix_alike);
+    CHECK(refused("p1 p3") ==
+          "p3/datapackage.json:" + std::to_string(n) +
+              ":3: expected table 2 as in p1/datapackage.json (\"traces.csv\"), found \"summary.csv\": "
+              "the runs are not parts of one run\n  line " +
+              std::to_string(n) + ": " + text + fix_alike);
   }
   SUBCASE("a folder that no vzero rates run wrote into") {
     fs::create_directories(dir.path / "empty");

@@ -30,9 +30,10 @@
 namespace vzero {
 
 struct MergedSet {
-  std::vector<std::string> files;  // published: each table in datapackage.json's order, then datapackage.json
-  std::size_t exports = 0;         // exports in the merged set
-  std::size_t wells = 0;           // rows of the merged rates.csv
+  std::vector<std::string> files;     // published: each table in datapackage.json's order, then datapackage.json
+  std::size_t exports = 0;            // exports in the merged set
+  std::size_t wells = 0;              // rows of the merged rates.csv
+  std::vector<std::string> warnings;  // as datapackage.json records them (for the console)
 };
 
 // Reads every run folder, checks they can merge, writes the merged set into `output_dir`

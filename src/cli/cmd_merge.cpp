@@ -4,7 +4,6 @@
 
 #include "cli/commands.hpp"
 #include "cli/options.hpp"
-#include "vzero/error.hpp"
 #include "vzero/merge.hpp"
 
 namespace vzero::cli {
@@ -53,12 +52,11 @@ int cmd_merge(const Args& args) {
     print_out(help_text(opts));
     return 0;
   }
-  if (runs.empty()) throw UsageError("expected one or more RUN_FOLDERs (the folders `vzero rates` wrote into)");
-  if (output.empty()) throw UsageError("-o OUT_FOLDER is required (where the merged set goes)");
   const MergedSet set = merge_runs(runs, output);
-  if (!vm.count("quiet"))
-    print_out(fmt::format("merged {} runs: {} exports, {} wells; wrote {}\n", runs.size(), set.exports, set.wells,
-                          fmt::join(set.files, ", ")));
+  if (vm.count("quiet")) return 0;
+  for (const auto& w : set.warnings) print_err("warning: " + w);
+  print_out(fmt::format("merged {} runs: {} exports, {} wells; wrote {}\n", runs.size(), set.exports, set.wells,
+                        fmt::join(set.files, ", ")));
   return 0;
 }
 
