@@ -74,13 +74,7 @@ std::string missing_substrate_warning(const std::vector<RunAnalysis>& analyses, 
         if (row.role == Role::sample && row.info && std::isnan(row.info->substrate))
           if (wells.insert(well_name(row.well)).second && first.empty()) first = well_name(row.well);
     }
-  if (wells.empty()) return {};
-  return fmt::format(
-      "{} sample well{} (first {}) ha{} no substrate concentration in {}: the max-conversion limit is off for "
-      "them and a window running into substrate depletion gives a rate that is too low (rates.csv notes: "
-      "no-limit); give each sample's substrate in a `substrate` column (unit in the header, e.g. `substrate (mM)`) "
-      "or name the column with --substrate-column",
-      wells.size(), wells.size() == 1 ? "" : "s", first, wells.size() == 1 ? "s" : "ve", map_source);
+  return missing_substrate_text(wells.size(), first, map_source);
 }
 
 // Before anything is read: no output may replace an input or another output, and every
@@ -207,6 +201,16 @@ EnzymeMLOptions enzymeml_options(const RunSettings& s) {
 }
 
 }  // namespace
+
+std::string missing_substrate_text(std::size_t wells, const std::string& first_well, const std::string& map_source) {
+  if (wells == 0) return {};
+  return fmt::format(
+      "{} sample well{} (first {}) ha{} no substrate concentration in {}: the max-conversion limit is off for "
+      "them and a window running into substrate depletion gives a rate that is too low (rates.csv notes: "
+      "no-limit); give each sample's substrate in a `substrate` column (unit in the header, e.g. `substrate (mM)`) "
+      "or name the column with --substrate-column",
+      wells, wells == 1 ? "" : "s", first_well, wells == 1 ? "s" : "ve", map_source);
+}
 
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
                        const std::function<void(const BatchProgress&)>& progress) {

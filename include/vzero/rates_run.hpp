@@ -65,4 +65,9 @@ struct RatesOutputs {
 RatesOutputs run_rates(const ResolvedSettings& settings, OutputSink& sink,
                        const std::function<void(const BatchProgress&)>& progress = {});
 
+// The run's warning for `wells` sample wells (distinct well names, the first `first_well`)
+// converted to concentration without a substrate concentration in the plate map
+// `map_source`; "" when there are none. `vzero merge` recomputes it over the merged wells.
+std::string missing_substrate_text(std::size_t wells, const std::string& first_well, const std::string& map_source);
+
 }  // namespace vzero

@@ -5,7 +5,9 @@
 //   auto groups = vzero::summarise(analyses, map_columns, {"replicate"});
 #pragma once
 
+#include <map>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "vzero/analysis.hpp"
@@ -36,5 +38,26 @@ struct SummaryTable {
 // wells form groups of their own.
 SummaryTable summarise(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
                        const std::vector<std::string>& leave_out, bool per_source = false);
+
+// The summary built one well at a time, in table order (summarise uses it; `vzero merge` feeds
+// it the rows of rates.csv): the same groups and arithmetic wherever the wells come from.
+class SummaryBuilder {
+ public:
+  SummaryBuilder(const std::vector<std::string>& map_columns, const std::vector<std::string>& leave_out,
+                 bool per_source);
+  // The group of a well (found, or opened at the end): `values` are all the plate-map columns,
+  // in map order; `source` counts only when per_source.
+  std::size_t group(const std::string& source, const std::string& channel, std::string_view role,
+                    const std::vector<std::string>& values, const std::string& v0_unit);
+  // A well of `group`: averaged when clean (no flag, v0 known), else counted as flagged.
+  void add(std::size_t group, std::string_view well, double v0, bool clean);
+  SummaryTable finish();
+
+ private:
+  SummaryTable t_;
+  std::vector<std::size_t> keep_;
+  std::map<std::vector<std::string>, std::size_t> index_;
+  std::vector<std::vector<double>> values_;
+};
 
 }  // namespace vzero

@@ -17,6 +17,7 @@ int cmd_rates(const Args& args);
 int cmd_fit(const Args& args);
 int cmd_report(const Args& args);
 int cmd_profile(const Args& args);
+int cmd_merge(const Args& args);
 
 // What `vzero inspect` prints about a run read with `choice` (also `vzero profile check`).
 std::string describe_run(const Run& run, const ProfileChoice& choice);

@@ -27,6 +27,8 @@ commands:
                       rates.csv and datapackage.json (and optional traces and summary)
   fit TABLE.csv       fit Michaelis–Menten and related models to a rates or summary table
   report ...          write a self-contained HTML report of a run
+  merge RUN_FOLDER... -o OUT  combine the outputs of several rates runs (parts of one
+                      campaign, e.g. cluster jobs) into the set one run would write
   profile list|show|check   the instrument profiles (built-in and yours): list them, print
                       one as a template to copy, check one on an export
 
@@ -107,10 +109,11 @@ int main(int argc, char** argv) {
     if (command == "fit") return cmd_fit(rest);
     if (command == "report") return cmd_report(rest);
     if (command == "profile") return cmd_profile(rest);
+    if (command == "merge") return cmd_merge(rest);
     const std::string near =
-        vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report", "profile"}, 2);
+        vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report", "profile", "merge"}, 2);
     print_err(
-        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report, profile (see vzero --help)",
+        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report, profile, merge (see vzero --help)",
                     command, near.empty() ? "" : "did you mean " + near + "? "));
     return 2;
   } catch (const vzero::UsageError& e) {
