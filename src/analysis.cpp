@@ -2,11 +2,10 @@
 
 #include <fmt/format.h>
 #include <algorithm>
-#include <atomic>
 #include <cassert>
 #include <cmath>
-#include <thread>
 
+#include "core/parallel.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
 
@@ -52,38 +51,6 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
         break;
     }
   }
-}
-
-void parallel_for(int n, int threads, const std::function<void(int)>& fn) {
-  int t = threads > 0 ? threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
-  t = std::min(t, std::max(1, n / 16));
-  if (t <= 1) {
-    for (int i = 0; i < n; ++i) fn(i);
-    return;
-  }
-  std::atomic<int> next{0};
-  std::exception_ptr error;
-  std::atomic<bool> failed{false};
-  auto work = [&]() {
-    constexpr int k_chunk = 16;
-    while (!failed) {
-      int start = next.fetch_add(k_chunk);
-      if (start >= n) break;
-      for (int i = start; i < std::min(n, start + k_chunk); ++i) {
-        try {
-          fn(i);
-        } catch (...) {
-          if (!failed.exchange(true)) error = std::current_exception();
-          return;
-        }
-      }
-    }
-  };
-  std::vector<std::thread> pool;
-  for (int k = 1; k < t; ++k) pool.emplace_back(work);
-  work();
-  for (auto& th : pool) th.join();
-  if (error) std::rethrow_exception(error);
 }
 
 namespace {
@@ -178,7 +145,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
   RateOptions rate_options = o.rates;
   if (c.quantity == Quantity::absorbance && !(rate_options.signal_ceiling <= rate_options.absorbance_limit))
     rate_options.signal_ceiling = rate_options.absorbance_limit;
-  parallel_for(cols, o.threads, [&](int j) {
+  detail::parallel_for(cols, o.threads, 16, [&](int j) {
     RateRow& row = ca.rows[static_cast<std::size_t>(j)];
     row.plate_index = c.wells[static_cast<std::size_t>(j)];
     row.well = run.format.well(row.plate_index);

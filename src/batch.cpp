@@ -2,12 +2,10 @@
 #include "vzero/settings.hpp"
 
 #include <algorithm>
-#include <atomic>
 #include <chrono>
-#include <exception>
 #include <mutex>
-#include <thread>
 
+#include "core/parallel.hpp"
 #include "vzero/error.hpp"
 #include "vzero/outputs.hpp"
 
@@ -64,15 +62,11 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
   if (auto why = check_analysis_options(o.analysis); !why.empty()) throw UsageError(why);
   const int n = static_cast<int>(paths.size());
   std::vector<BatchFile> out(paths.size());
-  const int cores =
-      o.analysis.threads > 0 ? o.analysis.threads : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  const int cores = detail::thread_count(o.analysis.threads);
   // Files in parallel, each on one thread; a single file spreads its wells instead.
   const int workers = std::max(1, std::min(cores, n));
   const int inner = workers > 1 ? 1 : cores;
 
-  std::atomic<int> next{0};
-  std::atomic<int> first_failed{n};  // lowest index that failed; later files are not started
-  std::vector<std::exception_ptr> errors(paths.size());
   std::mutex report;
   std::vector<char> finished(paths.size(), 0);
   std::size_t next_ready = 0;  // first file not yet handed to `ready`
@@ -80,51 +74,35 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
   state.files_total = n;
   const auto start = std::chrono::steady_clock::now();
 
-  auto work = [&]() {
-    while (true) {
-      const int i = next.fetch_add(1);
-      if (i >= n || i > first_failed.load()) return;
-      BatchFile& f = out[static_cast<std::size_t>(i)];
-      try {
-        f.path = paths[static_cast<std::size_t>(i)];
-        f.choice = choose_profile(f.path, o.profile, o.sheet);
-        if (!o.time_unit.empty()) state_time_unit(f.choice.profile, o.time_unit);
-        f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile, o.sheet));
-        check_plate_map(map, *f.run);
-        AnalysisOptions ao = o.analysis;
-        ao.threads = inner;
-        f.analysis = analyse_run(*f.run, map, ao);
-        f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific);
-        // A large file's traces are written by `ready` from the analysis, a well at a time.
-        f.traces_from_analysis = o.trace_rows && ready && trace_rows_of(f.analysis) > k_pool_trace_rows;
-        if (o.trace_rows && !f.traces_from_analysis) f.trace_rows = traces_csv_rows(f.analysis);
-        if (!o.keep_data && !(ready && (o.keep_data_until_ready || f.traces_from_analysis))) keep_results_only(f);
-      } catch (...) {
-        errors[static_cast<std::size_t>(i)] = std::current_exception();
-        int seen = first_failed.load();
-        while (i < seen && !first_failed.compare_exchange_weak(seen, i)) {}
-        continue;
-      }
-      if (progress || ready) {
-        std::lock_guard<std::mutex> hold(report);
-        ++state.files_done;
-        state.wells_done += wells_of(f.analysis);
-        state.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-        if (progress) progress(state);
-        finished[static_cast<std::size_t>(i)] = 1;
-        for (; ready && next_ready < out.size() && finished[next_ready]; ++next_ready) {
-          BatchFile& g = out[next_ready];
-          ready(g);
-          if (!o.keep_data && (o.keep_data_until_ready || g.traces_from_analysis)) keep_results_only(g);
-        }
+  detail::parallel_for(n, workers, 1, [&](int i) {
+    BatchFile& f = out[static_cast<std::size_t>(i)];
+    f.path = paths[static_cast<std::size_t>(i)];
+    f.choice = choose_profile(f.path, o.profile, o.sheet);
+    if (!o.time_unit.empty()) state_time_unit(f.choice.profile, o.time_unit);
+    f.run = std::make_unique<Run>(read_run(f.path, f.choice.profile, o.sheet));
+    check_plate_map(map, *f.run);
+    AnalysisOptions ao = o.analysis;
+    ao.threads = inner;
+    f.analysis = analyse_run(*f.run, map, ao);
+    f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific);
+    // A large file's traces are written by `ready` from the analysis, a well at a time.
+    f.traces_from_analysis = o.trace_rows && ready && trace_rows_of(f.analysis) > k_pool_trace_rows;
+    if (o.trace_rows && !f.traces_from_analysis) f.trace_rows = traces_csv_rows(f.analysis);
+    if (!o.keep_data && !(ready && (o.keep_data_until_ready || f.traces_from_analysis))) keep_results_only(f);
+    if (progress || ready) {
+      std::lock_guard<std::mutex> hold(report);
+      ++state.files_done;
+      state.wells_done += wells_of(f.analysis);
+      state.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+      if (progress) progress(state);
+      finished[static_cast<std::size_t>(i)] = 1;
+      for (; ready && next_ready < out.size() && finished[next_ready]; ++next_ready) {
+        BatchFile& g = out[next_ready];
+        ready(g);
+        if (!o.keep_data && (o.keep_data_until_ready || g.traces_from_analysis)) keep_results_only(g);
       }
     }
-  };
-  std::vector<std::thread> pool;
-  for (int k = 1; k < workers; ++k) pool.emplace_back(work);
-  work();
-  for (auto& t : pool) t.join();
-  if (first_failed.load() < n) std::rethrow_exception(errors[static_cast<std::size_t>(first_failed.load())]);
+  });
   return out;
 }
 

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <map>
 
+#include "core/stats.hpp"
 #include "rates/start_screen.hpp"
 
 namespace vzero {
@@ -31,41 +32,20 @@ bool parse_blank_mode(std::string_view t, BlankMode& out) { return parse_enum(t,
 
 namespace {
 
-struct Line {
-  double slope = NAN, intercept = NAN, resid_sd = NAN;
-  int n = 0;
-};
+using detail::LineFit;
 
-// OLS with centred sums over the ok reads in [t0, t1].
-Line fit_line(const std::vector<double>& t, const double* y, const ReadStatus* st, double t0, double t1) {
-  Line l;
-  double mt = 0, my = 0;
+// The least-squares line (core/stats.hpp) over the ok reads in [t0, t1]; NaN below 3 reads.
+LineFit fit_line(const std::vector<double>& t, const double* y, const ReadStatus* st, double t0, double t1) {
+  std::vector<double> xs, ys;
   for (std::size_t i = 0; i < t.size(); ++i)
     if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
-      mt += t[i];
-      my += y[i];
-      ++l.n;
+      xs.push_back(t[i]);
+      ys.push_back(y[i]);
     }
+  LineFit l;
+  l.n = static_cast<int>(xs.size());
   if (l.n < 3) return l;
-  mt /= l.n;
-  my /= l.n;
-  double stt = 0, sty = 0;
-  for (std::size_t i = 0; i < t.size(); ++i)
-    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
-      stt += (t[i] - mt) * (t[i] - mt);
-      sty += (t[i] - mt) * (y[i] - my);
-    }
-  if (stt <= 0) return l;
-  l.slope = sty / stt;
-  l.intercept = my - l.slope * mt;
-  double rss = 0;
-  for (std::size_t i = 0; i < t.size(); ++i)
-    if (st[i] == ReadStatus::ok && t[i] >= t0 && t[i] <= t1) {
-      double e = y[i] - l.intercept - l.slope * t[i];
-      rss += e * e;
-    }
-  l.resid_sd = std::sqrt(rss / (l.n - 2));
-  return l;
+  return detail::least_squares_line(xs.data(), ys.data(), l.n, nullptr, detail::Residual::stepwise);
 }
 
 // Robust read-noise SD from second differences of consecutive ok reads (Var = 6σ² for white noise).
@@ -112,7 +92,7 @@ int screen_blank_start(const std::vector<double>& time_s, const double* y, const
   const double sd = second_difference_sd(v);
   const detail::StartScreen s = detail::screen_start(t.data(), v.data(), static_cast<int>(t.size()), 5, sd);
   if (s.skip == 0) return 0;
-  const Line l = fit_line(time_s, y, st, time_s[at[static_cast<std::size_t>(s.skip)]], INFINITY);
+  const LineFit l = fit_line(time_s, y, st, time_s[at[static_cast<std::size_t>(s.skip)]], INFINITY);
   slope = l.slope;
   intercept = l.intercept;
   return std::isfinite(l.slope) ? s.skip : 0;
@@ -153,10 +133,10 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (info && info->role == Role::blank) all_blanks.push_back(static_cast<int>(j));
   }
   // Each blank well's own line and scatter.
-  std::map<int, Line> blank_line;
+  std::map<int, LineFit> blank_line;
   std::vector<double> sds;
   // A blank with a disturbed start stands in by its line after the disturbance.
-  std::map<int, Line> disturbed;
+  std::map<int, LineFit> disturbed;
   for (int b : all_blanks) {
     double slope = NAN, intercept = NAN;
     const int skip = screen_blank_start(c.time_s, c.values.col(b).data(), c.status.col(b).data(), slope, intercept);
@@ -170,7 +150,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
           break;
         }
     }
-    Line l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
+    LineFit l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
     if (skip > 0) {
       disturbed[b] = l;
       r.line_slope[static_cast<std::size_t>(b)] = l.slope;
@@ -219,7 +199,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
     bool is_blank = info && info->role == Role::blank;
     if (is_blank) {
-      const Line& l = blank_line[static_cast<int>(j)];
+      const LineFit& l = blank_line[static_cast<int>(j)];
       wb.blank_rate = l.slope;
       wb.blank_noise_sd = l.resid_sd;
       if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) wb.flags.emplace_back("blank-noisy");
@@ -245,7 +225,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
       sb.names = well_set_text(std::move(ids));
       for (int b : use) {
-        const Line& l = blank_line[b];
+        const LineFit& l = blank_line[b];
         if (!std::isnan(l.resid_sd)) {
           var += l.resid_sd * l.resid_sd;
           ++nsd;

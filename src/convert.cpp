@@ -6,6 +6,7 @@
 #include <numbers>
 #include <set>
 
+#include "core/stats.hpp"
 #include "vzero/error.hpp"
 
 namespace vzero {
@@ -62,32 +63,18 @@ StandardCurve fit_standard_curve(const std::vector<std::pair<double, double>>& p
                                  pts.size(), distinct.size()),
                      {"mark standard wells with role = standard and their `standard_conc` in the plate map"});
   }
-  const double n = static_cast<double>(pts.size());
-  double mx = 0, my = 0;
+  std::vector<double> xs, ys;
   for (const auto& [x, y] : pts) {
-    mx += x;
-    my += y;
+    xs.push_back(x);
+    ys.push_back(y);
   }
-  mx /= n;
-  my /= n;
-  double sxx = 0, sxy = 0, syy = 0;
-  for (const auto& [x, y] : pts) {
-    sxx += (x - mx) * (x - mx);
-    sxy += (x - mx) * (y - my);
-    syy += (y - my) * (y - my);
-  }
-  sc.slope = sxy / sxx;
-  sc.intercept = my - sc.slope * mx;
-  double rss = 0;
-  for (const auto& [x, y] : pts) {
-    double e = y - sc.intercept - sc.slope * x;
-    rss += e * e;
-  }
-  double s2 = rss / (n - 2);
-  sc.residual_sd = std::sqrt(s2);
-  sc.slope_se = std::sqrt(s2 / sxx);
-  sc.intercept_se = std::sqrt(s2 * (1 / n + mx * mx / sxx));
-  sc.r2 = syy > 0 ? 1 - rss / syy : NAN;
+  const detail::LineFit line = detail::least_squares_line(xs.data(), ys.data(), sc.n, nullptr, detail::Residual::stepwise);
+  sc.slope = line.slope;
+  sc.intercept = line.intercept;
+  sc.residual_sd = line.resid_sd;
+  sc.slope_se = line.slope_se;
+  sc.intercept_se = line.intercept_se;
+  sc.r2 = line.r2;
   if (!(sc.slope > 0)) {
     throw InputError(Where{where},
                      fmt::format("the standards do not rise with concentration (slope {} signal per unit)", sc.slope),

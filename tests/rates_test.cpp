@@ -96,7 +96,7 @@ Trace noisy_line(int n, double dt, double a, double b, double sd, std::uint64_t 
 
 TEST_CASE("OLS matches the NIST StRD Norris certified values") {
   // Certified values: NIST StRD Norris (REFERENCES §1), tolerances from there.
-  const auto f = vzero::detail::ols(norris_x, norris_y, 36);
+  const auto f = vzero::detail::least_squares_line(norris_x, norris_y, 36);
   CHECK_REL(f.intercept, -0.262323073774029, 1e-9);
   CHECK_REL(f.slope, 1.00211681802045, 1e-9);
   CHECK_REL(f.intercept_se, 0.232818234301152, 1e-8);
@@ -104,6 +104,28 @@ TEST_CASE("OLS matches the NIST StRD Norris certified values") {
   CHECK_REL(f.resid_sd, 0.884796396144373, 1e-9);
   CHECK_ABS(f.r2, 0.999993745883712, 1e-12);
   CHECK_REL(f.rss, 26.6173985294224, 1e-9);
+}
+
+TEST_CASE("the one least-squares line: weights as repeat counts, weights of 1, both residual forms") {
+  using vzero::detail::least_squares_line;
+  // Closed form worked here: weight 2 on (1, 3) is the point given twice; over
+  // x = {0,1,1,2,3}, y = {1,3,3,2,5}: x̄ = 1.4, ȳ = 2.8, Sxx = 15 − 5·1.96 = 5.2,
+  // Sxy = 25 − 5·1.4·2.8 = 5.4, slope = 27/26, intercept = 2.8 − 1.4·27/26 = 35/26.
+  const double x[] = {0, 1, 2, 3}, y[] = {1, 3, 2, 5}, w[] = {1, 2, 1, 1};
+  const auto wf = least_squares_line(x, y, 4, w);
+  CHECK_REL(wf.slope, 27.0 / 26.0, 1e-14);
+  CHECK_REL(wf.intercept, 35.0 / 26.0, 1e-14);
+  CHECK(std::isnan(wf.slope_se));  // the spread of a weighted line is the caller's
+  // Weights of 1 are the unweighted line bit for bit (1·v is v exactly).
+  std::vector<double> ones(36, 1.0);
+  const auto plain = least_squares_line(norris_x, norris_y, 36);
+  const auto unit = least_squares_line(norris_x, norris_y, 36, ones.data());
+  CHECK(plain.slope == unit.slope);
+  CHECK(plain.intercept == unit.intercept);
+  // The two residual forms agree to rounding (NIST StRD Norris RSS, REFERENCES §1).
+  const auto stepwise = least_squares_line(norris_x, norris_y, 36, nullptr, vzero::detail::Residual::stepwise);
+  CHECK_REL(stepwise.rss, 26.6173985294224, 1e-9);
+  CHECK(stepwise.slope == plain.slope);
 }
 
 TEST_CASE("quantiles match R qt and the normal quantile") {
@@ -128,7 +150,7 @@ TEST_CASE("quantiles match R qt and the normal quantile") {
 TEST_CASE("estimators on the two-spike trace match SciPy 1.10.1 and MASS 7.3-58.2") {
   // Expected values: REFERENCES §3 (scipy.stats.linregress / theilslopes, MASS::rlm).
   SUBCASE("OLS, all points and spikes removed (scipy.stats.linregress)") {
-    const auto all = vzero::detail::ols(robust_t_s, robust_y, 15);
+    const auto all = vzero::detail::least_squares_line(robust_t_s, robust_y, 15);
     CHECK_REL(all.slope, 0.002011547619047619, 1e-12);
     CHECK_REL(all.intercept, 0.0854675, 1e-12);
     std::vector<double> t, y;
@@ -137,7 +159,7 @@ TEST_CASE("estimators on the two-spike trace match SciPy 1.10.1 and MASS 7.3-58.
         t.push_back(robust_t_s[i]);
         y.push_back(robust_y[i]);
       }
-    const auto clean = vzero::detail::ols(t.data(), y.data(), 13);
+    const auto clean = vzero::detail::least_squares_line(t.data(), y.data(), 13);
     CHECK_REL(clean.slope, 0.001998555484009444, 1e-12);
     CHECK_REL(clean.intercept, 0.05027308435286543, 1e-12);
   }
@@ -409,7 +431,7 @@ TEST_CASE("prefix-sum window statistics agree with the two-pass fits") {
   for (int a : {0, 7, 30}) {
     for (int b : {a + 5, a + 12, 60}) {
       const auto w = ws.test(a, b, NAN, 0.0);
-      const auto line = vzero::detail::ols(tr.t.data() + a, tr.y.data() + a, b - a);
+      const auto line = vzero::detail::least_squares_line(tr.t.data() + a, tr.y.data() + a, b - a);
       const auto q = vzero::detail::quadratic(tr.t.data() + a, tr.y.data() + a, b - a, 0.0);
       CHECK_REL(w.slope, line.slope, 1e-9);
       CHECK_REL(w.rss_line, line.rss, 1e-6);

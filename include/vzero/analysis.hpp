@@ -108,7 +108,4 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
 // analyse_files run once where a run starts; here they are assumed.
 RunAnalysis analyse_run(const Run& run, const PlateMap& map, const AnalysisOptions& options);
 
-// Runs `fn(i)` for i in [0, n) on `threads` threads (0 = all cores), in fixed chunks.
-void parallel_for(int n, int threads, const std::function<void(int)>& fn);
-
 }  // namespace vzero

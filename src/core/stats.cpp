@@ -17,6 +17,60 @@ using Policy =
                                   boost::math::policies::evaluation_error<boost::math::policies::ignore_error>>;
 }  // namespace
 
+namespace {
+
+// Σ(y − ŷ)², r², residual SD, standard errors and the 95 % interval of an unweighted line.
+void fill_line_spread(const double* x, const double* y, int n, double mx, double sxx, double syy, Residual form,
+                      LineFit& f) {
+  double rss = 0;
+  for (int i = 0; i < n; ++i) {
+    const double e =
+        form == Residual::fitted ? y[i] - (f.intercept + f.slope * x[i]) : y[i] - f.intercept - f.slope * x[i];
+    rss += e * e;
+  }
+  f.rss = rss;
+  f.r2 = syy > 0 ? 1 - rss / syy : NAN;
+  if (n > 2) {
+    const double s2 = rss / (n - 2);
+    f.resid_sd = std::sqrt(s2);
+    f.slope_se = std::sqrt(s2 / sxx);
+    f.intercept_se = std::sqrt(s2 * (1.0 / n + mx * mx / sxx));
+    const double tq = student_t_quantile(0.975, n - 2);
+    f.ci_low = f.slope - tq * f.slope_se;
+    f.ci_high = f.slope + tq * f.slope_se;
+  }
+}
+
+}  // namespace
+
+LineFit least_squares_line(const double* x, const double* y, int n, const double* w, Residual form) {
+  LineFit f;
+  f.n = n;
+  if (n < 2) return f;
+  // 1·v is v exactly, so the unweighted sums are the weighted ones with weights of 1.
+  const auto weight = [w](int i) { return w ? w[i] : 1.0; };
+  double sw = 0, mx = 0, my = 0;
+  for (int i = 0; i < n; ++i) {
+    sw += weight(i);
+    mx += weight(i) * x[i];
+    my += weight(i) * y[i];
+  }
+  mx /= sw;
+  my /= sw;
+  double sxx = 0, sxy = 0, syy = 0;
+  for (int i = 0; i < n; ++i) {
+    const double dx = x[i] - mx, dy = y[i] - my, wdx = weight(i) * dx;
+    sxx += wdx * dx;
+    sxy += wdx * dy;
+    syy += weight(i) * dy * dy;
+  }
+  if (!(sxx > 0)) return f;
+  f.slope = sxy / sxx;
+  f.intercept = my - f.slope * mx;
+  if (!w) fill_line_spread(x, y, n, mx, sxx, syy, form, f);
+  return f;
+}
+
 double normal_quantile(double p) {
   if (!(p > 0 && p < 1)) return NAN;
   return boost::math::quantile(boost::math::normal_distribution<double, Policy>(), p);

@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "core/stats.hpp"
 #include "core/text.hpp"
 #include "fit/fit_models.hpp"
 #include "vzero/error.hpp"
@@ -99,17 +100,13 @@ bool linear_start(const Linearisation& l, const FitPoints& pts, double v_ceiling
 // S/Vmax) when that is larger and the line gives a positive Vmax and Km.
 double rate_ceiling(const FitPoints& pts) {
   double ceiling = 1.1 * max_positive(pts.v);
-  const auto idx = linear_points(pts);
-  Eigen::MatrixXd x(static_cast<Eigen::Index>(idx.size()), 2);
-  Eigen::VectorXd y(static_cast<Eigen::Index>(idx.size()));
-  for (std::size_t r = 0; r < idx.size(); ++r) {
-    const auto row = static_cast<Eigen::Index>(r);
-    y(row) = pts.s[idx[r]] / pts.v[idx[r]];
-    x(row, 0) = 1.0;
-    x(row, 1) = pts.s[idx[r]];
+  std::vector<double> s, s_over_v;
+  for (std::size_t k : linear_points(pts)) {
+    s.push_back(pts.s[k]);
+    s_over_v.push_back(pts.s[k] / pts.v[k]);
   }
-  Eigen::VectorXd b;
-  if (ols(x, y, b) && all_positive({1 / b(1), b(0) / b(1)})) ceiling = std::max(ceiling, 1 / b(1));
+  const detail::LineFit l = detail::least_squares_line(s.data(), s_over_v.data(), static_cast<int>(s.size()));
+  if (all_positive({1 / l.slope, l.intercept / l.slope})) ceiling = std::max(ceiling, 1 / l.slope);
   return ceiling;
 }
 

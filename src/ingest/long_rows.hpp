@@ -11,6 +11,8 @@
 #include <unordered_map>
 #include <vector>
 
+#include "ingest/reader_common.hpp"
+
 namespace vzero::detail::long_rows {
 
 constexpr int k_max_wells = 32 * 48;  // row * 48 + column, the largest plate's layout
@@ -93,5 +95,18 @@ struct ChannelRows {
     return last = it->second;
   }
 };
+
+// What the header said that the matrices need.
+struct LongColumns {
+  bool channel = false;      // a channel column names each row's channel
+  bool temperature = false;  // a temperature column
+  int header_line = 0;
+};
+
+// Lays the rows out as each channel's reads × wells matrices (reads in time order, wells in
+// plate order of run.format; a cell without a row is missing), giving each block of rows
+// back as soon as its rows are in (src/ingest/read_long_layout.cpp).
+void lay_out_channels(const std::vector<ChannelRows>& channels, RowStore& rows, const LongColumns& cols,
+                      const Profile& p, ReadInfo& info, Run& run);
 
 }  // namespace vzero::detail::long_rows

@@ -1,6 +1,7 @@
 // Wide shape: optional preamble, then per channel a header row (time, optional
 // temperature, one column per well) and one row per read.
 #include <fmt/format.h>
+#include <algorithm>
 #include <cmath>
 
 #include "ingest/reader_common.hpp"
@@ -27,10 +28,7 @@ struct Header {
 };
 
 bool matches_any(std::string_view text, const std::vector<std::string>& names) {
-  const std::string_view t = trim(text);
-  for (const auto& n : names)
-    if (iequals(t, n)) return true;
-  return false;
+  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
 }
 
 // True when field i and every field after it are empty: the columns a spreadsheet adds at
@@ -82,11 +80,11 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   h.time_col = time_col;
   const Field& tf = fields[static_cast<std::size_t>(time_col)];
   const auto stated = unit_in_header(tf.text);
-  check_stated_unit(p, stated, Where{file, line_no, tf.column, std::string(line)},
-                    fmt::format("the time header \"{}\"", trim(tf.text)));
-  h.time_unit = stated.value_or(p.time_unit);
-  h.time_basis = stated ? fmt::format("the time header \"{}\"", trim(tf.text)) : p.time_unit_from;
+  const std::string time_header = fmt::format("the time header \"{}\"", trim(tf.text));
   h.time_where = Where{file, line_no, tf.column, std::string(line)};
+  check_stated_unit(p, stated, h.time_where, time_header);
+  h.time_unit = stated.value_or(p.time_unit);
+  h.time_basis = stated ? time_header : p.time_unit_from;
   std::vector<int> seen_at(32 * 48, 0);  // field where each well was first seen, 0 = not yet
   const std::optional<PlateFormat> fixed = fixed_format(p);
   for (std::size_t i = 0; i < fields.size(); ++i) {
@@ -186,13 +184,11 @@ void WideReader::open_block(Header h) {
 
 void WideReader::close_block() {
   if (current_) {
-    for (const auto& d : done_) {
-      if (d.name() == current_->name()) {
+    for (const auto& d : done_)
+      if (d.name() == current_->name())
         throw InputError(Where{file_, header_->line},
                          fmt::format("channel {} appears twice in the file", current_->name()),
                          {"give each channel section its own label, or split the file"});
-      }
-    }
     done_.push_back(std::move(*current_));
     done_header_line_.push_back(header_->line);
     current_.reset();

@@ -46,7 +46,7 @@ using detail::LineFit;
 LineFit fit_line(Estimator e, const double* t, const double* y, int n) {
   switch (e) {
     case Estimator::ols:
-      return detail::ols(t, y, n);
+      return detail::least_squares_line(t, y, n);
     case Estimator::huber:
       return detail::huber(t, y, n);
     case Estimator::theil_sen:
@@ -230,7 +230,7 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
           bt.push_back(u.t[static_cast<std::size_t>(i)]);
           by.push_back(u.y[static_cast<std::size_t>(i)]);
         }
-      const LineFit b = detail::ols(bt.data(), by.data(), static_cast<int>(bt.size()));
+      const LineFit b = detail::least_squares_line(bt.data(), by.data(), static_cast<int>(bt.size()));
       baseline = b.intercept + b.slope * t_ref;
     }
     r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;

@@ -21,65 +21,6 @@ double median_inplace(std::vector<double>& v) {
   return (lower + upper) / 2;
 }
 
-LineFit ols(const double* x, const double* y, int n) {
-  LineFit f;
-  f.n = n;
-  if (n < 2) return f;
-  double mx = 0, my = 0;
-  for (int i = 0; i < n; ++i) {
-    mx += x[i];
-    my += y[i];
-  }
-  mx /= n;
-  my /= n;
-  double sxx = 0, sxy = 0, syy = 0;
-  for (int i = 0; i < n; ++i) {
-    const double dx = x[i] - mx, dy = y[i] - my;
-    sxx += dx * dx;
-    sxy += dx * dy;
-    syy += dy * dy;
-  }
-  if (!(sxx > 0)) return f;
-  f.slope = sxy / sxx;
-  f.intercept = my - f.slope * mx;
-  double rss = 0;
-  for (int i = 0; i < n; ++i) {
-    const double e = y[i] - (f.intercept + f.slope * x[i]);
-    rss += e * e;
-  }
-  f.rss = rss;
-  f.r2 = syy > 0 ? 1 - rss / syy : NAN;
-  if (n > 2) {
-    const double s2 = rss / (n - 2);
-    f.resid_sd = std::sqrt(s2);
-    f.slope_se = std::sqrt(s2 / sxx);
-    f.intercept_se = std::sqrt(s2 * (1.0 / n + mx * mx / sxx));
-    const double tq = student_t_quantile(0.975, n - 2);
-    f.ci_low = f.slope - tq * f.slope_se;
-    f.ci_high = f.slope + tq * f.slope_se;
-  }
-  return f;
-}
-
-void wls(const double* x, const double* y, const double* w, int n, double& slope, double& intercept) {
-  double sw = 0, mx = 0, my = 0;
-  for (int i = 0; i < n; ++i) {
-    sw += w[i];
-    mx += w[i] * x[i];
-    my += w[i] * y[i];
-  }
-  mx /= sw;
-  my /= sw;
-  double sxx = 0, sxy = 0;
-  for (int i = 0; i < n; ++i) {
-    const double dx = x[i] - mx;
-    sxx += w[i] * dx * dx;
-    sxy += w[i] * dx * (y[i] - my);
-  }
-  slope = sxy / sxx;
-  intercept = my - slope * mx;
-}
-
 namespace {
 
 // Fills rss, resid_sd and r2 of a fitted line from its plain residuals.
@@ -232,7 +173,7 @@ LineFit theil_sen(const double* x, const double* y, int n, double* intercept_sep
 }
 
 LineFit huber(const double* x, const double* y, int n, double k, double tol, int max_iter) {
-  LineFit f = ols(x, y, n);
+  LineFit f = least_squares_line(x, y, n);
   if (n < 3 || std::isnan(f.slope)) return f;
   const auto un = static_cast<std::size_t>(n);
   std::vector<double> r(un), r_new(un), w(un), a(un);
@@ -247,7 +188,9 @@ LineFit huber(const double* x, const double* y, int n, double k, double tol, int
       const double u = std::fabs(r[i] / scale);
       w[i] = u > 0 ? std::min(1.0, k / u) : 1.0;
     }
-    wls(x, y, w.data(), n, slope, intercept);
+    const LineFit wf = least_squares_line(x, y, n, w.data());
+    slope = wf.slope;
+    intercept = wf.intercept;
     double num = 0, den = 0;
     for (std::size_t i = 0; i < un; ++i) {
       r_new[i] = y[i] - (intercept + slope * x[i]);

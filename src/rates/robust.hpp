@@ -11,31 +11,9 @@
 #include <cmath>
 #include <vector>
 
+#include "core/stats.hpp"  // LineFit, least_squares_line (the rate finder's OLS)
+
 namespace vzero::detail {
-
-// A fitted line y = intercept + slope·x with its uncertainty.
-struct LineFit {
-  double slope = NAN;
-  double intercept = NAN;
-  double slope_se = NAN;      // standard error of the slope
-  double intercept_se = NAN;  // OLS only; NaN for the robust estimators
-  double ci_low = NAN;        // 95 % interval of the slope
-  double ci_high = NAN;
-  double resid_sd = NAN;  // √(RSS/(n−2)) of the plain residuals
-  double rss = NAN;       // Σ (y − ŷ)² of the plain residuals
-  double r2 = NAN;        // 1 − RSS/Σ(y − ȳ)²
-  int n = 0;
-  int iterations = 0;  // Huber: IRLS iterations used
-};
-
-// Ordinary least squares with centred two-pass sums: means first, then Σ(x−x̄)(y−ȳ),
-// residuals recomputed from the fitted line (NIST StRD Norris to ≥ 12 digits).
-// 95 % interval: slope ± t(0.975, n−2)·SE. Needs n ≥ 2 and x not all equal; with n = 2
-// the SE is NaN.
-LineFit ols(const double* x, const double* y, int n);
-
-// Weighted least squares (weights w ≥ 0), centred two-pass; slope/intercept only.
-void wls(const double* x, const double* y, const double* w, int n, double& slope, double& intercept);
 
 // Theil–Sen: the median of the slopes of all pairs with x_j > x_i (pairs with equal x are
 // skipped), intercept median(y − b·x). 95 % interval after Sen (1968) eq. 2.6 as in SciPy

@@ -59,7 +59,7 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
       }
     if (bt.size() >= 3)
       rates[w / static_cast<std::size_t>(p.columns)].push_back(
-          vzero::detail::ols(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
+          vzero::detail::least_squares_line(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
   }
   b.rate_sd = within_set_rate_sd(rates);
   for (int row = 0; row < p.rows; ++row) {
@@ -114,7 +114,7 @@ double naive_slope(const sim::Plate& p, const std::vector<double>& y, const std:
       nt.push_back(p.time_s[i]);
       ny.push_back(y[i]);
     }
-  return vzero::detail::ols(nt.data(), ny.data(), static_cast<int>(nt.size())).slope;
+  return vzero::detail::least_squares_line(nt.data(), ny.data(), static_cast<int>(nt.size())).slope;
 }
 
 // A yardstick: OLS over the straight-line window the truth picks (least bias² + SE²),
@@ -128,7 +128,7 @@ double oracle_slope(const sim::Plate& p, const sim::WellTruth& truth, const std:
       ot.push_back(p.time_s[static_cast<std::size_t>(i)]);
       oy.push_back(y[static_cast<std::size_t>(i)]);
     }
-  return ot.size() < 2 ? NAN : vzero::detail::ols(ot.data(), oy.data(), static_cast<int>(ot.size())).slope;
+  return ot.size() < 2 ? NAN : vzero::detail::least_squares_line(ot.data(), oy.data(), static_cast<int>(ot.size())).slope;
 }
 
 // Spiked wells are "corrected" when the spike reads are unused and v0 is within 2 % (of the
