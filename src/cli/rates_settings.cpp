@@ -200,6 +200,7 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
   if (!s.summary.empty()) out += ", " + s.summary;
   out += ", " + package_path;
   if (!s.report.empty()) out += ", " + s.report;
+  if (!s.enzymeml.empty()) out += ", " + s.enzymeml;
   out += "\n";
   return out;
 }
