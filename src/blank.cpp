@@ -60,6 +60,18 @@ double second_difference_sd(const std::vector<double>& y) {
   return 1.4826 * med / std::sqrt(6.0);
 }
 
+// Takes the blanks `disturbed` marks out of `use` when at least one other remains; true when
+// it took any.
+template <class Disturbed>
+bool drop_disturbed(std::vector<int>& use, Disturbed disturbed) {
+  std::vector<int> kept;
+  for (int b : use)
+    if (!disturbed(b)) kept.push_back(b);
+  if (kept.empty() || kept.size() == use.size()) return false;
+  use = std::move(kept);
+  return true;
+}
+
 // Channel columns of the blank wells serving `column`, by strategy.
 std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o, int column,
                             const std::vector<int>& all_blanks) {
@@ -213,6 +225,9 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       if (needs_blank) wb.flags.emplace_back("blank-missing");
       continue;
     }
+    // A blank with a disturbed start is left out of its set when the set has one without;
+    // only a set of disturbed blanks subtracts their lines.
+    const bool left_out = drop_disturbed(use, [&](int b) { return disturbed.count(b) > 0; });
     // What depends only on the set of blanks is worked out once per set (a plate blank
     // serves every well): the mean trace, the names, the pooled scatter, its line.
     auto it = cache.find(use);
@@ -258,6 +273,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
     if (sb.line) wb.notes.emplace_back("blank-line");
+    if (left_out) wb.notes.emplace_back("blank-left-out");
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;
@@ -287,6 +303,7 @@ double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, 
   }
   std::vector<int> use = blanks_for(c, map, f, o, column, all_blanks);
   if (use.empty()) return NAN;
+  drop_disturbed(use, [&](int b) { return !std::isnan(blanks.line_slope[static_cast<std::size_t>(b)]); });
   std::vector<double> mean(c.time_s.size(), NAN);
   std::vector<ReadStatus> st(c.time_s.size(), ReadStatus::excluded);
   for (std::size_t i = 0; i < c.time_s.size(); ++i) {

@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 23> k_marks{{
+constexpr std::array<MarkInfo, 24> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -56,7 +56,8 @@ constexpr std::array<MarkInfo, 23> k_marks{{
      "the trace sits at the detector's maximum (then overflows): its rate says nothing about the enzyme"},
     {"blank-missing", flag, "sample", "the sample has no blank to subtract (no matched blank, or none on the plate)"},
     {"blank-noisy", flag, "sample, blank", "a blank used scatters more than 3 × the median blank scatter"},
-    {"blank-disturbed", flag, "blank", "the blank's first reads jumped or decayed; its fitted line stands in for them"},
+    {"blank-disturbed", flag, "blank",
+     "the blank's first reads jumped or decayed; it is left out of its set (its line stands in when all are)"},
     {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},
     {"outside-standards", flag, "sample", "the sample's signal in the window leaves the standard curve's calibrated range"},
     {"no-path", flag, "any",
@@ -65,7 +66,9 @@ constexpr std::array<MarkInfo, 23> k_marks{{
      "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
     {"lag", note, "sample, standard, blank", "the first reads rose more slowly (a lag) and were skipped"},
     {"blank-line", note, "sample",
-     "a blank used had a disturbed start: its fitted line was subtracted instead of its reads"},
+     "every blank of the set had a disturbed start: their fitted lines were subtracted instead of their reads"},
+    {"blank-left-out", note, "sample",
+     "a blank of the set had a disturbed start: it was left out and the set's other blanks subtracted"},
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
     {"no-limit", note, "sample",
      "no substrate concentration (or no concentration scale) for the sample: no conversion limit applied"},

@@ -118,3 +118,32 @@ TEST_CASE("well-to-well drift is the blanks' scatter within their own set, not b
   CHECK(std::isnan(within_set_rate_sd({{1.0, 2.0}, {5.0}})));
   CHECK(std::isnan(within_set_rate_sd({})));
 }
+
+TEST_CASE("a disturbed blank is left out of a set that has a clean one") {
+  // As above, plus a clean blank B2 = 0.05 + 0.0002·t sharing A1's match (worked here: the
+  // substrate's own hydrolysis curves nowhere, so B2 alone is the exact blank). Trace mode:
+  // A1 − B2 rises at 0.0011 − 0.0002 = 0.0009 /s at every read, the note says B1 was left
+  // out, and the blank named is B2 alone. Without B2, B1's line stands in (note blank-line).
+  std::string text = "Time [s],A1,B1,B2\n";
+  for (int i = 0; i < 20; ++i) {
+    const double t = 10.0 * i;
+    text += fmt::format("{},{},{},{}\n", t, 0.05 + 0.0011 * t, 0.05 + 0.0001 * t - 0.05 * std::exp(-t / 10),
+                        0.05 + 0.0002 * t);
+  }
+  Run run = read_run_text("plate.csv", text, load_profile("wide-generic"));
+  const Channel& c = run.channels[0];
+  BlankOptions o;
+  o.strategy = BlankStrategy::matched;
+  const int a1 = c.column_of(run.format.index(*parse_well("A1")));
+  PlateMap both = parse_plate_map("map.csv", "well,role,match\nA1,sample,x\nB1,blank,x\nB2,blank,x\n");
+  BlankResult r = apply_blank(c, both, run.format, o);
+  const WellBlank& wb = r.wells[static_cast<std::size_t>(a1)];
+  CHECK(wb.blank_wells == "B2");
+  CHECK(wb.notes == std::vector<std::string>{"blank-left-out"});
+  for (Eigen::Index i = 1; i < 20; ++i)
+    CHECK_REL((r.corrected(i, a1) - r.corrected(0, a1)) / (c.time_s[static_cast<std::size_t>(i)]), 0.0009, 1e-9);
+  PlateMap alone = parse_plate_map("map.csv", "well,role,match\nA1,sample,x\nB1,blank,x\nB2,blank,y\n");
+  BlankResult l = apply_blank(c, alone, run.format, o);
+  CHECK(l.wells[static_cast<std::size_t>(a1)].blank_wells == "B1");
+  CHECK(l.wells[static_cast<std::size_t>(a1)].notes == std::vector<std::string>{"blank-line"});
+}

@@ -42,14 +42,16 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
   b.mean.assign(static_cast<std::size_t>(p.rows), std::vector<double>(static_cast<std::size_t>(reads), NAN));
   b.per_row.assign(static_cast<std::size_t>(p.rows), 0);
   std::vector<double> sds;
-  // A blank with a disturbed start stands in by its fitted line, as apply_blank does.
+  // A blank with a disturbed start is left out of its row when the row has an undisturbed
+  // one, and stands in by its fitted line when not, as apply_blank does.
   std::vector<std::vector<double>> screened(p.signal.size());
   std::vector<std::vector<double>> rates(static_cast<std::size_t>(p.rows));  // per row: its blanks' rates
+  std::vector<char> disturbed(p.signal.size(), 0);
   for (std::size_t w = 0; w < p.signal.size(); ++w) {
     if (p.truth[w].role != sim::Role::blank) continue;
     screened[w] = p.signal[w];
     double slope = NAN, icpt = NAN;
-    if (screen_blank_start(p.time_s, p.signal[w].data(), p.status[w].data(), slope, icpt) > 0)
+    if (screen_blank_start(p.time_s, p.signal[w].data(), p.status[w].data(), slope, icpt) > 0 && (disturbed[w] = 1))
       for (std::size_t i = 0; i < screened[w].size(); ++i) screened[w][i] = icpt + slope * p.time_s[i];
     std::vector<double> bt, by;
     for (std::size_t i = 0; i < screened[w].size(); ++i)
@@ -63,12 +65,19 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
   }
   b.rate_sd = within_set_rate_sd(rates);
   for (int row = 0; row < p.rows; ++row) {
+    // A disturbed blank is left out when the row has an undisturbed one.
+    bool any_clean = false;
+    for (int col = 0; col < p.columns; ++col) {
+      const auto w = static_cast<std::size_t>(row * p.columns + col);
+      any_clean |= p.truth[w].role == sim::Role::blank && !disturbed[w];
+    }
     for (int i = 0; i < reads; ++i) {
       double sum = 0;
       int k = 0;
       for (int col = 0; col < p.columns; ++col) {
         const auto w = static_cast<std::size_t>(row * p.columns + col);
         if (p.truth[w].role != sim::Role::blank || p.status[w][static_cast<std::size_t>(i)] != ReadStatus::ok) continue;
+        if (any_clean && disturbed[w]) continue;
         sum += screened[w][static_cast<std::size_t>(i)];
         ++k;
       }
@@ -78,7 +87,7 @@ Blanks row_blanks(const sim::Plate& p, Totals& tot) {
       const auto w = static_cast<std::size_t>(row * p.columns + col);
       if (p.truth[w].role != sim::Role::blank) continue;
       ++tot.blank_wells;
-      ++b.per_row[static_cast<std::size_t>(row)];
+      if (!(any_clean && disturbed[w])) ++b.per_row[static_cast<std::size_t>(row)];
       sds.push_back(second_difference_sd(p.signal[w]));
     }
   }
