@@ -47,8 +47,8 @@ constexpr std::array<MarkInfo, 24> k_marks{{
      "the rate still rises across the chosen window, or a later stretch of the trace climbs faster than the window "
      "(a lag not over by its end): v0 is underestimated"},
     {"imprecise", flag, "sample",
-     "the rate's 95 % interval (read noise over the window, and the scatter of the blank wells' own rates) is wider "
-     "than `--precision-limit` (default ±15 %) of the rate"},
+     "the rate's 95 % interval (read noise over the window, the scatter of the blank wells' own rates, and how far "
+     "the substrate used may have bent a straight line) is wider than `--precision-limit` (default ±15 %) of the rate"},
     {"ceiling", flag, "sample, standard",
      "every read was at or above `--signal-ceiling` (or the absorbance limit), so the rate comes from reads beyond "
      "the linear range"},
