@@ -140,3 +140,46 @@ TEST_CASE("number ranges are described in words") {
   CHECK(describe_range(NumberRange{1, 5, false, false}, OptionKind::integer) == "a whole number from 1 to 5");
   CHECK(describe_range(NumberRange{}, OptionKind::number) == "a number");
 }
+
+// The fit's options (include/vzero/fit_settings.hpp): one table gives the command line and
+// the Python keywords; the expected values are the table's own rules, worked here.
+#include "vzero/fit_settings.hpp"
+TEST_CASE("fit options: one table, lists add up, the first models replace the default, messages spell the option") {
+  using namespace vzero;
+  std::vector<GivenOption> given = {{"x", "substrate"},  {"model", "mm, hill"}, {"model", "all"},
+                                    {"group", "a,b"},    {"start", "1"},        {"confidence", "0.9"},
+                                    {"no-profile", "true"}};
+  FitSettings s = resolve_fit_settings(given, Spelling::command_line);
+  CHECK(s.models == std::vector<std::string>{"mm", "hill", "all"});
+  CHECK(s.groups == std::vector<std::string>{"a", "b"});
+  CHECK(s.start == std::vector<double>{1});
+  CHECK(s.fit.confidence == 0.9);
+  CHECK(!s.fit.profile);
+  // Defaults when nothing is given: mm, weight none, role sample.
+  const FitSettings d = resolve_fit_settings({{"x", "s"}}, Spelling::command_line);
+  CHECK(d.models == std::vector<std::string>{"mm"});
+  CHECK(fit_table_options(d, Spelling::command_line).models.front()->name == "mm");
+  // Every option of the table has help; the command line and Python name it two ways.
+  for (const FitOptionSpec& o : fit_option_table()) CHECK_MESSAGE(!o.help.empty(), o.name);
+  CHECK(option_spelled("max-iterations", Spelling::command_line) == "--max-iterations ");
+  CHECK(option_spelled("max-iterations", Spelling::keyword) == "max_iterations=");
+  const auto why = [](std::vector<GivenOption> g, Spelling sp) {
+    try {
+      fit_table_options(resolve_fit_settings(g, sp), sp);
+    } catch (const UsageError& e) {
+      return std::string(e.what());
+    }
+    return std::string();
+  };
+  CHECK(why({{"x", "s"}, {"weight", "square"}}, Spelling::command_line) ==
+        "--weight square: choose none, replicate-sd or relative");
+  CHECK(why({{"x", "s"}, {"weight", "square"}}, Spelling::keyword) ==
+        "weight=square: choose none, replicate-sd or relative");
+  CHECK(why({{"x", "s"}, {"max-iterations", "2.5"}}, Spelling::command_line) ==
+        "--max-iterations 2.5: expected a whole number");
+  CHECK(why({{"x", "s"}, {"start", "1,x"}}, Spelling::command_line) == "--start: cannot read \"x\" as a number");
+  CHECK(why({{"x", "s"}, {"model", "competitive"}}, Spelling::command_line) ==
+        "--model competitive needs --inhibitor COLUMN (the inhibitor concentration)");
+  CHECK(why({{"y", "v"}}, Spelling::command_line) == "--x COLUMN is required: the substrate concentration column");
+  CHECK(why({{"colour", "red"}}, Spelling::keyword) == "colour=: not an option of vzero fit");
+}

@@ -14,6 +14,7 @@
 #include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
+#include "vzero/fit_settings.hpp"
 #include "vzero/report.hpp"
 #include "vzero/table.hpp"
 
@@ -69,23 +70,6 @@ example:
 
 options)";
 
-std::vector<std::string> split_list(const std::vector<std::string>& values) {
-  std::vector<std::string> out;
-  for (const auto& v : values) {
-    std::size_t start = 0;
-    while (start <= v.size()) {
-      std::size_t comma = v.find(',', start);
-      if (comma == std::string::npos) comma = v.size();
-      std::string item = v.substr(start, comma - start);
-      while (!item.empty() && item.front() == ' ') item.erase(item.begin());
-      while (!item.empty() && item.back() == ' ') item.pop_back();
-      if (!item.empty()) out.push_back(item);
-      start = comma + 1;
-    }
-  }
-  return out;
-}
-
 // The usage text with the registered models: their names, and one line each with the formula.
 std::string usage() {
   std::string names, lines;
@@ -95,37 +79,6 @@ std::string usage() {
                                   : fmt::format("  {:<22}{}\n", m->name, m->formula);
   }
   return fmt::format(fmt::runtime(k_usage), fmt::arg("models", names), fmt::arg("model_lines", lines));
-}
-
-std::vector<const KineticModel*> parse_models(const std::vector<std::string>& names, bool have_inhibitor) {
-  std::vector<const KineticModel*> out;
-  auto add = [&](const KineticModel* m) {
-    for (const KineticModel* e : out)
-      if (e == m) return;
-    out.push_back(m);
-  };
-  const std::vector<const KineticModel*> known = kinetic_models();
-  for (const auto& name : split_list(names)) {
-    if (name == "all") {
-      for (const KineticModel* m : known)
-        if (!m->needs_inhibitor()) add(m);
-      if (have_inhibitor)
-        for (const KineticModel* m : known)
-          if (m->needs_inhibitor()) add(m);
-      continue;
-    }
-    const KineticModel* m = find_model(name);
-    if (!m) {
-      std::string choices;
-      for (const KineticModel* k : known) choices += (choices.empty() ? "" : ", ") + k->name;
-      throw UsageError(fmt::format("--model {}: unknown model; choose {} or all", name, choices));
-    }
-    if (m->needs_inhibitor() && !have_inhibitor)
-      throw UsageError(fmt::format("--model {} needs --inhibitor COLUMN (the inhibitor concentration)", name));
-    add(m);
-  }
-  if (out.empty()) out.push_back(&kinetic_model("mm"));
-  return out;
 }
 
 void write_output(const std::string& path, const std::string& content) {
@@ -172,37 +125,76 @@ void write_report(const std::string& table, const std::string& path, const Table
   write_file_atomic(path, render_report(in));
 }
 
+// The command line's options, from the one table of fit options (--help in its order).
+void add_fit_options(boost::program_options::options_description& opts) {
+  namespace po = boost::program_options;
+  for (const FitOptionSpec& o : fit_option_table()) {
+    std::string names(o.name);
+    if (o.short_name) names += std::string(",") + o.short_name;
+    std::string help(o.help);
+    if (!o.default_text.empty()) help += fmt::format(" (default: {})", o.default_text);
+    if (o.kind == OptionKind::flag)
+      opts.add_options()(names.c_str(), help.c_str());
+    else if (o.kind == OptionKind::list)
+      opts.add_options()(names.c_str(), po::value<std::vector<std::string>>()->composing(), help.c_str());
+    else
+      opts.add_options()(names.c_str(), po::value<std::string>(), help.c_str());
+  }
+  opts.add_options()("help,h", "show this help");
+}
+
+// What the command line gave, in the table's order (a list's values in the order given).
+std::vector<GivenOption> given_fit_options(const boost::program_options::variables_map& vm) {
+  std::vector<GivenOption> given;
+  for (const FitOptionSpec& o : fit_option_table()) {
+    const std::string name(o.name);
+    if (!vm.count(name)) continue;
+    if (o.kind == OptionKind::flag)
+      given.push_back({name, "true"});
+    else if (o.kind == OptionKind::list)
+      for (const auto& v : vm[name].as<std::vector<std::string>>()) given.push_back({name, v});
+    else
+      given.push_back({name, vm[name].as<std::string>()});
+  }
+  return given;
+}
+
+// Outputs may not replace the table, the document read, or each other; '-' once at most.
+void check_fit_outputs(const std::string& file, const FitSettings& s) {
+  const int to_stdout = (s.output == "-") + (s.json == "-") + (s.diagnostics == "-");
+  if (to_stdout > 1) throw UsageError("only one of -o, --json and --diagnostics can be '-' (stdout)");
+  std::vector<detail::NamedPath> outs;
+  if (!s.output.empty() && s.output != "-") outs.push_back({"-o", s.output});
+  if (!s.json.empty() && s.json != "-") outs.push_back({"--json", s.json});
+  if (!s.diagnostics.empty() && s.diagnostics != "-") outs.push_back({"--diagnostics", s.diagnostics});
+  if (!s.report.empty()) outs.push_back({"--report", s.report});
+  if (s.enzymeml.empty() != s.enzymeml_from.empty())
+    throw UsageError("--enzymeml OUT and --enzymeml-from DOC go together: the fit is added to the document "
+                     "vzero rates --enzymeml wrote");
+  if (!s.enzymeml.empty()) outs.push_back({"--enzymeml", s.enzymeml});
+  std::vector<detail::NamedPath> ins{{"the table", file}};
+  if (!s.enzymeml_from.empty()) ins.push_back({"--enzymeml-from", s.enzymeml_from});
+  detail::check_outputs(ins, outs);
+}
+
+// A note when the table has a `group` column with several values that --group does not name.
+void note_ungrouped(const Table& table, const FitTableOptions& o) {
+  if (!o.group_columns.empty() || table.column("group") < 0) return;
+  std::set<std::string> values;
+  for (const auto& row : table.rows) values.insert(row[static_cast<std::size_t>(table.column("group"))]);
+  if (values.size() > 1)
+    print_err(fmt::format("vzero fit: note: column \"group\" holds {} values and all rows are fitted together; pass "
+                          "--group group to fit each group separately",
+                          values.size()));
+}
+
 }  // namespace
 
 int cmd_fit(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag, report;
-  std::string enzymeml, enzymeml_from;
-  std::vector<std::string> groups, models{"mm"}, start;
-  FitOptions fit;
+  std::string file;
   po::options_description opts(usage());
-  opts.add_options()("x", po::value(&x), "substrate concentration column (required)")(
-      "y", po::value(&y), "rate column (default: v0, or v0_mean in a summary table)")(
-      "group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")(
-      "model", po::value(&models)->composing(), "model(s) to fit, comma-separated, or all (default: mm)")(
-      "inhibitor", po::value(&inhibitor), "inhibitor concentration column (for the inhibition models)")(
-      "enzyme", po::value(&enzyme), "enzyme concentration column: adds kcat and kcat/Km")(
-      "weight", po::value(&weight), "none (default), replicate-sd (1/sd^2) or relative (1/v^2)")(
-      "sd", po::value(&sd),
-      "SD column for replicate-sd (default: v0_sd for v0_mean; else the SD of replicate rows "
-      "at each concentration)")("include-flagged", "also use rows whose flags cell is not empty")(
-      "role", po::value(&role), "rows to use when the table has a role column (default: sample; any = all rows)")(
-      "output,o", po::value(&output), "write the tidy fit table here ('-' = stdout)")(
-      "json", po::value(&json), "write all results as JSON here ('-' = stdout)")(
-      "diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")(
-      "report", po::value(&report), "write the run's HTML report with this fit added (the table's run folder)")(
-      "enzymeml", po::value(&enzymeml), "write the EnzymeML document of --enzymeml-from with the fit added here")(
-      "enzymeml-from", po::value(&enzymeml_from), "the EnzymeML document vzero rates --enzymeml wrote for this table")(
-      "start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")(
-      "confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")(
-      "max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")(
-      "no-profile", "skip the profile-t intervals (faster)")("quiet,q", "do not print the table on stdout")(
-      "help,h", "show this help");
+  add_fit_options(opts);
   po::options_description hidden;
   hidden.add_options()("file", po::value(&file));
   po::positional_options_description pos;
@@ -213,93 +205,30 @@ int cmd_fit(const Args& args) {
     return 0;
   }
   if (file.empty()) throw UsageError("expected a TABLE.csv to fit (a rates or summary table)");
-  if (x.empty()) throw UsageError("--x COLUMN is required: the substrate concentration column");
-  FitTableOptions o;
-  o.x_column = x;
-  o.y_column = y;
-  o.group_columns = split_list(groups);
-  o.inhibitor_column = inhibitor;
-  o.enzyme_column = enzyme;
-  o.models = parse_models(models, !inhibitor.empty());
-  if (!parse_weighting(weight, o.weighting))
-    throw UsageError(fmt::format("--weight {}: choose none, replicate-sd or relative", weight));
-  if (!sd.empty() && o.weighting != Weighting::replicate_sd)
-    throw UsageError("--sd is used only with --weight replicate-sd");
-  o.sd_column = sd;
-  o.include_flagged = vm.count("include-flagged") > 0;
-  o.role = role == "any" ? "" : role;
-  fit.profile = vm.count("no-profile") == 0;
-  for (const auto& v : split_list(start)) {
-    try {
-      std::size_t used = 0;
-      fit.start.push_back(std::stod(v, &used));
-      if (used != v.size()) throw std::invalid_argument(v);
-    } catch (const std::exception&) {
-      throw UsageError(fmt::format("--start: cannot read \"{}\" as a number", v));
-    }
-  }
-  if (!fit.start.empty()) {
-    if (o.models.size() != 1) throw UsageError("--start needs exactly one --model");
-    const auto names = o.models.front()->parameter_names();
-    if (fit.start.size() != names.size())
-      throw UsageError(fmt::format("--start has {} values; the {} model has {} parameters in this order: {}",
-                                   fit.start.size(), o.models.front()->name, names.size(),
-                                   fmt::format("{}", fmt::join(names, ", "))));
-  }
-  o.fit = fit;
-  if (auto why = fit.validate(); !why.empty()) throw UsageError(why);
-  int to_stdout = (output == "-") + (json == "-") + (diag == "-");
-  if (to_stdout > 1) throw UsageError("only one of -o, --json and --diagnostics can be '-' (stdout)");
-
-  {
-    std::vector<detail::NamedPath> outs;
-    if (!output.empty() && output != "-") outs.push_back({"-o", output});
-    if (!json.empty() && json != "-") outs.push_back({"--json", json});
-    if (!diag.empty() && diag != "-") outs.push_back({"--diagnostics", diag});
-    if (!report.empty()) outs.push_back({"--report", report});
-    if (enzymeml.empty() != enzymeml_from.empty())
-      throw UsageError("--enzymeml OUT and --enzymeml-from DOC go together: the fit is added to the document "
-                       "vzero rates --enzymeml wrote");
-    if (!enzymeml.empty()) outs.push_back({"--enzymeml", enzymeml});
-    std::vector<detail::NamedPath> ins{{"the table", file}};
-    if (!enzymeml_from.empty()) ins.push_back({"--enzymeml-from", enzymeml_from});
-    detail::check_outputs(ins, outs);
-  }
+  const FitSettings s = resolve_fit_settings(given_fit_options(vm), Spelling::command_line);
+  FitTableOptions o = fit_table_options(s, Spelling::command_line);
+  check_fit_outputs(file, s);
   Table table = read_table(file);
   o.column_units = package_units(file);
   // Column checks here, so a missing column names the option that chose it.
-  table.require_column(x, "pass --x with the substrate concentration column");
-  if (!y.empty())
-    table.require_column(y, "pass --y with the rate column");
-  else if (table.column("v0") < 0 && table.column("v0_mean") < 0)
-    table.require_column("v0", "pass --y with the rate column (v0 in a rates table, v0_mean in a summary)");
-  if (!inhibitor.empty()) table.require_column(inhibitor, "pass --inhibitor with the inhibitor concentration column");
-  if (!enzyme.empty()) table.require_column(enzyme, "pass --enzyme with the enzyme concentration column");
-  if (!sd.empty()) table.require_column(sd, "pass --sd with the standard deviation column");
-  for (const auto& g : o.group_columns) table.require_column(g, "pass --group with existing column names");
-  if (o.group_columns.empty() && table.column("group") >= 0) {
-    std::set<std::string> values;
-    for (const auto& row : table.rows) values.insert(row[static_cast<std::size_t>(table.column("group"))]);
-    if (values.size() > 1)
-      print_err(
-          fmt::format("vzero fit: note: column \"group\" holds {} values and all rows are fitted together; pass "
-                      "--group group to fit each group separately",
-                      values.size()));
-  }
+  check_fit_columns(table, s, Spelling::command_line);
+  note_ungrouped(table, o);
 
   TableFit result = fit_table(table, o);
   // The document is read and extended before any output is written: a wrong file stops here.
   const std::string enzymeml_text =
-      enzymeml.empty() ? std::string()
-                       : enzymeml_with_fit(
-                             detail::read_whole_file(enzymeml_from, "pass the document vzero rates --enzymeml wrote").text,
-                             enzymeml_from, result);
-  if (!output.empty()) write_output(output, fit_csv(result));
-  if (!json.empty()) write_output(json, fit_json(result, o));
-  if (!diag.empty()) write_output(diag, fit_diagnostics_csv(result));
-  if (!report.empty()) write_report(file, report, result, o, json);
-  if (!enzymeml.empty()) write_file_atomic(enzymeml, enzymeml_text);
-  if (to_stdout == 0 && vm.count("quiet") == 0) print_out(fit_text(result));
+      s.enzymeml.empty()
+          ? std::string()
+          : enzymeml_with_fit(
+                detail::read_whole_file(s.enzymeml_from, "pass the document vzero rates --enzymeml wrote").text,
+                s.enzymeml_from, result);
+  if (!s.output.empty()) write_output(s.output, fit_csv(result));
+  if (!s.json.empty()) write_output(s.json, fit_json(result, o));
+  if (!s.diagnostics.empty()) write_output(s.diagnostics, fit_diagnostics_csv(result));
+  if (!s.report.empty()) write_report(file, s.report, result, o, s.json);
+  if (!s.enzymeml.empty()) write_file_atomic(s.enzymeml, enzymeml_text);
+  const bool to_stdout = s.output == "-" || s.json == "-" || s.diagnostics == "-";
+  if (!to_stdout && !s.quiet) print_out(fit_text(result));
 
   int ok = 0;
   const GroupFit* first_failure = nullptr;
