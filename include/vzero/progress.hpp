@@ -120,11 +120,14 @@ struct ProgressTable {
 // or cell, traces without concentrations, or a well of rates.csv the traces lack.
 ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const ProgressTableOptions& options);
 
-// One row per group × model × parameter (estimates, SE, Wald and profile intervals, unit,
-// n, df, rss, residual_sd, aic) and, beside, the initial-rate fit's rows (method column).
-std::string progress_csv(const ProgressTable& t);
+// One row per group × method × model × parameter (estimates, SE, Wald and profile intervals,
+// unit, n, df, rss, residual_sd, aic, converged, message), a well's offset a row of its own;
+// method "progress" or "initial-rates" (the Michaelis–Menten fit of the same group's
+// unflagged v0, substrate in the traces' unit). `enzyme_column` names kcat's unit.
+std::string progress_csv(const ProgressTable& t, const std::string& enzyme_column = "");
 // One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
 std::string progress_residuals_csv(const ProgressTable& t);
-std::string progress_text(const ProgressTable& t);
+// Per group: both fits side by side, the wells left out and the model verdict.
+std::string progress_text(const ProgressTable& t, const std::string& enzyme_column = "");
 
 }  // namespace vzero

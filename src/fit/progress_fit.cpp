@@ -273,6 +273,11 @@ ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressO
     return out;
   }
   fill_fit(out, wells, f, best, l, o);
+  for (const auto& e : out.parameters)
+    if (!std::isfinite(e.se) || !(e.se > 0 || out.rss == 0)) {
+      out.message = fmt::format("{} is not determined by these curves (its standard error is not finite)", e.name);
+      return out;
+    }
   out.ok = true;
   if (!out.converged) out.message = "did not converge in max_iterations; the estimates are the last iterate";
   return out;

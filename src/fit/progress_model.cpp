@@ -28,12 +28,15 @@ namespace {
 // S from a·ln(S0/S) + b·(S0 − S) = v·tau: S = (a/b)·W0((b·S0/a)·exp((b·S0 − v·tau)/a)).
 double substrate_left(double tau, double s0, double a, double b, double v) {
   if (tau <= 0) return s0;
+  if (!std::isfinite(a) || !std::isfinite(b) || !std::isfinite(v) || !(a > 0)) return NAN;  // a step gone astray
   if (b == 0) return s0 * std::exp(-v * tau / a);
   const double e = (b * s0 - v * tau) / a;
   if (b > 0) return a / b * lambert_w0_of_exp(std::log(b * s0 / a) + e);
   // b < 0: the argument lies in [−1/e, 0) (b·S0/a ≥ −1 for every Kp, progress.hpp), where
   // W0 is the branch with W ≥ −1.
-  const double z = std::max(b * s0 / a * std::exp(e), -1 / M_E);
+  const double z = b * s0 / a * std::exp(e);
+  if (std::isnan(z)) return NAN;
+  if (z <= -1 / M_E) return a / b * -1.0;  // rounding at the branch point W = −1
   return a / b * boost::math::lambert_w0(z);
 }
 }  // namespace
