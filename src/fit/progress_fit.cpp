@@ -196,7 +196,7 @@ void shared_estimates(ProgressFit& out, const detail::ResidualFn& f, const detai
     e.se = log_scale ? e.estimate * se_th : se_th;
     e.ci_low = e.estimate - out.t_quantile * e.se;
     e.ci_high = e.estimate + out.t_quantile * e.se;
-    if (o.profile && out.residual_sd > 0) {
+    if (o.profile && out.residual_sd > 0 && log_scale) {  // the lead: Wald only (its profile has a kink at τ = 0)
       const double lo = profile_side(f, best, j, se_th, out.residual_sd, out.t_quantile, -1, o.max_iterations);
       const double hi = profile_side(f, best, j, se_th, out.residual_sd, out.t_quantile, 1, o.max_iterations);
       e.profile_low = log_scale ? std::exp(lo) : lo;
@@ -278,8 +278,12 @@ ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressO
       out.message = fmt::format("{} is not determined by these curves (its standard error is not finite)", e.name);
       return out;
     }
+  if (!out.converged) {
+    out.message = fmt::format("did not converge in {} iterations: these curves do not determine {}", o.max_iterations,
+                              l.lead ? "every shared parameter (try a fixed --lead)" : "every shared parameter");
+    return out;
+  }
   out.ok = true;
-  if (!out.converged) out.message = "did not converge in max_iterations; the estimates are the last iterate";
   return out;
 }
 
