@@ -44,8 +44,7 @@ struct ProgressWell {
   double s0 = NAN;                 // initial substrate, in the unit of p
   double enzyme = NAN;             // enzyme concentration (kcat fits), else NaN
   std::vector<double> t_s, p;      // read times (s) and product (corrected, converted)
-  std::vector<int> lines;          // source line of each read (0 = none)
-  std::string reads;               // which reads were kept: "all ok reads" or "window reads"
+  bool trusted_only = false;       // only the reads the rate finder used (fit_progress_tables)
 };
 
 struct ProgressOptions {

@@ -253,9 +253,14 @@ ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressO
   if (out.message = pre_check(wells, l, static_cast<std::size_t>(out.n)); !out.message.empty()) return out;
   const detail::ResidualFn f = residual_fn(wells, l, o.lead_s);
   const std::vector<bool> none(l.shared() + wells.size(), false);
+  // An RSS below 1e-20 of Σ p² (residuals ~1e-10 of the data) is an exact fit: its relative
+  // offset is rounding and integration error, not a distance from the optimum.
+  double exact = 0;
+  for (const auto& w : wells)
+    for (double p : w.p) exact += 1e-20 * p * p;
   detail::LsqResult best;
   for (const Eigen::VectorXd& st : starts(wells, l, o)) {
-    detail::LsqResult run = detail::least_squares(f, st, none, o.max_iterations);
+    detail::LsqResult run = detail::least_squares(f, st, none, o.max_iterations, exact);
     if (std::isfinite(run.rss) && (!std::isfinite(best.rss) || (run.converged && !best.converged) ||
                                    (run.converged == best.converged && run.rss < best.rss * (1 - 1e-12))))
       best = std::move(run);

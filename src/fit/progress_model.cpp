@@ -77,7 +77,7 @@ Eigen::MatrixXd free_columns(const Eigen::MatrixXd& jac, const std::vector<bool>
 }  // namespace
 
 LsqResult least_squares(const ResidualFn& f, Eigen::VectorXd start, const std::vector<bool>& fixed,
-                        int max_iterations, double tolerance) {
+                        int max_iterations, double exact_rss, double tolerance) {
   LsqResult out;
   out.theta = std::move(start);
   if (!f(out.theta, out.r, &out.jac)) return out;
@@ -86,7 +86,7 @@ LsqResult least_squares(const ResidualFn& f, Eigen::VectorXd start, const std::v
   Eigen::VectorXd r_new;
   for (;;) {
     const Eigen::MatrixXd jf = free_columns(out.jac, fixed);
-    crit = jf.cols() == 0 || out.rss == 0 ? 0.0 : relative_offset(jf, out.r);
+    crit = jf.cols() == 0 || out.rss <= exact_rss ? 0.0 : relative_offset(jf, out.r);
     if (crit < tolerance) break;
     if (out.iterations >= max_iterations) break;
     const Eigen::MatrixXd a = jf.transpose() * jf;

@@ -32,9 +32,10 @@ struct LsqResult {
 };
 
 // Levenberg–Marquardt with Marquardt scaling; parameters with fixed[j] stay at start[j].
-// Converged when the relative offset (Bates & Watts 1981) falls below `tolerance`, the
-// residuals vanish, or no step lowers the RSS while the offset is already below 1e-6.
+// Converged when the relative offset (Bates & Watts 1981) falls below `tolerance`, the RSS
+// is at most `exact_rss` (an exact fit to rounding), or no step lowers the RSS while the
+// offset is already below 1e-6.
 LsqResult least_squares(const ResidualFn& f, Eigen::VectorXd start, const std::vector<bool>& fixed,
-                        int max_iterations, double tolerance = 1e-10);
+                        int max_iterations, double exact_rss = 0, double tolerance = 1e-10);
 
 }  // namespace vzero::detail

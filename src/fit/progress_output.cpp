@@ -136,6 +136,10 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
       name += fmt::format("{}{} = {}", k ? ", " : "", t.group_columns[k], g.group_values[k]);
     out += fmt::format("{}{} wells, {} reads{}\n", name.empty() ? "" : name + ": ", g.wells.size(), g.mm.n,
                        g.left_out.empty() ? "" : fmt::format("; left out: {}", fmt::join(g.left_out, ", ")));
+    std::vector<std::string> trusted;
+    for (const auto& w : g.wells)
+      if (w.trusted_only) trusted.push_back(w.well);
+    if (!trusted.empty()) out += fmt::format("  only the rate finder's trusted reads: {}\n", fmt::join(trusted, ", "));
     if (!g.mm.ok) {
       out += "  progress fit: " + g.mm.message + "\n";
     } else {

@@ -48,6 +48,7 @@ struct Candidate {
   std::vector<std::string> group_values;
   double v0 = NAN;
   bool rate_clean = false;  // empty flags: the initial-rate fit uses it
+  int reads_seen = 0;       // reads of the well kept from the traces
 };
 
 std::string cell(const Table& t, std::size_t row, int col) { return col < 0 ? std::string() : t.rows[row][static_cast<std::size_t>(col)]; }
@@ -89,7 +90,7 @@ std::vector<Candidate> candidates(const Table& rates, const ProgressTableOptions
     }
     for (const auto& f : flags) c.trusted_only |= k_trusted_only_flags.count(f) > 0;
     for (const auto& n : notes) c.trusted_only |= k_trusted_only_notes.count(n) > 0;
-    c.well.reads = c.trusted_only ? "trusted reads" : "all ok reads";
+    c.well.trusted_only = c.trusted_only;
     out.push_back(std::move(c));
   }
   return out;
@@ -122,10 +123,10 @@ void read_traces(const Table& rates, const Table& traces, std::vector<Candidate>
           {"rerun vzero rates with a conversion (--epsilon with --path-cm, or standards) and --traces"});
     c.well.t_s.push_back(traces.number(r, ct).value_or(NAN));
     c.well.p.push_back(*p);
-    c.well.lines.push_back(traces.line_of_row[r]);
+    ++c.reads_seen;
   }
   for (const auto& c : cands)
-    if (c.well.lines.empty() && !c.trusted_only)
+    if (c.reads_seen == 0 && !c.trusted_only)
       throw InputError(Where{rates.source, rates.line_of_row[c.row], 1},
                        fmt::format("expected the reads of well {} in {}, found none", c.well.well, traces.source),
                        {"pass the traces file written by the same vzero rates run as this rates.csv"});
@@ -160,6 +161,21 @@ void units(const Table& rates, const std::vector<Candidate>& cands, ProgressTabl
   out.conc_unit = out.rate_unit.substr(0, out.rate_unit.size() - 4);
 }
 
+// Wells of several channels in one series would be fitted as one: refused unless grouped by
+// channel. Wells of several exports are named source:well.
+void one_channel(const Table& rates, std::vector<Candidate>& cands, const ProgressTableOptions& o) {
+  const int cc = rates.column("channel"), cs = rates.column("source");
+  std::set<std::string> channels, sources;
+  for (const auto& c : cands) channels.insert(cell(rates, c.row, cc)), sources.insert(cell(rates, c.row, cs));
+  const bool grouped = std::find(o.group_columns.begin(), o.group_columns.end(), "channel") != o.group_columns.end();
+  if (channels.size() > 1 && !grouped)
+    throw InputError(Where{rates.source}, fmt::format("expected the wells of one channel, found {} channels",
+                                                      channels.size()),
+                     {"pass --group channel (with your other --group columns)"});
+  if (sources.size() > 1)
+    for (auto& c : cands) c.well.well = cell(rates, c.row, cs) + ":" + c.well.well;
+}
+
 }  // namespace
 
 ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const ProgressTableOptions& o) {
@@ -173,6 +189,7 @@ ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const
                      {"pass --x with the initial-substrate column of the plate map"});
   read_traces(rates, traces, cands);
   units(rates, cands, out);
+  one_channel(rates, cands, o);
   std::vector<std::vector<std::string>> order;
   std::map<std::vector<std::string>, std::vector<Candidate>> groups;
   for (auto& c : cands) {
