@@ -3,6 +3,8 @@
 // numerical integration (RK4, worked here) and the plate simulator's known truth (tests/sim).
 #include "vzero/progress.hpp"
 
+#include <fmt/format.h>
+
 #include <cmath>
 #include <filesystem>
 #include <functional>
@@ -10,6 +12,7 @@
 #include "fit/progress_model.hpp"
 #include "sim/plate_sim.hpp"
 #include "test_support.hpp"
+#include "vzero/error.hpp"
 
 namespace {
 
@@ -258,4 +261,47 @@ TEST_CASE("vzero progress on the demo plate: the invented truth within the inter
   const auto bad = run_vzero("progress rates.csv --traces traces.csv --x substrate", dir.path.string());
   CHECK(bad.status == 1);
   CHECK(bad.err.find("pass --x-factor F") != std::string::npos);
+}
+
+TEST_CASE("fit_progress_tables: which wells and reads enter, and what it refuses") {
+  // Three wells of one invented series, P from the closed form (Km 50, Vmax 12 per min):
+  // A1 clean, A2 noted for outliers (only its used reads enter: a spike at 60 s is left out),
+  // A3 flagged saturated (left out), A4 clean again.
+  std::string rates = "source,channel,well,role,substrate,v0,v0_unit,flags,notes\n";
+  std::string traces = "source,channel,well,time_s,status,raw,blank,corrected,concentration,used\n";
+  const std::vector<std::pair<std::string, double>> wells = {{"A1", 25}, {"A2", 50}, {"A3", 100}, {"A4", 200}};
+  for (const auto& [w, s0] : wells) {
+    rates += fmt::format("x.csv,A405,{},sample,{},{},uM/min,{},{}\n", w, s0, 12 * s0 / (50 + s0),
+                         w == "A3" ? "saturated" : "", w == "A2" ? "outliers" : "");
+    for (int i = 0; i <= 20; ++i) {
+      const double t = 30.0 * i, p = s0 - vzero::progress_substrate(t / 60, s0, 50, 12);
+      const bool spike = w == "A2" && i == 2;
+      traces += fmt::format("x.csv,A405,{},{},ok,,,,{},{}\n", w, t, spike ? p + 40 : p, spike ? 0 : 1);
+    }
+  }
+  vzero::ProgressTableOptions o;
+  o.x_column = "substrate";
+  o.x_factor = 1;
+  o.fit.profile = false;
+  const auto t = vzero::fit_progress_tables(vzero::parse_table("rates.csv", rates), vzero::parse_table("traces.csv", traces), o);
+  REQUIRE(t.groups.size() == 1);
+  const auto& g = t.groups[0];
+  CHECK(g.left_out == std::vector<std::string>{"A3: saturated"});
+  REQUIRE(g.wells.size() == 3);
+  CHECK(g.wells[1].p.size() == 20);  // A2 without its spike
+  REQUIRE(g.mm.ok);
+  CHECK(rel(g.mm.find("Km")->estimate, 50) < 1e-6);  // truth of the closed form above
+  CHECK(t.conc_unit == "uM");
+  // A --signal-only run has no concentrations: an error at the empty cell, with the fix.
+  std::string empty = traces;
+  const auto at = empty.find(",ok,,,,") + 7;
+  empty.erase(at, empty.find(',', at) - at);
+  try {
+    vzero::fit_progress_tables(vzero::parse_table("rates.csv", rates), vzero::parse_table("traces.csv", empty), o);
+    FAIL("expected an InputError");
+  } catch (const vzero::InputError& e) {
+    CHECK(e.where().line == 2);
+    CHECK(e.where().column == 23);  // "x.csv,A405,A1,0,ok,,,," is 22 characters
+    CHECK(e.message().find("found an empty concentration cell") != std::string::npos);
+  }
 }
