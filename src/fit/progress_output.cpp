@@ -1,5 +1,6 @@
 // The progress-curve fit's tables and its console summary.
 #include <fmt/format.h>
+#include <algorithm>
 #include <cmath>
 
 #include "core/csv_write.hpp"
@@ -143,13 +144,15 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
     if (!g.mm.ok) {
       out += "  progress fit: " + g.mm.message + "\n";
     } else {
-      out += fmt::format("  {:<8}{:<12}{:<48}{}\n", "", "", "progress curves (95 % Wald)", "initial rates");
+      std::size_t uw = 12;  // the unit column: as wide as its longest unit ("uM/min per nM")
+      for (const auto& e : g.mm.parameters) uw = std::max(uw, unit_of(t, e.name, enzyme_unit).size() + 2);
+      out += fmt::format("  {:<8}{:<{}}{:<48}{}\n", "", "", uw, "progress curves (95 % Wald)", "initial rates");
       for (const auto& e : g.mm.parameters) {
         const bool rate_param = e.name == "Vmax" || e.name == "kcat";
         const ParameterEstimate* r = !g.rates_fit.ok ? nullptr : e.name == "Km" ? &g.rates_fit.parameters[1]
                                                            : rate_param       ? &g.rates_fit.parameters[0]
                                                                               : nullptr;
-        out += fmt::format("  {:<8}{:<12}{:<48}{}\n", e.name, unit_of(t, e.name, enzyme_unit), interval(e),
+        out += fmt::format("  {:<8}{:<{}}{:<48}{}\n", e.name, unit_of(t, e.name, enzyme_unit), uw, interval(e),
                            r ? interval(*r) : "");
       }
       out += fmt::format("  residual SD {:.4g} {}, AIC {:.2f}; initial rates: {}\n", g.mm.residual_sd, t.conc_unit,
