@@ -27,7 +27,8 @@ substrate series at once (the closed form through the Lambert W function):
   S(t) = Km·W((S0/Km)·exp((S0 − Vmax·t)/Km)),  product = S0 − S(t) + offset of the well
 with Km and Vmax shared by the wells (kcat with --enzyme: Vmax = kcat·[E] per well), one
 baseline offset per well, and t = read time + lead (the reaction started `lead` seconds
-before time 0; --lead fit estimates it, default 0). RATES.csv and TRACES.csv are the
+before time 0; estimated by default, as ignoring it biases Km; --lead SECONDS fixes it).
+RATES.csv and TRACES.csv are the
 rates table and the --traces table of one `vzero rates` run with a concentration
 conversion; S0 is the --x column of the plate map.
 
@@ -94,7 +95,7 @@ double package_x_factor(const std::string& rates_path, const std::string& x) {
 
 int cmd_progress(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, traces, x, enzyme, lead = "0", x_factor, role = "sample", output, residuals;
+  std::string file, traces, x, enzyme, lead = "fit", x_factor, role = "sample", output, residuals;
   std::vector<std::string> groups;
   ProgressTableOptions o;
   po::options_description opts(k_usage);
@@ -102,7 +103,7 @@ int cmd_progress(const Args& args) {
       "x", po::value(&x), "initial substrate column (required)")(
       "group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")(
       "enzyme", po::value(&enzyme), "enzyme concentration column: fit kcat shared by all enzyme levels")(
-      "lead", po::value(&lead), "seconds the reaction ran before time 0, or fit (default: 0)")(
+      "lead", po::value(&lead), "seconds the reaction ran before time 0, or fit (default: fit)")(
       "product-inhibition", "also fit competitive product inhibition (Kp) and compare the models")(
       "x-factor", po::value(&x_factor), "traces' concentration unit per --x unit (default: from datapackage.json)")(
       "role", po::value(&role), "rows to use (default: sample)")(

@@ -9,7 +9,7 @@ It prints both fits' Km and Vmax with their standard errors (s²(JᵀJ)⁻¹).
 
 usage: /usr/bin/python3 crosscheck.py RESIDUALS.csv PROGRESS.csv GROUP
   (from: vzero progress rates.csv --traces traces.csv --x substrate --group group
-          -o PROGRESS.csv --residuals RESIDUALS.csv   on the demo run; GROUP e.g. no-inhibitor)
+          --lead 0 -o PROGRESS.csv --residuals RESIDUALS.csv   on the demo run; GROUP e.g. no-inhibitor)
 """
 import csv
 import sys
