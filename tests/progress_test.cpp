@@ -229,6 +229,12 @@ TEST_CASE("Noisy simulated plate: the lead (reaction start before the first read
   REQUIRE(g.ok);
   CHECK(g.find("lead_s")->ci_low <= s.plate.dead_time_s);  // truth: the simulator's dead time
   CHECK(s.plate.dead_time_s <= g.find("lead_s")->ci_high);
+  // The simulator knows no product inhibition: the comparison must keep Michaelis–Menten.
+  o.product_inhibition = true;
+  const vzero::ProgressFit pi = vzero::fit_progress(s.wells, o);
+  const vzero::ModelChoice c = vzero::compare_progress_models(g, pi);
+  CAPTURE(c.verdict);
+  CHECK(c.verdict.rfind("Michaelis–Menten:", 0) == 0);
 }
 
 TEST_CASE("vzero progress on the demo plate: the invented truth within the intervals, beside the initial rates") {
