@@ -269,7 +269,8 @@ TEST_CASE("a prefix of an option or a mistyped command is never guessed, only su
   auto command = run_vzero("rate x.csv");
   CHECK(command.status == 2);
   CHECK(command.err ==
-        "vzero: unknown command \"rate\"; did you mean rates? commands are inspect, rates, fit, report, profile, merge (see "
+        "vzero: unknown command \"rate\"; did you mean rates? commands are inspect, rates, fit, progress, report, profile, "
+        "merge (see "
         "vzero "
         "--help)\n");
 }

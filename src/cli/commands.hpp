@@ -15,6 +15,7 @@ using Args = std::vector<std::string>;
 int cmd_inspect(const Args& args);
 int cmd_rates(const Args& args);
 int cmd_fit(const Args& args);
+int cmd_progress(const Args& args);
 int cmd_report(const Args& args);
 int cmd_profile(const Args& args);
 int cmd_merge(const Args& args);

@@ -26,6 +26,7 @@ commands:
   rates FILE...       blank, convert and find the initial rate of every well; writes
                       rates.csv and datapackage.json (and optional traces and summary)
   fit TABLE.csv       fit Michaelis–Menten and related models to a rates or summary table
+  progress RATES.csv  fit Km and Vmax to whole progress curves (the run's traces)
   report ...          write a self-contained HTML report of a run
   merge RUN_FOLDER... -o OUT  combine the outputs of several rates runs (parts of one
                       campaign, e.g. cluster jobs) into the set one run would write
@@ -107,13 +108,15 @@ int main(int argc, char** argv) {
     if (command == "inspect") return cmd_inspect(rest);
     if (command == "rates") return cmd_rates(rest);
     if (command == "fit") return cmd_fit(rest);
+    if (command == "progress") return cmd_progress(rest);
     if (command == "report") return cmd_report(rest);
     if (command == "profile") return cmd_profile(rest);
     if (command == "merge") return cmd_merge(rest);
     const std::string near =
-        vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "report", "profile", "merge"}, 2);
-    print_err(
-        fmt::format("vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, report, profile, merge (see vzero --help)",
+        vzero::detail::nearest_name(command, {"inspect", "rates", "fit", "progress", "report", "profile", "merge"}, 2);
+    print_err(fmt::format(
+        "vzero: unknown command \"{}\"; {}commands are inspect, rates, fit, progress, report, profile, merge (see vzero "
+        "--help)",
                     command, near.empty() ? "" : "did you mean " + near + "? "));
     return 2;
   } catch (const vzero::UsageError& e) {

@@ -1,0 +1,132 @@
+// Progress-curve fit: Km and Vmax (or kcat) from whole product-against-time curves of a
+// substrate series, fitted globally, instead of from initial rates.
+//
+// Model (integrated Michaelis–Menten; Schnell & Mendoza, J. Theor. Biol. 187, 1997; Goudar,
+// Sonnad & Duggleby, Biochim. Biophys. Acta 1429, 1999), per well w with initial substrate
+// S0_w, read at time t (reaction time τ = t + lead):
+//   S(τ) = Km·W0((S0/Km)·exp((S0 − Vmax·τ)/Km)),   y = S0 − S(τ) + b_w
+// W0 the principal branch of Lambert W (Boost.Math), b_w the well's baseline offset. With an
+// enzyme column Vmax_w = kcat·[E]_w. With competitive product inhibition (Kp; the integrated
+// form in Duggleby, Methods Enzymol. 249, 1995), v = Vmax·S/(Km·(1 + P/Kp) + S) integrates to
+//   a·ln(S0/S) + b·(S0 − S) = Vmax·τ,   a = Km·(1 + S0/Kp),  b = 1 − Km/Kp,
+//   S(τ) = (a/b)·W0((b·S0/a)·exp((b·S0 − Vmax·τ)/a))   (S0·exp(−Vmax·τ/a) when b = 0),
+// which is Michaelis–Menten for Kp → ∞ (a = Km, b = 1).
+//
+// Least squares over every read of every well at once (Levenberg–Marquardt, analytic
+// Jacobian from the implicit equation: ∂S/∂θ = S·∂F/∂θ / (a + b·S), which for
+// Michaelis–Menten is the dW/dx = W/(x(1 + W)) rule); Km, Vmax, kcat, Kp on the log scale
+// (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹, Wald-t and profile-t
+// intervals, AIC as `vzero fit` computes it (unit weights).
+//
+// **Example**:
+//   std::vector<vzero::ProgressWell> wells = ...;  // t_s, p per well, s0 in p's unit
+//   vzero::ProgressFit f = vzero::fit_progress(wells, {});
+//   if (f.ok) use(f.find("Km")->estimate);
+#pragma once
+
+#include <Eigen/Core>
+#include <cmath>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "vzero/fit.hpp"
+#include "vzero/table.hpp"
+
+namespace vzero {
+
+// S(τ) of the integrated equation above (Kp = INFINITY: Michaelis–Menten). τ in minutes when
+// vmax is per minute; concentrations in one unit. τ ≤ 0 gives S0.
+double progress_substrate(double tau, double s0, double km, double vmax, double kp = INFINITY);
+
+struct ProgressWell {
+  std::string well;                // e.g. "B7" (with the source when a fit spans exports)
+  double s0 = NAN;                 // initial substrate, in the unit of p
+  double enzyme = NAN;             // enzyme concentration (kcat fits), else NaN
+  std::vector<double> t_s, p;      // read times (s) and product (corrected, converted)
+  bool trusted_only = false;       // only the reads the rate finder used (fit_progress_tables)
+};
+
+struct ProgressOptions {
+  bool product_inhibition = false;  // fit Kp as well
+  bool fit_lead = false;            // estimate the lead (reaction start before time 0)
+  double lead_s = 0;                // the lead when not estimated, s
+  bool use_enzyme = false;          // Vmax_w = kcat·[E]_w (every well needs `enzyme` > 0)
+  std::vector<double> start;        // Km, Vmax or kcat (per min), [Kp]; empty = automatic
+  int max_iterations = 200;
+  double confidence = 0.95;
+  bool profile = true;              // profile-t intervals of the shared parameters
+  // Empty if valid, else e.g. "lead_s is nan; give a finite lead".
+  std::string validate() const;
+};
+
+struct ProgressFit {
+  bool ok = false;
+  std::string message;              // why there is no fit
+  std::string model;                // "mm" or "mm-product-inhibition"
+  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat, [Kp], [lead_s]
+  std::vector<ParameterEstimate> offsets;     // b_w per well (wells order)
+  bool converged = false;
+  int iterations = 0;
+  int n = 0, df = 0;
+  double rss = NAN, residual_sd = NAN, aic = NAN, t_quantile = NAN;
+  std::vector<std::vector<double>> fitted, residuals;  // per well, per read kept
+  const ParameterEstimate* find(std::string_view name) const;
+};
+
+// Fits all wells at once. Throws UsageError for invalid options or a well whose s0, t or p
+// are not finite; a set the data cannot support returns ok = false with a message.
+ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressOptions& options);
+
+// The likelihood-ratio test of Michaelis–Menten (nested) against product inhibition, both
+// fitted to the same reads: statistic n·ln(RSS₀/RSS₁), χ² with 1 df, and AIC; the verdict in words.
+struct ModelChoice {
+  double statistic = NAN, p_value = NAN, aic_mm = NAN, aic_pi = NAN;
+  std::string verdict;
+};
+ModelChoice compare_progress_models(const ProgressFit& mm, const ProgressFit& pi);
+
+// ---- From vzero rates' tables ----
+
+struct ProgressTableOptions {
+  std::string x_column;                     // initial substrate (plate-map column)
+  double x_factor = NAN;                    // traces' concentration unit per x unit (required)
+  std::string enzyme_column;                // kcat fits when set
+  std::vector<std::string> group_columns;   // one fit per combination
+  std::string role = "sample";
+  ProgressOptions fit;
+  bool both_models = false;                 // also product inhibition, and the comparison
+  std::string validate() const;
+};
+
+struct ProgressGroup {
+  std::vector<std::string> group_values;
+  std::vector<ProgressWell> wells;
+  std::vector<std::string> left_out;  // "B7: saturated" (wells the fit cannot use, and why)
+  ProgressFit mm, pi;                 // pi fitted only with both_models
+  ModelChoice choice;
+  FitResult rates_fit;                // Michaelis–Menten on the same group's initial rates (x scaled)
+};
+
+struct ProgressTable {
+  std::string conc_unit, rate_unit;  // e.g. "uM", "uM/min"
+  std::vector<std::string> group_columns;
+  std::vector<ProgressGroup> groups;
+};
+
+// Reads the wells from rates.csv (map columns, flags, notes) and traces.csv (time_s, status,
+// concentration, used), fits each group. InputError (file:line:column) for a missing column
+// or cell, traces without concentrations, or a well of rates.csv the traces lack.
+ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const ProgressTableOptions& options);
+
+// One row per group × method × model × parameter (estimates, SE, Wald and profile intervals,
+// unit, n, df, rss, residual_sd, aic, converged, message), a well's offset a row of its own;
+// method "progress" or "initial-rates" (the Michaelis–Menten fit of the same group's
+// unflagged v0, substrate in the traces' unit). `enzyme_column` names kcat's unit.
+std::string progress_csv(const ProgressTable& t, const std::string& enzyme_column = "");
+// One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
+std::string progress_residuals_csv(const ProgressTable& t);
+// Per group: both fits side by side, the wells left out and the model verdict.
+std::string progress_text(const ProgressTable& t, const std::string& enzyme_column = "");
+
+}  // namespace vzero

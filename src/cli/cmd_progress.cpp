@@ -1,0 +1,157 @@
+// vzero progress: Km and Vmax (or kcat) from whole progress curves, fitted globally to the
+// traces of one run, beside the initial-rate fit of the same wells.
+#include <fmt/format.h>
+#include <boost/program_options.hpp>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <sstream>
+
+#include "cli/commands.hpp"
+#include "cli/options.hpp"
+#include "core/files.hpp"
+#include "vzero/error.hpp"
+#include "vzero/progress.hpp"
+#include "vzero/table.hpp"
+
+namespace vzero::cli {
+
+namespace {
+
+constexpr const char* k_usage = R"(usage: vzero progress RATES.csv --traces TRACES.csv --x COLUMN [--group COL,...]
+                 [--enzyme COLUMN] [--lead fit|SECONDS] [--product-inhibition]
+                 [--x-factor F] [-o progress.csv] [--residuals FILE]
+
+Fits the integrated Michaelis–Menten equation to every read of every sample well of a
+substrate series at once (the closed form through the Lambert W function):
+  S(t) = Km·W((S0/Km)·exp((S0 − Vmax·t)/Km)),  product = S0 − S(t) + offset of the well
+with Km and Vmax shared by the wells (kcat with --enzyme: Vmax = kcat·[E] per well), one
+baseline offset per well, and t = read time + lead (the reaction started `lead` seconds
+before time 0; estimated by default, as ignoring it biases Km; --lead SECONDS fixes it).
+RATES.csv and TRACES.csv are the
+rates table and the --traces table of one `vzero rates` run with a concentration
+conversion; S0 is the --x column of the plate map.
+
+Reads used: every ok read of a well; only the reads the rate finder trusted (used = 1) in
+wells noted for outliers, overflow, a disturbed start, a lag or the signal ceiling, or
+flagged rising; none of wells flagged saturated, ceiling, too-few-reads, blank-missing,
+no-path, negative or outside-standards (the console lists them).
+
+Beside it, the same group's unflagged initial rates fitted to Michaelis–Menten, as
+vzero fit does. --product-inhibition also fits competitive product inhibition (Kp, its
+integrated form) and says which model the data support (AIC and a likelihood-ratio test).
+
+Output: a table on stdout (not with -q); -o the tidy CSV (one row per group, method,
+model and parameter, each well's offset a row: estimate, SE, 95 % Wald-t and profile-t
+intervals, unit, n, df, RSS, residual SD, AIC); --residuals every read's fitted value and
+residual. Exit status 0 when a progress fit succeeded, 1 when none did or the input is bad.
+
+example:
+  vzero progress out/rates.csv --traces out/traces.csv --x substrate --group inhibitor_uM
+
+options)";
+
+std::vector<std::string> split_list(const std::vector<std::string>& values) {
+  std::vector<std::string> out;
+  for (const auto& v : values) {
+    std::stringstream in(v);
+    for (std::string item; std::getline(in, item, ',');)
+      if (!item.empty()) out.push_back(item);
+  }
+  return out;
+}
+
+double number_option(const std::string& name, const std::string& text) {
+  try {
+    std::size_t used = 0;
+    const double v = std::stod(text, &used);
+    if (used == text.size() && std::isfinite(v)) return v;
+  } catch (const std::exception&) {
+  }
+  throw UsageError(fmt::format("{} {}: expected a number", name, text));
+}
+
+// The traces' concentration unit per unit of the x column: datapackage.json beside the rates
+// table records it for the substrate column (vzero.map_column_uses[].factor_to_conc_unit).
+double package_x_factor(const std::string& rates_path, const std::string& x) {
+  namespace fs = std::filesystem;
+  const fs::path pkg_path = fs::path(rates_path).parent_path() / "datapackage.json";
+  std::ifstream in(pkg_path, std::ios::binary);
+  std::ostringstream text;
+  if (in) text << in.rdbuf();
+  const nlohmann::json pkg = nlohmann::json::parse(text.str(), nullptr, false);
+  if (pkg.is_object() && pkg.contains("vzero") && pkg["vzero"].contains("map_column_uses"))
+    for (const auto& u : pkg["vzero"]["map_column_uses"])
+      if (u.value("column", "") == x && u.contains("factor_to_conc_unit") && u["factor_to_conc_unit"].is_number())
+        return u["factor_to_conc_unit"].get<double>();
+  throw InputError(Where{pkg_path.string()},
+                   fmt::format("expected the unit factor of column \"{}\" (map_column_uses), found {}", x,
+                               in ? "none for that column" : "no datapackage.json"),
+                   {"pass --x-factor F (the traces' concentration unit per unit of the --x column; 1 when they "
+                    "are the same)"});
+}
+
+}  // namespace
+
+int cmd_progress(const Args& args) {
+  namespace po = boost::program_options;
+  std::string file, traces, x, enzyme, lead = "fit", x_factor, role = "sample", output, residuals;
+  std::vector<std::string> groups;
+  ProgressTableOptions o;
+  po::options_description opts(k_usage);
+  opts.add_options()("traces", po::value(&traces), "the traces table of the same run (required)")(
+      "x", po::value(&x), "initial substrate column (required)")(
+      "group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")(
+      "enzyme", po::value(&enzyme), "enzyme concentration column: fit kcat shared by all enzyme levels")(
+      "lead", po::value(&lead), "seconds the reaction ran before time 0, or fit (default: fit)")(
+      "product-inhibition", "also fit competitive product inhibition (Kp) and compare the models")(
+      "x-factor", po::value(&x_factor), "traces' concentration unit per --x unit (default: from datapackage.json)")(
+      "role", po::value(&role), "rows to use (default: sample)")(
+      "output,o", po::value(&output), "write the tidy fit table here")(
+      "residuals", po::value(&residuals), "write each read's fitted value and residual here")(
+      "confidence", po::value(&o.fit.confidence), "level of the intervals (default: 0.95)")(
+      "no-profile", "skip the profile-t intervals (faster)")("quiet,q", "do not print the table on stdout")(
+      "help,h", "show this help");
+  po::options_description hidden;
+  hidden.add_options()("file", po::value(&file));
+  po::positional_options_description pos;
+  pos.add("file", 1);
+  auto vm = parse_command_line(args, opts, hidden, pos);
+  if (vm.count("help")) {
+    print_out(help_text(opts));
+    return 0;
+  }
+  if (file.empty()) throw UsageError("expected a RATES.csv (the rates table of a vzero rates run)");
+  if (traces.empty()) throw UsageError("--traces TRACES.csv is required: the traces table of the same run");
+  if (x.empty()) throw UsageError("--x COLUMN is required: the initial substrate column");
+  o.x_column = x;
+  o.group_columns = split_list(groups);
+  o.enzyme_column = enzyme;
+  o.fit.use_enzyme = !enzyme.empty();
+  o.fit.fit_lead = lead == "fit";
+  if (!o.fit.fit_lead) o.fit.lead_s = number_option("--lead", lead);
+  o.both_models = vm.count("product-inhibition") > 0;
+  o.fit.profile = vm.count("no-profile") == 0;
+  o.role = role;
+  {
+    std::vector<detail::NamedPath> outs;
+    if (!output.empty()) outs.push_back({"-o", output});
+    if (!residuals.empty()) outs.push_back({"--residuals", residuals});
+    detail::check_outputs({{"the rates table", file}, {"--traces", traces}}, outs);
+  }
+  o.x_factor = x_factor.empty() ? package_x_factor(file, x) : number_option("--x-factor", x_factor);
+  if (auto why = o.validate(); !why.empty()) throw UsageError(why);
+  const Table rates_table = read_table(file);
+  const Table traces_table = read_table(traces);
+  const ProgressTable result = fit_progress_tables(rates_table, traces_table, o);
+  if (!output.empty()) write_file_atomic(output, progress_csv(result, enzyme));
+  if (!residuals.empty()) write_file_atomic(residuals, progress_residuals_csv(result));
+  if (vm.count("quiet") == 0) print_out(progress_text(result, enzyme));
+  for (const auto& g : result.groups)
+    if (g.mm.ok) return 0;
+  throw InputError(Where{file}, "no progress fit succeeded; the first group's: " +
+                                    (result.groups.empty() ? std::string("no wells") : result.groups[0].mm.message),
+                   {"see the message of each group in the output"});
+}
+
+}  // namespace vzero::cli

@@ -1,0 +1,41 @@
+// Internals of the progress-curve fit: the integrated rate law of one read with its
+// derivatives, and the least-squares solver over the whole set.
+#pragma once
+
+#include <Eigen/Core>
+#include <functional>
+#include <vector>
+
+namespace vzero::detail {
+
+// S at reaction time tau (min) and its derivatives, for v = V·S/(a' …) written as the
+// implicit equation F = a·ln(S0/S) + b·(S0 − S) − V·tau = 0 (progress.hpp).
+struct ProgressPoint {
+  double s = 0;             // substrate left
+  double ds_da = 0, ds_db = 0, ds_dv = 0, ds_dtau = 0;
+};
+ProgressPoint progress_point(double tau, double s0, double a, double b, double v);
+
+// W0(e^L) for any real L (Boost.Math below e^700, Newton on w + ln w = L above).
+double lambert_w0_of_exp(double L);
+
+// Residuals r (n) and Jacobian ∂r/∂θ (n × p) at θ; false when the model cannot be evaluated.
+using ResidualFn = std::function<bool(const Eigen::VectorXd& theta, Eigen::VectorXd& r, Eigen::MatrixXd* jac)>;
+
+struct LsqResult {
+  Eigen::VectorXd theta;
+  double rss = NAN;
+  int iterations = 0;
+  bool converged = false;
+  Eigen::MatrixXd jac;  // at the optimum
+  Eigen::VectorXd r;
+};
+
+// Levenberg–Marquardt with Marquardt scaling; parameters with fixed[j] stay at start[j].
+// Converged when the relative offset (Bates & Watts 1981) falls below `tolerance`, the RSS
+// is at most `exact_rss` (an exact fit to rounding), or no step lowers the RSS while the
+// offset is already below 1e-6.
+LsqResult least_squares(const ResidualFn& f, Eigen::VectorXd start, const std::vector<bool>& fixed,
+                        int max_iterations, double exact_rss = 0, double tolerance = 1e-10);
+
+}  // namespace vzero::detail
