@@ -1,6 +1,8 @@
 // vzero fit: kinetics fits (Michaelis–Menten and relatives) of a rates or summary table.
 #include <fmt/format.h>
+#include <algorithm>
 #include <boost/program_options.hpp>
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <map>
@@ -39,9 +41,12 @@ residuals and degrees of freedom, not to the parameters; with --weight relative 
 skipped and counted, as 1/v^2 has no weight for a rate near 0. Each combination of the
 --group columns is fitted separately.
 
-Models (v rate, S substrate, I inhibitor; all parameters > 0):
+Models (v rate, S substrate, I inhibitor; all parameters > 0; the dose-response models 4pl
+and morrison take x as the inhibitor concentration and y as rate or % activity, with
+bottom and top of either sign; --fix holds parameters, e.g. top=100,bottom=0, and gives
+morrison's enzyme concentration E in x's unit, or --enzyme COLUMN does):
 {model_lines}  all                   the models without an inhibitor, and the inhibition models when
-                        --inhibitor is given
+                        --inhibitor is given (not the dose-response models)
 --model takes one name or several separated by commas.
 
 Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % Wald-t and
@@ -106,11 +111,11 @@ std::vector<const KineticModel*> parse_models(const std::vector<std::string>& na
   const std::vector<const KineticModel*> known = kinetic_models();
   for (const auto& name : split_list(names)) {
     if (name == "all") {
-      for (const KineticModel* m : known)
-        if (!m->needs_inhibitor()) add(m);
+      for (const KineticModel* m : known)  // the dose-response models take other data: named only
+        if (!m->needs_inhibitor() && !m->dose_response) add(m);
       if (have_inhibitor)
         for (const KineticModel* m : known)
-          if (m->needs_inhibitor()) add(m);
+          if (m->needs_inhibitor() && !m->dose_response) add(m);
       continue;
     }
     const KineticModel* m = find_model(name);
@@ -124,6 +129,35 @@ std::vector<const KineticModel*> parse_models(const std::vector<std::string>& na
     add(m);
   }
   if (out.empty()) out.push_back(&kinetic_model("mm"));
+  return out;
+}
+
+// --fix NAME=VALUE,...: every name a parameter of every model fitted.
+std::map<std::string, double> parse_fixed(const std::vector<std::string>& items,
+                                          const std::vector<const KineticModel*>& models) {
+  std::map<std::string, double> out;
+  for (const auto& item : items) {
+    const std::size_t eq = item.find('=');
+    const std::string name = item.substr(0, std::min(eq, item.size()));
+    double value = NAN;
+    try {
+      std::size_t used = 0;
+      if (eq == std::string::npos) throw std::invalid_argument(item);
+      value = std::stod(item.substr(eq + 1), &used);
+      if (used != item.size() - eq - 1) throw std::invalid_argument(item);
+    } catch (const std::exception&) {
+      throw UsageError(fmt::format("--fix: expected NAME=VALUE (e.g. top=100), found \"{}\"", item));
+    }
+    for (const KineticModel* m : models) {
+      const auto names = m->parameter_names();
+      if (std::find(names.begin(), names.end(), name) == names.end())
+        throw UsageError(
+            fmt::format("--fix {}: the {} model has no parameter {} (its parameters: {}); fit a model "
+                        "that has it alone",
+                        item, m->name, name, fmt::format("{}", fmt::join(names, ", "))));
+    }
+    out[name] = value;
+  }
   return out;
 }
 
@@ -176,7 +210,7 @@ void write_report(const std::string& table, const std::string& path, const Table
 int cmd_fit(const Args& args) {
   namespace po = boost::program_options;
   std::string file, x, y, inhibitor, enzyme, weight = "none", sd, role = "sample", output, json, diag, report;
-  std::vector<std::string> groups, models{"mm"}, start;
+  std::vector<std::string> groups, models{"mm"}, start, fix;
   FitOptions fit;
   po::options_description opts(usage());
   opts.add_options()("x", po::value(&x), "substrate concentration column (required)")(
@@ -194,6 +228,8 @@ int cmd_fit(const Args& args) {
       "json", po::value(&json), "write all results as JSON here ('-' = stdout)")(
       "diagnostics", po::value(&diag), "write the linearised-plot table here ('-' = stdout)")(
       "report", po::value(&report), "write the run's HTML report with this fit added (the table's run folder)")(
+      "fix", po::value(&fix)->composing(),
+      "hold parameters at these values, not estimated: NAME=VALUE,... (e.g. top=100,bottom=0; E for morrison)")(
       "start", po::value(&start)->composing(), "starting values in parameter order, e.g. 200,0.05 (one model only)")(
       "confidence", po::value(&fit.confidence), "level of the intervals (default: 0.95)")(
       "max-iterations", po::value(&fit.max_iterations), "Levenberg–Marquardt iterations per fit (default: 200)")(
@@ -242,6 +278,7 @@ int cmd_fit(const Args& args) {
                                    fit.start.size(), o.models.front()->name, names.size(),
                                    fmt::format("{}", fmt::join(names, ", "))));
   }
+  fit.fixed = parse_fixed(split_list(fix), o.models);
   o.fit = fit;
   if (auto why = fit.validate(); !why.empty()) throw UsageError(why);
   int to_stdout = (output == "-") + (json == "-") + (diag == "-");

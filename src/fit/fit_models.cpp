@@ -60,6 +60,13 @@ bool all_positive(const std::vector<double>& p) {
   return std::all_of(p.begin(), p.end(), [](double e) { return std::isfinite(e) && e > 0; });
 }
 
+// Every start finite, and > 0 unless the parameter may take any sign.
+bool all_positive_or_signed(const KineticModel& m, const std::vector<double>& p) {
+  for (std::size_t j = 0; j < p.size(); ++j)
+    if (!std::isfinite(p[j]) || (!m.parameters[j].any_sign && !(p[j] > 0))) return false;
+  return p.size() == m.parameters.size();
+}
+
 // Points usable in a linearisation: S > 0 and v > 0.
 std::vector<std::size_t> linear_points(const FitPoints& pts) {
   std::vector<std::size_t> idx;
@@ -150,12 +157,19 @@ Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts) {
   return vzero::parameter_bounds(m, data_scale(pts));
 }
 
-std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts) {
+std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts, const std::vector<double>& fixed) {
   std::vector<Start> out;
-  std::vector<double> p;
+  std::vector<double> p = fixed;
+  if (m.start) {
+    if (m.start(pts.s, pts.v, pts.w, p) && all_positive_or_signed(m, p)) out.push_back({m.start_method, p});
+    return out;
+  }
   if (m.linearisation && linear_start(*m.linearisation, pts, rate_ceiling(pts), p))
     out.push_back({m.linearisation->method, p});
   if (grid_start(m, pts, p)) out.push_back({"grid", p});
+  for (auto& st : out)  // a fixed parameter keeps its value whatever the rule found
+    for (std::size_t j = 0; j < fixed.size() && j < st.p.size(); ++j)
+      if (!std::isnan(fixed[j])) st.p[j] = fixed[j];
   return out;
 }
 
