@@ -86,8 +86,8 @@ KineticModel four_parameter_logistic() {
   hill.hi = 20.0;
   hill.grid.assign(std::begin(k_hill_grid), std::end(k_hill_grid));
   hill.runaway =
-      "the Hill slope runs off to its upper bound: y falls as a step between two concentrations; "
-      "measure between them";
+      "the Hill slope runs off to its upper bound: y changes as a step between two neighbouring concentrations, "
+      "or not at all; measure between them, or check that the compound inhibits";
   m.parameters = {bottom, top, ic50, hill};
   m.rate = [](P p, double x, double, G g) {
     const double lo = p[0], hi = p[1], ic = p[2], h = p[3];

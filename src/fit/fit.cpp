@@ -185,28 +185,6 @@ void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& 
   }
 }
 
-// Per parameter: the value it is held at (FitOptions::fixed), NaN when it is fitted. A name
-// the model lacks, or a value its scale cannot take, is a UsageError.
-std::vector<double> held_values(const KineticModel& m, const FitOptions& options) {
-  const auto names = m.parameter_names();
-  std::vector<double> held(names.size(), NAN);
-  for (const auto& [name, value] : options.fixed) {
-    const auto it = std::find(names.begin(), names.end(), name);
-    if (it == names.end())
-      throw UsageError(fmt::format("FitOptions: fixed names {}, which the {} model lacks; its parameters are {}", name,
-                                   m.name, join(names)));
-    const KineticParameter& p = m.parameters[static_cast<std::size_t>(it - names.begin())];
-    if (!std::isfinite(value) || (!p.any_sign && !(value > 0)))
-      throw UsageError(fmt::format("FitOptions: fixed {} = {}; it must be finite{}", name, num(value),
-                                   p.any_sign ? "" : " and > 0"));
-    held[static_cast<std::size_t>(it - names.begin())] = value;
-  }
-  for (std::size_t j = 0; j < options.start.size() && j < names.size(); ++j)
-    if (!m.parameters[j].any_sign && !(options.start[j] > 0))
-      throw UsageError(fmt::format("FitOptions: start of {} is {}; it must be > 0", names[j], num(options.start[j])));
-  return held;
-}
-
 // Covariance s²·(JᵀWJ)⁻¹ over the fitted parameters (a held one has variance 0), the
 // estimates, their intervals and the fit's statistics; "" or why there are none.
 std::string finish_fit(FitResult& r, const KineticModel& m, const detail::FitPoints& pts, const detail::LmResult& best,
@@ -296,7 +274,7 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
   if (!options.start.empty() && options.start.size() != np)
     throw UsageError(fmt::format("FitOptions: start has {} values; the {} model has {} parameters ({})",
                                  options.start.size(), m.name, np, join(names)));
-  const std::vector<double> held = held_values(m, options);
+  const std::vector<double> held = detail::held_values(m, options);
   std::vector<bool> fixed(np);
   for (std::size_t j = 0; j < np; ++j) fixed[j] = !std::isnan(held[j]);
   const auto n_free = static_cast<std::size_t>(std::count(fixed.begin(), fixed.end(), false));

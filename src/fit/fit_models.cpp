@@ -1,6 +1,7 @@
 // Starting values (a model's linearisation, a grid), the weighted RSS and the Jacobian of
 // any registered kinetic model; the weighting names.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <Eigen/QR>
 #include <algorithm>
 #include <cmath>
@@ -148,6 +149,29 @@ bool grid_start(const KineticModel& m, const FitPoints& pts, std::vector<double>
   return std::isfinite(best_rss);
 }
 }  // namespace
+
+// Per parameter: the value it is held at (FitOptions::fixed), NaN when it is fitted. A name
+// the model lacks, or a value its scale cannot take, is a UsageError.
+std::vector<double> held_values(const KineticModel& m, const FitOptions& options) {
+  const auto names = m.parameter_names();
+  std::vector<double> held(names.size(), NAN);
+  for (const auto& [name, value] : options.fixed) {
+    const auto it = std::find(names.begin(), names.end(), name);
+    if (it == names.end())
+      throw UsageError(fmt::format("FitOptions: fixed names {}, which the {} model lacks; its parameters are {}", name,
+                                   m.name, fmt::format("{}", fmt::join(names, ", "))));
+    const KineticParameter& p = m.parameters[static_cast<std::size_t>(it - names.begin())];
+    if (!std::isfinite(value) || (!p.any_sign && !(value > 0)))
+      throw UsageError(fmt::format("FitOptions: fixed {} = {}; it must be finite{}", name, fmt::format("{:.6g}", value),
+                                   p.any_sign ? "" : " and > 0"));
+    held[static_cast<std::size_t>(it - names.begin())] = value;
+  }
+  for (std::size_t j = 0; j < options.start.size() && j < names.size(); ++j)
+    if (!m.parameters[j].any_sign && !(options.start[j] > 0))
+      throw UsageError(fmt::format("FitOptions: start of {} is {}; it must be > 0", names[j],
+                                   fmt::format("{:.6g}", options.start[j])));
+  return held;
+}
 
 DataScale data_scale(const FitPoints& pts) {
   return {max_positive(pts.v), min_positive(pts.s), max_positive(pts.s), min_positive(pts.i), max_positive(pts.i)};

@@ -16,6 +16,10 @@ struct FitPoints {
   std::size_t size() const { return v.size(); }
 };
 
+// Per parameter: the value FitOptions::fixed holds it at, NaN when it is fitted; UsageError
+// for a name the model lacks, a value its scale cannot take, or a start <= 0 on the log scale.
+std::vector<double> held_values(const KineticModel& m, const FitOptions& options);
+
 using Bounds = ParameterBox;
 // The data ranges of these points, and the model's search box over them.
 DataScale data_scale(const FitPoints& pts);
