@@ -8,6 +8,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <map>
 #include <nlohmann/json.hpp>
 #include <sstream>
 
@@ -189,6 +190,7 @@ namespace {
 struct Truth {
   const vzero::KineticModel& model;
   std::vector<double> p;
+  std::map<std::string, double> fixed = {};  // known quantities (morrison's E)
 };
 
 void make_data(const Truth& t, std::vector<double>& s, std::vector<double>& i, std::vector<double>& v) {
@@ -213,6 +215,8 @@ TEST_CASE("exact recovery on noiseless simulated data, every model (simulation w
       {builtin("competitive"), {12, 50, 25}},
       {builtin("uncompetitive"), {12, 50, 60}},
       {builtin("mixed"), {12, 50, 25, 60}},
+      {builtin("4pl"), {5, 95, 60, 1.3}},  // more in dose_response_test.cpp
+      {builtin("morrison"), {50, 30, 20}, {{"E", 20}}},
   };
   // Every built-in model has a truth here (a new one must add its own).
   CHECK(truths.size() == vzero::kinetic_models().size());
@@ -220,8 +224,10 @@ TEST_CASE("exact recovery on noiseless simulated data, every model (simulation w
     CAPTURE(t.model.name);
     std::vector<double> s, i, v;
     make_data(t, s, i, v);
-    const auto r =
-        t.model.needs_inhibitor() ? vzero::fit_inhibition(s, i, v, {}, t.model) : vzero::fit_model(s, v, {}, t.model);
+    vzero::FitOptions o;
+    o.fixed = t.fixed;
+    const auto r = t.model.needs_inhibitor() ? vzero::fit_inhibition(s, i, v, {}, t.model, o)
+                                             : vzero::fit_model(s, v, {}, t.model, o);
     INFO(r.message);
     REQUIRE(r.ok);
     CHECK(r.converged);
@@ -608,7 +614,7 @@ TEST_CASE("CLI: bad usage exits 2, a missing column exits 1 naming the column an
     CHECK(r.status == 2);
     CHECK(r.err ==
           "vzero fit: --model quadratic: unknown model; choose mm, substrate-inhibition, hill, competitive, "
-          "uncompetitive, mixed or all\n  see: vzero fit --help\n");
+          "uncompetitive, mixed, 4pl, morrison or all\n  see: vzero fit --help\n");
   }
   {
     const Run r = run_vzero(dir, "fit rates.csv --x substrate_ppm --model competitive");

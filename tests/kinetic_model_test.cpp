@@ -98,7 +98,7 @@ TEST_CASE("a model added by one object is found by name, alias and in the regist
   CHECK(vzero::find_model("Essential-Activator") == &m);
   CHECK(&vzero::kinetic_model("essential-activation") == &m);
   const auto all = vzero::kinetic_models();
-  REQUIRE(all.size() == 7);
+  REQUIRE(all.size() == 9);
   CHECK(all.front()->name == "mm");
   CHECK(all.back() == &m);
   CHECK(m.needs_inhibitor());
@@ -106,7 +106,7 @@ TEST_CASE("a model added by one object is found by name, alias and in the regist
   CHECK(m.parameter_names() == std::vector<std::string>{"Vmax", "Km", "Ka"});
   CHECK_THROWS_WITH_AS(vzero::kinetic_model("quadratic"),
                        "unknown kinetic model \"quadratic\"; the models are mm, substrate-inhibition, hill, "
-                       "competitive, uncompetitive, mixed, essential-activation",
+                       "competitive, uncompetitive, mixed, 4pl, morrison, essential-activation",
                        vzero::UsageError);
   // The registry keeps its contract.
   CHECK_THROWS_WITH_AS(vzero::register_kinetic_model(essential_activation()),
@@ -127,7 +127,7 @@ TEST_CASE("a model added by one object is found by name, alias and in the regist
                        "register_kinetic_model(unitless): parameter Ka has no data unit, so it needs its own search "
                        "box 0 < lo < hi and grid values inside it",
                        vzero::UsageError);
-  CHECK(vzero::kinetic_models().size() == 7);
+  CHECK(vzero::kinetic_models().size() == 9);
 }
 
 TEST_CASE("the added model: analytic gradient, and exact recovery from noiseless data (closed form above)") {
@@ -196,13 +196,15 @@ TEST_CASE("vzero fit lists the added model in --help, accepts --model NAME and w
   const vzero::KineticModel& m = added();
   g_out.clear();
   CHECK(vzero::cli::cmd_fit({"--help"}) == 0);
-  CHECK(g_out.find("[--model mm|substrate-inhibition|hill|competitive|uncompetitive|mixed|essential-activation|all]") !=
+  CHECK(g_out.find(
+            "[--model "
+            "mm|substrate-inhibition|hill|competitive|uncompetitive|mixed|4pl|morrison|essential-activation|all]") !=
         std::string::npos);
   CHECK(g_out.find("\n  essential-activation  v = Vmax*S/(Km*(1 + Ka/I) + S)              (needs --inhibitor)\n") !=
         std::string::npos);
   CHECK_THROWS_WITH_AS(vzero::cli::cmd_fit({"t.csv", "--x", "s", "--model", "quadratic"}),
                        "--model quadratic: unknown model; choose mm, substrate-inhibition, hill, competitive, "
-                       "uncompetitive, mixed, essential-activation or all",
+                       "uncompetitive, mixed, 4pl, morrison, essential-activation or all",
                        vzero::UsageError);
 
   vzero::test::TempDir dir;

@@ -11,7 +11,9 @@
 //   uncompetitive         v = Vmax·S / (Km + S·(1 + I/Kiu))
 //   mixed                 v = Vmax·S / (Km·(1 + I/Kic) + S·(1 + I/Kiu))
 // (Kic, Kiu: competitive and uncompetitive inhibition constants, as in Cornish-Bowden,
-// Fundamentals of Enzyme Kinetics.)
+// Fundamentals of Enzyme Kinetics.) And two dose-response models, x the inhibitor
+// concentration: 4pl y = bottom + (top − bottom)/(1 + (x/IC50)^hill) (bottom, top of any
+// sign) and morrison (tight binding, [E] known); see docs/methods.md.
 //
 // The estimate minimises Σ wᵢ (vᵢ − f(Sᵢ))² by Levenberg–Marquardt on log-parameters
 // (positivity), with analytic Jacobians, inside wide bounds scaled to the data; a parameter
@@ -57,6 +59,9 @@ struct FitOptions {
   double tolerance = 1e-10;   // relative-offset convergence criterion (Bates & Watts 1981)
   double confidence = 0.95;   // level of the Wald-t and profile-t intervals
   bool profile = true;        // compute profile-t intervals (costs a refit per evaluation)
+  // Parameters held at a given value, by name (e.g. {"top", 100}): not estimated (no SE, no
+  // interval), not counted in df or AIC; a name the model lacks is a UsageError.
+  std::map<std::string, double> fixed;
   // Empty if valid, else e.g. "confidence is 1.5; it must lie strictly between 0 and 1".
   std::string validate() const;
 };

@@ -22,6 +22,7 @@ struct FitSettings {
   std::string x, y, inhibitor, enzyme, weight = "none", sd, role = "sample";
   std::vector<std::string> groups, models{"mm"};
   std::vector<double> start;
+  std::vector<std::string> fixed;  // NAME=VALUE items of --fix, parsed against the models by fit_table_options
   bool include_flagged = false, quiet = false;
   FitOptions fit;  // confidence, max_iterations, profile (start is copied in by fit_table_options)
   // Outputs of the command line.

@@ -18,6 +18,13 @@
 // by linear least squares); parameter 1 is the substrate constant (unit role substrate: Km,
 // K_half; kcat/Km divides by it); every parameter is > 0 (the fit works on ln p); v = 0 at
 // S = 0 for any parameters.
+//
+// A dose-response model (`dose_response`, src/fit/dose_response.cpp: 4pl, morrison) is the
+// exception: x is the inhibitor concentration, y the rate or % activity, y at x = 0 is the
+// uninhibited level; it gives its own `start` rule, its parameters take any order and unit
+// roles (substrate = the x column's unit), an `any_sign` parameter is fitted on its own
+// scale, and a `known` one (Morrison's [E]) is never fitted: FitOptions::fixed or the
+// table's enzyme column gives it. No kcat is derived from it.
 #pragma once
 
 #include <cmath>
@@ -46,6 +53,11 @@ struct KineticParameter {
   // The failure message when this parameter runs off to its upper bound, in the data's terms;
   // "" = the generic "runs to its upper search bound" (parameters 0 and 1 have their own).
   std::string runaway;
+  // Fitted on its own scale, so it may be <= 0 (a curve's bottom); unit role rate only: its
+  // search box is [-v_max*1e6, v_max*1e6]. Default: fitted on ln p (> 0).
+  bool any_sign = false;
+  // A known quantity, never fitted (Morrison's [E]): FitOptions::fixed must give it.
+  bool known = false;
 };
 
 // v at substrate s and inhibitor i for natural-scale parameters p (parameter order). When
@@ -76,6 +88,16 @@ struct KineticModel {
   // v tends to a finite positive limit as S → ∞ (false for substrate inhibition, where it
   // falls to 0); the report's double-reciprocal curve reaches 1/S = 0 only when true.
   bool saturates = true;
+  // See the header comment: x is the inhibitor concentration; the contract's rules on
+  // parameters 0 and 1 and v(0) = 0 do not apply.
+  bool dose_response = false;
+  // Starting values for a model the linearisation and the Vmax grid cannot serve: x, y and
+  // weights of the points; `p` arrives with the fixed parameters' values and NaN for the
+  // free ones, which the rule fills. False when it finds none. `start_method` names it.
+  std::function<bool(std::span<const double> x, std::span<const double> y, std::span<const double> w,
+                     std::vector<double>& p)>
+      start;
+  std::string start_method;
 
   // True when a parameter carries the inhibitor's unit: the fit needs inhibitor levels.
   bool needs_inhibitor() const;

@@ -1,6 +1,8 @@
 // vzero fit: kinetics fits (Michaelis–Menten and relatives) of a rates or summary table.
 #include <fmt/format.h>
+#include <algorithm>
 #include <boost/program_options.hpp>
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <map>
@@ -41,9 +43,12 @@ residuals and degrees of freedom, not to the parameters; with --weight relative 
 skipped and counted, as 1/v^2 has no weight for a rate near 0. Each combination of the
 --group columns is fitted separately.
 
-Models (v rate, S substrate, I inhibitor; all parameters > 0):
+Models (v rate, S substrate, I inhibitor; all parameters > 0; the dose-response models 4pl
+and morrison take x as the inhibitor concentration and y as rate or % activity, with
+bottom and top of either sign; --fix holds parameters, e.g. top=100,bottom=0, and gives
+morrison's enzyme concentration E in x's unit, or --enzyme COLUMN does):
 {model_lines}  all                   the models without an inhibitor, and the inhibition models when
-                        --inhibitor is given
+                        --inhibitor is given (not the dose-response models)
 --model takes one name or several separated by commas.
 
 Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % Wald-t and

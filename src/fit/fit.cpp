@@ -18,8 +18,8 @@ std::string FitOptions::validate() const {
   if (!(tolerance > 0 && tolerance < 1)) return fmt::format("tolerance is {}; it must lie between 0 and 1", tolerance);
   if (!(confidence > 0 && confidence < 1))
     return fmt::format("confidence is {}; it must lie strictly between 0 and 1", confidence);
-  for (double e : start)
-    if (!(e > 0) || !std::isfinite(e)) return fmt::format("start holds {}; every starting value must be > 0", e);
+  for (double e : start)  // > 0 on the log scale: checked against the model (fit_points)
+    if (!std::isfinite(e)) return fmt::format("start holds {}; every starting value must be finite", e);
   return {};
 }
 
@@ -67,22 +67,27 @@ detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s,
 }
 
 // Why these points cannot give the model's parameters, or "" when they can.
-std::string pre_check(const KineticModel& m, const detail::FitPoints& pts) {
+std::string pre_check(const KineticModel& m, const detail::FitPoints& pts, std::size_t p) {
   const auto names = m.parameter_names();
-  const std::size_t p = names.size(), n = pts.size();
+  const std::size_t n = pts.size();
   if (n == 0) return "no points to fit";
   if (n < p + 1)
     return fmt::format("too few points: {} for {} parameters ({}); at least {} are needed", n, p, join(names), p + 1);
   std::set<double> s_all(pts.s.begin(), pts.s.end()), s_pos;
+  if (m.dose_response && s_all.size() < p)  // x = 0 (no inhibitor) is a level of the curve: its top
+    return fmt::format(
+        "only {} different inhibitor concentrations for {} fitted parameters of the {} model; a dose-response "
+        "curve needs at least {}",
+        s_all.size(), p, m.name, p);
   for (double s : pts.s)
     if (s > 0) s_pos.insert(s);
   const std::size_t need = m.substrate_levels_needed();
-  if (s_all.size() == 1)
+  if (!m.dose_response && s_all.size() == 1)
     return fmt::format(
         "all {} points have the same substrate concentration ({}); a saturation curve needs at least {} "
         "different concentrations",
         n, num(*s_all.begin()), need);
-  if (s_pos.size() < need)
+  if (!m.dose_response && s_pos.size() < need)
     return fmt::format("only {} different positive substrate concentrations for the {} model; at least {} are needed",
                        s_pos.size(), m.name, need);
   if (m.needs_inhibitor()) {
@@ -115,6 +120,12 @@ std::string bound_message(const KineticModel& m, std::size_t j, int side, const 
                           const std::vector<double>& p) {
   const std::string& name = m.parameters[j].name;
   const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
+  auto generic = [&] {
+    if (side > 0 && !m.parameters[j].runaway.empty()) return m.parameters[j].runaway;
+    return fmt::format("{} runs to its {} search bound ({}); the data do not determine it", name,
+                       side < 0 ? "lower" : "upper", num(p[j]));
+  };
+  if (m.dose_response) return generic();  // parameter 1 is no substrate constant
   if (j == 1 && side > 0)
     return fmt::format(
         "no curvature: the rates rise in proportion to substrate up to the highest concentration ({}), "
@@ -130,27 +141,41 @@ std::string bound_message(const KineticModel& m, std::size_t j, int side, const 
         "concentration ({}); measure at lower concentrations",
         name, num(s_min));
   }
-  if (side > 0 && !m.parameters[j].runaway.empty()) return m.parameters[j].runaway;
-  return fmt::format("{} runs to its {} search bound ({}); the data do not determine it", name,
-                     side < 0 ? "lower" : "upper", num(p[j]));
+  return generic();
 }
 
-void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& pts, bool profiled) {
+void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& pts, bool profiled,
+                  const std::vector<bool>& fixed) {
   const double s_max = *std::max_element(pts.s.begin(), pts.s.end());
   const double i_max = *std::max_element(pts.i.begin(), pts.i.end());
+  double s_min = INFINITY;
+  for (double s : pts.s)
+    if (s > 0) s_min = std::min(s_min, s);
+  for (std::size_t j = 0; j < r.parameters.size(); ++j)
+    if (fixed[j])
+      r.warnings.push_back(
+          fmt::format("{} fixed at {} (not estimated)", r.parameters[j].name, num(r.parameters[j].estimate)));
   for (std::size_t j = 1; j < r.parameters.size(); ++j) {
     const auto& e = r.parameters[j];
     const UnitRole role = m.parameters[j].unit_role;
-    if (role != UnitRole::substrate && role != UnitRole::inhibitor) continue;  // no concentration to compare
+    if (fixed[j] || (role != UnitRole::substrate && role != UnitRole::inhibitor))
+      continue;  // no concentration to compare
+    if (m.dose_response && e.estimate < s_min / 10)
+      r.warnings.push_back(
+          fmt::format("{} ({}) is below a tenth of the lowest inhibitor concentration ({}): an "
+                      "extrapolation",
+                      e.name, num(e.estimate), num(s_min)));
     const bool inhibitor_constant = role == UnitRole::inhibitor;
     const double top = inhibitor_constant ? i_max : s_max;
     if (e.estimate > 10 * top)
       r.warnings.push_back(fmt::format("{} ({}) is above 10 times the highest {} concentration ({}): an extrapolation",
-                                       e.name, num(e.estimate), inhibitor_constant ? "inhibitor" : "substrate",
-                                       num(top)));
+                                       e.name, num(e.estimate),
+                                       inhibitor_constant || m.dose_response ? "inhibitor" : "substrate", num(top)));
   }
-  for (const auto& e : r.parameters) {
+  for (std::size_t j = 0; j < r.parameters.size(); ++j) {
+    const auto& e = r.parameters[j];
     if (!profiled) break;
+    if (fixed[j]) continue;
     if (std::isnan(e.profile_low) && r.residual_sd > 0)
       r.warnings.push_back(
           fmt::format("the profile interval of {} has no lower limit inside the search bounds", e.name));
@@ -160,6 +185,88 @@ void add_warnings(FitResult& r, const KineticModel& m, const detail::FitPoints& 
   }
 }
 
+// Covariance s²·(JᵀWJ)⁻¹ over the fitted parameters (a held one has variance 0), the
+// estimates, their intervals and the fit's statistics; "" or why there are none.
+std::string finish_fit(FitResult& r, const KineticModel& m, const detail::FitPoints& pts, const detail::LmResult& best,
+                       const detail::Bounds& bounds, const std::vector<bool>& fixed, const FitOptions& options) {
+  const auto names = m.parameter_names();
+  const std::size_t np = names.size();
+  std::vector<Eigen::Index> free;
+  for (std::size_t j = 0; j < np; ++j)
+    if (!fixed[j]) free.push_back(static_cast<Eigen::Index>(j));
+  const Eigen::MatrixXd full = detail::natural_jacobian(m, pts, best.p);
+  const auto nf = static_cast<Eigen::Index>(free.size());
+  Eigen::MatrixXd jac(full.rows(), nf);
+  for (Eigen::Index c = 0; c < nf; ++c) jac.col(c) = full.col(free[static_cast<std::size_t>(c)]);
+  Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(jac);
+  if (qr.rank() < nf)
+    return fmt::format("the parameters cannot be told apart at the optimum (the Jacobian has rank {} of {})", qr.rank(),
+                       nf);
+  const Eigen::MatrixXd rr = qr.matrixR().topLeftCorner(nf, nf).triangularView<Eigen::Upper>();
+  const Eigen::MatrixXd r_inv = rr.triangularView<Eigen::Upper>().solve(Eigen::MatrixXd::Identity(nf, nf));
+  const Eigen::MatrixXd unscaled =
+      qr.colsPermutation() * (r_inv * r_inv.transpose()) * qr.colsPermutation().transpose();
+  r.ok = true;
+  r.rss = best.rss;
+  r.residual_sd = std::sqrt(best.rss / r.df);
+  const auto p_idx = static_cast<Eigen::Index>(np);
+  r.covariance = Eigen::MatrixXd::Zero(p_idx, p_idx);
+  for (Eigen::Index a = 0; a < nf; ++a)
+    for (Eigen::Index b = 0; b < nf; ++b)
+      r.covariance(free[static_cast<std::size_t>(a)], free[static_cast<std::size_t>(b)]) =
+          unscaled(a, b) * (best.rss / r.df);
+  r.correlation = Eigen::MatrixXd::Identity(p_idx, p_idx);  // a held parameter: uncorrelated
+  for (Eigen::Index a : free)
+    for (Eigen::Index b : free)
+      r.correlation(a, b) = r.covariance(a, b) / std::sqrt(r.covariance(a, a) * r.covariance(b, b));
+  r.t_quantile = student_t_quantile(1 - (1 - options.confidence) / 2, r.df);
+  double sum_log_w = 0;
+  for (double w : pts.w) sum_log_w += std::log(w);
+  if (best.rss > 0)
+    r.aic = r.n * (std::log(2 * M_PI) + 1 - std::log(r.n) + std::log(best.rss)) - sum_log_w +
+            2.0 * static_cast<double>(nf + 1);
+  detail::weighted_rss(m, pts, best.p, &r.fitted);
+  for (std::size_t k = 0; k < pts.size(); ++k) r.residuals.push_back(pts.v[k] - r.fitted[k]);
+  const bool exact = !(r.residual_sd > 0);
+  const detail::LmSettings settings{options.max_iterations, options.tolerance};
+  for (std::size_t j = 0; j < np; ++j) {
+    ParameterEstimate e;
+    e.name = names[j];
+    e.estimate = best.p[j];
+    if (!fixed[j]) {
+      e.se = std::sqrt(r.covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j)));
+      e.ci_low = e.estimate - r.t_quantile * e.se;
+      e.ci_high = e.estimate + r.t_quantile * e.se;
+      if (exact) {
+        e.profile_low = e.profile_high = e.estimate;
+      } else if (options.profile) {
+        const auto lim =
+            detail::profile_limits(m, pts, bounds, best, j, e.se, r.residual_sd, r.t_quantile, settings, fixed);
+        e.profile_low = lim.low;
+        e.profile_high = lim.high;
+      }
+    }
+    r.parameters.push_back(e);
+  }
+  add_warnings(r, m, pts, options.profile && !exact, fixed);
+  if (exact) r.warnings.push_back("the model passes through every point: residual SD 0, no interval width");
+  return {};
+}
+
+// The best of the runs from `starts` (converged first, then the lower RSS); -1 when none.
+int best_run(const KineticModel& m, const detail::FitPoints& pts, const detail::Bounds& bounds,
+             const std::vector<detail::Start>& starts, const std::vector<bool>& fixed,
+             const detail::LmSettings& settings, detail::LmResult& best) {
+  int chosen = -1;
+  for (std::size_t k = 0; k < starts.size(); ++k) {
+    detail::LmResult run = detail::levenberg_marquardt(m, pts, bounds, starts[k].p, fixed, settings);
+    const bool better = chosen < 0 || (run.converged && !best.converged) ||
+                        (run.converged == best.converged && run.rss < best.rss * (1 - 1e-12));
+    if (better) best = run, chosen = static_cast<int>(k);
+  }
+  return chosen;
+}
+
 FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const FitOptions& options) {
   if (auto why = options.validate(); !why.empty()) throw UsageError("FitOptions: " + why);
   const auto names = m.parameter_names();
@@ -167,30 +274,39 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
   if (!options.start.empty() && options.start.size() != np)
     throw UsageError(fmt::format("FitOptions: start has {} values; the {} model has {} parameters ({})",
                                  options.start.size(), m.name, np, join(names)));
+  const std::vector<double> held = detail::held_values(m, options);
+  std::vector<bool> fixed(np);
+  for (std::size_t j = 0; j < np; ++j) fixed[j] = !std::isnan(held[j]);
+  const auto n_free = static_cast<std::size_t>(std::count(fixed.begin(), fixed.end(), false));
   FitResult r;
   r.model = &m;
   r.n = static_cast<int>(pts.size());
-  r.df = r.n - static_cast<int>(np);
-  if (r.message = pre_check(m, pts); !r.message.empty()) return r;
+  r.df = r.n - static_cast<int>(n_free);
+  for (std::size_t j = 0; j < np; ++j)
+    if (m.parameters[j].known && !fixed[j]) {
+      r.message = fmt::format(
+          "the {} model needs {} ({}), which it does not fit: give it (vzero fit --fix {}=VALUE, "
+          "or --enzyme COLUMN for a plate-map column)",
+          m.name, names[j], m.parameters[j].meaning, names[j]);
+      return r;
+    }
+  if (r.message = pre_check(m, pts, n_free); !r.message.empty()) return r;
 
   const detail::Bounds bounds = detail::parameter_bounds(m, pts);
   std::vector<detail::Start> starts;
-  if (!options.start.empty())
+  if (!options.start.empty()) {
     starts.push_back({"given", options.start});
-  else
-    starts = detail::automatic_starts(m, pts);
-  const detail::LmSettings settings{options.max_iterations, options.tolerance};
-  const std::vector<bool> none_fixed(np, false);
-  detail::LmResult best;
-  int chosen = -1;
-  for (std::size_t k = 0; k < starts.size(); ++k) {
-    detail::LmResult run = detail::levenberg_marquardt(m, pts, bounds, starts[k].p, none_fixed, settings);
-    const bool better = chosen < 0 || (run.converged && !best.converged) ||
-                        (run.converged == best.converged && run.rss < best.rss * (1 - 1e-12));
-    if (better) best = run, chosen = static_cast<int>(k);
+    for (std::size_t j = 0; j < np; ++j)
+      if (fixed[j]) starts[0].p[j] = held[j];
+  } else {
+    starts = detail::automatic_starts(m, pts, held);
   }
+  const detail::LmSettings settings{options.max_iterations, options.tolerance};
+  detail::LmResult best;
+  const int chosen = best_run(m, pts, bounds, starts, fixed, settings, best);
   if (chosen < 0) {
-    r.message = "no starting values: the linearisations and the grid give no positive Vmax";
+    r.message = m.start ? "no starting values: " + m.start_method + " found none"
+                        : "no starting values: the linearisations and the grid give no positive Vmax";
     return r;
   }
   r.start_method = starts[static_cast<std::size_t>(chosen)].method;
@@ -214,54 +330,7 @@ FitResult fit_points(const KineticModel& m, const detail::FitPoints& pts, const 
                             best.iterations, num(best.relative_offset));
     return r;
   }
-  const Eigen::MatrixXd jac = detail::natural_jacobian(m, pts, best.p);
-  Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(jac);
-  if (qr.rank() < static_cast<Eigen::Index>(np)) {
-    r.message = fmt::format("the parameters cannot be told apart at the optimum (the Jacobian has rank {} of {})",
-                            qr.rank(), np);
-    return r;
-  }
-  const auto p_idx = static_cast<Eigen::Index>(np);
-  const Eigen::MatrixXd rr = qr.matrixR().topLeftCorner(p_idx, p_idx).triangularView<Eigen::Upper>();
-  const Eigen::MatrixXd r_inv = rr.triangularView<Eigen::Upper>().solve(Eigen::MatrixXd::Identity(p_idx, p_idx));
-  const Eigen::MatrixXd unscaled =
-      qr.colsPermutation() * (r_inv * r_inv.transpose()) * qr.colsPermutation().transpose();
-
-  r.ok = true;
-  r.rss = best.rss;
-  r.residual_sd = std::sqrt(best.rss / r.df);
-  r.covariance = unscaled * (best.rss / r.df);
-  r.correlation = r.covariance;
-  for (Eigen::Index a = 0; a < p_idx; ++a)
-    for (Eigen::Index b = 0; b < p_idx; ++b)
-      r.correlation(a, b) = r.covariance(a, b) / std::sqrt(r.covariance(a, a) * r.covariance(b, b));
-  r.t_quantile = student_t_quantile(1 - (1 - options.confidence) / 2, r.df);
-  double sum_log_w = 0;
-  for (double w : pts.w) sum_log_w += std::log(w);
-  if (best.rss > 0)
-    r.aic = r.n * (std::log(2 * M_PI) + 1 - std::log(r.n) + std::log(best.rss)) - sum_log_w +
-            2.0 * static_cast<double>(np + 1);
-  detail::weighted_rss(m, pts, best.p, &r.fitted);
-  for (std::size_t k = 0; k < pts.size(); ++k) r.residuals.push_back(pts.v[k] - r.fitted[k]);
-  const bool exact = !(r.residual_sd > 0);
-  for (std::size_t j = 0; j < np; ++j) {
-    ParameterEstimate e;
-    e.name = names[j];
-    e.estimate = best.p[j];
-    e.se = std::sqrt(r.covariance(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(j)));
-    e.ci_low = e.estimate - r.t_quantile * e.se;
-    e.ci_high = e.estimate + r.t_quantile * e.se;
-    if (exact) {
-      e.profile_low = e.profile_high = e.estimate;
-    } else if (options.profile) {
-      const auto lim = detail::profile_limits(m, pts, bounds, best, j, e.se, r.residual_sd, r.t_quantile, settings);
-      e.profile_low = lim.low;
-      e.profile_high = lim.high;
-    }
-    r.parameters.push_back(e);
-  }
-  add_warnings(r, m, pts, options.profile && !exact);
-  if (exact) r.warnings.push_back("the model passes through every point: residual SD 0, no interval width");
+  r.message = finish_fit(r, m, pts, best, bounds, fixed, options);
   return r;
 }
 
@@ -279,27 +348,6 @@ FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>
                          const std::vector<double>& v, const std::vector<double>& weights, const KineticModel& model,
                          const FitOptions& options) {
   return fit_points(model, make_points("fit_inhibition", s, &inhibitor, v, weights), options);
-}
-
-std::vector<ParameterEstimate> turnover(const FitResult& fit, double enzyme_conc) {
-  if (!fit.ok || fit.parameters.size() < 2) return {};
-  if (!(enzyme_conc > 0) || !std::isfinite(enzyme_conc))
-    throw UsageError(fmt::format("turnover: enzyme concentration is {}; it must be > 0", enzyme_conc));
-  const double vmax = fit.parameters[0].estimate, km = fit.parameters[1].estimate;
-  const double t = fit.t_quantile;
-  ParameterEstimate kcat{"kcat", vmax / enzyme_conc, fit.parameters[0].se / enzyme_conc};
-  kcat.ci_low = kcat.estimate - t * kcat.se;
-  kcat.ci_high = kcat.estimate + t * kcat.se;
-  kcat.profile_low = fit.parameters[0].profile_low / enzyme_conc;
-  kcat.profile_high = fit.parameters[0].profile_high / enzyme_conc;
-  // Delta method: ∇(V/(E·K)) = (1/(E·K), −V/(E·K²)).
-  const double g0 = 1 / (enzyme_conc * km), g1 = -vmax / (enzyme_conc * km * km);
-  const auto& c = fit.covariance;
-  const double var = g0 * g0 * c(0, 0) + 2 * g0 * g1 * c(0, 1) + g1 * g1 * c(1, 1);
-  ParameterEstimate eff{"kcat/" + fit.parameters[1].name, vmax / (enzyme_conc * km), std::sqrt(std::max(var, 0.0))};
-  eff.ci_low = eff.estimate - t * eff.se;
-  eff.ci_high = eff.estimate + t * eff.se;
-  return {kcat, eff};
 }
 
 std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::vector<double>& inhibitor,

@@ -9,11 +9,16 @@
 namespace vzero::detail {
 
 namespace {
-std::vector<double> to_natural(const std::vector<double>& th, const std::vector<bool>& fixed,
+// θⱼ = ln pⱼ, or pⱼ itself for a parameter that may take any sign (a curve's bottom).
+bool on_log(const KineticModel& m, std::size_t j) { return !m.parameters[j].any_sign; }
+double to_theta(const KineticModel& m, std::size_t j, double p) { return on_log(m, j) ? std::log(p) : p; }
+
+std::vector<double> to_natural(const KineticModel& m, const std::vector<double>& th, const std::vector<bool>& fixed,
                                const std::vector<double>& fixed_values) {
   std::vector<double> p(th.size());
   // Fixed parameters keep their exact given value (no exp(log(c)) rounding).
-  for (std::size_t j = 0; j < th.size(); ++j) p[j] = fixed[j] ? fixed_values[j] : std::exp(th[j]);
+  for (std::size_t j = 0; j < th.size(); ++j)
+    p[j] = fixed[j] ? fixed_values[j] : on_log(m, j) ? std::exp(th[j]) : th[j];
   return p;
 }
 
@@ -36,15 +41,15 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
   const auto n = static_cast<Eigen::Index>(pts.size());
   std::vector<double> th(np), lo(np), hi(np);
   for (std::size_t j = 0; j < np; ++j) {
-    lo[j] = std::log(bounds.lo[j]);
-    hi[j] = std::log(bounds.hi[j]);
-    th[j] = fixed[j] ? std::log(start[j]) : std::clamp(std::log(start[j]), lo[j], hi[j]);
+    lo[j] = to_theta(m, j, bounds.lo[j]);
+    hi[j] = to_theta(m, j, bounds.hi[j]);
+    th[j] = fixed[j] ? to_theta(m, j, start[j]) : std::clamp(to_theta(m, j, start[j]), lo[j], hi[j]);
   }
   double scale = 0;  // Σ w v²: residuals below ~1e-14 of the data are an exact fit
   for (std::size_t k = 0; k < pts.size(); ++k) scale += pts.w[k] * pts.v[k] * pts.v[k];
 
   LmResult out;
-  std::vector<double> p = to_natural(th, fixed, start);
+  std::vector<double> p = to_natural(m, th, fixed, start);
   double rss = weighted_rss(m, pts, p);
   double lambda = 1e-3;
   int it = 0;
@@ -52,7 +57,8 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
   double crit = INFINITY;
   for (;;) {
     Eigen::MatrixXd jac = natural_jacobian(m, pts, p);
-    for (std::size_t j = 0; j < np; ++j) jac.col(static_cast<Eigen::Index>(j)) *= p[j];  // ∂f/∂θ = p·∂f/∂p
+    for (std::size_t j = 0; j < np; ++j)  // ∂f/∂θ = p·∂f/∂p on the log scale
+      if (on_log(m, j)) jac.col(static_cast<Eigen::Index>(j)) *= p[j];
     Eigen::VectorXd r(n);
     for (Eigen::Index k = 0; k < n; ++k) {
       const auto kk = static_cast<std::size_t>(k);
@@ -97,7 +103,7 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
         const auto j = static_cast<std::size_t>(free[c]);
         th_new[j] = std::clamp(th[j] + step(static_cast<Eigen::Index>(c)), lo[j], hi[j]);
       }
-      const std::vector<double> p_new = to_natural(th_new, fixed, start);
+      const std::vector<double> p_new = to_natural(m, th_new, fixed, start);
       const double rss_new = weighted_rss(m, pts, p_new);
       if (std::isfinite(rss_new) && rss_new < rss) {
         max_move = 0;
@@ -132,29 +138,35 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
   for (std::size_t j = 0; j < np; ++j) {
     if (fixed[j]) continue;
     // A run creeping along a valley towards a bound may never land on it exactly.
-    constexpr double k_near = 1e-6;  // in ln p: within 1e-6 relative of the bound
-    if (th[j] <= lo[j] + k_near) out.at_bound[j] = -1;
-    if (th[j] >= hi[j] - k_near) out.at_bound[j] = 1;
+    // Within 1e-6 relative of the bound (in ln p; of the box's half width on the own scale).
+    const double near = on_log(m, j) ? 1e-6 : 1e-6 * hi[j];
+    if (th[j] <= lo[j] + near) out.at_bound[j] = -1;
+    if (th[j] >= hi[j] - near) out.at_bound[j] = 1;
   }
   return out;
 }
 
 ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best,
-                             std::size_t j, double se_j, double residual_sd, double cutoff,
-                             const LmSettings& settings) {
+                             std::size_t j, double se_j, double residual_sd, double cutoff, const LmSettings& settings,
+                             const std::vector<bool>& held) {
   ProfileLimits out;
-  std::vector<bool> fixed(best.p.size(), false);
+  std::vector<bool> fixed = held.empty() ? std::vector<bool>(best.p.size(), false) : held;
   fixed[j] = true;
   const double pj = best.p[j];
-  // Steps are taken in ln pⱼ, starting from the relative standard error.
-  const double h = std::clamp(se_j / pj, 1e-4, 1.0);
+  // Steps are taken in ln pⱼ, starting from the relative standard error (in pⱼ itself,
+  // from the standard error, for a parameter that may take any sign).
+  const bool log_j = on_log(m, j);
+  const double unit = log_j ? 1.0 : std::max(se_j, 1e-12 * std::fabs(pj));
+  const double h = log_j ? std::clamp(se_j / pj, 1e-4, 1.0) : 1.0;
+  auto value_at = [&](int side, double d) { return log_j ? pj * std::exp(side * d) : pj + side * d * unit; };
   for (int side : {-1, 1}) {
     std::vector<double> warm = best.p;
-    const double room = side < 0 ? std::log(pj / bounds.lo[j]) : std::log(bounds.hi[j] / pj);
-    // |τ| at ln pⱼ + side·d, refitting the other parameters from the last solution.
+    const double room = log_j ? (side < 0 ? std::log(pj / bounds.lo[j]) : std::log(bounds.hi[j] / pj))
+                              : (side < 0 ? pj - bounds.lo[j] : bounds.hi[j] - pj) / unit;
+    // |τ| at θⱼ + side·d, refitting the other parameters from the last solution.
     auto tau = [&](double d) {
       std::vector<double> st = warm;
-      st[j] = pj * std::exp(side * d);
+      st[j] = value_at(side, d);
       const LmResult r = levenberg_marquardt(m, pts, bounds, st, fixed, settings);
       warm = r.p;
       return std::sqrt(std::max(r.rss - best.rss, 0.0)) / residual_sd;
@@ -189,7 +201,7 @@ ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const 
       }
     }
     const double d = std::fabs(fa) < std::fabs(fb) ? a : b;
-    (side < 0 ? out.low : out.high) = pj * std::exp(side * d);
+    (side < 0 ? out.low : out.high) = value_at(side, d);
   }
   return out;
 }

@@ -1,6 +1,7 @@
 // Starting values (a model's linearisation, a grid), the weighted RSS and the Jacobian of
 // any registered kinetic model; the weighting names.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <Eigen/QR>
 #include <algorithm>
 #include <cmath>
@@ -59,6 +60,13 @@ bool ols(const Eigen::MatrixXd& x, const Eigen::VectorXd& y, Eigen::VectorXd& b)
 
 bool all_positive(const std::vector<double>& p) {
   return std::all_of(p.begin(), p.end(), [](double e) { return std::isfinite(e) && e > 0; });
+}
+
+// Every start finite, and > 0 unless the parameter may take any sign.
+bool all_positive_or_signed(const KineticModel& m, const std::vector<double>& p) {
+  for (std::size_t j = 0; j < p.size(); ++j)
+    if (!std::isfinite(p[j]) || (!m.parameters[j].any_sign && !(p[j] > 0))) return false;
+  return p.size() == m.parameters.size();
 }
 
 // Points usable in a linearisation: S > 0 and v > 0.
@@ -139,6 +147,29 @@ bool grid_start(const KineticModel& m, const FitPoints& pts, std::vector<double>
 }
 }  // namespace
 
+// Per parameter: the value it is held at (FitOptions::fixed), NaN when it is fitted. A name
+// the model lacks, or a value its scale cannot take, is a UsageError.
+std::vector<double> held_values(const KineticModel& m, const FitOptions& options) {
+  const auto names = m.parameter_names();
+  std::vector<double> held(names.size(), NAN);
+  for (const auto& [name, value] : options.fixed) {
+    const auto it = std::find(names.begin(), names.end(), name);
+    if (it == names.end())
+      throw UsageError(fmt::format("FitOptions: fixed names {}, which the {} model lacks; its parameters are {}", name,
+                                   m.name, fmt::format("{}", fmt::join(names, ", "))));
+    const KineticParameter& p = m.parameters[static_cast<std::size_t>(it - names.begin())];
+    if (!std::isfinite(value) || (!p.any_sign && !(value > 0)))
+      throw UsageError(fmt::format("FitOptions: fixed {} = {}; it must be finite{}", name, fmt::format("{:.6g}", value),
+                                   p.any_sign ? "" : " and > 0"));
+    held[static_cast<std::size_t>(it - names.begin())] = value;
+  }
+  for (std::size_t j = 0; j < options.start.size() && j < names.size(); ++j)
+    if (!m.parameters[j].any_sign && !(options.start[j] > 0))
+      throw UsageError(fmt::format("FitOptions: start of {} is {}; it must be > 0", names[j],
+                                   fmt::format("{:.6g}", options.start[j])));
+  return held;
+}
+
 DataScale data_scale(const FitPoints& pts) {
   return {max_positive(pts.v), min_positive(pts.s), max_positive(pts.s), min_positive(pts.i), max_positive(pts.i)};
 }
@@ -147,12 +178,19 @@ Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts) {
   return vzero::parameter_bounds(m, data_scale(pts));
 }
 
-std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts) {
+std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts, const std::vector<double>& fixed) {
   std::vector<Start> out;
-  std::vector<double> p;
+  std::vector<double> p = fixed;
+  if (m.start) {
+    if (m.start(pts.s, pts.v, pts.w, p) && all_positive_or_signed(m, p)) out.push_back({m.start_method, p});
+    return out;
+  }
   if (m.linearisation && linear_start(*m.linearisation, pts, rate_ceiling(pts), p))
     out.push_back({m.linearisation->method, p});
   if (grid_start(m, pts, p)) out.push_back({"grid", p});
+  for (auto& st : out)  // a fixed parameter keeps its value whatever the rule found
+    for (std::size_t j = 0; j < fixed.size() && j < st.p.size(); ++j)
+      if (!std::isnan(fixed[j])) st.p[j] = fixed[j];
   return out;
 }
 

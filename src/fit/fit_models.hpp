@@ -16,6 +16,10 @@ struct FitPoints {
   std::size_t size() const { return v.size(); }
 };
 
+// Per parameter: the value FitOptions::fixed holds it at, NaN when it is fitted; UsageError
+// for a name the model lacks, a value its scale cannot take, or a start <= 0 on the log scale.
+std::vector<double> held_values(const KineticModel& m, const FitOptions& options);
+
 using Bounds = ParameterBox;
 // The data ranges of these points, and the model's search box over them.
 DataScale data_scale(const FitPoints& pts);
@@ -27,7 +31,9 @@ struct Start {
 };
 // Candidate starts: the model's linearisation (when it gives positive values), then the best
 // point of a coarse grid over the nonlinear parameters with Vmax solved by linear least squares.
-std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts);
+// A model with its own `start` rule gets that alone; `fixed` holds the fixed parameters'
+// values (NaN = free), which every start keeps.
+std::vector<Start> automatic_starts(const KineticModel& m, const FitPoints& pts, const std::vector<double>& fixed);
 
 // Σ wᵢ (vᵢ − f)², and the per-point model rates when `fitted` is given.
 double weighted_rss(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p,
@@ -59,11 +65,12 @@ Eigen::MatrixXd natural_jacobian(const KineticModel& m, const FitPoints& pts, co
 // Profile-t limits for parameter j (as MASS's profile/confint for nls): the values c where
 // τ(c) = sign(c − p̂ⱼ)·√(RSSⱼ(c) − RSS)/s equals ∓cutoff, RSSⱼ(c) the RSS minimised over the
 // other parameters with pⱼ = c. NaN on a side where the profile stays below the cutoff
-// inside the bounds.
+// inside the bounds. `held`: parameters fixed in the fit itself (empty = none), which stay.
 struct ProfileLimits {
   double low = NAN, high = NAN;
 };
 ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const Bounds& bounds, const LmResult& best,
-                             std::size_t j, double se_j, double residual_sd, double cutoff, const LmSettings& settings);
+                             std::size_t j, double se_j, double residual_sd, double cutoff, const LmSettings& settings,
+                             const std::vector<bool>& held = {});
 
 }  // namespace vzero::detail

@@ -238,6 +238,7 @@ std::string fit_json(const TableFit& t, const FitTableOptions& o) {
                   {"confidence", o.fit.confidence},
                   {"profile", o.fit.profile},
                   {"start", o.fit.start}};
+  if (!o.fit.fixed.empty()) j["options"]["fixed"] = o.fit.fixed;
   nlohmann::json fits = nlohmann::json::array();
   for (const GroupFit& g : t.fits) {
     const FitResult& r = g.result;
@@ -319,8 +320,9 @@ std::string fit_text(const TableFit& t) {
     for (std::size_t k = 0; k < g.derived.size(); ++k) line(g.derived[k], g.units[r.parameters.size() + k]);
     for (Eigen::Index a = 0; a < r.correlation.rows(); ++a)
       for (Eigen::Index b = a + 1; b < r.correlation.cols(); ++b)
-        out += fmt::format("  corr({}, {}) = {:.4f}\n", r.parameters[static_cast<std::size_t>(a)].name,
-                           r.parameters[static_cast<std::size_t>(b)].name, r.correlation(a, b));
+        if (!std::isnan(r.parameters[static_cast<std::size_t>(a)].se + r.parameters[static_cast<std::size_t>(b)].se))
+          out += fmt::format("  corr({}, {}) = {:.4f}\n", r.parameters[static_cast<std::size_t>(a)].name,
+                             r.parameters[static_cast<std::size_t>(b)].name, r.correlation(a, b));
     for (const auto& w : r.warnings) out += "  note: " + w + "\n";
   }
   return out;

@@ -6,6 +6,7 @@
 #include <map>
 
 #include "core/text.hpp"
+#include "fit/dose_response.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 
@@ -136,6 +137,37 @@ std::string group_weights(const std::vector<Row>& rows, Weighting w, bool sd_fro
   return {};
 }
 
+// A dose-response fit; a model's known [E] (Morrison) comes from the group's enzyme level
+// unless FitOptions::fixed gives it, and must be in x's unit.
+void fit_dose_response(GroupFit& gf, const TableFit& t, FitOptions fit, double enzyme,
+                       const std::string& enzyme_problem) {
+  const KineticModel& m = *gf.model;
+  bool from_column = false;
+  auto fail = [&](std::string why) {
+    gf.result.model = &m;
+    gf.result.n = static_cast<int>(gf.v.size());
+    gf.result.message = std::move(why);
+  };
+  for (const KineticParameter& p : m.parameters) {
+    if (!p.known || fit.fixed.count(p.name) > 0) continue;
+    if (!enzyme_problem.empty())
+      return fail(fmt::format("{}; the {} model needs one {} per group", enzyme_problem, m.name, p.name));
+    if (std::isnan(enzyme)) continue;  // fit_model says what is missing
+    if (!t.enzyme_unit.empty() && !t.x_unit.empty() && t.enzyme_unit != t.x_unit) {
+      return fail(fmt::format(
+          "{} from column {} is in {}, the inhibitor concentration {} in {}; the {} model needs both in one unit "
+          "(or give --fix {}=VALUE in {})",
+          p.name, t.enzyme_column, t.enzyme_unit, t.x_column, t.x_unit, m.name, p.name, t.x_unit));
+    }
+    fit.fixed[p.name] = enzyme;
+    from_column = true;
+  }
+  gf.result = fit_model(gf.s, gf.v, gf.weights, m, fit);
+  if (gf.result.ok && from_column && (t.enzyme_unit.empty() || t.x_unit.empty()))
+    gf.result.warnings.push_back(fmt::format(
+        "{} read as being in the unit of {} (the table gives no unit for one of them)", t.enzyme_column, t.x_column));
+}
+
 }  // namespace
 
 TableFit fit_table(const Table& table, const FitTableOptions& options) {
@@ -148,8 +180,11 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   std::string y_name = options.y_column;
   if (y_name.empty()) y_name = table.column("v0") < 0 && table.column("v0_mean") >= 0 ? "v0_mean" : "v0";
   const int y_col = table.require_column(y_name, "name the rate column as y");
-  bool any_inhibition = false;
-  for (const KineticModel* m : options.models) any_inhibition = any_inhibition || m->needs_inhibitor();
+  bool any_inhibition = false, all_dose_response = true;
+  for (const KineticModel* m : options.models) {
+    any_inhibition = any_inhibition || m->needs_inhibitor();
+    all_dose_response = all_dose_response && m->dose_response;
+  }
   const int i_col = options.inhibitor_column.empty()
                         ? -1
                         : table.require_column(options.inhibitor_column, "name the inhibitor concentration column");
@@ -213,7 +248,7 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
     };
     if (*x < 0) negative(x_col, *x);
     if (inh && *inh < 0) negative(i_col, *inh);
-    if (*x == 0 && options.weighting == Weighting::relative) {
+    if (*x == 0 && options.weighting == Weighting::relative && !all_dose_response) {
       // Every model gives v = 0 at S = 0 whatever its parameters, so such a point only adds
       // to the residuals; weighted 1/v^2 by a rate near 0 it would swamp them (or, v <= 0,
       // have no weight at all). Unweighted or weighted by replicate SDs it is kept.
@@ -300,11 +335,18 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
         gf.result.message = weight_problem;
       } else if (m.needs_inhibitor()) {
         gf.result = fit_inhibition(gf.s, gf.inhibitor, gf.v, gf.weights, m, options.fit);
+      } else if (m.dose_response) {
+        fit_dose_response(gf, out, options.fit, enzyme, enzyme_problem);
       } else {
         gf.result = fit_model(gf.s, gf.v, gf.weights, m, options.fit);
       }
       for (const auto& p : m.parameters) gf.units.push_back(unit_for(p.unit_role, out));
-      if (gf.result.ok && e_col >= 0) {
+      if (gf.result.ok && m.dose_response) {
+        std::string why;
+        gf.derived = detail::p_ic50(gf.result, out.x_unit, why);
+        if (!gf.derived.empty()) gf.units.push_back("log10(1/M)");
+        if (!why.empty()) gf.result.warnings.push_back(why);
+      } else if (gf.result.ok && e_col >= 0) {
         if (enzyme_problem.empty()) {
           gf.derived = turnover(gf.result, enzyme);
           gf.units.push_back(per(out.v_unit, out.enzyme_unit));

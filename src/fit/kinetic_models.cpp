@@ -4,6 +4,7 @@
 // constants); the Hill equation as there too.
 #include <cmath>
 
+#include "fit/dose_response.hpp"
 #include "fit/kinetic_models.hpp"
 
 namespace vzero::detail {
@@ -232,7 +233,10 @@ KineticModel mixed() {
 }  // namespace
 
 std::vector<KineticModel> builtin_kinetic_models() {
-  return {michaelis_menten(), substrate_inhibition(), hill(), competitive(), uncompetitive(), mixed()};
+  std::vector<KineticModel> out{michaelis_menten(), substrate_inhibition(), hill(),
+                                competitive(),      uncompetitive(),        mixed()};
+  for (auto& m : dose_response_models()) out.push_back(std::move(m));
+  return out;
 }
 
 }  // namespace vzero::detail

@@ -7,7 +7,8 @@
 
 namespace vzero::detail {
 
-// mm, substrate-inhibition, hill, competitive, uncompetitive, mixed: the registry's first six.
+// mm, substrate-inhibition, hill, competitive, uncompetitive, mixed, then the dose-response
+// models 4pl and morrison (dose_response.cpp): the registry's first eight.
 std::vector<KineticModel> builtin_kinetic_models();
 
 }  // namespace vzero::detail

@@ -67,16 +67,21 @@ std::string contract_problem(const KineticModel& m, const std::deque<KineticMode
   if (m.formula.empty()) return "the formula is empty";
   if (!m.rate) return "the model has no rate function";
   if (m.parameters.size() < 2) return "a model needs at least 2 parameters (Vmax, then the substrate constant)";
-  if (m.parameters[0].unit_role != UnitRole::rate)
+  if (m.dose_response && !m.start) return "a dose-response model needs its own start rule";
+  if (!m.dose_response && m.parameters[0].unit_role != UnitRole::rate)
     return fmt::format("parameter 1 ({}) must be the limiting rate (unit role rate)", m.parameters[0].name);
-  if (m.parameters[1].unit_role != UnitRole::substrate)
+  if (!m.dose_response && m.parameters[1].unit_role != UnitRole::substrate)
     return fmt::format("parameter 2 ({}) must be the substrate constant (unit role substrate)", m.parameters[1].name);
   for (std::size_t k = 0; k < m.parameters.size(); ++k) {
     const KineticParameter& p = m.parameters[k];
     if (p.name.empty()) return fmt::format("parameter {} has no name", k + 1);
     for (std::size_t j = 0; j < k; ++j)
       if (m.parameters[j].name == p.name) return fmt::format("two parameters are called {}", p.name);
-    if (k > 0 && p.unit_role == UnitRole::rate)
+    if (p.any_sign && p.unit_role != UnitRole::rate)
+      return fmt::format("parameter {} may take any sign only with unit role rate", p.name);
+    if (!m.dose_response && (p.any_sign || p.known))
+      return fmt::format("parameter {}: any_sign and known are for dose-response models", p.name);
+    if (k > 0 && p.unit_role == UnitRole::rate && !m.dose_response)
       return fmt::format("parameter {} has unit role rate; only Vmax (the first) may", p.name);
     if (p.unit_role == UnitRole::none &&
         (!(p.lo > 0) || !(p.hi > p.lo) || !std::isfinite(p.hi) || p.grid.empty() ||
@@ -154,7 +159,7 @@ ParameterBox parameter_bounds(const KineticModel& model, const DataScale& d) {
   for (const auto& p : model.parameters) {
     switch (p.unit_role) {
       case UnitRole::rate:
-        b.lo.push_back(d.v_max / k_span), b.hi.push_back(d.v_max * k_span);
+        b.lo.push_back(p.any_sign ? -d.v_max * k_span : d.v_max / k_span), b.hi.push_back(d.v_max * k_span);
         break;
       case UnitRole::substrate:
         b.lo.push_back(d.s_min / k_span), b.hi.push_back(d.s_max * k_span);

@@ -1,7 +1,10 @@
 // The options of `vzero fit`, each described once (include/vzero/fit_settings.hpp). The
 // order here is the order of `--help`.
 #include <fmt/format.h>
+#include <algorithm>
 #include <cmath>
+#include <map>
+#include <optional>
 
 #include "core/text.hpp"
 #include "vzero/error.hpp"
@@ -68,6 +71,9 @@ std::vector<FitOptionSpec> make_table() {
                      [](F& s, const V& v) { return s.enzymeml = v.text, std::string(); }));
   t.push_back(output("enzymeml-from", 0, "the EnzymeML document vzero rates --enzymeml wrote for this table",
                      [](F& s, const V& v) { return s.enzymeml_from = v.text, std::string(); }));
+  t.push_back(spec("fix", K::list, "",
+                   "hold parameters at these values, not estimated: NAME=VALUE,... (e.g. top=100,bottom=0; E for morrison)",
+                   [](F& s, const V& v) { return s.fixed.push_back(v.text), std::string(); }));
   t.push_back(spec("start", K::list, "", "starting values in parameter order, e.g. 200,0.05 (one model only)",
                    [](F& s, const V& v) -> std::string {
                      const auto n = detail::parse_number(v.text);
@@ -180,11 +186,11 @@ std::vector<const KineticModel*> models_named(const std::vector<std::string>& na
   const std::string at = option_spelled("model", sp), inhibitor = option_spelled("inhibitor", sp);
   for (const auto& name : names) {
     if (name == "all") {
-      for (const KineticModel* m : known)
-        if (!m->needs_inhibitor()) add(m);
+      for (const KineticModel* m : known)  // the dose-response models take other data: named only
+        if (!m->needs_inhibitor() && !m->dose_response) add(m);
       if (have_inhibitor)
         for (const KineticModel* m : known)
-          if (m->needs_inhibitor()) add(m);
+          if (m->needs_inhibitor() && !m->dose_response) add(m);
       continue;
     }
     const KineticModel* m = find_model(name);
@@ -198,6 +204,30 @@ std::vector<const KineticModel*> models_named(const std::vector<std::string>& na
     add(m);
   }
   if (out.empty()) out.push_back(&kinetic_model("mm"));
+  return out;
+}
+
+// --fix NAME=VALUE,...: every name a parameter of every model fitted.
+std::map<std::string, double> parse_fixed(const std::vector<std::string>& items,
+                                          const std::vector<const KineticModel*>& models, Spelling sp) {
+  const std::string at = option_spelled("fix", sp);
+  std::map<std::string, double> out;
+  for (const auto& item : items) {
+    const std::size_t eq = item.find('=');
+    const std::string name = item.substr(0, std::min(eq, item.size()));
+    const auto value = eq == std::string::npos ? std::nullopt : detail::parse_number(item.substr(eq + 1));
+    if (!value)
+      throw UsageError(fmt::format("{}: expected NAME=VALUE (e.g. top=100), found \"{}\"",
+                                   at.back() == ' ' ? at.substr(0, at.size() - 1) : at, item));
+    for (const KineticModel* m : models) {
+      const auto names = m->parameter_names();
+      if (std::find(names.begin(), names.end(), name) == names.end())
+        throw UsageError(fmt::format("{}{}: the {} model has no parameter {} (its parameters: {}); fit a model that "
+                                     "has it alone",
+                                     at, item, m->name, name, fmt::format("{}", fmt::join(names, ", "))));
+    }
+    out[name] = *value;
+  }
   return out;
 }
 
@@ -230,6 +260,7 @@ FitTableOptions fit_table_options(const FitSettings& s, Spelling sp) {
                                    o.fit.start.size(), o.models.front()->name, names.size(),
                                    fmt::format("{}", fmt::join(names, ", "))));
   }
+  o.fit.fixed = parse_fixed(s.fixed, o.models, sp);
   if (auto why = o.fit.validate(); !why.empty()) throw UsageError(why);
   return o;
 }
