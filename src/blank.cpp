@@ -129,27 +129,26 @@ double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
   return 1.4826 * (dist.size() % 2 ? dist[h] : 0.5 * (dist[h - 1] + dist[h]));
 }
 
-BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
-  const Eigen::Index reads = c.values.rows(), cols = c.values.cols();
-  BlankResult r;
-  r.blank = Eigen::MatrixXd::Zero(reads, cols);
-  r.corrected = c.values;
-  r.status = c.status;
-  r.wells.resize(static_cast<std::size_t>(cols));
-  r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
-  r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
+namespace {
 
-  std::vector<int> all_blanks;
-  for (Eigen::Index j = 0; j < cols; ++j) {
+// Each blank well judged on its own: its line (after a disturbed start), its scatter, the
+// channel's median scatter and well-to-well drift.
+struct BlankWells {
+  std::vector<int> all;             // channel columns of the blank wells
+  std::map<int, LineFit> line;      // each blank's line (its rate, its scatter)
+  std::map<int, LineFit> disturbed; // blanks with a disturbed start: their line after it
+  double median_sd = NAN;           // median scatter of the blanks (3 or more)
+  double rate_sd = NAN;             // within_set_rate_sd of their rates
+};
+
+BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
+  BlankWells bw;
+  for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
-    if (info && info->role == Role::blank) all_blanks.push_back(static_cast<int>(j));
+    if (info && info->role == Role::blank) bw.all.push_back(static_cast<int>(j));
   }
-  // Each blank well's own line and scatter.
-  std::map<int, LineFit> blank_line;
   std::vector<double> sds;
-  // A blank with a disturbed start stands in by its line after the disturbance.
-  std::map<int, LineFit> disturbed;
-  for (int b : all_blanks) {
+  for (int b : bw.all) {
     double slope = NAN, intercept = NAN;
     const int skip = screen_blank_start(c.time_s, c.values.col(b).data(), c.status.col(b).data(), slope, intercept);
     double from = -INFINITY;
@@ -162,134 +161,153 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
           break;
         }
     }
-    LineFit l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
-    if (skip > 0) {
-      disturbed[b] = l;
-      r.line_slope[static_cast<std::size_t>(b)] = l.slope;
-      r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
-    }
-    blank_line[b] = l;
+    const LineFit l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
+    if (skip > 0) bw.disturbed[b] = l;
+    bw.line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
   // Well-to-well drift: the blank wells' own rates about their set's (within_set_rate_sd);
   // when no set has two blanks, their spread over the channel (every difference counted).
-  double rate_sd = NAN;
-  {
-    std::map<std::string, std::vector<double>> by_set;
-    std::vector<double> every;
-    for (int b : all_blanks) {
-      if (!std::isfinite(blank_line[b].slope)) continue;
-      every.push_back(blank_line[b].slope);
-      const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
-      if (o.strategy == BlankStrategy::matched && bi && !bi->match.empty())
-        by_set[bi->match].push_back(blank_line[b].slope);
-    }
-    std::vector<std::vector<double>> sets;
-    if (o.strategy == BlankStrategy::matched)
-      for (auto& [match, rates] : by_set) sets.push_back(std::move(rates));
-    rate_sd = within_set_rate_sd(sets);
-    if (std::isnan(rate_sd) && every.size() >= 3) rate_sd = within_set_rate_sd({every});
+  std::map<std::string, std::vector<double>> by_set;
+  std::vector<double> every;
+  for (int b : bw.all) {
+    if (!std::isfinite(bw.line[b].slope)) continue;
+    every.push_back(bw.line[b].slope);
+    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+    if (o.strategy == BlankStrategy::matched && bi && !bi->match.empty())
+      by_set[bi->match].push_back(bw.line[b].slope);
   }
-  double median_sd = NAN;
+  std::vector<std::vector<double>> sets;
+  if (o.strategy == BlankStrategy::matched)
+    for (auto& [match, rates] : by_set) sets.push_back(std::move(rates));
+  bw.rate_sd = within_set_rate_sd(sets);
+  if (std::isnan(bw.rate_sd) && every.size() >= 3) bw.rate_sd = within_set_rate_sd({every});
   if (sds.size() >= 3) {
     std::sort(sds.begin(), sds.end());
-    median_sd = sds.size() % 2 ? sds[sds.size() / 2] : 0.5 * (sds[sds.size() / 2 - 1] + sds[sds.size() / 2]);
+    bw.median_sd = sds.size() % 2 ? sds[sds.size() / 2] : 0.5 * (sds[sds.size() / 2 - 1] + sds[sds.size() / 2]);
   }
-  // Mean blank traces are shared by all wells using the same set of blanks.
-  struct SharedBlank {
-    Eigen::VectorXd mean;
-    std::vector<ReadStatus> st;
-    std::string names;      // well_set_text of the blanks
-    double noise_sd = NAN;  // pooled residual SD of the blanks
-    bool noisy = false;     // one of them is blank-noisy
-    bool line = false;      // one of them had a disturbed start: its line stands in
-    double rate = NAN;      // slope of the mean trace
-  };
+  return bw;
+}
+
+// What a set of blanks gives every well that uses it (a plate blank serves every well).
+struct SharedBlank {
+  Eigen::VectorXd mean;
+  std::vector<ReadStatus> st;
+  std::string names;      // well_set_text of the blanks
+  double noise_sd = NAN;  // pooled residual SD of the blanks
+  bool noisy = false;     // one of them is blank-noisy
+  bool line = false;      // one of them had a disturbed start: its line stands in
+  double rate = NAN;      // slope of the mean trace
+};
+
+SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o, const BlankWells& bw,
+                         const std::vector<int>& use) {
+  const Eigen::Index reads = c.values.rows();
+  SharedBlank sb;
+  double var = 0;
+  int nsd = 0;
+  std::vector<WellId> ids;
+  ids.reserve(use.size());
+  for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
+  sb.names = well_set_text(std::move(ids));
+  for (int b : use) {
+    const LineFit& l = bw.line.at(b);
+    if (!std::isnan(l.resid_sd)) {
+      var += l.resid_sd * l.resid_sd;
+      ++nsd;
+    }
+    if (!std::isnan(bw.median_sd) && l.resid_sd > o.noisy_factor * bw.median_sd) sb.noisy = true;
+  }
+  if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
+  sb.mean = Eigen::VectorXd::Constant(reads, NAN);
+  sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
+  for (Eigen::Index i = 0; i < reads; ++i) {
+    double s = 0;
+    int n = 0;
+    for (int b : use) {
+      if (c.status(i, b) != ReadStatus::ok) continue;
+      const auto d = bw.disturbed.find(b);
+      s += d == bw.disturbed.end() ? c.values(i, b)
+                                   : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
+      ++n;
+    }
+    if (n > 0) {
+      sb.mean(i) = s / n;
+      sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok;
+    }
+  }
+  for (int b : use) sb.line |= bw.disturbed.count(b) > 0;
+  sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
+  return sb;
+}
+
+// A blank well judged as a blank: its own rate and scatter, noisy or disturbed.
+void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& wb) {
+  const LineFit& l = bw.line.at(j);
+  wb.blank_rate = l.slope;
+  wb.blank_noise_sd = l.resid_sd;
+  if (!std::isnan(bw.median_sd) && l.resid_sd > o.noisy_factor * bw.median_sd) wb.flags.emplace_back("blank-noisy");
+  if (bw.disturbed.count(j)) wb.flags.emplace_back("blank-disturbed");
+}
+
+// Column j's reads minus the mean blank, read by read (NaN where the blank has no value).
+void subtract(const Channel& c, const SharedBlank& sb, Eigen::Index j, BlankResult& r) {
+  for (Eigen::Index i = 0; i < c.values.rows(); ++i) {
+    if (sb.st[static_cast<std::size_t>(i)] != ReadStatus::ok) {
+      if (r.status(i, j) == ReadStatus::ok) r.status(i, j) = ReadStatus::excluded;
+      r.corrected(i, j) = NAN;
+      r.blank(i, j) = NAN;
+      continue;
+    }
+    r.blank(i, j) = sb.mean(i);
+    r.corrected(i, j) = c.values(i, j) - sb.mean(i);
+  }
+}
+
+}  // namespace
+
+BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
+  const Eigen::Index reads = c.values.rows(), cols = c.values.cols();
+  BlankResult r;
+  r.blank = Eigen::MatrixXd::Zero(reads, cols);
+  r.corrected = c.values;
+  r.status = c.status;
+  r.wells.resize(static_cast<std::size_t>(cols));
+  r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
+  r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
+  const BlankWells bw = judge_blank_wells(c, map, f, o);
+  for (const auto& [b, l] : bw.disturbed) {
+    r.line_slope[static_cast<std::size_t>(b)] = l.slope;
+    r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
+  }
   std::map<std::vector<int>, SharedBlank> cache;
   for (Eigen::Index j = 0; j < cols; ++j) {
     WellBlank& wb = r.wells[static_cast<std::size_t>(j)];
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
-    bool is_blank = info && info->role == Role::blank;
-    if (is_blank) {
-      const LineFit& l = blank_line[static_cast<int>(j)];
-      wb.blank_rate = l.slope;
-      wb.blank_noise_sd = l.resid_sd;
-      if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) wb.flags.emplace_back("blank-noisy");
-      if (disturbed.count(static_cast<int>(j))) wb.flags.emplace_back("blank-disturbed");
+    if (info && info->role == Role::blank) {
+      judge_blank(bw, o, static_cast<int>(j), wb);
       continue;
     }
     if (o.strategy == BlankStrategy::none) continue;
-    std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), all_blanks);
-    bool needs_blank = info && (info->role == Role::sample || info->role == Role::standard);
+    std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), bw.all);
     if (use.empty()) {
-      if (needs_blank) wb.flags.emplace_back("blank-missing");
+      if (info && (info->role == Role::sample || info->role == Role::standard)) wb.flags.emplace_back("blank-missing");
       continue;
     }
     // A blank with a disturbed start is left out of its set when the set has one without;
     // only a set of disturbed blanks subtracts their lines.
-    const bool left_out = drop_disturbed(use, [&](int b) { return disturbed.count(b) > 0; });
-    // What depends only on the set of blanks is worked out once per set (a plate blank
-    // serves every well): the mean trace, the names, the pooled scatter, its line.
+    const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed.count(b) > 0; });
     auto it = cache.find(use);
-    if (it == cache.end()) {
-      SharedBlank sb;
-      double var = 0;
-      int nsd = 0;
-      std::vector<WellId> ids;
-      ids.reserve(use.size());
-      for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
-      sb.names = well_set_text(std::move(ids));
-      for (int b : use) {
-        const LineFit& l = blank_line[b];
-        if (!std::isnan(l.resid_sd)) {
-          var += l.resid_sd * l.resid_sd;
-          ++nsd;
-        }
-        if (!std::isnan(median_sd) && l.resid_sd > o.noisy_factor * median_sd) sb.noisy = true;
-      }
-      if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
-      sb.mean = Eigen::VectorXd::Constant(reads, NAN);
-      sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
-      for (Eigen::Index i = 0; i < reads; ++i) {
-        double s = 0;
-        int n = 0;
-        for (int b : use) {
-          if (c.status(i, b) != ReadStatus::ok) continue;
-          const auto d = disturbed.find(b);
-          s += d == disturbed.end() ? c.values(i, b)
-                                    : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
-          ++n;
-        }
-        if (n > 0) {
-          sb.mean(i) = s / n;
-          sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok;
-        }
-      }
-      for (int b : use) sb.line |= disturbed.count(b) > 0;
-      sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
-      it = cache.emplace(use, std::move(sb)).first;
-    }
+    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, f, o, bw, use)).first;
     const SharedBlank& sb = it->second;
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
     if (sb.line) wb.notes.emplace_back("blank-line");
     if (left_out) wb.notes.emplace_back("blank-left-out");
     wb.blank_noise_sd = sb.noise_sd;
-    wb.blank_rate_sd = rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
+    wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;
-    const Eigen::VectorXd& mean = sb.mean;
-    const std::vector<ReadStatus>& st = sb.st;
-    if (o.mode == BlankMode::rate) continue;
-    for (Eigen::Index i = 0; i < reads; ++i) {
-      if (st[static_cast<std::size_t>(i)] != ReadStatus::ok) {
-        if (r.status(i, j) == ReadStatus::ok) r.status(i, j) = ReadStatus::excluded;
-        r.corrected(i, j) = NAN;
-        r.blank(i, j) = NAN;
-        continue;
-      }
-      r.blank(i, j) = mean(i);
-      r.corrected(i, j) = c.values(i, j) - mean(i);
-    }
+    if (o.mode == BlankMode::trace) subtract(c, sb, j, r);
   }
   return r;
 }

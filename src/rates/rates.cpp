@@ -136,22 +136,16 @@ void widen_interval(RateResult& r, const TraceView& tr, const std::vector<double
 
 }  // namespace
 
-RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
-  assert(opt.min_points >= 3 && opt.max_conversion > 0 && opt.outlier_k > 0 && opt.tangent_reach >= 1);
-  RateResult r;
-  r.estimator = opt.estimator;
-  r.window = opt.window;
-  r.tangent = "slope";
-  r.lag_s = 0;
-  r.used.assign(static_cast<std::size_t>(std::max(tr.n, 0)), 0);
-  const double t_ref = std::isnan(opt.time_zero_s) ? (tr.n > 0 ? tr.time_s[0] : 0.0) : opt.time_zero_s;
+namespace {
 
+// The reads a window may use. When every read is above the ceiling (or at the detector's
+// plateau), a rate from them all is better than none, and the `ceiling` or `saturated` flag
+// says it is not to be trusted. False (flag too-few-reads) when fewer than two are left.
+bool take_usable(const TraceView& tr, const RateOptions& opt, RateResult& r, detail::Usable& u, bool& saturated) {
   const double clip = detail::detector_plateau(tr, opt);
-  detail::Usable u = detail::usable_reads(tr, opt, clip);
-  bool saturated = false;
+  u = detail::usable_reads(tr, opt, clip);
+  saturated = false;
   if (u.t.size() < 2 && (u.any_ceiling || u.any_saturated)) {
-    // Every read is above the ceiling (or at the detector's plateau): a rate from them is
-    // better than none, and the `ceiling` or `saturated` flag says it is not to be trusted.
     const bool ceiling = u.any_ceiling;
     saturated = u.any_saturated;
     RateOptions no_ceiling = opt;
@@ -162,24 +156,15 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   if (u.any_overflow) add_flag(r, "overflow");
   if (u.any_ceiling) add_flag(r, "ceiling");
   if (saturated) add_flag(r, "saturated");
-  const int m = static_cast<int>(u.t.size());
-  if (m < 2) {
-    add_flag(r, "too-few-reads");
-    r.window_end = u.truncated_by.empty() ? "reads" : u.truncated_by;
-    return r;
-  }
-  const double noise = detail::noise_estimate(u, tr.noise_sd);
-  r.noise_sd = noise;
-  const double sd_floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : detail::tiny_floor(u);
-  const double limit_per_signal = (std::isfinite(tr.substrate) && tr.substrate > 0 && std::isfinite(tr.conc_per_signal))
-                                      ? opt.max_conversion * tr.substrate / tr.conc_per_signal
-                                      : NAN;  // signal change allowed since time zero
+  if (u.t.size() >= 2) return true;
+  add_flag(r, "too-few-reads");
+  r.window_end = u.truncated_by.empty() ? "reads" : u.truncated_by;
+  return false;
+}
 
-  // A disturbed start is set aside, and what is left of it taken off the reads kept.
-  detail::StartScreen start;
-  if (opt.detect_disturbed && opt.window == WindowMethod::automatic)
-    start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
-  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip);
+// What the window search decided, as flags and fields of the result.
+void record_window(const detail::WindowChoice& w, const detail::StartScreen& start, const detail::Usable& u,
+                   RateResult& r) {
   if (w.too_few) add_flag(r, "too-few-reads");
   if (w.nonlinear) add_flag(r, "nonlinear");
   if (w.depleted) add_flag(r, "depleted");
@@ -190,11 +175,15 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.disturbed_reads = w.disturbed;
   r.disturbed_offset = start.offset;
   r.lag_s = w.lag ? u.t[static_cast<std::size_t>(w.first)] - u.t[static_cast<std::size_t>(w.undisturbed)] : 0.0;
+}
 
-  // Outlier rule on every usable read of the window, then the estimator on the rest.
+// Outlier rule on every usable read of the window, then the estimator on the rest: the
+// line, the reads used, and their times (`kt`).
+LineFit fit_window(const detail::Usable& u, const detail::WindowChoice& w, const RateOptions& opt, double sd_floor,
+                   RateResult& r, Kept& kept, std::vector<double>& kt) {
   const bool theil_sen = opt.estimator == Estimator::theil_sen;
-  const Kept kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
-  std::vector<double> kt, ky;
+  kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
+  std::vector<double> ky;
   kt.reserve(kept.pos.size());
   ky.reserve(kept.pos.size());
   for (int p : kept.pos) {
@@ -202,73 +191,136 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     ky.push_back(u.y[static_cast<std::size_t>(p)]);
     r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
   }
-  const int nk = static_cast<int>(kt.size());
   // The rule's line is the Theil–Sen estimate when it was fitted to exactly these reads.
-  const LineFit line = theil_sen && kept.line_on_kept ? kept.line : fit_line(opt.estimator, kt.data(), ky.data(), nk);
+  const LineFit line = theil_sen && kept.line_on_kept
+                           ? kept.line
+                           : fit_line(opt.estimator, kt.data(), ky.data(), static_cast<int>(kt.size()));
   r.n_points = w.last - w.first + 1;
   r.n_outliers = kept.outliers;
   if (kept.outliers > 0) add_flag(r, "outliers");
   r.t_start_s = u.t[static_cast<std::size_t>(w.first)];
   r.t_end_s = u.t[static_cast<std::size_t>(w.last)];
-  r.line_slope = line.slope;
-  r.line_slope_se = line.slope_se;
-  r.slope = line.slope;
-  r.slope_se = line.slope_se;
+  r.line_slope = r.slope = line.slope;
+  r.line_slope_se = r.slope_se = line.slope_se;
   r.ci_low = line.ci_low;
   r.ci_high = line.ci_high;
   r.intercept = line.intercept;
   r.r2 = line.r2;
-  // Converted at the window's end: the product formed since reaction start, from the curve
-  // (the fixed windows take the baseline from their own line's first reads).
-  double mid_conversion = NAN;  // converted at the window's middle
-  if (std::isfinite(limit_per_signal)) {
-    double baseline = w.baseline;
-    if (!std::isfinite(baseline)) {
-      std::vector<double> bt, by;
-      for (int i = 0; i < m && static_cast<int>(bt.size()) < opt.min_points; ++i)
-        if (!u.spike[static_cast<std::size_t>(i)]) {
-          bt.push_back(u.t[static_cast<std::size_t>(i)]);
-          by.push_back(u.y[static_cast<std::size_t>(i)]);
-        }
-      const LineFit b = detail::least_squares_line(bt.data(), by.data(), static_cast<int>(bt.size()));
-      baseline = b.intercept + b.slope * t_ref;
-    }
-    r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;
-    // A window after a lag rates the reaction at the substrate the lag left: when more than
-    // half the conversion limit is used at its middle (where a window from the start that
-    // ends at the limit has its middle at most), v0 at the starting substrate is
-    // underestimated by more than the limit allows anywhere else.
-    const double at_start = (line.intercept + line.slope * r.t_start_s - baseline) * tr.conc_per_signal / tr.substrate;
-    mid_conversion = 0.5 * (at_start + r.conversion);
-    if (r.lag_s > 0 && mid_conversion > 0.5 * opt.max_conversion) add_flag(r, "depleted");
-  }
+  return line;
+}
 
-  // Initial tangent of a parabola, for curving wells.
-  if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest) {
-    const detail::TangentFit tf = detail::fit_tangent(u, w, kept.pos, opt, sd_floor, t_ref);
-    r.tangent_slope = tf.slope;
-    r.tangent_se = tf.se;
-    r.tangent_end_s = tf.end_s;
-    // Depletion cannot make the line fall further below v0 than the substrate used allows:
-    // with a fraction f converted by the window's end, v0/line ≤ 1/(1 − f).
-    const double f = std::isfinite(r.conversion) ? std::clamp(r.conversion, 0.0, 0.5) : opt.max_conversion;
-    const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
-    const bool enough = static_cast<int>(tf.pos.size()) >= std::max(5, opt.tangent_min_reads);
-    const bool use =
-        opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible && enough;
-    if (use) {
-      // v0 now rests on the parabola's reads: they are the ones used, and reads it held out
-      // are outliers too.
-      r.tangent = "parabola";
-      for (int p : tf.pos) r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
-      r.n_outliers += tf.rejected;
-      if (tf.rejected > 0) add_flag(r, "outliers");
-      r.slope = tf.slope;
-      r.slope_se = tf.se;
-      r.ci_low = tf.ci_low;
-      r.ci_high = tf.ci_high;
-    }
+// Converted at the window's end: the product formed since reaction start, from the curve
+// (the fixed windows take the baseline from their own line's first reads). Returns the
+// fraction converted at the window's middle. A window after a lag rates the reaction at the
+// substrate the lag left: when more than half the conversion limit is used at its middle
+// (where a window from the start that ends at the limit has its middle at most), v0 at the
+// starting substrate is underestimated by more than the limit allows anywhere else.
+double conversion(const detail::Usable& u, const detail::WindowChoice& w, const LineFit& line, const TraceView& tr,
+                  const RateOptions& opt, double t_ref, RateResult& r) {
+  double baseline = w.baseline;
+  if (!std::isfinite(baseline)) {
+    std::vector<double> bt, by;
+    for (std::size_t i = 0; i < u.t.size() && static_cast<int>(bt.size()) < opt.min_points; ++i)
+      if (!u.spike[i]) {
+        bt.push_back(u.t[i]);
+        by.push_back(u.y[i]);
+      }
+    const LineFit b = detail::least_squares_line(bt.data(), by.data(), static_cast<int>(bt.size()));
+    baseline = b.intercept + b.slope * t_ref;
   }
+  r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;
+  const double at_start = (line.intercept + line.slope * r.t_start_s - baseline) * tr.conc_per_signal / tr.substrate;
+  const double mid = 0.5 * (at_start + r.conversion);
+  if (r.lag_s > 0 && mid > 0.5 * opt.max_conversion) add_flag(r, "depleted");
+  return mid;
+}
+
+// Initial tangent of a parabola, for curving wells: taken when it bends down significantly,
+// rests on enough reads, and lies above the line by no more than depletion allows (with a
+// fraction f converted by the window's end, v0/line ≤ 1/(1 − f)).
+void take_tangent(const detail::Usable& u, const detail::WindowChoice& w, const Kept& kept, const LineFit& line,
+                  const RateOptions& opt, double sd_floor, double t_ref, RateResult& r) {
+  const detail::TangentFit tf = detail::fit_tangent(u, w, kept.pos, opt, sd_floor, t_ref);
+  r.tangent_slope = tf.slope;
+  r.tangent_se = tf.se;
+  r.tangent_end_s = tf.end_s;
+  const double f = std::isfinite(r.conversion) ? std::clamp(r.conversion, 0.0, 0.5) : opt.max_conversion;
+  const bool plausible = tf.slope > line.slope && tf.slope <= line.slope / (1 - f);
+  const bool enough = static_cast<int>(tf.pos.size()) >= std::max(5, opt.tangent_min_reads);
+  const bool use = opt.tangent == TangentMode::always ? std::isfinite(tf.slope) : tf.bends_down && plausible && enough;
+  if (!use) return;
+  // v0 now rests on the parabola's reads: they are the ones used, and reads it held out are
+  // outliers too.
+  r.tangent = "parabola";
+  for (int p : tf.pos) r.used[static_cast<std::size_t>(u.idx[static_cast<std::size_t>(p)])] = 1;
+  r.n_outliers += tf.rejected;
+  if (tf.rejected > 0) add_flag(r, "outliers");
+  r.slope = tf.slope;
+  r.slope_se = tf.se;
+  r.ci_low = tf.ci_low;
+  r.ci_high = tf.ci_high;
+}
+
+// Distinguishable from noise, of which sign, precise enough? The interval stated is the one
+// the data support: each side at least what the read noise alone gives the straight line
+// over the reads used, and the spread of the blanks' own rates (which the subtraction
+// carries into every sample) added in quadrature; its half-width relative to the rate
+// decides `imprecise`. A trace stuck at the detector's maximum says nothing about the rate's
+// size or sign: it is `saturated`, never noise or negative.
+void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double>& kt, bool saturated, RateResult& r) {
+  const int nk = static_cast<int>(kt.size());
+  bool noise_only = !(r.ci_low > 0 || r.ci_high < 0);
+  if (std::isfinite(tr.noise_sd) && opt.lod_factor > 0) {
+    double mt = 0, stt = 0;
+    for (double t : kt) mt += t;
+    mt /= nk;
+    for (double t : kt) stt += (t - mt) * (t - mt);
+    const double drift = std::isfinite(tr.rate_sd) ? tr.rate_sd : 0.0;
+    if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * std::hypot(tr.noise_sd / std::sqrt(stt), drift))
+      noise_only = true;
+  }
+  if (saturated) noise_only = false;
+  if (noise_only) add_flag(r, "noise");
+  if (r.slope < 0 && !saturated) add_flag(r, "negative");
+  if (!saturated) widen_interval(r, tr, kt, nk);
+  if (!noise_only && !saturated && opt.precision_limit > 0) {
+    const double half = 0.5 * (r.ci_high - r.ci_low);
+    if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
+  }
+}
+
+}  // namespace
+
+RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
+  assert(opt.min_points >= 3 && opt.max_conversion > 0 && opt.outlier_k > 0 && opt.tangent_reach >= 1);
+  RateResult r;
+  r.estimator = opt.estimator;
+  r.window = opt.window;
+  r.tangent = "slope";
+  r.lag_s = 0;
+  r.used.assign(static_cast<std::size_t>(std::max(tr.n, 0)), 0);
+  const double t_ref = std::isnan(opt.time_zero_s) ? (tr.n > 0 ? tr.time_s[0] : 0.0) : opt.time_zero_s;
+  detail::Usable u;
+  bool saturated = false;
+  if (!take_usable(tr, opt, r, u, saturated)) return r;
+  r.noise_sd = detail::noise_estimate(u, tr.noise_sd);
+  const double sd_floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : detail::tiny_floor(u);
+  const double limit_per_signal = (std::isfinite(tr.substrate) && tr.substrate > 0 && std::isfinite(tr.conc_per_signal))
+                                      ? opt.max_conversion * tr.substrate / tr.conc_per_signal
+                                      : NAN;  // signal change allowed since time zero
+
+  // A disturbed start is set aside, and what is left of it taken off the reads kept.
+  detail::StartScreen start;
+  if (opt.detect_disturbed && opt.window == WindowMethod::automatic)
+    start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
+  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip);
+  record_window(w, start, u, r);
+  Kept kept;
+  std::vector<double> kt;
+  const LineFit line = fit_window(u, w, opt, sd_floor, r, kept, kt);
+  const double mid_conversion = std::isfinite(limit_per_signal) ? conversion(u, w, line, tr, opt, t_ref, r) : NAN;
+  if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest)
+    take_tangent(u, w, kept, line, opt, sd_floor, t_ref, r);
   // A straight line rates the reaction at the substrate left at its window's middle: with a
   // fraction c converted there, v0 can lie up to line/(1 − c) − line above it (the Michaelis–
   // Menten rate falls no faster than the substrate, v/v0 ≥ 1 − c; the bound is reached far
@@ -278,34 +330,7 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     const double c = std::min(mid_conversion, 0.5);
     r.ci_high = r.slope + std::hypot(r.ci_high - r.slope, r.slope * c / (1 - c));
   }
-
-  // Distinguishable from noise?
-  if (std::isfinite(r.slope)) {
-    bool noise_only = !(r.ci_low > 0 || r.ci_high < 0);
-    if (std::isfinite(tr.noise_sd) && opt.lod_factor > 0) {
-      double mt = 0, stt = 0;
-      for (double t : kt) mt += t;
-      mt /= nk;
-      for (double t : kt) stt += (t - mt) * (t - mt);
-      const double drift = std::isfinite(tr.rate_sd) ? tr.rate_sd : 0.0;
-      if (stt > 0 && std::fabs(r.slope) < opt.lod_factor * std::hypot(tr.noise_sd / std::sqrt(stt), drift))
-        noise_only = true;
-    }
-    // A trace stuck at the detector's maximum says nothing about the rate's size or sign:
-    // it is `saturated`, never noise or negative.
-    if (saturated) noise_only = false;
-    if (noise_only) add_flag(r, "noise");
-    if (r.slope < 0 && !saturated) add_flag(r, "negative");
-    // The interval stated is the one the data support: each side at least what the read
-    // noise alone gives the straight line over the reads used, and the spread of the
-    // blanks' own rates (which the subtraction carries into every sample) added in
-    // quadrature. Precise enough to trust? Its half-width relative to the rate.
-    if (!saturated) widen_interval(r, tr, kt, nk);
-    if (!noise_only && !saturated && opt.precision_limit > 0) {
-      const double half = 0.5 * (r.ci_high - r.ci_low);
-      if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
-    }
-  }
+  if (std::isfinite(r.slope)) judge(tr, opt, kt, saturated, r);
   return r;
 }
 
