@@ -170,193 +170,229 @@ void fit_dose_response(GroupFit& gf, const TableFit& t, FitOptions fit, double e
 
 }  // namespace
 
-TableFit fit_table(const Table& table, const FitTableOptions& options) {
-  if (auto why = options.validate(); !why.empty()) throw UsageError("FitTableOptions: " + why);
-  TableFit out;
-  out.source = table.source;
-  out.weighting = options.weighting;
-  out.group_columns = options.group_columns;
-  const int x_col = table.require_column(options.x_column, "name the substrate concentration column as x");
-  std::string y_name = options.y_column;
-  if (y_name.empty()) y_name = table.column("v0") < 0 && table.column("v0_mean") >= 0 ? "v0_mean" : "v0";
-  const int y_col = table.require_column(y_name, "name the rate column as y");
+namespace {
+
+// The table's columns the options name, resolved once.
+struct Columns {
+  int x = -1, y = -1, inhibitor = -1, enzyme = -1, role = -1, flags = -1, sd = -1;
+  std::vector<int> groups;
+  std::string y_name;
   bool any_inhibition = false, all_dose_response = true;
+};
+
+Columns resolve_columns(const Table& table, const FitTableOptions& options, TableFit& out) {
+  Columns c;
+  c.x = table.require_column(options.x_column, "name the substrate concentration column as x");
+  c.y_name = options.y_column;
+  if (c.y_name.empty()) c.y_name = table.column("v0") < 0 && table.column("v0_mean") >= 0 ? "v0_mean" : "v0";
+  c.y = table.require_column(c.y_name, "name the rate column as y");
   for (const KineticModel* m : options.models) {
-    any_inhibition = any_inhibition || m->needs_inhibitor();
-    all_dose_response = all_dose_response && m->dose_response;
+    c.any_inhibition = c.any_inhibition || m->needs_inhibitor();
+    c.all_dose_response = c.all_dose_response && m->dose_response;
   }
-  const int i_col = options.inhibitor_column.empty()
-                        ? -1
-                        : table.require_column(options.inhibitor_column, "name the inhibitor concentration column");
-  const int e_col = options.enzyme_column.empty()
-                        ? -1
-                        : table.require_column(options.enzyme_column, "name the enzyme concentration column");
-  std::vector<int> g_cols;
-  for (const auto& g : options.group_columns)
-    g_cols.push_back(table.require_column(g, "name an existing group column"));
-  const int role_col = table.column("role"), flags_col = table.column("flags");
-  int sd_col = -1;
+  if (!options.inhibitor_column.empty())
+    c.inhibitor = table.require_column(options.inhibitor_column, "name the inhibitor concentration column");
+  if (!options.enzyme_column.empty())
+    c.enzyme = table.require_column(options.enzyme_column, "name the enzyme concentration column");
+  for (const auto& g : options.group_columns) c.groups.push_back(table.require_column(g, "name an existing group column"));
+  c.role = table.column("role");
+  c.flags = table.column("flags");
   if (options.weighting == Weighting::replicate_sd) {
     if (!options.sd_column.empty()) {
-      sd_col = table.require_column(options.sd_column, "name the standard deviation column");
+      c.sd = table.require_column(options.sd_column, "name the standard deviation column");
       out.sd_column = options.sd_column;
     } else {
-      for (const std::string& c : {stem_of(y_name) + "_sd", y_name + "_sd"}) {
-        if (table.column(c) >= 0) {
-          sd_col = table.column(c);
-          out.sd_column = table.header[static_cast<std::size_t>(sd_col)];
+      for (const std::string& name : {stem_of(c.y_name) + "_sd", c.y_name + "_sd"}) {
+        if (table.column(name) >= 0) {
+          c.sd = table.column(name);
+          out.sd_column = table.header[static_cast<std::size_t>(c.sd)];
           break;
         }
       }
     }
   }
-  out.x_column = table.header[static_cast<std::size_t>(x_col)];
-  out.y_column = table.header[static_cast<std::size_t>(y_col)];
-  if (i_col >= 0) out.inhibitor_column = table.header[static_cast<std::size_t>(i_col)];
-  if (e_col >= 0) out.enzyme_column = table.header[static_cast<std::size_t>(e_col)];
+  out.x_column = table.header[static_cast<std::size_t>(c.x)];
+  out.y_column = table.header[static_cast<std::size_t>(c.y)];
+  if (c.inhibitor >= 0) out.inhibitor_column = table.header[static_cast<std::size_t>(c.inhibitor)];
+  if (c.enzyme >= 0) out.enzyme_column = table.header[static_cast<std::size_t>(c.enzyme)];
+  return c;
+}
 
-  // Rows kept, grouped in first-seen order.
+// Rows kept, grouped in first-seen order.
+struct Groups {
   std::vector<std::vector<std::string>> keys;
   std::vector<std::vector<Row>> points;
   std::vector<std::size_t> used_rows;
   int zero_substrate = 0;  // rows at S = 0 left out under relative weighting
+};
+
+// Row r as a point, or nullopt (counted in `out`) when the options leave it out.
+std::optional<Row> point_of(const Table& table, std::size_t r, const Columns& c, const FitTableOptions& options,
+                            TableFit& out, int& zero_substrate) {
+  const auto& cells = table.rows[r];
+  if (c.role >= 0 && !options.role.empty() && !detail::iequals(cells[static_cast<std::size_t>(c.role)], options.role)) {
+    ++out.rows_other_role;
+    return std::nullopt;
+  }
+  if (c.flags >= 0 && !options.include_flagged && !cells[static_cast<std::size_t>(c.flags)].empty()) {
+    ++out.rows_flagged;
+    return std::nullopt;
+  }
+  Row row;
+  row.line = table.line_of_row[r];
+  auto x = table.number(r, c.x), y = table.number(r, c.y);
+  std::optional<double> inh = c.inhibitor >= 0 ? table.number(r, c.inhibitor) : std::optional<double>(0.0);
+  if (!x || !y || (c.any_inhibition && !inh)) {
+    ++out.rows_missing;
+    return std::nullopt;
+  }
+  auto negative = [&](int col, double value) {
+    throw InputError(Where{table.source, row.line, table.column_of_cell[r][static_cast<std::size_t>(col)]},
+                     fmt::format("expected a concentration >= 0 in column \"{}\", found {}",
+                                 table.header[static_cast<std::size_t>(col)], num(value)),
+                     {"correct the plate map; concentrations cannot be negative"});
+  };
+  if (*x < 0) negative(c.x, *x);
+  if (inh && *inh < 0) negative(c.inhibitor, *inh);
+  if (*x == 0 && options.weighting == Weighting::relative && !c.all_dose_response) {
+    // Every model gives v = 0 at S = 0 whatever its parameters, so such a point only adds
+    // to the residuals; weighted 1/v^2 by a rate near 0 it would swamp them (or, v <= 0,
+    // have no weight at all). Unweighted or weighted by replicate SDs it is kept.
+    ++zero_substrate;
+    return std::nullopt;
+  }
+  row.s = *x;
+  row.v = *y;
+  row.i = inh.value_or(0.0);
+  if (c.sd >= 0) row.sd = table.number(r, c.sd).value_or(NAN);
+  if (c.enzyme >= 0) row.e = table.number(r, c.enzyme).value_or(NAN);
+  return row;
+}
+
+Groups collect_rows(const Table& table, const Columns& c, const FitTableOptions& options, TableFit& out) {
+  Groups gs;
   for (std::size_t r = 0; r < table.rows.size(); ++r) {
     ++out.rows_read;
-    const auto& cells = table.rows[r];
-    if (role_col >= 0 && !options.role.empty() &&
-        !detail::iequals(cells[static_cast<std::size_t>(role_col)], options.role)) {
-      ++out.rows_other_role;
-      continue;
-    }
-    if (flags_col >= 0 && !options.include_flagged && !cells[static_cast<std::size_t>(flags_col)].empty()) {
-      ++out.rows_flagged;
-      continue;
-    }
-    Row row;
-    row.line = table.line_of_row[r];
-    auto x = table.number(r, x_col), y = table.number(r, y_col);
-    std::optional<double> inh = i_col >= 0 ? table.number(r, i_col) : std::optional<double>(0.0);
-    if (!x || !y || (any_inhibition && !inh)) {
-      ++out.rows_missing;
-      continue;
-    }
-    auto negative = [&](int col, double value) {
-      throw InputError(Where{table.source, row.line, table.column_of_cell[r][static_cast<std::size_t>(col)]},
-                       fmt::format("expected a concentration >= 0 in column \"{}\", found {}",
-                                   table.header[static_cast<std::size_t>(col)], num(value)),
-                       {"correct the plate map; concentrations cannot be negative"});
-    };
-    if (*x < 0) negative(x_col, *x);
-    if (inh && *inh < 0) negative(i_col, *inh);
-    if (*x == 0 && options.weighting == Weighting::relative && !all_dose_response) {
-      // Every model gives v = 0 at S = 0 whatever its parameters, so such a point only adds
-      // to the residuals; weighted 1/v^2 by a rate near 0 it would swamp them (or, v <= 0,
-      // have no weight at all). Unweighted or weighted by replicate SDs it is kept.
-      ++zero_substrate;
-      continue;
-    }
-    row.s = *x;
-    row.v = *y;
-    row.i = inh.value_or(0.0);
-    if (sd_col >= 0) row.sd = table.number(r, sd_col).value_or(NAN);
-    if (e_col >= 0) row.e = table.number(r, e_col).value_or(NAN);
+    const std::optional<Row> row = point_of(table, r, c, options, out, gs.zero_substrate);
+    if (!row) continue;
     std::vector<std::string> key;
-    for (int c : g_cols) key.push_back(cells[static_cast<std::size_t>(c)]);
-    auto it = std::find(keys.begin(), keys.end(), key);
-    if (it == keys.end()) {
-      keys.push_back(key);
-      points.emplace_back();
-      it = keys.end() - 1;
+    for (int col : c.groups) key.push_back(table.rows[r][static_cast<std::size_t>(col)]);
+    auto it = std::find(gs.keys.begin(), gs.keys.end(), key);
+    if (it == gs.keys.end()) {
+      gs.keys.push_back(key);
+      gs.points.emplace_back();
+      it = gs.keys.end() - 1;
     }
-    const auto g = static_cast<std::size_t>(it - keys.begin());
-    points[g].push_back(row);
-    used_rows.push_back(r);
+    gs.points[static_cast<std::size_t>(it - gs.keys.begin())].push_back(*row);
+    gs.used_rows.push_back(r);
     ++out.rows_used;
   }
+  return gs;
+}
+
+void add_row_notes(const FitTableOptions& options, const Columns& c, int zero_substrate, TableFit& out) {
   if (out.rows_other_role > 0)
     out.notes.push_back(fmt::format("skipped {} rows whose role is not {}", out.rows_other_role, options.role));
   if (out.rows_flagged > 0)
     out.notes.push_back(fmt::format("skipped {} flagged rows (a non-empty flags cell)", out.rows_flagged));
   if (out.rows_missing > 0)
     out.notes.push_back(fmt::format("skipped {} rows with an empty {}, {}{} cell", out.rows_missing, out.x_column,
-                                    out.y_column, any_inhibition ? " or " + out.inhibitor_column : ""));
+                                    out.y_column, c.any_inhibition ? " or " + out.inhibitor_column : ""));
   if (zero_substrate > 0)
     out.notes.push_back(
         fmt::format("skipped {} rows with {} = 0 (no-substrate controls): every model gives v = 0 "
                     "there, and relative weighting (1/v^2) has no weight for them",
                     zero_substrate, out.x_column));
+}
 
-  const int v_unit_col =
-      std::max({table.column(y_name + "_unit"), table.column(stem_of(y_name) + "_unit"), table.column("v0_unit")});
-  out.v_unit = unique_text(table, v_unit_col, used_rows);
-  out.x_unit = column_unit(table, out.x_column, used_rows, options.column_units);
-  out.inhibitor_unit = column_unit(table, out.inhibitor_column, used_rows, options.column_units);
-  out.enzyme_unit = column_unit(table, out.enzyme_column, used_rows, options.column_units);
-  if (keys.empty()) {
-    // Nothing survived the filters: still one failed fit per model, so the output says why.
-    keys.emplace_back(g_cols.size(), std::string());
-    points.emplace_back();
+// The group's one enzyme level, or NaN and why kcat cannot be computed.
+double group_enzyme(const std::vector<Row>& points, const TableFit& out, std::string& problem) {
+  std::vector<double> levels;
+  for (const Row& row : points)
+    if (std::isfinite(row.e) && std::find(levels.begin(), levels.end(), row.e) == levels.end()) levels.push_back(row.e);
+  if (levels.size() == 1 && levels[0] > 0) return levels[0];
+  if (levels.size() > 1)
+    problem = fmt::format("{} differs within the group ({} values); kcat not computed: group by {}",
+                          out.enzyme_column, levels.size(), out.enzyme_column);
+  else
+    problem = fmt::format("{} is empty or not > 0 in this group; kcat not computed", out.enzyme_column);
+  return NAN;
+}
+
+// One model fitted to one group's points, with its units and derived constants.
+GroupFit fit_group_model(const KineticModel& m, const std::vector<std::string>& key, const std::vector<Row>& points,
+                         const std::vector<double>& w, const std::string& weight_problem, double enzyme,
+                         const std::string& enzyme_problem, bool with_enzyme, const FitOptions& fit, TableFit& out) {
+  GroupFit gf;
+  gf.group_values = key;
+  gf.model = &m;
+  gf.enzyme_conc = enzyme;
+  for (const Row& row : points) {
+    gf.s.push_back(row.s);
+    gf.v.push_back(row.v);
+    gf.lines.push_back(row.line);
+    if (m.needs_inhibitor()) gf.inhibitor.push_back(row.i);
   }
+  gf.weights = w;
+  if (!weight_problem.empty()) {
+    gf.result.model = &m;
+    gf.result.n = static_cast<int>(gf.v.size());
+    gf.result.message = weight_problem;
+  } else if (m.needs_inhibitor()) {
+    gf.result = fit_inhibition(gf.s, gf.inhibitor, gf.v, gf.weights, m, fit);
+  } else if (m.dose_response) {
+    fit_dose_response(gf, out, fit, enzyme, enzyme_problem);
+  } else {
+    gf.result = fit_model(gf.s, gf.v, gf.weights, m, fit);
+  }
+  for (const auto& p : m.parameters) gf.units.push_back(unit_for(p.unit_role, out));
+  if (gf.result.ok && m.dose_response) {
+    std::string why;
+    gf.derived = detail::p_ic50(gf.result, out.x_unit, why);
+    if (!gf.derived.empty()) gf.units.push_back("log10(1/M)");
+    if (!why.empty()) gf.result.warnings.push_back(why);
+  } else if (gf.result.ok && with_enzyme) {
+    if (enzyme_problem.empty()) {
+      gf.derived = turnover(gf.result, enzyme);
+      gf.units.push_back(per(out.v_unit, out.enzyme_unit));
+      gf.units.push_back(per(per(out.v_unit, out.enzyme_unit), out.x_unit));
+    } else {
+      gf.result.warnings.push_back(enzyme_problem);
+    }
+  }
+  return gf;
+}
 
-  for (std::size_t g = 0; g < keys.size(); ++g) {
+}  // namespace
+
+TableFit fit_table(const Table& table, const FitTableOptions& options) {
+  if (auto why = options.validate(); !why.empty()) throw UsageError("FitTableOptions: " + why);
+  TableFit out;
+  out.source = table.source;
+  out.weighting = options.weighting;
+  out.group_columns = options.group_columns;
+  const Columns c = resolve_columns(table, options, out);
+  Groups gs = collect_rows(table, c, options, out);
+  add_row_notes(options, c, gs.zero_substrate, out);
+  const int v_unit_col =
+      std::max({table.column(c.y_name + "_unit"), table.column(stem_of(c.y_name) + "_unit"), table.column("v0_unit")});
+  out.v_unit = unique_text(table, v_unit_col, gs.used_rows);
+  out.x_unit = column_unit(table, out.x_column, gs.used_rows, options.column_units);
+  out.inhibitor_unit = column_unit(table, out.inhibitor_column, gs.used_rows, options.column_units);
+  out.enzyme_unit = column_unit(table, out.enzyme_column, gs.used_rows, options.column_units);
+  if (gs.keys.empty()) {
+    // Nothing survived the filters: still one failed fit per model, so the output says why.
+    gs.keys.emplace_back(c.groups.size(), std::string());
+    gs.points.emplace_back();
+  }
+  for (std::size_t g = 0; g < gs.keys.size(); ++g) {
     std::vector<double> w;
-    const std::string weight_problem = group_weights(points[g], options.weighting, sd_col >= 0, out.sd_column, w);
-    double enzyme = NAN;
+    const std::string weight_problem = group_weights(gs.points[g], options.weighting, c.sd >= 0, out.sd_column, w);
     std::string enzyme_problem;
-    if (e_col >= 0) {
-      std::vector<double> levels;
-      for (const Row& row : points[g])
-        if (std::isfinite(row.e) && std::find(levels.begin(), levels.end(), row.e) == levels.end())
-          levels.push_back(row.e);
-      if (levels.size() == 1 && levels[0] > 0)
-        enzyme = levels[0];
-      else if (levels.size() > 1)
-        enzyme_problem = fmt::format("{} differs within the group ({} values); kcat not computed: group by {}",
-                                     out.enzyme_column, levels.size(), out.enzyme_column);
-      else
-        enzyme_problem = fmt::format("{} is empty or not > 0 in this group; kcat not computed", out.enzyme_column);
-    }
-    for (const KineticModel* model : options.models) {
-      const KineticModel& m = *model;
-      GroupFit gf;
-      gf.group_values = keys[g];
-      gf.model = &m;
-      gf.enzyme_conc = enzyme;
-      for (const Row& row : points[g]) {
-        gf.s.push_back(row.s);
-        gf.v.push_back(row.v);
-        gf.lines.push_back(row.line);
-        if (m.needs_inhibitor()) gf.inhibitor.push_back(row.i);
-      }
-      gf.weights = w;
-      if (!weight_problem.empty()) {
-        gf.result.model = &m;
-        gf.result.n = static_cast<int>(gf.v.size());
-        gf.result.message = weight_problem;
-      } else if (m.needs_inhibitor()) {
-        gf.result = fit_inhibition(gf.s, gf.inhibitor, gf.v, gf.weights, m, options.fit);
-      } else if (m.dose_response) {
-        fit_dose_response(gf, out, options.fit, enzyme, enzyme_problem);
-      } else {
-        gf.result = fit_model(gf.s, gf.v, gf.weights, m, options.fit);
-      }
-      for (const auto& p : m.parameters) gf.units.push_back(unit_for(p.unit_role, out));
-      if (gf.result.ok && m.dose_response) {
-        std::string why;
-        gf.derived = detail::p_ic50(gf.result, out.x_unit, why);
-        if (!gf.derived.empty()) gf.units.push_back("log10(1/M)");
-        if (!why.empty()) gf.result.warnings.push_back(why);
-      } else if (gf.result.ok && e_col >= 0) {
-        if (enzyme_problem.empty()) {
-          gf.derived = turnover(gf.result, enzyme);
-          gf.units.push_back(per(out.v_unit, out.enzyme_unit));
-          gf.units.push_back(per(per(out.v_unit, out.enzyme_unit), out.x_unit));
-        } else {
-          gf.result.warnings.push_back(enzyme_problem);
-        }
-      }
-      out.fits.push_back(std::move(gf));
-    }
+    const double enzyme = c.enzyme >= 0 ? group_enzyme(gs.points[g], out, enzyme_problem) : NAN;
+    for (const KineticModel* model : options.models)
+      out.fits.push_back(fit_group_model(*model, gs.keys[g], gs.points[g], w, weight_problem, enzyme, enzyme_problem,
+                                         c.enzyme >= 0, options.fit, out));
   }
   return out;
 }
