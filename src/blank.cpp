@@ -220,7 +220,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     }
     if (o.strategy == BlankStrategy::none) continue;
     std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), all_blanks);
-    bool needs_blank = info && (info->role == Role::sample || info->role == Role::standard);
+    bool needs_blank = info && (rated_as_sample(info->role) || info->role == Role::standard);
     if (use.empty()) {
       if (needs_blank) wb.flags.emplace_back("blank-missing");
       continue;
