@@ -162,3 +162,33 @@ TEST_CASE("--plate-quality without both controls in the map is refused") {
                    "no-activity well") != std::string::npos);
   CHECK(r.err.find("role no-activity") != std::string::npos);
 }
+
+TEST_CASE("vzero merge concatenates the parts' plate-quality tables into the one run's") {
+  TempDir dir;
+  const std::map<std::string, std::string> roles{{"A1", "full-activity"}, {"B1", "full-activity"},
+                                                 {"A2", "no-activity"},   {"B2", "no-activity"},
+                                                 {"A3", "sample"}};
+  spit(dir / "p.csv", wide_export({{"A1", 10}, {"B1", 11}, {"A2", 1}, {"B2", 1.5}, {"A3", 4}}));
+  spit(dir / "q.csv", wide_export({{"A1", 10}, {"B1", 30}, {"A2", 1}, {"B2", 1.5}, {"A3", 4}}));
+  spit(dir / "map.csv", plate_map(roles));
+  const auto run = [&](const std::string& files, const std::string& out) {
+    std::filesystem::create_directories(dir.path / out);
+    return run_vzero("rates " + files + " --layout map.csv --signal-only --blank none -q -o " + out +
+                         "/rates.csv --plate-quality " + out + "/pq.csv",
+                     dir.path.string());
+  };
+  REQUIRE(run("p.csv q.csv", "one").status == 0);
+  REQUIRE(run("p.csv", "p1").status == 0);
+  REQUIRE(run("q.csv", "p2").status == 0);
+  auto merged = run_vzero("merge p1 p2 -o all", dir.path.string());
+  INFO(merged.describe());
+  REQUIRE(merged.status == 0);
+  for (const char* f : {"rates.csv", "pq.csv", "datapackage.json"}) {
+    INFO(f);
+    CHECK(slurp(dir / (std::string("one/") + f)) == slurp(dir / (std::string("all/") + f)));
+  }
+  // q's full-activity wells (10, 30) scatter: Z′ = 1 − 3(√200 + √0.125)/18.75 < 0.5.
+  const auto verdict = column_by(slurp(dir / "all/pq.csv"), "source", "quality");
+  CHECK(verdict.at("p.csv") == "pass");  // 1 − 3(√0.5 + √0.125)/9.25 ≈ 0.656
+  CHECK(verdict.at("q.csv") == "below-threshold");
+}
