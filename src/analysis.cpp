@@ -46,9 +46,14 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
         else if (f == "too-few-reads" || f == "ceiling" || f == "saturated")
           add(flags, f);
         break;
+      case Role::no_activity:
+        // The fully inhibited or no-enzyme control's rate is expected near zero: a rate
+        // imprecise relative to itself, below the noise or just below zero is its normal
+        // result, not a reason to distrust it (its scatter enters Z′ through sd_no).
+        add(note || f == "imprecise" || f == "noise" || f == "negative" ? notes : flags, f);
+        break;
       case Role::sample:
       case Role::full_activity:
-      case Role::no_activity:
         add(note ? notes : flags, f);
         break;
     }

@@ -192,3 +192,26 @@ TEST_CASE("vzero merge concatenates the parts' plate-quality tables into the one
   CHECK(verdict.at("p.csv") == "pass");  // 1 − 3(√0.5 + √0.125)/9.25 ≈ 0.656
   CHECK(verdict.at("q.csv") == "below-threshold");
 }
+
+TEST_CASE("the invented screening demo plate: quality passes and the planted inhibitors are the hits") {
+  // demo-data/make_screen_demo.py plants B4, C7, E3, F9, G5 at 10, 25, 45, 60, 80 % activity
+  // (its invented truth); at 50 % inhibition the hits are B4, C7 and E3.
+  TempDir dir;
+  auto r = run_vzero("rates '" + source("demo-data/screen_wide.csv") + "' --layout '" +
+                         source("demo-data/screen_map.csv") +
+                         "' --signal-only --blank none -q -o rates.csv --plate-quality pq.csv --hit-threshold 50",
+                     dir.path.string());
+  INFO(r.describe());
+  REQUIRE(r.status == 0);
+  const auto quality = column_by(slurp(dir / "pq.csv"), "channel", "quality");
+  CHECK(quality.at("signal") == "pass");
+  const auto hit = column_by(slurp(dir / "rates.csv"), "well", "hit");
+  std::vector<std::string> hits;
+  for (const auto& [well, h] : hit)
+    if (h == "yes") hits.push_back(well);
+  CHECK(hits == std::vector<std::string>{"B4", "C7", "E3"});
+  // Each planted inhibitor's activity within 5 points of its truth (4 % rate scatter).
+  const auto activity = column_by(slurp(dir / "rates.csv"), "well", "activity_pct");
+  for (const auto& [well, truth] : std::map<std::string, double>{{"B4", 10}, {"C7", 25}, {"E3", 45}, {"F9", 60}, {"G5", 80}})
+    CHECK_MESSAGE(std::fabs(number_of(activity.at(well)) - truth) < 5, well);
+}
