@@ -252,11 +252,12 @@ Outputs plan_outputs(const std::vector<RunPackage>& runs, const std::string& out
   for (const auto& r : runs.front().pkg["resources"]) {
     const std::string name = r.value("name", "");
     if (name != "rates" && name != "traces" && name != "summary" && name != "plate-quality")
-      throw InputError(where_in(runs.front(), "\"name\": \"" + name + "\""),
-                       fmt::format("expected the tables rates, traces, summary and plate-quality, found \"{}\" (written by another "
-                                   "vzero?)",
-                                   name),
-                       {"merge with the vzero that wrote the runs"});
+      throw InputError(
+          where_in(runs.front(), "\"name\": \"" + name + "\""),
+          fmt::format("expected the tables rates, traces, summary and plate-quality, found \"{}\" (written by another "
+                      "vzero?)",
+                      name),
+          {"merge with the vzero that wrote the runs"});
     out.names.push_back(name);
     out.paths.push_back((fs::path(output_dir) / r.value("path", "")).string());
     outputs.push_back({"the merged " + name, out.paths.back()});

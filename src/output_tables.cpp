@@ -30,9 +30,7 @@ void write_well(CsvOut& o, WellId w) {
 using Rate = const RateRowRef&;
 
 // A sample's or control's activity relative to its plate's controls (NaN otherwise).
-double activity_pct(Rate x) {
-  return rated_as_sample(x.row.role) ? x.channel.controls.activity_pct(x.row.v0) : NAN;
-}
+double activity_pct(Rate x) { return rated_as_sample(x.row.role) ? x.channel.controls.activity_pct(x.row.v0) : NAN; }
 
 constexpr RateEntry k_rate_columns[] = {
     {"source", text, "", "export file the well was read from",
@@ -227,41 +225,58 @@ constexpr SummaryEntry k_summary_columns[] = {
 using Quality = const QualityRowRef&;
 
 // The control a two-column entry's cell is of: arg 0 full-activity, 1 no-activity.
-const ControlStats& control(Quality x, std::size_t i) { return i == 0 ? x.channel.controls.full : x.channel.controls.none; }
+const ControlStats& control(Quality x, std::size_t i) {
+  return i == 0 ? x.channel.controls.full : x.channel.controls.none;
+}
 
 // An entry giving one statistic of both controls: columns NAME_full and NAME_no (`names`).
 constexpr QualityEntry both(FieldType type, std::string_view unit, std::string_view description,
-                            CellWriter<QualityRowRef> write, const std::vector<std::string>& (*names)(const NoContext&)) {
+                            CellWriter<QualityRowRef> write,
+                            const std::vector<std::string>& (*names)(const NoContext&)) {
   return {.name = "", .type = type, .unit = unit, .description = description, .write = write, .each = names};
 }
 
-#define VZERO_BOTH(A, B) [](const NoContext&) -> const std::vector<std::string>& { static const std::vector<std::string> v{A, B}; return v; }
+#define VZERO_BOTH(A, B)                                    \
+  [](const NoContext&) -> const std::vector<std::string>& { \
+    static const std::vector<std::string> v{A, B};          \
+    return v;                                               \
+  }
 
 constexpr QualityEntry k_quality_columns[] = {
-    {"source", text, "", "export file (the plate)", [](CsvOut& o, Quality x, std::size_t) { o.field(x.run.run->source); }},
+    {"source", text, "", "export file (the plate)",
+     [](CsvOut& o, Quality x, std::size_t) { o.field(x.run.run->source); }},
     {"channel", text, "", "channel", [](CsvOut& o, Quality x, std::size_t) { o.field(x.channel.channel->name); }},
-    {"v0_unit", text, "", "unit of the controls' v0", [](CsvOut& o, Quality x, std::size_t) { o.field(x.channel.v0_unit); }},
-    both(integer, "", "unflagged control wells used (full-activity, no-activity)",
-         [](CsvOut& o, Quality x, std::size_t i) { o.integer(control(x, i).n); }, VZERO_BOTH("n_full", "n_no")),
-    both(integer, "", "control wells left out: flagged or without a rate",
-         [](CsvOut& o, Quality x, std::size_t i) { o.integer(control(x, i).n_flagged); },
-         VZERO_BOTH("n_full_left_out", "n_no_left_out")),
-    both(number, "", "mean v0 of the control's unflagged wells, unit in v0_unit",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).mean); }, VZERO_BOTH("mean_full", "mean_no")),
-    both(number, "", "sample standard deviation (n − 1) of the control's v0",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).sd); }, VZERO_BOTH("sd_full", "sd_no")),
-    both(number, "%", "coefficient of variation of the control, 100·sd/|mean|",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).cv_pct); },
-         VZERO_BOTH("cv_full_pct", "cv_no_pct")),
-    both(number, "", "robust: median v0 of the control",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).median); },
-         VZERO_BOTH("median_full", "median_no")),
-    both(number, "", "robust: 1.4826 × the median absolute deviation of the control's v0",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).robust_sd); },
-         VZERO_BOTH("robust_sd_full", "robust_sd_no")),
-    both(number, "%", "robust: 100·robust_sd/|median|",
-         [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).robust_cv_pct); },
-         VZERO_BOTH("robust_cv_full_pct", "robust_cv_no_pct")),
+    {"v0_unit", text, "", "unit of the controls' v0",
+     [](CsvOut& o, Quality x, std::size_t) { o.field(x.channel.v0_unit); }},
+    both(
+        integer, "", "unflagged control wells used (full-activity, no-activity)",
+        [](CsvOut& o, Quality x, std::size_t i) { o.integer(control(x, i).n); }, VZERO_BOTH("n_full", "n_no")),
+    both(
+        integer, "", "control wells left out: flagged or without a rate",
+        [](CsvOut& o, Quality x, std::size_t i) { o.integer(control(x, i).n_flagged); },
+        VZERO_BOTH("n_full_left_out", "n_no_left_out")),
+    both(
+        number, "", "mean v0 of the control's unflagged wells, unit in v0_unit",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).mean); }, VZERO_BOTH("mean_full", "mean_no")),
+    both(
+        number, "", "sample standard deviation (n − 1) of the control's v0",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).sd); }, VZERO_BOTH("sd_full", "sd_no")),
+    both(
+        number, "%", "coefficient of variation of the control, 100·sd/|mean|",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).cv_pct); },
+        VZERO_BOTH("cv_full_pct", "cv_no_pct")),
+    both(
+        number, "", "robust: median v0 of the control",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).median); },
+        VZERO_BOTH("median_full", "median_no")),
+    both(
+        number, "", "robust: 1.4826 × the median absolute deviation of the control's v0",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).robust_sd); },
+        VZERO_BOTH("robust_sd_full", "robust_sd_no")),
+    both(
+        number, "%", "robust: 100·robust_sd/|median|",
+        [](CsvOut& o, Quality x, std::size_t i) { o.number(control(x, i).robust_cv_pct); },
+        VZERO_BOTH("robust_cv_full_pct", "robust_cv_no_pct")),
     {"z_prime", number, "", "Z' = 1 − 3(sd_full + sd_no)/|mean_full − mean_no| (Zhang, Chung & Oldenburg 1999)",
      [](CsvOut& o, Quality x, std::size_t) { o.number(x.quality.z_prime); }},
     {"signal_window", number, "", "(|mean_full − mean_no| − 3(sd_full + sd_no))/sd_full (Iversen et al. 2006)",

@@ -40,7 +40,8 @@ std::string_view to_string(Role r) {
 std::string role_word_list() {
   std::string out;
   const std::size_t n = std::size(k_roles);
-  for (std::size_t i = 0; i < n; ++i) out += std::string(i ? (i + 1 == n ? " or " : ", ") : "") + std::string(k_roles[i].word);
+  for (std::size_t i = 0; i < n; ++i)
+    out += std::string(i ? (i + 1 == n ? " or " : ", ") : "") + std::string(k_roles[i].word);
   return out;
 }
 

@@ -124,11 +124,15 @@ ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
     full |= info.role == Role::full_activity;
     none |= info.role == Role::no_activity;
   }
-  const char* asked = !s.plate_quality.empty() ? "--plate-quality" : !std::isnan(s.screen.hit_threshold_pct) ? "--hit-threshold" : nullptr;
+  const char* asked = !s.plate_quality.empty()                  ? "--plate-quality"
+                      : !std::isnan(s.screen.hit_threshold_pct) ? "--hit-threshold"
+                                                                : nullptr;
   if (asked && !(full && none))
     throw InputError(Where{map.source, map.header_line},
                      fmt::format("{} needs control wells of both kinds in the plate map, but it has {}", asked,
-                                 full ? "no no-activity well" : none ? "no full-activity well" : "neither"),
+                                 full   ? "no no-activity well"
+                                 : none ? "no full-activity well"
+                                        : "neither"),
                      {"give the uninhibited control wells the role full-activity and the fully inhibited (or "
                       "no-enzyme) control wells the role no-activity",
                       "or leave out " + std::string(asked)});
@@ -293,8 +297,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.keep_data = !s.enzymeml.empty();
   std::optional<RunReport> report;
   if (!s.report.empty()) report.emplace(out.map.columns);
-  FileConsumer ready{sink,          out.map.columns, with_activity, with_specific, screen, batch.trace_rows,
-                     report ? &*report : nullptr};
+  FileConsumer ready{
+      sink, out.map.columns, with_activity, with_specific, screen, batch.trace_rows, report ? &*report : nullptr};
   out.files = analyse_files(s.files, out.map, batch, progress, std::ref(ready));
   if (ready.error) std::rethrow_exception(ready.error);
 

@@ -6,8 +6,8 @@
 // (common practice).
 #include "vzero/plate_quality.hpp"
 
-#include <cmath>
 #include <fmt/format.h>
+#include <cmath>
 #include <map>
 #include <string>
 #include <vector>
@@ -42,7 +42,8 @@ std::string plate_map(const std::map<std::string, std::string>& roles) {
 // Column `name` of a CSV's rows, keyed by the value of column `key`.
 std::map<std::string, std::string> column_by(const std::string& csv, const std::string& key, const std::string& name) {
   const Table t = parse_table("t.csv", csv);
-  const auto k = static_cast<std::size_t>(t.require_column(key, "")), c = static_cast<std::size_t>(t.require_column(name, ""));
+  const auto k = static_cast<std::size_t>(t.require_column(key, "")),
+             c = static_cast<std::size_t>(t.require_column(name, ""));
   std::map<std::string, std::string> out;
   for (const auto& row : t.rows) out[row[k]] = row[c];
   return out;
@@ -81,7 +82,7 @@ TEST_CASE("control statistics and Z' as worked by hand") {
 
 TEST_CASE("a well halfway between the controls has 50 % activity exactly") {
   PlateControls pc;
-  pc.full = control_stats({2, 3, 4});     // mean 3
+  pc.full = control_stats({2, 3, 4});      // mean 3
   pc.none = control_stats({0.5, 1, 1.5});  // mean 1
   CHECK(pc.activity_pct(2) == 50);         // 100·(2 − 1)/(3 − 1), exact in binary
   CHECK(pc.activity_pct(3) == 100);
@@ -94,12 +95,11 @@ TEST_CASE("vzero rates: the plate-quality table, % activity and hits on construc
   TempDir dir;
   // Good plate: controls as in the first test case; a bad plate: its full-activity column
   // scatters (10, 4, 16, 10 → sd √24 ≈ 4.9), Z′ = 1 − 3(√24 + 0.25√(2/3))/9 < 0.
-  const std::map<std::string, std::string> roles{{"A1", "full-activity"}, {"B1", "full-activity"},
-                                                 {"C1", "full-activity"}, {"D1", "full-activity"},
-                                                 {"A2", "no-activity"},   {"B2", "no-activity"},
-                                                 {"C2", "no-activity"},   {"D2", "no-activity"},
-                                                 {"A3", "sample"},        {"B3", "sample"}};
-  std::map<std::string, double> good{{"A1", 10}, {"B1", 11}, {"C1", 9},   {"D1", 10}, {"A2", 1},
+  const std::map<std::string, std::string> roles{
+      {"A1", "full-activity"}, {"B1", "full-activity"}, {"C1", "full-activity"}, {"D1", "full-activity"},
+      {"A2", "no-activity"},   {"B2", "no-activity"},   {"C2", "no-activity"},   {"D2", "no-activity"},
+      {"A3", "sample"},        {"B3", "sample"}};
+  std::map<std::string, double> good{{"A1", 10},   {"B1", 11},   {"C1", 9}, {"D1", 10},  {"A2", 1},
                                      {"B2", 1.25}, {"C2", 0.75}, {"D2", 1}, {"A3", 5.5}, {"B3", 9.1}};
   std::map<std::string, double> bad = good;
   bad["B1"] = 4;
@@ -107,9 +107,10 @@ TEST_CASE("vzero rates: the plate-quality table, % activity and hits on construc
   spit(dir / "good.csv", wide_export(good));
   spit(dir / "bad.csv", wide_export(bad));
   spit(dir / "map.csv", plate_map(roles));
-  auto r = run_vzero("rates good.csv bad.csv --layout map.csv --signal-only --blank none -o rates.csv "
-                     "--plate-quality pq.csv --hit-threshold 50",
-                     dir.path.string());
+  auto r = run_vzero(
+      "rates good.csv bad.csv --layout map.csv --signal-only --blank none -o rates.csv "
+      "--plate-quality pq.csv --hit-threshold 50",
+      dir.path.string());
   INFO(r.describe());
   REQUIRE(r.status == 0);
   const std::string pq = slurp(dir / "pq.csv");
@@ -154,8 +155,8 @@ TEST_CASE("--plate-quality without both controls in the map is refused") {
   TempDir dir;
   spit(dir / "p.csv", wide_export({{"A1", 1}, {"A2", 2}}));
   spit(dir / "map.csv", plate_map({{"A1", "full-activity"}, {"A2", "sample"}}));
-  auto r = run_vzero("rates p.csv --layout map.csv --signal-only -o rates.csv --plate-quality pq.csv",
-                     dir.path.string());
+  auto r =
+      run_vzero("rates p.csv --layout map.csv --signal-only -o rates.csv --plate-quality pq.csv", dir.path.string());
   INFO(r.describe());
   CHECK(r.status == 1);
   CHECK(r.err.find("map.csv:1: --plate-quality needs control wells of both kinds in the plate map, but it has no "
@@ -165,9 +166,8 @@ TEST_CASE("--plate-quality without both controls in the map is refused") {
 
 TEST_CASE("vzero merge concatenates the parts' plate-quality tables into the one run's") {
   TempDir dir;
-  const std::map<std::string, std::string> roles{{"A1", "full-activity"}, {"B1", "full-activity"},
-                                                 {"A2", "no-activity"},   {"B2", "no-activity"},
-                                                 {"A3", "sample"}};
+  const std::map<std::string, std::string> roles{
+      {"A1", "full-activity"}, {"B1", "full-activity"}, {"A2", "no-activity"}, {"B2", "no-activity"}, {"A3", "sample"}};
   spit(dir / "p.csv", wide_export({{"A1", 10}, {"B1", 11}, {"A2", 1}, {"B2", 1.5}, {"A3", 4}}));
   spit(dir / "q.csv", wide_export({{"A1", 10}, {"B1", 30}, {"A2", 1}, {"B2", 1.5}, {"A3", 4}}));
   spit(dir / "map.csv", plate_map(roles));
@@ -197,10 +197,10 @@ TEST_CASE("the invented screening demo plate: quality passes and the planted inh
   // demo-data/make_screen_demo.py plants B4, C7, E3, F9, G5 at 10, 25, 45, 60, 80 % activity
   // (its invented truth); at 50 % inhibition the hits are B4, C7 and E3.
   TempDir dir;
-  auto r = run_vzero("rates '" + source("demo-data/screen_wide.csv") + "' --layout '" +
-                         source("demo-data/screen_map.csv") +
-                         "' --signal-only --blank none -q -o rates.csv --plate-quality pq.csv --hit-threshold 50",
-                     dir.path.string());
+  auto r =
+      run_vzero("rates '" + source("demo-data/screen_wide.csv") + "' --layout '" + source("demo-data/screen_map.csv") +
+                    "' --signal-only --blank none -q -o rates.csv --plate-quality pq.csv --hit-threshold 50",
+                dir.path.string());
   INFO(r.describe());
   REQUIRE(r.status == 0);
   const auto quality = column_by(slurp(dir / "pq.csv"), "channel", "quality");
@@ -212,6 +212,7 @@ TEST_CASE("the invented screening demo plate: quality passes and the planted inh
   CHECK(hits == std::vector<std::string>{"B4", "C7", "E3"});
   // Each planted inhibitor's activity within 5 points of its truth (4 % rate scatter).
   const auto activity = column_by(slurp(dir / "rates.csv"), "well", "activity_pct");
-  for (const auto& [well, truth] : std::map<std::string, double>{{"B4", 10}, {"C7", 25}, {"E3", 45}, {"F9", 60}, {"G5", 80}})
+  for (const auto& [well, truth] :
+       std::map<std::string, double>{{"B4", 10}, {"C7", 25}, {"E3", 45}, {"F9", 60}, {"G5", 80}})
     CHECK_MESSAGE(std::fabs(number_of(activity.at(well)) - truth) < 5, well);
 }

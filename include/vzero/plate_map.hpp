@@ -1,7 +1,7 @@
 // The plate map: what each well holds. One row per well with `well` and `role` (sample |
-// blank | standard | empty | full-activity | no-activity, see role_table()); `substrate` (initial substrate concentration), `standard_conc`
-// (a standard's known concentration) and `match` (blanks and samples sharing it pair up)
-// are understood; every other column passes through to every output, in file order.
+// blank | standard | empty | full-activity | no-activity, see role_table()); `substrate` (initial substrate
+// concentration), `standard_conc` (a standard's known concentration) and `match` (blanks and samples sharing it pair
+// up) are understood; every other column passes through to every output, in file order.
 //
 // Two forms are read: the tidy table above, or the plate-grid form scientists draw in a
 // spreadsheet — per variable a line naming it, a header of column numbers, and one line

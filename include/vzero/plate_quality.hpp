@@ -25,8 +25,8 @@ namespace vzero {
 
 // What the screening options ask for (`vzero rates --plate-quality/--min-z-prime/--hit-threshold`).
 struct ScreenOptions {
-  double min_z_prime = 0.5;          // common practice: an assay with Z′ ≥ 0.5 is fit for screening
-  double hit_threshold_pct = NAN;    // % inhibition at or above which a sample is a hit (NaN = no calls)
+  double min_z_prime = 0.5;        // common practice: an assay with Z′ ≥ 0.5 is fit for screening
+  double hit_threshold_pct = NAN;  // % inhibition at or above which a sample is a hit (NaN = no calls)
 };
 
 // The screening columns of rates.csv: `normalised` (the plate map has both control roles)
@@ -40,9 +40,9 @@ struct ScreenColumns {
 
 // One control's unflagged rates.
 struct ControlStats {
-  int n = 0;           // rates used
-  int n_flagged = 0;   // control wells left out because flagged or without a rate
-  double mean = NAN, sd = NAN, cv_pct = NAN;        // sd with n − 1; NaN below 2 rates
+  int n = 0;                                  // rates used
+  int n_flagged = 0;                          // control wells left out because flagged or without a rate
+  double mean = NAN, sd = NAN, cv_pct = NAN;  // sd with n − 1; NaN below 2 rates
   double median = NAN, robust_sd = NAN, robust_cv_pct = NAN;  // robust_sd = 1.4826·MAD
 };
 

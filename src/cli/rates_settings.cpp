@@ -179,7 +179,8 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
       }
   Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty", runs.size(),
                         runs.size() == 1 ? "" : "s", wells, samples, blanks, standards, empty);
-  if (controls) out += fmt::format(", {} control (full-activity, no-activity; plate quality: --plate-quality)", controls);
+  if (controls)
+    out += fmt::format(", {} control (full-activity, no-activity; plate quality: --plate-quality)", controls);
   out += "\n";
   out += fmt::format("{} sample well{} flagged", flagged, flagged == 1 ? "" : "s");
   if (flagged) out += " (a well may have several reasons; meanings: vzero rates --help):\n  " + counts_line(by_flag, 2);
