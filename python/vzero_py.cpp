@@ -42,6 +42,7 @@ py::dict rates_text(const std::vector<std::string>& files, const Options& option
   py::dict tables;
   for (const auto& [name, text] : sink.text()) tables[py::str(name)] = py::bytes(text);
   if (!resolved.settings.summary.empty()) tables["summary"] = py::bytes(out.summary_csv);
+  if (!resolved.settings.plate_quality.empty()) tables["plate-quality"] = py::bytes(out.plate_quality_csv);
   py::dict result;
   result["tables"] = tables;
   result["datapackage"] = out.datapackage_json;

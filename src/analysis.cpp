@@ -46,7 +46,14 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
         else if (f == "too-few-reads" || f == "ceiling" || f == "saturated")
           add(flags, f);
         break;
+      case Role::no_activity:
+        // The fully inhibited or no-enzyme control's rate is expected near zero: a rate
+        // imprecise relative to itself, below the noise or just below zero is its normal
+        // result, not a reason to distrust it (its scatter enters Z′ through sd_no).
+        add(note || f == "imprecise" || f == "noise" || f == "negative" ? notes : flags, f);
+        break;
       case Role::sample:
+      case Role::full_activity:
         add(note ? notes : flags, f);
         break;
     }
@@ -120,6 +127,26 @@ double map_number(const PlateMap& map, const WellInfo* info, int column) {
   return *v;
 }
 
+// The two screening controls' statistics from their unflagged rates.
+PlateControls controls_of(const std::vector<RateRow>& rows) {
+  std::vector<double> full, none;
+  int full_left = 0, none_left = 0;
+  for (const auto& row : rows) {
+    if (!is_control(row.role)) continue;
+    const bool is_full = row.role == Role::full_activity;
+    if (row.flags.empty() && std::isfinite(row.v0))
+      (is_full ? full : none).push_back(row.v0);
+    else
+      ++(is_full ? full_left : none_left);
+  }
+  PlateControls pc;
+  pc.full = control_stats(std::move(full));
+  pc.none = control_stats(std::move(none));
+  pc.full.n_flagged = full_left;
+  pc.none.n_flagged = none_left;
+  return pc;
+}
+
 ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, const PlateMap& map,
                                 const AnalysisOptions& o) {
   ChannelAnalysis ca;
@@ -185,7 +212,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     sort_rate_words(row.rate.flags, row.role, used_high, row.flags, row.notes);
     if (row.role == Role::empty) add_flag(row.notes, "empty");
     // No substrate known (or no concentration scale): the window had no conversion limit.
-    if (row.role == Role::sample && !(tv.substrate > 0 && std::isfinite(tv.conc_per_signal)))
+    if (rated_as_sample(row.role) && !(tv.substrate > 0 && std::isfinite(tv.conc_per_signal)))
       add_flag(row.notes, "no-limit");
     if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor)))
       add_flag(row.flags, "no-path");
@@ -222,7 +249,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
   if (ca.conversion.curve) {
     const auto& sc = *ca.conversion.curve;
     for (auto& row : ca.rows) {
-      if (row.role != Role::sample || row.rate.used.empty()) continue;
+      if (!rated_as_sample(row.role) || row.rate.used.empty()) continue;
       int j = c.column_of(row.plate_index);
       double sum = 0;
       int n = 0;
@@ -237,6 +264,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
       if (above || below) add_flag(row.flags, "outside-standards");
     }
   }
+  ca.controls = controls_of(ca.rows);
   return ca;
 }
 

@@ -84,7 +84,7 @@ std::vector<BatchFile> analyse_files(const std::vector<std::string>& paths, cons
     AnalysisOptions ao = o.analysis;
     ao.threads = inner;
     f.analysis = analyse_run(*f.run, map, ao);
-    f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific);
+    f.rates_rows = rates_csv_rows(f.analysis, o.map_columns, o.with_activity, o.with_specific, o.screen);
     // A large file's traces are written by `ready` from the analysis, a well at a time.
     f.traces_from_analysis = o.trace_rows && ready && trace_rows_of(f.analysis) > k_pool_trace_rows;
     if (o.trace_rows && !f.traces_from_analysis) f.trace_rows = traces_csv_rows(f.analysis);

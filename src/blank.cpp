@@ -291,7 +291,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (o.strategy == BlankStrategy::none) continue;
     std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), bw.all);
     if (use.empty()) {
-      if (info && (info->role == Role::sample || info->role == Role::standard)) wb.flags.emplace_back("blank-missing");
+      if (info && (rated_as_sample(info->role) || info->role == Role::standard)) wb.flags.emplace_back("blank-missing");
       continue;
     }
     // A blank with a disturbed start is left out of its set when the set has one without;

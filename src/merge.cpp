@@ -251,12 +251,13 @@ Outputs plan_outputs(const std::vector<RunPackage>& runs, const std::string& out
   }
   for (const auto& r : runs.front().pkg["resources"]) {
     const std::string name = r.value("name", "");
-    if (name != "rates" && name != "traces" && name != "summary")
-      throw InputError(where_in(runs.front(), "\"name\": \"" + name + "\""),
-                       fmt::format("expected the tables rates, traces and summary, found \"{}\" (written by another "
-                                   "vzero?)",
-                                   name),
-                       {"merge with the vzero that wrote the runs"});
+    if (name != "rates" && name != "traces" && name != "summary" && name != "plate-quality")
+      throw InputError(
+          where_in(runs.front(), "\"name\": \"" + name + "\""),
+          fmt::format("expected the tables rates, traces, summary and plate-quality, found \"{}\" (written by another "
+                      "vzero?)",
+                      name),
+          {"merge with the vzero that wrote the runs"});
     out.names.push_back(name);
     out.paths.push_back((fs::path(output_dir) / r.value("path", "")).string());
     outputs.push_back({"the merged " + name, out.paths.back()});
@@ -296,9 +297,9 @@ MergedSet merge_runs(const std::vector<std::string>& run_dirs, const std::string
   }
   std::map<std::string, std::string> hashes{{"rates", out.of("rates").sha256()}};
   for (std::size_t i = 0; i < out.names.size(); ++i) {
-    if (out.names[i] == "traces") {
+    if (out.names[i] == "traces" || out.names[i] == "plate-quality") {  // rows per plate: they concatenate
       header.clear();
-      for (const auto& run : runs) detail::append_table(run.table_path("traces"), header, *out.files[i]);
+      for (const auto& run : runs) detail::append_table(run.table_path(out.names[i]), header, *out.files[i]);
     } else if (out.names[i] == "summary") {
       out.files[i]->append(summary_csv(rates.summary()));
     }

@@ -168,7 +168,10 @@ void RatesMerger::row(const TableRow& r, RunState& st) {
   const double v0 = r.number(st.v0).value_or(NAN);
   summary_.add(g, cell(st.well), v0, cell(st.flags).empty() && !std::isnan(v0));
   const bool no_substrate = st.substrate < 0 || cell(st.substrate).empty();
-  if (role == "sample" && no_substrate && !st.signal_only.count({st.current, channel})) {
+  Role parsed = Role::empty;
+  for (const auto& w : role_table())
+    if (w.word == role) parsed = w.role;
+  if (rated_as_sample(parsed) && no_substrate && !st.signal_only.count({st.current, channel})) {
     for (Wells* w : {&st.wells, &all_})
       if (w->names.emplace(cell(st.well)).second && w->first.empty()) w->first = cell(st.well);
   }

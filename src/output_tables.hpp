@@ -11,6 +11,7 @@
 
 #include "core/columns.hpp"
 #include "vzero/analysis.hpp"
+#include "vzero/outputs.hpp"
 #include "vzero/summary.hpp"
 
 namespace vzero::detail {
@@ -20,6 +21,7 @@ struct RateRowRef {
   const RunAnalysis& run;
   const ChannelAnalysis& channel;
   const RateRow& row;
+  double hit_threshold_pct = NAN;  // % inhibition of a hit (ScreenColumns), for the `hit` column
 };
 
 // What decides rates.csv's columns beyond the fixed ones.
@@ -27,12 +29,14 @@ struct RatesContext {
   const std::vector<std::string>& map_columns;  // plate-map columns passed through, in map order
   bool with_activity = false;                   // activity_U, activity_nkat (a well volume was given)
   bool with_specific = false;                   // specific_activity_U_per_mg (an enzyme column was given)
+  ScreenColumns screen = {};                    // activity_pct, inhibition_pct, hit (the map has controls)
 };
 
 using RateEntry = ColumnEntry<RateRowRef, RatesContext>;
 std::span<const RateEntry> rate_declaration();
 // Every row of `run` (channel by channel, wells in plate order), no header.
-void write_rate_rows(CsvOut& out, const std::vector<Column<RateRowRef>>& columns, const RunAnalysis& run);
+void write_rate_rows(CsvOut& out, const std::vector<Column<RateRowRef>>& columns, const RunAnalysis& run,
+                     double hit_threshold_pct = NAN);
 
 // One row of the traces table: one read of one well.
 struct TraceRowRef {
@@ -51,5 +55,15 @@ void write_trace_rows(CsvOut& out, const std::vector<Column<TraceRowRef>>& colum
 // The summary: one row per replicate group; its grouping columns come from the table.
 using SummaryEntry = ColumnEntry<SummaryGroup, SummaryTable>;
 std::span<const SummaryEntry> summary_declaration();
+
+// One row of the plate-quality table: one channel of one plate.
+struct QualityRowRef {
+  const RunAnalysis& run;
+  const ChannelAnalysis& channel;
+  const PlateQuality& quality;
+};
+
+using QualityEntry = ColumnEntry<QualityRowRef, NoContext>;
+std::span<const QualityEntry> quality_declaration();
 
 }  // namespace vzero::detail

@@ -16,19 +16,37 @@
 
 namespace vzero {
 
+namespace {
+constexpr RoleWord k_roles[] = {
+    {Role::sample, "sample", "a reaction whose rate is wanted"},
+    {Role::blank, "blank", "no reaction: its signal (or rate) is subtracted from the others"},
+    {Role::standard, "standard", "a known concentration of the measured species, for the standard curve"},
+    {Role::empty, "empty", "nothing to judge (also every well absent from the map)"},
+    {Role::full_activity, "full-activity",
+     "screening control: the uninhibited reaction, the 100 % activity level of its plate"},
+    {Role::no_activity, "no-activity",
+     "screening control: the fully inhibited or no-enzyme reaction, the 0 % activity level of its plate"},
+};
+}  // namespace
+
+std::span<const RoleWord> role_table() { return k_roles; }
+
 std::string_view to_string(Role r) {
-  switch (r) {
-    case Role::sample:
-      return "sample";
-    case Role::blank:
-      return "blank";
-    case Role::standard:
-      return "standard";
-    case Role::empty:
-      return "empty";
-  }
+  for (const auto& w : k_roles)
+    if (w.role == r) return w.word;
   return "empty";
 }
+
+std::string role_word_list() {
+  std::string out;
+  const std::size_t n = std::size(k_roles);
+  for (std::size_t i = 0; i < n; ++i)
+    out += std::string(i ? (i + 1 == n ? " or " : ", ") : "") + std::string(k_roles[i].word);
+  return out;
+}
+
+bool rated_as_sample(Role r) { return r == Role::sample || is_control(r); }
+bool is_control(Role r) { return r == Role::full_activity || r == Role::no_activity; }
 
 const WellInfo* PlateMap::find(WellId w) const {
   auto it = wells.find(w);
@@ -46,14 +64,12 @@ struct Cell {
 };
 
 Role parse_role(const std::string& file, const Cell& c) {
-  std::string l = detail::lower(detail::trim(c.text));
-  if (l == "sample") return Role::sample;
-  if (l == "blank") return Role::blank;
-  if (l == "standard") return Role::standard;
-  if (l == "empty") return Role::empty;
+  const std::string l = detail::lower(detail::trim(c.text));
+  for (const auto& w : role_table())
+    if (l == w.word) return w.role;
   throw InputError(Where{file, c.line, c.column, c.line_text},
-                   fmt::format("expected a role (sample, blank, standard or empty), found \"{}\"", c.text),
-                   {"use one of the four roles in the `role` column"});
+                   fmt::format("expected a role ({}), found \"{}\"", role_word_list(), c.text),
+                   {"use one of the roles in the `role` column"});
 }
 
 // A concentration: empty (NaN) or a number >= 0. Zero is kept for every role: a sample at
@@ -162,7 +178,7 @@ int header_line_of(std::string_view text) {
 PlateMap read_tidy(const std::string& name, std::string_view text, const MapColumnOptions& o) {
   Table t = parse_table(name, text);
   int wc = t.require_column("well", "the plate map needs a `well` column (A1, B7, …) and a `role` column");
-  t.require_column("role", "add a `role` column: sample, blank, standard or empty");
+  t.require_column("role", "add a `role` column: " + role_word_list());
   const int header_line = header_line_of(text);
   MapBuilder b(name, t.header, header_line, o);
   for (std::size_t r = 0; r < t.rows.size(); ++r) {
@@ -264,7 +280,7 @@ PlateMap read_grid_form(const std::string& name, std::string_view text, const Ma
   for (const auto& v : variables) has_role |= detail::iequals(v, "role");
   if (!has_role) {
     throw InputError(Where{name}, "the plate-grid map has no `role` block",
-                     {"add a block named role (sample, blank, standard, empty per well)"});
+                     {"add a block named role (" + role_word_list() + " per well)"});
   }
   std::vector<std::string> columns{"well"};
   columns.insert(columns.end(), variables.begin(), variables.end());

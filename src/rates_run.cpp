@@ -53,7 +53,7 @@ void check_matched_blanks(const PlateMap& map, const RunSettings& s) {
   bool blank = false, sample = false;
   for (const auto& [w, info] : map.wells) {
     blank |= info.role == Role::blank && !info.match.empty();
-    sample |= info.role == Role::sample && !info.match.empty();
+    sample |= rated_as_sample(info.role) && !info.match.empty();
   }
   if (!blank || !sample)
     throw InputError(Where{map.source, map.header_line},
@@ -71,7 +71,7 @@ std::string missing_substrate_warning(const std::vector<RunAnalysis>& analyses, 
     for (const auto& ca : ra.channels) {
       if (ca.conversion.mode == ConvertMode::signal_only) continue;
       for (const auto& row : ca.rows)
-        if (row.role == Role::sample && row.info && std::isnan(row.info->substrate))
+        if (rated_as_sample(row.role) && row.info && std::isnan(row.info->substrate))
           if (wells.insert(well_name(row.well)).second && first.empty()) first = well_name(row.well);
     }
   return missing_substrate_text(wells.size(), first, map_source);
@@ -93,6 +93,7 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   if (!s.summary.empty()) outputs.push_back({"--summary", s.summary});
   if (!s.report.empty()) outputs.push_back({"--report", s.report});
   if (!s.enzymeml.empty()) outputs.push_back({"--enzymeml", s.enzymeml});
+  if (!s.plate_quality.empty()) outputs.push_back({"--plate-quality", s.plate_quality});
   outputs.push_back({"datapackage.json (written beside --output)", package});
   detail::check_outputs(inputs, outputs);
 }
@@ -113,6 +114,49 @@ void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
   prov.map_uses = out.map.uses;
   prov.inputs.push_back({"plate-map", s.layout, out.map.sha256, "", ""});
   if (!s.method.empty()) prov.inputs.push_back({"method", s.method, resolved.method_sha256, "", ""});
+}
+
+// The screening columns the plate map allows; --plate-quality and --hit-threshold need both
+// controls in it.
+ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
+  bool full = false, none = false;
+  for (const auto& [w, info] : map.wells) {
+    full |= info.role == Role::full_activity;
+    none |= info.role == Role::no_activity;
+  }
+  const char* asked = !s.plate_quality.empty()                  ? "--plate-quality"
+                      : !std::isnan(s.screen.hit_threshold_pct) ? "--hit-threshold"
+                                                                : nullptr;
+  if (asked && !(full && none))
+    throw InputError(Where{map.source, map.header_line},
+                     fmt::format("{} needs control wells of both kinds in the plate map, but it has {}", asked,
+                                 full   ? "no no-activity well"
+                                 : none ? "no full-activity well"
+                                        : "neither"),
+                     {"give the uninhibited control wells the role full-activity and the fully inhibited (or "
+                      "no-enzyme) control wells the role no-activity",
+                      "or leave out " + std::string(asked)});
+  return ScreenColumns{full && none, s.screen.hit_threshold_pct};
+}
+
+// Each plate and channel judged by its controls: a warning for one below --min-z-prime or
+// whose Z′ cannot be computed.
+void add_quality_warnings(const RunSettings& s, RatesOutputs& out) {
+  for (const auto& ra : out.analyses)
+    for (const auto& ca : ra.channels) {
+      const PlateQuality q = plate_quality(ca.controls.full, ca.controls.none, s.screen.min_z_prime);
+      const std::string plate = fmt::format("{}, channel {}", ra.run->source, ca.channel->name);
+      if (q.verdict == QualityVerdict::below)
+        out.warnings.push_back(fmt::format(
+            "{}: Z' = {:.3f} is below --min-z-prime {} (plate quality below-threshold): its controls overlap "
+            "too much for its % activity and hit calls to be trusted",
+            plate, q.z_prime, s.screen.min_z_prime));
+      else if (q.verdict == QualityVerdict::undetermined)
+        out.warnings.push_back(fmt::format(
+            "{}: Z' cannot be computed (unflagged full-activity wells {}, no-activity wells {}; two of each with "
+            "different means are needed): plate quality undetermined",
+            plate, ca.controls.full.n, ca.controls.none.n));
+    }
 }
 
 // After the analyses: channels left unconverted when method tables convert others, and
@@ -163,7 +207,9 @@ RunSettings with_listed_files(const RunSettings& given, std::string& list_sha256
 struct FileConsumer {
   OutputSink& sink;
   const std::vector<std::string>& map_columns;
-  bool with_activity, with_specific, traces;
+  bool with_activity, with_specific;
+  ScreenColumns screen;
+  bool traces;
   RunReport* report;  // nullptr: no report
   bool started = false;
   std::exception_ptr error;
@@ -174,7 +220,7 @@ struct FileConsumer {
       if (report) report->add(f.analysis);
       if (!started) {
         started = true;
-        sink.append("rates", rates_csv({}, map_columns, with_activity, with_specific));
+        sink.append("rates", rates_csv({}, map_columns, with_activity, with_specific, screen));
         if (traces) sink.append("traces", traces_csv({}));
       }
       sink.append("rates", f.rates_rows);
@@ -229,6 +275,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
         "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
         "rates stay in signal units per minute");
   read_map(resolved, out);
+  const ScreenColumns screen = screen_columns(out.map, s);
   if (!s.files_from.empty()) out.provenance.inputs.push_back({"file-list", s.files_from, list_sha256, "", ""});
   Provenance& prov = out.provenance;
 
@@ -242,6 +289,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.map_columns = out.map.columns;
   batch.with_activity = with_activity;
   batch.with_specific = with_specific;
+  batch.screen = screen;
   batch.trace_rows = !s.traces.empty();
   // The report takes each file's plates as it finishes; its reads are dropped after that.
   batch.keep_data_until_ready = !s.report.empty();
@@ -249,7 +297,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   batch.keep_data = !s.enzymeml.empty();
   std::optional<RunReport> report;
   if (!s.report.empty()) report.emplace(out.map.columns);
-  FileConsumer ready{sink, out.map.columns, with_activity, with_specific, batch.trace_rows, report ? &*report : nullptr};
+  FileConsumer ready{
+      sink, out.map.columns, with_activity, with_specific, screen, batch.trace_rows, report ? &*report : nullptr};
   out.files = analyse_files(s.files, out.map, batch, progress, std::ref(ready));
   if (ready.error) std::rethrow_exception(ready.error);
 
@@ -269,15 +318,23 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   }
 
   add_run_notes(s, unconverted, out);
+  // On the console only, after add_run_notes recorded the run's warnings: they are per plate,
+  // so the parts of a merged run would differ (`vzero merge`); the plate-quality table
+  // records each verdict.
+  if (screen.normalised) add_quality_warnings(s, out);
   std::vector<PackagedTable> tables;
   tables.push_back({"rates", relative_to(s.output, dir),
-                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific), out.map)});
+                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific, screen), out.map)});
   if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
   out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
   if (!s.summary.empty()) {
     out.summary_csv = summary_csv(out.summary);
     tables.push_back(
         {"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
+  }
+  if (!s.plate_quality.empty()) {
+    out.plate_quality_csv = plate_quality_csv(out.analyses, s.screen.min_z_prime);
+    tables.push_back({"plate-quality", relative_to(s.plate_quality, dir), plate_quality_fields()});
   }
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, prov, out.analyses);

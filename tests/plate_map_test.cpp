@@ -46,10 +46,11 @@ TEST_CASE("plate map errors") {
         "map.csv:3:1: well A1 is mapped twice (first at line 2)\n"
         "  line 3: A01,blank\n"
         "  possible fix: keep one row per well");
-  CHECK(message_of("well,role\nA1,enzyme\n") ==
-        "map.csv:2:4: expected a role (sample, blank, standard or empty), found \"enzyme\"\n"
-        "  line 2: A1,enzyme\n"
-        "  possible fix: use one of the four roles in the `role` column");
+  CHECK(
+      message_of("well,role\nA1,enzyme\n") ==
+      "map.csv:2:4: expected a role (sample, blank, standard, empty, full-activity or no-activity), found \"enzyme\"\n"
+      "  line 2: A1,enzyme\n"
+      "  possible fix: use one of the roles in the `role` column");
   CHECK(message_of("well,role,substrate\nA1,sample,-5\n") ==
         "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -5\n"
         "  line 2: A1,sample,-5\n"

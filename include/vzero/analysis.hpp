@@ -18,6 +18,7 @@
 #include "vzero/convert.hpp"
 #include "vzero/enum_names.hpp"
 #include "vzero/plate_map.hpp"
+#include "vzero/plate_quality.hpp"
 #include "vzero/rates.hpp"
 #include "vzero/run.hpp"
 
@@ -84,6 +85,9 @@ struct ChannelAnalysis {
   std::string slope_unit;       // e.g. "AU/min"
   double direction_sign = 1.0;  // −1 when the reaction makes the signal fall
   std::vector<RateRow> rows;    // one per channel column (plate index order)
+  // The screening controls' rates (full-activity, no-activity wells; unflagged ones counted):
+  // plate quality and each well's % activity come from them. n = 0 when the map has none.
+  PlateControls controls;
   // The channel's [channel.NAME] method table: its keys as written ("" / empty when none).
   std::vector<std::pair<std::string, std::string>> method_settings;
   std::string method_table;  // "FILE:LINE"
@@ -98,7 +102,8 @@ struct RunAnalysis {
 // withheld) and `notes` (corrections made): lag, outliers, overflow, a disturbed start and
 // ceiling reads the window left out (`used_high` false) are notes; blanks are judged as
 // blanks (nonlinear becomes blank-drift), standards as levels (too-few-reads, ceiling,
-// saturated), empty wells not at all. Words already present are not repeated.
+// saturated), empty wells not at all; no-activity controls as samples whose rate is expected
+// near zero (imprecise, noise and negative are notes). Words already present are not repeated.
 void sort_rate_words(const std::vector<std::string>& words, Role role, bool used_high, std::vector<std::string>& flags,
                      std::vector<std::string>& notes);
 

@@ -33,6 +33,7 @@ struct BatchOptions {
   std::vector<std::string> map_columns;  // plate-map columns, for the rates rows
   bool with_activity = false;            // rates rows with activity_U / activity_nkat
   bool with_specific = false;            // rates rows with specific_activity_U_per_mg
+  ScreenColumns screen;                  // rates rows with activity_pct, inhibition_pct, hit
   // Also format the traces rows: in the pool, for a file of up to k_pool_trace_rows rows;
   // a larger file leaves them to `ready` (BatchFile::traces_from_analysis), which streams
   // them from its analysis, so that no file's whole traces text is ever held.

@@ -43,13 +43,19 @@ struct Provenance {
 
 // with_activity adds activity_U and activity_nkat; with_specific adds specific_activity_U_per_mg.
 std::vector<FieldSpec> rate_fields(const std::vector<std::string>& map_columns, bool with_activity,
-                                   bool with_specific = false);
+                                   bool with_specific = false, const ScreenColumns& screen = {});
 std::string rates_csv(const std::vector<RunAnalysis>& runs, const std::vector<std::string>& map_columns,
-                      bool with_activity, bool with_specific = false);
+                      bool with_activity, bool with_specific = false, const ScreenColumns& screen = {});
 
 // The rows of one run without the header line (batches format each run as it finishes).
 std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string>& map_columns, bool with_activity,
-                           bool with_specific = false);
+                           bool with_specific = false, const ScreenColumns& screen = {});
+
+// The plate-quality table (--plate-quality): one row per plate and channel, from each
+// channel's controls (ChannelAnalysis::controls) judged against `min_z_prime`
+// (include/vzero/plate_quality.hpp). Rows concatenate across runs.
+std::vector<FieldSpec> plate_quality_fields();
+std::string plate_quality_csv(const std::vector<RunAnalysis>& runs, double min_z_prime);
 
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);

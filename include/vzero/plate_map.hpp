@@ -1,7 +1,7 @@
 // The plate map: what each well holds. One row per well with `well` and `role` (sample |
-// blank | standard | empty); `substrate` (initial substrate concentration), `standard_conc`
-// (a standard's known concentration) and `match` (blanks and samples sharing it pair up)
-// are understood; every other column passes through to every output, in file order.
+// blank | standard | empty | full-activity | no-activity, see role_table()); `substrate` (initial substrate
+// concentration), `standard_conc` (a standard's known concentration) and `match` (blanks and samples sharing it pair
+// up) are understood; every other column passes through to every output, in file order.
 //
 // Two forms are read: the tidy table above, or the plate-grid form scientists draw in a
 // spreadsheet — per variable a line naming it, a header of column numbers, and one line
@@ -25,6 +25,7 @@
 
 #include <map>
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <utility>
@@ -34,8 +35,26 @@
 
 namespace vzero {
 
-enum class Role { sample, blank, standard, empty };
+// A well's role. The two screening controls are reactions judged as samples by the rate
+// finder: `full-activity` is the uninhibited reaction (the 100 % activity level), `no-activity`
+// the fully inhibited or no-enzyme reaction (the 0 % level); plate quality and % activity
+// come from their rates (include/vzero/plate_quality.hpp).
+enum class Role { sample, blank, standard, empty, full_activity, no_activity };
+
+// The role words of the plate map and the outputs, one entry per role, in the order messages
+// list them.
+struct RoleWord {
+  Role role;
+  std::string_view word;     // as written in the plate map and in rates.csv's `role`
+  std::string_view meaning;  // one line for the docs and --help
+};
+std::span<const RoleWord> role_table();
 std::string_view to_string(Role r);
+// "sample, blank, …, or no-activity": every role word, for messages.
+std::string role_word_list();
+// Wells whose rate the rate finder judges as a sample's: samples and the two controls.
+bool rated_as_sample(Role r);
+bool is_control(Role r);
 
 struct WellInfo {
   WellId well;

@@ -50,6 +50,7 @@ struct RatesOutputs {
   PlateMap map;
   SummaryTable summary;
   std::string summary_csv;       // "" unless settings.summary names a file
+  std::string plate_quality_csv;  // "" unless settings.plate_quality names a file
   std::string datapackage_json;  // for settings.output's folder
   std::string datapackage_path;  // where it belongs: beside settings.output
   std::string report_html;       // "" unless settings.report names a file

@@ -36,6 +36,8 @@ struct RunSettings {
   std::string traces, summary, report;              // optional outputs ("" = not written)
   std::string files_from;                           // a file listing more exports, one per line ("" = none)
   std::string enzymeml;                             // EnzymeML document ("" = not written)
+  std::string plate_quality;                        // plate-quality table ("" = not written)
+  ScreenOptions screen;                             // Z′ threshold, hit calls (plate_quality.hpp)
   EnzymeMLOptions enzymeml_options;                 // what it says beyond the analyses (STRENDA fields)
   std::vector<std::string> leave_out{"replicate"};  // map columns not used to group replicates
   bool summary_per_file = false;                   // summary groups kept apart per export file

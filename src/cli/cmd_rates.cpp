@@ -161,11 +161,13 @@ int cmd_rates(const Args& args) {
   // leaves tables that the datapackage.json beside them does not describe, which `vzero
   // report` refuses and the next `vzero rates` in the folder points out.
   if (!s.summary.empty()) sink.write(s.summary, out.summary_csv);
+  if (!s.plate_quality.empty()) sink.write(s.plate_quality, out.plate_quality_csv);
   if (!s.report.empty()) sink.write(s.report, out.report_html);
   if (!s.enzymeml.empty()) sink.write(s.enzymeml, out.enzymeml_json);
   std::map<std::string, std::string> hashes{{"rates", sink.sha256(s.output)}};
   if (!s.traces.empty()) hashes["traces"] = sink.sha256(s.traces);
   if (!s.summary.empty()) hashes["summary"] = sink.sha256(s.summary);
+  if (!s.plate_quality.empty()) hashes["plate-quality"] = sink.sha256(s.plate_quality);
   sink.write(out.datapackage_path, with_table_hashes(out.datapackage_json, hashes));
   sink.publish();
   if (!s.quiet) print_out(run_digest(out.analyses, out.summary, s, out.datapackage_path));

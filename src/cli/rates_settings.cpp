@@ -161,7 +161,7 @@ Str per_file_block(const std::vector<RunAnalysis>& runs) {
 
 std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RunSettings& s,
                        const std::string& package_path) {
-  int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0;
+  int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0, controls = 0;
   std::map<Str, int> by_flag, by_note;
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels)
@@ -170,14 +170,18 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
         blanks += row.role == Role::blank;
         standards += row.role == Role::standard;
         empty += row.role == Role::empty;
+        controls += is_control(row.role);
         if (row.role != Role::sample) continue;
         ++samples;
         for (const auto& f : row.flags) ++by_flag[f];
         for (const auto& f : row.notes) ++by_note[f];
         flagged += !row.flags.empty();
       }
-  Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty\n", runs.size(),
+  Str out = fmt::format("{} file{}, {} well rows: {} sample, {} blank, {} standard, {} empty", runs.size(),
                         runs.size() == 1 ? "" : "s", wells, samples, blanks, standards, empty);
+  if (controls)
+    out += fmt::format(", {} control (full-activity, no-activity; plate quality: --plate-quality)", controls);
+  out += "\n";
   out += fmt::format("{} sample well{} flagged", flagged, flagged == 1 ? "" : "s");
   if (flagged) out += " (a well may have several reasons; meanings: vzero rates --help):\n  " + counts_line(by_flag, 2);
   out += "\n";
@@ -198,6 +202,7 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
   out += fmt::format("wrote {}", s.output);
   if (!s.traces.empty()) out += ", " + s.traces;
   if (!s.summary.empty()) out += ", " + s.summary;
+  if (!s.plate_quality.empty()) out += ", " + s.plate_quality;
   out += ", " + package_path;
   if (!s.report.empty()) out += ", " + s.report;
   if (!s.enzymeml.empty()) out += ", " + s.enzymeml;

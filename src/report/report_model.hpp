@@ -48,7 +48,9 @@ struct WellView {
   bool flagged() const;  // any flag other than "empty"
   // A sample well with a flag: its rate is not to be trusted as it stands (blanks,
   // standards and empty wells carry flags that describe them, not a rate in doubt).
-  bool distrusted() const { return role == "sample" && flagged(); }
+  bool distrusted() const {
+    return (role == "sample" || role == "full-activity" || role == "no-activity") && flagged();
+  }
   // The fitted line in drawn units at time t: factor·(intercept + slope·t).
   double line_at(double t_s) const { return factor * (intercept + slope_per_min / 60.0 * t_s); }
 };

@@ -12,6 +12,7 @@ namespace vzero {
 
 namespace detail {
 void add_enzymeml_options(std::vector<OptionSpec>& t);  // option_table_enzymeml.cpp
+void add_screen_options(std::vector<OptionSpec>& t);    // option_table_screen.cpp
 }
 
 namespace {
@@ -404,6 +405,7 @@ std::vector<OptionSpec> make_table() {
   t.push_back(number(
       "tangent-alpha", k_rate, "0.05", "", k_alpha, [](S& s) { return &s.analysis.rates.tangent_alpha; },
       "one-sided significance the parabola's bend needs before its tangent is used"));
+  detail::add_screen_options(t);
   detail::add_enzymeml_options(t);
   return t;
 }
