@@ -200,11 +200,7 @@ int cmd_fit(const Args& args) {
   std::string file;
   po::options_description opts(usage());
   add_fit_options(opts);
-  po::options_description hidden;
-  hidden.add_options()("file", po::value(&file));
-  po::positional_options_description pos;
-  pos.add("file", 1);
-  auto vm = parse_command_line(args, opts, hidden, pos);
+  auto vm = parse_with_file(args, opts, file);
   if (vm.count("help")) {
     print_out(help_text(opts));
     return 0;

@@ -105,11 +105,7 @@ int cmd_inspect(const Args& args) {
       "time-unit", po::value(&time_unit),
       "unit of plain-number read times when the time header names none: s, min or h (as vzero rates)")(
       "help,h", "show this help");
-  po::options_description hidden;
-  hidden.add_options()("file", po::value(&file));
-  po::positional_options_description pos;
-  pos.add("file", 1);
-  auto vm = parse_command_line(args, opts, hidden, pos);
+  auto vm = parse_with_file(args, opts, file);
   if (vm.count("help")) {
     print_out(help_text(opts) + "\nbuilt-in profiles: " + builtin_profile_list() + "\n");
     return 0;

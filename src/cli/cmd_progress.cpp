@@ -112,11 +112,7 @@ int cmd_progress(const Args& args) {
       "confidence", po::value(&o.fit.confidence), "level of the intervals (default: 0.95)")(
       "no-profile", "skip the profile-t intervals (faster)")("quiet,q", "do not print the table on stdout")(
       "help,h", "show this help");
-  po::options_description hidden;
-  hidden.add_options()("file", po::value(&file));
-  po::positional_options_description pos;
-  pos.add("file", 1);
-  auto vm = parse_command_line(args, opts, hidden, pos);
+  auto vm = parse_with_file(args, opts, file);
   if (vm.count("help")) {
     print_out(help_text(opts));
     return 0;

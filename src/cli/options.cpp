@@ -79,4 +79,15 @@ std::string builtin_profile_list() {
 
 std::string format_seconds(double s) { return fmt::format("{:g}", s); }
 
+boost::program_options::variables_map parse_with_file(const Args& args,
+                                                      const boost::program_options::options_description& visible,
+                                                      std::string& file) {
+  namespace po = boost::program_options;
+  po::options_description hidden;
+  hidden.add_options()("file", po::value(&file));
+  po::positional_options_description pos;
+  pos.add("file", 1);
+  return parse_command_line(args, visible, hidden, pos);
+}
+
 }  // namespace vzero::cli
