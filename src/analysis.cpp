@@ -147,6 +147,72 @@ PlateControls controls_of(const std::vector<RateRow>& rows) {
   return pc;
 }
 
+struct ChannelContext {
+  const Run& run;
+  const PlateMap& map;
+  int enzyme_col;
+};
+
+// The well's slope less the blank's rate (rate blanks: over the well's own window), and v0 with
+// its interval in the channel's unit; activity and specific activity when asked for.
+void slope_to_v0(RateRow& row, const ChannelAnalysis& ca, const ChannelContext& cx, const AnalysisOptions& o, int j) {
+  const Channel& c = *ca.channel;
+  const WellBlank& wb = ca.blank.wells[static_cast<std::size_t>(j)];
+  const double sign = ca.direction_sign;
+  const double factor = ca.conversion.factor[static_cast<std::size_t>(j)];
+  double slope = row.rate.slope;
+  double blank_rate = sign * wb.blank_rate;
+  if (o.blank.mode == BlankMode::rate && o.blank.strategy != BlankStrategy::none && row.role != Role::blank &&
+      !std::isnan(row.rate.t_start_s)) {
+    blank_rate =
+        sign * blank_rate_between(c, cx.map, cx.run.format, o.blank, ca.blank, j, row.rate.t_start_s, row.rate.t_end_s);
+    if (!std::isnan(blank_rate))
+      slope -= blank_rate;
+    else if (wb.blank_wells.empty() == false)
+      add_flag(row.flags, "blank-missing");
+  }
+  row.blank_rate_per_min = blank_rate * 60;
+  row.slope_per_min = slope * 60;
+  const double to_v0 = 60 * (ca.conversion.mode == ConvertMode::signal_only ? 1.0 : factor);
+  row.v0 = slope * to_v0;
+  row.v0_se = row.rate.slope_se * to_v0;
+  row.v0_ci_low = (row.rate.ci_low - (row.rate.slope - slope)) * to_v0;
+  row.v0_ci_high = (row.rate.ci_high - (row.rate.slope - slope)) * to_v0;
+  if (!std::isnan(o.well_volume_ul) && ca.conversion.mode != ConvertMode::signal_only)
+    row.activity_u = activity_units(row.v0, ca.conversion.conc_unit, o.well_volume_ul);
+  if (cx.enzyme_col >= 0) {
+    double mg = map_number(cx.map, row.info, cx.enzyme_col);
+    if (mg > 0) row.specific_activity = row.activity_u / mg;
+  }
+}
+
+// Samples whose signal leaves the calibrated range of the standard curve. Above the top
+// standard the curve is extrapolated (detectors and inner filters bend it there): any
+// window read beyond it flags the well. Below the lowest standard only matters when that
+// standard is not a zero standard, and then the window's mean signal is compared, since
+// single reads scatter around the blank level.
+void flag_outside_standards(ChannelAnalysis& ca) {
+  const Channel& c = *ca.channel;
+  const int reads = c.reads();
+  if (!ca.conversion.curve) return;
+  const auto& sc = *ca.conversion.curve;
+  for (auto& row : ca.rows) {
+    if (!rated_as_sample(row.role) || row.rate.used.empty()) continue;
+    int j = c.column_of(row.plate_index);
+    double sum = 0;
+    int n = 0;
+    bool above = false;
+    for (int i = 0; i < reads; ++i) {
+      if (!row.rate.used[static_cast<std::size_t>(i)] || c.status(i, j) != ReadStatus::ok) continue;
+      above |= c.values(i, j) > sc.signal_max;
+      sum += c.values(i, j);
+      ++n;
+    }
+    bool below = sc.conc_min > 0 && n > 0 && sum / n < sc.signal_min;
+    if (above || below) add_flag(row.flags, "outside-standards");
+  }
+}
+
 ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, const PlateMap& map,
                                 const AnalysisOptions& o) {
   ChannelAnalysis ca;
@@ -154,9 +220,9 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     ca.corrected = inner_filter_copy(run, raw_channel, o);
   const Channel& c = ca.corrected ? *ca.corrected : raw_channel;
   ca.channel = &c;
-  int enzyme_col = -1;
+  ChannelContext cx{run, map, -1};
   for (std::size_t k = 0; k < map.columns.size(); ++k)
-    if (!o.enzyme_mg_column.empty() && map.columns[k] == o.enzyme_mg_column) enzyme_col = static_cast<int>(k);
+    if (!o.enzyme_mg_column.empty() && map.columns[k] == o.enzyme_mg_column) cx.enzyme_col = static_cast<int>(k);
   ca.blank = apply_blank(c, map, run.format, o.blank);
   ca.conversion = plan_conversion(run, c, map, o.convert);
   const std::string sig_unit = c.unit.empty() ? "signal" : c.unit;
@@ -216,54 +282,9 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
       add_flag(row.notes, "no-limit");
     if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor)))
       add_flag(row.flags, "no-path");
-    double slope = row.rate.slope;
-    double blank_rate = sign * wb.blank_rate;
-    if (o.blank.mode == BlankMode::rate && o.blank.strategy != BlankStrategy::none && row.role != Role::blank &&
-        !std::isnan(row.rate.t_start_s)) {
-      blank_rate =
-          sign * blank_rate_between(c, map, run.format, o.blank, ca.blank, j, row.rate.t_start_s, row.rate.t_end_s);
-      if (!std::isnan(blank_rate))
-        slope -= blank_rate;
-      else if (wb.blank_wells.empty() == false)
-        add_flag(row.flags, "blank-missing");
-    }
-    row.blank_rate_per_min = blank_rate * 60;
-    row.slope_per_min = slope * 60;
-    const double to_v0 = 60 * (ca.conversion.mode == ConvertMode::signal_only ? 1.0 : factor);
-    row.v0 = slope * to_v0;
-    row.v0_se = row.rate.slope_se * to_v0;
-    row.v0_ci_low = (row.rate.ci_low - (row.rate.slope - slope)) * to_v0;
-    row.v0_ci_high = (row.rate.ci_high - (row.rate.slope - slope)) * to_v0;
-    if (!std::isnan(o.well_volume_ul) && ca.conversion.mode != ConvertMode::signal_only)
-      row.activity_u = activity_units(row.v0, ca.conversion.conc_unit, o.well_volume_ul);
-    if (enzyme_col >= 0) {
-      double mg = map_number(map, row.info, enzyme_col);
-      if (mg > 0) row.specific_activity = row.activity_u / mg;
-    }
+    slope_to_v0(row, ca, cx, o, j);
   });
-  // Samples whose signal leaves the calibrated range of the standard curve. Above the top
-  // standard the curve is extrapolated (detectors and inner filters bend it there): any
-  // window read beyond it flags the well. Below the lowest standard only matters when that
-  // standard is not a zero standard, and then the window's mean signal is compared, since
-  // single reads scatter around the blank level.
-  if (ca.conversion.curve) {
-    const auto& sc = *ca.conversion.curve;
-    for (auto& row : ca.rows) {
-      if (!rated_as_sample(row.role) || row.rate.used.empty()) continue;
-      int j = c.column_of(row.plate_index);
-      double sum = 0;
-      int n = 0;
-      bool above = false;
-      for (int i = 0; i < reads; ++i) {
-        if (!row.rate.used[static_cast<std::size_t>(i)] || c.status(i, j) != ReadStatus::ok) continue;
-        above |= c.values(i, j) > sc.signal_max;
-        sum += c.values(i, j);
-        ++n;
-      }
-      bool below = sc.conc_min > 0 && n > 0 && sum / n < sc.signal_min;
-      if (above || below) add_flag(row.flags, "outside-standards");
-    }
-  }
+  flag_outside_standards(ca);
   ca.controls = controls_of(ca.rows);
   return ca;
 }

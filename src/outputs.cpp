@@ -14,13 +14,11 @@
 
 namespace vzero {
 
-std::string datapackage_json(const std::vector<PackagedTable>& tables, const Provenance& p,
-                             const std::vector<RunAnalysis>& runs) {
-  using nlohmann::ordered_json;
-  ordered_json pkg;
-  pkg["profile"] = "tabular-data-package";
-  pkg["name"] = "vzero-rates";
-  pkg["title"] = "Initial rates computed by vzero";
+namespace {
+using nlohmann::ordered_json;
+
+// One Frictionless tabular-data-resource per table: its file and its Table Schema.
+ordered_json resources_json(const std::vector<PackagedTable>& tables) {
   ordered_json resources = ordered_json::array();
   for (const auto& t : tables) {
     ordered_json r;
@@ -43,10 +41,11 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     r["schema"]["missingValues"] = ordered_json::array({""});
     resources.push_back(r);
   }
-  pkg["resources"] = resources;
-  ordered_json prov;
-  prov["tool"] = "vzero";
-  prov["version"] = p.tool_version;
+  return resources;
+}
+
+// Each input file: its hash, how it was read, and every fact inferred while reading it.
+ordered_json inputs_json(const Provenance& p) {
   ordered_json inputs = ordered_json::array();
   for (const auto& in : p.inputs) {
     ordered_json j;
@@ -76,14 +75,11 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     }
     inputs.push_back(j);
   }
-  prov["inputs"] = inputs;
-  ordered_json opts;
-  for (const auto& [k, v] : p.options) opts[k] = v;
-  prov["options"] = opts;
-  ordered_json det;
-  for (const auto& [k, v] : p.detected) det[k] = v;
-  prov["detected"] = det;
-  prov["map_columns"] = p.map_columns;
+  return inputs;
+}
+
+// How each plate-map column was read (a match key or a concentration, with its unit).
+ordered_json map_uses_json(const Provenance& p) {
   ordered_json uses = ordered_json::array();
   for (const auto& u : p.map_uses) {
     ordered_json j;
@@ -96,59 +92,81 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
     }
     uses.push_back(j);
   }
-  prov["map_column_uses"] = uses;
+  return uses;
+}
+
+ordered_json standard_curve_json(const StandardCurve& sc) {
+  ordered_json c = {{"slope", sc.slope},
+                    {"slope_se", sc.slope_se},
+                    {"intercept", sc.intercept},
+                    {"intercept_se", sc.intercept_se},
+                    {"r2", sc.r2},
+                    {"residual_sd", sc.residual_sd},
+                    {"lod", sc.lod},
+                    {"lod_basis", sc.lod_basis},
+                    {"conc_min", sc.conc_min},
+                    {"conc_max", sc.conc_max},
+                    {"signal_min", sc.signal_min},
+                    {"signal_max", sc.signal_max},
+                    {"n", sc.n}};
+  ordered_json pts = ordered_json::array();
+  for (const auto& [conc, signal] : sc.points) pts.push_back({conc, signal});
+  c["points"] = pts;  // (concentration, signal) of each standard used
+  return c;
+}
+
+// What a later step needs of one channel, stated rather than worked back from the tables: the
+// plate, the reaction direction and the conversion factor (per well only when the path varies;
+// each well's path is then rates.csv's path_cm).
+ordered_json channel_json(const RunAnalysis& ra, const ChannelAnalysis& ca) {
+  ordered_json c;
+  c["source"] = ra.run->source;
+  c["channel"] = ca.channel->name;
+  c["conversion"] = std::string(to_string(ca.conversion.mode));
+  c["formula"] = ca.conversion.formula;
+  c["v0_unit"] = ca.v0_unit;
+  c["slope_unit"] = ca.slope_unit;
+  c["plate"] = {{"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows}, {"columns", ra.run->format.columns}};
+  c["direction"] = enum_text(ca.direction_sign < 0 ? Direction::down : Direction::up);
+  if (!ca.method_settings.empty()) {  // the channel's own settings, as the method file gives them
+    ordered_json m;
+    for (const auto& [k, v] : ca.method_settings) m[k] = v;
+    c["channel_settings"] = {{"from", ca.method_table}, {"values", m}};
+  }
+  const auto& f = ca.conversion.factor;
+  const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });
+  if (uniform)
+    c["conc_per_signal"] = f.front();
+  else
+    c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
+  if (ca.conversion.curve) c["standard_curve"] = standard_curve_json(*ca.conversion.curve);
+  return c;
+}
+}  // namespace
+
+std::string datapackage_json(const std::vector<PackagedTable>& tables, const Provenance& p,
+                             const std::vector<RunAnalysis>& runs) {
+  ordered_json pkg;
+  pkg["profile"] = "tabular-data-package";
+  pkg["name"] = "vzero-rates";
+  pkg["title"] = "Initial rates computed by vzero";
+  pkg["resources"] = resources_json(tables);
+  ordered_json prov;
+  prov["tool"] = "vzero";
+  prov["version"] = p.tool_version;
+  prov["inputs"] = inputs_json(p);
+  ordered_json opts;
+  for (const auto& [k, v] : p.options) opts[k] = v;
+  prov["options"] = opts;
+  ordered_json det;
+  for (const auto& [k, v] : p.detected) det[k] = v;
+  prov["detected"] = det;
+  prov["map_columns"] = p.map_columns;
+  prov["map_column_uses"] = map_uses_json(p);
   if (!p.warnings.empty()) prov["warnings"] = p.warnings;
   ordered_json conv = ordered_json::array();
-  for (const auto& ra : runs) {
-    for (const auto& ca : ra.channels) {
-      ordered_json c;
-      c["source"] = ra.run->source;
-      c["channel"] = ca.channel->name;
-      c["conversion"] = std::string(to_string(ca.conversion.mode));
-      c["formula"] = ca.conversion.formula;
-      c["v0_unit"] = ca.v0_unit;
-      c["slope_unit"] = ca.slope_unit;
-      // What a later step needs, stated rather than worked back from the tables: the plate,
-      // the reaction direction and the conversion factor (per well only when the path varies;
-      // each well's path is then rates.csv's path_cm).
-      c["plate"] = {
-          {"wells", ra.run->format.wells()}, {"rows", ra.run->format.rows}, {"columns", ra.run->format.columns}};
-      c["direction"] = enum_text(ca.direction_sign < 0 ? Direction::down : Direction::up);
-      if (!ca.method_settings.empty()) {  // the channel's own settings, as the method file gives them
-        ordered_json m;
-        for (const auto& [k, v] : ca.method_settings) m[k] = v;
-        c["channel_settings"] = {{"from", ca.method_table}, {"values", m}};
-      }
-      {
-        const auto& f = ca.conversion.factor;
-        const bool uniform = !f.empty() && std::all_of(f.begin(), f.end(), [&](double x) { return x == f.front(); });
-        if (uniform)
-          c["conc_per_signal"] = f.front();
-        else
-          c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
-      }
-      if (ca.conversion.curve) {
-        const auto& sc = *ca.conversion.curve;
-        c["standard_curve"] = {{"slope", sc.slope},
-                               {"slope_se", sc.slope_se},
-                               {"intercept", sc.intercept},
-                               {"intercept_se", sc.intercept_se},
-                               {"r2", sc.r2},
-                               {"residual_sd", sc.residual_sd},
-                               {"lod", sc.lod},
-                               {"lod_basis", sc.lod_basis},
-                               {"conc_min", sc.conc_min},
-                               {"conc_max", sc.conc_max},
-                               {"signal_min", sc.signal_min},
-                               {"signal_max", sc.signal_max},
-                               {"n", sc.n}};
-        ordered_json pts = ordered_json::array();
-        for (const auto& [conc, signal] : sc.points) pts.push_back({conc, signal});
-        c["standard_curve"]["points"] = pts;  // (concentration, signal) of each standard used
-      }
-      conv.push_back(c);
-    }
-  }
+  for (const auto& ra : runs)
+    for (const auto& ca : ra.channels) conv.push_back(channel_json(ra, ca));
   prov["channels"] = conv;
   pkg["vzero"] = prov;
   return pkg.dump(2) + "\n";

@@ -199,19 +199,67 @@ PlateMap read_tidy(const std::string& name, std::string_view text, const MapColu
   return std::move(b).finish("table");
 }
 
-PlateMap read_grid_form(const std::string& name, std::string_view text, const MapColumnOptions& o) {
+// The blocks of a plate-grid map as read: each variable's cells per well.
+struct GridBlocks {
+  std::vector<std::string> variables;
+  std::map<WellId, std::map<std::string, Cell>> values;  // well -> variable -> cell
+  std::map<WellId, int> first_line;
+  int first_variable_line = 1;
+};
+
+// The header after a variable name: an empty cell, then column numbers 1–48.
+std::vector<int> grid_header(const std::string& name, int ln, std::string_view line,
+                             const std::vector<detail::Field>& fields, const std::string& current) {
+  std::vector<int> cols;
+  for (std::size_t i = 1; i < fields.size(); ++i) {
+    auto v = detail::parse_number(fields[i].text);
+    if (!v || *v < 1 || *v > 48 || *v != static_cast<int>(*v)) {
+      throw InputError(Where{name, ln, fields[i].column, std::string(line)},
+                       fmt::format("expected a column number (1–48) in the header of `{}`, found \"{}\"", current,
+                                   fields[i].text),
+                       {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
+    }
+    cols.push_back(static_cast<int>(*v) - 1);
+  }
+  if (!detail::trim(fields[0].text).empty() || cols.empty()) {
+    throw InputError(Where{name, ln, 1, std::string(line)},
+                     fmt::format("expected a header of column numbers after the variable `{}`", current),
+                     {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
+  }
+  return cols;
+}
+
+// One row (A, B, …) of the current variable's block.
+void grid_row(const std::string& name, int ln, std::string_view line, const std::vector<detail::Field>& fields,
+              int row, const std::vector<int>& cols, const std::string& current, GridBlocks& g) {
+  if (fields.size() > cols.size() + 1) {
+    throw InputError(Where{name, ln, fields[cols.size() + 1].column, std::string(line)},
+                     fmt::format("expected at most {} values in row {} of `{}`, found {}", cols.size(), row_label(row),
+                                 current, fields.size() - 1),
+                     {"check for an extra delimiter in the row"});
+  }
+  for (std::size_t i = 1; i < fields.size(); ++i) {
+    WellId w{row, cols[i - 1]};
+    auto& per = g.values[w];
+    if (per.count(current)) {
+      throw InputError(Where{name, ln, fields[i].column, std::string(line)},
+                       fmt::format("well {} is given twice in `{}`", well_name(w), current),
+                       {"each row letter appears once per variable"});
+    }
+    per[current] = Cell{std::string(detail::trim(fields[i].text)), ln, fields[i].column, std::string(line)};
+    if (!g.first_line.count(w)) g.first_line[w] = ln;
+  }
+}
+
+GridBlocks read_grid_blocks(const std::string& name, std::string_view text) {
   detail::LineSource src(name, text);
   std::string_view line;
-  std::vector<std::string> variables;
-  // variable -> well -> cell
-  std::map<WellId, std::map<std::string, Cell>> values;
-  std::map<WellId, int> first_line;
+  GridBlocks g;
   std::vector<detail::Field> fields;
   std::string current;
   char d = 0;
   std::vector<int> cols;
   bool expect_header = false;
-  int first_variable_line = 1;
   while (src.next(line)) {
     int ln = src.line_number();
     auto tl = detail::trim(line);
@@ -220,55 +268,24 @@ PlateMap read_grid_form(const std::string& name, std::string_view text, const Ma
     detail::split_fields_into(line, d, fields);
     while (fields.size() > 1 && detail::trim(fields.back().text).empty()) fields.pop_back();
     if (expect_header) {
-      cols.clear();
-      for (std::size_t i = 1; i < fields.size(); ++i) {
-        auto v = detail::parse_number(fields[i].text);
-        if (!v || *v < 1 || *v > 48 || *v != static_cast<int>(*v)) {
-          throw InputError(Where{name, ln, fields[i].column, std::string(line)},
-                           fmt::format("expected a column number (1–48) in the header of `{}`, found \"{}\"", current,
-                                       fields[i].text),
-                           {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
-        }
-        cols.push_back(static_cast<int>(*v) - 1);
-      }
-      if (!detail::trim(fields[0].text).empty() || cols.empty()) {
-        throw InputError(Where{name, ln, 1, std::string(line)},
-                         fmt::format("expected a header of column numbers after the variable `{}`", current),
-                         {"after each variable name put a header line: an empty cell, then 1, 2, 3, …"});
-      }
+      cols = grid_header(name, ln, line, fields, current);
       expect_header = false;
       continue;
     }
     auto row = parse_row_label(fields[0].text);
     if (row && !current.empty() && fields.size() > 1) {
-      if (fields.size() > cols.size() + 1) {
-        throw InputError(Where{name, ln, fields[cols.size() + 1].column, std::string(line)},
-                         fmt::format("expected at most {} values in row {} of `{}`, found {}", cols.size(),
-                                     row_label(*row), current, fields.size() - 1),
-                         {"check for an extra delimiter in the row"});
-      }
-      for (std::size_t i = 1; i < fields.size(); ++i) {
-        WellId w{*row, cols[i - 1]};
-        auto& per = values[w];
-        if (per.count(current)) {
-          throw InputError(Where{name, ln, fields[i].column, std::string(line)},
-                           fmt::format("well {} is given twice in `{}`", well_name(w), current),
-                           {"each row letter appears once per variable"});
-        }
-        per[current] = Cell{std::string(detail::trim(fields[i].text)), ln, fields[i].column, std::string(line)};
-        if (!first_line.count(w)) first_line[w] = ln;
-      }
+      grid_row(name, ln, line, fields, *row, cols, current, g);
       continue;
     }
     if (fields.size() == 1 && !row) {
       current = std::string(detail::trim(fields[0].text));
-      for (const auto& v : variables) {
+      for (const auto& v : g.variables) {
         if (detail::iequals(v, current))
           throw InputError(Where{name, ln, 1, std::string(line)}, fmt::format("variable `{}` appears twice", current),
                            {"give each plate-shaped block its own variable name"});
       }
-      variables.push_back(current);
-      if (variables.size() == 1) first_variable_line = ln;
+      g.variables.push_back(current);
+      if (g.variables.size() == 1) g.first_variable_line = ln;
       expect_header = true;
       continue;
     }
@@ -276,25 +293,28 @@ PlateMap read_grid_form(const std::string& name, std::string_view text, const Ma
                      "expected a variable name, a header of column numbers or a row (A, B, …) of the plate-grid map",
                      {"see the plate map section of the README for the two map forms"});
   }
-  bool has_role = false;
-  for (const auto& v : variables) has_role |= detail::iequals(v, "role");
-  if (!has_role) {
+  return g;
+}
+
+PlateMap read_grid_form(const std::string& name, std::string_view text, const MapColumnOptions& o) {
+  GridBlocks g = read_grid_blocks(name, text);
+  std::string role_var;
+  for (const auto& v : g.variables)
+    if (detail::iequals(v, "role")) role_var = v;
+  if (role_var.empty()) {
     throw InputError(Where{name}, "the plate-grid map has no `role` block",
                      {"add a block named role (" + role_word_list() + " per well)"});
   }
   std::vector<std::string> columns{"well"};
-  columns.insert(columns.end(), variables.begin(), variables.end());
-  MapBuilder b(name, columns, first_variable_line, o);
-  for (const auto& [w, per] : values) {
-    std::string role_var;
-    for (const auto& v : variables)
-      if (detail::iequals(v, "role")) role_var = v;
+  columns.insert(columns.end(), g.variables.begin(), g.variables.end());
+  MapBuilder b(name, columns, g.first_variable_line, o);
+  for (const auto& [w, per] : g.values) {
     auto rit = per.find(role_var);
     if (rit == per.end() || rit->second.text.empty()) continue;  // not in the map
-    std::vector<Cell> cells{Cell{well_name(w), first_line[w], 1, ""}};
-    for (const auto& v : variables) {
+    std::vector<Cell> cells{Cell{well_name(w), g.first_line[w], 1, ""}};
+    for (const auto& v : g.variables) {
       auto it = per.find(v);
-      cells.push_back(it == per.end() ? Cell{"", first_line[w], 0, ""} : it->second);
+      cells.push_back(it == per.end() ? Cell{"", g.first_line[w], 0, ""} : it->second);
     }
     b.add(w, cells, rit->second.line, rit->second.line_text, rit->second.column);
   }

@@ -35,45 +35,114 @@ double relative_offset(const Eigen::MatrixXd& j, const Eigen::VectorXd& r) {
 }
 }  // namespace
 
+namespace {
+// The weighted residuals and the Jacobian in θ (∂f/∂θ = p·∂f/∂p on the log scale).
+void residuals_and_jacobian(const KineticModel& m, const FitPoints& pts, const std::vector<double>& p,
+                            Eigen::MatrixXd& jac, Eigen::VectorXd& r) {
+  const auto n = static_cast<Eigen::Index>(pts.size());
+  jac = natural_jacobian(m, pts, p);
+  for (std::size_t j = 0; j < p.size(); ++j)
+    if (on_log(m, j)) jac.col(static_cast<Eigen::Index>(j)) *= p[j];
+  r.resize(n);
+  for (Eigen::Index k = 0; k < n; ++k) {
+    const auto kk = static_cast<std::size_t>(k);
+    r(k) = pts.sqrt_w[kk] * (pts.v[kk] - m.rate(p, pts.s[kk], pts.i[kk], {}));
+  }
+}
+
+// The parameters free to move: not fixed, and not pinned at a bound the gradient pushes into.
+std::vector<Eigen::Index> free_parameters(const std::vector<bool>& fixed, const std::vector<double>& th,
+                                          const std::vector<double>& lo, const std::vector<double>& hi,
+                                          const Eigen::VectorXd& g) {
+  std::vector<Eigen::Index> free;
+  for (std::size_t j = 0; j < th.size(); ++j) {
+    if (fixed[j]) continue;
+    const auto jj = static_cast<Eigen::Index>(j);
+    if (th[j] <= lo[j] && g(jj) <= 0) continue;  // pinned at the lower bound
+    if (th[j] >= hi[j] && g(jj) >= 0) continue;  // pinned at the upper bound
+    free.push_back(jj);
+  }
+  return free;
+}
+
+// The state the iterations carry: θ, p = natural(θ), the box and the damping.
+struct LmState {
+  std::vector<double> th, lo, hi, p;
+  double rss = 0;
+  double lambda = 1e-3;
+};
+
+// Raises the damping until a step lowers the RSS (Marquardt scaling of the diagonal); returns
+// false when none does. On success the state moves and `max_move` is the largest relative step.
+bool damped_step(const KineticModel& m, const FitPoints& pts, const std::vector<bool>& fixed,
+                 const std::vector<double>& start, const std::vector<Eigen::Index>& free, const Eigen::MatrixXd& jf,
+                 const Eigen::VectorXd& gf, LmState& st, double& max_move) {
+  const Eigen::MatrixXd a = jf.transpose() * jf;
+  for (;;) {
+    Eigen::MatrixXd mtx = a;
+    for (Eigen::Index c = 0; c < mtx.rows(); ++c) mtx(c, c) += st.lambda * std::max(a(c, c), 1e-300);
+    const Eigen::VectorXd step = mtx.ldlt().solve(gf);
+    std::vector<double> th_new = st.th;
+    for (std::size_t c = 0; c < free.size(); ++c) {
+      const auto j = static_cast<std::size_t>(free[c]);
+      th_new[j] = std::clamp(st.th[j] + step(static_cast<Eigen::Index>(c)), st.lo[j], st.hi[j]);
+    }
+    const std::vector<double> p_new = to_natural(m, th_new, fixed, start);
+    const double rss_new = weighted_rss(m, pts, p_new);
+    if (std::isfinite(rss_new) && rss_new < st.rss) {
+      max_move = 0;
+      for (std::size_t j = 0; j < st.th.size(); ++j)
+        max_move = std::max(max_move, std::fabs(th_new[j] - st.th[j]) / (1.0 + std::fabs(st.th[j])));
+      st.th = th_new, st.p = p_new, st.rss = rss_new;
+      st.lambda = std::max(st.lambda * 0.1, 1e-12);
+      return true;
+    }
+    st.lambda *= 10;
+    if (st.lambda > 1e14) return false;
+  }
+}
+
+// A run creeping along a valley towards a bound may never land on it exactly: within 1e-6
+// relative of the bound (in ln p; of the box's half width on the own scale) counts as on it.
+std::vector<int> bounds_reached(const KineticModel& m, const std::vector<bool>& fixed, const LmState& st) {
+  std::vector<int> at(st.th.size(), 0);
+  for (std::size_t j = 0; j < st.th.size(); ++j) {
+    if (fixed[j]) continue;
+    const double near = on_log(m, j) ? 1e-6 : 1e-6 * st.hi[j];
+    if (st.th[j] <= st.lo[j] + near) at[j] = -1;
+    if (st.th[j] >= st.hi[j] - near) at[j] = 1;
+  }
+  return at;
+}
+}  // namespace
+
 LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const Bounds& bounds,
                              std::vector<double> start, const std::vector<bool>& fixed, const LmSettings& settings) {
   const std::size_t np = start.size();
   const auto n = static_cast<Eigen::Index>(pts.size());
-  std::vector<double> th(np), lo(np), hi(np);
+  LmState st;
+  st.th.resize(np), st.lo.resize(np), st.hi.resize(np);
   for (std::size_t j = 0; j < np; ++j) {
-    lo[j] = to_theta(m, j, bounds.lo[j]);
-    hi[j] = to_theta(m, j, bounds.hi[j]);
-    th[j] = fixed[j] ? to_theta(m, j, start[j]) : std::clamp(to_theta(m, j, start[j]), lo[j], hi[j]);
+    st.lo[j] = to_theta(m, j, bounds.lo[j]);
+    st.hi[j] = to_theta(m, j, bounds.hi[j]);
+    st.th[j] = fixed[j] ? to_theta(m, j, start[j]) : std::clamp(to_theta(m, j, start[j]), st.lo[j], st.hi[j]);
   }
   double scale = 0;  // Σ w v²: residuals below ~1e-14 of the data are an exact fit
   for (std::size_t k = 0; k < pts.size(); ++k) scale += pts.w[k] * pts.v[k] * pts.v[k];
 
   LmResult out;
-  std::vector<double> p = to_natural(m, th, fixed, start);
-  double rss = weighted_rss(m, pts, p);
-  double lambda = 1e-3;
+  st.p = to_natural(m, st.th, fixed, start);
+  st.rss = weighted_rss(m, pts, st.p);
   int it = 0;
   bool stalled = false;
   double crit = INFINITY;
+  Eigen::MatrixXd jac;
+  Eigen::VectorXd r;
   for (;;) {
-    Eigen::MatrixXd jac = natural_jacobian(m, pts, p);
-    for (std::size_t j = 0; j < np; ++j)  // ∂f/∂θ = p·∂f/∂p on the log scale
-      if (on_log(m, j)) jac.col(static_cast<Eigen::Index>(j)) *= p[j];
-    Eigen::VectorXd r(n);
-    for (Eigen::Index k = 0; k < n; ++k) {
-      const auto kk = static_cast<std::size_t>(k);
-      r(k) = pts.sqrt_w[kk] * (pts.v[kk] - m.rate(p, pts.s[kk], pts.i[kk], {}));
-    }
+    residuals_and_jacobian(m, pts, st.p, jac, r);
     const Eigen::VectorXd g = jac.transpose() * r;  // descent direction of RSS in θ
-    std::vector<Eigen::Index> free;
-    for (std::size_t j = 0; j < np; ++j) {
-      if (fixed[j]) continue;
-      const auto jj = static_cast<Eigen::Index>(j);
-      if (th[j] <= lo[j] && g(jj) <= 0) continue;  // pinned at the lower bound
-      if (th[j] >= hi[j] && g(jj) >= 0) continue;  // pinned at the upper bound
-      free.push_back(jj);
-    }
-    if (rss <= 1e-28 * scale || free.empty()) {
+    const std::vector<Eigen::Index> free = free_parameters(fixed, st.th, st.lo, st.hi, g);
+    if (st.rss <= 1e-28 * scale || free.empty()) {
       crit = 0;
       out.converged = true;
       break;
@@ -90,33 +159,8 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
       break;
     }
     if (it >= settings.max_iterations) break;
-    const Eigen::MatrixXd a = jf.transpose() * jf;
-    bool accepted = false;
     double max_move = 0;
-    while (!accepted) {
-      Eigen::MatrixXd mtx = a;
-      for (Eigen::Index c = 0; c < mtx.rows(); ++c)
-        mtx(c, c) += lambda * std::max(a(c, c), 1e-300);  // Marquardt scaling
-      const Eigen::VectorXd step = mtx.ldlt().solve(gf);
-      std::vector<double> th_new = th;
-      for (std::size_t c = 0; c < free.size(); ++c) {
-        const auto j = static_cast<std::size_t>(free[c]);
-        th_new[j] = std::clamp(th[j] + step(static_cast<Eigen::Index>(c)), lo[j], hi[j]);
-      }
-      const std::vector<double> p_new = to_natural(m, th_new, fixed, start);
-      const double rss_new = weighted_rss(m, pts, p_new);
-      if (std::isfinite(rss_new) && rss_new < rss) {
-        max_move = 0;
-        for (std::size_t j = 0; j < np; ++j)
-          max_move = std::max(max_move, std::fabs(th_new[j] - th[j]) / (1.0 + std::fabs(th[j])));
-        th = th_new, p = p_new, rss = rss_new;
-        lambda = std::max(lambda * 0.1, 1e-12);
-        accepted = true;
-      } else {
-        lambda *= 10;
-        if (lambda > 1e14) break;
-      }
-    }
+    const bool accepted = damped_step(m, pts, fixed, start, free, jf, gf, st, max_move);
     ++it;
     if (!accepted) {
       // No step lowers the RSS any more: the optimum is reached to rounding when the
@@ -130,19 +174,11 @@ LmResult levenberg_marquardt(const KineticModel& m, const FitPoints& pts, const 
     }
   }
   if (stalled) out.converged = crit < 1e-6;
-  out.p = p;
-  out.rss = rss;
+  out.p = st.p;
+  out.rss = st.rss;
   out.iterations = it;
   out.relative_offset = crit;
-  out.at_bound.assign(np, 0);
-  for (std::size_t j = 0; j < np; ++j) {
-    if (fixed[j]) continue;
-    // A run creeping along a valley towards a bound may never land on it exactly.
-    // Within 1e-6 relative of the bound (in ln p; of the box's half width on the own scale).
-    const double near = on_log(m, j) ? 1e-6 : 1e-6 * hi[j];
-    if (th[j] <= lo[j] + near) out.at_bound[j] = -1;
-    if (th[j] >= hi[j] - near) out.at_bound[j] = 1;
-  }
+  out.at_bound = bounds_reached(m, fixed, st);
   return out;
 }
 
