@@ -4,6 +4,8 @@
 // (the delta method in SI units), and the profile-t interval of kcat/Km
 // against R's nls of the refitted form (tests/reference/kcat/, R 4.2.2 from Debian's
 // r-base-core; the script and its output are kept there, R is not needed to run this test).
+#include <algorithm>
+#include <array>
 #include <cmath>
 #include <map>
 
@@ -255,4 +257,100 @@ TEST_CASE("vzero progress: the kcat rows in 1/s, or per min per enzyme unit with
   CHECK(vzero::progress_text(t, "enzyme")
             .find("note: kcat stays in uM/min per enzyme unit: the enzyme column gives "
                   "no unit") != std::string::npos);
+}
+
+namespace {
+
+// Nelder–Mead on two variables (Nelder & Mead 1965, the standard coefficients 1, 2, 1/2,
+// 1/2), restarted from its best point until a restart no longer improves: a minimiser that
+// shares nothing with the fit's Levenberg–Marquardt.
+template <class F>
+double nelder_mead_min(F f, std::array<double, 2> x0, double step) {
+  double best = f(x0);
+  for (int restart = 0; restart < 20; ++restart) {
+    std::array<std::array<double, 2>, 3> p = {x0, x0, x0};
+    p[1][0] += step, p[2][1] += step;
+    std::array<double, 3> y = {f(p[0]), f(p[1]), f(p[2])};
+    for (int it = 0; it < 4000; ++it) {
+      std::array<int, 3> o = {0, 1, 2};
+      std::sort(o.begin(), o.end(), [&](int a, int b) { return y[a] < y[b]; });
+      const int lo = o[0], mid = o[1], hi = o[2];
+      if (std::fabs(y[hi] - y[lo]) <= 1e-15 * std::fabs(y[lo])) break;
+      const std::array<double, 2> c = {(p[lo][0] + p[mid][0]) / 2, (p[lo][1] + p[mid][1]) / 2};
+      auto along = [&](double t) {
+        return std::array<double, 2>{c[0] + t * (p[hi][0] - c[0]), c[1] + t * (p[hi][1] - c[1])};
+      };
+      const auto r = along(-1);
+      const double yr = f(r);
+      if (yr < y[lo]) {
+        const auto e = along(-2);
+        const double ye = f(e);
+        if (ye < yr)
+          p[hi] = e, y[hi] = ye;
+        else
+          p[hi] = r, y[hi] = yr;
+      } else if (yr < y[mid]) {
+        p[hi] = r, y[hi] = yr;
+      } else {
+        const auto k = along(0.5);
+        const double yk = f(k);
+        if (yk < y[hi]) {
+          p[hi] = k, y[hi] = yk;
+        } else {
+          for (int v : {mid, hi}) {
+            p[v] = {(p[v][0] + p[lo][0]) / 2, (p[v][1] + p[lo][1]) / 2};
+            y[v] = f(p[v]);
+          }
+        }
+      }
+    }
+    const int b = static_cast<int>(std::min_element(y.begin(), y.end()) - y.begin());
+    const bool improved = y[b] < best * (1 - 1e-14);
+    best = std::min(best, y[b]);
+    x0 = p[b];
+    step /= 4;
+    if (!improved && restart > 2) break;
+  }
+  return best;
+}
+
+}  // namespace
+
+TEST_CASE("kcat/Km's profile limits of a three-parameter model solve the profile equation (brute force)") {
+  // Competitive inhibition, invented: Vmax 12, Km 150, Kic 40, with a fixed pattern of noise.
+  std::vector<double> s, inh, v;
+  const double noise[] = {0.05, -0.08, 0.02, 0.11, -0.04, -0.09, 0.07, 0.01, -0.06, 0.03, 0.09, -0.02};
+  int k = 0;
+  for (double i : {0.0, 20.0, 80.0})
+    for (double x : {25.0, 50.0, 100.0, 200.0, 400.0, 800.0}) {
+      s.push_back(x), inh.push_back(i);
+      v.push_back(12 * x / (150 * (1 + i / 40) + x) + noise[k++ % 12]);
+    }
+  const auto& m = vzero::kinetic_model("competitive");
+  const auto fit = vzero::fit_inhibition(s, inh, v, {}, m);
+  REQUIRE(fit.ok);
+  const auto d = vzero::turnover(fit, 1.0, s, inh, v, {});
+  REQUIRE(std::isfinite(d[1].profile_low));
+  REQUIRE(std::isfinite(d[1].profile_high));
+  // RSS minimised over ln Km and ln Kic with Vmax = a·Km (the profile's definition).
+  auto profile_rss = [&](double a) {
+    return nelder_mead_min(
+        [&](std::array<double, 2> x) {
+          const std::vector<double> p = {a * std::exp(x[0]), std::exp(x[0]), std::exp(x[1])};
+          double rss = 0;
+          for (std::size_t j = 0; j < v.size(); ++j) {
+            const double r = v[j] - m.rate(p, s[j], inh[j], {});
+            rss += r * r;
+          }
+          return rss;
+        },
+        {std::log(fit.parameters[1].estimate), std::log(fit.parameters[2].estimate)}, 0.2);
+  };
+  CHECK_REL(profile_rss(d[1].estimate), fit.rss, 1e-9);
+  for (double limit : {d[1].profile_low, d[1].profile_high}) {
+    const double tau = std::sqrt(profile_rss(limit) - fit.rss) / fit.residual_sd;
+    CHECK_REL(tau, fit.t_quantile, 1e-5);  // |τ| = t(0.975, df) at each limit
+  }
+  CHECK(d[1].profile_low < d[1].estimate);
+  CHECK(d[1].estimate < d[1].profile_high);
 }
