@@ -158,9 +158,9 @@ namespace vzero::detail {
 
 namespace {
 
-// Exponents of one unit text: mole, litre, per-minute, and its power of ten.
+// Exponents of one unit text: mole, litre, per-minute, per-second, and its power of ten.
 struct UnitPowers {
-  int mole = 0, litre = 0, per_min = 0, pow10 = 0;
+  int mole = 0, litre = 0, per_min = 0, per_s = 0, pow10 = 0;
   bool known = true;
 };
 
@@ -169,6 +169,9 @@ void add_atom(UnitPowers& u, std::string_view atom, int sign) {
   if (atom.size() > 4 && atom.substr(atom.size() - 4) == "/min") {
     per_min = true;
     atom.remove_suffix(4);
+  } else if (atom.size() > 2 && atom.substr(atom.size() - 2) == "/s") {  // kcat in 1/s
+    u.per_s += sign;
+    atom.remove_suffix(2);
   }
   if (atom == "M" || atom == "mM" || atom == "uM" || atom == "nM") {
     u.mole += sign;
@@ -196,6 +199,7 @@ Json unit_from_text(const std::string& text) {
   if (u.mole) base.push_back(base_unit("mole", u.mole, 1, u.mole == 1 ? u.pow10 : 0));
   if (u.litre) base.push_back(base_unit("litre", u.litre));
   if (u.per_min) base.push_back(base_unit("second", -u.per_min, 60));
+  if (u.per_s) base.push_back(base_unit("second", -u.per_s));
   if (base.empty() || (u.pow10 && u.mole != 1)) base.push_back(base_unit("dimensionless", 1, 1, u.mole == 1 ? 0 : u.pow10));
   return unit(id_part(text), text, std::move(base));
 }

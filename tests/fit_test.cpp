@@ -323,7 +323,7 @@ TEST_CASE("weights: a common factor changes nothing; weight 2 equals a duplicate
 TEST_CASE("kcat and kcat/Km: Vmax/[E] and the delta method") {
   const auto r = vzero::fit_model(puro_treated_S, puro_treated_v, {}, builtin("mm"));
   REQUIRE(r.ok);
-  const auto d = vzero::turnover(r, 2.0);
+  const auto d = vzero::turnover(r, 2.0, puro_treated_S, {}, puro_treated_v, {});
   REQUIRE(d.size() == 2);
   const double v = r.parameters[0].estimate, k = r.parameters[1].estimate;
   CHECK(d[0].name == "kcat");

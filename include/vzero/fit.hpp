@@ -116,10 +116,16 @@ FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>
                          const std::vector<double>& v, const std::vector<double>& weights, const KineticModel& model,
                          const FitOptions& options = {});
 
-// kcat = Vmax/[E] and kcat/Km = Vmax/([E]·Km) (Km: the second parameter: Km or K_half),
-// [E] taken as exact. SE by the delta method from the covariance, Wald-t intervals; the
-// kcat profile interval is the Vmax one divided by [E] (kcat/Km has none: NaN).
-std::vector<ParameterEstimate> turnover(const FitResult& fit, double enzyme_conc);
+// kcat = Vmax/[E] and kcat/Km = Vmax/([E]·Km) (Km: the second parameter: Km or K_half) in
+// the fit's own units (fit_table reduces them to 1/s and 1/s per M), [E] taken as exact. SE
+// by the delta method from the covariance, Wald-t intervals; kcat's profile interval is
+// Vmax's divided by [E]; kcat/Km's is the profile-t interval of Vmax/Km in the model refitted
+// with θ = (Vmax/Km, Km, …) (for Michaelis–Menten v = (Vmax/Km)·S/(1 + S/Km)) divided by [E].
+// The refit needs the points and options of `fit`: s, inhibitor (empty for single-substrate
+// models), v, weights (empty = 1). Empty when `fit` is not ok; UsageError for [E] <= 0.
+std::vector<ParameterEstimate> turnover(const FitResult& fit, double enzyme_conc, const std::vector<double>& s,
+                                        const std::vector<double>& inhibitor, const std::vector<double>& v,
+                                        const std::vector<double>& weights, const FitOptions& options = {});
 
 // Student t distribution: P(T ≤ t) and its inverse (regularized incomplete beta by
 // continued fraction, then Newton with bisection safeguard). df > 0, 0 < p < 1.
@@ -158,6 +164,7 @@ struct FitTableOptions {
   std::vector<const KineticModel*> models = {&kinetic_model("mm")};  // registered models
   std::string inhibitor_column;                                      // required by the inhibition models
   std::string enzyme_column;                                         // when set: kcat and kcat/Km per fit
+  bool kcat_per_min = false;  // kcat in 1/min and kcat/Km in 1/min per M (default 1/s, 1/s per M)
   Weighting weighting = Weighting::none;
   std::string sd_column;         // replicate-sd: SD column; empty = "<y>_sd" or
                                  // "<stem>_sd" for "<stem>_mean"; else replicate SDs

@@ -23,7 +23,7 @@ struct FitSettings {
   std::vector<std::string> groups, models{"mm"};
   std::vector<double> start;
   std::vector<std::string> fixed;  // NAME=VALUE items of --fix, parsed against the models by fit_table_options
-  bool include_flagged = false, quiet = false;
+  bool include_flagged = false, quiet = false, kcat_per_min = false;
   FitOptions fit;  // confidence, max_iterations, profile (start is copied in by fit_table_options)
   // Outputs of the command line.
   std::string output, json, diagnostics, report, enzymeml, enzymeml_from;

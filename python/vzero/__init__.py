@@ -126,8 +126,8 @@ def fit_outputs(table, x, model="mm", units=None, **options):
     datapackage.json beside it), or a DataFrame / dict of columns (units from `units`, or
     the DataFrame's attrs["units"], which vzero.rates sets).
 
-    Options as the command line's (y, group, inhibitor, enzyme, weight, sd, include_flagged,
-    role, start, confidence, max_iterations, no_profile). Returns a dict: "fit" (the tidy
+    Options as the command line's (y, group, inhibitor, enzyme, kcat_per_min, weight, sd,
+    include_flagged, role, start, confidence, max_iterations, no_profile). Returns a dict: "fit" (the tidy
     fit table), "diagnostics" (the linearised-plot table), "csv" (their text, as written by
     `vzero fit -o` / `--diagnostics`), "json" (the --json document, parsed), "notes".
     """

@@ -27,7 +27,8 @@ namespace {
 // The usage text; {models} and {model_lines} come from the kinetic-model registry.
 constexpr const char* k_usage = R"(usage: vzero fit TABLE.csv --x COLUMN [--y COLUMN] [--group COL,...]
                  [--model {models}|all]
-                 [--inhibitor COLUMN] [--enzyme COLUMN] [--weight none|replicate-sd|relative]
+                 [--inhibitor COLUMN] [--enzyme COLUMN [--kcat-per-min]]
+                 [--weight none|replicate-sd|relative]
                  [--include-flagged] [--role ROLE] [-o fit.csv] [--json fit.json]
                  [--diagnostics FILE] [--report report.html]
 
@@ -54,9 +55,13 @@ morrison's enzyme concentration E in x's unit, or --enzyme COLUMN does):
 Results per group and model: estimate, standard error from s^2 (J'WJ)^-1, 95 % Wald-t and
 profile-t intervals, residual SD, df, RSS, AIC (Gaussian log-likelihood form, as R's AIC
 for nls: n*(ln 2pi + 1 - ln n + ln RSS) - sum(ln w) + 2(p + 1)), convergence and
-iterations; with --enzyme also kcat = Vmax/[E] and kcat/Km (delta-method SE). Units come
+iterations; with --enzyme also kcat = Vmax/[E] and kcat/Km (delta-method SE; the profile
+interval of kcat/Km from the model refitted with Vmax/Km as a parameter). Units come
 from the table (a v0_unit column; "<name>_unit" columns or a unit suffix such as _uM),
 else from the datapackage.json beside it (vzero rates gives the substrate --conc-unit there).
+kcat is given in 1/s and kcat/Km in 1/s per M (= M^-1 s^-1; --kcat-per-min: 1/min) when the
+rate is a molar concentration per time and the enzyme and substrate columns have molar
+units; otherwise they keep the table's units and a note says which unit is missing.
 Starting values come from a Hanes–Woolf regression of S/v (Hill: a Hill plot) and a coarse
 grid; the better converged run is kept. A group that cannot be fitted gets a row with an
 empty estimate and a message saying why.

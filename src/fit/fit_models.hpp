@@ -73,4 +73,22 @@ ProfileLimits profile_limits(const KineticModel& m, const FitPoints& pts, const 
                              std::size_t j, double se_j, double residual_sd, double cutoff, const LmSettings& settings,
                              const std::vector<bool>& held = {});
 
+// The model in θ = (Vmax/K, K, p₂, …), K its substrate constant (parameter 1): the rate
+// f(q₀·q₁, q₁, q₂, …), gradient by the chain rule. Made once per model and kept (never
+// registered: no --model word); e.g. Michaelis–Menten as v = (Vmax/Km)·S/(1 + S/Km).
+const KineticModel& specificity_form(const KineticModel& m);
+
+// `fit` (ok, not dose-response) refitted in specificity_form from its optimum over the same
+// points and FitOptions (held parameters stay held), and the profile-t limits of Vmax/K from
+// profile_limits, `se` (the delta-method SE of Vmax/K) setting its first step. With Vmax
+// held, Vmax/K's limits are K's mapped; an exact fit has zero width; options.profile false
+// leaves them NaN.
+struct SpecificityFit {
+  double estimate = NAN;  // Vmax/K at the refitted optimum: V̂/K̂ to rounding
+  double rss = NAN;
+  bool converged = false;
+  ProfileLimits profile;
+};
+SpecificityFit specificity_fit(const FitResult& fit, const FitPoints& pts, double se, const FitOptions& options);
+
 }  // namespace vzero::detail

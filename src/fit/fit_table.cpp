@@ -7,6 +7,7 @@
 
 #include "core/text.hpp"
 #include "fit/dose_response.hpp"
+#include "fit/turnover_units.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"
 
@@ -67,8 +68,6 @@ std::string column_unit(const Table& t, const std::string& name, const std::vect
 }
 
 std::string stem_of(const std::string& y) { return ends_with(y, "_mean") ? y.substr(0, y.size() - 5) : y; }
-
-std::string per(const std::string& a, const std::string& b) { return a.empty() || b.empty() ? "" : a + " per " + b; }
 
 // A parameter's unit from its unit role and the units the table gives.
 std::string unit_for(UnitRole role, const TableFit& t) {
@@ -322,7 +321,8 @@ double group_enzyme(const std::vector<Row>& points, const TableFit& out, std::st
 // One model fitted to one group's points, with its units and derived constants.
 GroupFit fit_group_model(const KineticModel& m, const std::vector<std::string>& key, const std::vector<Row>& points,
                          const std::vector<double>& w, const std::string& weight_problem, double enzyme,
-                         const std::string& enzyme_problem, bool with_enzyme, const FitOptions& fit, TableFit& out) {
+                         const std::string& enzyme_problem, const detail::TurnoverUnits* turnover_units,
+                         const FitOptions& fit, TableFit& out) {
   GroupFit gf;
   gf.group_values = key;
   gf.model = &m;
@@ -351,11 +351,9 @@ GroupFit fit_group_model(const KineticModel& m, const std::vector<std::string>& 
     gf.derived = detail::p_ic50(gf.result, out.x_unit, why);
     if (!gf.derived.empty()) gf.units.push_back("log10(1/M)");
     if (!why.empty()) gf.result.warnings.push_back(why);
-  } else if (gf.result.ok && with_enzyme) {
+  } else if (gf.result.ok && turnover_units) {
     if (enzyme_problem.empty()) {
-      gf.derived = turnover(gf.result, enzyme);
-      gf.units.push_back(per(out.v_unit, out.enzyme_unit));
-      gf.units.push_back(per(per(out.v_unit, out.enzyme_unit), out.x_unit));
+      detail::add_turnover(gf, enzyme, *turnover_units, fit);
     } else {
       gf.result.warnings.push_back(enzyme_problem);
     }
@@ -380,6 +378,9 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   out.x_unit = column_unit(table, out.x_column, gs.used_rows, options.column_units);
   out.inhibitor_unit = column_unit(table, out.inhibitor_column, gs.used_rows, options.column_units);
   out.enzyme_unit = column_unit(table, out.enzyme_column, gs.used_rows, options.column_units);
+  const detail::TurnoverUnits units =
+      detail::turnover_units(out.v_unit, out.enzyme_unit, out.x_unit, options.kcat_per_min);
+  if (c.enzyme >= 0 && !units.why.empty()) out.notes.push_back(units.why);
   if (gs.keys.empty()) {
     // Nothing survived the filters: still one failed fit per model, so the output says why.
     gs.keys.emplace_back(c.groups.size(), std::string());
@@ -392,7 +393,7 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
     const double enzyme = c.enzyme >= 0 ? group_enzyme(gs.points[g], out, enzyme_problem) : NAN;
     for (const KineticModel* model : options.models)
       out.fits.push_back(fit_group_model(*model, gs.keys[g], gs.points[g], w, weight_problem, enzyme, enzyme_problem,
-                                         c.enzyme >= 0, options.fit, out));
+                                         c.enzyme >= 0 ? &units : nullptr, options.fit, out));
   }
   return out;
 }

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "core/csv_write.hpp"
+#include "fit/turnover_units.hpp"
 #include "vzero/plate_map.hpp"
 #include "vzero/progress.hpp"
 
@@ -22,11 +23,26 @@ void header(detail::CsvOut& o, const std::vector<std::string>& groups, std::init
   o.end_row();
 }
 
+// kcat's unit and factor: 1/s when the traces' and the enzyme column's units are molar
+// (fit/turnover_units.hpp), else the fitted per-min-per-enzyme-unit with the reason.
+detail::TurnoverUnits kcat_units(const ProgressTable& t, const std::string& enzyme_unit) {
+  return detail::turnover_units(t.rate_unit, enzyme_unit, t.conc_unit, false);
+}
+
+// An estimate in the unit unit_of gives it (kcat reduced; the others as fitted).
+ParameterEstimate in_unit(const ProgressTable& t, const ParameterEstimate& e, std::string_view name,
+                          const std::string& enzyme_unit) {
+  ParameterEstimate out = e;
+  if (name == "kcat") detail::scale_estimate(out, kcat_units(t, enzyme_unit).kcat_factor);
+  return out;
+}
+
 // Units of the shared parameters: Km and Kp in the traces' concentration, Vmax per min,
-// kcat per min per unit of enzyme (the enzyme column's unit suffix, when it has one).
+// kcat in 1/s, or per min per unit of enzyme when the units do not reduce.
 std::string unit_of(const ProgressTable& t, const std::string& name, const std::string& enzyme_unit) {
   if (name == "Km" || name == "Kp" || name == "offset") return t.conc_unit;
   if (name == "Vmax") return t.rate_unit;
+  if (name == "kcat" && kcat_units(t, enzyme_unit).kcat_why.empty()) return kcat_units(t, enzyme_unit).kcat_unit;
   if (name == "kcat") return t.rate_unit + " per " + (enzyme_unit.empty() ? "enzyme unit" : enzyme_unit);
   if (name == "lead_s") return "s";
   return "";
@@ -65,7 +81,7 @@ void progress_rows(detail::CsvOut& o, const ProgressTable& t, const ProgressGrou
   }
   auto one = [&](const ParameterEstimate& e, std::string_view name, std::string_view well) {
     row_head(o, g, "progress", f.model, name, well);
-    estimate_cells(o, e);
+    estimate_cells(o, in_unit(t, e, name, enzyme_unit));
     fit_tail(o, unit_of(t, std::string(name), enzyme_unit), f.n, f.df, f.rss, f.residual_sd, f.aic, f.converged,
              message.empty() ? f.message : message);
   };
@@ -95,7 +111,7 @@ std::string progress_csv(const ProgressTable& t, const std::string& enzyme_colum
     for (std::size_t j = 0; j < 2; ++j) {
       const std::string name = j == 0 ? v_name : "Km";
       row_head(o, g, "initial-rates", "mm", name, "");
-      estimate_cells(o, r.parameters[j]);
+      estimate_cells(o, in_unit(t, r.parameters[j], name, enzyme_unit));
       fit_tail(o, unit_of(t, name, enzyme_unit), r.n, r.df, r.rss, r.residual_sd, r.aic, r.converged, "");
     }
   }
@@ -152,13 +168,17 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
         const ParameterEstimate* r = !g.rates_fit.ok ? nullptr : e.name == "Km" ? &g.rates_fit.parameters[1]
                                                            : rate_param       ? &g.rates_fit.parameters[0]
                                                                               : nullptr;
-        out += fmt::format("  {:<8}{:<{}}{:<48}{}\n", e.name, unit_of(t, e.name, enzyme_unit), uw, interval(e),
-                           r ? interval(*r) : "");
+        out += fmt::format("  {:<8}{:<{}}{:<48}{}\n", e.name, unit_of(t, e.name, enzyme_unit), uw,
+                           interval(in_unit(t, e, e.name, enzyme_unit)),
+                           r ? interval(in_unit(t, *r, e.name, enzyme_unit)) : "");
       }
       out += fmt::format("  residual SD {:.4g} {}, AIC {:.2f}; initial rates: {}\n", g.mm.residual_sd, t.conc_unit,
                          g.mm.aic,
                          g.rates_fit.ok ? fmt::format("{} wells without flags", g.rates_fit.n) : g.rates_fit.message);
     }
+    if (g.mm.ok && !enzyme_column.empty() && !kcat_units(t, enzyme_unit).kcat_why.empty())
+      out += "  note: kcat stays in " + unit_of(t, "kcat", enzyme_unit) + ": " + kcat_units(t, enzyme_unit).kcat_why +
+             "\n";
     if (g.pi.ok)
       out += fmt::format("  with product inhibition: Kp = {:.5g} {} [{:.5g}, {:.5g}]\n", g.pi.find("Kp")->estimate,
                          t.conc_unit, g.pi.find("Kp")->ci_low, g.pi.find("Kp")->ci_high);

@@ -49,6 +49,8 @@ std::vector<FitOptionSpec> make_table() {
                    [](F& s, const V& v) { return s.inhibitor = v.text, std::string(); }));
   t.push_back(spec("enzyme", K::text, "", "enzyme concentration column: adds kcat and kcat/Km",
                    [](F& s, const V& v) { return s.enzyme = v.text, std::string(); }));
+  t.push_back(spec("kcat-per-min", K::flag, "", "kcat in 1/min and kcat/Km in 1/min per M (default: per second)",
+                   [](F& s, const V& v) { return s.kcat_per_min = v.on, std::string(); }));
   t.push_back(spec("weight", K::text, "none", "none, replicate-sd (1/sd^2) or relative (1/v^2)",
                    [](F& s, const V& v) { return s.weight = v.text, std::string(); }));
   t.push_back(spec("sd", K::text, "",
@@ -249,6 +251,7 @@ FitTableOptions fit_table_options(const FitSettings& s, Spelling sp) {
     throw UsageError(fmt::format("{}is used only with {}replicate-sd", at("sd"), at("weight")));
   o.sd_column = s.sd;
   o.include_flagged = s.include_flagged;
+  o.kcat_per_min = s.kcat_per_min;
   o.role = s.role == "any" ? "" : s.role;
   o.fit = s.fit;
   o.fit.start = s.start;
