@@ -37,15 +37,15 @@ constexpr std::array<MarkInfo, 24> k_marks{{
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
     {"depleted", flag, "sample",
      "the conversion limit (`--max-conversion` of `substrate`) is passed before the shortest window ends, or "
-     "the window after a lag sits where more than half that limit is converted at its middle: v0 at the "
-     "starting substrate is underestimated"},
+     "the window after a lag sits where more than half that limit is converted at its middle (no tangent): v0 at "
+     "the starting substrate is underestimated"},
     {"noise", flag, "sample",
      "the rate cannot be told from noise: its 95 % interval holds 0, or it is below 3 × the slope SD that the blank's "
      "read noise alone would give"},
     {"negative", flag, "sample", "the rate is below zero (in the reaction direction)"},
     {"rising", flag, "sample",
-     "the rate still rises across the chosen window, or a later stretch of the trace climbs faster than the window "
-     "(a lag not over by its end): v0 is underestimated"},
+     "the rate still rises across the chosen window, a later stretch climbs faster, or the window starts inside a "
+     "lag's ramp: v0 is underestimated"},
     {"imprecise", flag, "sample",
      "the rate's 95 % interval (read noise over the window, the scatter of the blank wells' own rates, and how far "
      "the substrate used may have bent a straight line) is wider than `--precision-limit` (default ±15 %) of the rate"},

@@ -20,7 +20,9 @@
 //      first half of the reads are compared. If the steepest run is steeper than the first
 //      by more than 4 standard errors (from `noise_sd`, else the spike screen's noise
 //      estimate), the rate rises at the start: the window starts at the first run within
-//      one standard error of the steepest.
+//      one standard error of the steepest. Gentler ramps are found by their shape
+//      (src/rates/lag_model.hpp: the lag curve against a line; with a depletion term against
+//      a parabola); the window then starts at 3τ, as far as the reads allow.
 //   4. From there the window grows one read at a time. Each candidate is fitted with a
 //      straight line and with a parabola. It is "curved" when the parabola's square term is
 //      significant (two-sided t-test at `linearity_alpha`, residual SD never below
@@ -36,7 +38,8 @@
 //      the table `default_window_rules()` (or `window_rules`); the one that ends the window
 //      is named in `window_end`. A chosen window that still bends upwards, or after which a
 //      stretch of its own length climbs faster than it (3 standard errors of the difference,
-//      up to 4 stretches; a reaction's rate only falls once it runs), is flagged `rising`.
+//      up to 4 stretches; a reaction's rate only falls once it runs), or that starts before
+//      3τ of a lag found by its shape, is flagged `rising`.
 //   5. In the window, a read whose residual from the Theil–Sen line (fitted to the window's
 //      reads that passed the spike screen) exceeds `outlier_k` × 1.4826 × MAD of the
 //      residuals (or `noise_sd` if larger) is an outlier; the slope is then estimated from

@@ -22,4 +22,11 @@ struct LagShape {
 inline constexpr int k_lag_grid = 24;
 LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, double tau_max_s);
 
+// The same lag while substrate runs out: y = a + v·g − q·g², g = g_τ(t − t₀) (the progress
+// curve's first two terms on the lag's stretched clock; v > 0, q ≥ 0: the rate falls as
+// substrate is used), against the parabola y = a + b·u + c·u² (its τ → 0 limit). A ramp that
+// a falling rate straightens (an S-shaped curve) fits no parabola but this; a curve with no
+// lag gains nothing. `gain` is (RSS of the parabola − RSS of this fit) / sd². O(k_lag_grid · n).
+LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double sd, double tau_max_s);
+
 }  // namespace vzero::detail

@@ -51,8 +51,11 @@ struct WindowChoice {
 // product formed is measured from the curve: the candidate's line at its last read minus the
 // trace's baseline at `t_ref` (the line of the first `min_points` undisturbed reads there).
 // `first`: the first usable position the window may start at (after a disturbed start).
+// `noise_sd`: the read noise the blanks give (NaN = not known); on traces too short for the
+// spike screen's noise estimate to stay clear of the curvature they look for, the lag tests
+// judge against it; else against the larger of `sd_floor` and that estimate.
 WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref,
-                           int first = 0);
+                           int first = 0, double noise_sd = NAN);
 
 // The disturbed start of the usable reads (screen_start on the reads the spike screen let
 // through, read noise `sd`). When there is one, the fitted disturbance is taken off every

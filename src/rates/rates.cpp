@@ -213,10 +213,11 @@ LineFit fit_window(const detail::Usable& u, const detail::WindowChoice& w, const
 // (the fixed windows take the baseline from their own line's first reads). Returns the
 // fraction converted at the window's middle. A window after a lag rates the reaction at the
 // substrate the lag left: when more than half the conversion limit is used at its middle
-// (where a window from the start that ends at the limit has its middle at most), v0 at the
-// starting substrate is underestimated by more than the limit allows anywhere else.
+// (where a window from the start that ends at the limit has its middle at most), its line
+// underestimates v0 at the starting substrate by more than the limit allows anywhere else
+// (`lag_depleted`; the flag waits for the tangent, which corrects for the substrate used).
 double conversion(const detail::Usable& u, const detail::WindowChoice& w, const LineFit& line, const TraceView& tr,
-                  const RateOptions& opt, double t_ref, RateResult& r) {
+                  const RateOptions& opt, double t_ref, RateResult& r, bool& lag_depleted) {
   double baseline = w.baseline;
   if (!std::isfinite(baseline)) {
     std::vector<double> bt, by;
@@ -231,7 +232,7 @@ double conversion(const detail::Usable& u, const detail::WindowChoice& w, const 
   r.conversion = (line.intercept + line.slope * r.t_end_s - baseline) * tr.conc_per_signal / tr.substrate;
   const double at_start = (line.intercept + line.slope * r.t_start_s - baseline) * tr.conc_per_signal / tr.substrate;
   const double mid = 0.5 * (at_start + r.conversion);
-  if (r.lag_s > 0 && mid > 0.5 * opt.max_conversion) add_flag(r, "depleted");
+  lag_depleted = r.lag_s > 0 && mid > 0.5 * opt.max_conversion;
   return mid;
 }
 
@@ -313,14 +314,20 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   detail::StartScreen start;
   if (opt.detect_disturbed && opt.window == WindowMethod::automatic)
     start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
-  const detail::WindowChoice w = detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip);
+  const detail::WindowChoice w =
+      detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip, tr.noise_sd);
   record_window(w, start, u, r);
   Kept kept;
   std::vector<double> kt;
   const LineFit line = fit_window(u, w, opt, sd_floor, r, kept, kt);
-  const double mid_conversion = std::isfinite(limit_per_signal) ? conversion(u, w, line, tr, opt, t_ref, r) : NAN;
+  bool lag_depleted = false;
+  const double mid_conversion =
+      std::isfinite(limit_per_signal) ? conversion(u, w, line, tr, opt, t_ref, r, lag_depleted) : NAN;
   if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest)
     take_tangent(u, w, kept, line, opt, sd_floor, t_ref, r);
+  // The initial tangent is the parabola's slope at reaction start: it answers for the
+  // substrate the lag used, the straight line does not.
+  if (lag_depleted && r.tangent != "parabola") add_flag(r, "depleted");
   // A straight line rates the reaction at the substrate left at its window's middle: with a
   // fraction c converted there, v0 can lie up to line/(1 − c) − line above it (the Michaelis–
   // Menten rate falls no faster than the substrate, v/v0 ≥ 1 − c; the bound is reached far

@@ -15,6 +15,9 @@ namespace {
 // consecutive candidates: one significant test in a long sequence of tests is expected by
 // chance, three in a row are not.
 constexpr int k_confirm = 3;
+// Reads in the spike screen's neighbourhood of a read (the read and its six neighbours,
+// rate_window.cpp).
+constexpr int k_neighbourhood = 7;
 // Fewest reads on which the curvature test is run (2 residual degrees of freedom).
 constexpr int k_min_test_reads = 5;
 
@@ -118,28 +121,42 @@ int lag_scan(const WindowStats& stats, const std::vector<double>& t, int s0, int
 
 // A lag by its shape (lag_model.hpp), for ramps too gentle for lag_scan's short windows: the
 // lag curve fitted to the reads from s0 up to twice the conversion limit (the first half of
-// the run when no limit is known; at least 2p reads), τ up to a third of the run. When it
-// fits better than a line by more than k_lag_gain read-noise variances, the window starts
-// where the rate has reached 95 % of its steady value (3τ), at most lag_max reads on.
+// the run when no limit is known; at least 2p reads), τ up to a third of the run; when a
+// falling rate straightens the ramp (a slow onset while substrate runs out fast, an S-shaped
+// curve), the lag curve with depletion against a parabola. When either fits better by more
+// than k_lag_gain read-noise variances, the window starts where the rate has reached 95 % of
+// its steady value (3τ), at most lag_max reads on; `ramp_end_s` is that time (a window that
+// starts before it sits inside the ramp and underestimates v0).
 constexpr double k_lag_gain = 9.0;
-int lag_by_shape(const WindowStats& stats, const std::vector<double>& t, const std::vector<double>& y, int s0, int p,
-                 int lag_max, double sd, double baseline, double limit_signal) {
+struct ShapeLag {
+  int start = 0;
+  double ramp_end_s = -INFINITY;
+};
+ShapeLag lag_by_shape(const WindowStats& stats, const std::vector<double>& t, const std::vector<double>& y, int s0,
+                      int p, int lag_max, double sd, double baseline, double limit_signal) {
   const int mc = static_cast<int>(t.size());
-  if (lag_max < 1 || !(sd > 0)) return s0;
+  if (lag_max < 1 || !(sd > 0)) return {s0, -INFINITY};
   int last = s0;
   if (std::isfinite(limit_signal) && std::isfinite(baseline))
     while (last + 1 < mc && y[z(last + 1)] - baseline <= 2 * limit_signal) ++last;
   else
     last = s0 + (mc - s0) / 2 - 1;
   last = std::min(mc - 1, std::max(last, s0 + 2 * p - 1));
+  const int n = last - s0 + 1;
+  const double tau_max = (t[z(mc - 1)] - t[z(s0)]) / 3;
   // The lag curve is convex: reads whose parabola bends down (or not at all) cannot fit it
   // better than a line, so the fit is spared them.
-  if (!(stats.test(s0, last + 1, sd, t[z(s0)]).curvature > 0)) return s0;
-  const LagShape lag = fit_lag_shape(t.data() + s0, y.data() + s0, last - s0 + 1, sd, (t[z(mc - 1)] - t[z(s0)]) / 3);
-  if (!(lag.gain > k_lag_gain)) return s0;
+  LagShape lag;
+  if (stats.test(s0, last + 1, sd, t[z(s0)]).curvature > 0)
+    lag = fit_lag_shape(t.data() + s0, y.data() + s0, n, sd, tau_max);
+  // With depletion, only the ramp's half bends upwards: a curve whose first half does not
+  // (a straight start that bends down later, as far above Km) is no lag.
+  if (!(lag.gain > k_lag_gain) && stats.test(s0, s0 + (n + 1) / 2, sd, t[z(s0)]).curvature > 0)
+    lag = fit_lag_depletion_shape(t.data() + s0, y.data() + s0, n, sd, tau_max);
+  if (!(lag.gain > k_lag_gain)) return {s0, -INFINITY};
   int s = s0;
   while (s < s0 + lag_max && t[z(s)] - t[z(s0)] < 3 * lag.tau_s) ++s;
-  return s;
+  return {s, t[z(s0)] + 3 * lag.tau_s};
 }
 
 // A stretch after the window [s, e) steeper than the window itself: once an enzyme reaction
@@ -210,7 +227,7 @@ StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd) {
 }
 
 WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_floor, double limit_signal, double t_ref,
-                           int first) {
+                           int first, double noise_sd) {
   WindowChoice w;
   const int m = static_cast<int>(u.t.size());
   const int p = opt.min_points;
@@ -291,9 +308,21 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   CriticalT t_crit(1 - opt.linearity_alpha / 2);
   const int lag_max = (mc - s0 - p) / 2;  // how far a lag may push the window's start
   int s = s0;
+  double ramp_end_s = -INFINITY;  // where the lag shape says the ramp ends
+  // On a short trace the spike screen's line through a read's six neighbours spans most of
+  // the curve, so the curvature a lag test looks for inflates that scatter: there the
+  // blanks' read noise, when known, is the yardstick; on longer traces the larger of the two
+  // (the blanks' noise leaves out what their subtraction adds to the sample's).
+  const bool short_trace = mc < 2 * k_neighbourhood;
+  const double lag_sd = short_trace && std::isfinite(noise_sd) && noise_sd > 0 ? noise_sd : sd;
   if (opt.detect_lag) {
-    s = lag_scan(stats, ct, s0, p, lag_max, sd);
-    if (s == s0) s = lag_by_shape(stats, ct, cy, s0, p, lag_max, sd, baseline, limit_signal);
+    s = lag_scan(stats, ct, s0, p, lag_max, lag_sd);
+    // The shape also tells where a ramp ends that the block scan found but could not pass.
+    if (s == s0 || s == s0 + lag_max) {
+      const ShapeLag shape = lag_by_shape(stats, ct, cy, s0, p, lag_max, lag_sd, baseline, limit_signal);
+      s = std::max(s, shape.start);
+      ramp_end_s = shape.ramp_end_s;
+    }
     w.lag = s > s0;
   }
   const std::vector<WindowRule>& rules = opt.window_rules ? *opt.window_rules : default_window_rules();
@@ -365,6 +394,9 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
     // ... or whose reads after it climb faster than it does.
     if (opt.detect_lag && !w.rising) w.rising = steeper_later(stats, s, accepted, mc, sd);
   }
+  // A window that starts before the fitted lag curve has reached 95 % of its steady rate
+  // sits in the ramp, however it ended.
+  w.rising = w.rising || ct[z(s)] < ramp_end_s;
   w.end = end;
   return w;
 }
