@@ -72,6 +72,16 @@ constexpr RateEntry k_rate_columns[] = {
      .description = "100 − activity_pct",
      .write = [](CsvOut& o, Rate x, std::size_t) { o.number(100 - activity_pct(x)); },
      .when = [](const RatesContext& c) { return c.screen.normalised; }},
+    {.name = "robust_z",
+     .type = number,
+     .unit = "",
+     .description = "samples: (v0 − median)/(1.4826·MAD) of the plate's and channel's unflagged sample v0; empty for "
+                    "other roles and when the MAD is 0",
+     .write =
+         [](CsvOut& o, Rate x, std::size_t) {
+           if (x.row.role == Role::sample) o.number(x.channel.controls.robust_z(x.row.v0));
+         },
+     .when = [](const RatesContext& c) { return c.screen.normalised; }},
     {.name = "hit",
      .type = text,
      .unit = "",
@@ -229,6 +239,13 @@ const ControlStats& control(Quality x, std::size_t i) {
   return i == 0 ? x.channel.controls.full : x.channel.controls.none;
 }
 
+// Cell i of the trend columns: p and change of row, column, position, edge in turn.
+double trend_cell(const PlateTrends& t, std::size_t i) {
+  const Trend* axes[] = {&t.row, &t.column, &t.position, &t.edge};
+  const Trend& a = *axes[i / 2];
+  return i % 2 ? a.change_pct : a.p;
+}
+
 // An entry giving one statistic of both controls: columns NAME_full and NAME_no (`names`).
 constexpr QualityEntry both(FieldType type, std::string_view unit, std::string_view description,
                             CellWriter<QualityRowRef> write,
@@ -289,6 +306,25 @@ constexpr QualityEntry k_quality_columns[] = {
      [](CsvOut& o, Quality x, std::size_t) { o.number(x.quality.robust_signal_window); }},
     {"robust_signal_to_background", number, "", "robust: median_full/median_no; empty unless median_no > 0",
      [](CsvOut& o, Quality x, std::size_t) { o.number(x.quality.robust_signal_to_background); }},
+    {.name = "",
+     .type = number,
+     .unit = "",
+     .description = "edge and drift: the controls' v0 (in % of mean_full − mean_no) against row, column, position "
+                    "(row-major well index) and edge (outer wells 1, inner 0), one least-squares slope shared by both "
+                    "controls: *_p the two-sided t-test p of the slope, *_change_pct the fitted change across the plate "
+                    "(activity points); empty when the coordinate does not vary within a control",
+     .write = [](CsvOut& o, Quality x, std::size_t i) { o.number(trend_cell(x.trends, i)); },
+     .each = [](const NoContext&) -> const std::vector<std::string>& {
+       static const std::vector<std::string> v{"trend_row_p",           "trend_row_change_pct",
+                                               "trend_column_p",        "trend_column_change_pct",
+                                               "trend_position_p",      "trend_position_change_pct",
+                                               "trend_edge_p",          "trend_edge_change_pct"};
+       return v;
+     }},
+    {"trend_level", number, "", "a trend with p below this is significant (--trend-level)",
+     [](CsvOut& o, Quality x, std::size_t) { o.number(x.trends.level); }},
+    {"trends", text, "", "the coordinates with a significant trend, ';'-separated (row, column, position, edge)",
+     [](CsvOut& o, Quality x, std::size_t) { o.field(x.trends.significant()); }},
     {"min_z_prime", number, "", "the threshold (--min-z-prime)",
      [](CsvOut& o, Quality x, std::size_t) { o.number(x.quality.min_z_prime); }},
     {"quality", text, "",
@@ -360,14 +396,14 @@ std::vector<FieldSpec> plate_quality_fields() {
   return detail::schema_fields(detail::columns_for(detail::quality_declaration(), detail::NoContext{}));
 }
 
-std::string plate_quality_csv(const std::vector<RunAnalysis>& runs, double min_z_prime) {
+std::string plate_quality_csv(const std::vector<RunAnalysis>& runs, double min_z_prime, double trend_level) {
   const auto columns = detail::columns_for(detail::quality_declaration(), detail::NoContext{});
   detail::CsvOut out;
   detail::write_header(out, columns);
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels) {
       const PlateQuality q = plate_quality(ca.controls.full, ca.controls.none, min_z_prime);
-      detail::write_row(out, columns, detail::QualityRowRef{ra, ca, q});
+      detail::write_row(out, columns, detail::QualityRowRef{ra, ca, q, channel_trends(ra, ca, trend_level)});
     }
   return out.str();
 }

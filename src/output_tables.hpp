@@ -61,6 +61,7 @@ struct QualityRowRef {
   const RunAnalysis& run;
   const ChannelAnalysis& channel;
   const PlateQuality& quality;
+  PlateTrends trends = {};  // edge and drift of the controls (--trend-level)
 };
 
 using QualityEntry = ColumnEntry<QualityRowRef, NoContext>;
