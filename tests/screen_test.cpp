@@ -278,3 +278,31 @@ TEST_CASE("EnzymeML of a screen: control wells are left out and the document say
   CHECK(doc["description"].get<std::string>().find("4 screening control wells (roles full-activity and no-activity) "
                                                    "are left out") != std::string::npos);
 }
+
+TEST_CASE("the console lists plates, not conditions, beyond 50 conditions; 50 keep the condition lines") {
+  // No controls: 51 sample wells, each its own substrate level, is one condition too many
+  // (k_plate_digest_conditions = 50); the plate line counts wells and samples, with no Z′.
+  TempDir dir;
+  const auto run = [&](int samples) {
+    std::map<std::string, double> rates;
+    std::string map = "well,role,substrate\n";
+    for (int i = 0; i < samples; ++i) {
+      rates[well(i / 12, i % 12)] = 1 + 0.1 * i;
+      map += fmt::format("{},sample,{}\n", well(i / 12, i % 12), i + 1);
+    }
+    spit(dir / "plate.csv", wide_export(rates));
+    spit(dir / "map.csv", map);
+    return run_vzero("rates plate.csv --layout map.csv --signal-only --blank none -o rates.csv", dir.path.string());
+  };
+  const auto many = run(51);
+  INFO(many.describe());
+  REQUIRE(many.status == 0);
+  CHECK(many.out.find("per plate and channel; every well in rates.csv:\n  plate.csv  signal  51 wells, 51 samples "
+                      "(0 flagged)\n") != std::string::npos);
+  CHECK(many.out.find("conditions; mean v0") == std::string::npos);
+  CHECK(many.out.find("Z'") == std::string::npos);
+  const auto fifty = run(50);
+  CHECK(fifty.status == 0);
+  CHECK(fifty.out.find("50 conditions; mean v0 of the clean replicate wells") != std::string::npos);
+  CHECK(fifty.out.find("per plate and channel") == std::string::npos);
+}
