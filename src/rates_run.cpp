@@ -134,8 +134,8 @@ void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
 }
 
 // The screening columns the plate map allows; --plate-quality and --hit-threshold need both
-// controls in it.
-ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
+// controls in it. Without them the provenance drops the screen-only trend-level.
+ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s, Provenance& prov) {
   bool full = false, none = false;
   for (const auto& [w, info] : map.wells) {
     full |= info.role == Role::full_activity;
@@ -153,6 +153,8 @@ ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
                      {"give the uninhibited control wells the role full-activity and the fully inhibited (or "
                       "no-enzyme) control wells the role no-activity",
                       "or leave out " + std::string(asked)});
+  // The trend level is a screen's setting: runs without controls record what they did before.
+  if (!(full && none)) std::erase_if(prov.options, [](const auto& o) { return o.first == "trend-level"; });
   return ScreenColumns{full && none, s.screen.hit_threshold_pct};
 }
 
@@ -311,9 +313,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
         "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
         "rates stay in signal units per minute");
   read_map(resolved, out);
-  const ScreenColumns screen = screen_columns(out.map, s);
-  // The trend level is a screen's setting: runs without controls record what they did before.
-  if (!screen.normalised) std::erase_if(out.provenance.options, [](const auto& o) { return o.first == "trend-level"; });
+  const ScreenColumns screen = screen_columns(out.map, s, out.provenance);
   if (!s.files_from.empty()) out.provenance.inputs.push_back({"file-list", s.files_from, list_sha256, "", ""});
   Provenance& prov = out.provenance;
 
