@@ -127,11 +127,13 @@ double map_number(const PlateMap& map, const WellInfo* info, int column) {
   return *v;
 }
 
-// The two screening controls' statistics from their unflagged rates.
+// The two screening controls' statistics from their unflagged rates, and the unflagged
+// samples' (for robust z-scores; only when the map has controls, a screen).
 PlateControls controls_of(const std::vector<RateRow>& rows) {
-  std::vector<double> full, none;
+  std::vector<double> full, none, samples;
   int full_left = 0, none_left = 0;
   for (const auto& row : rows) {
+    if (row.role == Role::sample && row.flags.empty() && std::isfinite(row.v0)) samples.push_back(row.v0);
     if (!is_control(row.role)) continue;
     const bool is_full = row.role == Role::full_activity;
     if (row.flags.empty() && std::isfinite(row.v0))
@@ -144,6 +146,7 @@ PlateControls controls_of(const std::vector<RateRow>& rows) {
   pc.none = control_stats(std::move(none));
   pc.full.n_flagged = full_left;
   pc.none.n_flagged = none_left;
+  if (pc.full.n + pc.none.n + full_left + none_left > 0) pc.samples = control_stats(std::move(samples));
   return pc;
 }
 

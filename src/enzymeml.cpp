@@ -25,6 +25,7 @@ struct Doc {
   std::map<std::string, std::string> protein_ids, buffer_ids;  // name → id
   std::set<std::string> vessel_ids;
   int wells = 0, without_volume = 0, without_enzyme = 0, flagged = 0;
+  int controls = 0;  // screening control wells (full-activity, no-activity): not measurements of the series
   bool up = false, down = false;
 };
 
@@ -202,6 +203,11 @@ std::string description(const Doc& d, std::size_t exports, const EnzymeMLOptions
       "blank-corrected, converted time course and the raw signal (reads that were not ok are left out); each "
       "unflagged well's v0 with its standard error is a parameter.",
       d.wells, d.wells == 1 ? "" : "s", exports, exports == 1 ? "" : "s", o.tool_version);
+  if (d.controls)
+    s += fmt::format(
+        " {} screening control well{} (roles full-activity and no-activity) {} left out: {} the plate's "
+        "reference levels, not measurements of a substrate series (their v0 are in rates.csv).",
+        d.controls, d.controls == 1 ? "" : "s", d.controls == 1 ? "is" : "are", d.controls == 1 ? "it is" : "they are");
   if (d.flagged)
     s += fmt::format(" {} well{} with a flagged or missing rate ha{} no v0 parameter (rates.csv's flags say why).",
                      d.flagged, d.flagged == 1 ? "" : "s", d.flagged == 1 ? "s" : "ve");
@@ -231,6 +237,7 @@ std::string enzymeml_json(const std::vector<RunAnalysis>& runs, const PlateMap& 
     for (const ChannelAnalysis& ca : ra.channels) {
       const double export_t = mean_temperature(*ca.channel);
       for (const RateRow& row : ca.rows) {
+        d.controls += is_control(row.role);
         if (row.role != Role::sample) continue;
         const std::string well = well_name(row.well);
         const std::string vessel = fmt::format("v{}_{}", f + 1, well);

@@ -56,11 +56,13 @@ void write_trace_rows(CsvOut& out, const std::vector<Column<TraceRowRef>>& colum
 using SummaryEntry = ColumnEntry<SummaryGroup, SummaryTable>;
 std::span<const SummaryEntry> summary_declaration();
 
-// One row of the plate-quality table: one channel of one plate.
+// One row of the plate-quality table: one channel of one plate (declared in
+// src/output_tables_quality.cpp).
 struct QualityRowRef {
   const RunAnalysis& run;
   const ChannelAnalysis& channel;
   const PlateQuality& quality;
+  PlateTrends trends = {};  // edge and drift of the controls (--trend-level)
 };
 
 using QualityEntry = ColumnEntry<QualityRowRef, NoContext>;

@@ -131,6 +131,10 @@ class MapBuilder {
         case detail::ColumnKind::match:
           info.match = std::string(detail::trim(c.text));
           break;
+        case detail::ColumnKind::compound_conc:
+          info.compound_conc = detail::scale_by_decades(parse_conc(file_, c, columns_[i]), decades);
+          break;
+        case detail::ColumnKind::compound:
         case detail::ColumnKind::other:
           break;
       }
@@ -150,8 +154,10 @@ class MapBuilder {
                        {"add one line per well (well, role, …), or check that the right file was given with --layout"});
     map_.source = file_;
     map_.form = std::move(form);
+    bool screen = false;
+    for (const auto& [w, info] : map_.wells) screen |= is_control(info.role);
+    map_.warnings = screen ? detail::screen_column_warnings(plan_, file_) : std::move(plan_.warnings);
     map_.uses = std::move(plan_.uses);
-    map_.warnings = std::move(plan_.warnings);
     return std::move(map_);
   }
 

@@ -68,20 +68,30 @@ bool looks_like_concentration(const std::string& column, const std::string& unit
   return !unit.empty() || l.find("conc") != std::string::npos || l.find("substrate") != std::string::npos;
 }
 
+// The compound concentration: the column --compound-conc-column names (with or without its
+// unit), else `compound_conc` (unit optional) or `compound` with a concentration unit.
+bool is_compound_conc(const std::string& column, const std::string& base, const std::string& unit,
+                      const MapColumnOptions& o) {
+  if (!o.compound_conc_column.empty()) return iequals(column, o.compound_conc_column) || iequals(base, o.compound_conc_column);
+  return iequals(base, "compound_conc") || (iequals(base, "compound") && !unit.empty());
+}
+
 void take(ColumnPlan& plan, std::size_t i, ColumnKind kind, const std::string& column, const std::string& unit,
           const MapColumnOptions& o, const std::string& file, int header_line) {
-  static const char* const k_names[] = {"well", "role", "substrate", "standard_conc", "match", ""};
+  static const char* const k_names[] = {"well",     "role",          "substrate", "standard_conc",
+                                        "match",    "compound",      "compound_conc", ""};
+  static const char* const k_options[] = {"", "", "substrate", "substrate", "match", "compound", "compound-conc", ""};
   const char* use = k_names[static_cast<int>(kind)];
+  const char* option = k_options[static_cast<int>(kind)];
   for (const auto& u : plan.uses)
     if (u.use == use)
       throw InputError(Where{file, header_line},
                        fmt::format("two plate-map columns are read as the {}: `{}` and `{}`", use, u.column, column),
                        {fmt::format("keep one of them, or name the one to use with --{}-column (method key {}-column)",
-                                    kind == ColumnKind::match ? "match" : "substrate",
-                                    kind == ColumnKind::match ? "match" : "substrate")});
+                                    option, option)});
   plan.kind[i] = kind;
   ColumnUse cu{column, use, unit, 1};
-  if (kind != ColumnKind::match) {
+  if (kind != ColumnKind::match && kind != ColumnKind::compound) {
     int from = 0, to = -6;
     std::string u = unit, run_unit = o.conc_unit;
     if (!u.empty()) unit_decades(u, from);
@@ -123,6 +133,10 @@ ColumnPlan plan_map_columns(const std::string& file, int header_line, const std:
       take(plan, i, ColumnKind::standard_conc, c, unit, o, file, header_line);
     } else if (o.match_column.empty() ? iequals(c, "match") : iequals(c, o.match_column)) {
       take(plan, i, ColumnKind::match, c, "", o, file, header_line);
+    } else if (is_compound_conc(c, base, unit, o)) {
+      take(plan, i, ColumnKind::compound_conc, c, unit, o, file, header_line);
+    } else if (o.compound_column.empty() ? iequals(c, "compound") : iequals(c, o.compound_column)) {
+      take(plan, i, ColumnKind::compound, c, "", o, file, header_line);
     }
   }
   auto taken = [&](const char* use) {
@@ -132,19 +146,39 @@ ColumnPlan plan_map_columns(const std::string& file, int header_line, const std:
   };
   if (!o.substrate_column.empty() && !taken("substrate")) missing(file, header_line, "substrate", o.substrate_column, columns);
   if (!o.match_column.empty() && !taken("match")) missing(file, header_line, "match", o.match_column, columns);
+  if (!o.compound_column.empty() && !taken("compound"))
+    missing(file, header_line, "compound", o.compound_column, columns);
+  if (!o.compound_conc_column.empty() && !taken("compound_conc"))
+    missing(file, header_line, "compound-conc", o.compound_conc_column, columns);
+  for (std::size_t i = 0; i < columns.size(); ++i) {
+    const auto [base, unit] = split_header_unit(columns[i]);
+    if (plan.kind[i] == ColumnKind::other && looks_like_concentration(columns[i], unit))
+      plan.unread_concentrations.push_back(columns[i]);
+  }
   if (!taken("substrate")) {
-    for (std::size_t i = 0; i < columns.size(); ++i) {
-      if (plan.kind[i] != ColumnKind::other) continue;
-      const auto [base, unit] = split_header_unit(columns[i]);
-      if (!looks_like_concentration(columns[i], unit)) continue;
+    for (const std::string& column : plan.unread_concentrations) {
       plan.warnings.push_back(fmt::format(
           "{}: plate-map column `{}` looks like a concentration but is not read as the substrate (only a column "
           "named `substrate` is, with or without a unit); if it holds the substrate, give --substrate-column \"{}\" "
           "(method key substrate-column)",
-          file, columns[i], columns[i]));
+          file, column, column));
     }
   }
   return plan;
+}
+
+std::vector<std::string> screen_column_warnings(const ColumnPlan& plan, const std::string& file) {
+  for (const auto& u : plan.uses)
+    if (u.use == "compound_conc") return plan.warnings;
+  std::vector<std::string> out;
+  for (const std::string& column : plan.unread_concentrations)
+    out.push_back(fmt::format(
+        "{}: plate-map column `{}` looks like a concentration but is read as neither the compound concentration "
+        "(a column `compound_conc`, or `compound` with a unit such as `compound_uM`) nor the substrate; if it holds "
+        "the compounds' concentrations, give --compound-conc-column \"{}\" (method key compound-conc-column), if the "
+        "substrate's, --substrate-column \"{}\"",
+        file, column, column, column));
+  return out;
 }
 
 }  // namespace detail

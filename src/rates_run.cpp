@@ -98,6 +98,22 @@ void check_output_paths(const RunSettings& s, const std::string& package) {
   detail::check_outputs(inputs, outputs);
 }
 
+// Which map columns hold a screen's compounds and their concentrations, as the console says
+// it ("" when the map has neither).
+std::string compound_note(const PlateMap& map) {
+  std::string said;
+  for (const ColumnUse& u : map.uses) {
+    if (u.use == "compound")
+      said += fmt::format("{}compounds from `{}`", said.empty() ? "" : ", ", u.column);
+    else if (u.use == "compound_conc")
+      said += fmt::format("{}compound concentrations from `{}` (in {}, {})", said.empty() ? "" : ", ", u.column, u.unit,
+                          u.unit_in_header ? "from its header" : "the run's conc-unit");
+  }
+  if (said.empty()) return said;
+  const bool conc = said.find("concentrations") != std::string::npos;
+  return map.source + ": " + said + (conc ? " (vzero fit --model 4pl takes them as its default --x and --group)" : "");
+}
+
 // The plate map read with the run's column options, checked for the blank strategy, and the
 // provenance that does not depend on the exports.
 void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
@@ -107,6 +123,7 @@ void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
   out.map = read_plate_map(s.layout, map_options);
   check_matched_blanks(out.map, s);
   out.warnings = out.map.warnings;
+  if (std::string n = compound_note(out.map); !n.empty()) out.notes.push_back(n);
   Provenance& prov = out.provenance;
   prov.tool_version = VZERO_VERSION;
   prov.options = resolved.recorded;
@@ -117,8 +134,8 @@ void read_map(const ResolvedSettings& resolved, RatesOutputs& out) {
 }
 
 // The screening columns the plate map allows; --plate-quality and --hit-threshold need both
-// controls in it.
-ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
+// controls in it. Without them the provenance drops the screen-only trend-level.
+ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s, Provenance& prov) {
   bool full = false, none = false;
   for (const auto& [w, info] : map.wells) {
     full |= info.role == Role::full_activity;
@@ -136,7 +153,27 @@ ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s) {
                      {"give the uninhibited control wells the role full-activity and the fully inhibited (or "
                       "no-enzyme) control wells the role no-activity",
                       "or leave out " + std::string(asked)});
+  // The trend level is a screen's setting: runs without controls record what they did before.
+  if (!(full && none)) std::erase_if(prov.options, [](const auto& o) { return o.first == "trend-level"; });
   return ScreenColumns{full && none, s.screen.hit_threshold_pct};
+}
+
+// A plate whose controls drift or differ at the edge: each significant coordinate with its
+// p and fitted change.
+void add_trend_warning(const std::string& plate, const PlateTrends& t, std::vector<std::string>& warnings) {
+  std::string found;
+  const std::pair<const char*, const Trend*> axes[] = {
+      {"row", &t.row}, {"column", &t.column}, {"position", &t.position}, {"edge", &t.edge}};
+  for (const auto& [name, trend] : axes)
+    if (trend->p < t.level)
+      found += fmt::format("{}{} (p = {:.2g}, {:+.1f} activity points {})", found.empty() ? "" : ", ", name, trend->p,
+                           trend->change_pct,
+                           std::string_view(name) == "edge" ? "at the edge" : "across the plate");
+  if (!found.empty())
+    warnings.push_back(fmt::format(
+        "{}: the controls' rates trend with {} (below --trend-level {}): an edge or drift effect may bias this "
+        "plate's % activity; see the trend_* columns of --plate-quality",
+        plate, found, t.level));
 }
 
 // Each plate and channel judged by its controls: a warning for one below --min-z-prime or
@@ -156,6 +193,7 @@ void add_quality_warnings(const RunSettings& s, RatesOutputs& out) {
             "{}: Z' cannot be computed (unflagged full-activity wells {}, no-activity wells {}; two of each with "
             "different means are needed): plate quality undetermined",
             plate, ca.controls.full.n, ca.controls.none.n));
+      add_trend_warning(plate, channel_trends(ra, ca, s.screen.trend_level), out.warnings);
     }
 }
 
@@ -275,7 +313,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
         "no conversion given (--epsilon with a path length, --standards, or --signal-only); "
         "rates stay in signal units per minute");
   read_map(resolved, out);
-  const ScreenColumns screen = screen_columns(out.map, s);
+  const ScreenColumns screen = screen_columns(out.map, s, out.provenance);
   if (!s.files_from.empty()) out.provenance.inputs.push_back({"file-list", s.files_from, list_sha256, "", ""});
   Provenance& prov = out.provenance;
 
@@ -333,7 +371,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
         {"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
   }
   if (!s.plate_quality.empty()) {
-    out.plate_quality_csv = plate_quality_csv(out.analyses, s.screen.min_z_prime);
+    out.plate_quality_csv = plate_quality_csv(out.analyses, s.screen.min_z_prime, s.screen.trend_level);
     tables.push_back({"plate-quality", relative_to(s.plate_quality, dir), plate_quality_fields()});
   }
   out.datapackage_path = (dir / "datapackage.json").string();

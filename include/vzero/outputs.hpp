@@ -53,9 +53,10 @@ std::string rates_csv_rows(const RunAnalysis& run, const std::vector<std::string
 
 // The plate-quality table (--plate-quality): one row per plate and channel, from each
 // channel's controls (ChannelAnalysis::controls) judged against `min_z_prime`
+// and the edge and drift trends of its controls at `trend_level`
 // (include/vzero/plate_quality.hpp). Rows concatenate across runs.
 std::vector<FieldSpec> plate_quality_fields();
-std::string plate_quality_csv(const std::vector<RunAnalysis>& runs, double min_z_prime);
+std::string plate_quality_csv(const std::vector<RunAnalysis>& runs, double min_z_prime, double trend_level = 0.01);
 
 std::vector<FieldSpec> trace_fields();
 std::string traces_csv(const std::vector<RunAnalysis>& runs);

@@ -21,6 +21,10 @@
 // for the substrate or match column are given with MapColumnOptions (--substrate-column,
 // --match-column). Which column was taken for what is in PlateMap::uses; a column that looks
 // like a concentration while no substrate column was found is a warning naming the option.
+// In a screen's map (with full-activity or no-activity wells) the compound and its
+// concentration are read from `compound` and `compound_conc` (or `compound_uM`, `compound
+// (nM)`, …; --compound-column, --compound-conc-column), and a column that looks like a
+// concentration but is read as nothing is a warning naming both options.
 #pragma once
 
 #include <map>
@@ -62,6 +66,7 @@ struct WellInfo {
   double substrate = NAN;           // NaN when not given
   double standard_conc = NAN;       // NaN when not given
   std::string match;                // empty when not given
+  double compound_conc = NAN;       // in the run's unit; NaN when not given
   std::vector<std::string> values;  // text of every PlateMap::columns entry, trimmed
   int line = 0;                     // where the well was defined: line, column of its well name
   int column = 0;                   // (grid form: of its role cell) and the line's text
@@ -73,14 +78,19 @@ struct WellInfo {
 struct MapColumnOptions {
   std::string substrate_column;  // "" = the column named `substrate` (with or without a unit)
   std::string match_column;      // "" = the column named `match`
+  // A screen's samples: which compound a well holds and at what concentration (passed
+  // through; the compound concentration is checked as a number and is `vzero fit`'s default x
+  // for the dose-response models, the compound its default group).
+  std::string compound_column;       // "" = the column named `compound`
+  std::string compound_conc_column;  // "" = `compound_conc` (unit optional) or `compound` with a unit: `compound_uM`
   std::string conc_unit = "uM";  // substrate and standard_conc are converted into it
 };
 
 // A map column vzero reads, not only passes through.
 struct ColumnUse {
   std::string column;  // the header as written
-  std::string use;     // "substrate", "standard_conc" or "match"
-  std::string unit;    // the values' unit: named by the header, else the run's ("" for match)
+  std::string use;     // "substrate", "standard_conc", "match", "compound" or "compound_conc"
+  std::string unit;    // the values' unit: named by the header, else the run's ("" for match, compound)
   bool unit_in_header = false;
   double factor = 1;   // value as written × factor = value in the run's unit
 };
@@ -96,7 +106,7 @@ struct PlateMap {
   std::string form;                  // "table" or "grid"
   std::vector<std::string> columns;  // every column but `well` and `role`, in file order (passed through to outputs)
   std::map<WellId, WellInfo> wells;
-  std::vector<ColumnUse> uses;        // columns read as substrate, standard_conc, match
+  std::vector<ColumnUse> uses;        // columns read as substrate, standard_conc, match, compound, compound_conc
   std::vector<std::string> warnings;  // e.g. a concentration column not read as the substrate
   int header_line = 1;                // the tidy header's line (grid: the first variable's)
 

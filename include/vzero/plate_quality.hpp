@@ -10,6 +10,9 @@
 //   CV = 100·σ/|μ|, σ the sample standard deviation (n − 1)
 //   robust variants: median for μ, 1.4826·MAD for σ (MAD scaled to σ for normal data)
 //   activity_pct = 100·(v0 − μ₋)/(μ₊ − μ₋), inhibition_pct = 100 − activity_pct
+//   robust_z = (v0 − median of the plate's unflagged sample v0)/(1.4826·their MAD)
+//   trends (edge and drift): the controls' v0 in % of μ₊ − μ₋ against row, column, position and
+//   edge, one least-squares slope shared by both controls with an intercept each (src/plate_trend.cpp)
 //
 // **Example**:
 //   vzero::ControlStats hi = vzero::control_stats({10, 11, 9}), lo = vzero::control_stats({1, 1.5, 0.5});
@@ -27,6 +30,7 @@ namespace vzero {
 struct ScreenOptions {
   double min_z_prime = 0.5;        // common practice: an assay with Z′ ≥ 0.5 is fit for screening
   double hit_threshold_pct = NAN;  // % inhibition at or above which a sample is a hit (NaN = no calls)
+  double trend_level = 0.01;       // a control trend with p below this is warned of (common practice: 0.01)
 };
 
 // The screening columns of rates.csv: `normalised` (the plate map has both control roles)
@@ -63,14 +67,62 @@ struct PlateQuality {
 
 PlateQuality plate_quality(const ControlStats& full, const ControlStats& none, double min_z_prime);
 
-// Both controls of one channel of one plate, from its rows (set by analyse_run).
+// Both controls of one channel of one plate, from its rows (set by analyse_run), and the
+// plate's unflagged sample rates (for each sample's robust z-score).
 struct PlateControls {
   ControlStats full, none;
+  ControlStats samples;
   // Both controls have at least one unflagged rate and different means: activity is defined.
   bool normalisable() const { return full.n > 0 && none.n > 0 && full.mean != none.mean; }
   double activity_pct(double v0) const {
     return normalisable() ? 100 * (v0 - none.mean) / (full.mean - none.mean) : NAN;
   }
+  // (v0 − median)/(1.4826·MAD) of the plate's unflagged samples; NaN when their MAD is 0 or
+  // undefined (fewer than two samples).
+  double robust_z(double v0) const {
+    return samples.robust_sd > 0 ? (v0 - samples.median) / samples.robust_sd : NAN;
+  }
 };
+
+// Edge and drift effects: one trend of the controls' rates against a plate coordinate.
+// Each control well's v0 is taken in % of the control window, y = 100·v0/(μ₊ − μ₋), and
+// y = a_control + b·x is fitted by least squares with one intercept per control and a
+// slope b shared by both (analysis of covariance: the slope from the deviations of x and y
+// from each control's own means; Snedecor & Cochran, Statistical Methods, 8th ed., 1989,
+// ch. 18, from memory). t = b/SE(b) with n − 3 degrees of freedom (n − 2 with one control),
+// p two-sided. change_pct = b × the coordinate's extent on the plate (rows − 1, columns − 1,
+// wells − 1; edge: 1, the edge wells' level minus the inner wells'): activity points.
+struct Trend {
+  double slope = NAN, p = NAN, change_pct = NAN;  // NaN when it cannot be tested (below)
+  int n = 0;                                       // control wells used
+};
+
+// The four coordinates, 0-based: row, column, position (row-major well index A1, A2, …: the
+// order of a plate read row by row) and edge (1 for a well in the outer rows or columns).
+struct PlateTrends {
+  Trend row, column, position, edge;
+  double level = NAN;  // --trend-level
+  // The coordinates whose p is below `level`, ';'-separated ("" when none).
+  std::string significant() const;
+};
+
+// One control well for the trend test.
+struct ControlPoint {
+  int row = 0, column = 0;  // 0-based
+  bool full = true;         // full-activity (else no-activity)
+  double v0 = NAN;
+};
+
+// The trends of `points` (unflagged control wells with a finite v0) on a plate of `rows` ×
+// `columns`, against the control window of `controls`. A coordinate is untested (NaN) when
+// the controls are not normalisable, fewer than one degree of freedom is left, or the
+// coordinate does not vary within a control.
+PlateTrends control_trends(const std::vector<ControlPoint>& points, int rows, int columns,
+                           const PlateControls& controls, double level);
+
+struct RunAnalysis;
+struct ChannelAnalysis;
+// The trends of one channel of one plate: its unflagged control wells, its plate format.
+PlateTrends channel_trends(const RunAnalysis& run, const ChannelAnalysis& channel, double level);
 
 }  // namespace vzero

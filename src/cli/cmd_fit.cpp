@@ -123,6 +123,50 @@ std::map<std::string, std::string> package_units(const std::string& table_path) 
   }
   return units;
 }
+// For the dose-response models only (--model 4pl, morrison) and when --x (or --group) is not
+// given: the compound concentration (and the compound) the plate map gave, as the
+// datapackage.json beside the table records them (vzero.map_column_uses). Said on stderr.
+void default_dose_columns(const std::string& table_path, std::vector<GivenOption>& given) {
+  bool has_x = false, has_group = false, dose = false, other = false;
+  for (const auto& g : given) {
+    has_x |= g.name == "x";
+    has_group |= g.name == "group";
+    if (g.name != "model") continue;
+    std::string_view rest = g.text;
+    while (!rest.empty()) {
+      const std::size_t comma = std::min(rest.find(','), rest.size());
+      const std::string_view word = rest.substr(0, comma);
+      (word == "4pl" || word == "morrison" ? dose : other) = true;
+      rest.remove_prefix(std::min(comma + 1, rest.size()));
+    }
+  }
+  if (has_x || !dose || other) return;
+  std::ifstream in(std::filesystem::path(table_path).parent_path() / "datapackage.json", std::ios::binary);
+  if (!in) return;
+  std::ostringstream text;
+  text << in.rdbuf();
+  const nlohmann::json pkg = nlohmann::json::parse(text.str(), nullptr, false);
+  if (!pkg.is_object() || !pkg.contains("vzero") || !pkg["vzero"].is_object() ||
+      !pkg["vzero"].contains("map_column_uses") || !pkg["vzero"]["map_column_uses"].is_array())
+    return;
+  std::string x, group;
+  for (const auto& u : pkg["vzero"]["map_column_uses"]) {
+    if (!u.is_object() || !u.contains("column") || !u["column"].is_string() || !u.contains("read_as")) continue;
+    if (u["read_as"] == "compound_conc") x = u["column"].get<std::string>();
+    if (u["read_as"] == "compound") group = u["column"].get<std::string>();
+  }
+  if (x.empty()) return;
+  given.push_back({"x", x});
+  std::string said = fmt::format("x = {}", x);
+  if (!has_group && !group.empty()) {
+    given.push_back({"group", group});
+    said += fmt::format(", group = {}", group);
+  }
+  print_err(fmt::format("vzero fit: note: {}: the plate map's compound concentration{} as datapackage.json records "
+                        "them (--x and --group choose others)",
+                        said, has_group || group.empty() ? "" : " and compound"));
+}
+
 // The run's report with this fit: the run's tables found beside the fitted table, the fit
 // and its points from memory.
 void write_report(const std::string& table, const std::string& path, const TableFit& result, const FitTableOptions& o,
@@ -211,7 +255,9 @@ int cmd_fit(const Args& args) {
     return 0;
   }
   if (file.empty()) throw UsageError("expected a TABLE.csv to fit (a rates or summary table)");
-  const FitSettings s = resolve_fit_settings(given_fit_options(vm), Spelling::command_line);
+  std::vector<GivenOption> given = given_fit_options(vm);
+  default_dose_columns(file, given);
+  const FitSettings s = resolve_fit_settings(given, Spelling::command_line);
   FitTableOptions o = fit_table_options(s, Spelling::command_line);
   check_fit_outputs(file, s);
   Table table = read_table(file);

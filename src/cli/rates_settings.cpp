@@ -187,7 +187,8 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
   out += "\n";
   if (!by_note.empty())
     out += "corrections made (notes; these wells keep their rate):\n  " + counts_line(by_note, 2) + "\n";
-  out += per_file_block(runs);
+  const bool per_plate = per_plate_digest(runs, condition_lines(summary).size());
+  if (!per_plate) out += per_file_block(runs);
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels)
       if (ca.conversion.curve) {
@@ -198,7 +199,7 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
             ca.channel->name, sc.intercept, sc.slope, sc.r2, sc.n, sc.conc_min, sc.conc_max, ca.conversion.conc_unit,
             sc.lod, ca.conversion.conc_unit, sc.lod_basis);
       }
-  out += conditions_block(summary, s);
+  out += per_plate ? plate_digest(runs, s) : conditions_block(summary, s);
   out += fmt::format("wrote {}", s.output);
   if (!s.traces.empty()) out += ", " + s.traces;
   if (!s.summary.empty()) out += ", " + s.summary;

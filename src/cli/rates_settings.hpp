@@ -23,4 +23,12 @@ std::string epsilon_preset_list();
 std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RunSettings& s,
                        const std::string& package_path);
 
+// Beyond this many sample conditions (or with control wells in the map: a screen) the digest
+// lists plates, not conditions (src/cli/plate_digest.cpp).
+constexpr std::size_t k_plate_digest_conditions = 50;
+bool per_plate_digest(const std::vector<RunAnalysis>& runs, std::size_t conditions);
+// One line per plate and channel: wells, samples flagged, controls; with controls Z′ and its
+// verdict, hits (with --hit-threshold) and significant control trends.
+std::string plate_digest(const std::vector<RunAnalysis>& runs, const RunSettings& s);
+
 }  // namespace vzero::cli

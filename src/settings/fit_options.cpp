@@ -37,7 +37,8 @@ using K = OptionKind;
 
 std::vector<FitOptionSpec> make_table() {
   std::vector<FitOptionSpec> t;
-  t.push_back(spec("x", K::text, "", "substrate concentration column (required)",
+  t.push_back(spec("x", K::text, "", "substrate concentration column (required; for --model 4pl or morrison alone, default: the plate map's "
+                   "compound concentration column that vzero rates recorded in datapackage.json)",
                    [](F& s, const V& v) { return s.x = v.text, std::string(); }));
   t.push_back(spec("y", K::text, "", "rate column (default: v0, or v0_mean in a summary table)",
                    [](F& s, const V& v) { return s.y = v.text, std::string(); }));

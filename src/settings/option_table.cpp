@@ -123,6 +123,14 @@ std::vector<OptionSpec> make_table() {
       "match-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.match_column; },
       "plate-map column pairing blanks with samples for --blank matched (default: `match`)"));
   t.push_back(text(
+      "compound-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.compound_column; },
+      "screens: plate-map column naming each sample's compound (default: `compound`)"));
+  t.push_back(text(
+      "compound-conc-column", 0, k_io, OptionRole::analysis, "",
+      [](S& s) { return &s.map_columns.compound_conc_column; },
+      "screens: plate-map column with each sample's compound concentration (default: `compound_conc`, or "
+      "`compound` with a unit, e.g. `compound_uM`; unit in the header or conc-unit)"));
+  t.push_back(text(
       "method", 'm', k_io, OptionRole::io, "", [](S& s) { return &s.method; },
       "assay method TOML file holding any of these options"));
   t.push_back(text(

@@ -1,6 +1,7 @@
 // The screening options: the plate-quality table, its Z′ threshold and hit calls, all from
 // the plate map's control wells (full-activity, no-activity; include/vzero/plate_quality.hpp).
-// min-z-prime is recorded in datapackage.json like any analysis option, hit-threshold when given.
+// min-z-prime is recorded in datapackage.json like any analysis option, hit-threshold when given,
+// trend-level in runs whose map has control wells (src/rates_run.cpp).
 #include "vzero/settings.hpp"
 
 namespace vzero::detail {
@@ -40,6 +41,14 @@ void add_screen_options(std::vector<OptionSpec>& t) {
                                  "(common practice: 0.5)");
     o.range = NumberRange{-1e300, 1, false, false};
     o.number_field = [](S& s) { return &s.screen.min_z_prime; };
+    t.push_back(o);
+  }
+  {
+    OptionSpec o = screen_option("trend-level", OptionKind::number, OptionRole::analysis, "0.01", "",
+                                 "a trend of the controls' rates across the plate (row, column, position, edge) "
+                                 "with p below this is warned of (common practice: 0.01)");
+    o.range = NumberRange{0, 1, true, true};
+    o.number_field = [](S& s) { return &s.screen.trend_level; };
     t.push_back(o);
   }
   {
