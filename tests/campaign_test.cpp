@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "report/report_campaign.hpp"
 #include "sim/screen_sim.hpp"
 #include "test_support.hpp"
 #include "vzero/svg.hpp"
@@ -225,4 +226,16 @@ TEST_CASE("a simulated dose-response plate: IC50s as R's nls/SSfpl gives them on
     ++compared;
   }
   CHECK(compared == 8);
+}
+
+TEST_CASE("read times: only a full date and time is read; an impossible day is none") {
+  using detail::report::parse_read_time;
+  // Days since 1970-01-01 from Python's datetime: date(2026, 12, 1) is day 20,788,
+  // date(2024, 2, 29) day 19,782.
+  CHECK(parse_read_time("2026-12-01 09:00") == 20788.0 * 24 + 9);
+  CHECK(parse_read_time("2026-12-01T09:30:36") == 20788.0 * 24 + 9 + 30.0 / 60 + 36.0 / 3600);
+  CHECK(parse_read_time("2024-02-29 00:00") == 19782.0 * 24);
+  for (const char* bad : {"2023-02-29 00:00", "2026-04-31 10:00", "2026-13-01 10:00", "2026-12-01 24:00",
+                          "2026-12-01", "01.12.2026 09:00", "2026-12-01 9:00", "DEMO-0001"})
+    CHECK(std::isnan(parse_read_time(bad)));
 }
