@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include "core/files.hpp"
+#include "report/report_campaign.hpp"
 #include "report/report_model.hpp"
 #include "vzero/error.hpp"
 #include "vzero/svg.hpp"
@@ -79,6 +80,7 @@ std::string render_page(const PageData& m, const Table* summary, const ReportInp
   h += "<title>" + svg::escape(title) + "</title>\n<style>" + page_css() + "</style>\n</head>\n<body>\n<main>\n";
   h += render_header(m, options);
   h += render_flags(m);
+  h += render_campaign(campaigns_of(m));  // "" unless several exports hold both controls
   for (const auto& p : m.plates) h += render_plate(p, options);
   h += render_standard_curves(m);
   if (summary)

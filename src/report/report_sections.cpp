@@ -5,6 +5,7 @@
 #include <map>
 
 #include "core/text.hpp"
+#include "report/report_campaign.hpp"
 #include "report/report_model.hpp"
 #include "vzero/flags.hpp"
 #include "vzero/svg.hpp"
@@ -104,6 +105,7 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
   meta += o.date.empty() ? "" : "; date: " + escape(o.date);
   h += "<p class=\"meta\">" + meta + ".</p>\n";
   h += "<nav class=\"toc\"><a href=\"#provenance\">Provenance</a><a href=\"#flags\">Flags</a>";
+  if (!campaigns_of(m).empty()) h += "<a href=\"#campaign\">Campaign</a>";
   for (const auto& p : m.plates)
     h += fmt::format("<a href=\"#{}\">{} \u00b7 {}</a>", p.id, escape(p.source), escape(p.channel));
   if (m.package.is_object()) {
