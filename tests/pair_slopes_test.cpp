@@ -3,6 +3,7 @@
 // std::sort), the general Theil–Sen code on the same points in another order, and SciPy
 // 1.10.1 scipy.stats.theilslopes (Debian python3-scipy) for two pinned cases.
 #include <algorithm>
+#include <cmath>
 #include <cstdint>
 #include <random>
 #include <vector>
@@ -139,5 +140,37 @@ TEST_CASE("Theil–Sen on long quantised traces matches SciPy 1.10.1 theilslopes
     CHECK_REL(separate, c.intercept_separate, 1e-12);
     CHECK_REL(f.ci_low, c.low, 1e-12);
     CHECK_REL(f.ci_high, c.high, 1e-12);
+  }
+}
+
+TEST_CASE("ranks near the middle, as Theil–Sen asks, equal the full sort (selection by buckets)") {
+  // Reference: the definition, every slope formed and sorted (all_slopes_sorted). The ranks
+  // are those of a median and a Sen interval, so the direct method selects by buckets.
+  std::mt19937_64 rng(20261203);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (int n : {35, 36, 47, 60, 121, 300, 649}) {
+    for (int kind = 0; kind < 4; ++kind) {
+      std::vector<double> x, y;
+      if (kind == 1) {
+        y = quantised_trace(n, x);
+      } else {
+        for (int i = 0; i < n; ++i) {
+          x.push_back(10.0 * i + (kind == 3 ? (i % 5) * 0.9 : 0.0));
+          const double spike = kind == 2 && i % 11 == 4 ? 30.0 : 0.0;
+          y.push_back(kind == 3 ? 0.7 : 0.1 + 2e-4 * x.back() + 0.002 * noise(rng) + spike);
+        }
+      }
+      const auto sorted = all_slopes_sorted(x, y);
+      const auto count = static_cast<std::int64_t>(sorted.size());
+      const std::int64_t half = static_cast<std::int64_t>(1.96 * std::sqrt(n * (n - 1.0) * (2 * n + 5) / 18) / 2);
+      std::vector<std::int64_t> ranks = {count / 2 - 1, count / 2, count / 2 - half, count / 2 + half};
+      std::vector<double> got(ranks.size());
+      vzero::detail::pair_slope_ranks_direct(x.data(), y.data(), n, ranks.data(), static_cast<int>(ranks.size()),
+                                             got.data());
+      for (std::size_t k = 0; k < ranks.size(); ++k) {
+        INFO("n = ", n, ", kind ", kind, ", rank ", ranks[k]);
+        CHECK(got[k] == sorted[static_cast<std::size_t>(ranks[k])]);
+      }
+    }
   }
 }

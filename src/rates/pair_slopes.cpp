@@ -1,9 +1,9 @@
 #include "rates/pair_slopes.hpp"
+#include "rates/pair_slopes_parts.hpp"
 
 #include <algorithm>
 #include <array>
 #include <cmath>
-#include <cstring>
 #include <numeric>
 #include <vector>
 
@@ -13,8 +13,6 @@ namespace {
 
 using i64 = std::int64_t;
 constexpr double k_unit_roundoff = 0x1p-53;
-
-double slope_of(const double* x, const double* y, int i, int j) { return (y[j] - y[i]) / (x[j] - x[i]); }
 
 struct Points {
   const double* x;
@@ -43,14 +41,6 @@ struct Order {
   double t = -INFINITY;
   std::vector<int> idx;
 };
-
-// Monotone map of a double to an unsigned integer (−0 and +0 alike).
-std::uint64_t sort_key(double v) {
-  v += 0.0;
-  std::uint64_t b = 0;
-  std::memcpy(&b, &v, sizeof b);
-  return (b >> 63) ? ~b : b | (1ULL << 63);
-}
 
 struct Scratch {
   std::vector<std::pair<double, int>> keys;
@@ -104,34 +94,6 @@ void order_at(const Points& p, double t, Order& o, Scratch& s) {
   for (std::size_t q = 0; q < n; ++q) o.idx[q] = s.rk[q].second;
 }
 
-// Fenwick tree over 0..n−1 (counts of values inserted).
-struct Fenwick {
-  std::vector<int> t;
-  int top = 1;
-  explicit Fenwick(int n) : t(static_cast<std::size_t>(n) + 1, 0) {
-    while (top * 2 <= n) top *= 2;
-  }
-  void add(int v) {
-    for (int i = v + 1; i < static_cast<int>(t.size()); i += i & -i) ++t[static_cast<std::size_t>(i)];
-  }
-  int below(int v) const {  // inserted values < v
-    int c = 0;
-    for (int i = v; i > 0; i -= i & -i) c += t[static_cast<std::size_t>(i)];
-    return c;
-  }
-  int kth(int k) const {  // the k-th smallest inserted value (1-based k)
-    int pos = 0;
-    for (int step = top; step > 0; step /= 2) {
-      const int nxt = pos + step;
-      if (nxt < static_cast<int>(t.size()) && t[static_cast<std::size_t>(nxt)] < k) {
-        pos = nxt;
-        k -= t[static_cast<std::size_t>(nxt)];
-      }
-    }
-    return pos;  // value = index − 1 + 1
-  }
-};
-
 // Pairs p < q with idx[p] > idx[q], with a Fenwick tree (cheaper than merging here).
 i64 count_below(const Order& o, Scratch& s) {
   (void)s;
@@ -179,22 +141,6 @@ bool between(const Points& p, const Order& lo, const Order& hi, std::vector<doub
   (void)s;
   return true;
 }
-
-// splitmix64: a fixed pseudo-random sequence, so the same input always takes the same path.
-struct Mix {
-  __extension__ typedef unsigned __int128 u128;
-  std::uint64_t state;
-  // Uniform on [0, bound) by a multiply-high (no division).
-  std::uint64_t below(std::uint64_t bound) {
-    return static_cast<std::uint64_t>((static_cast<u128>(next()) * bound) >> 64);
-  }
-  std::uint64_t next() {
-    std::uint64_t z = (state += 0x9e3779b97f4a7c15ULL);
-    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
-    z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
-    return z ^ (z >> 31);
-  }
-};
 
 // `m` slopes of pseudo-random pairs (uniform over all pairs).
 void sample_all(const Points& p, std::size_t m, Mix& mix, std::vector<double>& out) {
@@ -405,46 +351,6 @@ bool select_all(const Points& p, const std::vector<i64>& sorted, double* values,
 
 }  // namespace
 
-void select_kth(double* a, std::size_t n, std::size_t k) {
-  std::size_t lo = 0, hi = n;  // the k-th lies in [lo, hi)
-  for (int round = 0; hi - lo > 16; ++round) {
-    if (round > 40) {
-      std::nth_element(a + lo, a + k, a + hi);
-      return;
-    }
-    // Median of three as the pivot, moved to the end.
-    const std::size_t mid = lo + (hi - lo) / 2;
-    double& x = a[lo];
-    double& y = a[mid];
-    double& z = a[hi - 1];
-    if (y < x) std::swap(x, y);
-    if (z < y) std::swap(y, z);
-    if (y < x) std::swap(x, y);
-    std::swap(y, a[hi - 1]);
-    const double pivot = a[hi - 1];
-    std::size_t i = lo;
-    for (std::size_t j = lo; j + 1 < hi; ++j) {
-      const double v = a[j];
-      a[j] = a[i];
-      a[i] = v;
-      i += v < pivot;
-    }
-    std::swap(a[i], a[hi - 1]);  // the pivot at its place: [lo, i) < pivot ≤ [i + 1, hi)
-    if (k == i) return;
-    if (k < i)
-      hi = i;
-    else
-      lo = i + 1;
-  }
-  // A few left: insertion sort.
-  for (std::size_t p = lo + 1; p < hi; ++p) {
-    const double v = a[p];
-    std::size_t q = p;
-    for (; q > lo && a[q - 1] > v; --q) a[q] = a[q - 1];
-    a[q] = v;
-  }
-}
-
 bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                                 double* out) {
   if (n < 2) return false;
@@ -467,89 +373,6 @@ bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const s
     out[r] = values[static_cast<std::size_t>(it - sorted.begin())];
   }
   return true;
-}
-
-void pair_slope_ranks_direct(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
-                             double* out) {
-  const auto n_pairs = static_cast<std::size_t>(n) * static_cast<std::size_t>(n - 1) / 2;
-  // Ranks in ascending order, each selected in what is left above the previous one.
-  std::array<int, 8> small_order{};
-  std::vector<int> big_order;
-  int* order = small_order.data();
-  if (count > 8) {
-    big_order.resize(static_cast<std::size_t>(count));
-    order = big_order.data();
-  }
-  std::iota(order, order + count, 0);
-  std::sort(order, order + count, [&](int a, int b) { return ranks[a] < ranks[b]; });
-  const auto select = [&](std::vector<double>& v, std::int64_t offset) {
-    std::int64_t start = 0;
-    for (int r = 0; r < count; ++r) {
-      const std::int64_t local = ranks[order[r]] - offset;
-      select_kth(v.data() + start, v.size() - static_cast<std::size_t>(start), static_cast<std::size_t>(local - start));
-      start = local;
-      out[order[r]] = v[static_cast<std::size_t>(local)];
-    }
-  };
-  // Reused per thread for the small sizes the rate finder asks for most.
-  thread_local std::vector<double> reused;
-  std::vector<double> own;
-  std::vector<double>& s = n_pairs <= (1u << 18) ? reused : own;
-  const auto every_slope = [&] {
-    s.resize(n_pairs);
-    std::size_t k = 0;
-    for (int i = 0; i < n; ++i)
-      for (int j = i + 1; j < n; ++j) s[k++] = slope_of(x, y, i, j);
-  };
-  if (n_pairs >= 600 && n_pairs <= (1u << 18)) {
-    // Pivots a ≤ b from the slopes of 128 pseudo-random pairs, 3 binomial SDs beyond the
-    // ranks' expected places; the slopes are then formed keeping those in [a, b] and
-    // counting those below a. When the ranks fall inside, they are selected among the kept
-    // ones only; otherwise every slope is formed again and kept.
-    constexpr std::size_t k_sample = 128;
-    std::array<double, k_sample> smp{};
-    Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
-    for (auto& v : smp) {
-      int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
-      int j = static_cast<int>(mix.below(static_cast<std::uint64_t>(n - 1)));
-      if (j >= i) ++j;
-      v = i < j ? slope_of(x, y, i, j) : slope_of(x, y, j, i);
-    }
-    const std::int64_t k_lo = ranks[order[0]], k_hi = ranks[order[count - 1]];
-    const double ms = k_sample, big_n = static_cast<double>(n_pairs);
-    const double ql = static_cast<double>(k_lo) / big_n, qh = static_cast<double>(k_hi) / big_n;
-    const double ia = std::floor(ql * ms - 3 * std::sqrt(ms * ql * (1 - ql)) - 1);
-    const double ib = std::ceil(qh * ms + 3 * std::sqrt(ms * qh * (1 - qh)) + 1);
-    double a = -INFINITY, b = INFINITY;
-    std::size_t from = 0;
-    if (ia >= 0) {
-      select_kth(smp.data(), k_sample, static_cast<std::size_t>(ia));
-      a = smp[static_cast<std::size_t>(ia)];
-      from = static_cast<std::size_t>(ia) + 1;
-    }
-    if (ib < ms && static_cast<std::size_t>(ib) >= from) {
-      select_kth(smp.data() + from, k_sample - from, static_cast<std::size_t>(ib) - from);
-      b = smp[static_cast<std::size_t>(ib)];
-    }
-    thread_local std::vector<double> kept;
-    kept.resize(n_pairs);
-    std::size_t nk = 0, below = 0;
-    for (int i = 0; i < n; ++i) {
-      for (int j = i + 1; j < n; ++j) {
-        const double v = slope_of(x, y, i, j);
-        kept[nk] = v;
-        nk += (v >= a) & (v <= b);
-        below += v < a;
-      }
-    }
-    if (static_cast<std::int64_t>(below) <= k_lo && static_cast<std::int64_t>(below + nk) > k_hi) {
-      kept.resize(nk);
-      select(kept, static_cast<std::int64_t>(below));
-      return;
-    }
-  }
-  every_slope();
-  select(s, 0);
 }
 
 void pair_slope_ranks(const double* x, const double* y, int n, const std::int64_t* ranks, int count, double* out) {

@@ -12,8 +12,8 @@ namespace vzero::detail {
 // computed in double exactly as written, so the values are bit for bit those a full sort of
 // all slopes gives. `ranks` must lie in [0, n(n−1)/2); any order, repeats allowed.
 //
-// Below k_pair_slopes_direct points every slope is formed and selected (a sampled bracket,
-// then quickselect);
+// Below k_pair_slopes_direct points every slope is formed and selected (by buckets between
+// two sampled values, then quickselect in the buckets that hold a rank);
 // above, the method is randomised bracketing with exact counting, after Dillencourt, Mount &
 // Netanyahu (1992, Int. J. Comput. Geom. Appl. 2, 1–27) and Matoušek (1991, Inf. Process.
 // Lett. 39, 183–187) (citations from memory):
@@ -37,6 +37,10 @@ constexpr int k_pair_slopes_direct = 650;
 // a value that is not finite, x not strictly increasing, or the brackets do not close.
 bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                                 double* out);
+
+// From this many pairs up, pair_slope_ranks_direct selects by buckets (pair_slopes_direct.cpp):
+// fewer passes over the slopes than a quickselect per rank.
+constexpr std::size_t k_bucket_pairs = 600;
 
 // Quickselect with a branch-free Lomuto partition (the comparison feeds an index, not a
 // jump): a[k] becomes the k-th smallest (0-based) of a[0, n), smaller ones before it, larger
