@@ -89,6 +89,11 @@ TEST_CASE("Selwyn's test: a decaying enzyme is flagged, and its [E]·t ratio is 
     CHECK(tests[0].et_ratio == doctest::Approx(ratio).epsilon(1e-3));
     CHECK(tests[0].levels[1].et_needed == doctest::Approx(u_of(2, p_star)).epsilon(1e-3));
     CHECK(tests[0].unstable);
+    // The intercepts are the wells' baselines (0.5 + 0.1·w in series() above), to 1e-4 of the
+    // product the lowest level makes (2·P*): the quartic's approximation of the exponential.
+    REQUIRE(tests[0].intercepts.size() == 3);
+    for (std::size_t w = 0; w < 3; ++w)
+      CHECK(std::fabs(tests[0].intercepts[w] - (0.5 + 0.1 * double(w))) < 1e-4 * 2 * p_star);
   }
   SUBCASE("with read noise: flagged, p tiny, the verdict says the enzyme loses activity") {
     for (std::uint64_t seed = 1; seed <= 5; ++seed) {

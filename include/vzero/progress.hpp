@@ -124,6 +124,8 @@ struct StabilityTest {
   double product_level = NAN;  // P*
   double et_ratio = NAN;
   bool unstable = false;
+  std::vector<std::string> wells;  // the wells tested, level by level
+  std::vector<double> intercepts;  // their intercepts b_w in the full model (product at [E]·τ = 0)
   std::string verdict;  // in words
 };
 

@@ -75,7 +75,8 @@ nlohmann::json stability_json(const StabilityTest& s) {
   return {{"s0", s.s0},           {"tested", s.tested}, {"u_common", s.u_common},
           {"f", s.f},             {"df1", s.df1},       {"df2", s.df2},
           {"p_value", s.p_value}, {"product_level", s.product_level}, {"et_ratio", s.et_ratio},
-          {"unstable", s.unstable}, {"verdict", s.verdict}, {"levels", levels}};
+          {"unstable", s.unstable}, {"verdict", s.verdict}, {"levels", levels},
+          {"wells", s.wells},     {"intercepts", s.intercepts}};
 }
 
 nlohmann::json group_json(const ProgressTable& t, const ProgressGroup& g, const ProgressTableOptions& o) {

@@ -107,6 +107,7 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
     t.levels.push_back({e, static_cast<int>(idx.size()), 0, NAN});
     for (std::size_t w : idx) {
       order.push_back(w);
+      t.wells.push_back(wells[w].well);
       double u_max = -INFINITY;
       for (double ts : wells[w].t_s) u_max = std::max(u_max, e * (ts + lead_s) / 60);
       t.u_common = std::min(t.u_common, u_max);
@@ -153,6 +154,7 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
     return t;
   }
   t.tested = true;
+  for (std::size_t w = 0; w < nw; ++w) t.intercepts.push_back(b_full(static_cast<Eigen::Index>(w)));
   if (rss_full > 0) {
     t.f = std::max(rss_red - rss_full, 0.0) / t.df1 / (rss_full / t.df2);
     boost::math::fisher_f_distribution<double> dist(t.df1, t.df2);

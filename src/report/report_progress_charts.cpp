@@ -55,10 +55,10 @@ std::string one_panel(const ProgressTable& t, const ProgressGroup& g, std::size_
   if (std::isfinite(pw.enzyme)) head += " · E " + human(pw.enzyme);
   d.text(50, 15, head, "wname");
   const std::vector<double> grid_min = minutes(grid);
-  if (g.pi.ok) c.polyline(grid_min, pi, "fit-line tangent");
-  c.polyline(grid_min, mm, "fit-curve-well");
   c.markers(minutes(pw.t_s), pw.p, svg::Marker::dot, 1.6, "used");
   if (!pw.p_left.empty()) c.markers(minutes(pw.t_left_s), pw.p_left, svg::Marker::circle, 2.6, "outlier");
+  if (g.pi.ok) c.polyline(grid_min, pi, "fit-line tangent");
+  c.polyline(grid_min, mm, "fit-curve-well");
   const std::string label = fmt::format("well {}: {} reads fitted, {} left out", pw.well, pw.p.size(), pw.p_left.size());
   return "<figure class=\"chart-small\">" + d.str({{"role", "img"}, {"aria-label", label}}) + "</figure>\n";
 }
@@ -85,7 +85,9 @@ std::string stability_chart(const ProgressTable& t, const ProgressGroup& g, cons
     const auto at = std::find_if(s.levels.begin(), s.levels.end(), [&](const auto& l) { return l.enzyme == pw.enzyme; });
     if (at == s.levels.end()) continue;
     const auto k = static_cast<std::size_t>(at - s.levels.begin());
-    const double offset = g.mm.ok && w < g.mm.offsets.size() ? g.mm.offsets[w].estimate : pw.p.front();
+    const auto named = std::find(s.wells.begin(), s.wells.end(), pw.well);
+    const auto at_w = static_cast<std::size_t>(named - s.wells.begin());
+    const double offset = at_w < s.intercepts.size() ? s.intercepts[at_w] : pw.p.front();
     for (std::size_t i = 0; i < pw.p.size(); ++i) {
       us[k].push_back(pw.enzyme * (pw.t_s[i] + g.lead_s) / 60);
       ps[k].push_back(pw.p[i] - offset);
@@ -99,18 +101,19 @@ std::string stability_chart(const ProgressTable& t, const ProgressGroup& g, cons
   svg::Document d(440, 260);
   svg::Chart c(d, {58, 12, 360, 196}, svg::nice_ticks(0, u_hi, 6), svg::nice_ticks(p_lo, p_hi, 5));
   if (std::isfinite(s.u_common)) c.vband(0, s.u_common, "window-ext");
-  c.axes("[E]·t (enzyme unit × min)", "product − offset (" + display_unit(t.conc_unit) + ")");
+  c.axes("[E]·t (enzyme unit × min)", "product − intercept (" + display_unit(t.conc_unit) + ")");
   for (std::size_t k = 0; k < s.levels.size(); ++k) {
     c.markers(us[k], ps[k], level_marker(k), 2.4, "pt", {{"stroke", level_colour(k)}});
-    const double y = 24 + 14 * static_cast<double>(k);
-    d.markers({{70, y - 3.5}}, level_marker(k), 3.2, "legend-pt", {{"stroke", level_colour(k)}});
-    d.text(78, y, "E = " + human(s.levels[k].enzyme), "key");
+    const double y = 200 - 14 * static_cast<double>(s.levels.size() - k);  // bottom right
+    d.markers({{350, y - 3.5}}, level_marker(k), 3.2, "legend-pt", {{"stroke", level_colour(k)}});
+    d.text(358, y, "E = " + human(s.levels[k].enzyme), "key");
   }
   const std::string label = fmt::format("product against enzyme × time at S0 = {}", human(s.s0));
   return "<figure class=\"chart\">" + d.str({{"role", "img"}, {"aria-label", label}}) +
          "<figcaption>S0 = " + svg::escape(human(s.s0) + " " + display_unit(t.conc_unit)) +
-         ": product made against [E]·t, one colour per enzyme amount; a stable enzyme's curves lie on one another. "
-         "Shaded: the [E]·t every level reaches, where the test compares them.</figcaption></figure>\n";
+         ": product made (less each well's intercept) against [E]·t, one colour per enzyme amount; a stable "
+         "enzyme's curves lie on one another. Shaded: the [E]·t every level reaches, where the test compares "
+         "them.</figcaption></figure>\n";
 }
 
 }  // namespace vzero::detail::report
