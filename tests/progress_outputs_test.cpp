@@ -43,9 +43,10 @@ TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate")
   const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
   vzero::bench::write_wide(dir / "plate.csv", plate);
   vzero::bench::write_map(dir / "map.csv", plate, spec);
-  const auto rates = run_vzero("rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 --signal-ceiling 2.5 "
-                               "-o rates.csv --traces traces.csv -q",
-                               dir.path.string());
+  const auto rates = run_vzero(
+      "rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 --signal-ceiling 2.5 "
+      "-o rates.csv --traces traces.csv -q",
+      dir.path.string());
   REQUIRE_MESSAGE(rates.status == 0, rates.describe());
   const std::string cmd =
       "progress rates.csv --traces traces.csv --x substrate --enzyme-levels enzyme --no-profile -q --json {} "

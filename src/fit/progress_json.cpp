@@ -72,11 +72,20 @@ nlohmann::json stability_json(const StabilityTest& s) {
   nlohmann::json levels = nlohmann::json::array();
   for (const auto& l : s.levels)
     levels.push_back({{"enzyme", l.enzyme}, {"wells", l.wells}, {"reads", l.reads}, {"et_needed", l.et_needed}});
-  return {{"s0", s.s0},           {"tested", s.tested}, {"u_common", s.u_common},
-          {"f", s.f},             {"df1", s.df1},       {"df2", s.df2},
-          {"p_value", s.p_value}, {"product_level", s.product_level}, {"et_ratio", s.et_ratio},
-          {"unstable", s.unstable}, {"verdict", s.verdict}, {"levels", levels},
-          {"wells", s.wells},     {"intercepts", s.intercepts}};
+  return {{"s0", s.s0},
+          {"tested", s.tested},
+          {"u_common", s.u_common},
+          {"f", s.f},
+          {"df1", s.df1},
+          {"df2", s.df2},
+          {"p_value", s.p_value},
+          {"product_level", s.product_level},
+          {"et_ratio", s.et_ratio},
+          {"unstable", s.unstable},
+          {"verdict", s.verdict},
+          {"levels", levels},
+          {"wells", s.wells},
+          {"intercepts", s.intercepts}};
 }
 
 nlohmann::json group_json(const ProgressTable& t, const ProgressGroup& g, const ProgressTableOptions& o) {
@@ -86,7 +95,10 @@ nlohmann::json group_json(const ProgressTable& t, const ProgressGroup& g, const 
   f["group"] = group;
   nlohmann::json wells = nlohmann::json::array();
   for (const auto& w : g.wells)
-    wells.push_back({{"well", w.well}, {"s0", w.s0}, {"enzyme", w.enzyme}, {"reads", w.p.size()},
+    wells.push_back({{"well", w.well},
+                     {"s0", w.s0},
+                     {"enzyme", w.enzyme},
+                     {"reads", w.p.size()},
                      {"trusted_only", w.trusted_only}});
   f["wells"] = wells;
   f["left_out"] = g.left_out;

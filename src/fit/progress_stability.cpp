@@ -13,9 +13,9 @@ namespace vzero {
 
 namespace {
 
-constexpr int k_degree = 4;              // polynomial degree of a curve in u/u_common
-constexpr double k_alpha = 0.01;         // significance of the F test
-constexpr double k_ratio_flag = 1.05;    // et_ratio above which a significant test is a loss
+constexpr int k_degree = 4;                        // polynomial degree of a curve in u/u_common
+constexpr double k_alpha = 0.01;                   // significance of the F test
+constexpr double k_ratio_flag = 1.05;              // et_ratio above which a significant test is a loss
 constexpr std::size_t k_min_reads = k_degree + 2;  // per well within u_common
 
 struct Read {
@@ -40,7 +40,8 @@ Eigen::MatrixXd design(const std::vector<Read>& reads, std::size_t wells, std::s
   for (std::size_t i = 0; i < reads.size(); ++i) {
     const auto r = static_cast<Eigen::Index>(i);
     x(r, static_cast<Eigen::Index>(reads[i].well)) = 1;
-    const Eigen::Index at = static_cast<Eigen::Index>(wells) + (full ? static_cast<Eigen::Index>(reads[i].level) : 0) * k_degree;
+    const Eigen::Index at =
+        static_cast<Eigen::Index>(wells) + (full ? static_cast<Eigen::Index>(reads[i].level) : 0) * k_degree;
     double pw = 1;
     for (int d = 0; d < k_degree; ++d) x(r, at + d) = pw *= reads[i].x;
   }
@@ -79,8 +80,8 @@ std::string verdict_of(const StabilityTest& t) {
                                        t.df1, t.df2, t.p_value);
   const std::string size =
       std::isfinite(t.et_ratio)
-          ? fmt::format("; to make {:.4g} product the lowest level needs {:.3f} × the [E]·t of the highest", t.product_level,
-                        t.et_ratio)
+          ? fmt::format("; to make {:.4g} product the lowest level needs {:.3f} × the [E]·t of the highest",
+                        t.product_level, t.et_ratio)
           : "";
   if (t.p_value >= k_alpha)
     return "the curves of product against [E]·t superimpose over " + head + size +
@@ -166,7 +167,8 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
   for (std::size_t l = 0; l < nl; ++l) reach = std::min(reach, curve(b_full, nw, l, 1));
   if (reach > 0) {
     t.product_level = reach / 2;
-    for (std::size_t l = 0; l < nl; ++l) t.levels[l].et_needed = first_reach(b_full, nw, l, t.product_level) * t.u_common;
+    for (std::size_t l = 0; l < nl; ++l)
+      t.levels[l].et_needed = first_reach(b_full, nw, l, t.product_level) * t.u_common;
     t.et_ratio = t.levels.front().et_needed / t.levels.back().et_needed;
   }
   t.unstable = t.p_value < k_alpha && t.et_ratio > k_ratio_flag;

@@ -38,8 +38,9 @@ std::string param_row(const std::string& fit, const ParameterEstimate& e, const 
 
 std::string fit_rows(const ProgressTable& t, const ProgressFit& f, const std::string& what,
                      const ProgressTableOptions& o) {
-  if (!f.ok) return fmt::format("<tr><td>{}</td><td colspan=\"6\" class=\"warn\">no fit: {}</td></tr>\n", escape(what),
-                                escape(f.message));
+  if (!f.ok)
+    return fmt::format("<tr><td>{}</td><td colspan=\"6\" class=\"warn\">no fit: {}</td></tr>\n", escape(what),
+                       escape(f.message));
   std::string h;
   for (const auto& e : f.parameters) h += param_row(what, e, progress_unit(t, e.name, o.enzyme_column));
   return h;
@@ -66,8 +67,7 @@ std::string params_table(const ProgressTable& t, const ProgressGroup& g, const P
   auto stats = [&](const char* what, int n, double sd, double aic, bool ok) {
     if (ok)
       h += fmt::format("<p class=\"stats\">{}: {} points, residual SD {} {}, AIC {}</p>\n", what, n, human(sd),
-                       escape(detail::report::display_unit(what[0] == 'i' ? t.rate_unit : t.conc_unit)),
-                       human(aic, 6));
+                       escape(detail::report::display_unit(what[0] == 'i' ? t.rate_unit : t.conc_unit)), human(aic, 6));
   };
   stats("progress curves", g.mm.n, g.mm.residual_sd, g.mm.aic, g.mm.ok);
   stats("initial rates", r.n, r.residual_sd, r.aic, r.ok);
@@ -84,8 +84,7 @@ std::string group_section(const ProgressTable& t, const ProgressGroup& g, const 
   }
   h += "</p>\n";
   h += params_table(t, g, o);
-  if (!g.choice.verdict.empty())
-    h += "<p><strong>Which model:</strong> " + escape(g.choice.verdict) + ".</p>\n";
+  if (!g.choice.verdict.empty()) h += "<p><strong>Which model:</strong> " + escape(g.choice.verdict) + ".</p>\n";
   if (!g.stability.empty()) {
     h += "<h3>Enzyme stability (Selwyn's test)</h3>\n";
     for (const auto& s : g.stability) {
@@ -108,8 +107,9 @@ std::string group_section(const ProgressTable& t, const ProgressGroup& g, const 
 std::string progress_report_html(const ProgressTable& t, const ProgressTableOptions& o, const std::string& source,
                                  const std::string& traces, const std::string& title_in) {
   const std::string title = title_in.empty() ? "Progress curves: " + source : title_in;
-  std::string h = "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
-                  "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n";
+  std::string h =
+      "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
+      "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n";
   h += "<meta name=\"generator\" content=\"vzero " + std::string(VZERO_VERSION) + "\"/>\n";
   h += "<title>" + escape(title) + "</title>\n<style>" + detail::report::page_css() +
        ".chart-small{margin:0;width:250px}</style>\n</head>\n<body>\n<main>\n";
@@ -119,7 +119,7 @@ std::string progress_report_html(const ProgressTable& t, const ProgressTableOpti
       escape(source), escape(traces), escape(o.x_column), human(o.x_factor, 6),
       escape(detail::report::display_unit(t.conc_unit)),
       o.enzyme_column.empty() ? std::string("not given")
-                              : escape(o.enzyme_column) + (o.fit.use_enzyme        ? " (kcat shared)"
+                              : escape(o.enzyme_column) + (o.fit.use_enzyme       ? " (kcat shared)"
                                                            : o.fit.vmax_per_level ? " (Vmax per level)"
                                                                                   : ""),
       o.fit.fit_lead ? std::string("fitted") : human(o.fit.lead_s) + " s (given)");

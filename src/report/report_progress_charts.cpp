@@ -59,7 +59,8 @@ std::string one_panel(const ProgressTable& t, const ProgressGroup& g, std::size_
   if (!pw.p_left.empty()) c.markers(minutes(pw.t_left_s), pw.p_left, svg::Marker::circle, 2.6, "outlier");
   if (g.pi.ok) c.polyline(grid_min, pi, "fit-line tangent");
   c.polyline(grid_min, mm, "fit-curve-well");
-  const std::string label = fmt::format("well {}: {} reads fitted, {} left out", pw.well, pw.p.size(), pw.p_left.size());
+  const std::string label =
+      fmt::format("well {}: {} reads fitted, {} left out", pw.well, pw.p.size(), pw.p_left.size());
   return "<figure class=\"chart-small\">" + d.str({{"role", "img"}, {"aria-label", label}}) + "</figure>\n";
 }
 
@@ -82,7 +83,8 @@ std::string stability_chart(const ProgressTable& t, const ProgressGroup& g, cons
   for (std::size_t w = 0; w < g.wells.size(); ++w) {
     const ProgressWell& pw = g.wells[w];
     if (pw.s0 != s.s0) continue;
-    const auto at = std::find_if(s.levels.begin(), s.levels.end(), [&](const auto& l) { return l.enzyme == pw.enzyme; });
+    const auto at =
+        std::find_if(s.levels.begin(), s.levels.end(), [&](const auto& l) { return l.enzyme == pw.enzyme; });
     if (at == s.levels.end()) continue;
     const auto k = static_cast<std::size_t>(at - s.levels.begin());
     const auto named = std::find(s.wells.begin(), s.wells.end(), pw.well);
