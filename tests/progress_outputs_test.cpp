@@ -77,7 +77,10 @@ TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate")
   CHECK(mm["offsets"].size() == g["wells"].size());
   // Selwyn's test: one per S0 of the series, none flagged (the simulated enzyme is stable).
   CHECK(g["stability"].size() == spec.s0_over_km.size());
-  for (const auto& s : g["stability"]) CHECK(s["unstable"] == false);
+  for (const auto& s : g["stability"]) {
+    CHECK(s["unstable"] == false);
+    CHECK(s["tested"] == true);  // the level far above the lowest left out, the rest tested
+  }
   // The report: one panel per fitted well, each with the fitted curve; offline; deterministic.
   const std::string html = slurp(dir / "p.html");
   CHECK(count(html, "<figure class=\"chart-small\">") == g["wells"].size());

@@ -129,6 +129,15 @@ TEST_CASE("Selwyn's test: which S0 are tested, and what it declines") {
     CHECK(!tests[0].tested);
     CHECK(tests[0].verdict.find("not tested") == 0);
   }
+  SUBCASE("a third level 40× above: left out and said so, the other two tested") {
+    const auto tests = vzero::stability_tests(series({1, 2, 40}, 1, stable, 0.2, 1), 0);
+    REQUIRE(tests.size() == 1);
+    CHECK(tests[0].tested);
+    CHECK(tests[0].levels.size() == 2);
+    REQUIRE(tests[0].left_out.size() == 1);
+    CHECK(tests[0].left_out[0].find("E40") == 0);
+    CHECK(tests[0].verdict.find("left out") != std::string::npos);
+  }
   SUBCASE("the lead moves [E]·t: reads before the reaction started are not [E]·t > 0") {
     const auto tests = vzero::stability_tests(series({1, 2}, 1, stable, 0.2, 1), -4000);
     REQUIRE(tests.size() == 1);

@@ -107,7 +107,8 @@ ModelChoice compare_progress_models(const ProgressFit& mm, const ProgressFit& pi
 // each level needs to make P* (half the smallest product the levels' curves reach at
 // u_common); `et_ratio` = the lowest level's over the highest's (> 1: the lowest level, read
 // longest per unit enzyme, made less product than [E]·τ promises: it lost activity).
-// `unstable` when p < 0.01 and et_ratio > 1.05.
+// `unstable` when p < 0.01 and et_ratio > 1.05. A well with fewer than 6 reads up to u_common
+// is left out (one at a time, u_common recomputed), and the S0 is tested on the levels left.
 struct StabilityLevel {
   double enzyme = NAN;     // the enzyme amount (the enzyme column's unit)
   int wells = 0, reads = 0;  // reads within u_common
@@ -122,9 +123,10 @@ struct StabilityTest {
   double f = NAN, p_value = NAN;
   int df1 = 0, df2 = 0;
   double product_level = NAN;  // P*
-  double et_ratio = NAN;
+  double et_ratio = NAN;  // stated in `verdict` only when p < 0.01 (else noise around 1)
   bool unstable = false;
-  std::vector<std::string> wells;  // the wells tested, level by level
+  std::vector<std::string> left_out;  // "A4 (3 reads)": wells short of 6 reads up to u_common
+  std::vector<std::string> wells;     // the wells tested, level by level
   std::vector<double> intercepts;  // their intercepts b_w in the full model (product at [E]·τ = 0)
   std::string verdict;  // in words
 };

@@ -85,7 +85,8 @@ nlohmann::json stability_json(const StabilityTest& s) {
           {"verdict", s.verdict},
           {"levels", levels},
           {"wells", s.wells},
-          {"intercepts", s.intercepts}};
+          {"intercepts", s.intercepts},
+          {"left_out", s.left_out}};
 }
 
 nlohmann::json group_json(const ProgressTable& t, const ProgressGroup& g, const ProgressTableOptions& o) {

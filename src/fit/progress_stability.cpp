@@ -1,6 +1,7 @@
 // Selwyn's test of enzyme stability: at one S0, product against [E]·τ must be one curve for
 // every enzyme amount; a nested-model F test between one curve per level and one for all.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <Eigen/QR>
 #include <algorithm>
 #include <boost/math/distributions/fisher_f.hpp>
@@ -79,7 +80,7 @@ std::string verdict_of(const StabilityTest& t) {
   const std::string head = fmt::format("{} enzyme levels (F = {:.3g}, {} and {} df, p = {:.2g})", t.levels.size(), t.f,
                                        t.df1, t.df2, t.p_value);
   const std::string size =
-      std::isfinite(t.et_ratio)
+      std::isfinite(t.et_ratio) && t.p_value < k_alpha  // without a difference the ratio is noise
           ? fmt::format("; to make {:.4g} product the lowest level needs {:.3f} × the [E]·t of the highest",
                         t.product_level, t.et_ratio)
           : "";
@@ -97,47 +98,69 @@ std::string verdict_of(const StabilityTest& t) {
          ": significant but within 5 % in [E]·t, not flagged";
 }
 
+std::size_t reads_within(const ProgressWell& w, double e, double lead_s, double u_common) {
+  std::size_t kept = 0;
+  for (double ts : w.t_s) kept += e * (ts + lead_s) / 60 <= u_common * (1 + 1e-12);
+  return kept;
+}
+
+// The [E]·τ every well reaches, after leaving out (into `left_out`) each well with fewer than
+// k_min_reads reads up to it, one at a time (a level far above the lowest, or a well whose
+// trusted reads start late); NaN when fewer than two levels remain.
+double settle_levels(const std::vector<ProgressWell>& wells, std::map<double, std::vector<std::size_t>>& by_level,
+                     double lead_s, std::vector<std::string>& left_out) {
+  while (by_level.size() >= 2) {
+    double u_common = INFINITY;
+    for (const auto& [e, idx] : by_level)
+      for (std::size_t w : idx) {
+        double u_max = -INFINITY;
+        for (double ts : wells[w].t_s) u_max = std::max(u_max, e * (ts + lead_s) / 60);
+        u_common = std::min(u_common, u_max);
+      }
+    if (!(u_common > 0)) return NAN;
+    bool dropped = false;
+    for (auto it = by_level.begin(); it != by_level.end() && !dropped; ++it)
+      for (auto w = it->second.begin(); w != it->second.end(); ++w) {
+        const std::size_t kept = reads_within(wells[*w], it->first, lead_s, u_common);
+        if (kept >= k_min_reads) continue;
+        left_out.push_back(fmt::format("{} ({} reads)", wells[*w].well, kept));
+        it->second.erase(w);
+        if (it->second.empty()) by_level.erase(it);
+        dropped = true;
+        break;
+      }
+    if (!dropped) return u_common;
+  }
+  return NAN;
+}
+
 // The test at one S0: wells[idx], by enzyme level (ascending).
 StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
-                       const std::map<double, std::vector<std::size_t>>& by_level, double lead_s) {
+                       std::map<double, std::vector<std::size_t>> by_level, double lead_s) {
   StabilityTest t;
   t.s0 = s0;
-  t.u_common = INFINITY;
+  t.u_common = settle_levels(wells, by_level, lead_s, t.left_out);
+  if (!(t.u_common > 0)) {
+    t.verdict = fmt::format(
+        "not tested: fewer than two enzyme levels keep {} reads up to the [E]·t every level reaches{}; read the "
+        "lowest enzyme level longer or use closer enzyme levels",
+        k_min_reads, t.left_out.empty() ? "" : " (short: " + fmt::format("{}", fmt::join(t.left_out, ", ")) + ")");
+    return t;
+  }
   std::vector<std::size_t> order;  // wells of the test, level by level
+  std::vector<Read> reads;
+  std::size_t level = 0;
   for (const auto& [e, idx] : by_level) {
     t.levels.push_back({e, static_cast<int>(idx.size()), 0, NAN});
     for (std::size_t w : idx) {
-      order.push_back(w);
       t.wells.push_back(wells[w].well);
-      double u_max = -INFINITY;
-      for (double ts : wells[w].t_s) u_max = std::max(u_max, e * (ts + lead_s) / 60);
-      t.u_common = std::min(t.u_common, u_max);
-    }
-  }
-  if (!(t.u_common > 0)) {
-    t.verdict = "not tested: no reads after the reaction started";
-    return t;
-  }
-  std::vector<Read> reads;
-  std::size_t level = 0, slot = 0;
-  for (const auto& [e, idx] : by_level) {
-    for (std::size_t w : idx) {
-      std::size_t kept = 0;
       for (std::size_t i = 0; i < wells[w].p.size(); ++i) {
         const double u = e * (wells[w].t_s[i] + lead_s) / 60;
         if (u > t.u_common * (1 + 1e-12)) continue;
-        reads.push_back({slot, level, u / t.u_common, wells[w].p[i]});
-        ++kept;
+        reads.push_back({order.size(), level, u / t.u_common, wells[w].p[i]});
+        ++t.levels[level].reads;
       }
-      t.levels[level].reads += static_cast<int>(kept);
-      if (kept < k_min_reads) {
-        t.verdict = fmt::format(
-            "not tested: well {} has {} reads up to the [E]·t every level reaches ({} needed); read the lowest "
-            "enzyme level longer or use closer enzyme levels",
-            wells[w].well, kept, k_min_reads);
-        return t;
-      }
-      ++slot;
+      order.push_back(w);
     }
     ++level;
   }
@@ -173,6 +196,9 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
   }
   t.unstable = t.p_value < k_alpha && t.et_ratio > k_ratio_flag;
   t.verdict = verdict_of(t);
+  if (!t.left_out.empty())
+    t.verdict += fmt::format("; left out, short of {} reads up to the common [E]·t: {}", k_min_reads,
+                             fmt::join(t.left_out, ", "));
   return t;
 }
 
