@@ -49,7 +49,7 @@ std::string one_panel(const ProgressTable& t, const ProgressGroup& g, std::size_
   const std::vector<double> pi = progress_curve(g.pi, w, pw, o.fit.lead_s, grid);
   auto [p_lo, p_hi] = range_of({&pw.p, &pw.p_left, &mm, &pi});
   svg::Document d(250, 190);
-  svg::Chart c(d, {50, 24, 186, 118}, svg::nice_ticks(t_lo / 60, t_hi / 60, 4), svg::nice_ticks(p_lo, p_hi, 4));
+  svg::Chart c(d, {50, 24, 186, 118}, svg::nice_ticks(t_lo / 60, t_hi / 60, 4), svg::nice_ticks(p_lo, p_hi, 5));
   c.axes("time (min)", "product (" + display_unit(t.conc_unit) + ")");
   std::string head = fmt::format("{} · S0 {}", pw.well, human(pw.s0));
   if (std::isfinite(pw.enzyme)) head += " · E " + human(pw.enzyme);
