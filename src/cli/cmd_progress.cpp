@@ -28,11 +28,10 @@ Fits the integrated Michaelis–Menten equation to every read of every sample we
 substrate series at once (the closed form through the Lambert W function):
   S(t) = Km·W((S0/Km)·exp((S0 − Vmax·t)/Km)),  product = S0 − S(t) + offset of the well
 with Km and Vmax shared by the wells (kcat with --enzyme: Vmax = kcat·[E] per well; one
-Vmax per enzyme amount with --enzyme-levels, Km shared), one
-baseline offset per well, and t = read time + lead (the reaction started `lead` seconds
-before time 0; estimated by default, as ignoring it biases Km; --lead SECONDS fixes it).
-RATES.csv and TRACES.csv are the
-rates table and the --traces table of one `vzero rates` run with a concentration
+Vmax per enzyme amount with --enzyme-levels, Km shared), one baseline offset per well,
+and t = read time + lead (the reaction started `lead` seconds before time 0; estimated by
+default, as ignoring it biases Km; --lead SECONDS fixes it). RATES.csv and TRACES.csv are
+the rates table and the --traces table of one `vzero rates` run with a concentration
 conversion; S0 is the --x column of the plate map.
 
 Reads used: every ok read of a well; only the reads the rate finder trusted (used = 1) in
@@ -48,14 +47,15 @@ Enzyme stability (Selwyn's test, with --enzyme or --enzyme-levels): at each S0 r
 or more enzyme amounts, product against [E]·t must be one curve while the enzyme keeps its
 activity. A nested-model F test (one curve per enzyme level against one for all, up to the
 [E]·t every level reaches) and the [E]·t ratio the lowest level needs to make the same
-product; p < 0.01 with a ratio above 1.05 prints "flag: enzyme-unstable".
+product; p < 0.01 with a ratio above 1.05 prints "[flag: enzyme-unstable]".
 
 Output: a table on stdout (not with -q); -o the tidy CSV (one row per group, method,
 model and parameter, each well's offset a row: estimate, SE, 95 % Wald-t and profile-t
 intervals, unit, n, df, RSS, residual SD, AIC); --residuals every read's fitted value and
 residual; --json the same fits as one JSON document (the shape of vzero fit --json, with
 the model comparison, the initial-rate fit and the stability tests); --report a standalone
-HTML page drawing each well's reads and fitted curves. Exit status 0 when a progress fit succeeded, 1 when none did or the input is bad.
+HTML page drawing each well's reads and fitted curves. Exit status 0 when a progress fit
+succeeded, 1 when none did or the input is bad.
 
 example:
   vzero progress out/rates.csv --traces out/traces.csv --x substrate --group inhibitor_uM
