@@ -132,8 +132,9 @@ struct StabilityTest {
 };
 
 // One test per S0 that has two or more enzyme levels among `wells` (wells without a finite
-// enzyme are ignored); lead_s as in the progress fit.
-std::vector<StabilityTest> stability_tests(const std::vector<ProgressWell>& wells, double lead_s);
+// enzyme are ignored); lead_s as in the progress fit; `conc_unit` names P* in the verdict.
+std::vector<StabilityTest> stability_tests(const std::vector<ProgressWell>& wells, double lead_s,
+                                           const std::string& conc_unit = "");
 
 // ---- From vzero rates' tables ----
 

@@ -76,13 +76,13 @@ double first_reach(const Eigen::VectorXd& beta, std::size_t wells, std::size_t l
   return NAN;
 }
 
-std::string verdict_of(const StabilityTest& t) {
+std::string verdict_of(const StabilityTest& t, const std::string& unit) {
   const std::string head = fmt::format("{} enzyme levels (F = {:.3g}, {} and {} df, p = {:.2g})", t.levels.size(), t.f,
                                        t.df1, t.df2, t.p_value);
   const std::string size =
       std::isfinite(t.et_ratio) && t.p_value < k_alpha  // without a difference the ratio is noise
-          ? fmt::format("; to make {:.4g} product the lowest level needs {:.3f} × the [E]·t of the highest",
-                        t.product_level, t.et_ratio)
+          ? fmt::format("; to make {:.4g}{} product the lowest level needs {:.3f} × the [E]·t of the highest",
+                        t.product_level, unit.empty() ? "" : " " + unit + " of", t.et_ratio)
           : "";
   if (t.p_value >= k_alpha)
     return "the curves of product against [E]·t superimpose over " + head + size +
@@ -136,7 +136,7 @@ double settle_levels(const std::vector<ProgressWell>& wells, std::map<double, st
 
 // The test at one S0: wells[idx], by enzyme level (ascending).
 StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
-                       std::map<double, std::vector<std::size_t>> by_level, double lead_s) {
+                       std::map<double, std::vector<std::size_t>> by_level, double lead_s, const std::string& unit) {
   StabilityTest t;
   t.s0 = s0;
   t.u_common = settle_levels(wells, by_level, lead_s, t.left_out);
@@ -195,7 +195,7 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
     t.et_ratio = t.levels.front().et_needed / t.levels.back().et_needed;
   }
   t.unstable = t.p_value < k_alpha && t.et_ratio > k_ratio_flag;
-  t.verdict = verdict_of(t);
+  t.verdict = verdict_of(t, unit);
   if (!t.left_out.empty())
     t.verdict += fmt::format("; left out, short of {} reads up to the common [E]·t: {}", k_min_reads,
                              fmt::join(t.left_out, ", "));
@@ -204,14 +204,15 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
 
 }  // namespace
 
-std::vector<StabilityTest> stability_tests(const std::vector<ProgressWell>& wells, double lead_s) {
+std::vector<StabilityTest> stability_tests(const std::vector<ProgressWell>& wells, double lead_s,
+                                           const std::string& conc_unit) {
   std::map<double, std::map<double, std::vector<std::size_t>>> series;  // S0 → enzyme → wells
   for (std::size_t w = 0; w < wells.size(); ++w)
     if (std::isfinite(wells[w].enzyme) && wells[w].enzyme > 0 && std::isfinite(wells[w].s0))
       series[wells[w].s0][wells[w].enzyme].push_back(w);
   std::vector<StabilityTest> out;
   for (const auto& [s0, by_level] : series)
-    if (by_level.size() >= 2) out.push_back(one_test(wells, s0, by_level, lead_s));
+    if (by_level.size() >= 2) out.push_back(one_test(wells, s0, by_level, lead_s, conc_unit));
   return out;
 }
 

@@ -233,7 +233,7 @@ ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const
     if (!o.enzyme_column.empty()) {
       const ParameterEstimate* lead = g.mm.ok ? g.mm.find("lead_s") : nullptr;
       g.lead_s = lead ? lead->estimate : o.fit.lead_s;
-      g.stability = stability_tests(g.wells, g.lead_s);
+      g.stability = stability_tests(g.wells, g.lead_s, out.conc_unit);
       if (o.fit.fit_lead && !lead)
         for (auto& s : g.stability)
           s.verdict += fmt::format("; [E]·t counted from {} s before the first read, as the progress fit gave no lead",
