@@ -122,6 +122,24 @@ TEST_CASE("Noiseless RK4 curves: kcat over enzyme levels, the lead, and product 
     CHECK(rel(f.find("kcat")->estimate, 4) < 1e-7);  // truth: kcat 4 per min per unit [E]
     CHECK(rel(f.find("Km")->estimate, 50) < 1e-7);
   }
+  SUBCASE("one Vmax per enzyme level, Km shared") {
+    vzero::ProgressOptions o;
+    o.vmax_per_level = true;
+    const auto wells = rk4_series(50, 4, INFINITY, 0, {3, 1, 2});
+    const vzero::ProgressFit f = vzero::fit_progress(wells, o);
+    REQUIRE(f.ok);
+    REQUIRE(f.parameters.size() == 4);  // Km, then the levels ascending
+    CHECK(f.parameters[1].name == "Vmax[E=1]");
+    CHECK(f.parameters[3].name == "Vmax[E=3]");
+    for (double e : {1.0, 2.0, 3.0})  // truth: Vmax = 4·[E] per min (the RK4 series above)
+      CHECK(rel(f.find(fmt::format("Vmax[E={:g}]", e))->estimate, 4 * e) < 1e-7);
+    CHECK(rel(f.find("Km")->estimate, 50) < 1e-7);
+    // The fitted curve of a well is its reads (noiseless).
+    const auto c = vzero::progress_curve(f, 7, wells[7], 0, wells[7].t_s);
+    for (std::size_t i = 0; i < c.size(); ++i) CHECK(std::fabs(c[i] - wells[7].p[i]) < 1e-6);
+    o.use_enzyme = true;
+    CHECK_THROWS_AS(vzero::fit_progress(wells, o), vzero::UsageError);
+  }
   SUBCASE("a reaction started 25 s before the first read") {
     vzero::ProgressOptions o;
     o.fit_lead = true;
@@ -298,6 +316,7 @@ TEST_CASE("fit_progress_tables: which wells and reads enter, and what it refuses
   CHECK(g.left_out == std::vector<std::string>{"A3: saturated"});
   REQUIRE(g.wells.size() == 3);
   CHECK(g.wells[1].p.size() == 20);  // A2 without its spike
+  CHECK(g.wells[1].t_left_s == std::vector<double>{60});  // kept apart for the report
   REQUIRE(g.mm.ok);
   CHECK(rel(g.mm.find("Km")->estimate, 50) < 1e-6);  // truth of the closed form above
   CHECK(t.conc_unit == "uM");

@@ -45,6 +45,7 @@ struct ProgressWell {
   double enzyme = NAN;             // enzyme concentration (kcat fits), else NaN
   std::vector<double> t_s, p;      // read times (s) and product (corrected, converted)
   bool trusted_only = false;       // only the reads the rate finder used (fit_progress_tables)
+  std::vector<double> t_left_s, p_left;  // ok reads the fit left out (drawn apart in the report)
 };
 
 struct ProgressOptions {
@@ -52,7 +53,9 @@ struct ProgressOptions {
   bool fit_lead = false;            // estimate the lead (reaction start before time 0)
   double lead_s = 0;                // the lead when not estimated, s
   bool use_enzyme = false;          // Vmax_w = kcat·[E]_w (every well needs `enzyme` > 0)
-  std::vector<double> start;        // Km, Vmax or kcat (per min), [Kp]; empty = automatic
+  bool vmax_per_level = false;      // one Vmax per distinct `enzyme` (Km shared; not with use_enzyme);
+                                    // parameters "Vmax[E=<level>]", levels ascending
+  std::vector<double> start;        // Km, Vmax (every level's) or kcat (per min), [Kp]; empty = automatic
   int max_iterations = 200;
   double confidence = 0.95;
   bool profile = true;              // profile-t intervals of the shared parameters
@@ -64,7 +67,7 @@ struct ProgressFit {
   bool ok = false;
   std::string message;              // why there is no fit
   std::string model;                // "mm" or "mm-product-inhibition"
-  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat, [Kp], [lead_s]
+  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s]
   std::vector<ParameterEstimate> offsets;     // b_w per well (wells order)
   bool converged = false;
   int iterations = 0;
@@ -78,6 +81,12 @@ struct ProgressFit {
 // are not finite; a set the data cannot support returns ok = false with a message.
 ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressOptions& options);
 
+// The fitted product of well `w` (wells[w] of the fit) at read times t_s: S0 − S(t + lead) + offset,
+// with the fit's Km, Vmax (kcat·[E], or the well's level's Vmax), Kp and lead (`lead_s` when
+// the lead was not fitted). NaN everywhere when the fit is not ok.
+std::vector<double> progress_curve(const ProgressFit& fit, std::size_t w, const ProgressWell& well, double lead_s,
+                                   const std::vector<double>& t_s);
+
 // The likelihood-ratio test of Michaelis–Menten (nested) against product inhibition, both
 // fitted to the same reads: statistic n·ln(RSS₀/RSS₁), χ² with 1 df, and AIC; the verdict in words.
 struct ModelChoice {
@@ -86,12 +95,54 @@ struct ModelChoice {
 };
 ModelChoice compare_progress_models(const ProgressFit& mm, const ProgressFit& pi);
 
+// ---- Enzyme stability (Selwyn's test) ----
+//
+// Selwyn (Biochim. Biophys. Acta 97, 42–46, 1965): an enzyme that keeps its activity makes
+// product at dP/dt = [E]·g(P, S0) whatever its rate law (depletion, product inhibition), so at
+// one S0 product against [E]·τ is one curve for every enzyme amount. The test, at each S0 with
+// two or more enzyme levels: the reads up to u_common, the [E]·τ every level reaches (τ = read
+// time + lead, min); product = b_w + Σ_{d=1..4} c_d·(u/u_common)^d with one curve per enzyme
+// level (full model) or one curve for all (reduced), an intercept per well in both; the
+// nested-model F test (linear least squares, exact under normal noise). Its size: the [E]·τ
+// each level needs to make P* (half the smallest product the levels' curves reach at
+// u_common); `et_ratio` = the lowest level's over the highest's (> 1: the lowest level, read
+// longest per unit enzyme, made less product than [E]·τ promises: it lost activity).
+// `unstable` when p < 0.01 and et_ratio > 1.05. A well with fewer than 6 reads up to u_common
+// is left out (one at a time, u_common recomputed), and the S0 is tested on the levels left.
+struct StabilityLevel {
+  double enzyme = NAN;     // the enzyme amount (the enzyme column's unit)
+  int wells = 0, reads = 0;  // reads within u_common
+  double et_needed = NAN;  // [E]·τ to make P*, enzyme unit × min
+};
+
+struct StabilityTest {
+  double s0 = NAN;                     // the substrate level, in the unit of p
+  std::vector<StabilityLevel> levels;  // ascending enzyme
+  bool tested = false;                 // false: `verdict` says why not
+  double u_common = NAN;               // enzyme unit × min
+  double f = NAN, p_value = NAN;
+  int df1 = 0, df2 = 0;
+  double product_level = NAN;  // P*
+  double et_ratio = NAN;  // stated in `verdict` only when p < 0.01 (else noise around 1)
+  bool unstable = false;
+  std::vector<std::string> left_out;  // "A4 (3 reads)": wells short of 6 reads up to u_common
+  std::vector<std::string> wells;     // the wells tested, level by level
+  std::vector<double> intercepts;  // their intercepts b_w in the full model (product at [E]·τ = 0)
+  std::string verdict;  // in words
+};
+
+// One test per S0 that has two or more enzyme levels among `wells` (wells without a finite
+// enzyme are ignored); lead_s as in the progress fit; `conc_unit` names P* in the verdict.
+std::vector<StabilityTest> stability_tests(const std::vector<ProgressWell>& wells, double lead_s,
+                                           const std::string& conc_unit = "");
+
 // ---- From vzero rates' tables ----
 
 struct ProgressTableOptions {
   std::string x_column;                     // initial substrate (plate-map column)
   double x_factor = NAN;                    // traces' concentration unit per x unit (required)
-  std::string enzyme_column;                // kcat fits when set
+  std::string enzyme_column;                // enzyme amounts: kcat (fit.use_enzyme) or Vmax per level
+                                            // (fit.vmax_per_level); either way Selwyn's test per S0
   std::vector<std::string> group_columns;   // one fit per combination
   std::string role = "sample";
   ProgressOptions fit;
@@ -105,6 +156,8 @@ struct ProgressGroup {
   std::vector<std::string> left_out;  // "B7: saturated" (wells the fit cannot use, and why)
   ProgressFit mm, pi;                 // pi fitted only with both_models
   ModelChoice choice;
+  std::vector<StabilityTest> stability;  // with an enzyme column: Selwyn's test per S0
+  double lead_s = NAN;                   // the lead the stability tests used (fitted or given)
   FitResult rates_fit;                // Michaelis–Menten on the same group's initial rates (x scaled)
 };
 
@@ -124,6 +177,14 @@ ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const
 // method "progress" or "initial-rates" (the Michaelis–Menten fit of the same group's
 // unflagged v0, substrate in the traces' unit). `enzyme_column` names kcat's unit.
 std::string progress_csv(const ProgressTable& t, const std::string& enzyme_column = "");
+// The unit of a parameter ("Km", "Vmax", "Vmax[E=…]", "kcat", "Kp", "lead_s", "offset").
+std::string progress_unit(const ProgressTable& t, const std::string& name, const std::string& enzyme_column = "");
+// The fits as one JSON document, in the shape of `vzero fit --json` (tool, version, source,
+// units, options, fits[]: per group the progress fits with estimates, SE, Wald and profile
+// intervals, residual SD and AIC, the model comparison, the initial-rate fit beside them and
+// Selwyn's tests). `traces` is the traces table's path.
+std::string progress_json(const ProgressTable& t, const ProgressTableOptions& o, const std::string& source,
+                          const std::string& traces);
 // One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
 std::string progress_residuals_csv(const ProgressTable& t);
 // Per group: both fits side by side, the wells left out and the model verdict.

@@ -12,6 +12,7 @@
 #include "core/files.hpp"
 #include "vzero/error.hpp"
 #include "vzero/progress.hpp"
+#include "vzero/progress_report.hpp"
 #include "vzero/table.hpp"
 
 namespace vzero::cli {
@@ -19,17 +20,18 @@ namespace vzero::cli {
 namespace {
 
 constexpr const char* k_usage = R"(usage: vzero progress RATES.csv --traces TRACES.csv --x COLUMN [--group COL,...]
-                 [--enzyme COLUMN] [--lead fit|SECONDS] [--product-inhibition]
-                 [--x-factor F] [-o progress.csv] [--residuals FILE]
+                 [--enzyme COLUMN | --enzyme-levels COLUMN] [--lead fit|SECONDS] [--product-inhibition]
+                 [--x-factor F] [-o progress.csv] [--residuals FILE] [--json FILE]
+                 [--report FILE.html]
 
 Fits the integrated Michaelis–Menten equation to every read of every sample well of a
 substrate series at once (the closed form through the Lambert W function):
   S(t) = Km·W((S0/Km)·exp((S0 − Vmax·t)/Km)),  product = S0 − S(t) + offset of the well
-with Km and Vmax shared by the wells (kcat with --enzyme: Vmax = kcat·[E] per well), one
-baseline offset per well, and t = read time + lead (the reaction started `lead` seconds
-before time 0; estimated by default, as ignoring it biases Km; --lead SECONDS fixes it).
-RATES.csv and TRACES.csv are the
-rates table and the --traces table of one `vzero rates` run with a concentration
+with Km and Vmax shared by the wells (kcat with --enzyme: Vmax = kcat·[E] per well; one
+Vmax per enzyme amount with --enzyme-levels, Km shared), one baseline offset per well,
+and t = read time + lead (the reaction started `lead` seconds before time 0; estimated by
+default, as ignoring it biases Km; --lead SECONDS fixes it). RATES.csv and TRACES.csv are
+the rates table and the --traces table of one `vzero rates` run with a concentration
 conversion; S0 is the --x column of the plate map.
 
 Reads used: every ok read of a well; only the reads the rate finder trusted (used = 1) in
@@ -41,10 +43,19 @@ Beside it, the same group's unflagged initial rates fitted to Michaelis–Menten
 vzero fit does. --product-inhibition also fits competitive product inhibition (Kp, its
 integrated form) and says which model the data support (AIC and a likelihood-ratio test).
 
+Enzyme stability (Selwyn's test, with --enzyme or --enzyme-levels): at each S0 read at two
+or more enzyme amounts, product against [E]·t must be one curve while the enzyme keeps its
+activity. A nested-model F test (one curve per enzyme level against one for all, up to the
+[E]·t every level reaches) and the [E]·t ratio the lowest level needs to make the same
+product; p < 0.01 with a ratio above 1.05 prints "[flag: enzyme-unstable]".
+
 Output: a table on stdout (not with -q); -o the tidy CSV (one row per group, method,
 model and parameter, each well's offset a row: estimate, SE, 95 % Wald-t and profile-t
 intervals, unit, n, df, RSS, residual SD, AIC); --residuals every read's fitted value and
-residual. Exit status 0 when a progress fit succeeded, 1 when none did or the input is bad.
+residual; --json the same fits as one JSON document (the shape of vzero fit --json, with
+the model comparison, the initial-rate fit and the stability tests); --report a standalone
+HTML page drawing each well's reads and fitted curves. Exit status 0 when a progress fit
+succeeded, 1 when none did or the input is bad.
 
 example:
   vzero progress out/rates.csv --traces out/traces.csv --x substrate --group inhibitor_uM
@@ -95,7 +106,8 @@ double package_x_factor(const std::string& rates_path, const std::string& x) {
 
 int cmd_progress(const Args& args) {
   namespace po = boost::program_options;
-  std::string file, traces, x, enzyme, lead = "fit", x_factor, role = "sample", output, residuals;
+  std::string file, traces, x, enzyme, enzyme_levels, lead = "fit", x_factor, role = "sample", output, residuals;
+  std::string json, report;
   std::vector<std::string> groups;
   ProgressTableOptions o;
   po::options_description opts(k_usage);
@@ -103,12 +115,15 @@ int cmd_progress(const Args& args) {
       "x", po::value(&x), "initial substrate column (required)")(
       "group", po::value(&groups)->composing(), "fit each combination of these columns separately (COL,COL,...)")(
       "enzyme", po::value(&enzyme), "enzyme concentration column: fit kcat shared by all enzyme levels")(
+      "enzyme-levels", po::value(&enzyme_levels), "enzyme amount column: one Vmax per enzyme level, Km shared")(
       "lead", po::value(&lead), "seconds the reaction ran before time 0, or fit (default: fit)")(
       "product-inhibition", "also fit competitive product inhibition (Kp) and compare the models")(
       "x-factor", po::value(&x_factor), "traces' concentration unit per --x unit (default: from datapackage.json)")(
       "role", po::value(&role), "rows to use (default: sample)")(
       "output,o", po::value(&output), "write the tidy fit table here")(
       "residuals", po::value(&residuals), "write each read's fitted value and residual here")(
+      "json", po::value(&json), "write the fits as a JSON document here")(
+      "report", po::value(&report), "write a standalone HTML page of the fits here")(
       "confidence", po::value(&o.fit.confidence), "level of the intervals (default: 0.95)")(
       "no-profile", "skip the profile-t intervals (faster)")("quiet,q", "do not print the table on stdout")(
       "help,h", "show this help");
@@ -122,8 +137,11 @@ int cmd_progress(const Args& args) {
   if (x.empty()) throw UsageError("--x COLUMN is required: the initial substrate column");
   o.x_column = x;
   o.group_columns = split_list(groups);
-  o.enzyme_column = enzyme;
+  if (!enzyme.empty() && !enzyme_levels.empty())
+    throw UsageError("--enzyme (kcat) and --enzyme-levels (Vmax per level) exclude each other; pass one");
+  o.enzyme_column = enzyme.empty() ? enzyme_levels : enzyme;
   o.fit.use_enzyme = !enzyme.empty();
+  o.fit.vmax_per_level = !enzyme_levels.empty();
   o.fit.fit_lead = lead == "fit";
   if (!o.fit.fit_lead) o.fit.lead_s = number_option("--lead", lead);
   o.both_models = vm.count("product-inhibition") > 0;
@@ -133,6 +151,8 @@ int cmd_progress(const Args& args) {
     std::vector<detail::NamedPath> outs;
     if (!output.empty()) outs.push_back({"-o", output});
     if (!residuals.empty()) outs.push_back({"--residuals", residuals});
+    if (!json.empty()) outs.push_back({"--json", json});
+    if (!report.empty()) outs.push_back({"--report", report});
     detail::check_outputs({{"the rates table", file}, {"--traces", traces}}, outs);
   }
   o.x_factor = x_factor.empty() ? package_x_factor(file, x) : number_option("--x-factor", x_factor);
@@ -142,6 +162,8 @@ int cmd_progress(const Args& args) {
   const ProgressTable result = fit_progress_tables(rates_table, traces_table, o);
   if (!output.empty()) write_file_atomic(output, progress_csv(result, enzyme));
   if (!residuals.empty()) write_file_atomic(residuals, progress_residuals_csv(result));
+  if (!json.empty()) write_file_atomic(json, progress_json(result, o, file, traces));
+  if (!report.empty()) write_file_atomic(report, progress_report_html(result, o, file, traces));
   if (vm.count("quiet") == 0) print_out(progress_text(result, enzyme));
   for (const auto& g : result.groups)
     if (g.mm.ok) return 0;

@@ -29,16 +29,29 @@ const ParameterEstimate* ProgressFit::find(std::string_view name) const {
 
 namespace {
 
-// θ = [ln Km, ln V, (ln Kp), (lead_s), b_1 … b_W]; V is Vmax or kcat, per minute.
+// θ = [ln Km, ln V_1 … ln V_L, (ln Kp), (lead_s), b_1 … b_W]; V is Vmax or kcat, per minute;
+// L = 1 unless Vmax is fitted per enzyme level (levels ascending).
 struct Layout {
   bool pi = false, lead = false, enzyme = false;
   Eigen::Index kp = -1, lead_at = -1, offsets = 2;
+  std::vector<double> levels;        // per-level Vmax: the enzyme levels
+  std::vector<Eigen::Index> v_at;    // per well: θ index of its V
   std::size_t shared() const { return static_cast<std::size_t>(offsets); }
 };
 
-Layout layout_of(const ProgressOptions& o) {
+Layout layout_of(const ProgressOptions& o, const std::vector<ProgressWell>& wells) {
   Layout l;
   l.pi = o.product_inhibition, l.lead = o.fit_lead, l.enzyme = o.use_enzyme;
+  if (o.vmax_per_level) {
+    for (const auto& w : wells)
+      if (std::find(l.levels.begin(), l.levels.end(), w.enzyme) == l.levels.end()) l.levels.push_back(w.enzyme);
+    std::sort(l.levels.begin(), l.levels.end());
+    l.offsets = 1 + static_cast<Eigen::Index>(std::max<std::size_t>(1, l.levels.size()));
+  }
+  for (const auto& w : wells) {
+    const auto at = std::find(l.levels.begin(), l.levels.end(), w.enzyme);
+    l.v_at.push_back(at == l.levels.end() ? 1 : 1 + (at - l.levels.begin()));
+  }
   if (l.pi) l.kp = l.offsets++;
   if (l.lead) l.lead_at = l.offsets++;
   return l;
@@ -47,7 +60,7 @@ Layout layout_of(const ProgressOptions& o) {
 // The residual function (model − data) over every read of every well.
 detail::ResidualFn residual_fn(const std::vector<ProgressWell>& wells, const Layout& l, double lead_fixed_s) {
   return [&wells, l, lead_fixed_s](const Eigen::VectorXd& th, Eigen::VectorXd& r, Eigen::MatrixXd* jac) {
-    const double km = std::exp(th(0)), v = std::exp(th(1)), kp = l.pi ? std::exp(th(l.kp)) : INFINITY;
+    const double km = std::exp(th(0)), kp = l.pi ? std::exp(th(l.kp)) : INFINITY;
     const double lead = l.lead ? th(l.lead_at) : lead_fixed_s;
     Eigen::Index n = 0;
     for (const auto& w : wells) n += static_cast<Eigen::Index>(w.p.size());
@@ -57,7 +70,7 @@ detail::ResidualFn residual_fn(const std::vector<ProgressWell>& wells, const Lay
     for (std::size_t w = 0; w < wells.size(); ++w) {
       const ProgressWell& pw = wells[w];
       const double a = l.pi ? km * (1 + pw.s0 / kp) : km, b = l.pi ? 1 - km / kp : 1.0;
-      const double vw = l.enzyme ? v * pw.enzyme : v;
+      const double v = std::exp(th(l.v_at[w])), vw = l.enzyme ? v * pw.enzyme : v;
       const double offset = th(l.offsets + static_cast<Eigen::Index>(w));
       for (std::size_t i = 0; i < pw.p.size(); ++i, ++k) {
         const detail::ProgressPoint p = detail::progress_point((pw.t_s[i] + lead) / 60, pw.s0, a, b, vw);
@@ -67,7 +80,7 @@ detail::ResidualFn residual_fn(const std::vector<ProgressWell>& wells, const Lay
         auto& j = *jac;
         const double da_dkm = l.pi ? 1 + pw.s0 / kp : 1.0, db_dkm = l.pi ? -1 / kp : 0.0;
         j(k, 0) = -(p.ds_da * da_dkm + p.ds_db * db_dkm) * km;
-        j(k, 1) = -p.ds_dv * vw;
+        j(k, l.v_at[w]) = -p.ds_dv * vw;
         if (l.pi) j(k, l.kp) = -(p.ds_da * (-km * pw.s0 / (kp * kp)) + p.ds_db * (km / (kp * kp))) * kp;
         if (l.lead) j(k, l.lead_at) = -p.ds_dtau / 60;
         j(k, l.offsets + static_cast<Eigen::Index>(w)) = 1;
@@ -103,8 +116,9 @@ std::vector<Eigen::VectorXd> starts(const std::vector<ProgressWell>& wells, cons
   } else {
     for (double f : {0.25, 1.0, 4.0}) {
       const double km = f * s0_mid;
-      std::vector<double> v;  // v0 = V·S0/(Km + S0) → V per well
-      for (const auto& w : wells) v.push_back(initial_slope(w) * (km + w.s0) / w.s0 / (l.enzyme ? w.enzyme : 1.0));
+      std::vector<double> v;  // v0 = V·S0/(Km + S0) → V per well (per unit enzyme with kcat or per level)
+      for (const auto& w : wells)
+        v.push_back(initial_slope(w) * (km + w.s0) / w.s0 / (l.enzyme || !l.levels.empty() ? w.enzyme : 1.0));
       std::sort(v.begin(), v.end());
       const double vm = v[v.size() / 2];
       if (vm > 0) km_v.push_back({km, vm});
@@ -113,13 +127,15 @@ std::vector<Eigen::VectorXd> starts(const std::vector<ProgressWell>& wells, cons
   std::vector<Eigen::VectorXd> out;
   for (auto [km, v] : km_v) {
     Eigen::VectorXd th = Eigen::VectorXd::Zero(l.offsets + static_cast<Eigen::Index>(wells.size()));
-    th(0) = std::log(km), th(1) = std::log(v);
+    th(0) = std::log(km);
+    for (Eigen::Index j = 1; j <= static_cast<Eigen::Index>(std::max<std::size_t>(1, l.levels.size())); ++j)
+      th(j) = std::log(l.levels.empty() || !o.start.empty() ? v : v * l.levels[static_cast<std::size_t>(j - 1)]);
     if (l.pi) th(l.kp) = std::log(o.start.size() > 2 ? o.start[2] : 10 * s0s.back());
     if (l.lead) th(l.lead_at) = o.lead_s;
     for (std::size_t w = 0; w < wells.size(); ++w) {
       const ProgressWell& pw = wells[w];
       const double lead = o.lead_s;
-      const double vw = l.enzyme ? v * pw.enzyme : v;
+      const double vw = std::exp(th(l.v_at[w])) * (l.enzyme ? pw.enzyme : 1.0);
       th(l.offsets + static_cast<Eigen::Index>(w)) =
           pw.p[0] - (pw.s0 - progress_substrate((pw.t_s[0] + lead) / 60, pw.s0, km, vw));
     }
@@ -141,7 +157,7 @@ std::string pre_check(const std::vector<ProgressWell>& wells, const Layout& l, s
     if (w.t_s.size() != w.p.size()) throw UsageError(fmt::format("fit_progress: well {}: t_s and p differ in length", w.well));
     if (!(w.s0 > 0) || !std::isfinite(w.s0))
       throw UsageError(fmt::format("fit_progress: well {} has s0 = {}; it must be finite and > 0", w.well, w.s0));
-    if (l.enzyme && (!(w.enzyme > 0) || !std::isfinite(w.enzyme)))
+    if ((l.enzyme || !l.levels.empty()) && (!(w.enzyme > 0) || !std::isfinite(w.enzyme)))
       throw UsageError(fmt::format("fit_progress: well {} has enzyme = {}; it must be finite and > 0", w.well, w.enzyme));
     for (std::size_t i = 0; i < w.p.size(); ++i)
       if (!std::isfinite(w.t_s[i]) || !std::isfinite(w.p[i]))
@@ -184,7 +200,10 @@ double profile_side(const detail::ResidualFn& f, const detail::LsqResult& best, 
 // Estimates, SE (delta method from ln p), Wald-t and profile-t intervals of the shared parameters.
 void shared_estimates(ProgressFit& out, const detail::ResidualFn& f, const detail::LsqResult& best,
                       const Eigen::MatrixXd& cov, const Layout& l, const ProgressOptions& o) {
-  std::vector<std::pair<std::string, Eigen::Index>> names = {{"Km", 0}, {l.enzyme ? "kcat" : "Vmax", 1}};
+  std::vector<std::pair<std::string, Eigen::Index>> names = {{"Km", 0}};
+  if (l.levels.empty()) names.push_back({l.enzyme ? "kcat" : "Vmax", 1});
+  for (std::size_t k = 0; k < l.levels.size(); ++k)
+    names.push_back({fmt::format("Vmax[E={:g}]", l.levels[k]), 1 + static_cast<Eigen::Index>(k)});
   if (l.pi) names.push_back({"Kp", l.kp});
   if (l.lead) names.push_back({"lead_s", l.lead_at});
   for (auto [name, j] : names) {
@@ -243,7 +262,9 @@ void fill_fit(ProgressFit& out, const std::vector<ProgressWell>& wells, const de
 
 ProgressFit fit_progress(const std::vector<ProgressWell>& wells, const ProgressOptions& o) {
   if (auto why = o.validate(); !why.empty()) throw UsageError("ProgressOptions: " + why);
-  const Layout l = layout_of(o);
+  if (o.vmax_per_level && o.use_enzyme)
+    throw UsageError("ProgressOptions: vmax_per_level and use_enzyme exclude each other (Vmax per level or kcat)");
+  const Layout l = layout_of(o, wells);
   if (!o.start.empty() && o.start.size() != (l.pi ? 3u : 2u))
     throw UsageError(fmt::format("ProgressOptions: start has {} values; give Km, {}{}", o.start.size(),
                                  l.enzyme ? "kcat" : "Vmax", l.pi ? ", Kp" : ""));

@@ -2,6 +2,7 @@
 // derivatives) and its Levenberg–Marquardt solver.
 #include "fit/progress_model.hpp"
 
+#include <fmt/format.h>
 #include <Eigen/Cholesky>
 #include <algorithm>
 #include <boost/math/special_functions/lambert_w.hpp>
@@ -125,6 +126,22 @@ double progress_substrate(double tau, double s0, double km, double vmax, double 
   const double a = std::isinf(kp) ? km : km * (1 + s0 / kp);
   const double b = std::isinf(kp) ? 1.0 : 1 - km / kp;
   return detail::progress_point(tau, s0, a, b, vmax).s;
+}
+
+std::vector<double> progress_curve(const ProgressFit& fit, std::size_t w, const ProgressWell& well, double lead_s,
+                                   const std::vector<double>& t_s) {
+  std::vector<double> out(t_s.size(), NAN);
+  if (!fit.ok || w >= fit.offsets.size()) return out;
+  const ParameterEstimate *km = fit.find("Km"), *vmax = fit.find("Vmax"), *kcat = fit.find("kcat");
+  const ParameterEstimate *kp = fit.find("Kp"), *lead = fit.find("lead_s");
+  if (!vmax && !kcat) vmax = fit.find(fmt::format("Vmax[E={:g}]", well.enzyme));
+  if (!km || (!vmax && !kcat)) return out;
+  const double v = vmax ? vmax->estimate : kcat->estimate * well.enzyme;
+  const double l = lead ? lead->estimate : lead_s;
+  for (std::size_t i = 0; i < t_s.size(); ++i)
+    out[i] = well.s0 - progress_substrate((t_s[i] + l) / 60, well.s0, km->estimate, v, kp ? kp->estimate : INFINITY) +
+             fit.offsets[w].estimate;
+  return out;
 }
 
 }  // namespace vzero

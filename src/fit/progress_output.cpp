@@ -41,7 +41,7 @@ ParameterEstimate in_unit(const ProgressTable& t, const ParameterEstimate& e, st
 // kcat in 1/s, or per min per unit of enzyme when the units do not reduce.
 std::string unit_of(const ProgressTable& t, const std::string& name, const std::string& enzyme_unit) {
   if (name == "Km" || name == "Kp" || name == "offset") return t.conc_unit;
-  if (name == "Vmax") return t.rate_unit;
+  if (name == "Vmax" || name.rfind("Vmax[", 0) == 0) return t.rate_unit;
   if (name == "kcat" && kcat_units(t, enzyme_unit).kcat_why.empty()) return kcat_units(t, enzyme_unit).kcat_unit;
   if (name == "kcat") return t.rate_unit + " per " + (enzyme_unit.empty() ? "enzyme unit" : enzyme_unit);
   if (name == "lead_s") return "s";
@@ -90,6 +90,10 @@ void progress_rows(detail::CsvOut& o, const ProgressTable& t, const ProgressGrou
 }
 
 }  // namespace
+
+std::string progress_unit(const ProgressTable& t, const std::string& name, const std::string& enzyme_column) {
+  return unit_of(t, name, enzyme_column.empty() ? "" : split_header_unit(enzyme_column).second);
+}
 
 std::string progress_csv(const ProgressTable& t, const std::string& enzyme_column) {
   detail::CsvOut o;
@@ -183,6 +187,9 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
       out += fmt::format("  with product inhibition: Kp = {:.5g} {} [{:.5g}, {:.5g}]\n", g.pi.find("Kp")->estimate,
                          t.conc_unit, g.pi.find("Kp")->ci_low, g.pi.find("Kp")->ci_high);
     if (!g.choice.verdict.empty()) out += "  model: " + g.choice.verdict + "\n";
+    for (const auto& s : g.stability)
+      out += fmt::format("  enzyme stability at S0 = {:g} {}{}: {}\n", s.s0, t.conc_unit,
+                         s.unstable ? " [flag: enzyme-unstable]" : "", s.verdict);
   }
   return out;
 }

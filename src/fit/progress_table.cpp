@@ -16,6 +16,8 @@ std::string ProgressTableOptions::validate() const {
   if (!(x_factor > 0) || !std::isfinite(x_factor))
     return fmt::format("x_factor is {}; give the traces' concentration unit per unit of {} (> 0)", x_factor,
                        x_column);
+  if ((fit.use_enzyme || fit.vmax_per_level) && enzyme_column.empty())
+    return "enzyme_column is empty; name the enzyme column for kcat or Vmax per level";
   return fit.validate();
 }
 
@@ -60,7 +62,8 @@ std::vector<Candidate> candidates(const Table& rates, const ProgressTableOptions
   const int c_x = rates.require_column(o.x_column, "pass --x with the initial-substrate column");
   const int c_flags = rates.require_column("flags", "pass the rates.csv that vzero rates wrote");
   const int c_notes = rates.column("notes"), c_role = rates.column("role"), c_v0 = rates.column("v0");
-  const int c_e = o.fit.use_enzyme ? rates.require_column(o.enzyme_column, "pass --enzyme with an existing column") : -1;
+  const int c_e = o.enzyme_column.empty() ? -1
+                  : rates.require_column(o.enzyme_column, "pass --enzyme or --enzyme-levels with an existing column");
   std::vector<int> c_groups;
   for (const auto& g : o.group_columns) c_groups.push_back(rates.require_column(g, "pass --group with existing columns"));
   std::vector<Candidate> out;
@@ -113,8 +116,11 @@ void read_traces(const Table& rates, const Table& traces, std::vector<Candidate>
     const auto it = index.find(cell(traces, r, cs) + '\n' + cell(traces, r, cc) + '\n' + cell(traces, r, cw));
     if (it == index.end() || cell(traces, r, cst) != "ok") continue;
     Candidate& c = cands[it->second];
-    if (c.trusted_only && cell(traces, r, cu) != "1") continue;
     const auto p = traces.number(r, cp);
+    if (c.trusted_only && cell(traces, r, cu) != "1") {  // not fitted; drawn apart in the report
+      if (p) c.well.t_left_s.push_back(traces.number(r, ct).value_or(NAN)), c.well.p_left.push_back(*p);
+      continue;
+    }
     if (!p)
       throw InputError(
           Where{traces.source, traces.line_of_row[r], traces.column_of_cell[r][static_cast<std::size_t>(cp)]},
@@ -134,7 +140,13 @@ void read_traces(const Table& rates, const Table& traces, std::vector<Candidate>
 
 // Michaelis–Menten on the same group's initial rates (wells with empty flags, as vzero fit
 // takes them), substrate in the traces' unit; v0/[E] when kcat is fitted.
-FitResult rates_fit(const std::vector<Candidate>& group, bool per_enzyme) {
+FitResult rates_fit(const std::vector<Candidate>& group, bool per_enzyme, bool per_level) {
+  if (per_level) {
+    FitResult none;
+    none.message = "one Vmax per enzyme level is not fitted from initial rates: pass --enzyme for kcat, or --group "
+                   "by the enzyme column";
+    return none;
+  }
   std::vector<double> s, v;
   for (const auto& c : group) {
     if (!c.rate_clean || !std::isfinite(c.v0)) continue;
@@ -212,12 +224,21 @@ ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const
     if (o.both_models) {
       ProgressOptions pi = o.fit;
       pi.product_inhibition = true;
-      if (g.mm.ok && pi.start.empty()) pi.start = {g.mm.parameters[0].estimate, g.mm.parameters[1].estimate};
+      if (g.mm.ok && pi.start.empty() && !pi.vmax_per_level) pi.start = {g.mm.parameters[0].estimate, g.mm.parameters[1].estimate};
       if (pi.start.size() == 2) pi.start.push_back(10 * g.mm.parameters[0].estimate);
       g.pi = fit_progress(g.wells, pi);
       g.choice = compare_progress_models(g.mm, g.pi);
     }
-    g.rates_fit = rates_fit(groups[key], o.fit.use_enzyme);
+    g.rates_fit = rates_fit(groups[key], o.fit.use_enzyme, o.fit.vmax_per_level);
+    if (!o.enzyme_column.empty()) {
+      const ParameterEstimate* lead = g.mm.ok ? g.mm.find("lead_s") : nullptr;
+      g.lead_s = lead ? lead->estimate : o.fit.lead_s;
+      g.stability = stability_tests(g.wells, g.lead_s, out.conc_unit);
+      if (o.fit.fit_lead && !lead)
+        for (auto& s : g.stability)
+          s.verdict += fmt::format("; [E]·t counted from {} s before the first read, as the progress fit gave no lead",
+                                   g.lead_s);
+    }
     out.groups.push_back(std::move(g));
   }
   return out;

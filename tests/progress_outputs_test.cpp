@@ -1,0 +1,103 @@
+// vzero progress's JSON document and HTML report, on the benchmark's simulated plate (known
+// truth: tests/sim; the enzyme keeps its activity, Vmax ∝ the column pair's enzyme level).
+#include <fmt/format.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <sstream>
+#include <string>
+
+#include "bench/bench_files.hpp"
+#include "sim/plate_sim.hpp"
+#include "test_support.hpp"
+
+namespace {
+
+std::string slurp(const std::filesystem::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+std::size_t count(const std::string& text, const std::string& what) {
+  std::size_t n = 0;
+  for (std::size_t at = text.find(what); at != std::string::npos; at = text.find(what, at + 1)) ++n;
+  return n;
+}
+
+const nlohmann::json* parameter(const nlohmann::json& fit, const std::string& name) {
+  for (const auto& p : fit["parameters"])
+    if (p["name"] == name) return &p;
+  return nullptr;
+}
+
+}  // namespace
+
+TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate") {
+  using vzero::test::run_vzero;
+  vzero::test::TempDir dir;
+  const vzero::sim::PlateSpec spec = vzero::bench::spec_for(96, 30);
+  const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
+  vzero::bench::write_wide(dir / "plate.csv", plate);
+  vzero::bench::write_map(dir / "map.csv", plate, spec);
+  const auto rates = run_vzero(
+      "rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 --signal-ceiling 2.5 "
+      "-o rates.csv --traces traces.csv -q",
+      dir.path.string());
+  REQUIRE_MESSAGE(rates.status == 0, rates.describe());
+  const std::string cmd =
+      "progress rates.csv --traces traces.csv --x substrate --enzyme-levels enzyme --no-profile -q --json {} "
+      "--report {}";
+  const auto r = run_vzero(fmt::format(fmt::runtime(cmd), "p.json", "p.html"), dir.path.string());
+  REQUIRE_MESSAGE(r.status == 0, r.describe());
+  const nlohmann::json j = nlohmann::json::parse(slurp(dir / "p.json"));
+  CHECK(j["tool"] == "vzero progress");
+  CHECK(j["enzyme_use"] == "vmax-per-level");
+  REQUIRE(j["fits"].size() == 1);
+  const auto& g = j["fits"][0];
+  const auto& mm = g["progress"][0];
+  REQUIRE(mm["ok"] == true);
+  // Truth (tests/sim): Km = 100 µM (spec_for), Vmax = level × the top level's Vmax.
+  CHECK(std::fabs(mm["parameters"][0]["estimate"].get<double>() - 100) < 2);
+  const double vmax_top = plate.truth.front().vmax_uM_s * 60;
+  int levels = 0;
+  for (double level : spec.enzyme_levels) {
+    const auto* p = parameter(mm, fmt::format("Vmax[E={:g}]", level));
+    if (!p) continue;  // a level whose every well was left out
+    ++levels;
+    CAPTURE(level);
+    CHECK(std::fabs((*p)["estimate"].get<double>() / (level * vmax_top) - 1) < 0.03);
+    CHECK((*p)["unit"] == "uM/min");
+  }
+  CHECK(levels >= 4);
+  CHECK(g["initial_rates"]["ok"] == false);  // one Vmax per level is not an initial-rate model
+  CHECK(mm["offsets"].size() == g["wells"].size());
+  // Selwyn's test: one per S0 of the series, none flagged (the simulated enzyme is stable).
+  CHECK(g["stability"].size() == spec.s0_over_km.size());
+  for (const auto& s : g["stability"]) {
+    CHECK(s["unstable"] == false);
+    CHECK(s["tested"] == true);  // the level far above the lowest left out, the rest tested
+  }
+  // The report: one panel per fitted well, each with the fitted curve; offline; deterministic.
+  const std::string html = slurp(dir / "p.html");
+  CHECK(count(html, "<figure class=\"chart-small\">") == g["wells"].size());
+  CHECK(count(html, "class=\"fit-curve-well\"") == g["wells"].size());
+  CHECK(html.find("Selwyn") != std::string::npos);
+  CHECK(html.find("http") == std::string::npos);
+  CHECK(html.find("<script") == std::string::npos);
+  const auto again = run_vzero(fmt::format(fmt::runtime(cmd), "q.json", "q.html"), dir.path.string());
+  REQUIRE(again.status == 0);
+  CHECK(slurp(dir / "q.html") == html);
+  CHECK(slurp(dir / "q.json") == slurp(dir / "p.json"));
+}
+
+TEST_CASE("vzero progress: --enzyme and --enzyme-levels exclude each other") {
+  using vzero::test::run_vzero;
+  vzero::test::TempDir dir;
+  const auto r = run_vzero("progress r.csv --traces t.csv --x s --enzyme e --enzyme-levels e", dir.path.string());
+  CHECK(r.status == 2);
+  CHECK(r.err.find("exclude each other") != std::string::npos);
+}
