@@ -150,6 +150,33 @@ PlateControls controls_of(const std::vector<RateRow>& rows) {
   return pc;
 }
 
+// On a plate with both screening controls a sample's low rate is a result, not a failure: a
+// full inhibitor's rate is as imprecise relative to itself, as close to the noise and as
+// often just below zero as the no-activity control's. Such a sample keeps its rate (note
+// `judged-by-controls`) when those are its only flags, its 95 % interval spans at most
+// ±k_control_precision of the control window and its activity is not below −k_control_precision.
+constexpr double k_control_precision = 0.10;  // of |mean full-activity − mean no-activity|
+
+bool judge_by_controls(std::vector<RateRow>& rows, const PlateControls& pc) {
+  const double window = pc.full.mean - pc.none.mean;
+  if (pc.full.n < 2 || pc.none.n < 2 || !(std::fabs(window) > 0)) return false;
+  bool changed = false;
+  for (auto& row : rows) {
+    if (row.role != Role::sample || row.flags.empty()) continue;
+    const bool only_low = std::all_of(row.flags.begin(), row.flags.end(), [](const std::string& f) {
+      return f == "imprecise" || f == "noise" || f == "negative";
+    });
+    const double half = (row.v0_ci_high - row.v0_ci_low) / 2;
+    const double activity = (row.v0 - pc.none.mean) / window;
+    if (!only_low || !(half <= k_control_precision * std::fabs(window)) || !(activity >= -k_control_precision))
+      continue;
+    row.flags.clear();
+    add_flag(row.notes, "judged-by-controls");
+    changed = true;
+  }
+  return changed;
+}
+
 struct ChannelContext {
   const Run& run;
   const PlateMap& map;
@@ -289,6 +316,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
   });
   flag_outside_standards(ca);
   ca.controls = controls_of(ca.rows);
+  if (judge_by_controls(ca.rows, ca.controls)) ca.controls = controls_of(ca.rows);  // the samples' robust z
   return ca;
 }
 

@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 24> k_marks{{
+constexpr std::array<MarkInfo, 25> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -72,6 +72,9 @@ constexpr std::array<MarkInfo, 24> k_marks{{
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
     {"no-limit", note, "sample",
      "no substrate concentration (or no concentration scale) for the sample: no conversion limit applied"},
+    {"judged-by-controls", note, "sample",
+     "on a plate with both screening controls, a rate flagged only imprecise, noise or negative whose 95 % interval "
+     "spans at most ±10 % of the control window, at an activity not below −10 %: a full inhibitor's result, kept"},
     {"outliers", note, "sample, standard, blank", "reads in the window were rejected as outliers (`n_outliers`)"},
     {"overflow", note, "sample, standard, blank", "the trace has overflow reads; the window leaves them out"},
     {"ceiling", note, "sample, standard, blank", "reads reached `--signal-ceiling`; the window ends before them"},

@@ -372,9 +372,11 @@ TableFit fit_table(const Table& table, const FitTableOptions& options) {
   const Columns c = resolve_columns(table, options, out);
   Groups gs = collect_rows(table, c, options, out);
   add_row_notes(options, c, gs.zero_substrate, out);
-  const int v_unit_col =
-      std::max({table.column(c.y_name + "_unit"), table.column(stem_of(c.y_name) + "_unit"), table.column("v0_unit")});
-  out.v_unit = unique_text(table, v_unit_col, gs.used_rows);
+  // y's unit: its own unit column, else its header suffix or the schema's unit (activity_pct:
+  // %); v0_unit only for v0 itself — never lent to another column.
+  out.v_unit = unique_text(table, std::max(table.column(c.y_name + "_unit"), table.column(stem_of(c.y_name) + "_unit")),
+                           gs.used_rows);
+  if (out.v_unit.empty()) out.v_unit = column_unit(table, c.y_name, gs.used_rows, options.column_units);
   out.x_unit = column_unit(table, out.x_column, gs.used_rows, options.column_units);
   out.inhibitor_unit = column_unit(table, out.inhibitor_column, gs.used_rows, options.column_units);
   out.enzyme_unit = column_unit(table, out.enzyme_column, gs.used_rows, options.column_units);
