@@ -29,26 +29,13 @@ const ParameterEstimate* FitResult::find(std::string_view name) const {
   return nullptr;
 }
 
-namespace {
-
-std::string join(const std::vector<std::string>& v) {
-  std::string out;
-  for (const auto& e : v) {
-    if (!out.empty()) out += ", ";
-    out += e;
-  }
-  return out;
-}
-
-// {:g} with 6 significant digits, for messages.
-std::string num(double x) { return fmt::format("{:.6g}", x); }
-
-detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s, const std::vector<double>* inh,
-                              const std::vector<double>& v, const std::vector<double>& w) {
+namespace detail {
+FitPoints make_points(std::string_view fn, const std::vector<double>& s, const std::vector<double>* inh,
+                      const std::vector<double>& v, const std::vector<double>& w) {
   if (s.size() != v.size() || (inh && inh->size() != v.size()) || (!w.empty() && w.size() != v.size()))
     throw UsageError(fmt::format("{}: s, inhibitor, v and weights must have the same length (s {}, v {}, weights {})",
                                  fn, s.size(), v.size(), w.size()));
-  detail::FitPoints pts;
+  FitPoints pts;
   pts.s = s;
   pts.v = v;
   pts.i = inh ? *inh : std::vector<double>(v.size(), 0.0);
@@ -65,6 +52,21 @@ detail::FitPoints make_points(std::string_view fn, const std::vector<double>& s,
   }
   return pts;
 }
+}  // namespace detail
+
+namespace {
+
+std::string join(const std::vector<std::string>& v) {
+  std::string out;
+  for (const auto& e : v) {
+    if (!out.empty()) out += ", ";
+    out += e;
+  }
+  return out;
+}
+
+// {:g} with 6 significant digits, for messages.
+std::string num(double x) { return fmt::format("{:.6g}", x); }
 
 // Why these points cannot give the model's parameters, or "" when they can.
 std::string pre_check(const KineticModel& m, const detail::FitPoints& pts, std::size_t p) {
@@ -341,64 +343,13 @@ FitResult fit_model(const std::vector<double>& s, const std::vector<double>& v, 
   if (model.needs_inhibitor())
     throw UsageError(
         fmt::format("fit_model: the {} model needs inhibitor concentrations; call fit_inhibition", model.name));
-  return fit_points(model, make_points("fit_model", s, nullptr, v, weights), options);
+  return fit_points(model, detail::make_points("fit_model", s, nullptr, v, weights), options);
 }
 
 FitResult fit_inhibition(const std::vector<double>& s, const std::vector<double>& inhibitor,
                          const std::vector<double>& v, const std::vector<double>& weights, const KineticModel& model,
                          const FitOptions& options) {
-  return fit_points(model, make_points("fit_inhibition", s, &inhibitor, v, weights), options);
-}
-
-std::vector<DiagnosticRow> diagnostics(const std::vector<double>& s, const std::vector<double>& inhibitor,
-                                       const std::vector<double>& v, const std::vector<double>& weights,
-                                       const FitResult& fit, int curve_points) {
-  if (!fit.ok || !fit.model) throw UsageError("diagnostics: the fit has no estimate (" + fit.message + ")");
-  const KineticModel& model = *fit.model;
-  const detail::FitPoints pts = make_points("diagnostics", s, inhibitor.empty() ? nullptr : &inhibitor, v, weights);
-  std::vector<double> p;
-  for (const auto& e : fit.parameters) p.push_back(e.estimate);
-  const bool has_i = model.needs_inhibitor() && !inhibitor.empty();
-  auto finite_or_nan = [](double x) { return std::isfinite(x) ? x : NAN; };
-  auto fill = [&](DiagnosticRow& d) {
-    d.inv_s = finite_or_nan(1 / d.s);
-    d.inv_v = finite_or_nan(1 / d.v);
-    d.s_over_v = finite_or_nan(d.s / d.v);
-    d.v_over_s = finite_or_nan(d.v / d.s);
-  };
-  std::vector<DiagnosticRow> out;
-  for (std::size_t k = 0; k < pts.size(); ++k) {
-    DiagnosticRow d;
-    d.s = pts.s[k];
-    d.inhibitor = has_i ? pts.i[k] : NAN;
-    d.v = pts.v[k];
-    d.fitted = model.rate(p, pts.s[k], pts.i[k], {});
-    d.residual = d.v - d.fitted;
-    d.weight = pts.w[k];
-    fill(d);
-    out.push_back(d);
-  }
-  double s_lo = INFINITY, s_hi = 0;
-  for (double e : pts.s)
-    if (e > 0) s_lo = std::min(s_lo, e), s_hi = std::max(s_hi, e);
-  std::set<double> levels;
-  if (has_i)
-    levels.insert(pts.i.begin(), pts.i.end());
-  else
-    levels.insert(NAN);
-  const int count = std::max(curve_points, 2);
-  for (double level : levels) {
-    for (int k = 0; k < count; ++k) {
-      DiagnosticRow d;
-      d.curve = true;
-      d.s = s_lo * std::pow(s_hi / s_lo, static_cast<double>(k) / (count - 1));
-      d.inhibitor = level;
-      d.fitted = d.v = model.rate(p, d.s, has_i ? level : 0.0, {});
-      fill(d);
-      out.push_back(d);
-    }
-  }
-  return out;
+  return fit_points(model, detail::make_points("fit_inhibition", s, &inhibitor, v, weights), options);
 }
 
 }  // namespace vzero

@@ -3,6 +3,7 @@
 #pragma once
 
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "vzero/fit.hpp"
@@ -23,6 +24,10 @@ std::vector<double> held_values(const KineticModel& m, const FitOptions& options
 using Bounds = ParameterBox;
 // The data ranges of these points, and the model's search box over them.
 DataScale data_scale(const FitPoints& pts);
+// The points of a fit, checked (equal lengths, finite concentrations >= 0, finite rates,
+// weights > 0); `fn` names the caller in the UsageError.
+FitPoints make_points(std::string_view fn, const std::vector<double>& s, const std::vector<double>* inh,
+                      const std::vector<double>& v, const std::vector<double>& w);
 Bounds parameter_bounds(const KineticModel& m, const FitPoints& pts);
 
 struct Start {

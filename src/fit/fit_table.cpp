@@ -167,10 +167,6 @@ void fit_dose_response(GroupFit& gf, const TableFit& t, FitOptions fit, double e
         "{} read as being in the unit of {} (the table gives no unit for one of them)", t.enzyme_column, t.x_column));
 }
 
-}  // namespace
-
-namespace {
-
 // The table's columns the options name, resolved once.
 struct Columns {
   int x = -1, y = -1, inhibitor = -1, enzyme = -1, role = -1, flags = -1, sd = -1;
