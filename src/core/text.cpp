@@ -103,6 +103,68 @@ void split_fields_into(std::string_view line, char delimiter, std::vector<Field>
   }
 }
 
+namespace {
+// The fields of a line without quotes (the common case): the text between delimiters.
+void split_plain_views(std::string_view line, char delimiter, std::vector<FieldView>& out) {
+  const std::size_t n = line.size();
+  std::size_t i = 0;
+  while (true) {
+    std::size_t end = i;  // fields are short: a plain loop beats memchr's call
+    while (end < n && line[end] != delimiter) ++end;
+    out.push_back(FieldView{line.substr(i, end - i), static_cast<int>(i) + 1});
+    if (end >= n) break;
+    i = end + 1;
+    if (i == n) {  // a trailing delimiter makes one more, empty field
+      out.push_back(FieldView{std::string_view{}, static_cast<int>(i) + 1});
+      break;
+    }
+  }
+}
+
+// The quoted field whose opening quote is line[j - 1]: its text, a view into the line or,
+// when doubled quotes or text after the closing quote need a copy, into `scratch`. Returns
+// the index of the delimiter (or the line's end) after it; `closed` says whether the quote was.
+std::size_t quoted_view(std::string_view line, char delimiter, std::size_t j, std::string& scratch,
+                        std::string_view& text, bool& closed) {
+  const std::size_t n = line.size();
+  const std::size_t content = j;
+  bool copied = false;
+  closed = false;
+  std::size_t start = scratch.size();
+  auto to_scratch = [&](std::size_t upto) {  // switch to a copy holding line[content, upto)
+    if (!copied) {
+      scratch.append(line.data() + content, upto - content);
+      copied = true;
+    }
+  };
+  while (j < n) {
+    if (line[j] == '"') {
+      if (j + 1 < n && line[j + 1] == '"') {
+        to_scratch(j);
+        scratch.push_back('"');
+        j += 2;
+        continue;
+      }
+      closed = true;
+      break;
+    }
+    if (copied) scratch.push_back(line[j]);
+    ++j;
+  }
+  const std::size_t content_end = j;
+  if (closed) ++j;
+  // Anything between the closing quote and the delimiter is kept (lenient).
+  const std::size_t tail = j;
+  while (j < n && line[j] != delimiter) ++j;
+  if (j > tail) {
+    to_scratch(content_end);
+    scratch.append(line.data() + tail, j - tail);
+  }
+  text = copied ? std::string_view(scratch).substr(start) : line.substr(content, content_end - content);
+  return j;
+}
+}  // namespace
+
 void split_views_into(std::string_view line, char delimiter, std::vector<FieldView>& out, std::string& scratch,
                       bool* unclosed_quote) {
   out.clear();
@@ -112,22 +174,7 @@ void split_views_into(std::string_view line, char delimiter, std::vector<FieldVi
     out.push_back(FieldView{std::string_view{}, 1});
     return;
   }
-  if (line.find('"') == std::string_view::npos) {
-    // No quotes (the common case): fields are the text between delimiters.
-    std::size_t i = 0;
-    while (true) {
-      std::size_t end = i;  // fields are short: a plain loop beats memchr's call
-      while (end < n && line[end] != delimiter) ++end;
-      out.push_back(FieldView{line.substr(i, end - i), static_cast<int>(i) + 1});
-      if (end >= n) break;
-      i = end + 1;
-      if (i == n) {  // a trailing delimiter makes one more, empty field
-        out.push_back(FieldView{std::string_view{}, static_cast<int>(i) + 1});
-        break;
-      }
-    }
-    return;
-  }
+  if (line.find('"') == std::string_view::npos) return split_plain_views(line, delimiter, out);
   // Unescaped quoted texts never outgrow the line, so views into `scratch` stay valid.
   scratch.clear();
   scratch.reserve(n);
@@ -138,42 +185,9 @@ void split_views_into(std::string_view line, char delimiter, std::vector<FieldVi
     std::size_t j = i;
     while (j < n && line[j] == ' ') ++j;
     if (j < n && line[j] == '"') {
-      ++j;
-      const std::size_t content = j;
-      bool closed = false, copied = false;
-      std::size_t start = scratch.size();
-      auto to_scratch = [&](std::size_t upto) {  // switch to a copy holding line[content, upto)
-        if (!copied) {
-          scratch.append(line.data() + content, upto - content);
-          copied = true;
-        }
-      };
-      while (j < n) {
-        if (line[j] == '"') {
-          if (j + 1 < n && line[j + 1] == '"') {
-            to_scratch(j);
-            scratch.push_back('"');
-            j += 2;
-            continue;
-          }
-          closed = true;
-          break;
-        }
-        if (copied) scratch.push_back(line[j]);
-        ++j;
-      }
-      const std::size_t content_end = j;
-      if (closed) ++j;
+      bool closed = false;
+      i = quoted_view(line, delimiter, j + 1, scratch, f.text, closed);
       if (!closed && unclosed_quote) *unclosed_quote = true;
-      // Anything between the closing quote and the delimiter is kept (lenient).
-      const std::size_t tail = j;
-      while (j < n && line[j] != delimiter) ++j;
-      if (j > tail) {
-        to_scratch(content_end);
-        scratch.append(line.data() + tail, j - tail);
-      }
-      f.text = copied ? std::string_view(scratch).substr(start) : line.substr(content, content_end - content);
-      i = j;
     } else {
       std::size_t end = line.find(delimiter, i);
       if (end == std::string_view::npos) end = n;
