@@ -296,6 +296,49 @@ std::string missing_substrate_text(std::size_t wells, const std::string& first_w
       wells, wells == 1 ? "" : "s", first_well, wells == 1 ? "s" : "ve", map_source);
 }
 
+namespace {
+// Each export's provenance (hash, profile, what was read and inferred; a profile file once
+// however many exports it read) and notes; the analyses move into `out.analyses`.
+void record_files(RatesOutputs& out) {
+  Provenance& prov = out.provenance;
+  std::set<std::string> profiles_listed;
+  for (auto& f : out.files) {
+    if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
+    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet, f.run->metadata,
+                           f.run->read_facts, f.run->read_notes});
+    for (const auto& fact : f.run->read_facts)
+      if (fact.name == "time_unit" && fact.basis.rfind("no unit", 0) == 0)
+        out.notes.push_back(fmt::format("{}: read times taken as seconds: {}", f.path, fact.basis));
+    for (const auto& n : f.run->read_notes) out.notes.push_back(fmt::format("{}: {}", f.path, n));
+    if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
+      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}, {}});
+    out.analyses.push_back(std::move(f.analysis));
+  }
+}
+
+// The tables of the run as datapackage.json lists them (the summary and plate-quality text
+// are made here too, when asked for).
+std::vector<PackagedTable> package_tables(const RunSettings& s, const fs::path& dir, bool with_activity,
+                                          bool with_specific, const ScreenColumns& screen, RatesOutputs& out) {
+  std::vector<PackagedTable> tables;
+  tables.push_back({"rates", relative_to(s.output, dir),
+                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific, screen), out.map)});
+  if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
+  out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
+  if (!s.summary.empty()) {
+    out.summary_csv = summary_csv(out.summary);
+    tables.push_back(
+        {"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
+  }
+  if (!s.plate_quality.empty()) {
+    out.plate_quality_csv = plate_quality_csv(out.analyses, s.screen.min_z_prime, s.screen.trend_level);
+    tables.push_back({"plate-quality", relative_to(s.plate_quality, dir), plate_quality_fields()});
+  }
+  return tables;
+}
+
+}  // namespace
+
 RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
                        const std::function<void(const BatchProgress&)>& progress) {
   std::string list_sha256;
@@ -315,7 +358,6 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   read_map(resolved, out);
   const ScreenColumns screen = screen_columns(out.map, s, out.provenance);
   if (!s.files_from.empty()) out.provenance.inputs.push_back({"file-list", s.files_from, list_sha256, "", ""});
-  Provenance& prov = out.provenance;
 
   const bool with_activity = !std::isnan(s.analysis.well_volume_ul);
   const bool with_specific = !s.analysis.enzyme_mg_column.empty();
@@ -340,42 +382,16 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   out.files = analyse_files(s.files, out.map, batch, progress, std::ref(ready));
   if (ready.error) std::rethrow_exception(ready.error);
 
-  std::set<std::string> profiles_listed;
-  for (auto& f : out.files) {
-    if (f.choice.detected) prov.detected.emplace_back("profile:" + f.path, f.choice.profile.name);
-    prov.inputs.push_back({"export", f.path, f.run->sha256, f.run->profile, f.run->shape, f.run->sheet, f.run->metadata,
-                           f.run->read_facts, f.run->read_notes});
-    for (const auto& fact : f.run->read_facts)
-      if (fact.name == "time_unit" && fact.basis.rfind("no unit", 0) == 0)
-        out.notes.push_back(fmt::format("{}: read times taken as seconds: {}", f.path, fact.basis));
-    for (const auto& n : f.run->read_notes) out.notes.push_back(fmt::format("{}: {}", f.path, n));
-    // A profile file is an input once, however many exports it read.
-    if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
-      prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}, {}});
-    out.analyses.push_back(std::move(f.analysis));
-  }
+  record_files(out);
 
   add_run_notes(s, unconverted, out);
   // On the console only, after add_run_notes recorded the run's warnings: they are per plate,
   // so the parts of a merged run would differ (`vzero merge`); the plate-quality table
   // records each verdict.
   if (screen.normalised) add_quality_warnings(s, out);
-  std::vector<PackagedTable> tables;
-  tables.push_back({"rates", relative_to(s.output, dir),
-                    with_substrate_unit(rate_fields(out.map.columns, with_activity, with_specific, screen), out.map)});
-  if (!s.traces.empty()) tables.push_back({"traces", relative_to(s.traces, dir), trace_fields()});
-  out.summary = summarise(out.analyses, out.map.columns, s.leave_out, s.summary_per_file);
-  if (!s.summary.empty()) {
-    out.summary_csv = summary_csv(out.summary);
-    tables.push_back(
-        {"summary", relative_to(s.summary, dir), with_substrate_unit(summary_fields(out.summary), out.map)});
-  }
-  if (!s.plate_quality.empty()) {
-    out.plate_quality_csv = plate_quality_csv(out.analyses, s.screen.min_z_prime, s.screen.trend_level);
-    tables.push_back({"plate-quality", relative_to(s.plate_quality, dir), plate_quality_fields()});
-  }
+  const std::vector<PackagedTable> tables = package_tables(s, dir, with_activity, with_specific, screen, out);
   out.datapackage_path = (dir / "datapackage.json").string();
-  out.datapackage_json = datapackage_json(tables, prov, out.analyses);
+  out.datapackage_json = datapackage_json(tables, out.provenance, out.analyses);
   if (!s.enzymeml.empty()) out.enzymeml_json = enzymeml_json(out.analyses, out.map, enzymeml_options(s));
   if (report) out.report_html = report->render(out.summary, out.datapackage_json);
   return out;
