@@ -1,6 +1,7 @@
 #include "rates/lag_model.hpp"
 
 #include <algorithm>
+#include <cstring>
 #include <vector>
 
 namespace vzero::detail {
@@ -10,17 +11,17 @@ namespace {
 struct Regress {
   double slope = NAN, rss = NAN;
 };
-Regress regress(const std::vector<double>& x, const double* y, int n) {
+Regress regress(const double* x, const double* y, int n) {
   double mx = 0, my = 0;
   for (int i = 0; i < n; ++i) {
-    mx += x[static_cast<std::size_t>(i)];
+    mx += x[i];
     my += y[i];
   }
   mx /= n;
   my /= n;
   double sxx = 0, sxy = 0, syy = 0;
   for (int i = 0; i < n; ++i) {
-    const double dx = x[static_cast<std::size_t>(i)] - mx, dy = y[i] - my;
+    const double dx = x[i] - mx, dy = y[i] - my;
     sxx += dx * dx;
     sxy += dx * dy;
     syy += dy * dy;
@@ -37,10 +38,10 @@ Regress regress(const std::vector<double>& x, const double* y, int n) {
 struct Regress2 {
   double b1 = NAN, b2 = NAN, rss = NAN;
 };
-Regress2 regress2(const std::vector<double>& x, const double* y, int n, double scale) {
+Regress2 regress2(const double* x, const double* y, int n, double scale) {
   double m1 = 0, m2 = 0, my = 0;
   for (int i = 0; i < n; ++i) {
-    const double u = x[static_cast<std::size_t>(i)] / scale;
+    const double u = x[i] / scale;
     m1 += u;
     m2 += u * u;
     my += y[i];
@@ -50,7 +51,7 @@ Regress2 regress2(const std::vector<double>& x, const double* y, int n, double s
   my /= n;
   double s11 = 0, s12 = 0, s22 = 0, s1y = 0, s2y = 0, syy = 0;
   for (int i = 0; i < n; ++i) {
-    const double u = x[static_cast<std::size_t>(i)] / scale;
+    const double u = x[i] / scale;
     const double d1 = u - m1, d2 = u * u - m2, dy = y[i] - my;
     s11 += d1 * d1;
     s12 += d1 * d2;
@@ -70,18 +71,83 @@ Regress2 regress2(const std::vector<double>& x, const double* y, int n, double s
 
 // Half the median read interval: the shortest τ the reads can tell from a step.
 double tau_floor(const double* t, int n) {
-  std::vector<double> steps;
+  thread_local std::vector<double> steps;
+  steps.clear();
   for (int i = 1; i < n; ++i) steps.push_back(t[i] - t[i - 1]);
   std::nth_element(steps.begin(), steps.begin() + static_cast<std::ptrdiff_t>(steps.size() / 2), steps.end());
   return 0.5 * steps[steps.size() / 2];
 }
 
-// g_τ(t − t₀) for every read.
-void stretched_clock(const double* t, int n, double tau, std::vector<double>& x) {
+// The clocks both shape fits regress on, for one stretch of read times: u = t − t₀ and, for
+// each τ of the grid, g_τ(u) = u + τ·expm1(−u/τ). Each value depends on its read's time, the
+// first read's and the grid (τ_min from the times, τ_max given) only, and the wells of a
+// plate mostly share them (the same reads from the same start; stretches of different
+// lengths, some with a spike's read left out). So each thread keeps, for its last few
+// (t₀, grid), the values of every read time it has met, in increasing time, and copies a
+// read's values when its time matches one kept bit for bit (computing only the others): the
+// same numbers as computing them afresh, without most of the k_lag_grid · n expm1 calls.
+struct ClockTable {
+  double t0 = NAN, tau_min = NAN, tau_max = NAN;
+  std::vector<double> tau;                                                        // the grid
+  std::vector<double> t;                                                          // read times met, increasing
+  std::vector<std::vector<double>> g = std::vector<std::vector<double>>(k_lag_grid);  // g_τ(t − t₀), a row a τ
+};
+
+// The clocks of one stretch t[0..n): u, and g for each τ of the grid (a row a τ).
+struct Clocks {
+  const std::vector<double>* tau = nullptr;
+  std::vector<double> u;
+  std::vector<std::vector<double>> g = std::vector<std::vector<double>>(k_lag_grid);
+};
+
+bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof(double)) == 0; }
+
+ClockTable& table_for(double t0, double tau_min, double tau_max) {
+  constexpr int k_tables = 4;
+  thread_local std::vector<ClockTable> tables(k_tables);
+  thread_local int next = 0;
+  for (ClockTable& tb : tables)
+    if (same_bits(tb.t0, t0) && same_bits(tb.tau_min, tau_min) && same_bits(tb.tau_max, tau_max)) return tb;
+  ClockTable& tb = tables[static_cast<std::size_t>(next)];
+  next = (next + 1) % k_tables;
+  tb.t0 = t0;
+  tb.tau_min = tau_min;
+  tb.tau_max = tau_max;
+  tb.t.clear();
+  for (auto& row : tb.g) row.clear();
+  tb.tau.resize(k_lag_grid);
+  for (int k = 0; k < k_lag_grid; ++k)
+    tb.tau[static_cast<std::size_t>(k)] =
+        tau_min * std::pow(tau_max / tau_min, k / static_cast<double>(k_lag_grid - 1));
+  return tb;
+}
+
+// The clocks of t[0..n) for τ from tau_min to tau_max (tau_max > tau_min > 0).
+const Clocks& clocks_for(const double* t, int n, double tau_min, double tau_max) {
+  thread_local Clocks c;
+  ClockTable& tb = table_for(t[0], tau_min, tau_max);
+  const std::size_t kg = tb.tau.size();
+  c.tau = &tb.tau;
+  c.u.resize(static_cast<std::size_t>(n));
+  for (auto& row : c.g) row.resize(static_cast<std::size_t>(n));
+  std::size_t j = 0;
   for (int i = 0; i < n; ++i) {
+    const auto ui = static_cast<std::size_t>(i);
     const double u = t[i] - t[0];
-    x[static_cast<std::size_t>(i)] = u + tau * std::expm1(-u / tau);
+    c.u[ui] = u;
+    while (j < tb.t.size() && tb.t[j] < t[i]) ++j;
+    if (j < tb.t.size() && same_bits(tb.t[j], t[i])) {
+      for (std::size_t k = 0; k < kg; ++k) c.g[k][ui] = tb.g[k][j];
+      continue;
+    }
+    for (std::size_t k = 0; k < kg; ++k) c.g[k][ui] = u + tb.tau[k] * std::expm1(-u / tb.tau[k]);
+    if (j == tb.t.size()) {  // past every time kept: keep it (the times stay increasing)
+      tb.t.push_back(t[i]);
+      for (std::size_t k = 0; k < kg; ++k) tb.g[k].push_back(c.g[k][ui]);
+      ++j;
+    }
   }
+  return c;
 }
 
 }  // namespace
@@ -92,19 +158,16 @@ LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double
   const double tau_min = tau_floor(t, n);
   const double scale = t[n - 1] - t[0];
   if (!(tau_min > 0) || !(tau_max_s > tau_min) || !(scale > 0)) return best;
-  std::vector<double> x(static_cast<std::size_t>(n));
-  for (int i = 0; i < n; ++i) x[static_cast<std::size_t>(i)] = t[i] - t[0];
-  const Regress2 parabola = regress2(x, y, n, scale);
+  const Clocks& c = clocks_for(t, n, tau_min, tau_max_s);
+  const Regress2 parabola = regress2(c.u.data(), y, n, scale);
   if (!std::isfinite(parabola.rss)) return best;
   double best_rss = parabola.rss;
   for (int k = 0; k < k_lag_grid; ++k) {
-    const double tau = tau_min * std::pow(tau_max_s / tau_min, k / static_cast<double>(k_lag_grid - 1));
-    stretched_clock(t, n, tau, x);
-    const Regress2 r = regress2(x, y, n, scale);
+    const Regress2 r = regress2(c.g[static_cast<std::size_t>(k)].data(), y, n, scale);
     // A rate that rises with the clock is the plain lag curve's business (fit_lag_shape).
     if (!(r.b1 > 0) || !(r.b2 <= 0) || !(r.rss < best_rss)) continue;
     best_rss = r.rss;
-    best.tau_s = tau;
+    best.tau_s = (*c.tau)[static_cast<std::size_t>(k)];
     best.slope = r.b1 / scale;
   }
   best.gain = (parabola.rss - best_rss) / (sd * sd);
@@ -116,18 +179,15 @@ LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, doubl
   if (n < 6 || !(sd > 0)) return best;
   const double tau_min = tau_floor(t, n);
   if (!(tau_min > 0) || !(tau_max_s > tau_min)) return best;
-  std::vector<double> x(static_cast<std::size_t>(n));
-  for (int i = 0; i < n; ++i) x[static_cast<std::size_t>(i)] = t[i] - t[0];
-  const Regress line = regress(x, y, n);
+  const Clocks& c = clocks_for(t, n, tau_min, tau_max_s);
+  const Regress line = regress(c.u.data(), y, n);
   if (!std::isfinite(line.rss)) return best;
   double best_rss = line.rss;
   for (int k = 0; k < k_lag_grid; ++k) {
-    const double tau = tau_min * std::pow(tau_max_s / tau_min, k / static_cast<double>(k_lag_grid - 1));
-    stretched_clock(t, n, tau, x);
-    const Regress r = regress(x, y, n);
+    const Regress r = regress(c.g[static_cast<std::size_t>(k)].data(), y, n);
     if (r.slope > 0 && r.rss < best_rss) {
       best_rss = r.rss;
-      best.tau_s = tau;
+      best.tau_s = (*c.tau)[static_cast<std::size_t>(k)];
       best.slope = r.slope;
     }
   }

@@ -208,8 +208,11 @@ WindowCandidate candidate(const WindowStats& stats, const std::vector<double>& c
 }  // namespace
 
 StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd) {
-  std::vector<double> ct, cy;
-  std::vector<int> cpos;
+  thread_local std::vector<double> ct, cy;  // scratch reused by each thread: once per well
+  thread_local std::vector<int> cpos;
+  ct.clear();
+  cy.clear();
+  cpos.clear();
   for (std::size_t i = 0; i < u.t.size(); ++i)
     if (!u.spike[i]) {
       ct.push_back(u.t[i]);
@@ -244,8 +247,11 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   }
 
   // The search runs on the reads the spike screen let through.
-  std::vector<double> ct, cy;
-  std::vector<int> cpos;
+  thread_local std::vector<double> ct, cy;  // scratch reused by each thread: once per well
+  thread_local std::vector<int> cpos;
+  ct.clear();
+  cy.clear();
+  cpos.clear();
   ct.reserve(z(m));
   cy.reserve(z(m));
   cpos.reserve(z(m));

@@ -10,6 +10,7 @@
 //     --sections LIST   comma-separated: files, scaling, threads, batch, big (default: all)
 //     --vzero PATH      the vzero program timed on the batch (default: the one built beside this)
 //     --pandas SCRIPT   also time `python3 SCRIPT` (tests/bench/naive_pandas.py) on the same batch
+//     --numpy SCRIPT    also time the second yardstick (tests/bench/numpy_theil_sen.py) on it
 //     --long-rows N     rows of the big long-shape file (default 50,000,000)
 //     --big-read-only   read the big inputs but do not analyse them (--long-read-only: the long file only)
 //     --quick           small sizes, one repetition (a smoke test)
@@ -50,7 +51,7 @@ using Clock = std::chrono::steady_clock;
 double since(Clock::time_point t0) { return std::chrono::duration<double>(Clock::now() - t0).count(); }
 
 struct Config {
-  std::string dir, vzero = VZERO_BINARY, pandas, python = "python3";
+  std::string dir, vzero = VZERO_BINARY, pandas, numpy, python = "python3";
   std::vector<std::string> sections{"files", "scaling", "threads", "batch", "big"};
   int reps = 3;
   long long long_rows = 50'000'000;
@@ -413,8 +414,13 @@ void section_batch(const Config& c) {
     a.insert(a.end(), files.begin(), files.end());
     return spawn(a);
   };
-  ChildResult best1, best2, bestp, bestl1, bestl2;
-  best1.wall_s = best2.wall_s = bestp.wall_s = bestl1.wall_s = bestl2.wall_s = INFINITY;
+  auto numpy = [&] {
+    std::vector<std::string> a{c.python, c.numpy, "--layout", map_path(c, 1536), "-o", out + "/theil_sen.csv"};
+    a.insert(a.end(), files.begin(), files.end());
+    return spawn(a);
+  };
+  ChildResult best1, best2, bestp, bestl1, bestl2, bestn;
+  best1.wall_s = best2.wall_s = bestp.wall_s = bestl1.wall_s = bestl2.wall_s = bestn.wall_s = INFINITY;
   auto keep = [](ChildResult& best, const ChildResult& r) {
     if (r.ok && r.wall_s < best.wall_s) best = r;
   };
@@ -424,6 +430,7 @@ void section_batch(const Config& c) {
     keep(bestl1, cli_leading(1));
     keep(bestl2, cli_leading(2));
     if (!c.pandas.empty()) keep(bestp, pandas());
+    if (!c.numpy.empty()) keep(bestn, numpy());
   }
   auto line = [&](const char* what, const ChildResult& r) {
     if (!std::isfinite(r.wall_s))
@@ -444,6 +451,12 @@ void section_batch(const Config& c) {
     if (std::isfinite(bestl2.wall_s) && std::isfinite(bestp.wall_s))
       fmt::print("   doing the yardstick's job, vzero is {:.1f}x faster on 2 threads ({:.1f}x on 1 thread)\n",
                  bestp.wall_s / bestl2.wall_s, bestp.wall_s / bestl1.wall_s);
+  }
+  if (!c.numpy.empty()) {
+    line("numpy Theil-Sen slope of the first 10 reads", bestn);
+    if (std::isfinite(best2.wall_s) && std::isfinite(bestn.wall_s))
+      fmt::print("   vzero (2 threads) is {:.1f}x faster than the numpy Theil-Sen yardstick ({:.1f}x on 1 thread)\n",
+                 bestn.wall_s / best2.wall_s, bestn.wall_s / best1.wall_s);
   }
 }
 
@@ -512,6 +525,8 @@ int main(int argc, char** argv) {
       c.vzero = next();
     else if (a == "--pandas")
       c.pandas = next();
+    else if (a == "--numpy")
+      c.numpy = next();
     else if (a == "--python")
       c.python = next();
     else if (a == "--long-rows")
@@ -537,7 +552,7 @@ int main(int argc, char** argv) {
     } else {
       std::fprintf(stderr,
                    "usage: vzero_bench [--dir DIR] [--reps N] [--sections files,scaling,threads,batch,big]\n"
-                   "       [--vzero PATH] [--pandas SCRIPT] [--python PATH] [--long-rows N] [--big-read-only]\n"
+                   "       [--vzero PATH] [--pandas SCRIPT] [--numpy SCRIPT] [--python PATH] [--long-rows N] [--big-read-only]\n"
                    "       [--long-read-only] [--quick] [--write-plate WELLS READS]\n");
       return 2;
     }

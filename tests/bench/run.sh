@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The pipeline benchmark in one command:  bash tests/bench/run.sh [vzero_bench options]
 # Builds vzero and vzero_bench (Release, in build-bench/ or $VZERO_BENCH_BUILD), installs
-# Debian's python3-pandas if it is missing (the yardstick only; vzero does not need it),
+# Debian's python3-pandas if it is missing (the two yardsticks only, naive_pandas.py and
+# numpy_theil_sen.py; vzero does not need it),
 # generates the simulated exports in a temporary folder (about 1 GB with the 50-million-row
 # long file; $VZERO_BENCH_DIR to choose it, kept when given), and prints every figure.
 # Examples: bash tests/bench/run.sh --quick
@@ -19,7 +20,8 @@ if ! "$python" -c 'import pandas, numpy' 2>/dev/null; then
 fi
 pandas_args=()
 if "$python" -c 'import pandas, numpy' 2>/dev/null; then
-  pandas_args=(--pandas "$root/tests/bench/naive_pandas.py" --python "$python")
+  pandas_args=(--pandas "$root/tests/bench/naive_pandas.py" --numpy "$root/tests/bench/numpy_theil_sen.py"
+               --python "$python")
 else
   echo "python3-pandas is not installed: the pandas comparison is skipped" >&2
 fi
