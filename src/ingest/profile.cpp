@@ -57,6 +57,26 @@ class ProfileParser {
                 "columns", "signal", "section", "grid", "capture"});
     if (auto v = string_at(root_, "name", "")) p.name = *v;
     if (auto v = string_at(root_, "description", "")) p.description = *v;
+    parse_shape(p);
+    parse_text_format(p);
+    parse_plate(p);
+    parse_time_unit(p);
+    if (auto v = strings_at(root_, "overflow", "")) p.overflow_tokens = *v;
+    if (auto v = strings_at(root_, "missing", "")) p.missing_tokens = *v;
+    parse_columns(p);
+    parse_sections(p);
+    parse_grid(p);
+    parse_captures(p);
+    if (p.shape == Shape::grid && p.grid_read_label.empty()) {
+      fail(root_, "a grid profile needs [grid] read_label",
+           "add [grid] read_label = '<regex whose group 1 is the read time>'");
+    }
+    return p;
+  }
+
+ private:
+  // shape = "wide" | "grid" | "long" (required).
+  void parse_shape(Profile& p) const {
     auto shape = string_at(root_, "shape", "");
     if (!shape) fail(root_, "the profile has no `shape`", "add shape = \"wide\", \"grid\" or \"long\"");
     if (*shape == "wide")
@@ -67,6 +87,10 @@ class ProfileParser {
       p.shape = Shape::long_form;
     else
       bad_value(root_, "shape", *shape, "\"wide\", \"grid\" or \"long\"");
+  }
+
+  // delimiter and decimal, which must differ.
+  void parse_text_format(Profile& p) const {
     if (auto v = string_at(root_, "delimiter", "")) {
       if (*v == "auto")
         p.delimiter = 0;
@@ -88,6 +112,10 @@ class ProfileParser {
            fmt::format("profile keys `decimal` and `delimiter` are both \"{}\"", p.decimal),
            "set delimiter = \";\" or \"tab\" when decimal = \",\"");
     }
+  }
+
+  // plate = 0 (infer) or a plate format's well count.
+  void parse_plate(Profile& p) const {
     if (auto n = root_.get("plate")) {
       // toml++ 3.3 casts a float to int64 without a range check (undefined for 1e80), so a
       // float is converted here, and only when it is a small whole number (96.0).
@@ -104,6 +132,9 @@ class ProfileParser {
                   "0 (infer) or one of 6, 12, 24, 48, 96, 384, 1536");
       p.plate_wells = static_cast<int>(*v);
     }
+  }
+
+  void parse_time_unit(Profile& p) const {
     if (auto v = string_at(root_, "time_unit", "")) {
       if (*v == "s")
         p.time_unit = TimeUnit::seconds;
@@ -115,8 +146,10 @@ class ProfileParser {
         bad_value(root_, "time_unit", *v, "\"s\", \"min\" or \"h\"");
       p.time_unit_from = "profile " + source_;
     }
-    if (auto v = strings_at(root_, "overflow", "")) p.overflow_tokens = *v;
-    if (auto v = strings_at(root_, "missing", "")) p.missing_tokens = *v;
+  }
+
+  // [columns] (the wide and long shapes' column names) and [signal].
+  void parse_columns(Profile& p) const {
     if (const auto* cols = table_at(root_, "columns")) {
       check_keys(*cols, "columns.", {"time", "temperature", "well", "value", "channel", "ignore"});
       if (auto v = strings_at(*cols, "time", "columns.")) p.time_columns = *v;
@@ -132,6 +165,10 @@ class ProfileParser {
       if (auto v = string_at(*sig, "quantity", "signal.")) p.signal_quantity = quantity(*sig, "signal.quantity", *v);
       if (auto v = string_at(*sig, "unit", "signal.")) p.signal_unit = *v;
     }
+  }
+
+  // [[section]]: a block's label line and what its reads measure.
+  void parse_sections(Profile& p) const {
     for (const auto* t : tables_at(root_, "section")) {
       check_keys(*t, "section.", {"label", "name", "quantity", "unit"});
       SectionRule r;
@@ -145,6 +182,10 @@ class ProfileParser {
       regex(*t, "section.label", r.label);
       p.sections.push_back(std::move(r));
     }
+  }
+
+  // [grid] read_label: the line above each read's grid, its group 1 the read time.
+  void parse_grid(Profile& p) const {
     if (const auto* g = table_at(root_, "grid")) {
       check_keys(*g, "grid.", {"read_label"});
       if (auto v = string_at(*g, "read_label", "grid.")) {
@@ -156,6 +197,10 @@ class ProfileParser {
                "put the time in parentheses, e.g. 'Read \\d+ at ([0-9:.]+)'");
       }
     }
+  }
+
+  // [[capture]]: header lines kept as metadata.
+  void parse_captures(Profile& p) const {
     for (const auto* t : tables_at(root_, "capture")) {
       check_keys(*t, "capture.", {"pattern", "key"});
       CaptureRule r;
@@ -171,14 +216,8 @@ class ProfileParser {
              "add a second group for the value, or give a fixed key");
       p.captures.push_back(std::move(r));
     }
-    if (p.shape == Shape::grid && p.grid_read_label.empty()) {
-      fail(root_, "a grid profile needs [grid] read_label",
-           "add [grid] read_label = '<regex whose group 1 is the read time>'");
-    }
-    return p;
   }
 
- private:
   [[noreturn]] void fail(const toml::node& n, const std::string& what, const std::string& fix) const {
     throw InputError(Where{source_, line_of(n), column_of(n)}, what, {fix});
   }

@@ -15,9 +15,8 @@ namespace {
 
 using namespace detail::options;
 
-std::vector<OptionSpec> make_table() {
-  std::vector<OptionSpec> t;
-  // Inputs and outputs.
+// The inputs: plate map and its columns, method, profile, exports.
+void add_input_options(std::vector<OptionSpec>& t) {
   t.push_back(text(
       "layout", 'l', k_io, OptionRole::io, "", [](S& s) { return &s.layout; },
       "plate map CSV (tidy table or plate-grid form): well, role, and substrate, standard_conc, match "
@@ -63,6 +62,10 @@ std::vector<OptionSpec> make_table() {
       "files-from", 0, k_io, OptionRole::io, "", [](S& s) { return &s.files_from; },
       "also read the exports listed in this file, one path per line (blank lines and # comments skipped; "
       "relative paths as if typed here), after those on the command line: for job arrays and long lists"));
+}
+
+// The outputs, what goes into them, and how the run goes.
+void add_output_options(std::vector<OptionSpec>& t) {
   t.push_back(text(
       "output", 'o', k_io, OptionRole::io, "rates.csv", [](S& s) { return &s.output; },
       "rates table; datapackage.json is written beside it"));
@@ -118,7 +121,12 @@ std::vector<OptionSpec> make_table() {
     o.short_name = 'q';
     t.push_back(o);
   }
+}
 
+std::vector<OptionSpec> make_table() {
+  std::vector<OptionSpec> t;
+  add_input_options(t);
+  add_output_options(t);
   detail::add_analysis_options(t);
   detail::add_screen_options(t);
   detail::add_enzymeml_options(t);

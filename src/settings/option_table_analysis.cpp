@@ -5,10 +5,13 @@
 
 namespace vzero::detail {
 
-void add_analysis_options(std::vector<OptionSpec>& t) {
-  using namespace options;
-  // Conversion. The choice between Beer–Lambert, standards and signal only is checked as a
-  // combination in resolve_settings.
+namespace {
+
+using namespace options;
+
+// Conversion to concentration. The choice between Beer–Lambert, standards and signal only is
+// checked as a combination in resolve_settings.
+void add_conversion_options(std::vector<OptionSpec>& t) {
   t.push_back(number(
       "epsilon", k_conv, "", "M⁻¹·cm⁻¹", k_positive, [](S& s) { return &s.analysis.convert.epsilon_per_m_cm; },
       "molar absorption coefficient ε, M⁻¹·cm⁻¹ (Beer–Lambert)"));
@@ -102,8 +105,10 @@ void add_analysis_options(std::vector<OptionSpec>& t) {
         return {};
       },
       "EX,EM: correct fluorescence by F·10^((A_ex + A_em)/2) with these absorbance channels"));
+}
 
-  // Blanks and direction.
+// Blanks and direction.
+void add_blank_options(std::vector<OptionSpec>& t) {
   t.push_back(enum_choice<BlankStrategy, blank_strategy_of>(
       "blank", k_blank, "plate", "plate (all blank wells), matched (same `match` value) or none"));
   t.push_back(enum_choice<BlankMode, blank_mode_of>(
@@ -116,8 +121,10 @@ void add_analysis_options(std::vector<OptionSpec>& t) {
   }
   t.push_back(enum_choice<Direction, direction_of>(
       "direction", k_blank, "up", "up (product formed, signal rises) or down (signal falls, e.g. NADH at 340 nm)"));
+}
 
-  // Rate finder.
+// The rate finder: window, estimator and the tests that flag a well.
+void add_rate_finder_options(std::vector<OptionSpec>& t) {
   t.push_back(enum_choice<WindowMethod, window_of>(
       "window", k_rate, "auto", "auto (longest early linear window), leading (first --min-points reads) or steepest"));
   t.push_back(enum_choice<Estimator, estimator_of>("estimator", k_rate, "theil-sen",
@@ -207,6 +214,14 @@ void add_analysis_options(std::vector<OptionSpec>& t) {
   t.push_back(number(
       "tangent-alpha", k_rate, "0.05", "", k_alpha, [](S& s) { return &s.analysis.rates.tangent_alpha; },
       "one-sided significance the parabola's bend needs before its tangent is used"));
+}
+
+}  // namespace
+
+void add_analysis_options(std::vector<OptionSpec>& t) {
+  add_conversion_options(t);
+  add_blank_options(t);
+  add_rate_finder_options(t);
 }
 
 }  // namespace vzero::detail
