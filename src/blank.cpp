@@ -6,7 +6,7 @@
 #include <map>
 
 #include "core/stats.hpp"
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 
 namespace vzero {
 

@@ -1,4 +1,4 @@
-// The output tables (include/vzero/outputs.hpp, src/output_tables.hpp, fit tables) and the one
+// The output tables (include/vzero/outputs.hpp, src/outputs/output_tables.hpp, fit tables) and the one
 // CSV writer (src/core/csv_write.hpp): a column is declared once, and its header name, its
 // cells and its Table Schema field follow from that one entry.
 #include <fmt/format.h>
@@ -8,7 +8,7 @@
 #include "core/columns.hpp"
 #include "core/csv_write.hpp"
 #include "core/text.hpp"
-#include "output_tables.hpp"
+#include "outputs/output_tables.hpp"
 #include "test_support.hpp"
 #include "vzero/fit.hpp"
 #include "vzero/ingest.hpp"

@@ -1,5 +1,5 @@
 // Tests of what the rate finder's fits reuse from one well to the next on the same thread
-// (src/rates/start_screen.cpp: the designs of the first reads' times; src/rates/lag_model.cpp:
+// (src/core/start_screen.cpp: the designs of the first reads' times; src/rates/lag_model.cpp:
 // the lag curve's stretched clocks). Each fit is run after others that filled those stores
 // and again alone in a fresh thread (empty stores): the results must be the same bit for bit
 // (the determinism rule), and must match the closed forms the traces are built from.
@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "rates/lag_model.hpp"
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 #include "test_support.hpp"
 
 namespace {

@@ -1,4 +1,4 @@
-// Tests of the rate finder's start of trace (disturbed start, src/rates/start_screen.hpp),
+// Tests of the rate finder's start of trace (disturbed start, src/core/start_screen.hpp),
 // its table of window rules, the tangent's read count and the precision flag
 // (include/vzero/rates.hpp). Every trace is constructed here; the expected values are worked
 // out beside each check (closed forms, no outside data needed).
@@ -7,7 +7,7 @@
 #include <vector>
 
 #include "rates/lag_model.hpp"
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 #include "test_support.hpp"
 #include "vzero/blank.hpp"
 #include "vzero/rates.hpp"

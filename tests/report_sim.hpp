@@ -79,7 +79,7 @@ inline SimPlateFiles write_sim_plate(const std::string& dir, PlateFormat f, std:
 }
 
 // The part of datapackage.json the report reads, for one unconverted channel of a 96-well
-// plate with no plate-map columns (as `vzero rates` writes it; see src/outputs.cpp).
+// plate with no plate-map columns (as `vzero rates` writes it; see src/outputs/outputs.cpp).
 inline std::string mini_package(const std::string& source, const std::string& channel, const std::string& direction) {
   return fmt::format(
       R"({{"vzero": {{"map_columns": [], "channels": [{{"source": "{}", "channel": "{}", "conversion": "signal-only",

@@ -66,7 +66,7 @@ struct BlankResult {
   std::vector<double> line_slope, line_intercept;
 };
 
-// One blank well's start, screened as a sample's is (src/rates/start_screen.hpp: a jump or a
+// One blank well's start, screened as a sample's is (src/core/start_screen.hpp: a jump or a
 // decay over the first reads that the rest does not continue), with the well's own robust
 // read noise (second differences). Returns how many of its first ok reads are disturbed (0 =
 // clean); `slope` and `intercept` receive the OLS line of the ok reads after them. A blank with

@@ -1,4 +1,4 @@
-// The options of `vzero fit`, each described once (src/settings/fit_options.cpp): the
+// The options of `vzero fit`, each described once (src/settings/fit_settings.cpp): the
 // command line's --help and parsing, the Python module's vzero.fit keywords (the same names,
 // `_` for `-`), the checks, and the FitTableOptions a fit runs with all come from this table.
 //

@@ -2,7 +2,7 @@
 // Package with Table Schema field types and units, plus provenance), the per-read traces
 // table and the replicate summary. Text is built in memory and written atomically by the
 // caller (write_file_atomic). RFC 4180, UTF-8, '.' decimals, shortest round-trip numbers.
-// Each table's columns are declared once (src/output_tables.cpp); its header, rows and
+// Each table's columns are declared once (src/outputs/output_tables.cpp); its header, rows and
 // schema fields below all come from that declaration.
 #pragma once
 

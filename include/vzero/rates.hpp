@@ -12,7 +12,7 @@
 //   2. Spikes are kept out of the search: a read more than `outlier_k` robust SDs from the
 //      Theil–Sen line through its six nearest neighbours, while those neighbours agree with
 //      their line (at a sharp bend they do not, and nothing is a spike there).
-//   2b. Disturbed start (`detect_disturbed`, src/rates/start_screen.hpp): the first dozen
+//   2b. Disturbed start (`detect_disturbed`, src/core/start_screen.hpp): the first dozen
 //      screened reads are fitted with a line (a parabola when its square term shows) plus a
 //      disturbance decaying within 1, 2 or 3 reads; beyond 5 SE, the reads it moves by more
 //      than the read noise (at most 4) are set aside and its remainder is taken off the rest.

@@ -5,7 +5,7 @@
 #include <string>
 #include <vector>
 
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 #include "vzero/rates.hpp"
 
 namespace vzero::detail {

@@ -5,7 +5,7 @@
 #include "core/stats.hpp"
 #include "rates/lag_search.hpp"
 #include "rates/rate_window.hpp"
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 #include "rates/window_stats.hpp"
 
 namespace vzero {

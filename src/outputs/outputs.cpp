@@ -10,7 +10,7 @@
 
 #include "core/files.hpp"
 #include "core/line_source.hpp"
-#include "output_tables.hpp"
+#include "outputs/output_tables.hpp"
 
 namespace vzero {
 

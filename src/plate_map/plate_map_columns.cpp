@@ -1,4 +1,4 @@
-#include "plate_map_columns.hpp"
+#include "plate_map/plate_map_columns.hpp"
 
 #include <fmt/format.h>
 #include <cmath>

@@ -5,7 +5,7 @@
 #include <cmath>
 
 #include "report/report_model.hpp"
-#include "report/report_progress.hpp"
+#include "report/progress_charts.hpp"
 #include "vzero/svg.hpp"
 
 namespace vzero::detail::report {

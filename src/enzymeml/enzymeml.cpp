@@ -7,7 +7,7 @@
 #include <map>
 #include <set>
 
-#include "enzymeml_parts.hpp"
+#include "enzymeml/enzymeml_parts.hpp"
 
 namespace vzero {
 

@@ -9,7 +9,7 @@
 #include <sstream>
 
 #include "core/line_source.hpp"
-#include "plate_map_columns.hpp"
+#include "plate_map/plate_map_columns.hpp"
 #include "core/text.hpp"
 #include "vzero/error.hpp"
 #include "vzero/table.hpp"

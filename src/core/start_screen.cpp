@@ -1,4 +1,4 @@
-#include "rates/start_screen.hpp"
+#include "core/start_screen.hpp"
 
 #include <Eigen/Dense>
 #include <algorithm>

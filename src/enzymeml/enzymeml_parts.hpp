@@ -1,4 +1,4 @@
-// The pieces of the EnzymeML export (src/enzymeml.cpp): UnitDefinitions, identifiers, and
+// The pieces of the EnzymeML export (src/enzymeml/enzymeml.cpp): UnitDefinitions, identifiers, and
 // the STRENDA facts of one well (from the plate map's columns, else the run's options).
 #pragma once
 

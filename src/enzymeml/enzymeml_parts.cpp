@@ -1,4 +1,4 @@
-#include "enzymeml_parts.hpp"
+#include "enzymeml/enzymeml_parts.hpp"
 
 #include <fmt/format.h>
 

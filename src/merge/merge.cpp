@@ -9,7 +9,7 @@
 #include <memory>
 
 #include "core/files.hpp"
-#include "merge_tables.hpp"
+#include "merge/merge_tables.hpp"
 #include "vzero/outputs.hpp"
 
 namespace vzero {

@@ -1,7 +1,7 @@
 // vzero merge, inside: one run's datapackage.json as read, and the tables' rows streamed from
 // the runs into the merged files (rates.csv checked against its run's exports, summed into the
 // replicate summary and the missing-substrate warning). The checks and datapackage.json are
-// in src/merge.cpp.
+// in src/merge/merge.cpp.
 #pragma once
 
 #include <cstddef>

@@ -5,7 +5,7 @@
 #include <cmath>
 
 #include "core/text.hpp"
-#include "enzymeml_parts.hpp"
+#include "enzymeml/enzymeml_parts.hpp"
 #include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/fit.hpp"

@@ -1,10 +1,10 @@
 // The progress-curve report page: header, per group the parameter table, the model
-// comparison and Selwyn's tests in words, and the figures (report_progress_charts.cpp).
+// comparison and Selwyn's tests in words, and the figures (progress_report_charts.cpp).
 #include <fmt/format.h>
 #include <cmath>
 
 #include "report/report_model.hpp"
-#include "report/report_progress.hpp"
+#include "report/progress_charts.hpp"
 #include "vzero/progress_report.hpp"
 #include "vzero/svg.hpp"
 

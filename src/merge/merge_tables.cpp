@@ -1,5 +1,5 @@
 // vzero merge: the tables' rows, streamed from each run into the merged files.
-#include "merge_tables.hpp"
+#include "merge/merge_tables.hpp"
 
 #include <fmt/format.h>
 

@@ -1,6 +1,6 @@
 // Disturbed start: a jump or a decay over the first reads that the rest of the trace does not
-// continue (dispensing, bubbles rising, temperature settling), either sign. Internal to the
-// rate finder (src/rates); also used to screen blank wells (src/blank.cpp).
+// continue (dispensing, bubbles rising, temperature settling), either sign. Shared by the rate
+// finder (src/rates) and the blank screen (src/blank.cpp).
 #pragma once
 
 #include <cmath>

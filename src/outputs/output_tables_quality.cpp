@@ -1,6 +1,6 @@
 // The plate-quality table's declaration (--plate-quality): one row per plate and channel,
-// each column one entry, as for rates.csv (src/output_tables.cpp, core/columns.hpp).
-#include "output_tables.hpp"
+// each column one entry, as for rates.csv (src/outputs/output_tables.cpp, core/columns.hpp).
+#include "outputs/output_tables.hpp"
 
 #include "vzero/outputs.hpp"
 

@@ -1,7 +1,7 @@
 // rates.csv, the traces and the summary: each table's columns declared once, in order. An
 // entry's lambda writes that column's cell of one row; header, rows and Table Schema all
 // come from the list (core/columns.hpp).
-#include "output_tables.hpp"
+#include "outputs/output_tables.hpp"
 
 #include <cmath>
 

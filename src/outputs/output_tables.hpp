@@ -1,5 +1,5 @@
 // The declarations of the tables `vzero rates` writes: rates.csv, the traces and the
-// replicate summary, each one list of ColumnEntry (src/output_tables.cpp). The public
+// replicate summary, each one list of ColumnEntry (src/outputs/output_tables.cpp). The public
 // functions of vzero/outputs.hpp (rate_fields, rates_csv, ...) are made from these; tests
 // reach them here to add a column and see the header, rows and Table Schema follow.
 #pragma once
@@ -57,7 +57,7 @@ using SummaryEntry = ColumnEntry<SummaryGroup, SummaryTable>;
 std::span<const SummaryEntry> summary_declaration();
 
 // One row of the plate-quality table: one channel of one plate (declared in
-// src/output_tables_quality.cpp).
+// src/outputs/output_tables_quality.cpp).
 struct QualityRowRef {
   const RunAnalysis& run;
   const ChannelAnalysis& channel;
