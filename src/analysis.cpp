@@ -216,6 +216,17 @@ void slope_to_v0(RateRow& row, const ChannelAnalysis& ca, const ChannelContext& 
   }
 }
 
+// A sample whose subtracted blank misses its own background (blanks of other substrate levels
+// whose rates change with the substrate) by more than this share of its rate: a bias the
+// rate's interval does not show.
+constexpr double k_blank_mismatch = 0.05;
+void flag_blank_mismatch(RateRow& row, const WellBlank& wb) {
+  if (!rated_as_sample(row.role) || !std::isfinite(wb.substrate_mismatch)) return;
+  row.blank_substrate_pct = 100 * std::fabs(wb.substrate_mismatch) * 60 / std::fabs(row.slope_per_min);
+  if (std::fabs(wb.substrate_mismatch) * 60 > k_blank_mismatch * std::fabs(row.slope_per_min))
+    add_flag(row.flags, "blank-substrate");
+}
+
 // Samples whose signal leaves the calibrated range of the standard curve. Above the top
 // standard the curve is extrapolated (detectors and inner filters bend it there): any
 // window read beyond it flags the well. Below the lowest standard only matters when that
@@ -313,6 +324,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     if (ca.conversion.mode != ConvertMode::signal_only && !(factor > 0 && std::isfinite(factor)))
       add_flag(row.flags, "no-path");
     slope_to_v0(row, ca, cx, o, j);
+    flag_blank_mismatch(row, wb);
   });
   flag_outside_standards(ca);
   ca.controls = controls_of(ca.rows);

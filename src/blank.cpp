@@ -250,6 +250,44 @@ void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& 
   if (bw.disturbed.count(j)) wb.flags.emplace_back("blank-disturbed");
 }
 
+// The blank wells' own rates against their substrate (BlankSubstrateTrend).
+BlankSubstrateTrend substrate_trend(const Channel& c, const PlateMap& map, PlateFormat f, const BlankWells& bw) {
+  BlankSubstrateTrend tr;
+  std::vector<double> s, rate;
+  for (int b : bw.all) {
+    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+    const double slope = bw.line.at(b).slope;
+    if (!bi || !std::isfinite(bi->substrate) || !std::isfinite(slope)) continue;
+    s.push_back(bi->substrate);
+    rate.push_back(slope);
+  }
+  tr.blanks = static_cast<int>(s.size());
+  std::vector<double> levels = s;
+  std::sort(levels.begin(), levels.end());
+  tr.levels = static_cast<int>(std::unique(levels.begin(), levels.end()) - levels.begin());
+  if (tr.blanks < 3 || tr.levels < 2) return tr;
+  const LineFit l = detail::least_squares_line(s.data(), rate.data(), tr.blanks, nullptr, detail::Residual::stepwise);
+  tr.intercept = l.intercept;
+  tr.slope = l.slope;
+  tr.t = l.slope_se > 0 ? l.slope / l.slope_se : (l.slope != 0 ? INFINITY : 0.0);
+  tr.significant = std::fabs(tr.t) > detail::student_t_quantile(0.995, tr.blanks - 2);
+  return tr;
+}
+
+// How far the blanks `use` subtract from the trend's rate at the well's substrate.
+double substrate_mismatch(const Channel& c, const PlateMap& map, PlateFormat f, const BlankSubstrateTrend& tr,
+                          const WellInfo* info, const std::vector<int>& use) {
+  if (!tr.significant || !info || !std::isfinite(info->substrate) || use.empty()) return NAN;
+  double mean_s = 0;
+  for (int b : use) {
+    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+    if (!bi || !std::isfinite(bi->substrate)) return NAN;
+    mean_s += bi->substrate;
+  }
+  mean_s /= static_cast<double>(use.size());
+  return tr.slope * (info->substrate - mean_s);
+}
+
 // Column j's reads minus the mean blank, read by read (NaN where the blank has no value).
 void subtract(const Channel& c, const SharedBlank& sb, Eigen::Index j, BlankResult& r) {
   for (Eigen::Index i = 0; i < c.values.rows(); ++i) {
@@ -276,6 +314,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
   r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
   const BlankWells bw = judge_blank_wells(c, map, f, o);
+  r.substrate_trend = substrate_trend(c, map, f, bw);
   for (const auto& [b, l] : bw.disturbed) {
     r.line_slope[static_cast<std::size_t>(b)] = l.slope;
     r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
@@ -307,6 +346,8 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;
+    wb.substrate_mismatch = substrate_mismatch(c, map, f, r.substrate_trend, info, use);
+    r.substrate_trend.mismatched += std::isfinite(wb.substrate_mismatch) && wb.substrate_mismatch != 0;
     if (o.mode == BlankMode::trace) subtract(c, sb, j, r);
   }
   return r;

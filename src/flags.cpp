@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 25> k_marks{{
+constexpr std::array<MarkInfo, 26> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -56,6 +56,9 @@ constexpr std::array<MarkInfo, 25> k_marks{{
      "the trace sits at the detector's maximum (then overflows): its rate says nothing about the enzyme"},
     {"blank-missing", flag, "sample", "the sample has no blank to subtract (no matched blank, or none on the plate)"},
     {"blank-noisy", flag, "sample, blank", "a blank used scatters more than 3 × the median blank scatter"},
+    {"blank-substrate", flag, "sample",
+     "the blanks' rates change with their substrate and this sample's blanks sit at other levels, missing its own "
+     "background by over 5 % of its rate (`--blank matched --match-column substrate` subtracts per level)"},
     {"blank-disturbed", flag, "blank",
      "the blank's first reads jumped or decayed; it is left out of its set (its line stands in when all are)"},
     {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},

@@ -89,7 +89,7 @@ TEST_CASE("vzero rates writes no progress when stderr is not a terminal") {
   test::TempDir dir;
   const auto r = test::run_vzero("rates '" + source("demo-data/hydrolase_wide.csv") + "' '" +
                                      source("demo-data/hydrolase_wide.csv") + "' --layout '" +
-                                     source("demo-data/hydrolase_map.csv") + "' --signal-only -o rates.csv",
+                                     source("demo-data/hydrolase_map.csv") + "' --signal-only --blank matched -o rates.csv",
                                  dir.path.string());
   INFO(r.describe());
   CHECK(r.status == 0);

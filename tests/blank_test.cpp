@@ -147,3 +147,91 @@ TEST_CASE("a disturbed blank is left out of a set that has a clean one") {
   CHECK(l.wells[static_cast<std::size_t>(a1)].blank_wells == "B1");
   CHECK(l.wells[static_cast<std::size_t>(a1)].notes == std::vector<std::string>{"blank-line"});
 }
+
+// Blanks whose own rates rise with their substrate, and samples that subtract blanks of other
+// levels. Constructed exactly: blank B_k at S = 0, 100, 200, 300 µM rises at S·1e-6 AU/s
+// (0.05 + S·1e-6·t), samples A1 (S = 0) and A2 (S = 300) add 0.001 AU/s of enzyme to their
+// own substrate's background. Worked by hand: the trend is 1e-6 AU/s per µM (the line fits
+// exactly, so |t| is unbounded); the plate blank's mean rises at 1.5e-4 AU/s, the trend at
+// 0 µM is 0 and at 300 µM 3e-4, so A1 subtracts 1.5e-4 too much and A2 1.5e-4 too little:
+// 15 % of their 0.001 AU/s, above the 5 % that flags blank-substrate.
+namespace {
+std::string trend_plate() {
+  std::string t = "Time [s],A1,A2,B1,B2,B3,B4\n";
+  for (int i = 0; i < 8; ++i) {
+    const double s = 30.0 * i;
+    t += fmt::format("{},{:.9g},{:.9g},{:.9g},{:.9g},{:.9g},{:.9g}\n", s, 0.05 + 0.001 * s,
+                     0.05 + (0.001 + 3e-4) * s, 0.05, 0.05 + 1e-4 * s, 0.05 + 2e-4 * s, 0.05 + 3e-4 * s);
+  }
+  return t;
+}
+const char* k_trend_map =
+    "well,role,substrate\nA1,sample,0\nA2,sample,300\nB1,blank,0\nB2,blank,100\nB3,blank,200\nB4,blank,300\n";
+}  // namespace
+
+TEST_CASE("blank rates that rise with substrate: the trend, and each sample's mismatch (worked by hand)") {
+  Run run = read_run_text("plate.csv", trend_plate(), load_profile("wide-generic"));
+  const Channel& c = run.channels[0];
+  const auto col = [&](const char* w) { return static_cast<std::size_t>(c.column_of(run.format.index(*parse_well(w)))); };
+  BlankOptions o;  // plate blank
+  const BlankResult p = apply_blank(c, parse_plate_map("map.csv", k_trend_map), run.format, o);
+  CHECK(p.substrate_trend.blanks == 4);
+  CHECK(p.substrate_trend.levels == 4);
+  CHECK_REL(p.substrate_trend.slope, 1e-6, 1e-9);
+  CHECK(p.substrate_trend.significant);
+  CHECK(p.substrate_trend.mismatched == 2);
+  CHECK_REL(p.wells[col("A1")].substrate_mismatch, -1.5e-4, 1e-9);
+  CHECK_REL(p.wells[col("A2")].substrate_mismatch, 1.5e-4, 1e-9);
+  // Blanks matched by substrate value (--match-column substrate): each sample subtracts its
+  // own level's blank, so nothing is off.
+  MapColumnOptions by_substrate;
+  by_substrate.match_column = "substrate";
+  o.strategy = BlankStrategy::matched;
+  const BlankResult m = apply_blank(c, parse_plate_map("map.csv", k_trend_map, by_substrate), run.format, o);
+  CHECK(m.wells[col("A2")].blank_wells == "B4");
+  CHECK(m.wells[col("A1")].substrate_mismatch == 0);
+  CHECK(m.wells[col("A2")].substrate_mismatch == 0);
+  CHECK(m.substrate_trend.mismatched == 0);
+}
+
+TEST_CASE("a blank trend within the blanks' scatter is not one (t worked by hand)") {
+  // Blank rates 1, 3, 2, 5 × 1e-4 AU/s at S = 0, 100, 200, 300: slope 1.1e-6 per µM, residuals
+  // −0.1, 0.8, −1.3, 0.6 (× 1e-4), RSS 2.7e-8, SE √(1.35e-8 / 50000) = 5.196e-7, t = 2.117,
+  // below t(0.995, 2) = 9.925 (R: qt(0.995, 2)).
+  std::string t = "Time [s],A1,B1,B2,B3,B4\n";
+  for (int i = 0; i < 8; ++i) {
+    const double s = 30.0 * i;
+    t += fmt::format("{},{:.9g},{:.9g},{:.9g},{:.9g},{:.9g}\n", s, 0.05 + 0.001 * s, 0.05 + 1e-4 * s,
+                     0.05 + 3e-4 * s, 0.05 + 2e-4 * s, 0.05 + 5e-4 * s);
+  }
+  Run run = read_run_text("plate.csv", t, load_profile("wide-generic"));
+  const BlankResult p = apply_blank(run.channels[0], parse_plate_map("map.csv", k_trend_map), run.format, {});
+  CHECK_REL(p.substrate_trend.slope, 1.1e-6, 1e-9);
+  CHECK_REL(p.substrate_trend.t, 2.1169509, 1e-6);
+  CHECK_FALSE(p.substrate_trend.significant);
+  CHECK(std::isnan(p.wells[0].substrate_mismatch));
+}
+
+TEST_CASE("vzero rates flags blank-substrate and warns; matched by substrate it does neither") {
+  test::TempDir dir;
+  test::spit(dir / "plate.csv", trend_plate());
+  test::spit(dir / "map.csv", k_trend_map);
+  const auto plate = test::run_vzero("rates plate.csv --layout map.csv --signal-only -o rates.csv", dir.path.string());
+  INFO(plate.describe());
+  REQUIRE(plate.status == 0);
+  CHECK(plate.err.find("the blank wells' rates change with their substrate (+6e-05 signal/min per uM") != std::string::npos);
+  CHECK(plate.err.find("--blank matched --match-column substrate") != std::string::npos);
+  const std::string rates = test::slurp(dir / "rates.csv");
+  CHECK(rates.find("A1,A,1,sample,0,") != std::string::npos);
+  std::size_t flagged = 0;
+  for (std::size_t at = rates.find("blank-substrate"); at != std::string::npos; at = rates.find("blank-substrate", at + 1))
+    ++flagged;
+  CHECK(flagged == 2);
+  const auto matched = test::run_vzero(
+      "rates plate.csv --layout map.csv --signal-only --blank matched --match-column substrate -o rates.csv",
+      dir.path.string());
+  INFO(matched.describe());
+  REQUIRE(matched.status == 0);
+  CHECK(matched.err.empty());
+  CHECK(test::slurp(dir / "rates.csv").find("blank-substrate") == std::string::npos);
+}

@@ -68,6 +68,8 @@ struct RateRow {
   double v0 = NAN, v0_se = NAN, v0_ci_low = NAN, v0_ci_high = NAN;  // concentration (or signal) per minute
   double slope_per_min = NAN;       // blank-corrected signal per minute (direction applied)
   double blank_rate_per_min = NAN;  // the blank's rate subtracted in `rate` mode, else the blank's own slope
+  double blank_substrate_pct = NAN; // samples: how far the subtracted blank misses the blanks' substrate trend at
+                                    // this well's substrate, % of |slope| (WellBlank::substrate_mismatch)
   double activity_u = NAN;          // enzyme activity, µmol/min, when a well volume is given
   double specific_activity = NAN;   // activity_u per mg of enzyme (U/mg), with enzyme_mg_column
   double path_cm = NAN;

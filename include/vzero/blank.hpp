@@ -54,6 +54,24 @@ struct WellBlank {
                                    // wells also "blank-disturbed" (its start jumps or decays)
   std::vector<std::string> notes;  // e.g. "blank-line": a blank used here had a disturbed start, so its
                                    // fitted line (reads after the disturbance) was subtracted instead
+  // When the blanks' rates change with their substrate (BlankSubstrateTrend significant): the
+  // trend's rate at this well's substrate less its mean over the blanks subtracted here, signal
+  // units per second — how far the subtracted blank is off this well's own background. NaN
+  // when there is no such trend or the well or a blank used has no substrate.
+  double substrate_mismatch = NAN;
+};
+
+// Blank wells at several substrate levels whose own rates change with the substrate (a
+// substrate that reacts, absorbs or fluoresces on its own): their rates (each blank's line,
+// after a disturbed start) against their plate-map substrate, by least squares. Needs 3 or
+// more blanks with a rate and a substrate, at 2 or more levels. `significant` when the
+// slope's |t| exceeds Student's t(0.995, n − 2): a two-sided test at 1 %.
+struct BlankSubstrateTrend {
+  int blanks = 0, levels = 0;
+  double intercept = NAN, slope = NAN;  // signal units per second; per substrate unit (the map's)
+  double t = NAN;                       // slope / its standard error
+  bool significant = false;
+  int mismatched = 0;  // wells whose blanks sit at other levels (substrate_mismatch ≠ 0) under a significant trend
 };
 
 struct BlankResult {
@@ -61,6 +79,7 @@ struct BlankResult {
   Eigen::MatrixXd corrected;     // raw − blank; NaN where unusable
   StatusMatrix status;           // raw status; `excluded` where the blank has no value at that read
   std::vector<WellBlank> wells;  // one per channel column
+  BlankSubstrateTrend substrate_trend;
   // Per channel column, for blank wells with a disturbed start: the line (signal = intercept
   // + slope·t) of their reads after it, which stands in for their reads; NaN elsewhere.
   std::vector<double> line_slope, line_intercept;
@@ -84,6 +103,7 @@ int screen_blank_start(const std::vector<double>& time_s, const double* y, const
 double within_set_rate_sd(const std::vector<std::vector<double>>& sets);
 
 BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
+
 
 // Mean blank trace's OLS slope over [t0_s, t1_s] for channel column `column` (signal units
 // per second), used by the `rate` mode; NaN when the well has no blank or too few reads. A

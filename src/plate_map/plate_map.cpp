@@ -124,6 +124,7 @@ class MapBuilder {
           continue;
         case detail::ColumnKind::substrate:
           info.substrate = detail::scale_by_decades(parse_conc(file_, c, columns_[i]), decades);
+          if (plan_.match_is_substrate && std::isfinite(info.substrate)) info.match = fmt::format("{}", info.substrate);
           break;
         case detail::ColumnKind::standard_conc:
           info.standard_conc = detail::scale_by_decades(parse_conc(file_, c, columns_[i]), decades);

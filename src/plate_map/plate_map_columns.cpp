@@ -129,6 +129,12 @@ ColumnPlan plan_map_columns(const std::string& file, int header_line, const std:
     } else if (o.substrate_column.empty() ? iequals(base, "substrate")
                                           : iequals(c, o.substrate_column) || iequals(base, o.substrate_column)) {
       take(plan, i, ColumnKind::substrate, c, unit, o, file, header_line);
+      // Blanks matched by substrate level (substrate-only blanks): the substrate column is also
+      // the match, by its value in the run's unit.
+      if (!o.match_column.empty() && (iequals(c, o.match_column) || iequals(base, o.match_column))) {
+        plan.match_is_substrate = true;
+        plan.uses.push_back(ColumnUse{c, "match", "", false, 1});
+      }
     } else if (iequals(base, "standard_conc")) {
       take(plan, i, ColumnKind::standard_conc, c, unit, o, file, header_line);
     } else if (o.match_column.empty() ? iequals(c, "match") : iequals(c, o.match_column)) {

@@ -17,6 +17,7 @@ struct ColumnPlan {
   std::vector<ColumnUse> uses;
   std::vector<std::string> warnings;
   std::vector<std::string> unread_concentrations;  // other columns whose name says concentration
+  bool match_is_substrate = false;  // --match-column names the substrate column: blanks match by substrate value
 };
 
 // Throws InputError at file:header_line when a column named in `options` is missing or

@@ -10,6 +10,7 @@
 
 #include "core/files.hpp"
 #include "core/text.hpp"
+#include "rates_run/run_warnings.hpp"
 #include "vzero/enzymeml.hpp"
 #include "vzero/error.hpp"
 #include "vzero/method.hpp"
@@ -156,45 +157,6 @@ ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s, Provenan
   // The trend level is a screen's setting: runs without controls record what they did before.
   if (!(full && none)) std::erase_if(prov.options, [](const auto& o) { return o.first == "trend-level"; });
   return ScreenColumns{full && none, s.screen.hit_threshold_pct};
-}
-
-// A plate whose controls drift or differ at the edge: each significant coordinate with its
-// p and fitted change.
-void add_trend_warning(const std::string& plate, const PlateTrends& t, std::vector<std::string>& warnings) {
-  std::string found;
-  const std::pair<const char*, const Trend*> axes[] = {
-      {"row", &t.row}, {"column", &t.column}, {"position", &t.position}, {"edge", &t.edge}};
-  for (const auto& [name, trend] : axes)
-    if (trend->p < t.level)
-      found += fmt::format("{}{} (p = {:.2g}, {:+.1f} activity points {})", found.empty() ? "" : ", ", name, trend->p,
-                           trend->change_pct,
-                           std::string_view(name) == "edge" ? "at the edge" : "across the plate");
-  if (!found.empty())
-    warnings.push_back(fmt::format(
-        "{}: the controls' rates trend with {} (below --trend-level {}): an edge or drift effect may bias this "
-        "plate's % activity; see the trend_* columns of --plate-quality",
-        plate, found, t.level));
-}
-
-// Each plate and channel judged by its controls: a warning for one below --min-z-prime or
-// whose Z′ cannot be computed.
-void add_quality_warnings(const RunSettings& s, RatesOutputs& out) {
-  for (const auto& ra : out.analyses)
-    for (const auto& ca : ra.channels) {
-      const PlateQuality q = plate_quality(ca.controls.full, ca.controls.none, s.screen.min_z_prime);
-      const std::string plate = fmt::format("{}, channel {}", ra.run->source, ca.channel->name);
-      if (q.verdict == QualityVerdict::below)
-        out.warnings.push_back(fmt::format(
-            "{}: Z' = {:.3f} is below --min-z-prime {} (plate quality below-threshold): its controls overlap "
-            "too much for its % activity and hit calls to be trusted",
-            plate, q.z_prime, s.screen.min_z_prime));
-      else if (q.verdict == QualityVerdict::undetermined)
-        out.warnings.push_back(fmt::format(
-            "{}: Z' cannot be computed (unflagged full-activity wells {}, no-activity wells {}; two of each with "
-            "different means are needed): plate quality undetermined",
-            plate, ca.controls.full.n, ca.controls.none.n));
-      add_trend_warning(plate, channel_trends(ra, ca, s.screen.trend_level), out.warnings);
-    }
 }
 
 // After the analyses: channels left unconverted when method tables convert others, and
@@ -388,7 +350,8 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   // On the console only, after add_run_notes recorded the run's warnings: they are per plate,
   // so the parts of a merged run would differ (`vzero merge`); the plate-quality table
   // records each verdict.
-  if (screen.normalised) add_quality_warnings(s, out);
+  if (screen.normalised) detail::add_quality_warnings(s, out);
+  detail::add_blank_trend_warnings(s, out);
   const std::vector<PackagedTable> tables = package_tables(s, dir, with_activity, with_specific, screen, out);
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, out.provenance, out.analyses);
