@@ -12,6 +12,7 @@
 #include "bench/bench_files.hpp"
 #include "sim/plate_sim.hpp"
 #include "test_support.hpp"
+#include "vzero/table.hpp"
 
 namespace {
 
@@ -50,7 +51,7 @@ TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate")
   REQUIRE_MESSAGE(rates.status == 0, rates.describe());
   const std::string cmd =
       "progress rates.csv --traces traces.csv --x substrate --enzyme-levels enzyme --no-profile -q --json {} "
-      "--report {}";
+      "--report {} --stability st.csv";
   const auto r = run_vzero(fmt::format(fmt::runtime(cmd), "p.json", "p.html"), dir.path.string());
   REQUIRE_MESSAGE(r.status == 0, r.describe());
   const nlohmann::json j = nlohmann::json::parse(slurp(dir / "p.json"));
@@ -81,6 +82,17 @@ TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate")
     CHECK(s["unstable"] == false);
     CHECK(s["tested"] == true);  // the level far above the lowest left out, the rest tested
   }
+  // --stability: the same tests as a table, row by row.
+  const vzero::Table st = vzero::read_table(dir / "st.csv");
+  REQUIRE(st.rows.size() == g["stability"].size());
+  for (std::size_t k = 0; k < st.rows.size(); ++k) {
+    const auto& s = g["stability"][k];
+    CHECK(*st.number(k, st.column("s0")) == s["s0"].get<double>());
+    CHECK(*st.number(k, st.column("f")) == s["f"].get<double>());
+    CHECK(*st.number(k, st.column("p_value")) == s["p_value"].get<double>());
+    CHECK(st.rows[k][static_cast<std::size_t>(st.column("flag"))].empty());
+    CHECK(st.rows[k][static_cast<std::size_t>(st.column("tested"))] == "1");
+  }
   // The report: one panel per fitted well, each with the fitted curve; offline; deterministic.
   const std::string html = slurp(dir / "p.html");
   CHECK(count(html, "<figure class=\"chart-small\">") == g["wells"].size());
@@ -100,4 +112,34 @@ TEST_CASE("vzero progress: --enzyme and --enzyme-levels exclude each other") {
   const auto r = run_vzero("progress r.csv --traces t.csv --x s --enzyme e --enzyme-levels e", dir.path.string());
   CHECK(r.status == 2);
   CHECK(r.err.find("exclude each other") != std::string::npos);
+}
+
+TEST_CASE("vzero progress --kcat-per-min: kcat in 1/min is 60 × kcat in 1/s") {
+  using vzero::test::run_vzero;
+  vzero::test::TempDir dir;
+  const vzero::sim::PlateSpec spec = vzero::bench::spec_for(96, 30);
+  const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
+  vzero::bench::write_wide(dir / "plate.csv", plate);
+  vzero::bench::write_map(dir / "map0.csv", plate, spec);
+  // The enzyme column with its unit (nM), so that kcat reduces to a time unit.
+  std::string map = slurp(dir.path / "map0.csv");
+  map.replace(map.find(",enzyme\n"), 8, ",enzyme_nM\n");
+  vzero::test::spit(dir / "map.csv", map);
+  REQUIRE(run_vzero("rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 -o rates.csv --traces traces.csv -q",
+                    dir.path.string()).status == 0);
+  const std::string cmd = "progress rates.csv --traces traces.csv --x substrate --enzyme enzyme_nM --no-profile -q -o ";
+  REQUIRE(run_vzero(cmd + "s.csv", dir.path.string()).status == 0);
+  REQUIRE(run_vzero(cmd + "m.csv --kcat-per-min", dir.path.string()).status == 0);
+  const vzero::Table s = vzero::read_table(dir / "s.csv"), m = vzero::read_table(dir / "m.csv");
+  REQUIRE(s.rows.size() == m.rows.size());
+  int kcats = 0;
+  for (std::size_t k = 0; k < s.rows.size(); ++k) {
+    if (s.rows[k][static_cast<std::size_t>(s.column("parameter"))] != "kcat") continue;
+    ++kcats;
+    CHECK(s.rows[k][static_cast<std::size_t>(s.column("unit"))] == "1/s");
+    CHECK(m.rows[k][static_cast<std::size_t>(m.column("unit"))] == "1/min");
+    CHECK_REL(*m.number(k, m.column("estimate")), 60 * *s.number(k, s.column("estimate")), 1e-12);
+    CHECK_REL(*m.number(k, m.column("se")), 60 * *s.number(k, s.column("se")), 1e-12);
+  }
+  CHECK(kcats == 2);  // the progress fit's and the initial rates'
 }

@@ -147,6 +147,7 @@ struct ProgressTableOptions {
   std::string role = "sample";
   ProgressOptions fit;
   bool both_models = false;                 // also product inhibition, and the comparison
+  bool kcat_per_min = false;                // kcat in 1/min (default 1/s) when the units reduce
   std::string validate() const;
 };
 
@@ -163,6 +164,7 @@ struct ProgressGroup {
 
 struct ProgressTable {
   std::string conc_unit, rate_unit;  // e.g. "uM", "uM/min"
+  bool kcat_per_min = false;         // kcat reported in 1/min (ProgressTableOptions::kcat_per_min)
   std::vector<std::string> group_columns;
   std::vector<ProgressGroup> groups;
 };
@@ -187,6 +189,10 @@ std::string progress_json(const ProgressTable& t, const ProgressTableOptions& o,
                           const std::string& traces);
 // One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
 std::string progress_residuals_csv(const ProgressTable& t);
+// Selwyn's tests, one row per group and S0 (the names of progress_json's): group columns, s0,
+// enzyme_levels, tested, f, df1, df2, p_value, product_level (P*, the traces' unit), et_ratio, flag
+// (`enzyme-unstable` or empty), left_out (wells short of reads), verdict (in words).
+std::string progress_stability_csv(const ProgressTable& t);
 // Per group: both fits side by side, the wells left out and the model verdict.
 std::string progress_text(const ProgressTable& t, const std::string& enzyme_column = "");
 

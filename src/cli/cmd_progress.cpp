@@ -21,8 +21,8 @@ namespace {
 
 constexpr const char* k_usage = R"(usage: vzero progress RATES.csv --traces TRACES.csv --x COLUMN [--group COL,...]
                  [--enzyme COLUMN | --enzyme-levels COLUMN] [--lead fit|SECONDS] [--product-inhibition]
-                 [--x-factor F] [-o progress.csv] [--residuals FILE] [--json FILE]
-                 [--report FILE.html]
+                 [--x-factor F] [--kcat-per-min] [-o progress.csv] [--residuals FILE]
+                 [--stability FILE] [--json FILE] [--report FILE.html]
 
 Fits the integrated Michaelis–Menten equation to every read of every sample well of a
 substrate series at once (the closed form through the Lambert W function):
@@ -52,7 +52,8 @@ product; p < 0.01 with a ratio above 1.05 prints "[flag: enzyme-unstable]".
 Output: a table on stdout (not with -q); -o the tidy CSV (one row per group, method,
 model and parameter, each well's offset a row: estimate, SE, 95 % Wald-t and profile-t
 intervals, unit, n, df, RSS, residual SD, AIC); --residuals every read's fitted value and
-residual; --json the same fits as one JSON document (the shape of vzero fit --json, with
+residual; --stability Selwyn's tests, one row per S0 (F, df, p, the [E]·t ratio, the
+flag, the verdict); --json the same fits as one JSON document (the shape of vzero fit --json, with
 the model comparison, the initial-rate fit and the stability tests); --report a standalone
 HTML page drawing each well's reads and fitted curves. Exit status 0 when a progress fit
 succeeded, 1 when none did or the input is bad.
@@ -107,7 +108,7 @@ double package_x_factor(const std::string& rates_path, const std::string& x) {
 int cmd_progress(const Args& args) {
   namespace po = boost::program_options;
   std::string file, traces, x, enzyme, enzyme_levels, lead = "fit", x_factor, role = "sample", output, residuals;
-  std::string json, report;
+  std::string json, report, stability;
   std::vector<std::string> groups;
   ProgressTableOptions o;
   po::options_description opts(k_usage);
@@ -122,6 +123,8 @@ int cmd_progress(const Args& args) {
       "role", po::value(&role), "rows to use (default: sample)")(
       "output,o", po::value(&output), "write the tidy fit table here")(
       "residuals", po::value(&residuals), "write each read's fitted value and residual here")(
+      "stability", po::value(&stability), "write Selwyn's tests here, one row per S0 (with --enzyme or --enzyme-levels)")(
+      "kcat-per-min", "kcat in 1/min (default: 1/s) when the units reduce")(
       "json", po::value(&json), "write the fits as a JSON document here")(
       "report", po::value(&report), "write a standalone HTML page of the fits here")(
       "confidence", po::value(&o.fit.confidence), "level of the intervals (default: 0.95)")(
@@ -145,12 +148,16 @@ int cmd_progress(const Args& args) {
   o.fit.fit_lead = lead == "fit";
   if (!o.fit.fit_lead) o.fit.lead_s = number_option("--lead", lead);
   o.both_models = vm.count("product-inhibition") > 0;
+  o.kcat_per_min = vm.count("kcat-per-min") > 0;
+  if (!stability.empty() && o.enzyme_column.empty())
+    throw UsageError("--stability needs --enzyme or --enzyme-levels: Selwyn's test compares enzyme amounts");
   o.fit.profile = vm.count("no-profile") == 0;
   o.role = role;
   {
     std::vector<detail::NamedPath> outs;
     if (!output.empty()) outs.push_back({"-o", output});
     if (!residuals.empty()) outs.push_back({"--residuals", residuals});
+    if (!stability.empty()) outs.push_back({"--stability", stability});
     if (!json.empty()) outs.push_back({"--json", json});
     if (!report.empty()) outs.push_back({"--report", report});
     detail::check_outputs({{"the rates table", file}, {"--traces", traces}}, outs);
@@ -162,6 +169,7 @@ int cmd_progress(const Args& args) {
   const ProgressTable result = fit_progress_tables(rates_table, traces_table, o);
   if (!output.empty()) write_file_atomic(output, progress_csv(result, enzyme));
   if (!residuals.empty()) write_file_atomic(residuals, progress_residuals_csv(result));
+  if (!stability.empty()) write_file_atomic(stability, progress_stability_csv(result));
   if (!json.empty()) write_file_atomic(json, progress_json(result, o, file, traces));
   if (!report.empty()) write_file_atomic(report, progress_report_html(result, o, file, traces));
   if (vm.count("quiet") == 0) print_out(progress_text(result, enzyme));

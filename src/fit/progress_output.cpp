@@ -26,7 +26,7 @@ void header(detail::CsvOut& o, const std::vector<std::string>& groups, std::init
 // kcat's unit and factor: 1/s when the traces' and the enzyme column's units are molar
 // (fit/turnover_units.hpp), else the fitted per-min-per-enzyme-unit with the reason.
 detail::TurnoverUnits kcat_units(const ProgressTable& t, const std::string& enzyme_unit) {
-  return detail::turnover_units(t.rate_unit, enzyme_unit, t.conc_unit, false);
+  return detail::turnover_units(t.rate_unit, enzyme_unit, t.conc_unit, t.kcat_per_min);
 }
 
 // An estimate in the unit unit_of gives it (kcat reduced; the others as fitted).
@@ -139,6 +139,32 @@ std::string progress_residuals_csv(const ProgressTable& t) {
       }
     }
   }
+  return o.str();
+}
+
+std::string progress_stability_csv(const ProgressTable& t) {
+  detail::CsvOut o;
+  header(o, t.group_columns,
+         {"s0", "enzyme_levels", "tested", "f", "df1", "df2", "p_value", "product_level", "et_ratio", "flag", "left_out",
+          "verdict"});
+  for (const auto& g : t.groups)
+    for (const StabilityTest& s : g.stability) {
+      for (const auto& v : g.group_values) o.field(v), o.separator();
+      o.number(s.s0), o.separator();
+      o.number(static_cast<double>(s.levels.size())), o.separator();
+      o.field(s.tested ? "1" : "0"), o.separator();
+      o.number(s.f), o.separator();
+      o.number(static_cast<double>(s.df1)), o.separator();
+      o.number(static_cast<double>(s.df2)), o.separator();
+      o.number(s.p_value), o.separator();
+      o.number(s.product_level), o.separator();
+      o.number(s.et_ratio), o.separator();
+      o.field(s.unstable ? "enzyme-unstable" : ""), o.separator();
+      std::string left;
+      for (const auto& l : s.left_out) left += (left.empty() ? "" : "; ") + l;
+      o.field(left), o.separator();
+      o.field(s.verdict), o.end_row();
+    }
   return o.str();
 }
 

@@ -194,6 +194,7 @@ ProgressTable fit_progress_tables(const Table& rates, const Table& traces, const
   if (auto why = o.validate(); !why.empty()) throw UsageError("ProgressTableOptions: " + why);
   ProgressTable out;
   out.group_columns = o.group_columns;
+  out.kcat_per_min = o.kcat_per_min;
   std::map<std::vector<std::string>, std::vector<std::string>> left_out;
   std::vector<Candidate> cands = candidates(rates, o, left_out);
   if (cands.empty())

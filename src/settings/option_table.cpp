@@ -26,7 +26,8 @@ void add_input_options(std::vector<OptionSpec>& t) {
       "plate-map column with the substrate concentration (default: `substrate`, unit in the header or conc-unit)"));
   t.push_back(text(
       "match-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.match_column; },
-      "plate-map column pairing blanks with samples for --blank matched (default: `match`)"));
+      "plate-map column pairing blanks with samples for --blank matched (default: `match`; the substrate column "
+      "pairs them by substrate level)"));
   t.push_back(text(
       "compound-column", 0, k_io, OptionRole::analysis, "", [](S& s) { return &s.map_columns.compound_column; },
       "screens: plate-map column naming each sample's compound (default: `compound`)"));
