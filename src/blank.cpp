@@ -189,6 +189,17 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
   return bw;
 }
 
+// The mean plate-map substrate of the blanks `use` (NaN when one has none).
+double mean_substrate(const Channel& c, const PlateMap& map, PlateFormat f, const std::vector<int>& use) {
+  double sum = 0;
+  for (int b : use) {
+    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
+    if (!bi || !std::isfinite(bi->substrate)) return NAN;
+    sum += bi->substrate;
+  }
+  return use.empty() ? NAN : sum / static_cast<double>(use.size());
+}
+
 // What a set of blanks gives every well that uses it (a plate blank serves every well).
 struct SharedBlank {
   Eigen::VectorXd mean;
@@ -198,10 +209,11 @@ struct SharedBlank {
   bool noisy = false;     // one of them is blank-noisy
   bool line = false;      // one of them had a disturbed start: its line stands in
   double rate = NAN;      // slope of the mean trace
+  double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
 };
 
-SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o, const BlankWells& bw,
-                         const std::vector<int>& use) {
+SharedBlank shared_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o,
+                         const BlankWells& bw, const std::vector<int>& use) {
   const Eigen::Index reads = c.values.rows();
   SharedBlank sb;
   double var = 0;
@@ -238,6 +250,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   }
   for (int b : use) sb.line |= bw.disturbed.count(b) > 0;
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
+  sb.substrate = mean_substrate(c, map, f, use);
   return sb;
 }
 
@@ -274,18 +287,10 @@ BlankSubstrateTrend substrate_trend(const Channel& c, const PlateMap& map, Plate
   return tr;
 }
 
-// How far the blanks `use` subtract from the trend's rate at the well's substrate.
-double substrate_mismatch(const Channel& c, const PlateMap& map, PlateFormat f, const BlankSubstrateTrend& tr,
-                          const WellInfo* info, const std::vector<int>& use) {
-  if (!tr.significant || !info || !std::isfinite(info->substrate) || use.empty()) return NAN;
-  double mean_s = 0;
-  for (int b : use) {
-    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
-    if (!bi || !std::isfinite(bi->substrate)) return NAN;
-    mean_s += bi->substrate;
-  }
-  mean_s /= static_cast<double>(use.size());
-  return tr.slope * (info->substrate - mean_s);
+// How far blanks at mean substrate `blank_s` subtract from the trend's rate at the well's.
+double substrate_mismatch(const BlankSubstrateTrend& tr, const WellInfo* info, double blank_s) {
+  if (!tr.significant || !info || !std::isfinite(info->substrate) || !std::isfinite(blank_s)) return NAN;
+  return tr.slope * (info->substrate - blank_s);
 }
 
 // Column j's reads minus the mean blank, read by read (NaN where the blank has no value).
@@ -337,7 +342,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     // only a set of disturbed blanks subtracts their lines.
     const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed.count(b) > 0; });
     auto it = cache.find(use);
-    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, f, o, bw, use)).first;
+    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, map, f, o, bw, use)).first;
     const SharedBlank& sb = it->second;
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
@@ -346,7 +351,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;
-    wb.substrate_mismatch = substrate_mismatch(c, map, f, r.substrate_trend, info, use);
+    wb.substrate_mismatch = substrate_mismatch(r.substrate_trend, info, sb.substrate);
     r.substrate_trend.mismatched += std::isfinite(wb.substrate_mismatch) && wb.substrate_mismatch != 0;
     if (o.mode == BlankMode::trace) subtract(c, sb, j, r);
   }
