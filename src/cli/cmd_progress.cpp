@@ -34,7 +34,8 @@ default, as ignoring it biases Km; --lead SECONDS fixes it). RATES.csv and TRACE
 the rates table and the --traces table of one `vzero rates` run with a concentration
 conversion; S0 is the --x column of the plate map.
 
-Reads used: every ok read of a well; only the reads the rate finder trusted (used = 1) in
+Reads used: every ok read of a well from the start of its automatic window (reads before it
+were set aside by the rate finder); only the reads the rate finder trusted (used = 1) in
 wells noted for outliers, overflow, a disturbed start, a lag or the signal ceiling, or
 flagged rising; none of wells flagged saturated, ceiling, too-few-reads, blank-missing,
 no-path, negative or outside-standards (the console lists them).

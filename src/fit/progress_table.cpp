@@ -51,6 +51,7 @@ struct Candidate {
   double v0 = NAN;
   bool rate_clean = false;  // empty flags: the initial-rate fit uses it
   int reads_seen = 0;       // reads of the well kept from the traces
+  double start_s = -INFINITY;  // the rate finder's window start: reads before it were set aside
 };
 
 std::string cell(const Table& t, std::size_t row, int col) { return col < 0 ? std::string() : t.rows[row][static_cast<std::size_t>(col)]; }
@@ -80,6 +81,11 @@ std::vector<Candidate> candidates(const Table& rates, const ProgressTableOptions
     const auto flags = words(cell(rates, r, c_flags)), notes = words(cell(rates, r, c_notes));
     c.rate_clean = flags.empty();
     if (c_v0 >= 0) c.v0 = rates.number(r, c_v0).value_or(NAN);
+    // With the automatic window, reads before its start were set aside by the rate finder (a
+    // disturbed or spike-screened first read, a lag): they are not the curve's either.
+    const int c_start = rates.column("t_start_s"), c_window = rates.column("window");
+    if (c_start >= 0 && c_window >= 0 && cell(rates, r, c_window) == "auto")
+      c.start_s = rates.number(r, c_start).value_or(-INFINITY);
     std::string why;
     for (const auto& f : flags)
       if (k_leave_out.count(f)) why = f;
@@ -117,7 +123,8 @@ void read_traces(const Table& rates, const Table& traces, std::vector<Candidate>
     if (it == index.end() || cell(traces, r, cst) != "ok") continue;
     Candidate& c = cands[it->second];
     const auto p = traces.number(r, cp);
-    if (c.trusted_only && cell(traces, r, cu) != "1") {  // not fitted; drawn apart in the report
+    const double t_read = traces.number(r, ct).value_or(NAN);
+    if ((c.trusted_only && cell(traces, r, cu) != "1") || t_read < c.start_s) {  // not fitted; drawn apart
       if (p) c.well.t_left_s.push_back(traces.number(r, ct).value_or(NAN)), c.well.p_left.push_back(*p);
       continue;
     }
