@@ -142,7 +142,8 @@ std::string render_fits(const PageData& m, const ReportInput& input);
 std::string render_fit(const PageData& m, const FitView& fit, const ReportInput& input);
 std::string page_css();
 
-// What each flag word means, in the report's words; "" for an unknown flag.
+// What each flag word means, as HTML (escaped; option names in a span.opt kept on one line);
+// "" for an unknown flag.
 std::string flag_meaning(const std::string& flag);
 
 }  // namespace vzero::detail::report

@@ -84,13 +84,22 @@ std::string export_metadata(const json& prov) {
 }  // namespace
 
 std::string flag_meaning(const std::string& flag) {
-  // The one table of flag and note words (include/vzero/flags.hpp), without its Markdown.
+  // The one table of flag and note words (include/vzero/flags.hpp), as HTML: its `code`
+  // spans (options such as --max-conversion) kept whole on one line.
   const MarkInfo* m = find_mark(flag, MarkKind::flag);
   if (!m) m = find_mark(flag, MarkKind::note);
   std::string out;
-  if (m)
-    for (char c : m->meaning)
-      if (c != '`') out += c;
+  if (!m) return out;
+  const std::string_view text = m->meaning;
+  bool code = false;
+  for (std::size_t a = 0; a < text.size();) {
+    const std::size_t b = std::min(text.find('`', a), text.size());
+    out += escape(std::string(text.substr(a, b - a)));
+    if (b < text.size()) out += code ? "</span>" : "<span class=\"opt\">";
+    if (b < text.size()) code = !code;
+    a = b + 1;
+  }
+  if (code) out += "</span>";
   return out;
 }
 
@@ -174,7 +183,7 @@ std::string render_flags(const PageData& m) {
     std::string meaning = flag_meaning(f);
     h += fmt::format(
         "<tr><td class=\"flag\">{}</td><td class=\"num\">{}</td><td>{}</td><td class=\"which\">{}</td></tr>", escape(f),
-        list.size(), meaning.empty() ? "\u2013" : escape(meaning), which);
+        list.size(), meaning.empty() ? "\u2013" : meaning, which);
   }
   return h + "</tbody></table>\n</section>\n";
 }

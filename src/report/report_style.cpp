@@ -30,6 +30,7 @@ th{background:#f1f4f6;font-weight:600}
 td.num,th.num{text-align:right;white-space:nowrap}
 td.hash{font-family:"DejaVu Sans Mono","Liberation Mono",monospace;font-size:.74rem;word-break:break-all}
 td.flag{font-weight:600;white-space:nowrap}
+span.opt{white-space:nowrap}
 td.which{font-size:.8rem}
 td.which a{margin-right:1px}
 ul.notes{font-size:.88rem;color:#434b55}
