@@ -118,7 +118,7 @@ ordered_json standard_curve_json(const StandardCurve& sc) {
 // What a later step needs of one channel, stated rather than worked back from the tables: the
 // plate, the reaction direction and the conversion factor (per well only when the path varies;
 // each well's path is then rates.csv's path_cm).
-ordered_json channel_json(const RunAnalysis& ra, const ChannelAnalysis& ca) {
+ordered_json channel_json(const RunAnalysis& ra, const ChannelAnalysis& ca, const std::string& conc_unit) {
   ordered_json c;
   c["source"] = ra.run->source;
   c["channel"] = ca.channel->name;
@@ -140,6 +140,19 @@ ordered_json channel_json(const RunAnalysis& ra, const ChannelAnalysis& ca) {
   else
     c["conc_per_signal"] = "per well: 1/(epsilon × path_cm)";
   if (ca.conversion.curve) c["standard_curve"] = standard_curve_json(*ca.conversion.curve);
+  // The blank wells' rates against their substrate, when 3 or more blanks at 2 or more levels
+  // allowed the test (blank.hpp BlankSubstrateTrend); t is left out for an exact line.
+  if (const BlankSubstrateTrend& tr = ca.blank.substrate_trend; std::isfinite(tr.slope)) {
+    ordered_json t;
+    t["slope"] = tr.slope * 60;
+    t["unit"] = ca.slope_unit + " per " + conc_unit;
+    if (std::isfinite(tr.t)) t["t"] = tr.t;
+    t["blanks"] = tr.blanks;
+    t["levels"] = tr.levels;
+    t["significant"] = tr.significant;
+    t["wells_at_other_levels"] = tr.mismatched;
+    c["blank_substrate_trend"] = t;
+  }
   return c;
 }
 }  // namespace
@@ -164,9 +177,12 @@ std::string datapackage_json(const std::vector<PackagedTable>& tables, const Pro
   prov["map_columns"] = p.map_columns;
   prov["map_column_uses"] = map_uses_json(p);
   if (!p.warnings.empty()) prov["warnings"] = p.warnings;
+  std::string conc_unit = "uM";  // the plate map's substrate unit (the library default when unrecorded)
+  for (const auto& [k, v] : p.options)
+    if (k == "conc-unit") conc_unit = v;
   ordered_json conv = ordered_json::array();
   for (const auto& ra : runs)
-    for (const auto& ca : ra.channels) conv.push_back(channel_json(ra, ca));
+    for (const auto& ca : ra.channels) conv.push_back(channel_json(ra, ca, conc_unit));
   prov["channels"] = conv;
   pkg["vzero"] = prov;
   return pkg.dump(2) + "\n";
