@@ -216,7 +216,8 @@ TEST_CASE("vzero rates flags blank-substrate and warns; matched by substrate it 
   test::TempDir dir;
   test::spit(dir / "plate.csv", trend_plate());
   test::spit(dir / "map.csv", k_trend_map);
-  const auto plate = test::run_vzero("rates plate.csv --layout map.csv --signal-only -o rates.csv", dir.path.string());
+  const auto plate =
+      test::run_vzero("rates plate.csv --layout map.csv --signal-only -o rates.csv --report report.html", dir.path.string());
   INFO(plate.describe());
   REQUIRE(plate.status == 0);
   CHECK(plate.err.find("the blank wells' rates change with their substrate (+6e-05 signal/min per uM") != std::string::npos);
@@ -227,6 +228,10 @@ TEST_CASE("vzero rates flags blank-substrate and warns; matched by substrate it 
   for (std::size_t at = rates.find("blank-substrate"); at != std::string::npos; at = rates.find("blank-substrate", at + 1))
     ++flagged;
   CHECK(flagged == 2);
+  // The report says it above the flag table, from datapackage.json's blank_substrate_trend.
+  CHECK(test::slurp(dir / "report.html")
+            .find("plate.csv, channel signal: the blank wells' rates change with their substrate (4 blanks at 4 "
+                  "levels) and 2 wells subtract blanks of other levels") != std::string::npos);
   const auto matched = test::run_vzero(
       "rates plate.csv --layout map.csv --signal-only --blank matched --match-column substrate -o rates.csv",
       dir.path.string());

@@ -155,6 +155,32 @@ std::string render_header(const PageData& m, const ReportOptions& o) {
   return h;
 }
 
+namespace {
+
+// Channels whose samples subtract blanks of other substrate levels while the blanks' rates
+// change with substrate (datapackage.json `blank_substrate_trend`): a bias of every such
+// sample, flagged only where it passes 5 % of the rate.
+std::string blank_trend_notes(const json& prov) {
+  std::string h;
+  for (const auto& ch : member(prov, "channels")) {
+    const json& tr = member(ch, "blank_substrate_trend");
+    if (!tr.is_object() || !member(tr, "significant").is_boolean() || !member(tr, "significant").get<bool>()) continue;
+    const json& other = member(tr, "wells_at_other_levels");
+    if (!other.is_number_integer() || other.get<long long>() == 0) continue;
+    h += fmt::format(
+        "<p class=\"note warn\">{}, channel {}: the blank wells' rates change with their substrate ({} blanks at {} "
+        "levels) and {} wells subtract blanks of other levels, so their rates carry part of that trend and a Km fitted "
+        "to them is biased (flag <span class=\"opt\">blank-substrate</span> where it passes 5 % of a rate). Subtract blanks "
+        "per level: "
+        "<span class=\"opt\">--blank matched --match-column substrate</span>.</p>\n",
+        escape(text_of(member(ch, "source"))), escape(text_of(member(ch, "channel"))), text_of(member(tr, "blanks")),
+        text_of(member(tr, "levels")), other.get<long long>());
+  }
+  return h;
+}
+
+}  // namespace
+
 std::string render_flags(const PageData& m) {
   std::map<std::string, std::vector<std::pair<std::string, std::string>>> wells;  // flag → (anchor, label)
   std::size_t total = 0, clean = 0;
@@ -170,6 +196,7 @@ std::string render_flags(const PageData& m) {
                    [&](const std::string& a, const std::string& b) { return wells[a].size() > wells[b].size(); });
   std::string h = "<section id=\"flags\">\n<h2>Flags</h2>\n";
   h += fmt::format("<p class=\"lede\">{} well rows; {} without any flag.</p>\n", total, clean);
+  h += blank_trend_notes(member(m.package, "vzero"));
   if (order.empty()) return h + "</section>\n";
   h += "<table class=\"flags\"><thead><tr><th>flag</th><th class=\"num\">wells</th><th>meaning</th><th>which</th></tr>"
        "</thead><tbody>";
