@@ -38,7 +38,7 @@ Reads used: every ok read of a well from the start of its automatic window (read
 were set aside by the rate finder); only the reads the rate finder trusted (used = 1) in
 wells noted for outliers, overflow, a disturbed start, a lag or the signal ceiling, or
 flagged rising; none of wells flagged saturated, ceiling, too-few-reads, blank-missing,
-no-path, negative or outside-standards (the console lists them).
+blank-substrate, no-path, negative or outside-standards (the console lists them).
 
 Beside it, the same group's unflagged initial rates fitted to Michaelis–Menten, as
 vzero fit does. --product-inhibition also fits competitive product inhibition (Kp, its

@@ -23,11 +23,12 @@ std::string ProgressTableOptions::validate() const {
 
 namespace {
 
-// Flags whose wells the fit cannot use at all, and words (flags or notes) after which only
-// the reads the rate finder trusted (`used` = 1) enter: a rate law explains neither spikes,
-// overflowing or compressed reads, disturbed starts nor lags.
-const std::set<std::string> k_leave_out = {"saturated",   "ceiling", "too-few-reads",    "blank-missing",
-                                           "no-path",     "negative", "outside-standards"};
+// Flags whose wells the fit cannot use at all (blank-substrate: a wrong blank bends every
+// read of the curve), and words (flags or notes) after which only the reads the rate finder
+// trusted (`used` = 1) enter: a rate law explains neither spikes, overflowing or compressed
+// reads, disturbed starts nor lags.
+const std::set<std::string> k_leave_out = {"saturated", "ceiling",  "too-few-reads",     "blank-missing",
+                                           "no-path",   "negative", "outside-standards", "blank-substrate"};
 const std::set<std::string> k_trusted_only_notes = {"outliers", "overflow", "disturbed", "lag", "ceiling"};
 const std::set<std::string> k_trusted_only_flags = {"rising"};
 
