@@ -191,8 +191,10 @@ struct Search {
   double sd_floor, t_ref, baseline, limit_signal;
   CriticalT& t_crit;
 
-  // The candidate [s, e) of the screened reads as the rules see it.
-  WindowCandidate candidate(int s, int e) const {
+  // The candidate [s, e) of the screened reads as the rules see it. The rest_* fields (the
+  // window without its first read) are filled when `with_rest` is true; the built-in curvature
+  // rule reads them only after the whole window's bend was significant (bend_matters).
+  WindowCandidate candidate(int s, int e, bool with_rest = true) const {
     WindowCandidate c;
     const WindowTest wt = stats.test(s, e, sd_floor, t_ref);
     c.n = wt.n;
@@ -203,7 +205,7 @@ struct Search {
     c.curvature_se = wt.curvature_se;
     c.drift = wt.drift;
     c.critical_t = t_crit(wt.n - 3);
-    if (e - s - 1 >= 2) {
+    if (with_rest && e - s - 1 >= 2) {
       const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
       c.rest_n = rest.n;
       c.rest_slope = rest.slope;
@@ -234,6 +236,7 @@ struct Growth {
 Growth grow_window(const Search& q, int s, int s0, int lag_max, const std::string& run_out) {
   const RateOptions& opt = q.opt;
   const std::vector<WindowRule>& rules = opt.window_rules ? *opt.window_rules : default_window_rules();
+  const bool custom_rules = opt.window_rules != nullptr;
   struct Count {
     int fails = 0, sign = 0, first_fail = -1;
   };
@@ -245,7 +248,12 @@ Growth grow_window(const Search& q, int s, int s0, int lag_max, const std::strin
       g.end = run_out;
       break;
     }
-    const WindowCandidate c = q.candidate(s, e);
+    // With the built-in rules the window without its first read matters only once the whole
+    // window bends significantly (curvature_rule): it is measured then, not for every candidate.
+    WindowCandidate c = q.candidate(s, e, custom_rules);
+    if (!custom_rules && opt.linearity_alpha > 0 &&
+        significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, opt))
+      c = q.candidate(s, e);
     bool pass = true, moved = false;
     for (std::size_t k = 0; k < rules.size() && g.end.empty() && !moved; ++k) {
       const int verdict = rules[k].judge(c, opt);
@@ -306,7 +314,7 @@ void finish_window(WindowChoice& w, const Search& q, const Growth& g, double ram
     // A window whose rate still rises (a lag not over by its end, often because another
     // rule ended it early) underestimates v0: significant upward bend, as the curvature rule
     // judges it.
-    const WindowCandidate c = q.candidate(s, g.accepted);
+    const WindowCandidate c = q.candidate(s, g.accepted, false);  // the whole window's bend only
     w.rising = q.opt.linearity_alpha > 0 && c.curvature > 0 &&
                significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, q.opt);
     // ... or whose reads after it climb faster than it does.
