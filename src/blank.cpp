@@ -137,6 +137,7 @@ struct BlankWells {
   std::vector<int> all;             // channel columns of the blank wells
   std::map<int, LineFit> line;      // each blank's line (its rate, its scatter)
   std::map<int, LineFit> disturbed; // blanks with a disturbed start: their line after it
+  std::map<int, double> substrate;  // each blank's plate-map substrate (NaN when not given)
   double median_sd = NAN;           // median scatter of the blanks (3 or more)
   double rate_sd = NAN;             // within_set_rate_sd of their rates
 };
@@ -145,7 +146,10 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
   BlankWells bw;
   for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
     const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
-    if (info && info->role == Role::blank) bw.all.push_back(static_cast<int>(j));
+    if (info && info->role == Role::blank) {
+      bw.all.push_back(static_cast<int>(j));
+      bw.substrate[static_cast<int>(j)] = info->substrate;
+    }
   }
   std::vector<double> sds;
   for (int b : bw.all) {
@@ -190,13 +194,9 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
 }
 
 // The mean plate-map substrate of the blanks `use` (NaN when one has none).
-double mean_substrate(const Channel& c, const PlateMap& map, PlateFormat f, const std::vector<int>& use) {
+double mean_substrate(const BlankWells& bw, const std::vector<int>& use) {
   double sum = 0;
-  for (int b : use) {
-    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
-    if (!bi || !std::isfinite(bi->substrate)) return NAN;
-    sum += bi->substrate;
-  }
+  for (int b : use) sum += bw.substrate.at(b);
   return use.empty() ? NAN : sum / static_cast<double>(use.size());
 }
 
@@ -212,8 +212,8 @@ struct SharedBlank {
   double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
 };
 
-SharedBlank shared_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o,
-                         const BlankWells& bw, const std::vector<int>& use) {
+SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o, const BlankWells& bw,
+                         const std::vector<int>& use) {
   const Eigen::Index reads = c.values.rows();
   SharedBlank sb;
   double var = 0;
@@ -250,7 +250,7 @@ SharedBlank shared_blank(const Channel& c, const PlateMap& map, PlateFormat f, c
   }
   for (int b : use) sb.line |= bw.disturbed.count(b) > 0;
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
-  sb.substrate = mean_substrate(c, map, f, use);
+  sb.substrate = mean_substrate(bw, use);
   return sb;
 }
 
@@ -264,14 +264,13 @@ void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& 
 }
 
 // The blank wells' own rates against their substrate (BlankSubstrateTrend).
-BlankSubstrateTrend substrate_trend(const Channel& c, const PlateMap& map, PlateFormat f, const BlankWells& bw) {
+BlankSubstrateTrend substrate_trend(const BlankWells& bw) {
   BlankSubstrateTrend tr;
   std::vector<double> s, rate;
   for (int b : bw.all) {
-    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
-    const double slope = bw.line.at(b).slope;
-    if (!bi || !std::isfinite(bi->substrate) || !std::isfinite(slope)) continue;
-    s.push_back(bi->substrate);
+    const double substrate = bw.substrate.at(b), slope = bw.line.at(b).slope;
+    if (!std::isfinite(substrate) || !std::isfinite(slope)) continue;
+    s.push_back(substrate);
     rate.push_back(slope);
   }
   tr.blanks = static_cast<int>(s.size());
@@ -319,7 +318,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
   r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
   const BlankWells bw = judge_blank_wells(c, map, f, o);
-  r.substrate_trend = substrate_trend(c, map, f, bw);
+  r.substrate_trend = substrate_trend(bw);
   for (const auto& [b, l] : bw.disturbed) {
     r.line_slope[static_cast<std::size_t>(b)] = l.slope;
     r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
@@ -342,7 +341,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     // only a set of disturbed blanks subtracts their lines.
     const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed.count(b) > 0; });
     auto it = cache.find(use);
-    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, map, f, o, bw, use)).first;
+    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, f, o, bw, use)).first;
     const SharedBlank& sb = it->second;
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");

@@ -22,6 +22,7 @@
 // parser puts it in the SVG namespace) and the report holds no URL at all.
 #pragma once
 
+#include <cstddef>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -75,6 +76,12 @@ struct Point {
 
 // Marker shapes (drawn as strokes so that one <path> holds many markers).
 enum class Marker { dot, circle, square, diamond, triangle, cross, plus };
+
+// The k-th series of a chart (inhibitor or enzyme levels): a colour of the Okabe–Ito palette
+// (colour-blind safe; cycles after 7) and a marker shape (cycles after 6), so that series
+// differ in more than colour.
+const char* series_colour(std::size_t k);
+Marker series_marker(std::size_t k);
 
 // An attribute list appended to an element; values are escaped.
 struct Attr {

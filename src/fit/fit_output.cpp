@@ -5,6 +5,7 @@
 #include <nlohmann/json.hpp>
 
 #include "core/columns.hpp"
+#include "fit/estimate_json.hpp"
 #include "vzero/fit.hpp"
 
 namespace vzero {
@@ -156,14 +157,7 @@ constexpr detail::ColumnEntry<DiagnosticRowRef, TableFit> k_diagnostic_columns[]
 
 std::string g6(double x) { return std::isnan(x) ? "-" : fmt::format("{:.6g}", x); }
 
-nlohmann::json estimate_json(const ParameterEstimate& e, const std::string& unit) {
-  return {{"name", e.name},
-          {"estimate", e.estimate},
-          {"se", e.se},
-          {"wald", {e.ci_low, e.ci_high}},
-          {"profile", {e.profile_low, e.profile_high}},
-          {"unit", unit}};
-}
+using detail::estimate_json;
 
 nlohmann::json matrix_json(const Eigen::MatrixXd& m) {
   nlohmann::json rows = nlohmann::json::array();

@@ -1,6 +1,7 @@
 // The progress-curve fit as JSON, in the shape of `vzero fit --json`.
 #include <nlohmann/json.hpp>
 
+#include "fit/estimate_json.hpp"
 #include "vzero/progress.hpp"
 
 namespace vzero {
@@ -10,14 +11,7 @@ namespace {
 constexpr const char* k_aic_formula =
     "AIC = n*(ln(2*pi) + 1 - ln(n) + ln(RSS)) + 2*(p + 1) (Gaussian log-likelihood, unit weights, as R's AIC for nls)";
 
-nlohmann::json estimate_json(const ParameterEstimate& e, const std::string& unit) {
-  return {{"name", e.name},
-          {"estimate", e.estimate},
-          {"se", e.se},
-          {"wald", {e.ci_low, e.ci_high}},
-          {"profile", {e.profile_low, e.profile_high}},
-          {"unit", unit}};
-}
+using detail::estimate_json;
 
 nlohmann::json progress_fit_json(const ProgressTable& t, const ProgressFit& f, const ProgressTableOptions& o) {
   nlohmann::json j;

@@ -71,11 +71,11 @@ void add_blank_trend_warnings(const RunSettings& s, RatesOutputs& out) {
       const double median = pct[pct.size() / 2], top = *std::max_element(pct.begin(), pct.end());
       flagged_all += flagged;
       lines.push_back(fmt::format(
-          "{}, channel {}: the blank wells' rates change with their substrate ({:+.3g} {}/min per {}, t = {:.3g}; "
+          "{}, channel {}: the blank wells' rates change with their substrate ({:+.3g} {} per {}, t = {:.3g}; "
           "{} blanks at {} levels) and samples subtract blanks of other levels: that shifts their rates by "
           "{:.1f} % at the median, up to {:.0f} % ({} flagged blank-substrate above 5 %), and biases a Km fitted to "
           "them; subtract blanks per level: --blank matched --match-column substrate",
-          ra.run->source, ca.channel->name, tr.slope * 60, ca.channel->unit.empty() ? "signal" : ca.channel->unit,
+          ra.run->source, ca.channel->name, tr.slope * 60, ca.slope_unit,
           s.analysis.convert.conc_unit, tr.t, tr.blanks, tr.levels, median, top, flagged));
     }
   const std::size_t shown = lines.size() > 3 ? 2 : lines.size();

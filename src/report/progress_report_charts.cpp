@@ -14,16 +14,6 @@ namespace {
 
 using svg::human;
 
-const char* level_colour(std::size_t k) {
-  static const char* order[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000"};
-  return order[k % 7];
-}
-svg::Marker level_marker(std::size_t k) {
-  static const svg::Marker order[] = {svg::Marker::circle,   svg::Marker::square, svg::Marker::diamond,
-                                      svg::Marker::triangle, svg::Marker::plus,   svg::Marker::cross};
-  return order[k % 6];
-}
-
 // The lower and upper finite values of several series.
 std::pair<double, double> range_of(std::initializer_list<const std::vector<double>*> series) {
   double lo = INFINITY, hi = -INFINITY;
@@ -105,9 +95,9 @@ std::string stability_chart(const ProgressTable& t, const ProgressGroup& g, cons
   if (std::isfinite(s.u_common)) c.vband(0, s.u_common, "window-ext");
   c.axes("[E]·t (enzyme unit × min)", "product − intercept (" + display_unit(t.conc_unit) + ")");
   for (std::size_t k = 0; k < s.levels.size(); ++k) {
-    c.markers(us[k], ps[k], level_marker(k), 2.4, "pt", {{"stroke", level_colour(k)}});
+    c.markers(us[k], ps[k], svg::series_marker(k), 2.4, "pt", {{"stroke", svg::series_colour(k)}});
     const double y = 200 - 14 * static_cast<double>(s.levels.size() - k);  // bottom right
-    d.markers({{350, y - 3.5}}, level_marker(k), 3.2, "legend-pt", {{"stroke", level_colour(k)}});
+    d.markers({{350, y - 3.5}}, svg::series_marker(k), 3.2, "legend-pt", {{"stroke", svg::series_colour(k)}});
     d.text(358, y, "E = " + human(s.levels[k].enzyme), "key");
   }
   const std::string label = fmt::format("product against enzyme × time at S0 = {}", human(s.s0));

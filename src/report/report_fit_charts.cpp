@@ -33,18 +33,6 @@ std::size_t level_index(const std::vector<double>& levels, double inhibitor) {
 
 namespace {
 
-// Okabe–Ito colours in the order used for inhibitor levels, and a shape per level so
-// that the levels differ in more than colour.
-const char* level_colour(std::size_t k) {
-  static const char* order[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000"};
-  return order[k % 7];
-}
-svg::Marker level_marker(std::size_t k) {
-  static const svg::Marker order[] = {svg::Marker::circle,   svg::Marker::square, svg::Marker::diamond,
-                                      svg::Marker::triangle, svg::Marker::plus,   svg::Marker::cross};
-  return order[k % 6];
-}
-
 std::string level_label(const std::string& column, double level, const std::string& unit) {
   return fmt::format("{} = {}{}", column.empty() ? "I" : column, human(level), unit.empty() ? "" : " " + unit);
 }
@@ -54,7 +42,7 @@ void legend(svg::Document& d, const std::vector<double>& levels, const svg::Box&
   if (levels.size() < 2) return;
   for (std::size_t k = 0; k < levels.size(); ++k) {
     const double y = a.y + 12 + 14 * static_cast<double>(k);
-    d.markers({{a.x + 12, y - 3.5}}, level_marker(k), 3.2, "legend-pt", {{"stroke", level_colour(k)}});
+    d.markers({{a.x + 12, y - 3.5}}, svg::series_marker(k), 3.2, "legend-pt", {{"stroke", svg::series_colour(k)}});
     d.text(a.x + 20, y, level_label(column, levels[k], unit), "key");
   }
 }
@@ -121,15 +109,15 @@ std::string chart_rate(const FitPlot& fp) {
   svg::Document d(480, 330);
   svg::Chart c(d, {70, 12, 390, 262}, fp.tx, svg::nice_ticks(0, v_max * 1.04, 6));
   c.axes("substrate S (" + fp.xu + ")", "v (" + fp.vu + ")");
-  for (std::size_t l = 0; l < L; ++l) c.band(xs, lo[l], hi[l], "ci-band", {{"fill", level_colour(l)}});
-  for (std::size_t l = 0; l < L; ++l) c.polyline(xs, mid[l], "fit-curve", {{"stroke", level_colour(l)}});
+  for (std::size_t l = 0; l < L; ++l) c.band(xs, lo[l], hi[l], "ci-band", {{"fill", svg::series_colour(l)}});
+  for (std::size_t l = 0; l < L; ++l) c.polyline(xs, mid[l], "fit-curve", {{"stroke", svg::series_colour(l)}});
   left_out_markers(
       c, fp, [](const Obs& p) { return p.s; }, [](const Obs& p, const FitPlot&) { return p.v; });
   for (std::size_t l = 0; l < L; ++l) {
     std::vector<double> sx, vy;
     for (const auto& p : fp.pts.used)
       if (fp.level_of(p) == l) sx.push_back(p.s), vy.push_back(p.v);
-    c.markers(sx, vy, level_marker(l), 3, "pt", {{"stroke", level_colour(l)}});
+    c.markers(sx, vy, svg::series_marker(l), 3, "pt", {{"stroke", svg::series_colour(l)}});
   }
   legend(d, fp.levels,
          {c.x(fp.tx.values.back()) - 150, c.area().y + c.area().height - 18 - 14.0 * static_cast<double>(L), 150, 0},
@@ -156,7 +144,7 @@ std::string chart_residuals(const FitPlot& fp) {
     std::vector<double> sx, ry;
     for (const auto& p : fp.pts.used)
       if (fp.level_of(p) == l) sx.push_back(p.s), ry.push_back(p.v - fp.fitted(p));
-    c.markers(sx, ry, level_marker(l), 3, "pt", {{"stroke", level_colour(l)}});
+    c.markers(sx, ry, svg::series_marker(l), 3, "pt", {{"stroke", svg::series_colour(l)}});
   }
   return figure(
       d, "residuals",
@@ -185,12 +173,12 @@ std::string chart_reciprocal(const FitPlot& fp) {
   c.axes("1/S (1/" + fp.xu + ")",
          "1/v (" + (fp.v_stem.empty() ? "1/(" + fp.vu + ")" : "min/" + display_unit(fp.v_stem)) + ")");
   for (std::size_t l = 0; l < fp.levels.size(); ++l)
-    c.polyline(grid, inv[l], "fit-curve", {{"stroke", level_colour(l)}});
+    c.polyline(grid, inv[l], "fit-curve", {{"stroke", svg::series_colour(l)}});
   for (std::size_t l = 0; l < fp.levels.size(); ++l) {
     std::vector<double> a, b;
     for (const auto& p : fp.pts.used)
       if (p.s > 0 && p.v > 0 && fp.level_of(p) == l) a.push_back(1 / p.s), b.push_back(1 / p.v);
-    c.markers(a, b, level_marker(l), 3, "pt", {{"stroke", level_colour(l)}});
+    c.markers(a, b, svg::series_marker(l), 3, "pt", {{"stroke", svg::series_colour(l)}});
   }
   legend(d, fp.levels, {c.area().x, c.area().y, 150, 0}, fp.icol, fp.i_unit);
   return figure(d, "double-reciprocal diagnostic",

@@ -337,4 +337,15 @@ std::string Document::str(const Attrs& attrs) const {
   return out;
 }
 
+const char* series_colour(std::size_t k) {
+  static const char* order[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000"};
+  return order[k % 7];
+}
+
+Marker series_marker(std::size_t k) {
+  static const Marker order[] = {Marker::circle, Marker::square, Marker::diamond,
+                                 Marker::triangle, Marker::plus, Marker::cross};
+  return order[k % 6];
+}
+
 }  // namespace vzero::svg

@@ -221,6 +221,15 @@ inline std::string fuzz_plate_map(std::string_view text) {
   try {
     check_plate_map(map, plate_96_run());
   } catch (const InputError&) {}
+  // Blanks matched by substrate level (--match-column substrate): every well with a substrate
+  // carries it as its match, the same value as text.
+  MapColumnOptions by_substrate;
+  by_substrate.match_column = "substrate";
+  try {
+    const PlateMap m = parse_plate_map("fuzz-map.csv", text, by_substrate);
+    for (const auto& [w, info] : m.wells)
+      if (std::isfinite(info.substrate) != !info.match.empty()) return "substrate match without a substrate value";
+  } catch (const InputError&) {}
   return {};
 }
 
