@@ -13,85 +13,46 @@
 namespace vzero::accuracy {
 namespace {
 
-// Robust read-noise SD of one trace from second differences (Var = 6σ² for white noise).
-double second_difference_sd(const std::vector<double>& y) {
-  std::vector<double> d;
-  for (std::size_t i = 1; i + 1 < y.size(); ++i)
-    if (std::isfinite(y[i - 1]) && std::isfinite(y[i]) && std::isfinite(y[i + 1]))
-      d.push_back(std::fabs(y[i + 1] - 2 * y[i] + y[i - 1]));
-  if (d.empty()) return NAN;
-  return 1.4826 * vzero::detail::median_inplace(d) / std::sqrt(6.0);
-}
-
 bool has_flag(const RateResult& r, const char* f) {
   return std::find(r.flags.begin(), r.flags.end(), f) != r.flags.end();
 }
 
-// Matched blanks: per row, the mean signal of the row's blank wells per read; the pooled
-// read noise of every blank well.
+// Matched blanks, as `vzero rates --blank matched` subtracts them: the plate as a channel
+// (reads × wells), each row's blank wells the matched set of its samples (match = the row),
+// through the library's blank stage (vzero::apply_blank), so the harness measures what the
+// pipeline does.
 struct Blanks {
-  std::vector<std::vector<double>> mean;  // [row][read]
-  std::vector<int> per_row;
-  double sd = NAN;
-  double rate_sd = NAN;  // the blank wells' own OLS rates about their row's (within_set_rate_sd)
+  Channel channel;
+  BlankResult result;
 };
 
-Blanks row_blanks(const sim::Plate& p, Totals& tot) {
-  const int reads = static_cast<int>(p.time_s.size());
+Blanks plate_blanks(const sim::Plate& p, Totals& tot) {
   Blanks b;
-  b.mean.assign(static_cast<std::size_t>(p.rows), std::vector<double>(static_cast<std::size_t>(reads), NAN));
-  b.per_row.assign(static_cast<std::size_t>(p.rows), 0);
-  std::vector<double> sds;
-  // A blank with a disturbed start is left out of its row when the row has an undisturbed
-  // one, and stands in by its fitted line when not, as apply_blank does.
-  std::vector<std::vector<double>> screened(p.signal.size());
-  std::vector<std::vector<double>> rates(static_cast<std::size_t>(p.rows));  // per row: its blanks' rates
-  std::vector<char> disturbed(p.signal.size(), 0);
-  for (std::size_t w = 0; w < p.signal.size(); ++w) {
-    if (p.truth[w].role != sim::Role::blank) continue;
-    screened[w] = p.signal[w];
-    double slope = NAN, icpt = NAN;
-    if (screen_blank_start(p.time_s, p.signal[w].data(), p.status[w].data(), slope, icpt) > 0 && (disturbed[w] = 1))
-      for (std::size_t i = 0; i < screened[w].size(); ++i) screened[w][i] = icpt + slope * p.time_s[i];
-    std::vector<double> bt, by;
-    for (std::size_t i = 0; i < screened[w].size(); ++i)
-      if (p.status[w][i] == ReadStatus::ok && std::isfinite(screened[w][i])) {
-        bt.push_back(p.time_s[i]);
-        by.push_back(screened[w][i]);
-      }
-    if (bt.size() >= 3)
-      rates[w / static_cast<std::size_t>(p.columns)].push_back(
-          vzero::detail::least_squares_line(bt.data(), by.data(), static_cast<int>(bt.size())).slope);
+  const auto reads = static_cast<Eigen::Index>(p.time_s.size());
+  const auto wells = static_cast<Eigen::Index>(p.signal.size());
+  Channel& c = b.channel;
+  c.time_s = p.time_s;
+  c.values.resize(reads, wells);
+  c.status.resize(reads, wells);
+  PlateMap map;
+  const PlateFormat format{p.rows, p.columns};
+  for (Eigen::Index w = 0; w < wells; ++w) {
+    const auto uw = static_cast<std::size_t>(w);
+    c.wells.push_back(static_cast<int>(w));
+    for (Eigen::Index i = 0; i < reads; ++i) {
+      c.values(i, w) = p.signal[uw][static_cast<std::size_t>(i)];
+      c.status(i, w) = p.status[uw][static_cast<std::size_t>(i)];
+    }
+    WellInfo info;
+    info.well = format.well(static_cast<int>(w));
+    info.role = p.truth[uw].role == sim::Role::blank ? Role::blank : Role::sample;
+    info.match = row_label(info.well.row);
+    map.wells[info.well] = info;
+    tot.blank_wells += info.role == Role::blank;
   }
-  b.rate_sd = within_set_rate_sd(rates);
-  for (int row = 0; row < p.rows; ++row) {
-    // A disturbed blank is left out when the row has an undisturbed one.
-    bool any_clean = false;
-    for (int col = 0; col < p.columns; ++col) {
-      const auto w = static_cast<std::size_t>(row * p.columns + col);
-      any_clean |= p.truth[w].role == sim::Role::blank && !disturbed[w];
-    }
-    for (int i = 0; i < reads; ++i) {
-      double sum = 0;
-      int k = 0;
-      for (int col = 0; col < p.columns; ++col) {
-        const auto w = static_cast<std::size_t>(row * p.columns + col);
-        if (p.truth[w].role != sim::Role::blank || p.status[w][static_cast<std::size_t>(i)] != ReadStatus::ok) continue;
-        if (any_clean && disturbed[w]) continue;
-        sum += screened[w][static_cast<std::size_t>(i)];
-        ++k;
-      }
-      if (k > 0) b.mean[static_cast<std::size_t>(row)][static_cast<std::size_t>(i)] = sum / k;
-    }
-    for (int col = 0; col < p.columns; ++col) {
-      const auto w = static_cast<std::size_t>(row * p.columns + col);
-      if (p.truth[w].role != sim::Role::blank) continue;
-      ++tot.blank_wells;
-      if (!(any_clean && disturbed[w])) ++b.per_row[static_cast<std::size_t>(row)];
-      sds.push_back(second_difference_sd(p.signal[w]));
-    }
-  }
-  b.sd = vzero::detail::median_inplace(sds);
+  BlankOptions o;
+  o.strategy = BlankStrategy::matched;
+  b.result = apply_blank(c, map, format, o);
   return b;
 }
 
@@ -146,12 +107,11 @@ void account_spiked(const sim::Plate& p, const sim::Plate& twin, const PlateRun&
                     const TraceView& tr, const RateResult& r, double err, double naive_err, Totals& tot) {
   const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
   const std::size_t reads = twin.time_s.size();
-  const int row = w / twin.columns;
   const double v0 = r.slope / twin.signal_per_uM;
   std::vector<double> y_twin(reads);
   const auto& raw_twin = twin.signal[static_cast<std::size_t>(w)];
   for (std::size_t i = 0; i < reads; ++i)
-    y_twin[i] = tr.status[i] == ReadStatus::ok ? raw_twin[i] - blanks.mean[static_cast<std::size_t>(row)][i] : NAN;
+    y_twin[i] = tr.status[i] == ReadStatus::ok ? raw_twin[i] - blanks.result.blank(static_cast<Eigen::Index>(i), w) : NAN;
   TraceView tw = tr;
   tw.y = y_twin.data();
   tw.raw = raw_twin.data();
@@ -238,27 +198,27 @@ void run_plate(const PlateRun& run, Totals& tot) {
   const sim::Plate twin = sim::simulate_plate(twin_spec, run.seed);
   const std::size_t reads = p.time_s.size();
   const int plate_index = tot.plates++;
-  const Blanks blanks = row_blanks(p, tot);
+  const Blanks blanks = plate_blanks(p, tot);
   for (int w = 0; w < p.rows * p.columns; ++w) {
     const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
     if (truth.role != sim::Role::sample) continue;
     ++tot.sample_wells;
-    const auto row = static_cast<std::size_t>(w / p.columns);
     const auto& raw = p.signal[static_cast<std::size_t>(w)];
     std::vector<double> y(reads);
-    std::vector<ReadStatus> st = p.status[static_cast<std::size_t>(w)];
+    std::vector<ReadStatus> st(reads);
     for (std::size_t i = 0; i < reads; ++i) {
-      const double b = blanks.mean[row][i];
-      if (st[i] == ReadStatus::ok && !std::isfinite(b)) st[i] = ReadStatus::missing;
-      y[i] = st[i] == ReadStatus::ok ? raw[i] - b : NAN;
+      const auto ii = static_cast<Eigen::Index>(i);
+      st[i] = blanks.result.status(ii, w);
+      y[i] = st[i] == ReadStatus::ok ? blanks.result.corrected(ii, w) : NAN;
     }
     TraceView tr{p.time_s.data(), y.data(), raw.data(), st.data(), static_cast<int>(reads)};
     if (run.give_substrate) {
       tr.substrate = truth.s0_uM;
       tr.conc_per_signal = 1.0 / p.signal_per_uM;
     }
-    tr.noise_sd = blanks.sd * std::sqrt(1.0 + 1.0 / std::max(1, blanks.per_row[row]));
-    tr.rate_sd = blanks.rate_sd * std::sqrt(1.0 + 1.0 / std::max(1, blanks.per_row[row]));
+    const WellBlank& wb = blanks.result.wells[static_cast<std::size_t>(w)];
+    tr.noise_sd = wb.blank_noise_sd;
+    tr.rate_sd = wb.blank_rate_sd;
     const RateResult r = find_rate(tr, run.options);
     ++tot.results;
     // What rates.csv would say of the well: its flags (trust withheld) apart from its notes
@@ -266,7 +226,8 @@ void run_plate(const PlateRun& run, Totals& tot) {
     bool used_high = false;
     for (std::size_t i = 0; i < reads && i < r.used.size(); ++i)
       used_high |= r.used[i] && raw[i] >= run.options.signal_ceiling;
-    std::vector<std::string> flags, notes;
+    // The blank stage's words first (blank-noisy, blank-left-out, …), as the pipeline adds them.
+    std::vector<std::string> flags = wb.flags, notes = wb.notes;
     sort_rate_words(r.flags, Role::sample, used_high, flags, notes);
     if (w == run.dump_well) dump(p, w, tr, r, raw, y, st);
     const double v0 = r.slope / p.signal_per_uM;
