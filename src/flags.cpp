@@ -60,7 +60,7 @@ constexpr std::array<MarkInfo, 26> k_marks{{
      "the blanks' rates change with their substrate and this sample's blanks sit at other levels, missing its own "
      "background by over 5 % of its rate (`--blank matched --match-column substrate` subtracts per level)"},
     {"blank-disturbed", flag, "blank",
-     "the blank's first reads jumped or decayed; it is left out of its set (its line stands in when all are)"},
+     "the blank's first reads jumped or decayed; it is left out of its set (its early reads replaced when all are)"},
     {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},
     {"outside-standards", flag, "sample", "the sample's signal in the window leaves the standard curve's calibrated range"},
     {"no-path", flag, "any",
@@ -69,7 +69,7 @@ constexpr std::array<MarkInfo, 26> k_marks{{
      "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
     {"lag", note, "sample, standard, blank", "the first reads rose more slowly (a lag) and were skipped"},
     {"blank-line", note, "sample",
-     "every blank of the set had a disturbed start: their fitted lines were subtracted instead of their reads"},
+     "every blank of the set had a disturbed start: their disturbed reads were replaced (line plus shared bend)"},
     {"blank-left-out", note, "sample",
      "a blank of the set had a disturbed start: it was left out and the set's other blanks subtracted"},
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},

@@ -52,8 +52,8 @@ struct WellBlank {
                                    // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank
                                    // wells also "blank-disturbed" (its start jumps or decays)
-  std::vector<std::string> notes;  // e.g. "blank-line": a blank used here had a disturbed start, so its
-                                   // fitted line (reads after the disturbance) was subtracted instead
+  std::vector<std::string> notes;  // e.g. "blank-line": every blank used here had a disturbed start, so
+                                   // their disturbed reads were replaced (BlankResult::blank_reads)
   // When the blanks' rates change with their substrate (BlankSubstrateTrend significant): the
   // trend's rate at this well's substrate less its mean over the blanks subtracted here, signal
   // units per second — how far the subtracted blank is off this well's own background. NaN
@@ -80,18 +80,14 @@ struct BlankResult {
   StatusMatrix status;           // raw status; `excluded` where the blank has no value at that read
   std::vector<WellBlank> wells;  // one per channel column
   BlankSubstrateTrend substrate_trend;
-  // Per channel column, for blank wells with a disturbed start: the line (signal = intercept
-  // + slope·t) of their reads after it, which stands in for their reads; NaN elsewhere.
-  std::vector<double> line_slope, line_intercept;
+  // The channel's blank wells (columns) and their reads as subtracted: each one's disturbed
+  // first reads (blank_disturbed of them; 0 = clean) replaced by what it would have read
+  // undisturbed — its line after them plus the bend all blanks share (src/blank/screen.hpp);
+  // reads × blank_columns, NaN where not ok.
+  std::vector<int> blank_columns;
+  std::vector<int> blank_disturbed;
+  Eigen::MatrixXd blank_reads;
 };
-
-// One blank well's start, screened as a sample's is (src/core/start_screen.hpp: a jump or a
-// decay over the first reads that the rest does not continue), with the well's own robust
-// read noise (second differences). Returns how many of its first ok reads are disturbed (0 =
-// clean); `slope` and `intercept` receive the OLS line of the ok reads after them. A blank with
-// a disturbed start is never subtracted read by read: its line stands in for its reads.
-int screen_blank_start(const std::vector<double>& time_s, const double* y, const ReadStatus* status, double& slope,
-                       double& intercept);
 
 // Well-to-well drift: how far blank wells' own rates scatter about the other blanks of the
 // set a sample subtracts (one set per `match` value for `matched`, every blank for `plate`).
@@ -107,8 +103,8 @@ BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat
 
 // Mean blank trace's OLS slope over [t0_s, t1_s] for channel column `column` (signal units
 // per second), used by the `rate` mode; NaN when the well has no blank or too few reads. A
-// blank with a disturbed start enters by its line (`blanks`, from apply_blank), as in the
-// trace mode, so its disturbance never reaches a sample.
+// blank with a disturbed start enters with its disturbed reads replaced (`blanks`, from
+// apply_blank), as in the trace mode, so its disturbance never reaches a sample.
 double blank_rate_between(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options,
                           const BlankResult& blanks, int column, double t0_s, double t1_s);
 

@@ -58,9 +58,12 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
                            int first = 0, double noise_sd = NAN);
 
 // The disturbed start of the usable reads (screen_start on the reads the spike screen let
-// through, read noise `sd`). When there is one, the fitted disturbance is taken off every
-// usable read and `skip` is returned as a usable position (the first read to keep).
-StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd);
+// through, and on the first three reads whatever it said: a disturbed start's first read is
+// what it takes for a spike), read noise `sd` — on a short trace also the blanks' smaller
+// `noise_sd` for a start that dips below the trace. When there is one,
+// the fitted disturbance is taken off every usable read and `skip` is returned as a usable
+// position (the first read to keep).
+StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd, double noise_sd = NAN);
 
 // Least-squares parabola over the window's kept reads and the usable reads after it, up to
 // `tangent_reach` times the window's length, except reads the spike screen held out that

@@ -313,7 +313,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   // A disturbed start is set aside, and what is left of it taken off the reads kept.
   detail::StartScreen start;
   if (opt.detect_disturbed && opt.window == WindowMethod::automatic)
-    start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0));
+    start = detail::screen_usable_start(u, opt, std::max(sd_floor, std::isfinite(u.local_sd) ? u.local_sd : 0.0),
+                                        tr.noise_sd);
   const detail::WindowChoice w =
       detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip, tr.noise_sd);
   record_window(w, start, u, r);

@@ -328,19 +328,27 @@ void finish_window(WindowChoice& w, const Search& q, const Growth& g, double ram
 
 }  // namespace
 
-StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd) {
+StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd, double noise_sd) {
   thread_local std::vector<double> ct, cy;  // scratch reused by each thread: once per well
   thread_local std::vector<int> cpos;
   ct.clear();
   cy.clear();
   cpos.clear();
   for (std::size_t i = 0; i < u.t.size(); ++i)
-    if (!u.spike[i]) {
+    if (!u.spike[i] || i < 3) {
       ct.push_back(u.t[i]);
       cy.push_back(u.y[i]);
       cpos.push_back(static_cast<int>(i));
     }
   StartScreen st = screen_start(ct.data(), cy.data(), static_cast<int>(ct.size()), opt.min_points, sd);
+  // On a short trace the local scatter carries the disturbance itself: a start found only
+  // against the blanks' read noise counts when its reads dip below the trace (in the
+  // reaction's direction). One that sits above could be a lag's ramp, whose curve is the same
+  // decaying offset, so it is left to the lag tests.
+  if (st.skip == 0 && static_cast<int>(ct.size()) < 2 * k_neighbourhood && noise_sd > 0 && noise_sd < sd) {
+    const StartScreen quiet = screen_start(ct.data(), cy.data(), static_cast<int>(ct.size()), opt.min_points, noise_sd);
+    if (quiet.skip > 0 && quiet.offset < 0) st = quiet;
+  }
   if (st.skip == 0) return st;
   // What is left of the disturbance after the reads set aside (under one read-noise SD) is
   // taken off the reads, as fitted.

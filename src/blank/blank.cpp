@@ -5,8 +5,8 @@
 #include <cmath>
 #include <map>
 
+#include "blank/screen.hpp"
 #include "core/stats.hpp"
-#include "core/start_screen.hpp"
 
 namespace vzero {
 
@@ -48,18 +48,6 @@ LineFit fit_line(const std::vector<double>& t, const double* y, const ReadStatus
   return detail::least_squares_line(xs.data(), ys.data(), l.n, nullptr, detail::Residual::stepwise);
 }
 
-// Robust read-noise SD from second differences of consecutive ok reads (Var = 6σ² for white noise).
-double second_difference_sd(const std::vector<double>& y) {
-  std::vector<double> d;
-  for (std::size_t i = 1; i + 1 < y.size(); ++i) d.push_back(std::fabs(y[i + 1] - 2 * y[i] + y[i - 1]));
-  if (d.empty()) return NAN;
-  const auto mid = d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2);
-  std::nth_element(d.begin(), mid, d.end());
-  double med = *mid;
-  if (d.size() % 2 == 0) med = 0.5 * (med + *std::max_element(d.begin(), mid));
-  return 1.4826 * med / std::sqrt(6.0);
-}
-
 // Takes the blanks `disturbed` marks out of `use` when at least one other remains; true when
 // it took any.
 template <class Disturbed>
@@ -90,26 +78,6 @@ std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f
 
 }  // namespace
 
-int screen_blank_start(const std::vector<double>& time_s, const double* y, const ReadStatus* st, double& slope,
-                       double& intercept) {
-  std::vector<double> t, v;
-  std::vector<std::size_t> at;
-  for (std::size_t i = 0; i < time_s.size(); ++i)
-    if (st[i] == ReadStatus::ok && std::isfinite(y[i])) {
-      t.push_back(time_s[i]);
-      v.push_back(y[i]);
-      at.push_back(i);
-    }
-  slope = intercept = NAN;
-  const double sd = second_difference_sd(v);
-  const detail::StartScreen s = detail::screen_start(t.data(), v.data(), static_cast<int>(t.size()), 5, sd);
-  if (s.skip == 0) return 0;
-  const LineFit l = fit_line(time_s, y, st, time_s[at[static_cast<std::size_t>(s.skip)]], INFINITY);
-  slope = l.slope;
-  intercept = l.intercept;
-  return std::isfinite(l.slope) ? s.skip : 0;
-}
-
 double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
   std::vector<double> dist;
   int dof = 0;
@@ -138,6 +106,8 @@ struct BlankWells {
   std::map<int, LineFit> line;      // each blank's line (its rate, its scatter)
   std::map<int, LineFit> disturbed; // blanks with a disturbed start: their line after it
   std::map<int, double> substrate;  // each blank's plate-map substrate (NaN when not given)
+  detail::BlankScreen screen;       // the blanks screened together, in the order of `all`
+  std::map<int, Eigen::Index> slot; // a blank's column in screen.reads
   double median_sd = NAN;           // median scatter of the blanks (3 or more)
   double rate_sd = NAN;             // within_set_rate_sd of their rates
 };
@@ -151,22 +121,13 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
       bw.substrate[static_cast<int>(j)] = info->substrate;
     }
   }
+  bw.screen = detail::screen_blanks(c, bw.all);
   std::vector<double> sds;
-  for (int b : bw.all) {
-    double slope = NAN, intercept = NAN;
-    const int skip = screen_blank_start(c.time_s, c.values.col(b).data(), c.status.col(b).data(), slope, intercept);
-    double from = -INFINITY;
-    if (skip > 0) {
-      int seen = 0;
-      for (std::size_t i = 0; i < c.time_s.size(); ++i)
-        if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok &&
-            std::isfinite(c.values(static_cast<Eigen::Index>(i), b)) && seen++ == skip) {
-          from = c.time_s[i];
-          break;
-        }
-    }
-    const LineFit l = fit_line(c.time_s, c.values.col(b).data(), c.status.col(b).data(), from, INFINITY);
-    if (skip > 0) bw.disturbed[b] = l;
+  for (std::size_t k = 0; k < bw.all.size(); ++k) {
+    const int b = bw.all[k];
+    bw.slot[b] = static_cast<Eigen::Index>(k);
+    const LineFit& l = bw.screen.line[k];
+    if (bw.screen.skip[k] > 0) bw.disturbed[b] = l;
     bw.line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
@@ -238,9 +199,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
     int n = 0;
     for (int b : use) {
       if (c.status(i, b) != ReadStatus::ok) continue;
-      const auto d = bw.disturbed.find(b);
-      s += d == bw.disturbed.end() ? c.values(i, b)
-                                   : d->second.intercept + d->second.slope * c.time_s[static_cast<std::size_t>(i)];
+      s += bw.screen.reads(i, bw.slot.at(b));
       ++n;
     }
     if (n > 0) {
@@ -315,14 +274,11 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   r.corrected = c.values;
   r.status = c.status;
   r.wells.resize(static_cast<std::size_t>(cols));
-  r.line_slope.assign(static_cast<std::size_t>(cols), NAN);
-  r.line_intercept.assign(static_cast<std::size_t>(cols), NAN);
   const BlankWells bw = judge_blank_wells(c, map, f, o);
   r.substrate_trend = substrate_trend(bw);
-  for (const auto& [b, l] : bw.disturbed) {
-    r.line_slope[static_cast<std::size_t>(b)] = l.slope;
-    r.line_intercept[static_cast<std::size_t>(b)] = l.intercept;
-  }
+  r.blank_columns = bw.all;
+  r.blank_reads = bw.screen.reads;
+  r.blank_disturbed = bw.screen.skip;
   std::map<std::vector<int>, SharedBlank> cache;
   for (Eigen::Index j = 0; j < cols; ++j) {
     WellBlank& wb = r.wells[static_cast<std::size_t>(j)];
@@ -359,14 +315,13 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
 
 double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o,
                           const BlankResult& blanks, int column, double t0, double t1) {
-  std::vector<int> all_blanks;
-  for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
-    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
-    if (info && info->role == Role::blank) all_blanks.push_back(static_cast<int>(j));
-  }
-  std::vector<int> use = blanks_for(c, map, f, o, column, all_blanks);
+  std::vector<int> use = blanks_for(c, map, f, o, column, blanks.blank_columns);
   if (use.empty()) return NAN;
-  drop_disturbed(use, [&](int b) { return !std::isnan(blanks.line_slope[static_cast<std::size_t>(b)]); });
+  const auto slot = [&](int b) {
+    return static_cast<std::size_t>(std::find(blanks.blank_columns.begin(), blanks.blank_columns.end(), b) -
+                                    blanks.blank_columns.begin());
+  };
+  drop_disturbed(use, [&](int b) { return blanks.blank_disturbed[slot(b)] > 0; });
   std::vector<double> mean(c.time_s.size(), NAN);
   std::vector<ReadStatus> st(c.time_s.size(), ReadStatus::excluded);
   for (std::size_t i = 0; i < c.time_s.size(); ++i) {
@@ -374,9 +329,7 @@ double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, 
     int n = 0;
     for (int b : use)
       if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) {
-        const auto k = static_cast<std::size_t>(b);
-        s += std::isnan(blanks.line_slope[k]) ? c.values(static_cast<Eigen::Index>(i), b)
-                                              : blanks.line_intercept[k] + blanks.line_slope[k] * c.time_s[i];
+        s += blanks.blank_reads(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(slot(b)));
         ++n;
       }
     if (n > 0) {

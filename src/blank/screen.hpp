@@ -1,0 +1,39 @@
+// The blank wells of a channel screened together.
+//
+// Blank wells share the plate's slow changes — temperature settling after the plate goes in,
+// a lamp warming — which bend every well's trace alike and cancel when a blank is subtracted
+// read by read. Judged alone, a blank's start is screened against a smooth curve that must
+// absorb that bend, so a small disturbance hides in it (or the bend passes for one), and a
+// disturbed blank replaced by its straight line hands the bend to every sample that uses it.
+// Judged together:
+//   1. each blank's departure from its own least-squares line, read by read;
+//   2. the shared bend: the median of those departures at each read (3 or more blanks; with
+//      fewer there is none), so one disturbed blank does not move it;
+//   3. each blank less the shared bend is a straight line plus read noise; the blanks' read
+//      noise is pooled (median of their second-difference SDs of it) and each start is screened
+//      on it (core/start_screen.hpp) at that noise;
+//   4. a disturbed blank keeps its reads after the disturbance; the disturbed ones are replaced
+//      by its line (fitted to the reads after them, the bend taken off) plus the shared bend —
+//      what the blank would have read undisturbed.
+#pragma once
+
+#include <Eigen/Core>
+#include <vector>
+
+#include "core/stats.hpp"
+#include "vzero/run.hpp"
+
+namespace vzero::detail {
+
+struct BlankScreen {
+  std::vector<int> skip;      // per blank (as listed): disturbed first ok reads replaced (0 = clean)
+  std::vector<LineFit> line;  // per blank: least-squares line of its ok reads after a disturbed start
+  Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok
+  Eigen::VectorXd bend;       // per read: the shared bend (0 with fewer than 3 blanks)
+  double noise_sd = NAN;      // pooled read noise of the blanks, shared bend taken off
+};
+
+// `columns`: the channel columns of the blank wells.
+BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns);
+
+}  // namespace vzero::detail
