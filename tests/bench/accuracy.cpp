@@ -11,6 +11,7 @@
 //     --seeds FIRST N      N consecutive seeds starting at FIRST
 //     --no-ceiling         do not pass the detector's linear limit as signal_ceiling
 //     --no-substrate       do not pass S0 (no conversion limit, tangent bound from max_conversion)
+//     --reaction-start     pass when the reaction started (the plate's dead time before the first read)
 //     --noise-scale F      multiply the simulated read noise by F
 //     --estimator NAME     theil-sen | ols | huber;  --tangent MODE  never | auto | always
 //     --set NAME VALUE     change one numeric RateOptions field (developer knob)
@@ -26,14 +27,16 @@
 //
 // Each plate comes from tests/sim/plate_sim.hpp (invented scenario: a chromogenic hydrolase
 // assay on a 96-well plate, truth v0 = Vmax·S0/(Km + S0) at reaction start). The harness does
-// what the pipeline does before the rate stage: per read it subtracts the mean of the row's
-// substrate-only blanks (the matched blanks), takes the blanks' read noise (robust SD of
-// second differences), and passes the substrate and the known conversion factor 1/(ε·l).
+// what the pipeline does before the rate stage, through the library's blank stage
+// (vzero::apply_blank, blanks matched by row): per read it subtracts the row's substrate-only
+// blanks, takes their read noise and rate spread, and passes the substrate and the known
+// conversion factor 1/(ε·l).
 // find_rate runs with default options except signal_ceiling, set to the simulated detector's
 // linear limit (2.5 AU; with --mix, the limit the plate's instrument profile states), as an
 // instrument profile or method file would; without --mix a second pass without it is
-// summarised at the end. The finder is not told when the reaction
-// started (the rates command has no such option), so time zero is the first read.
+// summarised at the end. The finder is not told when the reaction started (time zero is the
+// first read) unless --reaction-start is given: then it is told the simulated dead time, as
+// `vzero rates --reaction-start-s` would tell it.
 // Exit status 0 when every target is met, 1 otherwise.
 //
 // Figures at commit 67156be (the rate finder before "Trustworthy v0"), tests/bench/README.md.
@@ -72,7 +75,7 @@ struct Args {
   vzero::RateOptions opt;
   sim::PlateSpec spec;
   double noise_scale = 1;
-  bool give_substrate = true, quiet = false, mix = false, help = false;
+  bool give_substrate = true, quiet = false, mix = false, help = false, give_reaction_start = false;
   int forced_kind = -1;
   int worst = 0, dump_well = -1;
   std::uint64_t dump_seed = 0;
@@ -80,10 +83,9 @@ struct Args {
 
 void print_usage(FILE* to) {
   std::fputs(
-      "usage: vzero_accuracy [--mix [--kind NAME]] [--seeds FIRST N] [--no-ceiling] [--no-substrate] [--noise-scale "
-      "F]\n"
-      "       [--estimator NAME] [--tangent MODE] [--set NAME VALUE] [--worst N] [--dump SEED WELL] [--quiet] [SEED "
-      "...]\n"
+      "usage: vzero_accuracy [--mix [--kind NAME]] [--seeds FIRST N] [--no-ceiling] [--no-substrate] [--reaction-start]\n"
+      "       [--noise-scale F] [--estimator NAME] [--tangent MODE] [--set NAME VALUE] [--worst N] [--dump SEED WELL]\n"
+      "       [--quiet] [SEED ...]\n"
       "  --mix: the scenario mix of tests/sim/plate_mix.hpp on the evaluation seeds 9001 ... 9100 (tune on --seeds 1 "
       "100)\n"
       "  --kind: standard | screening8 | low-signal | high-absorbance | depleting | late-start | slow-onset\n"
@@ -152,6 +154,8 @@ int parse_args(int argc, char** argv, Args& a) {
       a.opt.signal_ceiling = NAN;
     } else if (s == "--no-substrate") {
       a.give_substrate = false;
+    } else if (s == "--reaction-start") {
+      a.give_reaction_start = true;
     } else if (s == "--dump" && i + 2 < argc) {
       a.dump_seed = std::strtoull(argv[i + 1], nullptr, 10);
       a.dump_well = std::atoi(argv[i + 2]);
@@ -200,6 +204,7 @@ PlateRun plate_run(const Args& a, std::uint64_t seed) {
   run.seed = seed;
   run.options = a.opt;
   run.give_substrate = a.give_substrate;
+  run.give_reaction_start = a.give_reaction_start;
   run.mix = a.mix;
   run.spec = a.spec;
   if (a.mix) {

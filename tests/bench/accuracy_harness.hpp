@@ -62,6 +62,7 @@ struct PlateRun {
   bool mix = false;  // a plate of the scenario mix: new listing columns, every artefact bit
   RateOptions options;
   bool give_substrate = true;
+  bool give_reaction_start = false;  // --reaction-start: the reaction started dead_time_s before the first read
   int dump_well = -1;  // print this well's trace and result
 };
 

@@ -219,7 +219,9 @@ void run_plate(const PlateRun& run, Totals& tot) {
     const WellBlank& wb = blanks.result.wells[static_cast<std::size_t>(w)];
     tr.noise_sd = wb.blank_noise_sd;
     tr.rate_sd = wb.blank_rate_sd;
-    const RateResult r = find_rate(tr, run.options);
+    RateOptions options = run.options;
+    if (run.give_reaction_start) options.time_zero_s = p.time_s.front() - p.dead_time_s;
+    const RateResult r = find_rate(tr, options);
     ++tot.results;
     // What rates.csv would say of the well: its flags (trust withheld) apart from its notes
     // (corrections made), sorted as the pipeline sorts them (vzero::sort_rate_words).
