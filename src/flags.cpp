@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 26> k_marks{{
+constexpr std::array<MarkInfo, 27> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -72,6 +72,7 @@ constexpr std::array<MarkInfo, 26> k_marks{{
      "every blank of the set had a disturbed start: their disturbed reads were replaced (line plus shared bend)"},
     {"blank-left-out", note, "sample",
      "a blank of the set had a disturbed start: it was left out and the set's other blanks subtracted"},
+    {"blank-spike", note, "sample", "a read of a blank used sat far off its neighbours: their line replaced it"},
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
     {"no-limit", note, "sample",
      "no substrate concentration (or no concentration scale) for the sample: no conversion limit applied"},

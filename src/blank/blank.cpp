@@ -169,6 +169,7 @@ struct SharedBlank {
   double noise_sd = NAN;  // pooled residual SD of the blanks
   bool noisy = false;     // one of them is blank-noisy
   bool line = false;      // one of them had a disturbed start: its line stands in
+  bool spike = false;     // one of them had a read replaced as a spike
   double rate = NAN;      // slope of the mean trace
   double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
 };
@@ -207,7 +208,10 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
       sb.st[static_cast<std::size_t>(i)] = ReadStatus::ok;
     }
   }
-  for (int b : use) sb.line |= bw.disturbed.count(b) > 0;
+  for (int b : use) {
+    sb.line |= bw.disturbed.count(b) > 0;
+    sb.spike |= bw.screen.spikes[static_cast<std::size_t>(bw.slot.at(b))] > 0;
+  }
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
   sb.substrate = mean_substrate(bw, use);
   return sb;
@@ -303,6 +307,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
     if (sb.line) wb.notes.emplace_back("blank-line");
     if (left_out) wb.notes.emplace_back("blank-left-out");
+    if (sb.spike) wb.notes.emplace_back("blank-spike");
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
     wb.blank_rate = sb.rate;

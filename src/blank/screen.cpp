@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <utility>
 
 #include "core/start_screen.hpp"
 
@@ -10,9 +11,15 @@ namespace {
 
 // A blank's start is screened over its first reads as a sample's is (5 reads at least left).
 constexpr int k_min_points = 5;
-// Fewest blanks, at one read, whose median makes the shared bend there.
+// Fewest other blanks, at one read, whose median makes a blank's shared bend there.
 constexpr int k_bend_blanks = 3;
 constexpr double k_z_cut = 4.0;
+// A spike: a read more than k_spike_z prediction SEs off the line through its 6 neighbours
+// (a 7-read stretch, as the rate finder's spike screen), which scatter by at most
+// k_calm_factor read-noise SDs about it.
+constexpr int k_spike_span = 7;
+constexpr double k_spike_z = 5.0;
+constexpr double k_calm_factor = 2.0;
 
 double median_of(std::vector<double> v) {
   if (v.empty()) return NAN;
@@ -45,27 +52,89 @@ double second_difference_sd(const std::vector<double>& y) {
   return d.empty() ? NAN : 1.4826 * median_of(std::move(d)) / std::sqrt(6.0);
 }
 
-// Step 2: the median of the blanks' departures from their own lines, read by read.
-Eigen::VectorXd shared_bend(const std::vector<double>& t, const std::vector<std::vector<double>>& y) {
+// The median of sorted values v without the one at rank r (v.size() ≥ 2).
+double median_without(const std::vector<double>& v, std::size_t r) {
+  const std::size_t n = v.size() - 1;  // what is left
+  const auto at = [&](std::size_t j) { return v[j < r ? j : j + 1]; };
+  return n % 2 ? at(n / 2) : 0.5 * (at(n / 2 - 1) + at(n / 2));
+}
+
+// Step 2: for each blank, the median of the other blanks' departures from their own lines,
+// read by read (reads × blanks; 0 where fewer than k_bend_blanks others have a read). Each
+// blank is measured against the others only, so its own noise never enters its bend (with
+// the median of all, a blank that is the median at a read would lose its noise there).
+Eigen::MatrixXd shared_bend(const std::vector<double>& t, const std::vector<std::vector<double>>& y) {
   const auto reads = static_cast<Eigen::Index>(t.size());
-  Eigen::VectorXd bend = Eigen::VectorXd::Zero(reads);
-  if (static_cast<int>(y.size()) < k_bend_blanks) return bend;
-  std::vector<std::vector<double>> departure;
-  for (const auto& v : y) {
-    const LineFit l = line_from(t, v, 0);
+  const auto m = static_cast<Eigen::Index>(y.size());
+  Eigen::MatrixXd bend = Eigen::MatrixXd::Zero(reads, m);
+  if (m < k_bend_blanks + 1) return bend;
+  std::vector<std::vector<double>> departure(y.size(), std::vector<double>(t.size(), NAN));
+  for (std::size_t k = 0; k < y.size(); ++k) {
+    const LineFit l = line_from(t, y[k], 0);
     if (!std::isfinite(l.slope)) continue;
-    std::vector<double> d(t.size(), NAN);
-    for (std::size_t i = 0; i < t.size(); ++i) d[i] = v[i] - (l.intercept + l.slope * t[i]);
-    departure.push_back(std::move(d));
+    for (std::size_t i = 0; i < t.size(); ++i) departure[k][i] = y[k][i] - (l.intercept + l.slope * t[i]);
   }
-  std::vector<double> at;
+  std::vector<std::pair<double, std::size_t>> at;  // departure, blank
+  std::vector<double> sorted;
   for (std::size_t i = 0; i < t.size(); ++i) {
     at.clear();
-    for (const auto& d : departure)
-      if (std::isfinite(d[i])) at.push_back(d[i]);
-    if (static_cast<int>(at.size()) >= k_bend_blanks) bend(static_cast<Eigen::Index>(i)) = median_of(at);
+    for (std::size_t k = 0; k < y.size(); ++k)
+      if (std::isfinite(departure[k][i])) at.emplace_back(departure[k][i], k);
+    if (static_cast<int>(at.size()) < k_bend_blanks + 1) continue;
+    std::sort(at.begin(), at.end());
+    sorted.clear();
+    for (const auto& [d, k] : at) sorted.push_back(d);
+    for (std::size_t r = 0; r < at.size(); ++r)
+      bend(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(at[r].second)) = median_without(sorted, r);
   }
   return bend;
+}
+
+// Step 5 for one blank (column k of `reads`): its usable reads (t, z: the bend taken off;
+// `at` their read indices), the first `skip` of them disturbed. A read is a spike when it
+// sits more than k_spike_z prediction SEs (read noise `sd`) off the least-squares line
+// through its six neighbours (three each side where there are, the 7-read stretch shifted at
+// the ends), and those neighbours agree with each other (their scatter about that line at
+// most k_calm_factor · sd). Spikes are found first, then replaced by the line's value plus
+// the bend, so a spike never judges another. Returns how many.
+int replace_spikes(const std::vector<double>& t, const std::vector<double>& z, const std::vector<std::size_t>& at,
+                   int skip, double sd, const Eigen::MatrixXd& bend, std::size_t k, Eigen::MatrixXd& reads) {
+  const int n = static_cast<int>(t.size());
+  if (!(sd > 0) || n - skip < k_spike_span) return 0;
+  std::vector<std::pair<std::size_t, double>> found;  // read index, replacement
+  for (int q = skip; q < n; ++q) {
+    const int lo = std::clamp(q - k_spike_span / 2, skip, n - k_spike_span);
+    double mt = 0, mz = 0;
+    for (int i = lo; i < lo + k_spike_span; ++i)
+      if (i != q) mt += t[static_cast<std::size_t>(i)], mz += z[static_cast<std::size_t>(i)];
+    const double nb = k_spike_span - 1;
+    mt /= nb;
+    mz /= nb;
+    double stt = 0, stz = 0;
+    for (int i = lo; i < lo + k_spike_span; ++i)
+      if (i != q) {
+        const double dt = t[static_cast<std::size_t>(i)] - mt;
+        stt += dt * dt, stz += dt * (z[static_cast<std::size_t>(i)] - mz);
+      }
+    if (!(stt > 0)) continue;
+    const double b = stz / stt;
+    double rss = 0;
+    for (int i = lo; i < lo + k_spike_span; ++i)
+      if (i != q) {
+        const double e = z[static_cast<std::size_t>(i)] - (mz + b * (t[static_cast<std::size_t>(i)] - mt));
+        rss += e * e;
+      }
+    if (std::sqrt(rss / (nb - 2)) > k_calm_factor * sd) continue;
+    const double dq = t[static_cast<std::size_t>(q)] - mt, fit = mz + b * dq;
+    const double se = sd * std::sqrt(1 + 1 / nb + dq * dq / stt);
+    if (std::fabs(z[static_cast<std::size_t>(q)] - fit) > k_spike_z * se)
+      found.emplace_back(at[static_cast<std::size_t>(q)], fit);
+  }
+  for (const auto& [i, fit] : found) {
+    const auto ii = static_cast<Eigen::Index>(i);
+    reads(ii, static_cast<Eigen::Index>(k)) = fit + bend(ii, static_cast<Eigen::Index>(k));
+  }
+  return static_cast<int>(found.size());
 }
 
 }  // namespace
@@ -74,6 +143,7 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
   const std::size_t reads = c.time_s.size(), m = columns.size();
   BlankScreen s;
   s.skip.assign(m, 0);
+  s.spikes.assign(m, 0);
   s.line.resize(m);
   s.reads = Eigen::MatrixXd::Constant(static_cast<Eigen::Index>(reads), static_cast<Eigen::Index>(m), NAN);
   // Step 1: each blank's usable reads (NaN elsewhere).
@@ -88,8 +158,9 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
   // Step 3: each blank less the bend; the pooled read noise.
   std::vector<std::vector<double>> z = y;
   std::vector<double> sds;
-  for (auto& v : z) {
-    for (std::size_t i = 0; i < reads; ++i) v[i] -= s.bend(static_cast<Eigen::Index>(i));
+  for (std::size_t k = 0; k < m; ++k) {
+    auto& v = z[k];
+    for (std::size_t i = 0; i < reads; ++i) v[i] -= s.bend(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(k));
     const double sd = second_difference_sd(v);
     if (std::isfinite(sd)) sds.push_back(sd);
   }
@@ -117,9 +188,12 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
     for (std::size_t i = 0; i < reads; ++i) {
       const auto ii = static_cast<Eigen::Index>(i);
       s.reads(ii, static_cast<Eigen::Index>(k)) =
-          i < from && std::isfinite(y[k][i]) && s.skip[k] > 0 ? zl.intercept + zl.slope * c.time_s[i] + s.bend(ii)
+          i < from && std::isfinite(y[k][i]) && s.skip[k] > 0 ? zl.intercept + zl.slope * c.time_s[i] +
+                                                                     s.bend(ii, static_cast<Eigen::Index>(k))
                                                                : y[k][i];
     }
+    // Step 5: single reads far off their neighbours, replaced by the neighbours' line.
+    s.spikes[k] = replace_spikes(tt, zz, at, s.skip[k], s.noise_sd, s.bend, k, s.reads);
   }
   return s;
 }

@@ -7,14 +7,17 @@
 // disturbed blank replaced by its straight line hands the bend to every sample that uses it.
 // Judged together:
 //   1. each blank's departure from its own least-squares line, read by read;
-//   2. the shared bend: the median of those departures at each read (3 or more blanks; with
-//      fewer there is none), so one disturbed blank does not move it;
+//   2. the shared bend: for each blank, the median of the other blanks' departures at each
+//      read (3 or more others; with fewer there is none), so one disturbed blank does not
+//      move it and a blank's own noise never enters its own bend;
 //   3. each blank less the shared bend is a straight line plus read noise; the blanks' read
 //      noise is pooled (median of their second-difference SDs of it) and each start is screened
 //      on it (core/start_screen.hpp) at that noise;
 //   4. a disturbed blank keeps its reads after the disturbance; the disturbed ones are replaced
 //      by its line (fitted to the reads after them, the bend taken off) plus the shared bend —
-//      what the blank would have read undisturbed.
+//      what the blank would have read undisturbed;
+//   5. a single read far off the line through its six neighbours (a bubble, dust), judged at
+//      the pooled noise, is replaced by that line's value plus the bend (screen.cpp).
 #pragma once
 
 #include <Eigen/Core>
@@ -27,9 +30,10 @@ namespace vzero::detail {
 
 struct BlankScreen {
   std::vector<int> skip;      // per blank (as listed): disturbed first ok reads replaced (0 = clean)
+  std::vector<int> spikes;    // per blank: single reads replaced as spikes
   std::vector<LineFit> line;  // per blank: least-squares line of its ok reads after a disturbed start
   Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok
-  Eigen::VectorXd bend;       // per read: the shared bend (0 with fewer than 3 blanks)
+  Eigen::MatrixXd bend;       // reads × blanks: each blank's shared bend (0 with fewer than 3 others)
   double noise_sd = NAN;      // pooled read noise of the blanks, shared bend taken off
 };
 
