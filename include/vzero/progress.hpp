@@ -15,8 +15,12 @@
 // Least squares over every read of every well at once (Levenberg–Marquardt, analytic
 // Jacobian from the implicit equation: ∂S/∂θ = S·∂F/∂θ / (a + b·S), which for
 // Michaelis–Menten is the dW/dx = W/(x(1 + W)) rule); Km, Vmax, kcat, Kp on the log scale
-// (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹, Wald-t and profile-t
-// intervals, AIC as `vzero fit` computes it (unit weights).
+// (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹ (model-based) and from the
+// cluster-robust sandwich (CR1: (JᵀJ)⁻¹·Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ·(JᵀJ)⁻¹ · G/(G−1)·(N−1)/(N−p),
+// clusters g the wells sharing a blank set, or single wells; Cameron & Miller, J. Human
+// Resources 50, 2015); the printed Wald interval is the wider of est ± t(df)·SE_model and
+// est ± t(G−1)·SE_cluster, the profile-t cutoff stretched by the same factor. AIC as `vzero
+// fit` computes it (unit weights).
 //
 // **Example**:
 //   std::vector<vzero::ProgressWell> wells = ...;  // t_s, p per well, s0 in p's unit
@@ -45,6 +49,8 @@ struct ProgressWell {
   double enzyme = NAN;             // enzyme concentration (kcat fits), else NaN
   std::vector<double> t_s, p;      // read times (s) and product (corrected, converted)
   bool trusted_only = false;       // only the reads the rate finder used (fit_progress_tables)
+  std::string cluster;             // wells with one non-empty key share errors (the same blank
+                                   // wells); empty: the well is a cluster of its own
   std::vector<double> t_left_s, p_left;  // ok reads the fit left out (drawn apart in the report)
 };
 
@@ -67,8 +73,14 @@ struct ProgressFit {
   bool ok = false;
   std::string message;              // why there is no fit
   std::string model;                // "mm" or "mm-product-inhibition"
-  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s]
-  std::vector<ParameterEstimate> offsets;     // b_w per well (wells order)
+  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s];
+                                              // se and ci_* of the wider interval (see above)
+  std::vector<double> se_model, se_cluster;   // per parameter: s²(JᵀJ)⁻¹ and CR1 standard errors
+  std::vector<bool> cluster_wider;            // per parameter: the cluster interval is the printed one
+  int clusters = 0;                           // G: blank sets (when 5 or more), else wells
+  std::string cluster_by;                     // "blank sets" or "wells"
+  double t_cluster = NAN;                     // t(1 − α/2, G − 1)
+  std::vector<ParameterEstimate> offsets;     // b_w per well (wells order; model-based SE)
   bool converged = false;
   int iterations = 0;
   int n = 0, df = 0;

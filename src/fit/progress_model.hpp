@@ -4,6 +4,7 @@
 
 #include <Eigen/Core>
 #include <functional>
+#include <string>
 #include <vector>
 
 namespace vzero::detail {
@@ -37,5 +38,17 @@ struct LsqResult {
 // offset is already below 1e-6.
 LsqResult least_squares(const ResidualFn& f, Eigen::VectorXd start, const std::vector<bool>& fixed,
                         int max_iterations, double exact_rss = 0, double tolerance = 1e-10);
+
+// The clusters of the cluster-robust covariance: wells with one non-empty key (e.g. the same
+// blank wells) form one cluster when at least `min_shared` clusters result, else every well is
+// a cluster of its own. Fills of_well (0 … G−1, in order of first appearance) and `by`
+// ("blank sets" or "wells"); returns G.
+int well_clusters(const std::vector<std::string>& keys, int min_shared, std::vector<int>& of_well, std::string& by);
+
+// CR1 cluster-robust covariance of θ at the optimum (Cameron & Miller, J. Human Resources 50,
+// 2015): B·M·B·G/(G−1)·(N−1)/(N−p) with B = (JᵀJ)⁻¹, M = Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ, J_g and r_g
+// the rows of cluster g (cluster_of_row[i] in 0 … G−1), N rows, p columns.
+Eigen::MatrixXd cluster_covariance(const Eigen::MatrixXd& jac, const Eigen::VectorXd& r,
+                                   const std::vector<int>& cluster_of_row, int clusters);
 
 }  // namespace vzero::detail
