@@ -115,7 +115,13 @@ ModelChoice compare_progress_models(const ProgressFit& mm, const ProgressFit& pi
 // two or more enzyme levels: the reads up to u_common, the [E]·τ every level reaches (τ = read
 // time + lead, min); product = b_w + Σ_{d=1..4} c_d·(u/u_common)^d with one curve per enzyme
 // level (full model) or one curve for all (reduced), an intercept per well in both; the
-// nested-model F test (linear least squares, exact under normal noise). Its size: the [E]·τ
+// nested-model F test (linear least squares, exact under normal noise), by generalized least
+// squares when the reads of one time share an error (wells subtracting one blank share its read
+// noise): cov = σ_e²·I + σ_b²·11ᵀ among the reads of one time, σ_b² and σ_e² from the ordinary
+// fit's residuals by moments (`shared_noise` = σ_b²/(σ_e² + σ_b²)); the error term is the
+// scatter between replicate wells (one curve per well against one per level, (W − L)·4 df)
+// when some level has two or more wells, else the reads' (`replicate_error`). P*, the curves,
+// the intercepts and et_ratio come from the ordinary fit. Its size: the [E]·τ
 // each level needs to make P* (half the smallest product the levels' curves reach at
 // u_common); `et_ratio` = the lowest level's over the highest's (> 1: the lowest level, read
 // longest per unit enzyme, made less product than [E]·τ promises: it lost activity).
@@ -134,6 +140,8 @@ struct StabilityTest {
   double u_common = NAN;               // enzyme unit × min
   double f = NAN, p_value = NAN;
   int df1 = 0, df2 = 0;
+  double shared_noise = 0;  // σ_b²/(σ_e² + σ_b²): the error share reads of one time have in common
+  bool replicate_error = false;  // the F test's error term: the scatter between replicate wells
   double product_level = NAN;  // P*
   double et_ratio = NAN;  // stated in `verdict` only when p < 0.01 (else noise around 1)
   bool unstable = false;
@@ -202,7 +210,8 @@ std::string progress_json(const ProgressTable& t, const ProgressTableOptions& o,
 // One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
 std::string progress_residuals_csv(const ProgressTable& t);
 // Selwyn's tests, one row per group and S0 (the names of progress_json's): group columns, s0,
-// enzyme_levels, tested, f, df1, df2, p_value, product_level (P*, the traces' unit), et_ratio, flag
+// enzyme_levels, tested, f, df1, df2, p_value, error_term ("replicate wells" or "reads"),
+// shared_noise, product_level (P*, the traces' unit), et_ratio, flag
 // (`enzyme-unstable` or empty), left_out (wells short of reads), verdict (in words).
 std::string progress_stability_csv(const ProgressTable& t);
 // Per group: both fits side by side, the wells left out and the model verdict.

@@ -85,6 +85,8 @@ nlohmann::json stability_json(const StabilityTest& s) {
           {"df1", s.df1},
           {"df2", s.df2},
           {"p_value", s.p_value},
+          {"error_term", !s.tested ? "" : s.replicate_error ? "replicate wells" : "reads"},
+          {"shared_noise", s.shared_noise},
           {"product_level", s.product_level},
           {"et_ratio", s.et_ratio},
           {"unstable", s.unstable},

@@ -162,8 +162,8 @@ std::string progress_residuals_csv(const ProgressTable& t) {
 std::string progress_stability_csv(const ProgressTable& t) {
   detail::CsvOut o;
   header(o, t.group_columns,
-         {"s0", "enzyme_levels", "tested", "f", "df1", "df2", "p_value", "product_level", "et_ratio", "flag", "left_out",
-          "verdict"});
+         {"s0", "enzyme_levels", "tested", "f", "df1", "df2", "p_value", "error_term", "shared_noise", "product_level",
+          "et_ratio", "flag", "left_out", "verdict"});
   for (const auto& g : t.groups)
     for (const StabilityTest& s : g.stability) {
       for (const auto& v : g.group_values) o.field(v), o.separator();
@@ -174,6 +174,8 @@ std::string progress_stability_csv(const ProgressTable& t) {
       o.number(static_cast<double>(s.df1)), o.separator();
       o.number(static_cast<double>(s.df2)), o.separator();
       o.number(s.p_value), o.separator();
+      o.field(!s.tested ? "" : s.replicate_error ? "replicate wells" : "reads"), o.separator();
+      o.number(s.tested ? s.shared_noise : NAN), o.separator();
       o.number(s.product_level), o.separator();
       o.number(s.et_ratio), o.separator();
       o.field(s.unstable ? "enzyme-unstable" : ""), o.separator();
