@@ -11,6 +11,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <filesystem>
 #include <map>
 #include <string>
 #include <vector>
@@ -30,6 +31,7 @@ struct Estimates {
   std::map<std::string, std::array<double, 2>> model_ci;  // estimate ± t(df)·se_model
   std::map<std::string, std::string> kind;                // which interval ci_low, ci_high are
   std::string failure;                                    // why vzero progress gave no fit
+  int series = 0, significant = 0, flags = 0;             // Selwyn's tests (stable enzymes)
   double width(const std::string& key) const { return by.at(key)[2] - by.at(key)[1]; }
 };
 
@@ -47,9 +49,19 @@ Estimates run_plate(std::uint64_t seed, vzero::sim::Plate& plate) {
                                            plate.signal_per_uM * 1e6, spec.stated_limit),
                                dir.path.string());
   REQUIRE_MESSAGE(rates.status == 0, rates.describe());
-  const auto r = run_vzero("progress rates.csv --traces traces.csv --x substrate --enzyme enzyme --no-profile -o p.csv",
-                           dir.path.string());
+  const auto r = run_vzero(
+      "progress rates.csv --traces traces.csv --x substrate --enzyme enzyme --no-profile -o p.csv --stability st.csv",
+      dir.path.string());
   Estimates e;
+  if (std::filesystem::exists(dir / "st.csv")) {
+    const vzero::Table st = vzero::read_table(dir / "st.csv");
+    for (std::size_t k = 0; k < st.rows.size(); ++k) {
+      if (st.rows[k][st.column("tested")] != "1") continue;
+      ++e.series;
+      e.significant += st.number(k, st.column("p_value")).value_or(1) < 0.01;
+      e.flags += st.rows[k][st.column("flag")] == "enzyme-unstable";
+    }
+  }
   if (r.status != 0) {  // no fit: the reason on stderr, the table with the group's message
     REQUIRE_MESSAGE(r.err.find("no progress fit succeeded") != std::string::npos, r.describe());
     e.failure = r.err.substr(0, r.err.find('\n'));
@@ -70,6 +82,7 @@ Estimates run_plate(std::uint64_t seed, vzero::sim::Plate& plate) {
 }
 
 struct Coverage {
+  int series = 0, significant = 0, flags = 0;  // Selwyn's tests: every enzyme of the simulator is stable
   int plates = 0, failed = 0, within = 0, narrower = 0, km_held = 0, kcat_held = 0, km_held_model = 0, kcat_held_model = 0;
   std::vector<double> km_ratio, kcat_ratio, km_err, kcat_err;  // widths progress / initial rates; errors in %
 };
@@ -88,6 +101,7 @@ Coverage coverage(std::uint64_t first, std::uint64_t last) {
     CAPTURE(seed);
     vzero::sim::Plate plate;
     const Estimates e = run_plate(seed, plate);
+    c.series += e.series, c.significant += e.significant, c.flags += e.flags;
     if (!e.failure.empty()) {
       MESSAGE(fmt::format("seed {}: no progress fit: {}", seed, e.failure));
       ++c.failed;
@@ -128,6 +142,8 @@ Coverage coverage(std::uint64_t first, std::uint64_t last) {
                       first, last, c.failed, c.within, c.plates, rms(c.km_err), rms(c.kcat_err), c.narrower, c.plates,
                       median(c.km_ratio), median(c.kcat_ratio), c.km_held, c.plates, c.kcat_held, c.plates,
                       c.km_held_model, c.kcat_held_model));
+  MESSAGE(fmt::format("seeds {}-{}: Selwyn's test on {} stable S0 series: {} significant at 1 %, {} flagged", first,
+                      last, c.series, c.significant, c.flags));
   return c;
 }
 
@@ -143,6 +159,8 @@ TEST_CASE("strong depletion: progress-curve Km and kcat within 2 % of the truth 
   CHECK(median(c.kcat_ratio) < 1);
   // Binomial(10, 0.95): P(7 or fewer of 10 intervals hold the truth) = 0.012.
   CHECK(c.km_held >= 8);
+  // Selwyn's test on stable enzymes: Binomial(80, 0.01): P(3 or more flags) = 0.047.
+  CHECK(c.flags <= 2);
 }
 
 TEST_CASE("strong depletion, twenty fresh plates: the intervals' coverage") {
@@ -151,5 +169,6 @@ TEST_CASE("strong depletion, twenty fresh plates: the intervals' coverage") {
   // 30007–30097 and 33007–33197.
   const Coverage c = coverage(31007, 31197);
   CHECK(c.within == c.plates);
+  CHECK(c.flags <= 3);  // Binomial(160, 0.01): P(4 or more) = 0.077
   CHECK(median(c.km_ratio) < 1);
 }
