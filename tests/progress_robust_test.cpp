@@ -33,3 +33,28 @@ TEST_CASE("CR1 cluster-robust covariance: a straight line worked by hand") {
   CHECK(vzero::detail::well_clusters({"", "", ""}, 5, of, by) == 3);
   CHECK(by == "wells");
 }
+
+TEST_CASE("CR3 cluster-robust covariance: the same line worked by hand") {
+  // The line above, no offsets (well_of_row empty: nothing to partial out). By hand,
+  // with (I − X_g·A·X_gᵀ)⁻¹r_g = r_g + X_g·(XᵀX − X_gᵀX_g)⁻¹·X_gᵀr_g: cluster {0, 1}:
+  // (XᵀX − X_1ᵀX_1)⁻¹ = [[2, 5], [5, 13]]⁻¹ = [[13, −5], [−5, 2]], X_1ᵀr_1 = (0, −1), ũ_1 = (6, 2),
+  // score (8, 2); cluster {2, 3}: [[2, 1], [1, 1]]⁻¹ = [[1, −1], [−1, 2]], X_2ᵀr_2 = (0, 1),
+  // ũ_2 = (2, 6), score (8, 22); M = [[128, 192], [192, 488]]; A·M·A = [[26, −12], [−12, 8]];
+  // times (G − 1)/G = 1/2: [[13, −6], [−6, 4]].
+  Eigen::MatrixXd j(4, 2);
+  j << 1, 0, 1, 1, 1, 2, 1, 3;
+  Eigen::VectorXd r(4);
+  r << 1, -1, -1, 1;
+  const Eigen::MatrixXd v = vzero::detail::cluster_covariance_cr3(j, r, 2, {}, {0, 0, 1, 1}, 2);
+  REQUIRE(v.rows() == 2);
+  CHECK(v(0, 0) == doctest::Approx(13).epsilon(1e-12));
+  CHECK(v(0, 1) == doctest::Approx(-6).epsilon(1e-12));
+  CHECK(v(1, 1) == doctest::Approx(4).epsilon(1e-12));
+  // With offsets (wells {0, 1} and {2, 3}, each its own cluster) only the slope's within-well
+  // part counts: when the second well's x does not vary (2, 2), the first well alone determines
+  // the slope, leaving it out leaves it undetermined, and CR3 is refused (empty).
+  Eigen::MatrixXd jo(4, 3);
+  jo << 0, 1, 0, 1, 1, 0, 2, 0, 1, 2, 0, 1;
+  CHECK(vzero::detail::cluster_covariance_cr3(jo, r, 1, {0, 0, 1, 1}, {0, 0, 1, 1}, 2).size() == 0);
+}
+

@@ -16,9 +16,11 @@
 // Jacobian from the implicit equation: ∂S/∂θ = S·∂F/∂θ / (a + b·S), which for
 // Michaelis–Menten is the dW/dx = W/(x(1 + W)) rule); Km, Vmax, kcat, Kp on the log scale
 // (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹ (model-based) and from the
-// cluster-robust sandwich (CR1: (JᵀJ)⁻¹·Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ·(JᵀJ)⁻¹ · G/(G−1)·(N−1)/(N−p),
-// clusters g the wells sharing a blank set, or single wells; Cameron & Miller, J. Human
-// Resources 50, 2015); the printed Wald interval is the wider of est ± t(df)·SE_model and
+// cluster-robust sandwich (CR3, fit/progress_model.hpp: the offsets partialled out, each
+// cluster's residuals r_g scaled by (I − H_gg)⁻¹, close to the jackknife over clusters; CR1,
+// (JᵀJ)⁻¹·Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ·(JᵀJ)⁻¹·G/(G−1)·(N−1)/(N−p), when a cluster alone determines
+// a parameter; clusters g the wells sharing a blank set, or single wells; Cameron & Miller,
+// J. Human Resources 50, 2015); the printed Wald interval is the wider of est ± t(df)·SE_model and
 // est ± t(G−1)·SE_cluster, the profile-t cutoff stretched by the same factor. AIC as `vzero
 // fit` computes it (unit weights).
 //
@@ -75,10 +77,11 @@ struct ProgressFit {
   std::string model;                // "mm" or "mm-product-inhibition"
   std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s];
                                               // se and ci_* of the wider interval (see above)
-  std::vector<double> se_model, se_cluster;   // per parameter: s²(JᵀJ)⁻¹ and CR1 standard errors
+  std::vector<double> se_model, se_cluster;   // per parameter: s²(JᵀJ)⁻¹ and cluster-robust SE
   std::vector<bool> cluster_wider;            // per parameter: the cluster interval is the printed one
   int clusters = 0;                           // G: blank sets (when 5 or more), else wells
   std::string cluster_by;                     // "blank sets" or "wells"
+  std::string cluster_formula;                // "CR3", or "CR1" when a cluster alone determines a parameter
   double t_cluster = NAN;                     // t(1 − α/2, G − 1)
   std::vector<ParameterEstimate> offsets;     // b_w per well (wells order; model-based SE)
   bool converged = false;

@@ -259,12 +259,23 @@ void fill_fit(ProgressFit& out, const std::vector<ProgressWell>& wells, const de
                               ldlt.solve(Eigen::MatrixXd::Identity(jtj.rows(), jtj.cols()));
   std::vector<std::string> keys;
   for (const auto& w : wells) keys.push_back(w.cluster);
-  std::vector<int> of_well, of_row;
+  std::vector<int> of_well, of_row, well_row;
   out.clusters = detail::well_clusters(keys, k_min_blank_sets, of_well, out.cluster_by);
-  for (std::size_t w = 0; w < wells.size(); ++w) of_row.insert(of_row.end(), wells[w].p.size(), of_well[w]);
+  for (std::size_t w = 0; w < wells.size(); ++w) {
+    of_row.insert(of_row.end(), wells[w].p.size(), of_well[w]);
+    well_row.insert(well_row.end(), wells[w].p.size(), static_cast<int>(w));
+  }
   out.t_cluster = out.clusters >= 2 ? student_t_quantile(1 - (1 - o.confidence) / 2, out.clusters - 1) : NAN;
-  const Eigen::MatrixXd cov_cluster = out.clusters >= 2 ? detail::cluster_covariance(best.jac, best.r, of_row, out.clusters)
-                                                        : Eigen::MatrixXd::Constant(cov.rows(), cov.cols(), NAN);
+  // CR3 (close to the jackknife over clusters); CR1 when a cluster alone determines a parameter.
+  Eigen::MatrixXd cov_cluster = Eigen::MatrixXd::Constant(cov.rows(), cov.cols(), NAN);
+  if (out.clusters >= 2) {
+    cov_cluster = detail::cluster_covariance_cr3(best.jac, best.r, l.offsets, well_row, of_row, out.clusters);
+    out.cluster_formula = "CR3";
+    if (cov_cluster.size() == 0) {
+      cov_cluster = detail::cluster_covariance(best.jac, best.r, of_row, out.clusters);
+      out.cluster_formula = "CR1";
+    }
+  }
   shared_estimates(out, f, best, cov, cov_cluster, l, o);
   Eigen::Index k = 0;
   for (std::size_t w = 0; w < wells.size(); ++w) {

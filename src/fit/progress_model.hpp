@@ -51,4 +51,16 @@ int well_clusters(const std::vector<std::string>& keys, int min_shared, std::vec
 Eigen::MatrixXd cluster_covariance(const Eigen::MatrixXd& jac, const Eigen::VectorXd& r,
                                    const std::vector<int>& cluster_of_row, int clusters);
 
+// CR3 cluster-robust covariance of the first `shared` parameters when every other column of
+// `jac` is one well's offset (1 on its reads; wells nested in clusters): the offsets are
+// partialled out (X = the shared columns less their mean within each well, well_of_row), then
+// A·M·A·(G−1)/G with A = (XᵀX)⁻¹, M = Σ_g (X_gᵀ ũ_g)(X_gᵀ ũ_g)ᵀ, ũ_g = (I − X_g·A·X_gᵀ)⁻¹ r_g
+// (MacKinnon & White, J. Econometrics 29, 1985; Bell & McCaffrey, Survey Methodology 28, 2002:
+// close to the delete-one-cluster jackknife, not biased low with few clusters as CR1 is).
+// An empty well_of_row: no offsets, nothing partialled out.
+// Empty when some cluster alone determines a shared parameter (its leave-out is singular).
+Eigen::MatrixXd cluster_covariance_cr3(const Eigen::MatrixXd& jac, const Eigen::VectorXd& r, Eigen::Index shared,
+                                       const std::vector<int>& well_of_row, const std::vector<int>& cluster_of_row,
+                                       int clusters);
+
 }  // namespace vzero::detail

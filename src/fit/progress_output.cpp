@@ -228,8 +228,8 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
       for (std::size_t k = 0; k < g.mm.parameters.size() && k < g.mm.se_cluster.size(); ++k)
         ratios += fmt::format("{}{} {:.2f}", k ? ", " : "", g.mm.parameters[k].name,
                               g.mm.se_cluster[k] / g.mm.se_model[k]);
-      out += fmt::format("  cluster-robust SE over {} {} / model SE: {}; each interval is the wider of the two\n",
-                         g.mm.clusters, g.mm.cluster_by, ratios);
+      out += fmt::format("  cluster-robust ({}) SE over {} {} / model SE: {}; each interval is the wider of the two\n",
+                         g.mm.cluster_formula, g.mm.clusters, g.mm.cluster_by, ratios);
     }
     if (g.mm.ok && !enzyme_column.empty() && !kcat_units(t, enzyme_unit).kcat_why.empty())
       out += "  note: kcat stays in " + unit_of(t, "kcat", enzyme_unit) + ": " + kcat_units(t, enzyme_unit).kcat_why +

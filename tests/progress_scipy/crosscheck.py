@@ -6,10 +6,13 @@ SciPy's least_squares (Debian's python3-scipy) fits the same reads vzero used (i
 (solve_ivp, DOP853, rtol 1e-11) instead of the Lambert W closed form, and finite-difference
 Jacobians instead of analytic ones: shared Km and Vmax, one offset per well, lead 0.
 It prints both fits' Km and Vmax with their model-based standard errors (s²(JᵀJ)⁻¹) and, with
-RATES.csv, their cluster-robust ones: CR1 written out in numpy from its formula (no
-statistics package), B·M·B·G/(G−1)·(N−1)/(N−p), B = (JᵀJ)⁻¹, M = Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ,
-the clusters g the wells that subtract the same blank wells (the blank_wells column; single
-wells when fewer than 5 such sets), J SciPy's finite-difference Jacobian at its optimum.
+RATES.csv, their cluster-robust ones written out in numpy from the formulas (no statistics
+package), the clusters g the wells that subtract the same blank wells (the blank_wells
+column; single wells when fewer than 5 such sets), J SciPy's finite-difference Jacobian at
+its optimum: CR1, B·M·B·G/(G−1)·(N−1)/(N−p), B = (JᵀJ)⁻¹, M = Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ; and
+CR3, the one vzero prints, with the offsets partialled out by the full-rank projection
+instead of vzero's within-well means: X = (I − P_off)·J_shared, A = (XᵀX)⁻¹,
+ũ_g = (I − X_g·A·X_gᵀ)⁻¹·r_g by a direct solve, A·Σ_g (X_gᵀũ_g)(X_gᵀũ_g)ᵀ·A·(G−1)/G.
 
 usage: /usr/bin/python3 crosscheck.py RESIDUALS.csv PROGRESS.csv GROUP [RATES.csv]
   (from: vzero progress rates.csv --traces traces.csv --x substrate --group group
@@ -47,6 +50,23 @@ def cr1(jac, r, cluster_of_row):
         meat += np.outer(score, score)
     bread = np.linalg.inv(jac.T @ jac)
     return g / (g - 1) * (n - 1) / (n - p) * bread @ meat @ bread, g
+
+
+def cr3(jac, r, cluster_of_row, shared):
+    """CR3 of the shared parameters, the offset columns partialled out by projection."""
+    off = jac[:, shared:]
+    x = jac[:, :shared] - off @ np.linalg.lstsq(off, jac[:, :shared], rcond=None)[0]
+    a = np.linalg.inv(x.T @ x)
+    ids = sorted(set(cluster_of_row))
+    meat = np.zeros((shared, shared))
+    for c in ids:
+        rows = np.array([k == c for k in cluster_of_row])
+        xg = x[rows]
+        u = np.linalg.solve(np.eye(xg.shape[0]) - xg @ a @ xg.T, r[rows])
+        score = xg.T @ u
+        meat += np.outer(score, score)
+    g = len(ids)
+    return (g - 1) / g * a @ meat @ a
 
 
 def clusters_of(rates_path, names):
@@ -93,6 +113,8 @@ def main():
         of_row = [of_well[k] for k, n in enumerate(names) for _ in wells[n]["t"]]
         cov_c, g = cr1(fit.jac, fit.fun, of_row)
         print(f"scipy  CR1 over {g} {by}: Km se {km * np.sqrt(cov_c[0, 0]):.4g}   Vmax se {vmax * np.sqrt(cov_c[1, 1]):.4g}")
+        cov_3 = cr3(fit.jac, fit.fun, of_row, 2)
+        print(f"scipy  CR3 over {g} {by}: Km se {km * np.sqrt(cov_3[0, 0]):.4g}   Vmax se {vmax * np.sqrt(cov_3[1, 1]):.4g}")
     with open(progress, newline="") as f:
         rows = [r for r in csv.DictReader(f)
                 if r["group"] == group and r["method"] == "progress" and r["model"] == "mm"]
@@ -101,7 +123,7 @@ def main():
           f"Vmax {float(est['Vmax']['estimate']):.6g} se {float(est['Vmax']['se_model']):.4g}"
           f"   residual SD {float(est['Km']['residual_sd']):.6g}")
     if rates:
-        print(f"vzero  CR1 over {est['Km']['clusters']} clusters: Km se {float(est['Km']['se_cluster']):.4g}   "
+        print(f"vzero  cluster SE over {est['Km']['clusters']} clusters: Km se {float(est['Km']['se_cluster']):.4g}   "
               f"Vmax se {float(est['Vmax']['se_cluster']):.4g}")
 
 
