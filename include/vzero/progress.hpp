@@ -15,8 +15,14 @@
 // Least squares over every read of every well at once (Levenberg–Marquardt, analytic
 // Jacobian from the implicit equation: ∂S/∂θ = S·∂F/∂θ / (a + b·S), which for
 // Michaelis–Menten is the dW/dx = W/(x(1 + W)) rule); Km, Vmax, kcat, Kp on the log scale
-// (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹, Wald-t and profile-t
-// intervals, AIC as `vzero fit` computes it (unit weights).
+// (positive), offsets and lead on their own. SE from s²·(JᵀJ)⁻¹ (model-based) and from the
+// cluster-robust sandwich (CR3, fit/progress_model.hpp: the offsets partialled out, each
+// cluster's residuals r_g scaled by (I − H_gg)⁻¹, close to the jackknife over clusters; CR1,
+// (JᵀJ)⁻¹·Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ·(JᵀJ)⁻¹·G/(G−1)·(N−1)/(N−p), when a cluster alone determines
+// a parameter; clusters g the wells sharing a blank set, or single wells; Cameron & Miller,
+// J. Human Resources 50, 2015); the printed Wald interval is the wider of est ± t(df)·SE_model and
+// est ± t(G−1)·SE_cluster, the profile-t cutoff stretched by the same factor. AIC as `vzero
+// fit` computes it (unit weights).
 //
 // **Example**:
 //   std::vector<vzero::ProgressWell> wells = ...;  // t_s, p per well, s0 in p's unit
@@ -45,6 +51,8 @@ struct ProgressWell {
   double enzyme = NAN;             // enzyme concentration (kcat fits), else NaN
   std::vector<double> t_s, p;      // read times (s) and product (corrected, converted)
   bool trusted_only = false;       // only the reads the rate finder used (fit_progress_tables)
+  std::string cluster;             // wells with one non-empty key share errors (the same blank
+                                   // wells); empty: the well is a cluster of its own
   std::vector<double> t_left_s, p_left;  // ok reads the fit left out (drawn apart in the report)
 };
 
@@ -67,8 +75,15 @@ struct ProgressFit {
   bool ok = false;
   std::string message;              // why there is no fit
   std::string model;                // "mm" or "mm-product-inhibition"
-  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s]
-  std::vector<ParameterEstimate> offsets;     // b_w per well (wells order)
+  std::vector<ParameterEstimate> parameters;  // Km, Vmax|kcat|Vmax[E=…] per level, [Kp], [lead_s];
+                                              // se and ci_* of the wider interval (see above)
+  std::vector<double> se_model, se_cluster;   // per parameter: s²(JᵀJ)⁻¹ and cluster-robust SE
+  std::vector<bool> cluster_wider;            // per parameter: the cluster interval is the printed one
+  int clusters = 0;                           // G: blank sets (when 5 or more), else wells
+  std::string cluster_by;                     // "blank sets" or "wells"
+  std::string cluster_formula;                // "CR3", or "CR1" when a cluster alone determines a parameter
+  double t_cluster = NAN;                     // t(1 − α/2, G − 1)
+  std::vector<ParameterEstimate> offsets;     // b_w per well (wells order; model-based SE)
   bool converged = false;
   int iterations = 0;
   int n = 0, df = 0;
@@ -103,7 +118,13 @@ ModelChoice compare_progress_models(const ProgressFit& mm, const ProgressFit& pi
 // two or more enzyme levels: the reads up to u_common, the [E]·τ every level reaches (τ = read
 // time + lead, min); product = b_w + Σ_{d=1..4} c_d·(u/u_common)^d with one curve per enzyme
 // level (full model) or one curve for all (reduced), an intercept per well in both; the
-// nested-model F test (linear least squares, exact under normal noise). Its size: the [E]·τ
+// nested-model F test (linear least squares, exact under normal noise), by generalized least
+// squares when the reads of one time share an error (wells subtracting one blank share its read
+// noise): cov = σ_e²·I + σ_b²·11ᵀ among the reads of one time, σ_b² and σ_e² from the ordinary
+// fit's residuals by moments (`shared_noise` = σ_b²/(σ_e² + σ_b²)); the error term is the
+// scatter between replicate wells (one curve per well against one per level, (W − L)·4 df)
+// when some level has two or more wells, else the reads' (`replicate_error`). P*, the curves,
+// the intercepts and et_ratio come from the ordinary fit. Its size: the [E]·τ
 // each level needs to make P* (half the smallest product the levels' curves reach at
 // u_common); `et_ratio` = the lowest level's over the highest's (> 1: the lowest level, read
 // longest per unit enzyme, made less product than [E]·τ promises: it lost activity).
@@ -122,6 +143,8 @@ struct StabilityTest {
   double u_common = NAN;               // enzyme unit × min
   double f = NAN, p_value = NAN;
   int df1 = 0, df2 = 0;
+  double shared_noise = 0;  // σ_b²/(σ_e² + σ_b²): the error share reads of one time have in common
+  bool replicate_error = false;  // the F test's error term: the scatter between replicate wells
   double product_level = NAN;  // P*
   double et_ratio = NAN;  // stated in `verdict` only when p < 0.01 (else noise around 1)
   bool unstable = false;
@@ -190,7 +213,8 @@ std::string progress_json(const ProgressTable& t, const ProgressTableOptions& o,
 // One row per read used: group columns, model, well, s0, time_s, product, fitted, residual.
 std::string progress_residuals_csv(const ProgressTable& t);
 // Selwyn's tests, one row per group and S0 (the names of progress_json's): group columns, s0,
-// enzyme_levels, tested, f, df1, df2, p_value, product_level (P*, the traces' unit), et_ratio, flag
+// enzyme_levels, tested, f, df1, df2, p_value, error_term ("replicate wells" or "reads"),
+// shared_noise, product_level (P*, the traces' unit), et_ratio, flag
 // (`enzyme-unstable` or empty), left_out (wells short of reads), verdict (in words).
 std::string progress_stability_csv(const ProgressTable& t);
 // Per group: both fits side by side, the wells left out and the model verdict.

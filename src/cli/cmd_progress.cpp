@@ -47,12 +47,16 @@ integrated form) and says which model the data support (AIC and a likelihood-rat
 Enzyme stability (Selwyn's test, with --enzyme or --enzyme-levels): at each S0 read at two
 or more enzyme amounts, product against [E]·t must be one curve while the enzyme keeps its
 activity. A nested-model F test (one curve per enzyme level against one for all, up to the
-[E]·t every level reaches) and the [E]·t ratio the lowest level needs to make the same
-product; p < 0.01 with a ratio above 1.05 prints "[flag: enzyme-unstable]".
+[E]·t every level reaches; generalized least squares for the noise the reads of one time
+share, and the scatter between replicate wells as its error when a level has two) and the
+[E]·t ratio the lowest level needs to make the same product; p < 0.01 with a ratio above
+1.05 prints "[flag: enzyme-unstable]".
 
 Output: a table on stdout (not with -q); -o the tidy CSV (one row per group, method,
 model and parameter, each well's offset a row: estimate, SE, 95 % Wald-t and profile-t
-intervals, unit, n, df, RSS, residual SD, AIC); --residuals every read's fitted value and
+intervals, the model-based and the cluster-robust SE (clusters: wells sharing a blank set),
+which of the two intervals is printed (the wider), unit, n, df, RSS, residual SD, AIC);
+--residuals every read's fitted value and
 residual; --stability Selwyn's tests, one row per S0 (F, df, p, the [E]·t ratio, the
 flag, the verdict); --json the same fits as one JSON document (the shape of vzero fit --json, with
 the model comparison, the initial-rate fit and the stability tests); --report a standalone

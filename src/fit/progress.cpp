@@ -150,6 +150,11 @@ std::vector<Eigen::VectorXd> starts(const std::vector<ProgressWell>& wells, cons
 namespace vzero {
 namespace {
 
+// Wells sharing a blank set form one cluster of the robust covariance when there are at least
+// this many sets (fewer clusters estimate a covariance too poorly; Cameron & Miller 2015);
+// else every well is a cluster of its own.
+constexpr int k_min_blank_sets = 5;
+
 // Why these wells cannot give the parameters, or "".
 std::string pre_check(const std::vector<ProgressWell>& wells, const Layout& l, std::size_t n) {
   if (wells.empty()) return "no wells to fit";
@@ -197,9 +202,12 @@ double profile_side(const detail::ResidualFn& f, const detail::LsqResult& best, 
   return best.theta(j) + side * (a + b) / 2;
 }
 
-// Estimates, SE (delta method from ln p), Wald-t and profile-t intervals of the shared parameters.
+// Estimates, SE (delta method from ln p), Wald-t and profile-t intervals of the shared
+// parameters: the wider of the model-based and the cluster-robust interval, the profile-t
+// cutoff stretched by the same factor (as a quasi-likelihood profile scales its deviance).
 void shared_estimates(ProgressFit& out, const detail::ResidualFn& f, const detail::LsqResult& best,
-                      const Eigen::MatrixXd& cov, const Layout& l, const ProgressOptions& o) {
+                      const Eigen::MatrixXd& cov, const Eigen::MatrixXd& cov_cluster, const Layout& l,
+                      const ProgressOptions& o) {
   std::vector<std::pair<std::string, Eigen::Index>> names = {{"Km", 0}};
   if (l.levels.empty()) names.push_back({l.enzyme ? "kcat" : "Vmax", 1});
   for (std::size_t k = 0; k < l.levels.size(); ++k)
@@ -210,14 +218,24 @@ void shared_estimates(ProgressFit& out, const detail::ResidualFn& f, const detai
     const bool log_scale = name != "lead_s";
     ParameterEstimate e;
     e.name = name;
-    const double th = best.theta(j), se_th = std::sqrt(cov(j, j));
+    const double th = best.theta(j), se_model = std::sqrt(cov(j, j)), se_cluster = std::sqrt(cov_cluster(j, j));
+    // Half-widths on θ's scale; the cluster one needs G ≥ 2 and a finite SE.
+    const double h_model = out.t_quantile * se_model;
+    const double h_cluster = std::isfinite(out.t_cluster) && std::isfinite(se_cluster) ? out.t_cluster * se_cluster : 0;
+    const bool wider = h_cluster > h_model;
+    const double se_th = wider ? se_cluster : se_model, q = wider ? out.t_cluster : out.t_quantile;
     e.estimate = log_scale ? std::exp(th) : th;
     e.se = log_scale ? e.estimate * se_th : se_th;
-    e.ci_low = e.estimate - out.t_quantile * e.se;
-    e.ci_high = e.estimate + out.t_quantile * e.se;
+    e.ci_low = e.estimate - q * e.se;
+    e.ci_high = e.estimate + q * e.se;
+    const double scale = log_scale ? e.estimate : 1.0;
+    out.se_model.push_back(scale * se_model);
+    out.se_cluster.push_back(scale * se_cluster);
+    out.cluster_wider.push_back(wider);
     if (o.profile && out.residual_sd > 0 && log_scale) {  // the lead: Wald only (its profile has a kink at τ = 0)
-      const double lo = profile_side(f, best, j, se_th, out.residual_sd, out.t_quantile, -1, o.max_iterations);
-      const double hi = profile_side(f, best, j, se_th, out.residual_sd, out.t_quantile, 1, o.max_iterations);
+      const double cutoff = out.t_quantile * (wider ? h_cluster / h_model : 1.0);
+      const double lo = profile_side(f, best, j, se_th, out.residual_sd, cutoff, -1, o.max_iterations);
+      const double hi = profile_side(f, best, j, se_th, out.residual_sd, cutoff, 1, o.max_iterations);
       e.profile_low = log_scale ? std::exp(lo) : lo;
       e.profile_high = log_scale ? std::exp(hi) : hi;
     }
@@ -239,7 +257,26 @@ void fill_fit(ProgressFit& out, const std::vector<ProgressWell>& wells, const de
   Eigen::LDLT<Eigen::MatrixXd> ldlt(jtj);
   const Eigen::MatrixXd cov = out.residual_sd * out.residual_sd *
                               ldlt.solve(Eigen::MatrixXd::Identity(jtj.rows(), jtj.cols()));
-  shared_estimates(out, f, best, cov, l, o);
+  std::vector<std::string> keys;
+  for (const auto& w : wells) keys.push_back(w.cluster);
+  std::vector<int> of_well, of_row, well_row;
+  out.clusters = detail::well_clusters(keys, k_min_blank_sets, of_well, out.cluster_by);
+  for (std::size_t w = 0; w < wells.size(); ++w) {
+    of_row.insert(of_row.end(), wells[w].p.size(), of_well[w]);
+    well_row.insert(well_row.end(), wells[w].p.size(), static_cast<int>(w));
+  }
+  out.t_cluster = out.clusters >= 2 ? student_t_quantile(1 - (1 - o.confidence) / 2, out.clusters - 1) : NAN;
+  // CR3 (close to the jackknife over clusters); CR1 when a cluster alone determines a parameter.
+  Eigen::MatrixXd cov_cluster = Eigen::MatrixXd::Constant(cov.rows(), cov.cols(), NAN);
+  if (out.clusters >= 2) {
+    cov_cluster = detail::cluster_covariance_cr3(best.jac, best.r, l.offsets, well_row, of_row, out.clusters);
+    out.cluster_formula = "CR3";
+    if (cov_cluster.size() == 0) {
+      cov_cluster = detail::cluster_covariance(best.jac, best.r, of_row, out.clusters);
+      out.cluster_formula = "CR1";
+    }
+  }
+  shared_estimates(out, f, best, cov, cov_cluster, l, o);
   Eigen::Index k = 0;
   for (std::size_t w = 0; w < wells.size(); ++w) {
     const Eigen::Index j = l.offsets + static_cast<Eigen::Index>(w);

@@ -26,8 +26,21 @@ nlohmann::json progress_fit_json(const ProgressTable& t, const ProgressFit& f, c
   j["residual_sd"] = f.residual_sd;
   j["aic"] = f.aic;
   j["t_quantile"] = f.t_quantile;
+  j["clusters"] = f.clusters;
+  j["cluster_by"] = f.cluster_by;
+  j["cluster_formula"] = f.cluster_formula;
+  j["t_cluster"] = f.t_cluster;
   nlohmann::json params = nlohmann::json::array(), offsets = nlohmann::json::array();
-  for (const auto& e : f.parameters) params.push_back(estimate_json(e, progress_unit(t, e.name, o.enzyme_column)));
+  for (std::size_t k = 0; k < f.parameters.size(); ++k) {
+    const ParameterEstimate& e = f.parameters[k];
+    nlohmann::json x = estimate_json(e, progress_unit(t, e.name, o.enzyme_column));
+    if (k < f.se_model.size()) {
+      x["se_model"] = f.se_model[k];
+      x["se_cluster"] = f.se_cluster[k];
+      x["interval"] = f.cluster_wider[k] ? "cluster" : "model";
+    }
+    params.push_back(x);
+  }
   for (const auto& e : f.offsets) {
     nlohmann::json x = estimate_json(e, t.conc_unit);
     x["well"] = e.name;
@@ -73,6 +86,8 @@ nlohmann::json stability_json(const StabilityTest& s) {
           {"df1", s.df1},
           {"df2", s.df2},
           {"p_value", s.p_value},
+          {"error_term", !s.tested ? "" : s.replicate_error ? "replicate wells" : "reads"},
+          {"shared_noise", s.shared_noise},
           {"product_level", s.product_level},
           {"et_ratio", s.et_ratio},
           {"unstable", s.unstable},
@@ -128,7 +143,12 @@ std::string progress_json(const ProgressTable& t, const ProgressTableOptions& o,
   j["group_columns"] = t.group_columns;
   j["units"] = {{"v", t.rate_unit}, {"conc", t.conc_unit}};
   j["aic_formula"] = k_aic_formula;
-  j["covariance_formula"] = "s^2 (J'J)^-1 at the optimum, Km, Vmax, kcat, Kp on the log scale, s^2 = RSS/df";
+  j["covariance_formula"] =
+      "model: s^2 (J'J)^-1 at the optimum, Km, Vmax, kcat, Kp on the log scale, s^2 = RSS/df; cluster (CR3): "
+      "A [sum_g X_g' u_g u_g' X_g] A (G-1)/G, X the shared columns of J less their mean within each well, "
+      "A = (X'X)^-1, u_g = (I - X_g A X_g')^-1 r_g; or, when a cluster alone determines a parameter, CR1: "
+      "(J'J)^-1 [sum_g J_g' r_g r_g' J_g] (J'J)^-1 G/(G-1) (N-1)/(N-p); clusters g the wells sharing a blank set "
+      "(5 or more sets) or single wells; each interval the wider of est +- t(df) se_model and est +- t(G-1) se_cluster";
   j["formula"] = "S(t) = Km*W0((S0/Km)*exp((S0 - Vmax*(t + lead))/Km)), product = S0 - S(t) + offset";
   j["options"] = {{"role", o.role},
                   {"fit_lead", o.fit.fit_lead},

@@ -55,6 +55,13 @@ void estimate_cells(detail::CsvOut& o, const ParameterEstimate& e) {
   }
 }
 
+// se_model, se_cluster, interval ("model" or "cluster": which one ci_low/ci_high are), clusters.
+void spread_cells(detail::CsvOut& o, double se_model, double se_cluster, std::string_view interval, int clusters) {
+  o.separator(), o.number(se_model), o.separator(), o.number(se_cluster), o.separator(), o.field(interval);
+  o.separator();
+  if (clusters > 0) o.integer(clusters);
+}
+
 void row_head(detail::CsvOut& o, const ProgressGroup& g, std::string_view method, std::string_view model,
               std::string_view parameter, std::string_view well) {
   for (const auto& v : g.group_values) {
@@ -75,18 +82,25 @@ void progress_rows(detail::CsvOut& o, const ProgressTable& t, const ProgressGrou
                    const std::string& enzyme_unit, const std::string& message) {
   if (!f.ok) {
     row_head(o, g, "progress", f.model, "", "");
-    for (int k = 0; k < 6; ++k) o.separator();
+    for (int k = 0; k < 10; ++k) o.separator();
     fit_tail(o, "", f.n, f.df, NAN, NAN, NAN, false, f.message);
     return;
   }
-  auto one = [&](const ParameterEstimate& e, std::string_view name, std::string_view well) {
+  auto one = [&](const ParameterEstimate& e, std::string_view name, std::string_view well, std::size_t k) {
     row_head(o, g, "progress", f.model, name, well);
-    estimate_cells(o, in_unit(t, e, name, enzyme_unit));
+    const ParameterEstimate u = in_unit(t, e, name, enzyme_unit);
+    estimate_cells(o, u);
+    const double factor = e.se > 0 ? u.se / e.se : 1.0;  // kcat's unit factor
+    if (k < f.se_model.size())
+      spread_cells(o, factor * f.se_model[k], factor * f.se_cluster[k], f.cluster_wider[k] ? "cluster" : "model",
+                   f.clusters);
+    else
+      spread_cells(o, u.se, NAN, "model", 0);  // an offset: model-based
     fit_tail(o, unit_of(t, std::string(name), enzyme_unit), f.n, f.df, f.rss, f.residual_sd, f.aic, f.converged,
              message.empty() ? f.message : message);
   };
-  for (const auto& e : f.parameters) one(e, e.name, "");
-  for (const auto& e : f.offsets) one(e, "offset", e.name);
+  for (std::size_t k = 0; k < f.parameters.size(); ++k) one(f.parameters[k], f.parameters[k].name, "", k);
+  for (const auto& e : f.offsets) one(e, "offset", e.name, f.se_model.size());
 }
 
 }  // namespace
@@ -99,7 +113,8 @@ std::string progress_csv(const ProgressTable& t, const std::string& enzyme_colum
   detail::CsvOut o;
   header(o, t.group_columns,
          {"method", "model", "parameter", "well", "estimate", "se", "ci_low", "ci_high", "profile_low",
-          "profile_high", "unit", "n", "df", "rss", "residual_sd", "aic", "converged", "message"});
+          "profile_high", "se_model", "se_cluster", "interval", "clusters", "unit", "n", "df", "rss", "residual_sd",
+          "aic", "converged", "message"});
   const std::string enzyme_unit = enzyme_column.empty() ? "" : split_header_unit(enzyme_column).second;
   for (const auto& g : t.groups) {
     progress_rows(o, t, g, g.mm, enzyme_unit, "");
@@ -108,14 +123,16 @@ std::string progress_csv(const ProgressTable& t, const std::string& enzyme_colum
     const std::string v_name = enzyme_column.empty() ? "Vmax" : "kcat";
     if (!r.ok) {
       row_head(o, g, "initial-rates", "mm", "", "");
-      for (int k = 0; k < 6; ++k) o.separator();
+      for (int k = 0; k < 10; ++k) o.separator();
       fit_tail(o, "", r.n, r.df, NAN, NAN, NAN, false, r.message);
       continue;
     }
     for (std::size_t j = 0; j < 2; ++j) {
       const std::string name = j == 0 ? v_name : "Km";
       row_head(o, g, "initial-rates", "mm", name, "");
-      estimate_cells(o, in_unit(t, r.parameters[j], name, enzyme_unit));
+      const ParameterEstimate u = in_unit(t, r.parameters[j], name, enzyme_unit);
+      estimate_cells(o, u);
+      spread_cells(o, u.se, NAN, "model", 0);
       fit_tail(o, unit_of(t, name, enzyme_unit), r.n, r.df, r.rss, r.residual_sd, r.aic, r.converged, "");
     }
   }
@@ -145,8 +162,8 @@ std::string progress_residuals_csv(const ProgressTable& t) {
 std::string progress_stability_csv(const ProgressTable& t) {
   detail::CsvOut o;
   header(o, t.group_columns,
-         {"s0", "enzyme_levels", "tested", "f", "df1", "df2", "p_value", "product_level", "et_ratio", "flag", "left_out",
-          "verdict"});
+         {"s0", "enzyme_levels", "tested", "f", "df1", "df2", "p_value", "error_term", "shared_noise", "product_level",
+          "et_ratio", "flag", "left_out", "verdict"});
   for (const auto& g : t.groups)
     for (const StabilityTest& s : g.stability) {
       for (const auto& v : g.group_values) o.field(v), o.separator();
@@ -157,6 +174,8 @@ std::string progress_stability_csv(const ProgressTable& t) {
       o.number(static_cast<double>(s.df1)), o.separator();
       o.number(static_cast<double>(s.df2)), o.separator();
       o.number(s.p_value), o.separator();
+      o.field(!s.tested ? "" : s.replicate_error ? "replicate wells" : "reads"), o.separator();
+      o.number(s.tested ? s.shared_noise : NAN), o.separator();
       o.number(s.product_level), o.separator();
       o.number(s.et_ratio), o.separator();
       o.field(s.unstable ? "enzyme-unstable" : ""), o.separator();
@@ -205,6 +224,12 @@ std::string progress_text(const ProgressTable& t, const std::string& enzyme_colu
       out += fmt::format("  residual SD {:.4g} {}, AIC {:.2f}; initial rates: {}\n", g.mm.residual_sd, t.conc_unit,
                          g.mm.aic,
                          g.rates_fit.ok ? fmt::format("{} wells without flags", g.rates_fit.n) : g.rates_fit.message);
+      std::string ratios;
+      for (std::size_t k = 0; k < g.mm.parameters.size() && k < g.mm.se_cluster.size(); ++k)
+        ratios += fmt::format("{}{} {:.2f}", k ? ", " : "", g.mm.parameters[k].name,
+                              g.mm.se_cluster[k] / g.mm.se_model[k]);
+      out += fmt::format("  cluster-robust ({}) SE over {} {} / model SE: {}; each interval is the wider of the two\n",
+                         g.mm.cluster_formula, g.mm.clusters, g.mm.cluster_by, ratios);
     }
     if (g.mm.ok && !enzyme_column.empty() && !kcat_units(t, enzyme_unit).kcat_why.empty())
       out += "  note: kcat stays in " + unit_of(t, "kcat", enzyme_unit) + ": " + kcat_units(t, enzyme_unit).kcat_why +

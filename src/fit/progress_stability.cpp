@@ -7,6 +7,7 @@
 #include <boost/math/distributions/fisher_f.hpp>
 #include <cmath>
 #include <map>
+#include <stdexcept>
 
 #include "vzero/progress.hpp"
 
@@ -22,6 +23,7 @@ constexpr std::size_t k_min_reads = k_degree + 2;  // per well within u_common
 struct Read {
   std::size_t well = 0, level = 0;
   double x = 0, p = 0;  // u / u_common, product
+  double t = 0;         // read time, s
 };
 
 // Least squares of y on X: the RSS and the coefficients; false when X is rank-deficient.
@@ -33,20 +35,56 @@ bool solve(const Eigen::MatrixXd& x, const Eigen::VectorXd& y, Eigen::VectorXd& 
   return true;
 }
 
-// Design of the reduced (one curve) or full (one curve per level) model.
-Eigen::MatrixXd design(const std::vector<Read>& reads, std::size_t wells, std::size_t levels, bool full) {
-  const auto curves = static_cast<Eigen::Index>(full ? levels : 1);
+// Design of the reduced (one curve), full (one curve per level) or well (one curve per well) model.
+enum class Curves { one, per_level, per_well };
+Eigen::MatrixXd design(const std::vector<Read>& reads, std::size_t wells, std::size_t levels, Curves c) {
+  const auto curves = static_cast<Eigen::Index>(c == Curves::one ? 1 : c == Curves::per_level ? levels : wells);
   Eigen::MatrixXd x = Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(reads.size()),
                                             static_cast<Eigen::Index>(wells) + curves * k_degree);
   for (std::size_t i = 0; i < reads.size(); ++i) {
     const auto r = static_cast<Eigen::Index>(i);
     x(r, static_cast<Eigen::Index>(reads[i].well)) = 1;
-    const Eigen::Index at =
-        static_cast<Eigen::Index>(wells) + (full ? static_cast<Eigen::Index>(reads[i].level) : 0) * k_degree;
+    const std::size_t curve = c == Curves::one ? 0 : c == Curves::per_level ? reads[i].level : reads[i].well;
+    const Eigen::Index at = static_cast<Eigen::Index>(wells) + static_cast<Eigen::Index>(curve) * k_degree;
     double pw = 1;
     for (int d = 0; d < k_degree; ++d) x(r, at + d) = pw *= reads[i].x;
   }
   return x;
+}
+Eigen::MatrixXd design(const std::vector<Read>& reads, std::size_t wells, std::size_t levels, bool full) {
+  return design(reads, wells, levels, full ? Curves::per_level : Curves::one);
+}
+
+// Reads taken at one time share an error when the wells subtract one blank (its read noise):
+// cov = σ_e²·I + σ_b²·11ᵀ within a time, estimated by moments from the full model's residuals r
+// (σ_b² from the products r_i·r_j of different reads at one time, σ_e² = RSS/df2 − σ_b²).
+// Whitens y and both designs time by time (subtracts g·mean, g = 1 − √(σ_e²/(σ_e² + m·σ_b²)), m
+// reads at that time: generalized least squares) and returns σ_b²/(σ_e² + σ_b²), 0 when none.
+double whiten_shared(const std::vector<Read>& reads, const Eigen::VectorXd& r, double s2, Eigen::VectorXd& y,
+                     std::vector<Eigen::MatrixXd*> xs) {
+  std::map<double, std::vector<Eigen::Index>> at;
+  for (std::size_t i = 0; i < reads.size(); ++i) at[reads[i].t].push_back(static_cast<Eigen::Index>(i));
+  double cross = 0, pairs = 0;
+  for (const auto& [t, idx] : at) {
+    double sum = 0, sq = 0;
+    for (Eigen::Index i : idx) sum += r(i), sq += r(i) * r(i);
+    cross += sum * sum - sq;
+    pairs += static_cast<double>(idx.size() * (idx.size() - 1));
+  }
+  if (!(pairs > 0) || !(cross > 0) || !(s2 > 0)) return 0;
+  const double sb2 = std::min(cross / pairs, 0.99 * s2), se2 = s2 - sb2;
+  for (const auto& [t, idx] : at) {
+    const double m = static_cast<double>(idx.size()), g = 1 - std::sqrt(se2 / (se2 + m * sb2));
+    double my = 0;
+    for (Eigen::Index i : idx) my += y(i) / m;
+    for (Eigen::Index i : idx) y(i) -= g * my;
+    for (Eigen::MatrixXd* x : xs) {
+      Eigen::RowVectorXd mean = Eigen::RowVectorXd::Zero(x->cols());
+      for (Eigen::Index i : idx) mean += x->row(i) / m;
+      for (Eigen::Index i : idx) x->row(i) -= g * mean;
+    }
+  }
+  return sb2 / s2;
 }
 
 // Product level l's fitted curve makes by x (without the well's intercept).
@@ -157,7 +195,7 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
       for (std::size_t i = 0; i < wells[w].p.size(); ++i) {
         const double u = e * (wells[w].t_s[i] + lead_s) / 60;
         if (u > t.u_common * (1 + 1e-12)) continue;
-        reads.push_back({order.size(), level, u / t.u_common, wells[w].p[i]});
+        reads.push_back({order.size(), level, u / t.u_common, wells[w].p[i], wells[w].t_s[i]});
         ++t.levels[level].reads;
       }
       order.push_back(w);
@@ -167,7 +205,7 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
   Eigen::VectorXd y(static_cast<Eigen::Index>(reads.size()));
   for (std::size_t i = 0; i < reads.size(); ++i) y(static_cast<Eigen::Index>(i)) = reads[i].p;
   Eigen::VectorXd b_full, b_red;
-  double rss_full = NAN, rss_red = NAN;
+  double rss_full = NAN, rss_red = NAN, rss_error = NAN;  // rss_error: the F test's error term
   const std::size_t nw = order.size(), nl = t.levels.size();
   const auto n = static_cast<int>(reads.size());
   t.df1 = static_cast<int>((nl - 1) * k_degree);
@@ -179,8 +217,26 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
   }
   t.tested = true;
   for (std::size_t w = 0; w < nw; ++w) t.intercepts.push_back(b_full(static_cast<Eigen::Index>(w)));
+  // The F test by generalized least squares when reads of one time share an error, against the
+  // scatter between replicate wells when a level has two or more (P*, the curves and the
+  // intercepts above stay those of ordinary least squares).
   if (rss_full > 0) {
-    t.f = std::max(rss_red - rss_full, 0.0) / t.df1 / (rss_full / t.df2);
+    Eigen::MatrixXd x_full = design(reads, nw, nl, true), x_red = design(reads, nw, nl, false);
+    Eigen::MatrixXd x_well = design(reads, nw, nl, Curves::per_well);
+    Eigen::VectorXd yw = y, unused;
+    t.shared_noise = whiten_shared(reads, y - x_full * b_full, rss_full / t.df2, yw, {&x_full, &x_red, &x_well});
+    if (!solve(x_full, yw, unused, rss_full) || !solve(x_red, yw, unused, rss_red))
+      throw std::logic_error("Selwyn's test: whitening made the design rank-deficient");
+    rss_error = rss_full;
+    double rss_well = NAN;
+    if (nw > nl && solve(x_well, yw, unused, rss_well) && rss_full - rss_well > 0) {
+      t.replicate_error = true;
+      t.df2 = static_cast<int>((nw - nl) * k_degree);
+      rss_error = rss_full - rss_well;  // between replicate wells of a level
+    }
+  }
+  if (rss_full > 0) {
+    t.f = std::max(rss_red - rss_full, 0.0) / t.df1 / (rss_error / t.df2);
     boost::math::fisher_f_distribution<double> dist(t.df1, t.df2);
     t.p_value = boost::math::cdf(boost::math::complement(dist, t.f));
   } else {

@@ -64,6 +64,7 @@ std::vector<Candidate> candidates(const Table& rates, const ProgressTableOptions
   const int c_x = rates.require_column(o.x_column, "pass --x with the initial-substrate column");
   const int c_flags = rates.require_column("flags", "pass the rates.csv that vzero rates wrote");
   const int c_notes = rates.column("notes"), c_role = rates.column("role"), c_v0 = rates.column("v0");
+  const int c_blanks = rates.column("blank_wells");
   const int c_e = o.enzyme_column.empty() ? -1
                   : rates.require_column(o.enzyme_column, "pass --enzyme or --enzyme-levels with an existing column");
   std::vector<int> c_groups;
@@ -78,6 +79,10 @@ std::vector<Candidate> candidates(const Table& rates, const ProgressTableOptions
     for (int g : c_groups) c.group_values.push_back(cell(rates, r, g));
     c.well.well = cell(rates, r, c_well);
     c.well.s0 = *x * o.x_factor;
+    // Wells that subtract the same blank wells share that blank's noise: one cluster of the
+    // fit's robust covariance (a blank names wells of its own export and channel).
+    if (const std::string b = cell(rates, r, c_blanks); !b.empty())
+      c.well.cluster = cell(rates, r, rates.column("source")) + '\n' + cell(rates, r, rates.column("channel")) + '\n' + b;
     const std::string name = cell(rates, r, c_well);
     const auto flags = words(cell(rates, r, c_flags)), notes = words(cell(rates, r, c_notes));
     c.rate_clean = flags.empty();

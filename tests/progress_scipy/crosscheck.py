@@ -5,9 +5,16 @@ SciPy's least_squares (Debian's python3-scipy) fits the same reads vzero used (i
 --residuals table: well, s0, time_s, product) with the rate law integrated numerically
 (solve_ivp, DOP853, rtol 1e-11) instead of the Lambert W closed form, and finite-difference
 Jacobians instead of analytic ones: shared Km and Vmax, one offset per well, lead 0.
-It prints both fits' Km and Vmax with their standard errors (s²(JᵀJ)⁻¹).
+It prints both fits' Km and Vmax with their model-based standard errors (s²(JᵀJ)⁻¹) and, with
+RATES.csv, their cluster-robust ones written out in numpy from the formulas (no statistics
+package), the clusters g the wells that subtract the same blank wells (the blank_wells
+column; single wells when fewer than 5 such sets), J SciPy's finite-difference Jacobian at
+its optimum: CR1, B·M·B·G/(G−1)·(N−1)/(N−p), B = (JᵀJ)⁻¹, M = Σ_g (J_gᵀr_g)(J_gᵀr_g)ᵀ; and
+CR3, the one vzero prints, with the offsets partialled out by the full-rank projection
+instead of vzero's within-well means: X = (I − P_off)·J_shared, A = (XᵀX)⁻¹,
+ũ_g = (I − X_g·A·X_gᵀ)⁻¹·r_g by a direct solve, A·Σ_g (X_gᵀũ_g)(X_gᵀũ_g)ᵀ·A·(G−1)/G.
 
-usage: /usr/bin/python3 crosscheck.py RESIDUALS.csv PROGRESS.csv GROUP
+usage: /usr/bin/python3 crosscheck.py RESIDUALS.csv PROGRESS.csv GROUP [RATES.csv]
   (from: vzero progress rates.csv --traces traces.csv --x substrate --group group
           --lead 0 -o PROGRESS.csv --residuals RESIDUALS.csv   on the demo run; GROUP e.g. no-inhibitor)
 """
@@ -31,6 +38,46 @@ def read_wells(path, group):
     return wells
 
 
+def cr1(jac, r, cluster_of_row):
+    """CR1 cluster-robust covariance (Cameron & Miller 2015), from the formula."""
+    n, p = jac.shape
+    ids = sorted(set(cluster_of_row))
+    g = len(ids)
+    meat = np.zeros((p, p))
+    for c in ids:
+        rows = np.array([k == c for k in cluster_of_row])
+        score = jac[rows].T @ r[rows]
+        meat += np.outer(score, score)
+    bread = np.linalg.inv(jac.T @ jac)
+    return g / (g - 1) * (n - 1) / (n - p) * bread @ meat @ bread, g
+
+
+def cr3(jac, r, cluster_of_row, shared):
+    """CR3 of the shared parameters, the offset columns partialled out by projection."""
+    off = jac[:, shared:]
+    x = jac[:, :shared] - off @ np.linalg.lstsq(off, jac[:, :shared], rcond=None)[0]
+    a = np.linalg.inv(x.T @ x)
+    ids = sorted(set(cluster_of_row))
+    meat = np.zeros((shared, shared))
+    for c in ids:
+        rows = np.array([k == c for k in cluster_of_row])
+        xg = x[rows]
+        u = np.linalg.solve(np.eye(xg.shape[0]) - xg @ a @ xg.T, r[rows])
+        score = xg.T @ u
+        meat += np.outer(score, score)
+    g = len(ids)
+    return (g - 1) / g * a @ meat @ a
+
+
+def clusters_of(rates_path, names):
+    with open(rates_path, newline="") as f:
+        blank = {r["well"]: r["blank_wells"] for r in csv.DictReader(f)}
+    sets = {blank[n] for n in names}
+    if len(sets) >= 5 and len(sets) < len(names):
+        return [blank[n] for n in names], "blank sets"
+    return list(names), "wells"
+
+
 def product(t_min, s0, km, vmax):
     t_end = max(t_min)
     sol = solve_ivp(lambda t, s: -vmax * s / (km + s), (0.0, t_end), [s0], method="DOP853",
@@ -40,6 +87,7 @@ def product(t_min, s0, km, vmax):
 
 def main():
     residuals, progress, group = sys.argv[1:4]
+    rates = sys.argv[4] if len(sys.argv) > 4 else None
     wells = read_wells(residuals, group)
     names = sorted(wells)
 
@@ -60,13 +108,23 @@ def main():
     print(f"group {group}: {len(names)} wells, {n} reads")
     print(f"scipy  Km {km:.6g} se {km * np.sqrt(cov[0, 0]):.4g}   Vmax {vmax:.6g} se {vmax * np.sqrt(cov[1, 1]):.4g}"
           f"   residual SD {np.sqrt(s2):.6g}")
+    if rates:
+        of_well, by = clusters_of(rates, names)
+        of_row = [of_well[k] for k, n in enumerate(names) for _ in wells[n]["t"]]
+        cov_c, g = cr1(fit.jac, fit.fun, of_row)
+        print(f"scipy  CR1 over {g} {by}: Km se {km * np.sqrt(cov_c[0, 0]):.4g}   Vmax se {vmax * np.sqrt(cov_c[1, 1]):.4g}")
+        cov_3 = cr3(fit.jac, fit.fun, of_row, 2)
+        print(f"scipy  CR3 over {g} {by}: Km se {km * np.sqrt(cov_3[0, 0]):.4g}   Vmax se {vmax * np.sqrt(cov_3[1, 1]):.4g}")
     with open(progress, newline="") as f:
         rows = [r for r in csv.DictReader(f)
                 if r["group"] == group and r["method"] == "progress" and r["model"] == "mm"]
     est = {r["parameter"]: r for r in rows if r["parameter"] in ("Km", "Vmax")}
-    print(f"vzero  Km {float(est['Km']['estimate']):.6g} se {float(est['Km']['se']):.4g}   "
-          f"Vmax {float(est['Vmax']['estimate']):.6g} se {float(est['Vmax']['se']):.4g}"
+    print(f"vzero  Km {float(est['Km']['estimate']):.6g} se {float(est['Km']['se_model']):.4g}   "
+          f"Vmax {float(est['Vmax']['estimate']):.6g} se {float(est['Vmax']['se_model']):.4g}"
           f"   residual SD {float(est['Km']['residual_sd']):.6g}")
+    if rates:
+        print(f"vzero  cluster SE over {est['Km']['clusters']} clusters: Km se {float(est['Km']['se_cluster']):.4g}   "
+              f"Vmax se {float(est['Vmax']['se_cluster']):.4g}")
 
 
 if __name__ == "__main__":
