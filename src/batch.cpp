@@ -36,6 +36,9 @@ void keep_results_only(BatchFile& f) {
     ca.blank.blank.resize(0, 0);
     ca.blank.corrected.resize(0, 0);
     ca.blank.status.resize(0, 0);
+    ca.blank.blank_reads.resize(0, 0);
+    std::vector<int>().swap(ca.blank.blank_columns);
+    std::vector<int>().swap(ca.blank.blank_disturbed);
     std::vector<WellBlank>().swap(ca.blank.wells);
     for (auto& row : ca.rows) std::vector<std::uint8_t>().swap(row.rate.used);
   }
