@@ -13,6 +13,9 @@ namespace {
 constexpr int k_min_points = 5;
 // Fewest other blanks, at one read, whose median makes a blank's shared bend there.
 constexpr int k_bend_blanks = 3;
+// A blank's start is disturbed beyond this many standard errors (a sample's: 5). The blank is
+// judged at the noise pooled over every blank, with the shared bend off, so the tail is that
+// of a normal: on the tuning plates 2 of 1,739 calm blanks went over it (tests/bench/README.md).
 constexpr double k_z_cut = 4.0;
 // A spike: a read more than k_spike_z prediction SEs off the line through its 6 neighbours
 // (a 7-read stretch, as the rate finder's spike screen), which scatter by at most
