@@ -35,37 +35,67 @@ Regress regress(const double* x, const double* y, int n) {
 
 // RSS and coefficients of y on x and x² with an intercept (x scaled by `scale` for
 // conditioning; the coefficients are in scaled units); NaN when the two do not vary apart.
+// In two parts: what depends on x only (Design2: its centred u and u², u = x / scale, and
+// their sums of squares and products), which the wells of a plate share, and the sums with
+// y (Centred: y less its mean, and its sum of squares), which every τ of a well shares. Each
+// sum is accumulated in index order, as one two-pass regression would.
 struct Regress2 {
   double b1 = NAN, b2 = NAN, rss = NAN;
 };
-Regress2 regress2(const double* x, const double* y, int n, double scale) {
-  double m1 = 0, m2 = 0, my = 0;
+struct Design2 {
+  std::vector<double> d1, d2;  // u − mean(u), u² − mean(u²)
+  double s11 = 0, s12 = 0, s22 = 0;
+};
+void design2(const double* x, int n, double scale, Design2& d) {
+  double m1 = 0, m2 = 0;
   for (int i = 0; i < n; ++i) {
     const double u = x[i] / scale;
     m1 += u;
     m2 += u * u;
-    my += y[i];
   }
   m1 /= n;
   m2 /= n;
-  my /= n;
-  double s11 = 0, s12 = 0, s22 = 0, s1y = 0, s2y = 0, syy = 0;
+  d.d1.resize(static_cast<std::size_t>(n));
+  d.d2.resize(static_cast<std::size_t>(n));
+  d.s11 = d.s12 = d.s22 = 0;
   for (int i = 0; i < n; ++i) {
     const double u = x[i] / scale;
-    const double d1 = u - m1, d2 = u * u - m2, dy = y[i] - my;
-    s11 += d1 * d1;
-    s12 += d1 * d2;
-    s22 += d2 * d2;
-    s1y += d1 * dy;
-    s2y += d2 * dy;
-    syy += dy * dy;
+    const double d1 = u - m1, d2 = u * u - m2;
+    d.d1[static_cast<std::size_t>(i)] = d1;
+    d.d2[static_cast<std::size_t>(i)] = d2;
+    d.s11 += d1 * d1;
+    d.s12 += d1 * d2;
+    d.s22 += d2 * d2;
   }
-  const double det = s11 * s22 - s12 * s12;
+}
+struct Centred {
+  std::vector<double> dy;  // y − mean(y)
+  double syy = 0;
+};
+void centre(const double* y, int n, Centred& c) {
+  double my = 0;
+  for (int i = 0; i < n; ++i) my += y[i];
+  my /= n;
+  c.dy.resize(static_cast<std::size_t>(n));
+  c.syy = 0;
+  for (int i = 0; i < n; ++i) {
+    const double dy = y[i] - my;
+    c.dy[static_cast<std::size_t>(i)] = dy;
+    c.syy += dy * dy;
+  }
+}
+Regress2 regress2(const Design2& d, const Centred& c) {
+  double s1y = 0, s2y = 0;
+  for (std::size_t i = 0; i < c.dy.size(); ++i) {
+    s1y += d.d1[i] * c.dy[i];
+    s2y += d.d2[i] * c.dy[i];
+  }
+  const double det = d.s11 * d.s22 - d.s12 * d.s12;
   Regress2 r;
-  if (!(det > 1e-12 * s11 * s22)) return r;
-  r.b1 = (s22 * s1y - s12 * s2y) / det;
-  r.b2 = (s11 * s2y - s12 * s1y) / det;
-  r.rss = std::max(0.0, syy - r.b1 * s1y - r.b2 * s2y);
+  if (!(det > 1e-12 * d.s11 * d.s22)) return r;
+  r.b1 = (d.s22 * s1y - d.s12 * s2y) / det;
+  r.b2 = (d.s11 * s2y - d.s12 * s1y) / det;
+  r.rss = std::max(0.0, c.syy - r.b1 * s1y - r.b2 * s2y);
   return r;
 }
 
@@ -152,22 +182,59 @@ const Clocks& clocks_for(const double* t, int n, double tau_min, double tau_max)
 
 }  // namespace
 
+// The designs of fit_lag_depletion_shape for one stretch of read times (the parabola's on u,
+// then one a τ of the grid), kept per thread for the next wells: they depend on the times
+// and τ_max only, and the wells of a plate mostly share their read times. Each thread keeps
+// the designs of the last k_kept_designs stretches of up to k_kept_reads reads it met
+// (replaced in turn) and uses them when the times and τ_max match bit for bit: the same times
+// give the same designs.
+struct Designs2 {
+  std::vector<double> t;    // the read times they are for (the key, with tau_max)
+  double tau_max = NAN;
+  std::vector<double> tau;  // the grid
+  std::vector<Design2> d = std::vector<Design2>(k_lag_grid + 1);
+};
+constexpr std::size_t k_kept_designs = 8;
+constexpr int k_kept_reads = 256;  // longer stretches are designed afresh (few wells share them)
+
+const Designs2& designs_for(const double* t, int n, double tau_min, double tau_max_s, double scale) {
+  thread_local std::vector<Designs2> kept(k_kept_designs);
+  thread_local Designs2 long_stretch;
+  thread_local std::size_t next = 0;
+  const auto un = static_cast<std::size_t>(n);
+  for (const Designs2& d : kept)
+    if (d.t.size() == un && same_bits(d.tau_max, tau_max_s) && std::memcmp(d.t.data(), t, un * sizeof(double)) == 0)
+      return d;
+  Designs2& designs = n > k_kept_reads ? long_stretch : kept[next];
+  if (n <= k_kept_reads) next = (next + 1) % k_kept_designs;
+  const Clocks& c = clocks_for(t, n, tau_min, tau_max_s);
+  design2(c.u.data(), n, scale, designs.d[0]);
+  for (int k = 0; k < k_lag_grid; ++k)
+    design2(c.g[static_cast<std::size_t>(k)].data(), n, scale, designs.d[static_cast<std::size_t>(k) + 1]);
+  designs.tau = *c.tau;
+  designs.t.assign(t, t + n);
+  designs.tau_max = tau_max_s;
+  return designs;
+}
+
 LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double sd, double tau_max_s) {
   LagShape best;
   if (n < 7 || !(sd > 0)) return best;
   const double tau_min = tau_floor(t, n);
   const double scale = t[n - 1] - t[0];
   if (!(tau_min > 0) || !(tau_max_s > tau_min) || !(scale > 0)) return best;
-  const Clocks& c = clocks_for(t, n, tau_min, tau_max_s);
-  const Regress2 parabola = regress2(c.u.data(), y, n, scale);
+  const Designs2& designs = designs_for(t, n, tau_min, tau_max_s, scale);
+  thread_local Centred centred;
+  centre(y, n, centred);
+  const Regress2 parabola = regress2(designs.d[0], centred);
   if (!std::isfinite(parabola.rss)) return best;
   double best_rss = parabola.rss;
   for (int k = 0; k < k_lag_grid; ++k) {
-    const Regress2 r = regress2(c.g[static_cast<std::size_t>(k)].data(), y, n, scale);
+    const Regress2 r = regress2(designs.d[static_cast<std::size_t>(k) + 1], centred);
     // A rate that rises with the clock is the plain lag curve's business (fit_lag_shape).
     if (!(r.b1 > 0) || !(r.b2 <= 0) || !(r.rss < best_rss)) continue;
     best_rss = r.rss;
-    best.tau_s = (*c.tau)[static_cast<std::size_t>(k)];
+    best.tau_s = designs.tau[static_cast<std::size_t>(k)];
     best.slope = r.b1 / scale;
   }
   best.gain = (parabola.rss - best_rss) / (sd * sd);
