@@ -195,12 +195,14 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
   sb.mean = Eigen::VectorXd::Constant(reads, NAN);
   sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
+  std::vector<Eigen::Index> slots;  // each blank's column in screen.reads
+  for (int b : use) slots.push_back(bw.slot.at(b));
   for (Eigen::Index i = 0; i < reads; ++i) {
     double s = 0;
     int n = 0;
-    for (int b : use) {
-      if (c.status(i, b) != ReadStatus::ok) continue;
-      s += bw.screen.reads(i, bw.slot.at(b));
+    for (std::size_t u = 0; u < use.size(); ++u) {
+      if (c.status(i, use[u]) != ReadStatus::ok) continue;
+      s += bw.screen.reads(i, slots[u]);
       ++n;
     }
     if (n > 0) {

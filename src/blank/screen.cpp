@@ -23,6 +23,7 @@ constexpr double k_z_cut = 4.0;
 constexpr int k_spike_span = 7;
 constexpr double k_spike_z = 5.0;
 constexpr double k_calm_factor = 2.0;
+constexpr double k_near_sds = 3.0;
 
 double median_of(std::vector<double> v) {
   if (v.empty()) return NAN;
@@ -55,11 +56,24 @@ double second_difference_sd(const std::vector<double>& y) {
   return d.empty() ? NAN : 1.4826 * median_of(std::move(d)) / std::sqrt(6.0);
 }
 
-// The median of sorted values v without the one at rank r (v.size() ≥ 2).
-double median_without(const std::vector<double>& v, std::size_t r) {
-  const std::size_t n = v.size() - 1;  // what is left
-  const auto at = [&](std::size_t j) { return v[j < r ? j : j + 1]; };
-  return n % 2 ? at(n / 2) : 0.5 * (at(n / 2 - 1) + at(n / 2));
+// The median of the values `at` without one of them, for each of them in turn: what the
+// median of the sorted values without the one at rank r is, from the three order statistics
+// around the middle (nth_element; ties ranked by blank, as the pairs order them).
+template <class Out>
+void medians_without(std::vector<std::pair<double, std::size_t>>& at, Out out) {
+  const std::size_t n = at.size() - 1, q = n / 2;  // what is left, and its middle
+  const auto mid = at.begin() + static_cast<std::ptrdiff_t>(q);
+  std::nth_element(at.begin(), mid, at.end());
+  const std::pair<double, std::size_t> pq = *mid;
+  const double v_q = pq.first;
+  const double v_below = q > 0 ? std::max_element(at.begin(), mid)->first : NAN;
+  const double v_above = std::min_element(mid + 1, at.end())->first;
+  for (const auto& e : at) {
+    const bool ge = !(e < pq), gt = pq < e;  // its rank r ≥ q, r ≥ q + 1
+    const double a_q = gt ? v_q : v_above;            // the value at q once it is gone
+    const double a_below = ge ? v_below : v_q;        // … at q − 1
+    out(e.second, n % 2 ? a_q : 0.5 * (a_below + a_q));
+  }
 }
 
 // Step 2: for each blank, the median of the other blanks' departures from their own lines,
@@ -78,17 +92,14 @@ Eigen::MatrixXd shared_bend(const std::vector<double>& t, const std::vector<std:
     for (std::size_t i = 0; i < t.size(); ++i) departure[k][i] = y[k][i] - (l.intercept + l.slope * t[i]);
   }
   std::vector<std::pair<double, std::size_t>> at;  // departure, blank
-  std::vector<double> sorted;
   for (std::size_t i = 0; i < t.size(); ++i) {
     at.clear();
     for (std::size_t k = 0; k < y.size(); ++k)
       if (std::isfinite(departure[k][i])) at.emplace_back(departure[k][i], k);
     if (static_cast<int>(at.size()) < k_bend_blanks + 1) continue;
-    std::sort(at.begin(), at.end());
-    sorted.clear();
-    for (const auto& [d, k] : at) sorted.push_back(d);
-    for (std::size_t r = 0; r < at.size(); ++r)
-      bend(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(at[r].second)) = median_without(sorted, r);
+    medians_without(at, [&](std::size_t k, double median) {
+      bend(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(k)) = median;
+    });
   }
   return bend;
 }
@@ -106,6 +117,14 @@ int replace_spikes(const std::vector<double>& t, const std::vector<double>& z, c
   if (!(sd > 0) || n - skip < k_spike_span) return 0;
   std::vector<std::pair<std::size_t, double>> found;  // read index, replacement
   for (int q = skip; q < n; ++q) {
+    // A read 5 SEs off its six neighbours' line is well over k_near_sds SDs off the line
+    // through its two nearest (that line's own error is about 0.8 SD): reads within it of
+    // that line are not tested further, which spares most of the work on long traces.
+    if (q > skip && q + 1 < n) {
+      const auto a = static_cast<std::size_t>(q - 1), b = static_cast<std::size_t>(q + 1);
+      const double near = z[a] + (z[b] - z[a]) * (t[a + 1] - t[a]) / (t[b] - t[a]);
+      if (std::fabs(z[a + 1] - near) <= k_near_sds * sd) continue;
+    }
     const int lo = std::clamp(q - k_spike_span / 2, skip, n - k_spike_span);
     double mt = 0, mz = 0;
     for (int i = lo; i < lo + k_spike_span; ++i)
@@ -181,11 +200,10 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
       s.skip[k] = screen_start(tt.data(), zz.data(), static_cast<int>(tt.size()), k_min_points, s.noise_sd, k_z_cut).skip;
     // Step 4: the disturbed reads replaced by the line of the rest (bend off) plus the bend.
     std::size_t from = s.skip[k] > 0 ? at[static_cast<std::size_t>(s.skip[k])] : 0;
-    LineFit zl = line_from(c.time_s, z[k], from);
+    const LineFit zl = s.skip[k] > 0 ? line_from(c.time_s, z[k], from) : LineFit{};
     if (s.skip[k] > 0 && !std::isfinite(zl.slope)) {
       s.skip[k] = 0;
       from = 0;
-      zl = line_from(c.time_s, z[k], from);
     }
     s.line[k] = line_from(c.time_s, y[k], from);
     for (std::size_t i = 0; i < reads; ++i) {

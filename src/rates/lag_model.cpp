@@ -84,6 +84,37 @@ void centre(const double* y, int n, Centred& c) {
     c.syy += dy * dy;
   }
 }
+// The same regression in one go, for a stretch whose design is not kept (its sums
+// accumulated in the same order, so the same numbers).
+Regress2 regress2_direct(const double* x, const Centred& c, double scale) {
+  const int n = static_cast<int>(c.dy.size());
+  double m1 = 0, m2 = 0;
+  for (int i = 0; i < n; ++i) {
+    const double u = x[i] / scale;
+    m1 += u;
+    m2 += u * u;
+  }
+  m1 /= n;
+  m2 /= n;
+  double s11 = 0, s12 = 0, s22 = 0, s1y = 0, s2y = 0;
+  for (int i = 0; i < n; ++i) {
+    const double u = x[i] / scale;
+    const double d1 = u - m1, d2 = u * u - m2, dy = c.dy[static_cast<std::size_t>(i)];
+    s11 += d1 * d1;
+    s12 += d1 * d2;
+    s22 += d2 * d2;
+    s1y += d1 * dy;
+    s2y += d2 * dy;
+  }
+  const double det = s11 * s22 - s12 * s12;
+  Regress2 r;
+  if (!(det > 1e-12 * s11 * s22)) return r;
+  r.b1 = (s22 * s1y - s12 * s2y) / det;
+  r.b2 = (s11 * s2y - s12 * s1y) / det;
+  r.rss = std::max(0.0, c.syy - r.b1 * s1y - r.b2 * s2y);
+  return r;
+}
+
 Regress2 regress2(const Design2& d, const Centred& c) {
   double s1y = 0, s2y = 0;
   for (std::size_t i = 0; i < c.dy.size(); ++i) {
@@ -195,18 +226,17 @@ struct Designs2 {
   std::vector<Design2> d = std::vector<Design2>(k_lag_grid + 1);
 };
 constexpr std::size_t k_kept_designs = 8;
-constexpr int k_kept_reads = 256;  // longer stretches are designed afresh (few wells share them)
+constexpr int k_kept_reads = 256;  // longer stretches are fitted in one go (few wells share them)
 
 const Designs2& designs_for(const double* t, int n, double tau_min, double tau_max_s, double scale) {
   thread_local std::vector<Designs2> kept(k_kept_designs);
-  thread_local Designs2 long_stretch;
   thread_local std::size_t next = 0;
   const auto un = static_cast<std::size_t>(n);
   for (const Designs2& d : kept)
     if (d.t.size() == un && same_bits(d.tau_max, tau_max_s) && std::memcmp(d.t.data(), t, un * sizeof(double)) == 0)
       return d;
-  Designs2& designs = n > k_kept_reads ? long_stretch : kept[next];
-  if (n <= k_kept_reads) next = (next + 1) % k_kept_designs;
+  Designs2& designs = kept[next];
+  next = (next + 1) % k_kept_designs;
   const Clocks& c = clocks_for(t, n, tau_min, tau_max_s);
   design2(c.u.data(), n, scale, designs.d[0]);
   for (int k = 0; k < k_lag_grid; ++k)
@@ -223,18 +253,26 @@ LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double
   const double tau_min = tau_floor(t, n);
   const double scale = t[n - 1] - t[0];
   if (!(tau_min > 0) || !(tau_max_s > tau_min) || !(scale > 0)) return best;
-  const Designs2& designs = designs_for(t, n, tau_min, tau_max_s, scale);
   thread_local Centred centred;
   centre(y, n, centred);
-  const Regress2 parabola = regress2(designs.d[0], centred);
+  // A short stretch's designs are kept for the next wells; a long one's worked in one go.
+  const bool kept = n <= k_kept_reads;
+  const Designs2* designs = kept ? &designs_for(t, n, tau_min, tau_max_s, scale) : nullptr;
+  const Clocks* clocks = kept ? nullptr : &clocks_for(t, n, tau_min, tau_max_s);
+  const auto fit = [&](int k) {  // k = 0: the parabola; k ≥ 1: τ number k − 1 of the grid
+    if (kept) return regress2(designs->d[static_cast<std::size_t>(k)], centred);
+    return regress2_direct(k == 0 ? clocks->u.data() : clocks->g[static_cast<std::size_t>(k) - 1].data(), centred, scale);
+  };
+  const std::vector<double>& grid = kept ? designs->tau : *clocks->tau;
+  const Regress2 parabola = fit(0);
   if (!std::isfinite(parabola.rss)) return best;
   double best_rss = parabola.rss;
   for (int k = 0; k < k_lag_grid; ++k) {
-    const Regress2 r = regress2(designs.d[static_cast<std::size_t>(k) + 1], centred);
+    const Regress2 r = fit(k + 1);
     // A rate that rises with the clock is the plain lag curve's business (fit_lag_shape).
     if (!(r.b1 > 0) || !(r.b2 <= 0) || !(r.rss < best_rss)) continue;
     best_rss = r.rss;
-    best.tau_s = designs.tau[static_cast<std::size_t>(k)];
+    best.tau_s = grid[static_cast<std::size_t>(k)];
     best.slope = r.b1 / scale;
   }
   best.gain = (parabola.rss - best_rss) / (sd * sd);
