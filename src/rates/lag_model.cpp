@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cstring>
+#include <utility>
 #include <vector>
 
 namespace vzero::detail {
@@ -46,15 +47,28 @@ struct Design2 {
   std::vector<double> d1, d2;  // u − mean(u), u² − mean(u²)
   double s11 = 0, s12 = 0, s22 = 0;
 };
-void design2(const double* x, int n, double scale, Design2& d) {
+// The means of u = x / scale and of u².
+std::pair<double, double> scaled_means(const double* x, int n, double scale) {
   double m1 = 0, m2 = 0;
   for (int i = 0; i < n; ++i) {
     const double u = x[i] / scale;
     m1 += u;
     m2 += u * u;
   }
-  m1 /= n;
-  m2 /= n;
+  return {m1 / n, m2 / n};
+}
+// The coefficients and RSS from the centred sums.
+Regress2 solve2(double s11, double s12, double s22, double s1y, double s2y, double syy) {
+  const double det = s11 * s22 - s12 * s12;
+  Regress2 r;
+  if (!(det > 1e-12 * s11 * s22)) return r;
+  r.b1 = (s22 * s1y - s12 * s2y) / det;
+  r.b2 = (s11 * s2y - s12 * s1y) / det;
+  r.rss = std::max(0.0, syy - r.b1 * s1y - r.b2 * s2y);
+  return r;
+}
+void design2(const double* x, int n, double scale, Design2& d) {
+  const auto [m1, m2] = scaled_means(x, n, scale);
   d.d1.resize(static_cast<std::size_t>(n));
   d.d2.resize(static_cast<std::size_t>(n));
   d.s11 = d.s12 = d.s22 = 0;
@@ -88,14 +102,7 @@ void centre(const double* y, int n, Centred& c) {
 // accumulated in the same order, so the same numbers).
 Regress2 regress2_direct(const double* x, const Centred& c, double scale) {
   const int n = static_cast<int>(c.dy.size());
-  double m1 = 0, m2 = 0;
-  for (int i = 0; i < n; ++i) {
-    const double u = x[i] / scale;
-    m1 += u;
-    m2 += u * u;
-  }
-  m1 /= n;
-  m2 /= n;
+  const auto [m1, m2] = scaled_means(x, n, scale);
   double s11 = 0, s12 = 0, s22 = 0, s1y = 0, s2y = 0;
   for (int i = 0; i < n; ++i) {
     const double u = x[i] / scale;
@@ -106,13 +113,7 @@ Regress2 regress2_direct(const double* x, const Centred& c, double scale) {
     s1y += d1 * dy;
     s2y += d2 * dy;
   }
-  const double det = s11 * s22 - s12 * s12;
-  Regress2 r;
-  if (!(det > 1e-12 * s11 * s22)) return r;
-  r.b1 = (s22 * s1y - s12 * s2y) / det;
-  r.b2 = (s11 * s2y - s12 * s1y) / det;
-  r.rss = std::max(0.0, c.syy - r.b1 * s1y - r.b2 * s2y);
-  return r;
+  return solve2(s11, s12, s22, s1y, s2y, c.syy);
 }
 
 Regress2 regress2(const Design2& d, const Centred& c) {
@@ -121,13 +122,7 @@ Regress2 regress2(const Design2& d, const Centred& c) {
     s1y += d.d1[i] * c.dy[i];
     s2y += d.d2[i] * c.dy[i];
   }
-  const double det = d.s11 * d.s22 - d.s12 * d.s12;
-  Regress2 r;
-  if (!(det > 1e-12 * d.s11 * d.s22)) return r;
-  r.b1 = (d.s22 * s1y - d.s12 * s2y) / det;
-  r.b2 = (d.s11 * s2y - d.s12 * s1y) / det;
-  r.rss = std::max(0.0, c.syy - r.b1 * s1y - r.b2 * s2y);
-  return r;
+  return solve2(d.s11, d.s12, d.s22, s1y, s2y, c.syy);
 }
 
 // Half the median read interval: the shortest τ the reads can tell from a step.
