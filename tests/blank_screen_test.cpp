@@ -45,7 +45,9 @@ TEST_CASE("the bend all blanks share is found and taken off before their starts 
   // for a phase-0 blank {D + e, D − e, D − e}, whose median is D − e whatever the sign of e;
   // for a phase-1 blank D + e. Taken off, each blank is a line plus twice its noise (its own
   // noise and the others' opposite one), whose second differences are all ±8σ: pooled noise
-  // 1.4826·8σ/√6. Nothing is disturbed and no read is a spike, so the reads are kept as they are.
+  // 1.4826·8σ/√6 (1.4826 = 1/Φ⁻¹(3/4), the MAD's normal-consistency constant, and Var = 6σ² of
+  // a second difference of white noise: common practice). Nothing is disturbed and no read is a
+  // spike, so the reads are kept as they are.
   const vzero::Channel c = blanks(4, {0, 0, 1, 1});
   const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3});
   // D worked here: the least-squares line of the bend over t = 0, 10, …, 190 s.

@@ -41,9 +41,7 @@ TEST_CASE("vzero progress --enzyme-levels --json --report on a simulated plate")
   using vzero::test::run_vzero;
   vzero::test::TempDir dir;
   const vzero::sim::PlateSpec spec = vzero::bench::spec_for(96, 30);
-  const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
-  vzero::bench::write_wide(dir / "plate.csv", plate);
-  vzero::bench::write_map(dir / "map.csv", plate, spec);
+  const vzero::sim::Plate plate = vzero::bench::write_plate96(dir.path.string());
   const auto rates = run_vzero(
       "rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 --signal-ceiling 2.5 "
       "-o rates.csv --traces traces.csv -q",
@@ -117,10 +115,7 @@ TEST_CASE("vzero progress: --enzyme and --enzyme-levels exclude each other") {
 TEST_CASE("vzero progress --kcat-per-min: kcat in 1/min is 60 × kcat in 1/s") {
   using vzero::test::run_vzero;
   vzero::test::TempDir dir;
-  const vzero::sim::PlateSpec spec = vzero::bench::spec_for(96, 30);
-  const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
-  vzero::bench::write_wide(dir / "plate.csv", plate);
-  vzero::bench::write_map(dir / "map0.csv", plate, spec);
+  const vzero::sim::Plate plate = vzero::bench::write_plate96(dir.path.string(), "map0.csv");
   // The enzyme column with its unit (nM), so that kcat reduces to a time unit.
   std::string map = slurp(dir.path / "map0.csv");
   map.replace(map.find(",enzyme\n"), 8, ",enzyme_nM\n");

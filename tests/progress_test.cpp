@@ -350,10 +350,7 @@ TEST_CASE("A simulated plate with its artefacts through vzero rates and vzero pr
   // fixed by spec_for, blanks, drift, spikes, lags, saturation), run as tests/same_outputs.sh does.
   using vzero::test::run_vzero;
   vzero::test::TempDir dir;
-  const vzero::sim::PlateSpec spec = vzero::bench::spec_for(96, 30);
-  const vzero::sim::Plate plate = vzero::sim::simulate_plate(spec, 7);
-  vzero::bench::write_wide(dir / "plate.csv", plate);
-  vzero::bench::write_map(dir / "map.csv", plate, spec);
+  const vzero::sim::Plate plate = vzero::bench::write_plate96(dir.path.string());
   const auto rates = run_vzero("rates plate.csv --layout map.csv --epsilon 8000 --path-cm 1 --signal-ceiling 2.5 "
                                "-o rates.csv --traces traces.csv -q",
                                dir.path.string());

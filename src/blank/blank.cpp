@@ -103,11 +103,12 @@ namespace {
 // channel's median scatter and well-to-well drift.
 struct BlankWells {
   std::vector<int> all;             // channel columns of the blank wells
-  std::map<int, LineFit> line;      // each blank's line (its rate, its scatter)
-  std::map<int, LineFit> disturbed; // blanks with a disturbed start: their line after it
   std::map<int, double> substrate;  // each blank's plate-map substrate (NaN when not given)
   detail::BlankScreen screen;       // the blanks screened together, in the order of `all`
-  std::map<int, Eigen::Index> slot; // a blank's column in screen.reads
+  std::map<int, std::size_t> slot;  // a blank's place in `all` (and column in screen.reads)
+  // A blank's line (its rate and scatter, after a disturbed start) and whether its start was disturbed.
+  const LineFit& line(int b) const { return screen.line[slot.at(b)]; }
+  bool disturbed(int b) const { return screen.skip[slot.at(b)] > 0; }
   double median_sd = NAN;           // median scatter of the blanks (3 or more)
   double rate_sd = NAN;             // within_set_rate_sd of their rates
 };
@@ -125,10 +126,8 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
   std::vector<double> sds;
   for (std::size_t k = 0; k < bw.all.size(); ++k) {
     const int b = bw.all[k];
-    bw.slot[b] = static_cast<Eigen::Index>(k);
+    bw.slot[b] = k;
     const LineFit& l = bw.screen.line[k];
-    if (bw.screen.skip[k] > 0) bw.disturbed[b] = l;
-    bw.line[b] = l;
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
   // Well-to-well drift: the blank wells' own rates about their set's (within_set_rate_sd);
@@ -136,11 +135,11 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
   std::map<std::string, std::vector<double>> by_set;
   std::vector<double> every;
   for (int b : bw.all) {
-    if (!std::isfinite(bw.line[b].slope)) continue;
-    every.push_back(bw.line[b].slope);
+    if (!std::isfinite(bw.line(b).slope)) continue;
+    every.push_back(bw.line(b).slope);
     const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
     if (o.strategy == BlankStrategy::matched && bi && !bi->match.empty())
-      by_set[bi->match].push_back(bw.line[b].slope);
+      by_set[bi->match].push_back(bw.line(b).slope);
   }
   std::vector<std::vector<double>> sets;
   if (o.strategy == BlankStrategy::matched)
@@ -168,7 +167,7 @@ struct SharedBlank {
   std::string names;      // well_set_text of the blanks
   double noise_sd = NAN;  // pooled residual SD of the blanks
   bool noisy = false;     // one of them is blank-noisy
-  bool line = false;      // one of them had a disturbed start: its line stands in
+  bool line = false;      // every one had a disturbed start: their disturbed reads are replaced
   bool spike = false;     // one of them had a read replaced as a spike
   double rate = NAN;      // slope of the mean trace
   double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
@@ -185,7 +184,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
   sb.names = well_set_text(std::move(ids));
   for (int b : use) {
-    const LineFit& l = bw.line.at(b);
+    const LineFit& l = bw.line(b);
     if (!std::isnan(l.resid_sd)) {
       var += l.resid_sd * l.resid_sd;
       ++nsd;
@@ -196,7 +195,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   sb.mean = Eigen::VectorXd::Constant(reads, NAN);
   sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
   std::vector<Eigen::Index> slots;  // each blank's column in screen.reads
-  for (int b : use) slots.push_back(bw.slot.at(b));
+  for (int b : use) slots.push_back(static_cast<Eigen::Index>(bw.slot.at(b)));
   for (Eigen::Index i = 0; i < reads; ++i) {
     double s = 0;
     int n = 0;
@@ -211,8 +210,8 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
     }
   }
   for (int b : use) {
-    sb.line |= bw.disturbed.count(b) > 0;
-    sb.spike |= bw.screen.spikes[static_cast<std::size_t>(bw.slot.at(b))] > 0;
+    sb.line |= bw.disturbed(b);
+    sb.spike |= bw.screen.spikes[bw.slot.at(b)] > 0;
   }
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
   sb.substrate = mean_substrate(bw, use);
@@ -221,11 +220,11 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
 
 // A blank well judged as a blank: its own rate and scatter, noisy or disturbed.
 void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& wb) {
-  const LineFit& l = bw.line.at(j);
+  const LineFit& l = bw.line(j);
   wb.blank_rate = l.slope;
   wb.blank_noise_sd = l.resid_sd;
   if (!std::isnan(bw.median_sd) && l.resid_sd > o.noisy_factor * bw.median_sd) wb.flags.emplace_back("blank-noisy");
-  if (bw.disturbed.count(j)) wb.flags.emplace_back("blank-disturbed");
+  if (bw.disturbed(j)) wb.flags.emplace_back("blank-disturbed");
 }
 
 // The blank wells' own rates against their substrate (BlankSubstrateTrend).
@@ -233,7 +232,7 @@ BlankSubstrateTrend substrate_trend(const BlankWells& bw) {
   BlankSubstrateTrend tr;
   std::vector<double> s, rate;
   for (int b : bw.all) {
-    const double substrate = bw.substrate.at(b), slope = bw.line.at(b).slope;
+    const double substrate = bw.substrate.at(b), slope = bw.line(b).slope;
     if (!std::isfinite(substrate) || !std::isfinite(slope)) continue;
     s.push_back(substrate);
     rate.push_back(slope);
@@ -300,8 +299,8 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
       continue;
     }
     // A blank with a disturbed start is left out of its set when the set has one without;
-    // only a set of disturbed blanks subtracts their lines.
-    const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed.count(b) > 0; });
+    // a set of disturbed blanks is kept, their disturbed reads replaced (screen.hpp).
+    const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed(b); });
     auto it = cache.find(use);
     if (it == cache.end()) it = cache.emplace(use, shared_blank(c, f, o, bw, use)).first;
     const SharedBlank& sb = it->second;

@@ -7,7 +7,6 @@
 #include <boost/math/distributions/fisher_f.hpp>
 #include <cmath>
 #include <map>
-#include <stdexcept>
 
 #include "vzero/progress.hpp"
 
@@ -224,9 +223,18 @@ StabilityTest one_test(const std::vector<ProgressWell>& wells, double s0,
     Eigen::MatrixXd x_full = design(reads, nw, nl, true), x_red = design(reads, nw, nl, false);
     Eigen::MatrixXd x_well = design(reads, nw, nl, Curves::per_well);
     Eigen::VectorXd yw = y, unused;
-    t.shared_noise = whiten_shared(reads, y - x_full * b_full, rss_full / t.df2, yw, {&x_full, &x_red, &x_well});
-    if (!solve(x_full, yw, unused, rss_full) || !solve(x_red, yw, unused, rss_red))
-      throw std::logic_error("Selwyn's test: whitening made the design rank-deficient");
+    const double shared = whiten_shared(reads, y - x_full * b_full, rss_full / t.df2, yw, {&x_full, &x_red, &x_well});
+    // The whitening is invertible (g < 1), so the designs keep their rank; should rounding
+    // say otherwise, the test stays the ordinary least squares one (shared_noise 0).
+    double w_full = NAN, w_red = NAN;
+    if (shared > 0 && solve(x_full, yw, unused, w_full) && solve(x_red, yw, unused, w_red)) {
+      t.shared_noise = shared;
+      rss_full = w_full;
+      rss_red = w_red;
+    } else {
+      x_well = design(reads, nw, nl, Curves::per_well);
+      yw = y;
+    }
     rss_error = rss_full;
     double rss_well = NAN;
     if (nw > nl && solve(x_well, yw, unused, rss_well) && rss_full - rss_well > 0) {

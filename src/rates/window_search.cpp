@@ -205,18 +205,22 @@ struct Search {
     c.curvature_se = wt.curvature_se;
     c.drift = wt.drift;
     c.critical_t = t_crit(wt.n - 3);
-    if (with_rest && e - s - 1 >= 2) {
-      const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
-      c.rest_n = rest.n;
-      c.rest_slope = rest.slope;
-      c.rest_curvature = rest.curvature;
-      c.rest_curvature_se = rest.curvature_se;
-      c.rest_drift = rest.drift;
-      c.rest_critical_t = t_crit(rest.n - 3);
-    }
+    if (with_rest) add_rest(c, s, e);
     c.product = wt.intercept_at_t0 + wt.slope * (c.t_last_s - t_ref) - baseline;
     c.product_limit = limit_signal;
     return c;
+  }
+
+  // The rest_* fields of candidate [s, e): the window without its first read.
+  void add_rest(WindowCandidate& c, int s, int e) const {
+    if (e - s - 1 < 2) return;
+    const WindowTest rest = stats.test(s + 1, e, sd_floor, t_ref);
+    c.rest_n = rest.n;
+    c.rest_slope = rest.slope;
+    c.rest_curvature = rest.curvature;
+    c.rest_curvature_se = rest.curvature_se;
+    c.rest_drift = rest.drift;
+    c.rest_critical_t = t_crit(rest.n - 3);
   }
 };
 
@@ -253,7 +257,7 @@ Growth grow_window(const Search& q, int s, int s0, int lag_max, const std::strin
     WindowCandidate c = q.candidate(s, e, custom_rules);
     if (!custom_rules && opt.linearity_alpha > 0 &&
         significant_bend(c.n, c.curvature, c.curvature_se, c.drift, c.slope, c.critical_t, opt))
-      c = q.candidate(s, e);
+      q.add_rest(c, s, e);
     bool pass = true, moved = false;
     for (std::size_t k = 0; k < rules.size() && g.end.empty() && !moved; ++k) {
       const int verdict = rules[k].judge(c, opt);

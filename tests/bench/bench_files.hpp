@@ -3,6 +3,7 @@
 // built-in profiles read, and the plate map that goes with them. Header-only.
 #pragma once
 
+#include <cstdint>
 #include <cstdio>
 #include <stdexcept>
 #include <string>
@@ -142,6 +143,16 @@ inline void write_map(const std::string& path, const sim::Plate& p, const sim::P
                              : 0.0;
     o.put("{},{},{:.6g},{}\n", name_of(p, w), t.role == sim::Role::sample ? "sample" : "blank", t.s0_uM, level);
   }
+}
+
+// The benchmark's 96-well plate of 30 reads (spec_for(96, 30), seed 7 unless given) written
+// as DIR/plate.csv (wide) with its plate map DIR/MAP; returns the plate, with its truth.
+inline sim::Plate write_plate96(const std::string& dir, const std::string& map = "map.csv", std::uint64_t seed = 7) {
+  const sim::PlateSpec spec = spec_for(96, 30);
+  sim::Plate plate = sim::simulate_plate(spec, seed);
+  write_wide(dir + "/plate.csv", plate);
+  write_map(dir + "/" + map, plate, spec);
+  return plate;
 }
 
 }  // namespace vzero::bench
