@@ -34,7 +34,7 @@ int lag_scan(const LagSearch& q) {
 }
 
 // A lag by its shape (lag_model.hpp), for ramps too gentle for lag_scan's short windows: the
-// lag curve fitted to the reads from s0 up to twice the conversion limit (the first half of
+// lag curve fitted to the reads from s0 up to four times the conversion limit (the first half of
 // the run when no limit is known; at least 2p reads), τ up to a third of the run; when a
 // falling rate straightens the ramp (a slow onset while substrate runs out fast, an S-shaped
 // curve), the lag curve with depletion against a parabola. When either fits better by more
@@ -48,7 +48,7 @@ LagStart lag_by_shape(const LagSearch& q, double baseline, double limit_signal) 
   if (lag_max < 1 || !(sd > 0)) return {s0, -INFINITY};
   int last = s0;
   if (std::isfinite(limit_signal) && std::isfinite(baseline))
-    while (last + 1 < mc && y[z(last + 1)] - baseline <= 2 * limit_signal) ++last;
+    while (last + 1 < mc && y[z(last + 1)] - baseline <= 4 * limit_signal) ++last;
   else
     last = s0 + (mc - s0) / 2 - 1;
   last = std::min(mc - 1, std::max(last, s0 + 2 * p - 1));

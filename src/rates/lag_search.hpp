@@ -26,7 +26,7 @@ struct LagStart {
 };
 
 // The block scan first; when it finds nothing or cannot pass the ramp, the lag shape
-// (lag_model.hpp) fitted to the reads up to twice the conversion limit `limit_signal` above
+// (lag_model.hpp) fitted to the reads up to four times the conversion limit `limit_signal` above
 // `baseline` (window_search.cpp explains the thresholds).
 LagStart find_lag(const LagSearch& q, double baseline, double limit_signal);
 

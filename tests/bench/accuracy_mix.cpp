@@ -142,6 +142,43 @@ struct Headline {
   Figures tangent8;
 };
 
+// The tangent's own bias: 8-read wells that took it whose only artefacts are the short run
+// and the curvature the tangent is there for.
+Figures tangent_own_bias(const std::vector<WellRecord>& recs) {
+  constexpr unsigned k_curving = sim::k_short_run | sim::k_depletion | sim::k_strong_depletion;
+  return weighted(
+      recs,
+      [&](const WellRecord& r) {
+        return (r.artefacts & sim::k_short_run) && r.tangent && (r.artefacts & ~k_curving) == 0;
+      },
+      signed_err);
+}
+
+// The target on the 8-read tangent's bias, as text, and whether it holds. Where the automatic
+// rule took the tangent on 8-read plates, its median signed error there; where it never did,
+// the tangent forced on the same plates (`forced8`), on wells whose only artefacts are the
+// short run and depletion, and the straight line's bias that the plates got instead.
+std::string tangent_target(const Totals& tot, const Figures& auto8, const Totals& forced8, bool& ok) {
+  const auto mark = [](bool b) { return b ? "met" : "MISSED"; };
+  if (auto8.wells > 0) {
+    ok = std::fabs(auto8.median) <= 1;
+    return fmt::format("8-read tangent bias {:+.2f} % within +-1 % [{}]", auto8.median, mark(ok));
+  }
+  const Figures own = tangent_own_bias(forced8.records);
+  if (own.wells == 0) {
+    ok = true;
+    return "8-read tangent bias [not measured: no 8-read plate in this run]";
+  }
+  const Figures line8 = weighted(
+      tot.records, [](const WellRecord& r) { return (r.artefacts & sim::k_short_run) && !r.flagged; }, signed_err);
+  ok = std::fabs(own.median) <= 1;
+  return fmt::format(
+      "8-read tangent bias: never taken by --tangent auto (fewer reads than tangent_min_reads);\n"
+      "  forced (--tangent always) on {} wells with no artefact but the short run and depletion: {:+.2f} % within "
+      "+-1 % [{}];\n  the straight line they get instead, unflagged 8-read wells: {} wells, signed median {:+.2f} %",
+      own.wells, own.median, mark(ok), line8.wells, line8.median);
+}
+
 // The overall figures; `h` gets what the targets need.
 std::string overall(const Totals& tot, Headline& h) {
   const auto& recs = tot.records;
@@ -225,15 +262,7 @@ std::string overall(const Totals& tot, Headline& h) {
   }
   const int lost = tot.sample_wells - tot.finite;
   out += fmt::format("wells lost: {} of {} (no result or no finite v0)\n", lost, tot.sample_wells);
-  // The tangent's own bias: wells whose only artefacts are the short run and the curvature
-  // the tangent is there for.
-  constexpr unsigned k_curving = sim::k_short_run | sim::k_depletion | sim::k_strong_depletion;
-  const Figures tangent8_own = weighted(
-      recs,
-      [&](const WellRecord& r) {
-        return (r.artefacts & sim::k_short_run) && r.tangent && (r.artefacts & ~k_curving) == 0;
-      },
-      signed_err);
+  const Figures tangent8_own = tangent_own_bias(recs);
   out += fmt::format(
       "8-read plates, wells that took the initial tangent: {}, signed median error {:+.2f} %; of them with no\n"
       "  artefact but the short run and depletion: {}, signed median error {:+.2f} %\n\n",
@@ -272,20 +301,22 @@ std::string tables(const std::vector<WellRecord>& recs) {
 
 }  // namespace
 
-std::string mix_report(const Totals& tot, bool& met) {
+std::string mix_report(const Totals& tot, const Totals& forced8, bool& met) {
   Headline h;
   std::string out = overall(tot, h) + tables(tot.records);
   const Figures& u = h.unflagged;
   const bool ok_med = u.median <= 1.5, ok_p90 = u.p90 <= 6, ok_art = h.art15 == 0, ok_clean = h.clean_share <= 2;
-  const bool ok_lost = h.lost == 0, ok_tan = h.tangent8.wells == 0 || std::fabs(h.tangent8.median) <= 1;
+  const bool ok_lost = h.lost == 0;
+  bool ok_tan = false;
+  const std::string tangent = tangent_target(tot, h.tangent8, forced8, ok_tan);
   const auto mark = [](bool b) { return b ? "met" : "MISSED"; };
   out += fmt::format(
       "\ntargets (\"Trustworthy v0\"; they count on the evaluation seeds only): unflagged median {:.2f} % <= 1.5 % "
       "[{}], p90 {:.2f} % <= 6 % [{}],\n"
-      "  unflagged artefact wells above 15 %: {} (none allowed) [{}], clean wells flagged {:.1f} % <= 2 % [{}],\n"
-      "  wells lost {} [{}], 8-read tangent bias {:+.2f} % within +-1 % [{}]\n",
+      "  unflagged artefact wells above 15 %: {} (none allowed) [{}], clean wells flagged {:.2f} % <= 2 % [{}],\n"
+      "  wells lost {} [{}], {}\n",
       u.median, mark(ok_med), u.p90, mark(ok_p90), h.art15, mark(ok_art), h.clean_share, mark(ok_clean), h.lost,
-      mark(ok_lost), h.tangent8.median, mark(ok_tan));
+      mark(ok_lost), tangent);
   met = ok_med && ok_p90 && ok_art && ok_clean && ok_lost && ok_tan;
   return out;
 }
