@@ -49,7 +49,7 @@ TEST_CASE("the bend all blanks share is found and taken off before their starts 
   // a second difference of white noise: common practice). Nothing is disturbed and no read is a
   // spike, so the reads are kept as they are.
   const vzero::Channel c = blanks(4, {0, 0, 1, 1});
-  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3});
+  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3}, false);
   // D worked here: the least-squares line of the bend over t = 0, 10, …, 190 s.
   double mt = 0, mb = 0;
   for (double t : c.time_s) mt += t / 20, mb += bend(t) / 20;
@@ -73,6 +73,38 @@ TEST_CASE("the bend all blanks share is found and taken off before their starts 
     CHECK_REL(s.line[static_cast<std::size_t>(k)].slope, 1e-5 * (k + 1) + (sxy + (k < 2 ? sxn : -sxn)) / sxx, 1e-9);
     for (int i = 0; i < 20; ++i) CHECK(s.reads(i, k) == c.values(i, k));
   }
+}
+
+TEST_CASE("smooth: every blank read becomes the blank's line plus its bend") {
+  // The four blanks of the case above, step 6 on. Blank k of phase p reads
+  // a_k + b_k·t + bend(t) ± n(t) (n: the phase-0 noise; + for phase 0), and its bend is
+  // d ∓ e (d = bend − L[bend], e = n − L[n], L[·] the least-squares line over the reads).
+  // Less its bend it is a_k + b_k·t + L[bend] ± (2n − L[n]), whose line is
+  // a_k + b_k·t + L[bend] ± L[n]; that line plus the bend is
+  // a_k + b_k·t + bend(t) ± (2·L[n] − n): the blank without its own noise, carrying the
+  // others' (the alternating noise makes every other blank's the opposite of its own).
+  const vzero::Channel c = blanks(4, {0, 0, 1, 1});
+  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3}, true);
+  double mt = 0;
+  for (double t : c.time_s) mt += t / 20;
+  double sxx = 0, sxn = 0;
+  for (int i = 0; i < 20; ++i) {
+    const double t = c.time_s[static_cast<std::size_t>(i)];
+    sxx += (t - mt) * (t - mt), sxn += (t - mt) * (i % 2 ? -k_sigma : k_sigma);
+  }
+  for (int k = 0; k < 4; ++k)
+    for (int i = 0; i < 20; ++i) {
+      const double t = c.time_s[static_cast<std::size_t>(i)];
+      const double n = i % 2 ? -k_sigma : k_sigma, ln = sxn / sxx * (t - mt);  // the noise has mean 0
+      const double sign = k < 2 ? 1.0 : -1.0;
+      CHECK(s.reads(i, k) ==
+            doctest::Approx(0.05 + 0.001 * k + 1e-5 * (k + 1) * t + bend(t) + sign * (2 * ln - n)).epsilon(1e-12).scale(1));
+    }
+  // With fewer than four blanks there is no bend, and the reads stay as read.
+  const vzero::detail::BlankScreen three = vzero::detail::screen_blanks(blanks(3, {0, 1, 0}), {0, 1, 2}, true);
+  const vzero::Channel c3 = blanks(3, {0, 1, 0});
+  for (int k = 0; k < 3; ++k)
+    for (int i = 0; i < 20; ++i) CHECK(three.reads(i, k) == c3.values(i, k));
 }
 
 TEST_CASE("a disturbed start is judged against the other blanks; only its reads are replaced") {
@@ -103,7 +135,7 @@ TEST_CASE("a disturbed start is judged against the other blanks; only its reads 
     c.values(i, count - 1) -= 0.004 * std::exp(-c.time_s[static_cast<std::size_t>(i)] / (10.0 / 3));
   std::vector<int> columns(count);
   for (int k = 0; k < count; ++k) columns[static_cast<std::size_t>(k)] = k;
-  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, columns);
+  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, columns, false);
   for (int k = 0; k + 1 < count; ++k) CHECK(s.skip[static_cast<std::size_t>(k)] == 0);
   REQUIRE(s.skip[count - 1] >= 1);
   const double a = 0.05 + 0.001 * (count - 1), b = 1e-5 * count;  // the last blank's line
@@ -137,7 +169,7 @@ TEST_CASE("one blank alone: its disturbed start is found against its own noise a
   c.wells = {0};
   c.values = Eigen::Map<const Eigen::MatrixXd>(y.data(), 20, 1);
   c.status = vzero::StatusMatrix::Constant(20, 1, vzero::ReadStatus::ok);
-  vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0});
+  vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0}, false);
   CHECK(s.skip[0] == 2);
   CHECK(std::fabs(s.line[0].slope / 1e-4 - 1) < 0.03);
   // The two reads replaced by that line (no bend with one blank), the rest kept.
@@ -147,7 +179,7 @@ TEST_CASE("one blank alone: its disturbed start is found against its own noise a
   y[0] -= 0.05;
   for (int i = 1; i < 20; ++i) y[static_cast<std::size_t>(i)] -= 0.05 * std::exp(-3.0 * i);
   c.values = Eigen::Map<const Eigen::MatrixXd>(y.data(), 20, 1);
-  s = vzero::detail::screen_blanks(c, {0});
+  s = vzero::detail::screen_blanks(c, {0}, false);
   CHECK(s.skip[0] == 0);
 }
 
@@ -160,7 +192,7 @@ TEST_CASE("a blank's single far read (a bubble) is replaced by its neighbours' l
   // no other read of any blank is taken for a spike.
   vzero::Channel c = blanks(5, {0, 0, 1, 1, 0});
   c.values(9, 2) += 0.01;
-  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3, 4});
+  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3, 4}, false);
   for (int k = 0; k < 5; ++k) CHECK(s.spikes[static_cast<std::size_t>(k)] == (k == 2 ? 1 : 0));
   CHECK(std::fabs(s.reads(9, 2) - (0.052 + 3e-5 * 90 + bend(90))) < 2 * k_sigma);
   for (int k = 0; k < 5; ++k)

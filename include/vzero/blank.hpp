@@ -26,11 +26,16 @@
 namespace vzero {
 
 enum class BlankStrategy { plate, matched, none };
-enum class BlankMode { trace, rate };
+// How a blank set is subtracted: `smooth`, each blank as its own least-squares line plus the
+// plate's shared bend (blank/screen.hpp; needs 4 or more blank wells in the channel, else as
+// `trace`), so a blank's read noise, spikes and small disturbed starts stay out of the
+// samples while the plate's read-to-read changes still cancel; `trace`, the blank reads as
+// read; `rate`, the blank's rate over the sample's window.
+enum class BlankMode { smooth, trace, rate };
 template <>
 std::span<const EnumName<BlankStrategy>> enum_names<BlankStrategy>();  // plate, matched, none
 template <>
-std::span<const EnumName<BlankMode>> enum_names<BlankMode>();  // trace, rate
+std::span<const EnumName<BlankMode>> enum_names<BlankMode>();  // smooth, trace, rate
 std::string_view to_string(BlankStrategy s);
 std::string_view to_string(BlankMode m);
 bool parse_blank_strategy(std::string_view t, BlankStrategy& out);
@@ -38,7 +43,7 @@ bool parse_blank_mode(std::string_view t, BlankMode& out);
 
 struct BlankOptions {
   BlankStrategy strategy = BlankStrategy::plate;
-  BlankMode mode = BlankMode::trace;
+  BlankMode mode = BlankMode::smooth;
   // A blank well is "noisy" when its scatter about its own straight line exceeds this many
   // times the median scatter of the channel's blank wells (needs 3 or more blank wells).
   double noisy_factor = 3.0;

@@ -13,7 +13,8 @@ namespace vzero {
 namespace {
 constexpr EnumName<BlankStrategy> k_strategies[] = {
     {BlankStrategy::plate, "plate"}, {BlankStrategy::matched, "matched"}, {BlankStrategy::none, "none"}};
-constexpr EnumName<BlankMode> k_modes[] = {{BlankMode::trace, "trace"}, {BlankMode::rate, "rate"}};
+constexpr EnumName<BlankMode> k_modes[] = {
+    {BlankMode::smooth, "smooth"}, {BlankMode::trace, "trace"}, {BlankMode::rate, "rate"}};
 }  // namespace
 
 template <>
@@ -122,7 +123,7 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
       bw.substrate[static_cast<int>(j)] = info->substrate;
     }
   }
-  bw.screen = detail::screen_blanks(c, bw.all);
+  bw.screen = detail::screen_blanks(c, bw.all, o.mode != BlankMode::trace);
   std::vector<double> sds;
   for (std::size_t k = 0; k < bw.all.size(); ++k) {
     const int b = bw.all[k];
@@ -314,7 +315,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     wb.blank_rate = sb.rate;
     wb.substrate_mismatch = substrate_mismatch(r.substrate_trend, info, sb.substrate);
     r.substrate_trend.mismatched += std::isfinite(wb.substrate_mismatch) && wb.substrate_mismatch != 0;
-    if (o.mode == BlankMode::trace) subtract(c, sb, j, r);
+    if (o.mode != BlankMode::rate) subtract(c, sb, j, r);
   }
   return r;
 }

@@ -159,13 +159,63 @@ int replace_spikes(const std::vector<double>& t, const std::vector<double>& z, c
   return static_cast<int>(found.size());
 }
 
+// Whether the blank less its bend (`z`, from read `from` on) bends about its line `zl` by
+// more than read noise explains: the least-squares coefficient of (t − t̄)², made orthogonal
+// to the line, against its standard error, two-sided at k_own_bend_alpha (Student t, n − 3
+// degrees of freedom). A blank with a curve of its own (a background reaction that slows)
+// shares it with its samples, and smoothing it away would hand it to them.
+constexpr double k_own_bend_alpha = 0.01;
+bool bends_on_its_own(const std::vector<double>& t, const std::vector<double>& z, std::size_t from, const LineFit& zl) {
+  std::vector<double> x, r;
+  for (std::size_t i = from; i < t.size(); ++i)
+    if (std::isfinite(z[i])) {
+      x.push_back(t[i]);
+      r.push_back(z[i] - (zl.intercept + zl.slope * t[i]));
+    }
+  const std::size_t n = x.size();
+  if (n < 6) return false;
+  double mx = 0;
+  for (double v : x) mx += v / static_cast<double>(n);
+  std::vector<double> q(n);
+  double mq = 0, sxx = 0, sxq = 0;
+  for (std::size_t i = 0; i < n; ++i) q[i] = (x[i] - mx) * (x[i] - mx), mq += q[i] / static_cast<double>(n);
+  for (std::size_t i = 0; i < n; ++i) sxx += (x[i] - mx) * (x[i] - mx), sxq += (x[i] - mx) * (q[i] - mq);
+  double sqq = 0, sqr = 0, rss = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    q[i] = q[i] - mq - sxq / sxx * (x[i] - mx);
+    sqq += q[i] * q[i], sqr += q[i] * r[i], rss += r[i] * r[i];
+  }
+  if (!(sqq > 0)) return false;
+  const double c = sqr / sqq, left = rss - c * c * sqq;
+  if (!(left > 0)) return c != 0;
+  const double se = std::sqrt(left / static_cast<double>(n - 3) / sqq);
+  return std::fabs(c / se) > student_t_quantile(1 - k_own_bend_alpha / 2, static_cast<double>(n - 3));
+}
+
+// Step 6 for one blank (column k of `reads`; `y` its reads, `z` them less the bend, `from`
+// its first read after a disturbed start): each read it has replaced by its line (the bend
+// off) plus its bend. Left as read when the line could not be fitted or the blank bends on
+// its own. True when smoothed.
+bool smooth_reads(const std::vector<double>& t, const std::vector<double>& y, const std::vector<double>& z,
+                  std::size_t from, const Eigen::MatrixXd& bend, std::size_t k, Eigen::MatrixXd& reads) {
+  const LineFit zl = line_from(t, z, from);
+  if (!std::isfinite(zl.slope) || bends_on_its_own(t, z, from, zl)) return false;
+  const auto kk = static_cast<Eigen::Index>(k);
+  for (std::size_t i = 0; i < t.size(); ++i) {
+    const auto ii = static_cast<Eigen::Index>(i);
+    if (std::isfinite(y[i])) reads(ii, kk) = zl.intercept + zl.slope * t[i] + bend(ii, kk);
+  }
+  return true;
+}
+
 }  // namespace
 
-BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
+BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, bool smooth) {
   const std::size_t reads = c.time_s.size(), m = columns.size();
   BlankScreen s;
   s.skip.assign(m, 0);
   s.spikes.assign(m, 0);
+  s.smoothed.assign(m, 0);
   s.line.resize(m);
   s.reads = Eigen::MatrixXd::Constant(static_cast<Eigen::Index>(reads), static_cast<Eigen::Index>(m), NAN);
   // Step 1: each blank's usable reads (NaN elsewhere).
@@ -215,6 +265,7 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns) {
     }
     // Step 5: single reads far off their neighbours, replaced by the neighbours' line.
     s.spikes[k] = replace_spikes(tt, zz, at, s.skip[k], s.noise_sd, s.bend, k, s.reads);
+    if (smooth && m > k_bend_blanks) s.smoothed[k] = smooth_reads(c.time_s, y[k], z[k], from, s.bend, k, s.reads);
   }
   return s;
 }

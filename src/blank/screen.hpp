@@ -17,7 +17,14 @@
 //      by its line (fitted to the reads after them, the bend taken off) plus the shared bend —
 //      what the blank would have read undisturbed;
 //   5. a single read far off the line through its six neighbours (a bubble, dust), judged at
-//      the pooled noise, is replaced by that line's value plus the bend (screen.cpp).
+//      the pooled noise, is replaced by that line's value plus the bend (screen.cpp);
+//   6. `smooth` (the default blank mode): with 4 or more blanks, every read of a blank is
+//      replaced by its line (the bend off, fitted after a disturbed start) plus its shared
+//      bend. The samples then take on the plate's read-to-read changes without the blank's
+//      own read noise, and a disturbance below step 3's cut does not reach them either. A
+//      blank that, less its bend, still curves about its line (a t test on the (t − t̄)²
+//      term at 1 %: a background reaction of its own, which its samples share) keeps its
+//      reads as read.
 #pragma once
 
 #include <Eigen/Core>
@@ -31,13 +38,14 @@ namespace vzero::detail {
 struct BlankScreen {
   std::vector<int> skip;      // per blank (as listed): disturbed first ok reads replaced (0 = clean)
   std::vector<int> spikes;    // per blank: single reads replaced as spikes
+  std::vector<int> smoothed;  // per blank: 1 when step 6 replaced its reads (0: as read, or it bends on its own)
   std::vector<LineFit> line;  // per blank: least-squares line of its ok reads after a disturbed start
   Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok
   Eigen::MatrixXd bend;       // reads × blanks: each blank's shared bend (0 with fewer than 3 others)
   double noise_sd = NAN;      // pooled read noise of the blanks, shared bend taken off
 };
 
-// `columns`: the channel columns of the blank wells.
-BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns);
+// `columns`: the channel columns of the blank wells; `smooth`: step 6.
+BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, bool smooth);
 
 }  // namespace vzero::detail

@@ -112,7 +112,9 @@ void add_blank_options(std::vector<OptionSpec>& t) {
   t.push_back(enum_choice<BlankStrategy, blank_strategy_of>(
       "blank", k_blank, "plate", "plate (all blank wells), matched (same `match` value) or none"));
   t.push_back(enum_choice<BlankMode, blank_mode_of>(
-      "blank-mode", k_blank, "trace", "trace (subtract read by read) or rate (subtract the blank's rate)"));
+      "blank-mode", k_blank, "smooth",
+      "smooth (subtract each blank's line plus the plate's shared bend, read by read; with under 4 blank wells as "
+      "trace), trace (subtract the blank reads as read) or rate (subtract the blank's rate)"));
   {
     NumberRange above_one{1, 1e300, true, false};
     t.push_back(number(
