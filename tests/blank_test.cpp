@@ -113,16 +113,19 @@ TEST_CASE("rate mode: a blank with a disturbed start enters by its line, not its
   CHECK(blank_rate_between(c, map, run.format, o, raw, a1, 0, 190) > 1.2 * 0.0001);
 }
 
-// Worked in the test: pairs (r₁, r₂) lie |r₁ − r₂|/2 from their median, scaled by √2 to
-// |r₁ − r₂|/√2, the SD estimate of one difference of two draws (Var(r₁ − r₂) = 2σ²).
+// Worked in the test: the pooled within-group SD, √(Σ groups Σ (x − x̄)² / Σ (n − 1)) (common
+// practice: the one-way analysis of variance's within-group mean square); a pair (r₁, r₂)
+// adds (r₁ − r₂)²/2 on one degree of freedom (Var(r₁ − r₂) = 2σ²).
 TEST_CASE("well-to-well drift is the blanks' scatter within their own set, not between sets") {
   // Three sets whose rates differ by 100× between sets (hydrolysis grows with substrate)
-  // but by 2e-7 within each pair: distances 2e-7/√2 each, so the robust SD is
-  // 1.4826 · 2e-7/√2.
+  // but by 2e-7 within each pair: each adds (2e-7)²/2 on one degree of freedom, so the
+  // pooled SD is 2e-7/√2.
   const std::vector<std::vector<double>> sets = {{1e-6, 1.2e-6}, {1e-4, 1.002e-4}, {1e-2, 1.00002e-2}};
-  CHECK_REL(within_set_rate_sd(sets), 1.4826 * 2e-7 / std::sqrt(2.0), 1e-6);
-  // One set of three: median 2; distances 1, 0, 1 scaled by √(3/2); median 1·√1.5.
-  CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}}), 1.4826 * std::sqrt(1.5), 1e-12);
+  CHECK_REL(within_set_rate_sd(sets), 2e-7 / std::sqrt(2.0), 1e-6);
+  // One set of three: mean 2, Σ(x − x̄)² = 2 on 2 degrees of freedom: SD 1.
+  CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}}), 1.0, 1e-12);
+  // A set of three and a pair: (2 + (10 − 12)²/2) / (2 + 1) = 4/3.
+  CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}, {10.0, 12.0}}), std::sqrt(4.0 / 3.0), 1e-12);
   // Too few degrees of freedom (one pair, singletons): unknown, not zero.
   CHECK(std::isnan(within_set_rate_sd({{1.0, 2.0}, {5.0}})));
   CHECK(std::isnan(within_set_rate_sd({})));

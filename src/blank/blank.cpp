@@ -80,22 +80,16 @@ std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f
 }  // namespace
 
 double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
-  std::vector<double> dist;
+  double ss = 0;
   int dof = 0;
   for (const auto& set : sets) {
     if (set.size() < 2) continue;
-    std::vector<double> v = set;
-    std::sort(v.begin(), v.end());
-    const std::size_t h = v.size() / 2;
-    const double med = v.size() % 2 ? v[h] : 0.5 * (v[h - 1] + v[h]);
-    const double n = static_cast<double>(v.size());
-    for (double x : v) dist.push_back(std::fabs(x - med) * std::sqrt(n / (n - 1)));
-    dof += static_cast<int>(v.size()) - 1;
+    double mean = 0;
+    for (double x : set) mean += x / static_cast<double>(set.size());
+    for (double x : set) ss += (x - mean) * (x - mean);
+    dof += static_cast<int>(set.size()) - 1;
   }
-  if (dof < 2) return NAN;
-  std::sort(dist.begin(), dist.end());
-  const std::size_t h = dist.size() / 2;
-  return 1.4826 * (dist.size() % 2 ? dist[h] : 0.5 * (dist[h - 1] + dist[h]));
+  return dof < 2 ? NAN : std::sqrt(ss / dof);
 }
 
 namespace {

@@ -42,6 +42,7 @@ struct WellRecord {
   bool tangent = false;     // v0 is the parabola's initial tangent
   std::vector<std::string> flags;  // the flags raised, for the tally of flags on clean wells
   bool covered = false;            // the truth lies in the result's 95 % interval
+  double half_width = NAN;         // the result's 95 % half-width relative to its v0
   bool noise_limited = false;      // even the truth's best straight line cannot reach the precision
                                    // limit (WellTruth::ideal_half_width): `imprecise` is its right flag
 };

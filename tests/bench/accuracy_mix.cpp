@@ -191,6 +191,7 @@ std::string overall(const Totals& tot, Headline& h) {
   const Figures every = weighted(recs, all, abs_err);
   const Figures naive = weighted(recs, all, naive_err);
   int art_unflagged = 0, art10 = 0, art15 = 0, clean = 0, clean_flagged = 0, measurable = 0;
+  double art15_expected = 0;
   std::map<std::string, int> clean_flags;
   std::map<sim::PlateKind, std::pair<int, int>> clean_by_kind;  // flagged, clean
   for (const auto& r : recs) {
@@ -206,6 +207,10 @@ std::string overall(const Totals& tot, Headline& h) {
     ++art_unflagged;
     art10 += r.err > 10;
     art15 += r.err > 15;
+    // What the well's own interval expects: P(|error| > 15 %) for a normal error whose 95 %
+    // half-width is the interval's, 2·Φ(−0.15·1.96/hw) = erfc(0.15·1.96/(hw·√2)).
+    if (std::isfinite(r.half_width) && r.half_width > 0)
+      art15_expected += std::erfc(0.15 * 1.959963984540054 / (r.half_width * std::sqrt(2.0)));
   }
   const Figures tangent8 = weighted(
       recs, [](const WellRecord& r) { return (r.artefacts & sim::k_short_run) && r.tangent; }, signed_err);
@@ -223,6 +228,10 @@ std::string overall(const Totals& tot, Headline& h) {
                      pct(measurable, static_cast<int>(recs.size())));
   out += fmt::format("unflagged artefact wells above 10 % error: {} of {} ({}); above 15 %: {} ({})\n", art10,
                      art_unflagged, pct(art10, art_unflagged), art15, pct(art15, art_unflagged));
+  out += fmt::format(
+      "  (their own 95 % intervals, read as normal errors, expect {:.1f} of them above 15 %: what no rule can\n"
+      "   remove without flagging wells whose interval is within the precision limit)\n",
+      art15_expected);
   out +=
       fmt::format("clean wells flagged: {} of {} ({}); their flags:", clean_flagged, clean, pct(clean_flagged, clean));
   for (const auto& [flag, n] : clean_flags) out += fmt::format(" {} {}", flag, n);

@@ -59,9 +59,9 @@ Blanks plate_blanks(const sim::Plate& p, Totals& tot) {
 void dump(const sim::Plate& p, int w, const TraceView& tr, const RateResult& r, const std::vector<double>& raw,
           const std::vector<double>& y, const std::vector<ReadStatus>& st) {
   const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
-  std::printf("well %d truth v0 %.6g uM/s (%.6g AU/s) s0 %.4g km %.4g vmax %.4g lag %.1f art %u noise_sd %.4g\n", w,
+  std::printf("well %d truth v0 %.6g uM/s (%.6g AU/s) s0 %.4g km %.4g vmax %.4g lag %.1f art %u noise_sd %.4g rate_sd %.4g\n", w,
               truth.v0_uM_s, truth.v0_uM_s * p.signal_per_uM, truth.s0_uM, truth.km_uM, truth.vmax_uM_s, truth.lag_s,
-              truth.artefacts, tr.noise_sd);
+              truth.artefacts, tr.noise_sd, tr.rate_sd);
   for (std::size_t i = 0; i < p.time_s.size(); ++i) {
     std::printf(
         "%4zu %7.1f raw %9.5f y %9.5f st %d used %d  true %9.5f", i, p.time_s[i], raw[i], y[i], static_cast<int>(st[i]),
@@ -264,6 +264,7 @@ void run_plate(const PlateRun& run, Totals& tot) {
                    r.tangent == "parabola",
                    flags,
                    r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM,
+                   0.5 * (r.ci_high - r.ci_low) / std::fabs(r.slope),
                    !(truth.ideal_half_width <= run.options.precision_limit)};
     if (run.mix)
       tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} ideal-hw {:.3f} blank-dist {:+.5f} | {}",
