@@ -19,27 +19,6 @@ WindowStats::WindowStats(const double* t, const double* y, int n) : t_(t), n_(n)
   }
 }
 
-WindowStats::Sums WindowStats::range(int a, int b) const {
-  const Sums& p = prefix_[static_cast<std::size_t>(a)];
-  const Sums& q = prefix_[static_cast<std::size_t>(b)];
-  return Sums{q.n - p.n, q.u1 - p.u1, q.u2 - p.u2,   q.u3 - p.u3, q.u4 - p.u4,
-              q.y - p.y, q.uy - p.uy, q.u2y - p.u2y, q.yy - p.yy};
-}
-
-double WindowStats::slope(int a, int b) const {
-  const Sums s = range(a, b);
-  const double ub = s.u1 / s.n;
-  const double m2 = s.u2 - s.n * ub * ub;
-  const double c1 = s.uy - ub * s.y;
-  return m2 > 0 ? c1 / m2 / span_ : NAN;
-}
-
-double WindowStats::stt(int a, int b) const {
-  const Sums s = range(a, b);
-  const double ub = s.u1 / s.n;
-  return std::max(0.0, s.u2 - s.n * ub * ub) * span_ * span_;
-}
-
 WindowTest WindowStats::test(int a, int b, double sd_floor, double t_ref) const {
   WindowTest w;
   w.n = b - a;

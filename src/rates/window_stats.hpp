@@ -33,15 +33,32 @@ class WindowStats {
   // `intercept_at_t0` is evaluated.
   WindowTest test(int a, int b, double sd_floor, double t_ref) const;
   // OLS slope of reads [a, b) alone (cheaper).
-  double slope(int a, int b) const;
+  double slope(int a, int b) const {
+    const Sums s = range(a, b);
+    const double ub = s.u1 / s.n;
+    const double m2 = s.u2 - s.n * ub * ub;
+    const double c1 = s.uy - ub * s.y;
+    return m2 > 0 ? c1 / m2 / span_ : NAN;
+  }
   // Σ (t − t̄)² over reads [a, b), in input time units squared.
-  double stt(int a, int b) const;
+  double stt(int a, int b) const {
+    const Sums s = range(a, b);
+    const double ub = s.u1 / s.n;
+    const double m2 = s.u2 - s.n * ub * ub;
+    return (m2 > 0 ? m2 : 0.0) * span_ * span_;
+  }
 
  private:
   struct Sums {
     double n, u1, u2, u3, u4, y, uy, u2y, yy;
   };
-  Sums range(int a, int b) const;
+  // Sums over reads [a, b); defined here so the block scans' many calls inline.
+  Sums range(int a, int b) const {
+    const Sums& p = prefix_[static_cast<std::size_t>(a)];
+    const Sums& q = prefix_[static_cast<std::size_t>(b)];
+    return Sums{q.n - p.n, q.u1 - p.u1, q.u2 - p.u2,   q.u3 - p.u3, q.u4 - p.u4,
+                q.y - p.y, q.uy - p.uy, q.u2y - p.u2y, q.yy - p.yy};
+  }
 
   const double* t_;
   int n_;
