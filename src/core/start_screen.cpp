@@ -18,13 +18,15 @@ struct Fit {
 // The regressors 1, u, (u² when `square`), exp(−(t − t0)/τ) of one decay (u scaled by the
 // span's duration for conditioning), their normal matrix's LU and its inverse: they depend
 // on the read times only.
+// Small fixed-capacity matrices: at most 4 regressors, so no heap once a design is built.
+using Small = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, 4, 4>;
+using SmallVec = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, 4, 1>;
 struct Design {
   bool built = false, ok = false;
   Eigen::MatrixXd x;
-  Eigen::FullPivLU<Eigen::MatrixXd> lu;
-  Eigen::MatrixXd inv;
+  Eigen::FullPivLU<Small> lu;
+  Small inv;
 };
-
 void build(Design& d, const double* t, int span, double total, double tau, bool square) {
   const int k = square ? 4 : 3;
   d.built = true;
@@ -36,12 +38,11 @@ void build(Design& d, const double* t, int span, double total, double tau, bool 
     if (square) d.x(i, 2) = u * u;
     d.x(i, k - 1) = std::exp(-(t[i] - t[0]) / tau);
   }
-  const Eigen::MatrixXd xtx = d.x.transpose() * d.x;
+  const Small xtx = d.x.transpose() * d.x;
   d.lu.compute(xtx);
   d.ok = d.lu.isInvertible();
   if (d.ok) d.inv = d.lu.inverse();
 }
-
 // The designs of one stretch of read times, kept per thread for the next trace: the wells
 // of a plate mostly share their first reads' times, and the same times give the same
 // designs bit for bit, so only the right-hand sides are new.
@@ -66,15 +67,23 @@ Designs& designs_for(const double* t, int span) {
   return c;
 }
 
-// Least squares of v on a design; SEs from max(sd, residual SD).
+// Least squares of v on a design; SEs from max(sd, residual SD). No heap: Xᵀy, β and the
+// residuals are formed in fixed-capacity vectors and a loop.
 Fit fit(const Design& design, const std::vector<double>& v, int span, bool square, double sd) {
   const int k = square ? 4 : 3;
   Fit f;
   if (!design.ok) return f;
   const Eigen::MatrixXd& x = design.x;
   const Eigen::Map<const Eigen::VectorXd> y(v.data(), span);
-  const Eigen::VectorXd beta = design.lu.solve(x.transpose() * y);
-  f.rss = (y - x * beta).squaredNorm();
+  SmallVec xty(k);
+  for (int j = 0; j < k; ++j) xty(j) = x.col(j).dot(y);
+  const SmallVec beta = design.lu.solve(xty);
+  double rss = 0;
+  for (int i = 0; i < span; ++i) {
+    const double e = y(i) - x.row(i).dot(beta);
+    rss += e * e;
+  }
+  f.rss = rss;
   const double s = std::max(sd, std::sqrt(f.rss / (span - k)));
   f.d = beta(k - 1);
   f.d_se = s * std::sqrt(design.inv(k - 1, k - 1));
