@@ -19,7 +19,9 @@ constexpr double k_lag_z = 4.0;
 int lag_scan(const LagSearch& q) {
   const auto& [stats, t, y, s0, p, lag_max, sd] = q;
   if (lag_max < 1 || !(sd > 0)) return s0;
-  std::vector<double> b, se;
+  thread_local std::vector<double> b, se;  // scratch reused by each thread
+  b.clear();
+  se.clear();
   for (int j = s0; j <= s0 + lag_max && j + p <= static_cast<int>(t.size()); ++j) {
     b.push_back(stats.slope(j, j + p));
     se.push_back(sd / std::sqrt(stats.stt(j, j + p)));
