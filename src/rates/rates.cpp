@@ -72,12 +72,13 @@ struct Kept {
 // Never leaves fewer than 3 reads.
 Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor, bool with_interval) {
   Kept kept;
-  std::vector<double> ct, cy;
-  std::vector<int> cpos;
+  thread_local std::vector<double> ct, cy, a;  // scratch reused by each thread
+  thread_local std::vector<int> cpos;
+  ct.clear();
+  cy.clear();
+  cpos.clear();
+  a.clear();
   const auto width = static_cast<std::size_t>(last - first + 1);
-  ct.reserve(width);
-  cy.reserve(width);
-  cpos.reserve(width);
   kept.pos.reserve(width);
   for (int i = first; i <= last; ++i)
     if (!u.spike[static_cast<std::size_t>(i)]) {
@@ -93,8 +94,6 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   }
   const LineFit ts = detail::theil_sen(ct.data(), cy.data(), static_cast<int>(ct.size()), nullptr, with_interval);
   kept.line = ts;
-  std::vector<double> a;
-  a.reserve(ct.size());
   for (std::size_t i = 0; i < ct.size(); ++i) a.push_back(std::fabs(cy[i] - (ts.intercept + ts.slope * ct[i])));
   const double scale = std::max(1.4826 * detail::median_inplace(a), sd_floor);
   for (int i = first; i <= last; ++i) {
@@ -183,9 +182,9 @@ LineFit fit_window(const detail::Usable& u, const detail::WindowChoice& w, const
                    RateResult& r, Kept& kept, std::vector<double>& kt) {
   const bool theil_sen = opt.estimator == Estimator::theil_sen;
   kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
-  std::vector<double> ky;
+  thread_local std::vector<double> ky;  // scratch reused by each thread
+  ky.clear();
   kt.reserve(kept.pos.size());
-  ky.reserve(kept.pos.size());
   for (int p : kept.pos) {
     kt.push_back(u.t[static_cast<std::size_t>(p)]);
     ky.push_back(u.y[static_cast<std::size_t>(p)]);
@@ -220,7 +219,9 @@ double conversion(const detail::Usable& u, const detail::WindowChoice& w, const 
                   const RateOptions& opt, double t_ref, RateResult& r, bool& lag_depleted) {
   double baseline = w.baseline;
   if (!std::isfinite(baseline)) {
-    std::vector<double> bt, by;
+    thread_local std::vector<double> bt, by;  // scratch reused by each thread
+    bt.clear();
+    by.clear();
     for (std::size_t i = 0; i < u.t.size() && static_cast<int>(bt.size()) < opt.min_points; ++i)
       if (!u.spike[i]) {
         bt.push_back(u.t[i]);
