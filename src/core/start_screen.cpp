@@ -105,7 +105,7 @@ StartScreen screen_start(const double* t, const double* y, int n, int min_points
   StartScreen out;
   constexpr int k_min_reads = 8;
   if (n < k_min_reads || !(sd > 0)) return out;
-  const int span = std::min(n, std::max(min_points + 5, 12));
+  const int span = std::min(n, start_screen_span(min_points));
   Designs& c = designs_for(t, span);
   const double dt = c.dt, total = c.total;
   if (!(dt > 0) || !(total > 0)) return out;

@@ -27,6 +27,9 @@ struct StartScreen {
 // squares on 4 regressors; O(n) for the fixed span. The square term is kept when its t-value reaches k_bend_t;
 // otherwise the smooth part is a line.
 inline constexpr double k_bend_t = 3.0;
+// How many of the first reads screen_start looks at: the arrays may hold just these while
+// `n` counts every read (a long trace's screen need not copy it whole).
+constexpr int start_screen_span(int min_points) { return min_points + 5 > 12 ? min_points + 5 : 12; }
 StartScreen screen_start(const double* t, const double* y, int n, int min_points, double sd, double z_cut = 5.0);
 
 }  // namespace vzero::detail

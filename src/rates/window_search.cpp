@@ -338,19 +338,24 @@ StartScreen screen_usable_start(Usable& u, const RateOptions& opt, double sd, do
   ct.clear();
   cy.clear();
   cpos.clear();
+  // The screen fits only its first reads (start_screen_span); the rest are counted.
+  const auto reach = static_cast<std::size_t>(start_screen_span(opt.min_points));
+  int n = 0;
   for (std::size_t i = 0; i < u.t.size(); ++i)
     if (!u.spike[i] || i < 3) {
+      ++n;
+      if (ct.size() == reach) continue;
       ct.push_back(u.t[i]);
       cy.push_back(u.y[i]);
       cpos.push_back(static_cast<int>(i));
     }
-  StartScreen st = screen_start(ct.data(), cy.data(), static_cast<int>(ct.size()), opt.min_points, sd);
+  StartScreen st = screen_start(ct.data(), cy.data(), n, opt.min_points, sd);
   // On a short trace the local scatter carries the disturbance itself: a start found only
   // against the blanks' read noise counts when its reads dip below the trace (in the
   // reaction's direction). One that sits above could be a lag's ramp, whose curve is the same
   // decaying offset, so it is left to the lag tests.
-  if (st.skip == 0 && static_cast<int>(ct.size()) < 2 * k_neighbourhood && noise_sd > 0 && noise_sd < sd) {
-    const StartScreen quiet = screen_start(ct.data(), cy.data(), static_cast<int>(ct.size()), opt.min_points, noise_sd);
+  if (st.skip == 0 && n < 2 * k_neighbourhood && noise_sd > 0 && noise_sd < sd) {
+    const StartScreen quiet = screen_start(ct.data(), cy.data(), n, opt.min_points, noise_sd);
     if (quiet.skip > 0 && quiet.offset < 0) st = quiet;
   }
   if (st.skip == 0) return st;
