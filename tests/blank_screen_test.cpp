@@ -199,3 +199,23 @@ TEST_CASE("a blank's single far read (a bubble) is replaced by its neighbours' l
     for (int i = 0; i < 20; ++i)
       if (!(k == 2 && i == 9)) CHECK(s.reads(i, k) == c.values(i, k));
 }
+
+TEST_CASE("smooth: a blank with a curve of its own keeps its reads; the others are smoothed") {
+  // Five blanks as above (they share the plate's bend). Blank 4 also carries a background
+  // reaction of its own that slows, 0.005·(1 − e^(−t/60 s)) AU: 10σ at the end, a curve no
+  // other blank shares, so the bend (the median of the others) leaves it in blank 4 less its
+  // bend. Its (t − t̄)² term is then far beyond the 1 % t quantile (the alternating ±σ noise
+  // has no square trend of that size), and its reads are kept as read: its samples must
+  // subtract that curve. The four others are smoothed (their reads change).
+  vzero::Channel c = blanks(5, {0, 0, 1, 1, 0});
+  for (int i = 0; i < 20; ++i) c.values(i, 4) += 0.005 * -std::expm1(-c.time_s[static_cast<std::size_t>(i)] / 60.0);
+  const vzero::detail::BlankScreen s = vzero::detail::screen_blanks(c, {0, 1, 2, 3, 4}, true);
+  for (int k = 0; k < 4; ++k) {
+    CHECK(s.smoothed[static_cast<std::size_t>(k)] == 1);
+    int changed = 0;
+    for (int i = 0; i < 20; ++i) changed += s.reads(i, k) != c.values(i, k);
+    CHECK(changed > 10);
+  }
+  CHECK(s.smoothed[4] == 0);
+  for (int i = 0; i < 20; ++i) CHECK(s.reads(i, 4) == c.values(i, 4));
+}
