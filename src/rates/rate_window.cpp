@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <array>
+#include <cstring>
 #include <utility>
 
 #if defined(__SSE2__)
@@ -47,12 +48,11 @@ constexpr auto batcher_pairs() {
 
 // The spike screen works on one read (double) or, with SSE2, two reads at once (V2: one
 // read per lane). Every lane operation is the IEEE operation the scalar code does (min and
-// max as std::min/std::max give them, |x| by clearing the sign, correctly rounded sqrt and
-// division), so both give the same bits.
+// max as std::min/std::max give them, |x| by clearing the sign, correctly rounded division),
+// so both give the same bits.
 inline double lane_min(double a, double b) { return std::min(a, b); }
 inline double lane_max(double a, double b) { return std::max(a, b); }
 inline double lane_abs(double a) { return std::fabs(a); }
-inline double lane_sqrt(double a) { return std::sqrt(a); }
 inline double splat(double a, double) { return a; }
 
 #if defined(__SSE2__)
@@ -67,7 +67,6 @@ struct V2 {
 inline V2 lane_min(V2 a, V2 b) { return {_mm_min_pd(b.v, a.v)}; }
 inline V2 lane_max(V2 a, V2 b) { return {_mm_max_pd(b.v, a.v)}; }
 inline V2 lane_abs(V2 a) { return {_mm_andnot_pd(_mm_set1_pd(-0.0), a.v)}; }
-inline V2 lane_sqrt(V2 a) { return {_mm_sqrt_pd(a.v)}; }
 inline V2 splat(double a, V2) { return {_mm_set1_pd(a)}; }
 #endif
 
@@ -165,32 +164,57 @@ inline V median_of_six(std::array<V, 6> v) {
   return (v[2] + v[3]) / splat(2.0, v[0]);
 }
 
+// The scale √(1 + leverage) of a read's residual from its neighbour line: it depends on the
+// times alone, (tn) the six neighbours' and tj the read's.
+inline double residual_scale(const std::array<double, 6>& tn, double tj) {
+  constexpr int k_nb = 6;
+  double mt = 0.0;
+  for (int i = 0; i < k_nb; ++i) mt = mt + tn[z(i)];
+  mt = mt / static_cast<double>(k_nb);
+  double stt = 0.0;
+  for (int i = 0; i < k_nb; ++i) {
+    const double dt = tn[z(i)] - mt;
+    stt = stt + dt * dt;
+  }
+  const double dt = tj - mt;
+  const double lev = 1.0 / k_nb + dt * dt / stt;
+  return std::sqrt(1.0 + lev);
+}
+
 // One read's (or, in lanes, two reads') neighbour line: `slopes` the 15 neighbour-pair
-// slopes, (tn, yn) the six neighbours, (tj, yj) the read. Gives its scaled residual and the
-// neighbours' robust SD.
+// slopes, (tn, yn) the six neighbours, (tj, yj) the read, `scale` its residual_scale. Gives
+// its scaled residual and the neighbours' robust SD.
 template <class V>
 inline void screen_read(const std::array<V, 15>& slopes, const std::array<V, 6>& tn, const std::array<V, 6>& yn, V tj,
-                        V yj, V& d, V& nb_sd) {
+                        V yj, V scale, V& d, V& nb_sd) {
   constexpr int k_nb = 6;
   const V slope = median_of_fifteen(slopes);
   std::array<V, k_nb> res{}, tmp{};
-  V mt = splat(0.0, tj);
-  for (int i = 0; i < k_nb; ++i) {
-    res[z(i)] = yn[z(i)] - slope * tn[z(i)];
-    mt = mt + tn[z(i)];
-  }
-  mt = mt / splat(static_cast<double>(k_nb), tj);
+  for (int i = 0; i < k_nb; ++i) res[z(i)] = yn[z(i)] - slope * tn[z(i)];
   const V icpt = median_of_six(res);
-  V stt = splat(0.0, tj);
-  for (int i = 0; i < k_nb; ++i) {
-    const V dt = tn[z(i)] - mt;
-    stt = stt + dt * dt;
-    tmp[z(i)] = lane_abs(res[z(i)] - icpt);
-  }
+  for (int i = 0; i < k_nb; ++i) tmp[z(i)] = lane_abs(res[z(i)] - icpt);
   nb_sd = splat(1.4826, tj) * median_of_six(tmp);
-  const V dt = tj - mt;
-  const V lev = splat(1.0 / k_nb, tj) + dt * dt / stt;
-  d = (yj - (icpt + slope * tj)) / lane_sqrt(splat(1.0, tj) + lev);
+  d = (yj - (icpt + slope * tj)) / scale;
+}
+
+// Each read's residual_scale, kept per thread for the read times last met: the wells of a
+// plate mostly share them, and the values are the same bits whether kept or worked out.
+const std::vector<double>& residual_scales(const std::vector<double>& t) {
+  constexpr int k_nb = 6;
+  thread_local std::vector<double> times, scales;
+  if (times.size() == t.size() && std::memcmp(times.data(), t.data(), t.size() * sizeof(double)) == 0) return scales;
+  const int m = static_cast<int>(t.size());
+  times = t;
+  scales.resize(z(m));
+  std::array<double, 6> tn{};
+  for (int j = 0; j < m; ++j) {
+    const int lo = std::clamp(j - k_nb / 2, 0, m - k_nb - 1);
+    int c = 0;
+    for (int i = lo; i <= lo + k_nb; ++i)
+      if (i != j) tn[z(c++)] = t[z(i)];
+    scales[z(j)] = residual_scale(tn, t[z(j)]);
+  }
+  return scales;
 }
 
 void screen_spikes(Usable& u, double k, double floor) {
@@ -202,6 +226,7 @@ void screen_spikes(Usable& u, double k, double floor) {
   thread_local std::vector<double> d, nb_sd, a, gap_slope;
   d.resize(z(m));
   nb_sd.resize(z(m));
+  const std::vector<double>& rscale = residual_scales(u.t);
   // Slope of reads (i, i + g), g = 1 … 6: every neighbour pair below lies within 6 reads.
   gap_slope.resize(z(m) * k_nb);
   for (int i = 0; i < m; ++i)
@@ -235,8 +260,8 @@ void screen_spikes(Usable& u, double k, double floor) {
       yv[i] = {_mm_set_pd(y1[i], y0[i])};
     }
     V2 dv, sdv;
-    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])}, dv,
-                sdv);
+    screen_read(sv, tv, yv, V2{_mm_set_pd(u.t[z(j + 1)], u.t[z(j)])}, V2{_mm_set_pd(u.y[z(j + 1)], u.y[z(j)])},
+                V2{_mm_loadu_pd(&rscale[z(j)])}, dv, sdv);
     _mm_storel_pd(&d[z(j)], dv.v);
     _mm_storeh_pd(&d[z(j + 1)], dv.v);
     _mm_storel_pd(&nb_sd[z(j)], sdv.v);
@@ -245,7 +270,7 @@ void screen_spikes(Usable& u, double k, double floor) {
 #endif
   for (; j < m; ++j) {
     gather(j, s0, t0, y0);
-    screen_read(s0, t0, y0, u.t[z(j)], u.y[z(j)], d[z(j)], nb_sd[z(j)]);
+    screen_read(s0, t0, y0, u.t[z(j)], u.y[z(j)], rscale[z(j)], d[z(j)], nb_sd[z(j)]);
   }
   a.resize(z(m));
   for (int i = 0; i < m; ++i) a[z(i)] = std::fabs(d[z(i)]);
