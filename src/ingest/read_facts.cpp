@@ -236,14 +236,20 @@ bool looks_like_observation(const CompiledProfile& cp, std::string_view line, ch
   thread_local std::string scratch;
   split_views_into(line, d, f, scratch);
   if (f.size() < 3) return false;
+  // The well names first: only a line with exactly one has its other cells read (a wide
+  // export's rows, which detection tries the long profiles on, have none or many).
   int wells = 0, numbers = 0, texts = 0;
-  for (const auto& x : f) {
-    double v = 0;
-    if (parse_well(x.text)) {
-      if (++wells > 1) return false;  // (a wide header: no need to read on)
-      continue;
+  std::size_t well_at = 0;
+  for (std::size_t i = 0; i < f.size(); ++i)
+    if (parse_well(f[i].text)) {
+      if (++wells > 1) return false;
+      well_at = i;
     }
-    const CellKind k = read_cell(cp, x.text, v);
+  if (wells != 1) return false;
+  for (std::size_t i = 0; i < f.size(); ++i) {
+    if (i == well_at) continue;
+    double v = 0;
+    const CellKind k = read_cell(cp, f[i].text, v);
     texts += k == CellKind::bad;
     numbers += k == CellKind::number;
     if (texts > 1) return false;
