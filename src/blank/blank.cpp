@@ -110,15 +110,15 @@ std::vector<const WellInfo*> well_infos(const Channel& c, const PlateMap& map, P
 // Each blank well judged on its own: its line (after a disturbed start), its scatter, the
 // channel's median scatter and well-to-well drift.
 struct BlankWells {
-  std::vector<int> all;             // channel columns of the blank wells
-  std::vector<double> substrate;    // each blank's plate-map substrate (NaN when not given), in the order of `all`
-  detail::BlankScreen screen;       // the blanks screened together, in the order of `all`
-  std::vector<std::size_t> slot;    // by channel column: a blank's place in `all` (and column in screen.reads)
+  std::vector<int> all;           // channel columns of the blank wells
+  std::vector<double> substrate;  // each blank's plate-map substrate (NaN when not given), in the order of `all`
+  detail::BlankScreen screen;     // the blanks screened together, in the order of `all`
+  std::vector<std::size_t> slot;  // by channel column: a blank's place in `all` (and column in screen.reads)
   // A blank's line (its rate and scatter, after a disturbed start) and whether its start was disturbed.
   const LineFit& line(int b) const { return screen.line[slot[static_cast<std::size_t>(b)]]; }
   bool disturbed(int b) const { return screen.skip[slot[static_cast<std::size_t>(b)]] > 0; }
-  double median_sd = NAN;           // median scatter of the blanks (3 or more)
-  double rate_sd = NAN;             // within_set_rate_sd of their rates
+  double median_sd = NAN;  // median scatter of the blanks (3 or more)
+  double rate_sd = NAN;    // within_set_rate_sd of their rates
 };
 
 BlankWells judge_blank_wells(const Channel& c, const std::vector<const WellInfo*>& infos, const BlankOptions& o) {
@@ -171,13 +171,13 @@ double mean_substrate(const BlankWells& bw, const std::vector<int>& use) {
 struct SharedBlank {
   Eigen::VectorXd mean;
   std::vector<ReadStatus> st;
-  std::string names;      // well_set_text of the blanks
-  double noise_sd = NAN;  // pooled residual SD of the blanks
-  bool noisy = false;     // one of them is blank-noisy
-  bool line = false;      // every one had a disturbed start: their disturbed reads are replaced
-  bool spike = false;     // one of them had a read replaced as a spike
-  double rate = NAN;      // slope of the mean trace
-  double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
+  std::string names;       // well_set_text of the blanks
+  double noise_sd = NAN;   // pooled residual SD of the blanks
+  bool noisy = false;      // one of them is blank-noisy
+  bool line = false;       // every one had a disturbed start: their disturbed reads are replaced
+  bool spike = false;      // one of them had a read replaced as a spike
+  double rate = NAN;       // slope of the mean trace
+  double substrate = NAN;  // mean plate-map substrate of the blanks (NaN when one has none)
 };
 
 SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o, const BlankWells& bw,
@@ -280,9 +280,9 @@ void subtract(const Channel& c, const SharedBlank& sb, Eigen::Index j, BlankResu
 // A set of blanks (every blank, or those of one match key) and what it gives each well that
 // uses it, worked out once, when a well first needs it.
 struct BlankSet {
-  std::vector<int> use;  // channel columns, in the order of BlankWells::all
-  bool ready = false;    // `use` trimmed of disturbed blanks and `shared` worked out
-  bool left_out = false; // a blank with a disturbed start was left out of the set
+  std::vector<int> use;   // channel columns, in the order of BlankWells::all
+  bool ready = false;     // `use` trimmed of disturbed blanks and `shared` worked out
+  bool left_out = false;  // a blank with a disturbed start was left out of the set
   SharedBlank shared;
 };
 

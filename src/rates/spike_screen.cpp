@@ -49,7 +49,6 @@ const std::vector<double>& residual_scales(const std::vector<double>& t) {
 
 }  // namespace
 
-
 void screen_spikes(Usable& u, double k, double floor) {
   constexpr int k_nb = 6;
   const int m = static_cast<int>(u.t.size());
@@ -68,9 +67,8 @@ void screen_spikes(Usable& u, double k, double floor) {
   for (; i0 + k_nb < m; ++i0) {
     const __m128d yi = _mm_set1_pd(u.y[z(i0)]), ti = _mm_set1_pd(u.t[z(i0)]);
     for (int g = 1; g < k_nb; g += 2)
-      _mm_storeu_pd(&gap_slope[z(i0) * k_nb + z(g - 1)],
-                    _mm_div_pd(_mm_sub_pd(_mm_loadu_pd(&u.y[z(i0 + g)]), yi),
-                               _mm_sub_pd(_mm_loadu_pd(&u.t[z(i0 + g)]), ti)));
+      _mm_storeu_pd(&gap_slope[z(i0) * k_nb + z(g - 1)], _mm_div_pd(_mm_sub_pd(_mm_loadu_pd(&u.y[z(i0 + g)]), yi),
+                                                                    _mm_sub_pd(_mm_loadu_pd(&u.t[z(i0 + g)]), ti)));
   }
 #endif
   for (int i = i0; i < m; ++i)
