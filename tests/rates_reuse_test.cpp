@@ -1,6 +1,7 @@
 // Tests of what the rate finder's fits reuse from one well to the next on the same thread
 // (src/core/start_screen.cpp: the designs of the first reads' times; src/rates/lag_model.cpp:
-// the lag curve's stretched clocks). Each fit is run after others that filled those stores
+// the lag curve's stretched clocks; src/rates/rate_window.cpp: the spike screen's residual
+// scales). Each fit is run after others that filled those stores
 // and again alone in a fresh thread (empty stores): the results must be the same bit for bit
 // (the determinism rule), and must match the closed forms the traces are built from.
 #include <cmath>
@@ -9,6 +10,7 @@
 #include <vector>
 
 #include "rates/lag_model.hpp"
+#include "rates/rate_window.hpp"
 #include "core/start_screen.hpp"
 #include "test_support.hpp"
 
@@ -100,5 +102,37 @@ TEST_CASE("the start screen gives the same numbers whatever traces the thread sc
       CHECK(seq.decay_reads == 3);
       CHECK(std::fabs(seq.offset - d) < 1e-9);
     }
+  }
+}
+
+TEST_CASE("the spike screen gives the same numbers whatever read times the thread screened before") {
+  // A straight line, 0.1 + 0.001·t, with one read 0.5 too high: every neighbour line is the
+  // line itself (the Theil–Sen slope of six exact reads and at most one spike is exact), so
+  // that read alone is a spike (rate_window.cpp's rule, outlier_k robust SDs, the floor
+  // noise_sd = 0.001).
+  std::vector<double> t;
+  for (int i = 0; i < 30; ++i) t.push_back(10.0 * i);
+  std::vector<double> t_late(t), t_holed;
+  for (double& x : t_late) x += 5;  // other times: the scales are worked out anew
+  for (int i = 0; i < 30; ++i)
+    if (i != 4) t_holed.push_back(10.0 * i);
+  const vzero::RateOptions opt;
+  for (const std::vector<double>* times : {&t, &t_late, &t_holed, &t}) {
+    std::vector<double> y;
+    for (double ti : *times) y.push_back(0.1 + 0.001 * ti);
+    y[12] += 0.5;
+    vzero::TraceView tr;
+    tr.time_s = times->data();
+    tr.y = y.data();
+    tr.n = static_cast<int>(times->size());
+    tr.noise_sd = 0.001;
+    const auto screen = [&] { return vzero::detail::usable_reads(tr, opt); };
+    const vzero::detail::Usable seq = screen();
+    const vzero::detail::Usable alone = in_fresh_thread(screen);
+    CHECK(seq.spike == alone.spike);
+    CHECK(same_bits(seq.local_sd, alone.local_sd));
+    std::vector<char> expected(times->size(), 0);
+    expected[12] = 1;
+    CHECK(seq.spike == expected);
   }
 }

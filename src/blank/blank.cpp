@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cmath>
 #include <map>
+#include <string_view>
 
 #include "blank/screen.hpp"
 #include "core/stats.hpp"
@@ -94,34 +95,41 @@ double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
 
 namespace {
 
+// Each column's plate-map entry (nullptr for a well the map does not list), looked up once.
+std::vector<const WellInfo*> well_infos(const Channel& c, const PlateMap& map, PlateFormat f) {
+  std::vector<const WellInfo*> infos(static_cast<std::size_t>(c.values.cols()));
+  for (std::size_t j = 0; j < infos.size(); ++j) infos[j] = map.find(f.well(c.wells[j]));
+  return infos;
+}
+
 // Each blank well judged on its own: its line (after a disturbed start), its scatter, the
 // channel's median scatter and well-to-well drift.
 struct BlankWells {
-  std::vector<int> all;             // channel columns of the blank wells
-  std::map<int, double> substrate;  // each blank's plate-map substrate (NaN when not given)
-  detail::BlankScreen screen;       // the blanks screened together, in the order of `all`
-  std::map<int, std::size_t> slot;  // a blank's place in `all` (and column in screen.reads)
+  std::vector<int> all;           // channel columns of the blank wells
+  std::vector<double> substrate;  // each blank's plate-map substrate (NaN when not given), in the order of `all`
+  detail::BlankScreen screen;     // the blanks screened together, in the order of `all`
+  std::vector<std::size_t> slot;  // by channel column: a blank's place in `all` (and column in screen.reads)
   // A blank's line (its rate and scatter, after a disturbed start) and whether its start was disturbed.
-  const LineFit& line(int b) const { return screen.line[slot.at(b)]; }
-  bool disturbed(int b) const { return screen.skip[slot.at(b)] > 0; }
-  double median_sd = NAN;           // median scatter of the blanks (3 or more)
-  double rate_sd = NAN;             // within_set_rate_sd of their rates
+  const LineFit& line(int b) const { return screen.line[slot[static_cast<std::size_t>(b)]]; }
+  bool disturbed(int b) const { return screen.skip[slot[static_cast<std::size_t>(b)]] > 0; }
+  double median_sd = NAN;  // median scatter of the blanks (3 or more)
+  double rate_sd = NAN;    // within_set_rate_sd of their rates
 };
 
-BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
+BlankWells judge_blank_wells(const Channel& c, const std::vector<const WellInfo*>& infos, const BlankOptions& o) {
   BlankWells bw;
-  for (Eigen::Index j = 0; j < c.values.cols(); ++j) {
-    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
+  bw.slot.assign(infos.size(), 0);
+  for (std::size_t j = 0; j < infos.size(); ++j) {
+    const WellInfo* info = infos[j];
     if (info && info->role == Role::blank) {
+      bw.slot[j] = bw.all.size();
       bw.all.push_back(static_cast<int>(j));
-      bw.substrate[static_cast<int>(j)] = info->substrate;
+      bw.substrate.push_back(info->substrate);
     }
   }
   bw.screen = detail::screen_blanks(c, bw.all, o.mode != BlankMode::trace);
   std::vector<double> sds;
   for (std::size_t k = 0; k < bw.all.size(); ++k) {
-    const int b = bw.all[k];
-    bw.slot[b] = k;
     const LineFit& l = bw.screen.line[k];
     if (!std::isnan(l.resid_sd)) sds.push_back(l.resid_sd);
   }
@@ -132,9 +140,8 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
   for (int b : bw.all) {
     if (!std::isfinite(bw.line(b).slope)) continue;
     every.push_back(bw.line(b).slope);
-    const WellInfo* bi = map.find(f.well(c.wells[static_cast<std::size_t>(b)]));
-    if (o.strategy == BlankStrategy::matched && bi && !bi->match.empty())
-      by_set[bi->match].push_back(bw.line(b).slope);
+    const WellInfo* bi = infos[static_cast<std::size_t>(b)];
+    if (o.strategy == BlankStrategy::matched && !bi->match.empty()) by_set[bi->match].push_back(bw.line(b).slope);
   }
   std::vector<std::vector<double>> sets;
   if (o.strategy == BlankStrategy::matched)
@@ -151,7 +158,7 @@ BlankWells judge_blank_wells(const Channel& c, const PlateMap& map, PlateFormat 
 // The mean plate-map substrate of the blanks `use` (NaN when one has none).
 double mean_substrate(const BlankWells& bw, const std::vector<int>& use) {
   double sum = 0;
-  for (int b : use) sum += bw.substrate.at(b);
+  for (int b : use) sum += bw.substrate[bw.slot[static_cast<std::size_t>(b)]];
   return use.empty() ? NAN : sum / static_cast<double>(use.size());
 }
 
@@ -159,13 +166,13 @@ double mean_substrate(const BlankWells& bw, const std::vector<int>& use) {
 struct SharedBlank {
   Eigen::VectorXd mean;
   std::vector<ReadStatus> st;
-  std::string names;      // well_set_text of the blanks
-  double noise_sd = NAN;  // pooled residual SD of the blanks
-  bool noisy = false;     // one of them is blank-noisy
-  bool line = false;      // every one had a disturbed start: their disturbed reads are replaced
-  bool spike = false;     // one of them had a read replaced as a spike
-  double rate = NAN;      // slope of the mean trace
-  double substrate = NAN; // mean plate-map substrate of the blanks (NaN when one has none)
+  std::string names;       // well_set_text of the blanks
+  double noise_sd = NAN;   // pooled residual SD of the blanks
+  bool noisy = false;      // one of them is blank-noisy
+  bool line = false;       // every one had a disturbed start: their disturbed reads are replaced
+  bool spike = false;      // one of them had a read replaced as a spike
+  double rate = NAN;       // slope of the mean trace
+  double substrate = NAN;  // mean plate-map substrate of the blanks (NaN when one has none)
 };
 
 SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o, const BlankWells& bw,
@@ -190,7 +197,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   sb.mean = Eigen::VectorXd::Constant(reads, NAN);
   sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
   std::vector<Eigen::Index> slots;  // each blank's column in screen.reads
-  for (int b : use) slots.push_back(static_cast<Eigen::Index>(bw.slot.at(b)));
+  for (int b : use) slots.push_back(static_cast<Eigen::Index>(bw.slot[static_cast<std::size_t>(b)]));
   for (Eigen::Index i = 0; i < reads; ++i) {
     double s = 0;
     int n = 0;
@@ -206,7 +213,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   }
   for (int b : use) {
     sb.line |= bw.disturbed(b);
-    sb.spike |= bw.screen.spikes[bw.slot.at(b)] > 0;
+    sb.spike |= bw.screen.spikes[bw.slot[static_cast<std::size_t>(b)]] > 0;
   }
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
   sb.substrate = mean_substrate(bw, use);
@@ -226,8 +233,8 @@ void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& 
 BlankSubstrateTrend substrate_trend(const BlankWells& bw) {
   BlankSubstrateTrend tr;
   std::vector<double> s, rate;
-  for (int b : bw.all) {
-    const double substrate = bw.substrate.at(b), slope = bw.line(b).slope;
+  for (std::size_t k = 0; k < bw.all.size(); ++k) {
+    const double substrate = bw.substrate[k], slope = bw.screen.line[k].slope;
     if (!std::isfinite(substrate) || !std::isfinite(slope)) continue;
     s.push_back(substrate);
     rate.push_back(slope);
@@ -265,6 +272,41 @@ void subtract(const Channel& c, const SharedBlank& sb, Eigen::Index j, BlankResu
   }
 }
 
+// A set of blanks (every blank, or those of one match key) and what it gives each well that
+// uses it, worked out once, when a well first needs it.
+struct BlankSet {
+  std::vector<int> use;   // channel columns, in the order of BlankWells::all
+  bool ready = false;     // `use` trimmed of disturbed blanks and `shared` worked out
+  bool left_out = false;  // a blank with a disturbed start was left out of the set
+  SharedBlank shared;
+};
+
+// The sets of blanks by strategy: one set of every blank (plate), or one per match key of
+// the blanks (matched), as blanks_for lists them for a well.
+struct BlankSets {
+  BlankSet plate;
+  std::map<std::string_view, BlankSet> matched;  // keys view the plate map's entries
+};
+
+BlankSets blank_sets(const BlankWells& bw, const std::vector<const WellInfo*>& infos, const BlankOptions& o) {
+  BlankSets sets;
+  if (o.strategy == BlankStrategy::plate) sets.plate.use = bw.all;
+  if (o.strategy == BlankStrategy::matched)
+    for (int b : bw.all) {
+      const WellInfo* bi = infos[static_cast<std::size_t>(b)];
+      if (!bi->match.empty()) sets.matched[bi->match].use.push_back(b);
+    }
+  return sets;
+}
+
+// The set serving a well that is not a blank (nullptr when none; strategy not none).
+BlankSet* set_for(BlankSets& sets, const WellInfo* info, const BlankOptions& o) {
+  if (o.strategy == BlankStrategy::plate) return &sets.plate;
+  if (!info || info->match.empty()) return nullptr;
+  auto it = sets.matched.find(info->match);
+  return it == sets.matched.end() ? nullptr : &it->second;
+}
+
 }  // namespace
 
 BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, const BlankOptions& o) {
@@ -274,38 +316,41 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
   r.corrected = c.values;
   r.status = c.status;
   r.wells.resize(static_cast<std::size_t>(cols));
-  const BlankWells bw = judge_blank_wells(c, map, f, o);
+  const std::vector<const WellInfo*> infos = well_infos(c, map, f);
+  const BlankWells bw = judge_blank_wells(c, infos, o);
   r.substrate_trend = substrate_trend(bw);
   r.blank_columns = bw.all;
   r.blank_reads = bw.screen.reads;
   r.blank_disturbed = bw.screen.skip;
-  std::map<std::vector<int>, SharedBlank> cache;
+  BlankSets sets = blank_sets(bw, infos, o);
   for (Eigen::Index j = 0; j < cols; ++j) {
     WellBlank& wb = r.wells[static_cast<std::size_t>(j)];
-    const WellInfo* info = map.find(f.well(c.wells[static_cast<std::size_t>(j)]));
+    const WellInfo* info = infos[static_cast<std::size_t>(j)];
     if (info && info->role == Role::blank) {
       judge_blank(bw, o, static_cast<int>(j), wb);
       continue;
     }
     if (o.strategy == BlankStrategy::none) continue;
-    std::vector<int> use = blanks_for(c, map, f, o, static_cast<int>(j), bw.all);
-    if (use.empty()) {
+    BlankSet* set = set_for(sets, info, o);
+    if (!set || set->use.empty()) {
       if (info && (rated_as_sample(info->role) || info->role == Role::standard)) wb.flags.emplace_back("blank-missing");
       continue;
     }
-    // A blank with a disturbed start is left out of its set when the set has one without;
-    // a set of disturbed blanks is kept, their disturbed reads replaced (screen.hpp).
-    const bool left_out = drop_disturbed(use, [&](int b) { return bw.disturbed(b); });
-    auto it = cache.find(use);
-    if (it == cache.end()) it = cache.emplace(use, shared_blank(c, f, o, bw, use)).first;
-    const SharedBlank& sb = it->second;
+    if (!set->ready) {
+      // A blank with a disturbed start is left out of its set when the set has one without;
+      // a set of disturbed blanks is kept, their disturbed reads replaced (screen.hpp).
+      set->left_out = drop_disturbed(set->use, [&](int b) { return bw.disturbed(b); });
+      set->shared = shared_blank(c, f, o, bw, set->use);
+      set->ready = true;
+    }
+    const SharedBlank& sb = set->shared;
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
     if (sb.line) wb.notes.emplace_back("blank-line");
-    if (left_out) wb.notes.emplace_back("blank-left-out");
+    if (set->left_out) wb.notes.emplace_back("blank-left-out");
     if (sb.spike) wb.notes.emplace_back("blank-spike");
     wb.blank_noise_sd = sb.noise_sd;
-    wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(use.size()));
+    wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(set->use.size()));
     wb.blank_rate = sb.rate;
     wb.substrate_mismatch = substrate_mismatch(r.substrate_trend, info, sb.substrate);
     r.substrate_trend.mismatched += std::isfinite(wb.substrate_mismatch) && wb.substrate_mismatch != 0;

@@ -24,9 +24,8 @@ std::optional<TimeUnit> unit_after(std::string_view rest) {
   return std::nullopt;
 }
 
-bool column_header_look(std::string_view line, char d) {
-  std::vector<Field> f;
-  split_fields_into(line, d, f);
+// A header of column numbers: an empty first field, then numbers (the last may be empty).
+bool column_header_look(const std::vector<FieldView>& f) {
   if (f.size() < 2 || !trim(f[0].text).empty()) return false;
   for (std::size_t i = 1; i < f.size(); ++i)
     if (!parse_number(trim(f[i].text)) && !(i + 1 == f.size() && trim(f[i].text).empty())) return false;
@@ -81,14 +80,22 @@ void stray_grid_line(const CompiledProfile& cp, std::string_view line, const Whe
     st.header_line = 0;
     return;
   }
-  if (column_header_look(line, d)) {
-    st.header_line = here.line;
-    st.header_text = std::string(line);
-    return;
+  // This runs on every line of a file that detection tries a grid profile on. Only the first
+  // field decides unless it is empty: without quotes it is the text before the first
+  // delimiter, as split_views_into gives it; otherwise the line is split (views, reused).
+  std::string_view first = line.substr(0, line.find(d));
+  if (line.find('"') != std::string_view::npos || trim(first).empty()) {
+    thread_local std::vector<FieldView> f;
+    thread_local std::string scratch;
+    split_views_into(line, d, f, scratch);
+    if (column_header_look(f)) {
+      st.header_line = here.line;
+      st.header_text = std::string(line);
+      return;
+    }
+    first = f[0].text;
   }
-  std::vector<Field> f;
-  split_fields_into(line, d, f);
-  const bool row = parse_row_label(f[0].text) && looks_like_data_row(cp, line, d);
+  const bool row = parse_row_label(first) && looks_like_data_row(cp, line, d);
   const int header = st.header_line;
   st.header_line = 0;
   if (!row) return;

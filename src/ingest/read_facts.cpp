@@ -208,8 +208,9 @@ std::optional<InputError> delimiter_error(Where where, std::string_view line, ch
 
 bool looks_like_data_row(const CompiledProfile& cp, std::string_view line, char d) {
   if (d == 0) return false;
-  std::vector<Field> f;
-  split_fields_into(line, d, f);
+  thread_local std::vector<FieldView> f;  // views, reused per thread: no allocation per line
+  thread_local std::string scratch;
+  split_views_into(line, d, f, scratch);
   if (f.size() < 2 || trim(f[0].text).empty()) return false;
   int numbers = 0;
   for (std::size_t i = 1; i < f.size(); ++i) {
@@ -231,19 +232,27 @@ bool looks_like_data_row(const CompiledProfile& cp, std::string_view line, char 
 // other text (a channel name), the rest numbers or overflow/missing tokens (one number at least).
 bool looks_like_observation(const CompiledProfile& cp, std::string_view line, char d) {
   if (d == 0 || trim(line).front() == '#') return false;
-  std::vector<Field> f;
-  split_fields_into(line, d, f);
+  thread_local std::vector<FieldView> f;  // views, reused per thread: no allocation per line
+  thread_local std::string scratch;
+  split_views_into(line, d, f, scratch);
   if (f.size() < 3) return false;
+  // The well names first: only a line with exactly one has its other cells read (a wide
+  // export's rows, which detection tries the long profiles on, have none or many).
   int wells = 0, numbers = 0, texts = 0;
-  for (const auto& x : f) {
-    double v = 0;
-    if (parse_well(x.text)) {
-      ++wells;
-      continue;
+  std::size_t well_at = 0;
+  for (std::size_t i = 0; i < f.size(); ++i)
+    if (parse_well(f[i].text)) {
+      if (++wells > 1) return false;
+      well_at = i;
     }
-    const CellKind k = read_cell(cp, x.text, v);
+  if (wells != 1) return false;
+  for (std::size_t i = 0; i < f.size(); ++i) {
+    if (i == well_at) continue;
+    double v = 0;
+    const CellKind k = read_cell(cp, f[i].text, v);
     texts += k == CellKind::bad;
     numbers += k == CellKind::number;
+    if (texts > 1) return false;
   }
   return wells == 1 && texts <= 1 && numbers > 0;
 }

@@ -26,6 +26,11 @@ struct Usable {
 // ceiling reads (the window stops before them), named "saturated".
 Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip = NAN);
 
+// The spike screen (src/rates/spike_screen.cpp): u.spike[i] = 1 for a read more than `k`
+// robust SDs off the Theil–Sen line through its six nearest other reads, and u.local_sd
+// (the robust SD, bounded below by `floor` where it is compared).
+void screen_spikes(Usable& u, double k, double floor);
+
 // The detector's plateau: the highest level of the ok reads when two or more reads sit
 // exactly at it (a clipped reading) and the trace also overflows, or that level is at or
 // above `signal_ceiling`. NaN when there is none.
