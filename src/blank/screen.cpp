@@ -159,37 +159,24 @@ int replace_spikes(const std::vector<double>& t, const std::vector<double>& z, c
   return static_cast<int>(found.size());
 }
 
-// Whether the blank less its bend (`z`, from read `from` on) bends about its line `zl` by
-// more than read noise explains: the least-squares coefficient of (t − t̄)², made orthogonal
-// to the line, against its standard error, two-sided at k_own_bend_alpha (Student t, n − 3
-// degrees of freedom). A blank with a curve of its own (a background reaction that slows)
-// shares it with its samples, and smoothing it away would hand it to them.
+// Whether the blank less its bend (`z`, from read `from` on) still curves: the t-value of the
+// least-squares parabola's square term (core/stats.hpp `quadratic`) beyond the two-sided
+// k_own_bend_alpha quantile of Student's t on n − 3 degrees of freedom. A blank with a curve
+// of its own (a background reaction that slows) shares it with its samples, and smoothing it
+// away would hand it to them.
 constexpr double k_own_bend_alpha = 0.01;
-bool bends_on_its_own(const std::vector<double>& t, const std::vector<double>& z, std::size_t from, const LineFit& zl) {
-  std::vector<double> x, r;
+bool bends_on_its_own(const std::vector<double>& t, const std::vector<double>& z, std::size_t from) {
+  std::vector<double> x, v;
   for (std::size_t i = from; i < t.size(); ++i)
     if (std::isfinite(z[i])) {
       x.push_back(t[i]);
-      r.push_back(z[i] - (zl.intercept + zl.slope * t[i]));
+      v.push_back(z[i]);
     }
-  const std::size_t n = x.size();
-  if (n < 6) return false;
-  double mx = 0;
-  for (double v : x) mx += v / static_cast<double>(n);
-  std::vector<double> q(n);
-  double mq = 0, sxx = 0, sxq = 0;
-  for (std::size_t i = 0; i < n; ++i) q[i] = (x[i] - mx) * (x[i] - mx), mq += q[i] / static_cast<double>(n);
-  for (std::size_t i = 0; i < n; ++i) sxx += (x[i] - mx) * (x[i] - mx), sxq += (x[i] - mx) * (q[i] - mq);
-  double sqq = 0, sqr = 0, rss = 0;
-  for (std::size_t i = 0; i < n; ++i) {
-    q[i] = q[i] - mq - sxq / sxx * (x[i] - mx);
-    sqq += q[i] * q[i], sqr += q[i] * r[i], rss += r[i] * r[i];
-  }
-  if (!(sqq > 0)) return false;
-  const double c = sqr / sqq, left = rss - c * c * sqq;
-  if (!(left > 0)) return c != 0;
-  const double se = std::sqrt(left / static_cast<double>(n - 3) / sqq);
-  return std::fabs(c / se) > student_t_quantile(1 - k_own_bend_alpha / 2, static_cast<double>(n - 3));
+  if (x.size() < 6) return false;
+  const QuadFit q = quadratic(x.data(), v.data(), static_cast<int>(x.size()), x.front());
+  if (!(q.c2_se > 0)) return std::isfinite(q.c2) && q.c2 != 0;
+  return std::fabs(q.c2 / q.c2_se) >
+         student_t_quantile(1 - k_own_bend_alpha / 2, static_cast<double>(static_cast<int>(x.size()) - 3));
 }
 
 // Step 6 for one blank (column k of `reads`; `y` its reads, `z` them less the bend, `from`
@@ -199,7 +186,7 @@ bool bends_on_its_own(const std::vector<double>& t, const std::vector<double>& z
 bool smooth_reads(const std::vector<double>& t, const std::vector<double>& y, const std::vector<double>& z,
                   std::size_t from, const Eigen::MatrixXd& bend, std::size_t k, Eigen::MatrixXd& reads) {
   const LineFit zl = line_from(t, z, from);
-  if (!std::isfinite(zl.slope) || bends_on_its_own(t, z, from, zl)) return false;
+  if (!std::isfinite(zl.slope) || bends_on_its_own(t, z, from)) return false;
   const auto kk = static_cast<Eigen::Index>(k);
   for (std::size_t i = 0; i < t.size(); ++i) {
     const auto ii = static_cast<Eigen::Index>(i);

@@ -1,5 +1,6 @@
 #include "core/stats.hpp"
 
+#include <Eigen/Dense>
 #include <algorithm>
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
@@ -96,6 +97,57 @@ double median_step(const std::vector<double>& t) {
   if (d.empty()) return 0;
   std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
   return d[d.size() / 2];
+}
+
+QuadFit quadratic(const double* x, const double* y, int n, double x_eval) {
+  QuadFit q;
+  q.n = n;
+  if (n < 3) return q;
+  double mx = 0;
+  for (int i = 0; i < n; ++i) mx += x[i];
+  mx /= n;
+  double h = 0;
+  for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
+  if (!(h > 0)) return q;
+  // Normal equations over b = (1, z, z²): the six distinct sums of b_i·b_j and the three of
+  // b_i·y, accumulated in point order (the same products and sums as g += b·bᵀ, rhs += b·y).
+  double g01 = 0, g02 = 0, g11 = 0, g12 = 0, g22 = 0, g00 = 0, r0 = 0, r1 = 0, r2 = 0;
+  for (int i = 0; i < n; ++i) {
+    const double z = (x[i] - mx) / h;
+    const double z2 = z * z;
+    g00 += 1.0 * 1.0;
+    g01 += 1.0 * z;
+    g02 += 1.0 * z2;
+    g11 += z * z;
+    g12 += z * z2;
+    g22 += z2 * z2;
+    r0 += 1.0 * y[i];
+    r1 += z * y[i];
+    r2 += z2 * y[i];
+  }
+  Eigen::Matrix3d g;
+  g << g00, g01, g02, g01, g11, g12, g02, g12, g22;
+  const Eigen::Vector3d rhs(r0, r1, r2);
+  const Eigen::Matrix3d ginv = g.inverse();
+  const Eigen::Vector3d a = ginv * rhs;
+  double rss = 0;
+  for (int i = 0; i < n; ++i) {
+    const double z = (x[i] - mx) / h;
+    const double e = y[i] - (a[0] + a[1] * z + a[2] * z * z);
+    rss += e * e;
+  }
+  const double ze = (x_eval - mx) / h;
+  q.c0 = a[0] + a[1] * ze + a[2] * ze * ze;
+  q.c1 = (a[1] + 2 * a[2] * ze) / h;
+  q.c2 = a[2] / (h * h);
+  if (n > 3) {
+    const double s2 = rss / (n - 3);
+    q.resid_sd = std::sqrt(s2);
+    const double v11 = ginv(1, 1), v22 = ginv(2, 2), v12 = ginv(1, 2);
+    q.c1_se = std::sqrt(std::max(0.0, s2 * (v11 + 4 * ze * v12 + 4 * ze * ze * v22))) / h;
+    q.c2_se = std::sqrt(s2 * v22) / (h * h);
+  }
+  return q;
 }
 
 }  // namespace vzero::detail

@@ -40,6 +40,16 @@ enum class Residual { fitted, stepwise };
 LineFit least_squares_line(const double* x, const double* y, int n, const double* w = nullptr,
                            Residual form = Residual::fitted);
 
+// Least-squares parabola y = c0 + c1·(x − x_eval) + c2·(x − x_eval)², solved on centred and
+// scaled x (two-pass), so c1 is the tangent at x_eval.
+struct QuadFit {
+  double c0 = NAN, c1 = NAN, c2 = NAN;
+  double c1_se = NAN, c2_se = NAN;
+  double resid_sd = NAN;  // √(RSS/(n−3))
+  int n = 0;
+};
+QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
+
 // Quantiles; NaN outside 0 < p < 1 or for df ≤ 0. The t quantile of the same (p, df) is
 // remembered per thread: the rate finder asks for the same few many times per well.
 double normal_quantile(double p);

@@ -11,7 +11,7 @@
 #include <cmath>
 #include <vector>
 
-#include "core/stats.hpp"  // LineFit, least_squares_line (the rate finder's OLS)
+#include "core/stats.hpp"  // LineFit, least_squares_line (the rate finder's OLS), quadratic
 
 namespace vzero::detail {
 
@@ -32,15 +32,6 @@ LineFit theil_sen(const double* x, const double* y, int n, double* intercept_sep
 // κ = 1 + 2·var(ψ')/(n·m̄²), m̄ = mean ψ', s the scale of the last iteration. 95 % interval slope ± t(0.975, n−2)·SE.
 LineFit huber(const double* x, const double* y, int n, double k = 1.345, double tol = 1e-12, int max_iter = 500);
 
-// Least-squares parabola y = c0 + c1·(x − x_eval) + c2·(x − x_eval)², solved on centred and
-// scaled x (two-pass), so c1 is the tangent at x_eval.
-struct QuadFit {
-  double c0 = NAN, c1 = NAN, c2 = NAN;
-  double c1_se = NAN, c2_se = NAN;
-  double resid_sd = NAN;  // √(RSS/(n−3))
-  int n = 0;
-};
-QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
 
 // Median of v (reorders v; std::nth_element). NaN for an empty vector. Even sizes give the
 // mean of the two middle values, as NumPy's median.

@@ -1,8 +1,10 @@
 // The spike screen's lanes: the comparison networks, one read's neighbour line and the loop
 // over reads, for one read, two (SSE2) or four (AVX2) at a time. Included by
 // spike_screen.cpp and by spike_screen_avx2.cpp, which is compiled for AVX2: everything here
-// has internal linkage (an unnamed namespace), so each file keeps its own code. Internal to
-// the rate finder (src/rates).
+// has internal linkage (an unnamed namespace), so each file keeps its own code. Keep it so:
+// an out-of-line inline or template function shared with other files (a standard-library one
+// included) could let the linker hand the AVX2 copy to every caller. Internal to the rate
+// finder (src/rates).
 #pragma once
 
 #include <algorithm>
@@ -36,12 +38,6 @@ namespace {
 
 inline std::size_t z(int i) { return static_cast<std::size_t>(i); }
 
-// Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
-// reads (seven consecutive reads holding it, shifted inward at the ends), so one other spike
-// among the neighbours does not move the line. Its residual, scaled by √(1 + leverage), is a
-// spike when it exceeds k times the larger of the trace's robust SD (1.4826·MAD of these
-// residuals) and the neighbours' own robust residual SD: at a sharp bend (end of a lag, onset
-// of saturation) the neighbours do not agree with one line, and the read there is no spike.
 // Batcher's odd–even merge sorting network on N = 2^k inputs (Knuth, TAOCP vol. 3,
 // §5.3.4): a fixed list of compare-exchange pairs, so small arrays sort without branches.
 template <int N>

@@ -49,6 +49,12 @@ const std::vector<double>& residual_scales(const std::vector<double>& t) {
 
 }  // namespace
 
+// Spike screen. Each read is compared with the Theil–Sen line through its six nearest other
+// reads (seven consecutive reads holding it, shifted inward at the ends), so one other spike
+// among the neighbours does not move the line. Its residual, scaled by √(1 + leverage), is a
+// spike when it exceeds k times the larger of the trace's robust SD (1.4826·MAD of these
+// residuals) and the neighbours' own robust residual SD: at a sharp bend (end of a lag, onset
+// of saturation) the neighbours do not agree with one line, and the read there is no spike.
 void screen_spikes(Usable& u, double k, double floor) {
   constexpr int k_nb = 6;
   const int m = static_cast<int>(u.t.size());
