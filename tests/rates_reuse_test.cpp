@@ -1,6 +1,6 @@
 // Tests of what the rate finder's fits reuse from one well to the next on the same thread
 // (src/core/start_screen.cpp: the designs of the first reads' times; src/rates/lag_model.cpp:
-// the lag curve's stretched clocks; src/rates/rate_window.cpp: the spike screen's residual
+// the lag curve's stretched clocks; src/rates/spike_screen.cpp: the spike screen's residual
 // scales). Each fit is run after others that filled those stores
 // and again alone in a fresh thread (empty stores): the results must be the same bit for bit
 // (the determinism rule), and must match the closed forms the traces are built from.
@@ -108,7 +108,7 @@ TEST_CASE("the start screen gives the same numbers whatever traces the thread sc
 TEST_CASE("the spike screen gives the same numbers whatever read times the thread screened before") {
   // A straight line, 0.1 + 0.001·t, with one read 0.5 too high: every neighbour line is the
   // line itself (the Theil–Sen slope of six exact reads and at most one spike is exact), so
-  // that read alone is a spike (rate_window.cpp's rule, outlier_k robust SDs, the floor
+  // that read alone is a spike (spike_screen.cpp's rule, outlier_k robust SDs, the floor
   // noise_sd = 0.001).
   std::vector<double> t;
   for (int i = 0; i < 30; ++i) t.push_back(10.0 * i);
