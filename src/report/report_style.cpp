@@ -36,8 +36,8 @@ td.which a{margin-right:1px}
 ul.notes{font-size:.88rem;color:#434b55}
 dl.options{display:grid;grid-template-columns:repeat(auto-fill,minmax(250px,1fr));gap:2px 18px;font-size:.82rem;margin:.3em 0 1em}
 dl.options div{display:flex;gap:6px;border-bottom:1px dotted #dfe3e7}
-dl.options dt{color:#5b6470}
-dl.options dd{margin:0;font-weight:600;overflow-wrap:anywhere}
+dl.options dt{color:#5b6470;min-width:0;overflow-wrap:anywhere}
+dl.options dd{margin:0;font-weight:600;overflow-wrap:anywhere;min-width:min(12ch,100%)}
 figure{margin:.5em 0 1.2em}
 figcaption{font-size:.82rem;color:#434b55;max-width:62em;margin-top:2px}
 svg{max-width:100%;height:auto;display:block}
