@@ -26,8 +26,8 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
     if (std::find(to.begin(), to.end(), w) == to.end()) to.push_back(w);
   };
   for (const auto& f : words) {
-    const bool note =
-        f == "lag" || f == "outliers" || f == "overflow" || f == "disturbed" || (f == "ceiling" && !used_high);
+    const bool note = f == "lag" || f == "lag-possible" || f == "outliers" || f == "overflow" || f == "disturbed" ||
+                      (f == "ceiling" && !used_high);
     switch (role) {
       case Role::empty:
         break;  // nothing to judge

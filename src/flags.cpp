@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 27> k_marks{{
+constexpr std::array<MarkInfo, 28> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -48,7 +48,8 @@ constexpr std::array<MarkInfo, 27> k_marks{{
      "lag's ramp: v0 is underestimated"},
     {"imprecise", flag, "sample",
      "the rate's 95 % interval (read noise over the window, the scatter of the blank wells' own rates, and how far "
-     "the substrate used may have bent a straight line) is wider than `--precision-limit` (default ±15 %) of the rate"},
+     "the substrate used or a possible lag may have bent a straight line) is wider than `--precision-limit` (default "
+     "±15 %) of the rate"},
     {"ceiling", flag, "sample, standard",
      "every read was at or above `--signal-ceiling` (or the absorbance limit), so the rate comes from reads beyond "
      "the linear range"},
@@ -68,6 +69,8 @@ constexpr std::array<MarkInfo, 27> k_marks{{
     {"disturbed", note, "sample, standard, blank",
      "the first reads jumped or decayed in a way the rest did not continue; they were set aside"},
     {"lag", note, "sample, standard, blank", "the first reads rose more slowly (a lag) and were skipped"},
+    {"lag-possible", note, "sample, standard, blank",
+     "a lag too weak to skip may be present: the 95 % interval's upper side allows for its ramp"},
     {"blank-line", note, "sample",
      "every blank of the set had a disturbed start: their disturbed reads were replaced (line plus shared bend)"},
     {"blank-left-out", note, "sample",

@@ -6,8 +6,8 @@
 #include <cmath>
 #include <vector>
 
-#include "rates/lag_model.hpp"
 #include "core/start_screen.hpp"
+#include "rates/lag_model.hpp"
 #include "test_support.hpp"
 #include "vzero/rates.hpp"
 
@@ -380,9 +380,9 @@ TEST_CASE("a straight line's depletion bias lies inside the interval's upper sid
   opt.tangent = vzero::TangentMode::never;
   const auto r = vzero::find_rate(v, opt);
   REQUIRE(std::isfinite(r.conversion));
-  CHECK(r.slope < 0.1);           // the line is low ...
-  CHECK(r.slope > 0.1 * 0.9);     // ... by about half the conversion
-  CHECK(r.ci_high >= 0.1);        // and the interval holds v0
+  CHECK(r.slope < 0.1);        // the line is low ...
+  CHECK(r.slope > 0.1 * 0.9);  // ... by about half the conversion
+  CHECK(r.ci_high >= 0.1);     // and the interval holds v0
   const double c = 0.5 * r.conversion;
   CHECK(r.ci_high - r.slope >= r.slope * c / (1 - c) * (1 - 1e-12));
   // Without the substrate nothing bounds the bias: the upper side is the estimator's own,
@@ -411,4 +411,100 @@ TEST_CASE("an 8-read trace: a first read the spike screen holds out still opens 
   const auto kept = vzero::find_rate(tr.view(0.002), opt);
   MESSAGE("slope with the start kept: ", kept.slope);
   CHECK(kept.slope > 1.05 * 2.8e-4);
+}
+
+namespace {
+
+// Least-squares fit of y on x: its residual sum of squares and slope (a plain textbook
+// regression, written here apart from the library's).
+std::pair<double, double> rss_and_slope(const std::vector<double>& x, const std::vector<double>& y) {
+  const double n = static_cast<double>(x.size());
+  double mx = 0, my = 0;
+  for (std::size_t i = 0; i < x.size(); ++i) mx += x[i] / n, my += y[i] / n;
+  double sxx = 0, sxy = 0;
+  for (std::size_t i = 0; i < x.size(); ++i) sxx += (x[i] - mx) * (x[i] - mx), sxy += (x[i] - mx) * (y[i] - my);
+  const double b = sxy / sxx;
+  double rss = 0;
+  for (std::size_t i = 0; i < x.size(); ++i) rss += std::pow(y[i] - my - b * (x[i] - mx), 2);
+  return {rss, b};
+}
+
+double lag_clock(double u, double tau) { return u - tau * (1 - std::exp(-u / tau)); }
+
+}  // namespace
+
+TEST_CASE("the lag shape reports the largest time constant its profile allows") {
+  // The noise-free lag curve (v = 0.001 /s, τ = 160 s; 30 reads 20 s apart) judged at read
+  // noise 0.01: every τ of the grid (10 s · ratio^k, k = 0 … 23, ratio = (τmax/10)^(1/23))
+  // is fitted here by least squares of y on its clock; the largest τ whose RSS lies within
+  // 3.84 σ² (χ²₁ at 5 %, common practice for a one-parameter profile interval) of the best
+  // is what fit_lag_shape must report as tau_high_s.
+  const Trace tr = lag_curve(0.001, 160);
+  const std::vector<double> t(tr.t.begin(), tr.t.begin() + 30), y(tr.y.begin(), tr.y.begin() + 30);
+  const double tau_max = 1180.0 / 3, ratio = std::pow(tau_max / 10.0, 1.0 / 23), sd = 0.01;
+  std::vector<double> tau, rss;
+  for (int k = 0; k < 24; ++k) {
+    tau.push_back(10.0 * std::pow(ratio, k));
+    std::vector<double> g;
+    for (double x : t) g.push_back(lag_clock(x, tau.back()));
+    const auto [r, b] = rss_and_slope(g, y);
+    rss.push_back(b > 0 ? r : INFINITY);
+  }
+  const double best = *std::min_element(rss.begin(), rss.end());
+  double expect = 0;
+  for (std::size_t k = 0; k < tau.size(); ++k)
+    if (rss[k] <= best + 3.841458820694124 * sd * sd) expect = std::max(expect, tau[k]);
+  const auto shape = vzero::detail::fit_lag_shape(t.data(), y.data(), 30, sd, tau_max);
+  CHECK(shape.tau_high_s == doctest::Approx(expect).epsilon(1e-9));
+  CHECK(shape.tau_high_s > shape.tau_s);  // at this noise the band holds more than the best τ
+  // With little noise the band holds the best τ alone.
+  const auto sharp = vzero::detail::fit_lag_shape(t.data(), y.data(), 30, 1e-6, tau_max);
+  CHECK(sharp.tau_high_s == sharp.tau_s);
+  // A straight line: no τ beats the line, so none is reported.
+  std::vector<double> line;
+  for (double x : t) line.push_back(0.2 + 0.001 * x);
+  CHECK(vzero::detail::fit_lag_shape(t.data(), line.data(), 30, sd, tau_max).tau_high_s == 0);
+}
+
+TEST_CASE("a lag too weak to skip widens the interval's upper side (note lag-possible)") {
+  // v = 0.001 /s, τ = 40 s, 60 reads 20 s apart, read noise 0.015: the 5-read blocks' slopes
+  // differ by far less than the block scan's 4 standard errors, and the lag curve fits the
+  // first half of the reads better than a line by more than 3.84 but less than 9 noise
+  // variances, so the window stays at the first read (found by running it) and the note says
+  // a lag may be present. Its upper side then carries, in quadrature with the interval the
+  // noise gives, what a lag of the largest τ the reads allow would take off a straight line
+  // over the window's reads: slope · (1/ratio − 1), ratio the least-squares slope of that
+  // lag's clock against t over those reads (computed here).
+  const Trace tr = lag_curve(0.001, 40);
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  const auto r = vzero::find_rate(tr.view(0.015), opt);
+  REQUIRE(has_flag(r, "lag-possible"));
+  CHECK(!has_flag(r, "lag"));
+  CHECK(r.t_start_s == 0);
+  CHECK(r.slope == doctest::Approx(0.001).epsilon(0.01));
+  // The same reads without the lag tests: same slope and lower side, a narrower upper side.
+  vzero::RateOptions off = opt;
+  off.detect_lag = false;
+  const auto plain = vzero::find_rate(tr.view(0.015), off);
+  CHECK(plain.slope == r.slope);
+  CHECK(plain.ci_low == r.ci_low);
+  CHECK(!has_flag(plain, "lag-possible"));
+  const auto shape = vzero::detail::fit_lag_shape(tr.t.data(), tr.y.data(), 30, 0.015, 1180.0 / 3);
+  CHECK(shape.gain > 3.841458820694124);
+  CHECK(shape.gain < 9);
+  std::vector<double> used_t, g;
+  for (std::size_t i = 0; i < tr.t.size(); ++i)
+    if (r.used[i] && tr.t[i] <= r.t_end_s) {
+      used_t.push_back(tr.t[i]);
+      g.push_back(lag_clock(tr.t[i], shape.tau_high_s));
+    }
+  const double ratio = rss_and_slope(used_t, g).second;
+  CHECK(ratio < 1);
+  const double widened = r.slope + std::hypot(plain.ci_high - plain.slope, r.slope * (1 / ratio - 1));
+  CHECK(r.ci_high == doctest::Approx(widened).epsilon(1e-9));
+  // A straight line with the same noise level: no lag to suspect.
+  Trace line = tr;
+  for (std::size_t i = 0; i < line.t.size(); ++i) line.y[i] = 0.001 * line.t[i];
+  CHECK(!has_flag(vzero::find_rate(line.view(0.015), opt), "lag-possible"));
 }

@@ -47,14 +47,16 @@
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
 //   7. The 95 % interval stated (ci_low, ci_high) is widened to what the data support: each
 //      side at least 1.96 × read noise / √Σ(t − t̄)² of the straight line, then 1.96 ×
-//      `rate_sd` added in quadrature. `imprecise` when its half-width exceeds
+//      `rate_sd` added in quadrature; its upper side also carries the bias that the
+//      substrate used by the window's middle, or a lag too weak to skip (note
+//      `lag-possible`), may give a straight line. `imprecise` when its half-width exceeds
 //      `precision_limit` of the rate.
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
 //
 // Flags: find_rate raises overflow, ceiling, too-few-reads, nonlinear, depleted, disturbed,
-// lag, rising, saturated, imprecise, outliers, noise and negative. The run (src/analysis.cpp)
+// lag, lag-possible, rising, saturated, imprecise, outliers, noise and negative. The run (src/analysis.cpp)
 // sorts them by the well's role into rates.csv's `flags` (trust withheld) and `notes`
 // (corrections made); their meanings are the one table of include/vzero/flags.hpp.
 //

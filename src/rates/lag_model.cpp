@@ -1,6 +1,7 @@
 #include "rates/lag_model.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cstring>
 #include <utility>
 #include <vector>
@@ -144,8 +145,8 @@ double tau_floor(const double* t, int n) {
 // same numbers as computing them afresh, without most of the k_lag_grid · n expm1 calls.
 struct ClockTable {
   double t0 = NAN, tau_min = NAN, tau_max = NAN;
-  std::vector<double> tau;                                                        // the grid
-  std::vector<double> t;                                                          // read times met, increasing
+  std::vector<double> tau;                                                            // the grid
+  std::vector<double> t;                                                              // read times met, increasing
   std::vector<std::vector<double>> g = std::vector<std::vector<double>>(k_lag_grid);  // g_τ(t − t₀), a row a τ
 };
 
@@ -215,7 +216,7 @@ const Clocks& clocks_for(const double* t, int n, double tau_min, double tau_max)
 // (replaced in turn) and uses them when the times and τ_max match bit for bit: the same times
 // give the same designs.
 struct Designs2 {
-  std::vector<double> t;    // the read times they are for (the key, with tau_max)
+  std::vector<double> t;  // the read times they are for (the key, with tau_max)
   double tau_max = NAN;
   std::vector<double> tau;  // the grid
   std::vector<Design2> d = std::vector<Design2>(k_lag_grid + 1);
@@ -242,6 +243,22 @@ const Designs2& designs_for(const double* t, int n, double tau_min, double tau_m
   return designs;
 }
 
+namespace {
+
+// The largest τ of the grid (ascending) whose fit's RSS lies within k_tau_band · sd² of the
+// best; 0 when no τ beat the straight fit.
+double tau_high(const std::array<double, k_lag_grid>& rss, const std::vector<double>& grid, const LagShape& best,
+                double best_rss, double sd) {
+  if (!(best.tau_s > 0)) return 0;
+  double high = best.tau_s;
+  for (int k = 0; k < k_lag_grid; ++k)
+    if (rss[static_cast<std::size_t>(k)] <= best_rss + k_tau_band * sd * sd)
+      high = std::max(high, grid[static_cast<std::size_t>(k)]);
+  return high;
+}
+
+}  // namespace
+
 LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double sd, double tau_max_s) {
   LagShape best;
   if (n < 7 || !(sd > 0)) return best;
@@ -256,21 +273,26 @@ LagShape fit_lag_depletion_shape(const double* t, const double* y, int n, double
   const Clocks* clocks = kept ? nullptr : &clocks_for(t, n, tau_min, tau_max_s);
   const auto fit = [&](int k) {  // k = 0: the parabola; k ≥ 1: τ number k − 1 of the grid
     if (kept) return regress2(designs->d[static_cast<std::size_t>(k)], centred);
-    return regress2_direct(k == 0 ? clocks->u.data() : clocks->g[static_cast<std::size_t>(k) - 1].data(), centred, scale);
+    return regress2_direct(k == 0 ? clocks->u.data() : clocks->g[static_cast<std::size_t>(k) - 1].data(), centred,
+                           scale);
   };
   const std::vector<double>& grid = kept ? designs->tau : *clocks->tau;
   const Regress2 parabola = fit(0);
   if (!std::isfinite(parabola.rss)) return best;
   double best_rss = parabola.rss;
+  std::array<double, k_lag_grid> rss;
   for (int k = 0; k < k_lag_grid; ++k) {
     const Regress2 r = fit(k + 1);
     // A rate that rises with the clock is the plain lag curve's business (fit_lag_shape).
-    if (!(r.b1 > 0) || !(r.b2 <= 0) || !(r.rss < best_rss)) continue;
+    const bool valid = r.b1 > 0 && r.b2 <= 0;
+    rss[static_cast<std::size_t>(k)] = valid ? r.rss : INFINITY;
+    if (!valid || !(r.rss < best_rss)) continue;
     best_rss = r.rss;
     best.tau_s = grid[static_cast<std::size_t>(k)];
     best.slope = r.b1 / scale;
   }
   best.gain = (parabola.rss - best_rss) / (sd * sd);
+  best.tau_high_s = tau_high(rss, grid, best, best_rss, sd);
   return best;
 }
 
@@ -283,8 +305,10 @@ LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, doubl
   const Regress line = regress(c.u.data(), y, n);
   if (!std::isfinite(line.rss)) return best;
   double best_rss = line.rss;
+  std::array<double, k_lag_grid> rss;
   for (int k = 0; k < k_lag_grid; ++k) {
     const Regress r = regress(c.g[static_cast<std::size_t>(k)].data(), y, n);
+    rss[static_cast<std::size_t>(k)] = r.slope > 0 ? r.rss : INFINITY;
     if (r.slope > 0 && r.rss < best_rss) {
       best_rss = r.rss;
       best.tau_s = (*c.tau)[static_cast<std::size_t>(k)];
@@ -292,6 +316,7 @@ LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, doubl
     }
   }
   best.gain = (line.rss - best_rss) / (sd * sd);
+  best.tau_high_s = tau_high(rss, *c.tau, best, best_rss, sd);
   return best;
 }
 

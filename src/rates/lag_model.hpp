@@ -9,10 +9,16 @@
 namespace vzero::detail {
 
 struct LagShape {
-  double tau_s = 0;   // the time constant that fits best (0 = a straight line fits as well)
-  double slope = NAN; // its steady rate v
-  double gain = 0;    // (RSS of the line − RSS of the lag curve) / sd²: how much better it fits
+  double tau_s = 0;    // the time constant that fits best (0 = a straight line fits as well)
+  double slope = NAN;  // its steady rate v
+  double gain = 0;     // (RSS of the line − RSS of the lag curve) / sd²: how much better it fits
+  // The largest τ of the grid that fits within k_tau_band read-noise variances of the best
+  // (the upper end of τ's 95 % profile-likelihood interval; 0 when no τ beats the line).
+  double tau_high_s = 0;
 };
+// χ² with one degree of freedom, 95 % quantile (3.841; common practice for a profile-
+// likelihood interval of one parameter).
+inline constexpr double k_tau_band = 3.841458820694124;
 
 // Fits y = a + v·g_τ(t − t₀), g_τ(u) = u − τ·(1 − e^(−u/τ)), by linear least squares in
 // (a, v) for each τ of a log-spaced grid from half the median read interval to `tau_max_s`

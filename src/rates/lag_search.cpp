@@ -42,7 +42,10 @@ int lag_scan(const LagSearch& q) {
 // curve), the lag curve with depletion against a parabola. When either fits better by more
 // than k_lag_gain read-noise variances, the window starts where the rate has reached 95 % of
 // its steady value (3τ), at most lag_max reads on; `ramp_end_s` is that time (a window that
-// starts before it sits inside the ramp and underestimates v0).
+// starts before it sits inside the ramp and underestimates v0). A fit better than the line by
+// more than k_tau_band (χ²₁ at 5 %: a likelihood-ratio test of the one extra parameter, τ)
+// but not by k_lag_gain leaves the window where it is and returns the largest τ its profile
+// allows (`possible_tau_s`): the rate finder widens the interval for it (rates.cpp).
 constexpr double k_lag_gain = 9.0;
 LagStart lag_by_shape(const LagSearch& q, double baseline, double limit_signal) {
   const auto& [stats, t, y, s0, p, lag_max, sd] = q;
@@ -61,11 +64,21 @@ LagStart lag_by_shape(const LagSearch& q, double baseline, double limit_signal) 
   LagShape lag;
   if (stats.test(s0, last + 1, sd, t[z(s0)]).curvature > 0)
     lag = fit_lag_shape(t.data() + s0, y.data() + s0, n, sd, tau_max);
+  LagShape best = lag;
   // With depletion, only the ramp's half bends upwards: a curve whose first half does not
   // (a straight start that bends down later, as far above Km) is no lag.
-  if (!(lag.gain > k_lag_gain) && stats.test(s0, s0 + (n + 1) / 2, sd, t[z(s0)]).curvature > 0)
+  if (!(lag.gain > k_lag_gain) && stats.test(s0, s0 + (n + 1) / 2, sd, t[z(s0)]).curvature > 0) {
     lag = fit_lag_depletion_shape(t.data() + s0, y.data() + s0, n, sd, tau_max);
-  if (!(lag.gain > k_lag_gain)) return {s0, -INFINITY};
+    if (lag.gain > best.gain) best = lag;
+  }
+  if (!(lag.gain > k_lag_gain)) {
+    LagStart none{s0, -INFINITY};
+    if (best.gain > k_tau_band && best.tau_s > 0) {
+      none.possible_tau_s = best.tau_high_s;
+      none.possible_from_s = t[z(s0)];
+    }
+    return none;
+  }
   int s = s0;
   while (s < s0 + lag_max && t[z(s)] - t[z(s0)] < 3 * lag.tau_s) ++s;
   return {s, t[z(s0)] + 3 * lag.tau_s};
@@ -80,6 +93,10 @@ LagStart find_lag(const LagSearch& q, double baseline, double limit_signal) {
     const LagStart shape = lag_by_shape(q, baseline, limit_signal);
     r.start = std::max(r.start, shape.start);
     r.ramp_end_s = shape.ramp_end_s;
+    if (r.start == q.s0) {
+      r.possible_tau_s = shape.possible_tau_s;
+      r.possible_from_s = shape.possible_from_s;
+    }
   }
   return r;
 }

@@ -23,6 +23,11 @@ struct LagSearch {
 struct LagStart {
   int start = 0;                  // first read of the window (s0 when no lag)
   double ramp_end_s = -INFINITY;  // where the fitted lag curve reaches 95 % of its rate
+  // A lag the shape fits better than a line (or, with depletion, a parabola) by more than
+  // k_tau_band read-noise variances (χ²₁ at 5 %) but not enough to move the window: the
+  // largest τ its profile allows and the time its clock starts from (0 and NaN when none).
+  double possible_tau_s = 0;
+  double possible_from_s = NAN;
 };
 
 // The block scan first; when it finds nothing or cannot pass the ramp, the lag shape

@@ -51,6 +51,10 @@ struct WindowChoice {
   int undisturbed = 0;  // usable position of the first read after the disturbed start
   double baseline = NAN;  // the trace's signal at reaction start (the conversion limit's zero)
   std::string end;        // what ended it: curvature, conversion, ceiling, overflow, reads, fixed
+  // A lag too weak to move the window but that the lag shape fits better than a line
+  // (lag_search.hpp): the largest τ it allows and the time its clock starts (0 and NaN when none).
+  double possible_lag_tau_s = 0;
+  double possible_lag_from_s = NAN;
 };
 // `limit_signal` is the signal change allowed since `t_ref` (NaN = no conversion limit); the
 // product formed is measured from the curve: the candidate's line at its last read minus the

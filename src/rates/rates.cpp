@@ -112,6 +112,29 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   return kept;
 }
 
+// Least-squares slope of the lag clock g_τ(t − from) = (t − from) − τ·(1 − e^(−(t − from)/τ))
+// against t over the times `t`: the fraction of the steady rate a straight line through a lag
+// curve sampled there measures (1 when τ → 0).
+double lag_clock_slope(const std::vector<double>& t, double from, double tau) {
+  double mt = 0, mg = 0;
+  thread_local std::vector<double> g;
+  g.clear();
+  for (double x : t) {
+    const double u = x - from;
+    g.push_back(u + tau * std::expm1(-u / tau));
+    mt += x;
+    mg += g.back();
+  }
+  mt /= static_cast<double>(t.size());
+  mg /= static_cast<double>(t.size());
+  double stg = 0, stt = 0;
+  for (std::size_t i = 0; i < t.size(); ++i) {
+    stg += (t[i] - mt) * (g[i] - mg);
+    stt += (t[i] - mt) * (t[i] - mt);
+  }
+  return stt > 0 ? stg / stt : NAN;
+}
+
 // Widens r's 95 % interval to what the data support: each side at least 1.96 × the read
 // noise / √Σ(t − t̄)² of the straight line over the reads `t`, then the blanks' rate spread
 // (1.96 × rate_sd) added in quadrature. The interval's asymmetry is kept.
@@ -269,7 +292,8 @@ void take_tangent(const detail::Usable& u, const detail::WindowChoice& w, const 
 // carries into every sample) added in quadrature; its half-width relative to the rate
 // decides `imprecise`. A trace stuck at the detector's maximum says nothing about the rate's
 // size or sign: it is `saturated`, never noise or negative.
-void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double>& kt, bool saturated, RateResult& r) {
+void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double>& kt, bool saturated, double bias_up,
+           RateResult& r) {
   const int nk = static_cast<int>(kt.size());
   bool noise_only = !(r.ci_low > 0 || r.ci_high < 0);
   if (std::isfinite(tr.noise_sd) && opt.lod_factor > 0) {
@@ -285,6 +309,7 @@ void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double
   if (noise_only) add_flag(r, "noise");
   if (r.slope < 0 && !saturated) add_flag(r, "negative");
   if (!saturated) widen_interval(r, tr, kt, nk);
+  if (bias_up > 0 && std::isfinite(r.ci_high)) r.ci_high = r.slope + std::hypot(r.ci_high - r.slope, r.slope * bias_up);
   if (!noise_only && !saturated && opt.precision_limit > 0) {
     const double half = 0.5 * (r.ci_high - r.ci_low);
     if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
@@ -330,16 +355,28 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   // The initial tangent is the parabola's slope at reaction start: it answers for the
   // substrate the lag used, the straight line does not.
   if (lag_depleted && r.tangent != "parabola") add_flag(r, "depleted");
-  // A straight line rates the reaction at the substrate left at its window's middle: with a
-  // fraction c converted there, v0 can lie up to line/(1 − c) − line above it (the Michaelis–
-  // Menten rate falls no faster than the substrate, v/v0 ≥ 1 − c; the bound is reached far
-  // below Km). The interval's upper side carries that possible bias in quadrature.
-  if (r.tangent == "slope" && r.slope > 0 && std::isfinite(mid_conversion) && mid_conversion > 0 &&
-      std::isfinite(r.ci_high)) {
+  // Biases a straight line may carry, relative to its rate, that the interval's upper side
+  // allows for (added in judge, after the noise floor, in quadrature):
+  // - substrate used: the line rates the reaction at the substrate left at its window's
+  //   middle; with a fraction c converted there, v0 can lie up to line/(1 − c) − line above it
+  //   (the Michaelis–Menten rate falls no faster than the substrate, v/v0 ≥ 1 − c; the bound
+  //   is reached far below Km);
+  // - a lag the reads hint at but do not show clearly (lag_search.cpp): were it real, with the
+  //   largest τ they allow, the window would sit in its ramp and the line would measure
+  //   v·(the slope of the lag clock over the reads used) instead of v; the note says so.
+  double bias_up = 0;
+  if (r.tangent == "slope" && r.slope > 0 && std::isfinite(mid_conversion) && mid_conversion > 0) {
     const double c = std::min(mid_conversion, 0.5);
-    r.ci_high = r.slope + std::hypot(r.ci_high - r.slope, r.slope * c / (1 - c));
+    bias_up = c / (1 - c);
   }
-  if (std::isfinite(r.slope)) judge(tr, opt, kt, saturated, r);
+  if (r.tangent == "slope" && r.slope > 0 && w.possible_lag_tau_s > 0 && !kt.empty()) {
+    const double ratio = lag_clock_slope(kt, w.possible_lag_from_s, w.possible_lag_tau_s);
+    if (ratio > 0 && ratio < 1) {
+      bias_up = std::hypot(bias_up, 1 / ratio - 1);
+      add_flag(r, "lag-possible");
+    }
+  }
+  if (std::isfinite(r.slope)) judge(tr, opt, kt, saturated, bias_up, r);
   return r;
 }
 

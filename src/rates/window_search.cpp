@@ -2,10 +2,10 @@
 // window rules (include/vzero/rates.hpp explains it in words).
 #include <algorithm>
 
+#include "core/start_screen.hpp"
 #include "core/stats.hpp"
 #include "rates/lag_search.hpp"
 #include "rates/rate_window.hpp"
-#include "core/start_screen.hpp"
 #include "rates/window_stats.hpp"
 
 namespace vzero {
@@ -404,6 +404,10 @@ WindowChoice choose_window(const Usable& u, const RateOptions& opt, double sd_fl
   const Search q{stats, r, opt, sd_floor, t_ref, w.baseline, limit_signal, t_crit};
   const Growth g = grow_window(q, lag.start, s0, lag_max, run_out);
   w.lag = w.lag || g.lag;
+  if (!w.lag) {
+    w.possible_lag_tau_s = lag.possible_tau_s;
+    w.possible_lag_from_s = lag.possible_from_s;
+  }
   finish_window(w, q, g, lag.ramp_end_s, sd, run_out);
   return w;
 }
