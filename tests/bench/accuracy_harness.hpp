@@ -32,19 +32,22 @@ struct WellRecord {
   std::uint64_t seed = 0;
   sim::PlateKind kind = sim::PlateKind::standard;
   int well = 0;
-  unsigned artefacts = 0;   // every bit (sim::Artefact)
-  bool measurable = false;  // a perfect straight-line window is within 5 % of v0
-  double err = 0;           // |v0 − truth|/truth, %; +inf when v0 is not finite
-  double signed_err = 0;    // (v0 − truth)/truth, %
-  double naive_err = 0;     // the same for the naive slope
-  double oracle_err = 0;    // the same for OLS over the window the truth picks (WellTruth::oracle_*)
-  bool flagged = false;     // any flag
-  bool tangent = false;     // v0 is the parabola's initial tangent
+  unsigned artefacts = 0;          // every bit (sim::Artefact)
+  bool measurable = false;         // a perfect straight-line window is within 5 % of v0
+  double err = 0;                  // |v0 − truth|/truth, %; +inf when v0 is not finite
+  double signed_err = 0;           // (v0 − truth)/truth, %
+  double naive_err = 0;            // the same for the naive slope
+  double oracle_err = 0;           // the same for OLS over the window the truth picks (WellTruth::oracle_*)
+  bool flagged = false;            // any flag
+  bool tangent = false;            // v0 is the parabola's initial tangent
   std::vector<std::string> flags;  // the flags raised, for the tally of flags on clean wells
   bool covered = false;            // the truth lies in the result's 95 % interval
   double half_width = NAN;         // the result's 95 % half-width relative to its v0
-  bool noise_limited = false;      // even the truth's best straight line cannot reach the precision
-                                   // limit (WellTruth::ideal_half_width): `imprecise` is its right flag
+  bool noise_limited = false;      // even the truth's best straight line within the conversion limit
+                                   // cannot reach the precision limit (WellTruth::limited_half_width):
+                                   // `imprecise` is its right flag
+  bool noise_limited_any = false;  // the same with a window of any conversion (ideal_half_width), the
+                                   // judgement used before 2026-12-03, printed beside it
 };
 
 struct Totals {
@@ -64,7 +67,7 @@ struct PlateRun {
   RateOptions options;
   bool give_substrate = true;
   bool give_reaction_start = false;  // --reaction-start: the reaction started dead_time_s before the first read
-  int dump_well = -1;  // print this well's trace and result
+  int dump_well = -1;                // print this well's trace and result
 };
 
 // Simulates one plate, runs find_rate on every sample well the way the pipeline would

@@ -59,9 +59,10 @@ Blanks plate_blanks(const sim::Plate& p, Totals& tot) {
 void dump(const sim::Plate& p, int w, const TraceView& tr, const RateResult& r, const std::vector<double>& raw,
           const std::vector<double>& y, const std::vector<ReadStatus>& st) {
   const sim::WellTruth& truth = p.truth[static_cast<std::size_t>(w)];
-  std::printf("well %d truth v0 %.6g uM/s (%.6g AU/s) s0 %.4g km %.4g vmax %.4g lag %.1f art %u noise_sd %.4g rate_sd %.4g\n", w,
-              truth.v0_uM_s, truth.v0_uM_s * p.signal_per_uM, truth.s0_uM, truth.km_uM, truth.vmax_uM_s, truth.lag_s,
-              truth.artefacts, tr.noise_sd, tr.rate_sd);
+  std::printf(
+      "well %d truth v0 %.6g uM/s (%.6g AU/s) s0 %.4g km %.4g vmax %.4g lag %.1f art %u noise_sd %.4g rate_sd %.4g\n",
+      w, truth.v0_uM_s, truth.v0_uM_s * p.signal_per_uM, truth.s0_uM, truth.km_uM, truth.vmax_uM_s, truth.lag_s,
+      truth.artefacts, tr.noise_sd, tr.rate_sd);
   for (std::size_t i = 0; i < p.time_s.size(); ++i) {
     std::printf(
         "%4zu %7.1f raw %9.5f y %9.5f st %d used %d  true %9.5f", i, p.time_s[i], raw[i], y[i], static_cast<int>(st[i]),
@@ -98,7 +99,8 @@ double oracle_slope(const sim::Plate& p, const sim::WellTruth& truth, const std:
       ot.push_back(p.time_s[static_cast<std::size_t>(i)]);
       oy.push_back(y[static_cast<std::size_t>(i)]);
     }
-  return ot.size() < 2 ? NAN : vzero::detail::least_squares_line(ot.data(), oy.data(), static_cast<int>(ot.size())).slope;
+  return ot.size() < 2 ? NAN
+                       : vzero::detail::least_squares_line(ot.data(), oy.data(), static_cast<int>(ot.size())).slope;
 }
 
 // Spiked wells are "corrected" when the spike reads are unused and v0 is within 2 % (of the
@@ -111,7 +113,8 @@ void account_spiked(const sim::Plate& p, const sim::Plate& twin, const PlateRun&
   std::vector<double> y_twin(reads);
   const auto& raw_twin = twin.signal[static_cast<std::size_t>(w)];
   for (std::size_t i = 0; i < reads; ++i)
-    y_twin[i] = tr.status[i] == ReadStatus::ok ? raw_twin[i] - blanks.result.blank(static_cast<Eigen::Index>(i), w) : NAN;
+    y_twin[i] =
+        tr.status[i] == ReadStatus::ok ? raw_twin[i] - blanks.result.blank(static_cast<Eigen::Index>(i), w) : NAN;
   TraceView tw = tr;
   tw.y = y_twin.data();
   tw.raw = raw_twin.data();
@@ -265,12 +268,14 @@ void run_plate(const PlateRun& run, Totals& tot) {
                    flags,
                    r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM,
                    0.5 * (r.ci_high - r.ci_low) / std::fabs(r.slope),
+                   !(truth.limited_half_width <= run.options.precision_limit),
                    !(truth.ideal_half_width <= run.options.precision_limit)};
     if (run.mix)
-      tot.wells.back().text += fmt::format(" | kind {} meas {} best-line {:.3f} ideal-hw {:.3f} blank-dist {:+.5f} | {}",
-                                           to_string(run.kind), truth.measurable ? "yes" : "no", truth.line_error,
-                                           truth.ideal_half_width,
-                                           truth.blank_disturbance_AU, artefact_names(truth.artefacts));
+      tot.wells.back().text += fmt::format(
+          " | kind {} meas {} best-line {:.3f} ideal-hw {:.3f} limited-hw {:.3f} "
+          "blank-dist {:+.5f} | {}",
+          to_string(run.kind), truth.measurable ? "yes" : "no", truth.line_error, truth.ideal_half_width,
+          truth.limited_half_width, truth.blank_disturbance_AU, artefact_names(truth.artefacts));
     tot.records.push_back(rec);
   }
 }

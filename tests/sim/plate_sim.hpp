@@ -219,6 +219,15 @@ inline void judge_well(const PlateSpec& spec, const Plate& plate, WellTruth& tr)
     const double drift = spec.well_drift_sd * std::sqrt(1.0 + 1.0 / std::max(1, spec.blank_columns)) /
                          std::fabs(tr.v0_uM_s * plate.signal_per_uM);
     if (lw.first >= 0) tr.ideal_half_width = 1.959963984540054 * std::hypot(lw.se, drift);
+    // Within the conversion limit: the windows that end by the last read at which at most
+    // precision_conversion of S0 is converted since reaction start (every read when none is).
+    std::size_t last_end = 0;
+    while (last_end + 1 < reads &&
+           converted(tr, plate.time_s[last_end + 1] + plate.dead_time_s) <= spec.precision_conversion * tr.s0_uM)
+      ++last_end;
+    const LineWindows lim = line_windows(plate.time_s, tr.ideal, tr.v0_uM_s * plate.signal_per_uM,
+                                         spec.measurable_min_reads, sigma, last_end);
+    tr.limited_half_width = lim.first >= 0 ? 1.959963984540054 * std::hypot(lim.se, drift) : tr.ideal_half_width;
   }
 }
 

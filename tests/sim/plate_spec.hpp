@@ -67,6 +67,11 @@ struct WellTruth {
   // quadrature. Above a rate finder's precision limit, no method can meet it on this well:
   // the well is noise-limited, and an `imprecise` flag on it is the flag doing its job.
   double ideal_half_width = INFINITY;
+  // The same within the conversion limit a rate finder keeps to (PlateSpec::
+  // precision_conversion): the best window whose last read has converted at most that
+  // fraction of S0 since reaction start. A well whose straight line cannot reach the
+  // precision limit without passing the conversion limit is noise-limited under those rules.
+  double limited_half_width = INFINITY;
 };
 
 // Scenario knobs; the defaults are the scenario described at the top.
@@ -132,6 +137,9 @@ struct PlateSpec {
   bool judge_measurable = true;
   int measurable_min_reads = 5;
   double measurable_within = 0.05;
+  // The conversion limit of WellTruth::limited_half_width: the rate finder's default
+  // max_conversion (10 %).
+  double precision_conversion = 0.1;
 };
 
 struct Plate {

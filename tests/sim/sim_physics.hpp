@@ -138,8 +138,9 @@ struct LineWindows {
   double bias = INFINITY, se = INFINITY;
 };
 
+// `last_end`: the last read a window may end at (a conversion limit; default every read).
 inline LineWindows line_windows(const std::vector<double>& t, const std::vector<double>& y, double target,
-                                int min_reads, double sigma) {
+                                int min_reads, double sigma, std::size_t last_end = SIZE_MAX) {
   const std::size_t n = t.size();
   std::vector<double> st(n + 1, 0), sy(n + 1, 0), stt(n + 1, 0), sty(n + 1, 0);
   std::vector<std::size_t> run_start(n, 0);
@@ -156,7 +157,7 @@ inline LineWindows line_windows(const std::vector<double>& t, const std::vector<
   LineWindows w;
   double best_total = INFINITY;
   const auto m = static_cast<std::size_t>(std::max(2, min_reads));
-  for (std::size_t j = 0; j < n; ++j) {
+  for (std::size_t j = 0; j < n && j <= last_end; ++j) {
     if (!std::isfinite(y[j])) continue;
     for (std::size_t i = run_start[j]; i + m <= j + 1; ++i) {
       const double k = static_cast<double>(j + 1 - i);
