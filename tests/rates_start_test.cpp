@@ -169,6 +169,48 @@ TEST_CASE("the initial tangent needs enough reads for its second parameter") {
   CHECK(vzero::find_rate(tr.view(1e-5), opt).tangent == "parabola");
 }
 
+TEST_CASE("the initial tangent's interval is at least what the read noise gives its slope") {
+  // The exact parabola above (y = 0.001·t − 2e-6·t², 8 reads 10 s apart) fits its reads to
+  // rounding, so its own residuals would claim an interval of zero width. The read noise
+  // (1e-5) gives its starting slope the standard error σ·√[(XᵀX)⁻¹]₁₁, X = (1, t, t²) over
+  // the reads it used (worked here by Cramer's rule); the interval is at least 1.96 times that
+  // on each side — or the straight line's own floor over the window's reads, 1.96·σ/√Σ(t − t̄)²,
+  // if larger (the same rule for both).
+  Trace tr;
+  for (int i = 0; i < 8; ++i) {
+    tr.t.push_back(10.0 * i);
+    tr.y.push_back(0.001 * 10 * i - 2e-6 * 100.0 * i * i);
+  }
+  tr.st.assign(8, ReadStatus::ok);
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::always;
+  const double sd = 1e-5;
+  const auto r = vzero::find_rate(tr.view(sd), opt);
+  REQUIRE(r.tangent == "parabola");
+  double m[3][3] = {};  // XᵀX over the parabola's reads
+  std::vector<double> line_t;
+  for (std::size_t i = 0; i < tr.t.size(); ++i) {
+    if (!r.used[i]) continue;
+    const double t = tr.t[i], p[3] = {1, t, t * t};
+    for (int a = 0; a < 3; ++a)
+      for (int b = 0; b < 3; ++b) m[a][b] += p[a] * p[b];
+    if (t <= r.t_end_s) line_t.push_back(t);
+  }
+  const double det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) -
+                     m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0]) +
+                     m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+  const double inv11 = (m[0][0] * m[2][2] - m[0][2] * m[2][0]) / det;  // cofactor (1,1) / det
+  const double parabola_half = 1.959963984540054 * sd * std::sqrt(inv11);
+  double mt = 0, stt = 0;
+  for (double t : line_t) mt += t / static_cast<double>(line_t.size());
+  for (double t : line_t) stt += (t - mt) * (t - mt);
+  const double line_half = 1.959963984540054 * sd / std::sqrt(stt);
+  const double half = std::max(parabola_half, line_half);
+  CHECK(r.ci_high - r.slope == doctest::Approx(half).epsilon(1e-6));
+  CHECK(r.slope - r.ci_low == doctest::Approx(half).epsilon(1e-6));
+  CHECK(parabola_half > line_half);  // here the parabola's own floor is the wider
+}
+
 TEST_CASE("a window whose rate still rises is flagged rising") {
   // y = 1e-5·t² (a rate rising from zero) at t = 0, 10, …, 190 s; the lag check is off and
   // the only window rule ends the window at eight reads (t ≤ 70 s). Over those reads the

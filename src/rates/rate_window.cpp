@@ -120,8 +120,16 @@ TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector
   f.se = q.c1_se;
   f.end_s = u.t[z(pos.back())];
   const double tq = student_t_quantile(0.975, n - 3);
-  f.ci_low = f.slope - tq * f.se;
-  f.ci_high = f.slope + tq * f.se;
+  // The interval from the parabola's own residuals, and at least what the read noise alone
+  // gives its starting slope (its standard error with `sd_floor` for the residual SD), as the
+  // line's interval is held to the line's: a parabola that happens to fit its reads closely
+  // says nothing about how well it would fit fresh ones, and it is taken only when it bends
+  // clearly, so one that bends by chance must not also claim a narrow interval (on the
+  // simulated plates the tangent wells' intervals held the truth less often than 95 %).
+  double half = tq * f.se;
+  if (q.resid_sd > 0 && sd_floor > 0) half = std::max(half, 1.959963984540054 * q.c1_se * sd_floor / q.resid_sd);
+  f.ci_low = f.slope - half;
+  f.ci_high = f.slope + half;
   if (opt.tangent_alpha > 0 && q.c2_se > 0)
     f.bends_down = q.c2 < 0 && q.c2 / q.c2_se < -student_t_quantile(1 - opt.tangent_alpha, n - 3);
   f.pos = std::move(pos);

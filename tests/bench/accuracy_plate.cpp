@@ -184,11 +184,12 @@ std::string listing_line(const PlateRun& run, const sim::Plate& p, int w, unsign
   return fmt::format(
       "seed {} well {:>2} S0/Km {:4.2f} t10 {:6.1f}s dt {:2.0f} dead {:4.1f} n {:2} art {:2} | "
       "err {:6.2f} naive {:6.2f} | win {:5.0f}-{:5.0f} n{:2} out {} {} end {} lag {:.0f} | "
-      "line {:+.4f} tan {:+.4f} hw {:.3f} | {}",
+      "line {:+.4f} tan {:+.4f} hw {:.3f} cov {} | {}",
       run.seed, w, truth.s0_uM / truth.km_uM, t10, p.read_interval_s, p.dead_time_s, p.time_s.size(), art, err,
       naive_err, r.t_start_s, r.t_end_s, r.n_points, r.n_outliers, r.tangent, r.window_end, r.lag_s,
       r.line_slope / p.signal_per_uM / truth.v0_uM_s - 1, r.tangent_slope / p.signal_per_uM / truth.v0_uM_s - 1,
-      0.5 * (r.ci_high - r.ci_low) / std::fabs(r.slope), fl);
+      0.5 * (r.ci_high - r.ci_low) / std::fabs(r.slope),
+      (r.ci_low / p.signal_per_uM <= truth.v0_uM_s && truth.v0_uM_s <= r.ci_high / p.signal_per_uM) ? 1 : 0, fl);
 }
 
 }  // namespace
