@@ -5,7 +5,9 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <random>
+#include <utility>
 #include <vector>
 
 #include "rates/pair_slopes.hpp"
@@ -173,4 +175,72 @@ TEST_CASE("ranks near the middle, as Theil–Sen asks, equal the full sort (sele
       }
     }
   }
+}
+
+TEST_CASE("the AVX2 bracket pass keeps and counts what the scalar loop does, bit for bit") {
+  // Reference: the scalar loop of pair_slope_ranks_direct, written out here: every slope in
+  // pair order (i, then j), kept when a ≤ v ≤ b, counted below when v < a.
+#if defined(__x86_64__)
+  if (!__builtin_cpu_supports("avx2")) {
+    MESSAGE("no AVX2 on this processor: the vector pass is not used, nothing to compare");
+    return;
+  }
+  std::mt19937_64 rng(33);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (int n : {2, 3, 4, 5, 6, 8, 9, 20, 35, 36, 47, 121}) {
+    for (int kind = 0; kind < 4; ++kind) {
+      std::vector<double> x, y;
+      if (kind == 1) {
+        y = quantised_trace(n, x);  // many tied slopes
+      } else if (kind == 2) {
+        // ±0 in y (so −0 slopes), huge x and y (differences overflow: NaN, ±0 and ±inf
+        // slopes), x not increasing: the pass must match the loop outside the callers' range too.
+        for (int i = 0; i < n; ++i) {
+          x.push_back(i % 3 == 0 ? -1e308 + i * 1e292 : (i < n / 2 ? 1e-300 * i : 1e308 - (n - i) * 1e292));
+          const double ys[] = {-0.0, 0.0, 1.7e308, -2.5, -1.7e308};  // y_j − y_i overflows too
+          y.push_back(ys[i % 5]);
+        }
+      } else {
+        for (int i = 0; i < n; ++i) {
+          x.push_back(10.0 * i + (kind == 3 ? (i % 5) * 0.9 : 0.0));
+          y.push_back(0.1 + 2e-4 * x.back() + 0.002 * noise(rng) + (i % 11 == 4 ? 30.0 : 0.0));
+        }
+      }
+      std::vector<double> slopes;
+      for (int i = 0; i < n; ++i)
+        for (int j = i + 1; j < n; ++j) slopes.push_back((y[j] - y[i]) / (x[j] - x[i]));
+      std::vector<double> sorted = slopes;
+      std::sort(sorted.begin(), sorted.end(), [](double p, double q) { return p < q || (p == p && q != q); });
+      const auto m = sorted.size();
+      // Brackets: at slope values exactly (a = b too), between, unbounded on either side.
+      const std::vector<std::pair<double, double>> brackets = {{sorted[m / 4], sorted[(3 * m) / 4]},
+                                                               {sorted[m / 2], sorted[m / 2]},
+                                                               {-INFINITY, sorted[m / 3]},
+                                                               {sorted[m / 3], INFINITY},
+                                                               {-INFINITY, INFINITY},
+                                                               {sorted[0], sorted[m - 1]},
+                                                               {0.0, 0.0},
+                                                               {-0.0, 1e-3},
+                                                               {1e9, 2e9}};
+      for (const auto& [a, b] : brackets) {
+        std::vector<double> want(m);
+        std::size_t want_kept = 0, want_below = 0;
+        for (const double v : slopes) {
+          want[want_kept] = v;
+          want_kept += (v >= a) & (v <= b);
+          want_below += v < a;
+        }
+        std::vector<double> got(m + 3);
+        std::size_t below = 0;
+        const std::size_t kept = vzero::detail::keep_in_bracket_avx2(x.data(), y.data(), n, a, b, got.data(), below);
+        INFO("n = ", n, ", kind ", kind, ", bracket [", a, ", ", b, "]");
+        CHECK(kept == want_kept);
+        CHECK(below == want_below);
+        CHECK(std::memcmp(got.data(), want.data(), sizeof(double) * std::min(kept, want_kept)) == 0);
+      }
+    }
+  }
+#else
+  MESSAGE("not x86-64: no vector pass to compare");
+#endif
 }

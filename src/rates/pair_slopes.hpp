@@ -52,4 +52,12 @@ void select_kth(double* a, std::size_t n, std::size_t k);
 void pair_slope_ranks_direct(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                              double* out);
 
+// The bracket pass of pair_slope_ranks_direct four pairs at a time (pair_slopes_avx2.cpp;
+// call only where the processor has AVX2): every slope of a pair i < j formed as slope_of
+// does, those in [a, b] stored at kept[0, returned count) in the order i, then j, and those
+// below a counted in `below` — what the scalar loop gives, bit for bit (the comparisons are
+// IEEE ones, so a NaN slope is neither kept nor below). `kept` has room for n(n−1)/2 + 3.
+std::size_t keep_in_bracket_avx2(const double* x, const double* y, int n, double a, double b, double* kept,
+                                 std::size_t& below);
+
 }  // namespace vzero::detail

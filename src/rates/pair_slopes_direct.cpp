@@ -1,12 +1,14 @@
 // pair_slope_ranks_direct and select_kth (pair_slopes.hpp): every slope formed, then the
 // ranks selected. Below a few hundred pairs a quickselect per rank; above, the slopes are
 // counted into buckets between two values from a sample, and each rank is selected among
-// the few slopes of its own bucket.
+// the few slopes of its own bucket. Where the processor has AVX2 the bracket pass goes four
+// pairs at a time (pair_slopes_avx2.cpp), with the same bits.
 #include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdint>
 #include <numeric>
+#include <utility>
 #include <vector>
 
 #include "rates/pair_slopes.hpp"
@@ -56,6 +58,15 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
 
 namespace {
 
+bool have_avx2() {
+#if defined(VZERO_PAIR_SLOPES_AVX2)
+  static const bool yes = __builtin_cpu_supports("avx2");
+  return yes;
+#else
+  return false;
+#endif
+}
+
 // The slopes from point 0 to points 1..m (a loop the compiler turns into vector divisions;
 // each slope is computed as slope_of does).
 void form_row(const double* __restrict x, const double* __restrict y, int m, double* __restrict row) {
@@ -90,14 +101,18 @@ void select_in_order(double* v, std::size_t m, const std::int64_t* ranks, const 
 void sample_bracket(const double* x, const double* y, int n, std::int64_t k_lo, std::int64_t k_hi, double& a,
                     double& b) {
   constexpr std::size_t k_sample = 128;
-  std::array<double, k_sample> smp{};
+  std::array<double, k_sample> smp{}, dx{};
   Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
-  for (auto& v : smp) {
+  for (std::size_t k = 0; k < k_sample; ++k) {
     int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
     int j = static_cast<int>(mix.below(static_cast<std::uint64_t>(n - 1)));
     if (j >= i) ++j;
-    v = i < j ? slope_of(x, y, i, j) : slope_of(x, y, j, i);
+    if (j < i) std::swap(i, j);
+    smp[k] = y[j] - y[i];
+    dx[k] = x[j] - x[i];
   }
+  // Divided in a second loop, which the compiler turns into vector divisions (slope_of's).
+  for (std::size_t k = 0; k < k_sample; ++k) smp[k] /= dx[k];
   const double ms = k_sample, big_n = static_cast<double>(n) * (n - 1) / 2;
   const double ql = static_cast<double>(k_lo) / big_n, qh = static_cast<double>(k_hi) / big_n;
   const double ia = std::floor(ql * ms - 3 * std::sqrt(ms * ql * (1 - ql)) - 1);
@@ -131,14 +146,27 @@ void select_by_buckets(const double* v, std::size_t m, double a, double b, const
   thread_local std::vector<unsigned char> wanted;
   thread_local std::vector<double> picked;
   bucket.resize(m);
-  first.assign(static_cast<std::size_t>(nb) + 1, 0);
+  std::uint16_t* __restrict bk = bucket.data();
   for (std::size_t k = 0; k < m; ++k) {
     double t = (v[k] - a) * scale;  // ≥ 0, finite
     t = t < top ? t : top;          // written so as to compile to minsd
-    const auto q = static_cast<std::uint16_t>(t);
-    bucket[k] = q;
-    ++first[q + 1u];
+    bk[k] = static_cast<std::uint16_t>(t);
   }
+  // Counted in four interleaved tallies: neighbouring slopes often share a bucket, and one
+  // tally would make each count wait for the one before it through memory.
+  const auto stride = static_cast<std::size_t>(nb) + 1;
+  first.assign(4 * stride, 0);
+  std::uint32_t* __restrict c = first.data();
+  std::size_t p = 0;
+  for (; p + 4 <= m; p += 4) {
+    ++c[bk[p] + 1u];
+    ++c[stride + bk[p + 1] + 1u];
+    ++c[2 * stride + bk[p + 2] + 1u];
+    ++c[3 * stride + bk[p + 3] + 1u];
+  }
+  for (; p < m; ++p) ++c[bk[p] + 1u];
+  for (std::size_t q = 1; q < stride; ++q) c[q] += c[stride + q] + c[2 * stride + q] + c[3 * stride + q];
+  first.resize(stride);
   for (std::size_t q = 1; q < first.size(); ++q) first[q] += first[q - 1];  // values below bucket q
   // The buckets holding a rank (at most 8 ranks), each given a stretch of `picked`;
   // wanted[q] is 1 + the first rank that bucket q holds.
@@ -199,12 +227,17 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
     double a = 0, b = 0;
     sample_bracket(x, y, n, k_lo, k_hi, a, b);
     std::size_t nk = 0, below = 0;
-    for (int i = 0; i < n; ++i) {
-      for (int j = i + 1; j < n; ++j) {
-        const double v = slope_of(x, y, i, j);
-        s[nk] = v;
-        nk += (v >= a) & (v <= b);
-        below += v < a;
+    if (have_avx2()) {
+      s.resize(n_pairs + 3);  // the vector pass writes whole lanes past the last kept slope
+      nk = keep_in_bracket_avx2(x, y, n, a, b, s.data(), below);
+    } else {
+      for (int i = 0; i < n; ++i) {
+        for (int j = i + 1; j < n; ++j) {
+          const double v = slope_of(x, y, i, j);
+          s[nk] = v;
+          nk += (v >= a) & (v <= b);
+          below += v < a;
+        }
       }
     }
     const auto lo = static_cast<std::int64_t>(below);
