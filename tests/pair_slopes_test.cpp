@@ -26,6 +26,28 @@ std::vector<double> all_slopes_sorted(const std::vector<double>& x, const std::v
   return s;
 }
 
+// The ranks as pair_slope_ranks_direct selected them before the bucket methods: every slope
+// formed in pair order, then a quickselect per rank in ascending order, each in what is left
+// above the one before. Reference for which of +0 and −0 comes out when both are slopes.
+std::vector<double> quickselect_in_order(const std::vector<double>& x, const std::vector<double>& y,
+                                         std::vector<std::int64_t> ranks) {
+  std::vector<double> s;
+  for (std::size_t i = 0; i < x.size(); ++i)
+    for (std::size_t j = i + 1; j < x.size(); ++j) s.push_back((y[j] - y[i]) / (x[j] - x[i]));
+  std::vector<std::size_t> order(ranks.size());
+  for (std::size_t r = 0; r < order.size(); ++r) order[r] = r;
+  std::sort(order.begin(), order.end(), [&](std::size_t p, std::size_t q) { return ranks[p] < ranks[q]; });
+  std::vector<double> out(ranks.size());
+  std::size_t start = 0;
+  for (const std::size_t r : order) {
+    const auto local = static_cast<std::size_t>(ranks[r]);
+    vzero::detail::select_kth(s.data() + start, s.size() - start, local - start);
+    start = local;
+    out[r] = s[local];
+  }
+  return out;
+}
+
 // Checks a spread of ranks against the full sort, bit for bit.
 // `expect_bracketed`: the bracketing method must not decline (else it is never tested); it
 // may on data where most slopes are equal (then every slope is formed).
@@ -150,7 +172,7 @@ TEST_CASE("ranks near the middle, as Theil–Sen asks, equal the full sort (sele
   // are those of a median and a Sen interval, so the direct method selects by buckets.
   std::mt19937_64 rng(20261203);
   std::normal_distribution<double> noise(0.0, 1.0);
-  for (int n : {35, 36, 47, 60, 121, 300, 649}) {
+  for (int n : {19, 20, 21, 25, 35, 36, 47, 60, 121, 300, 649}) {
     for (int kind = 0; kind < 4; ++kind) {
       std::vector<double> x, y;
       if (kind == 1) {
@@ -243,4 +265,35 @@ TEST_CASE("the AVX2 bracket pass keeps and counts what the scalar loop does, bit
 #else
   MESSAGE("not x86-64: no vector pass to compare");
 #endif
+}
+
+TEST_CASE("with −0 among the slopes, small windows give the bits they gave before") {
+  // Reference: quickselect_in_order, the method these sizes used before (a full sort cannot
+  // tell +0 from −0). y holds +0 and −0 (so +0 − −0 and −0 − +0 give slopes of both signs)
+  // and the ranks of a median and a Sen interval land on zero slopes; or y holds the least
+  // subnormals, whose differences over 10 s round to ±0.
+  for (int n : {19, 20, 25, 35}) {
+    for (const double tiny : {0.0, 4.9e-324}) {
+      std::vector<double> x, y;
+      for (int i = 0; i < n; ++i) {
+        x.push_back(10.0 * i);
+        const double zero = tiny > 0 ? (i % 2 == 0 ? tiny : -tiny) : (i % 3 == 0 ? -0.0 : 0.0);
+        y.push_back(i % 3 != 2 ? zero : (i % 2 == 0 ? 1e-3 : -1e-3));
+      }
+      const auto count = static_cast<std::int64_t>(n) * (n - 1) / 2;
+      const std::int64_t half = static_cast<std::int64_t>(1.96 * std::sqrt(n * (n - 1.0) * (2 * n + 5) / 18) / 2);
+      const std::vector<std::int64_t> ranks = {count / 2 - 1, count / 2, count / 2 - half, count / 2 + half};
+      const auto want = quickselect_in_order(x, y, ranks);
+      std::vector<double> got(ranks.size());
+      vzero::detail::pair_slope_ranks_direct(x.data(), y.data(), n, ranks.data(), static_cast<int>(ranks.size()),
+                                             got.data());
+      int zeros = 0;
+      for (std::size_t k = 0; k < ranks.size(); ++k) {
+        INFO("n = ", n, ", tiny ", tiny, ", rank ", ranks[k]);
+        CHECK(std::memcmp(&got[k], &want[k], sizeof(double)) == 0);
+        zeros += got[k] == 0;
+      }
+      CHECK(zeros > 0);  // else the case tests nothing
+    }
+  }
 }

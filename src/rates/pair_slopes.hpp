@@ -41,6 +41,11 @@ bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const s
 // From this many pairs up, pair_slope_ranks_direct selects by buckets (pair_slopes_direct.cpp):
 // fewer passes over the slopes than a quickselect per rank.
 constexpr std::size_t k_bucket_pairs = 600;
+// From this many pairs up to k_bucket_pairs the same with a sample of k_small_sample, for
+// more than two ranks (a median and an interval) where no slope can be −0 or NaN (then any
+// exact method gives the same bits); otherwise a quickselect per rank.
+constexpr std::size_t k_small_bucket_pairs = 180;
+constexpr std::size_t k_small_sample = 64;
 
 // Quickselect with a branch-free Lomuto partition (the comparison feeds an index, not a
 // jump): a[k] becomes the k-th smallest (0-based) of a[0, n), smaller ones before it, larger

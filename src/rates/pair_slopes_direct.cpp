@@ -1,7 +1,8 @@
 // pair_slope_ranks_direct and select_kth (pair_slopes.hpp): every slope formed, then the
-// ranks selected. Below a few hundred pairs a quickselect per rank; above, the slopes are
-// counted into buckets between two values from a sample, and each rank is selected among
-// the few slopes of its own bucket. Where the processor has AVX2 the bracket pass goes four
+// ranks selected. Below a few hundred pairs a quickselect per rank, unless a median and an
+// interval are asked for from 180 pairs up; above, and then, the slopes are counted into
+// buckets between two values from a sample, and each rank is selected among the few slopes
+// of its own bucket. Where the processor has AVX2 the bracket pass goes four
 // pairs at a time (pair_slopes_avx2.cpp), with the same bits.
 #include <algorithm>
 #include <array>
@@ -67,6 +68,21 @@ bool have_avx2() {
 #endif
 }
 
+// True when no slope of these points can be −0 or NaN (x strictly increasing and finite, y
+// finite, as pair_slope_ranks asks). Then slopes that compare equal have the same bits, so
+// every exact method gives the bits the full sort gives, whatever order it meets the slopes
+// in; otherwise only the method used before (which meets them in the same order) does.
+// Why it holds: x_j − x_i rounds into (0, 2^100]; every y is 0 or at least 2^−900 in size
+// and no y is −0, so y_j − y_i is +0 or a multiple of 2^−952 at least that large (the exact
+// difference of multiples of 2^−952, rounded monotonically), and the quotient is +0, ±inf,
+// or at least 2^−1052 > 2^−1075 in size: never rounded to −0.
+bool one_pattern_per_value(const double* x, const double* y, int n) {
+  if (!(x[n - 1] - x[0] <= 0x1p100)) return false;
+  bool bad = false;
+  for (int i = 0; i < n; ++i) bad |= (std::fabs(y[i]) < 0x1p-900) & ((y[i] != 0) | std::signbit(y[i]));
+  return !bad;
+}
+
 // The slopes from point 0 to points 1..m (a loop the compiler turns into vector divisions;
 // each slope is computed as slope_of does).
 void form_row(const double* __restrict x, const double* __restrict y, int m, double* __restrict row) {
@@ -96,11 +112,11 @@ void select_in_order(double* v, std::size_t m, const std::int64_t* ranks, const 
   }
 }
 
-// Values a ≤ b among the slopes of 128 pseudo-random pairs, 3 binomial SDs beyond the
+// Values a ≤ b among the slopes of k_sample pseudo-random pairs, 3 binomial SDs beyond the
 // expected places of the lowest and highest rank wanted; ±inf when beyond the sample.
+template <std::size_t k_sample>
 void sample_bracket(const double* x, const double* y, int n, std::int64_t k_lo, std::int64_t k_hi, double& a,
                     double& b) {
-  constexpr std::size_t k_sample = 128;
   std::array<double, k_sample> smp{}, dx{};
   Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
   for (std::size_t k = 0; k < k_sample; ++k) {
@@ -219,13 +235,20 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
   std::vector<double> own;
   std::vector<double>& s = n_pairs <= (1u << 18) ? reused : own;
   s.resize(n_pairs);
-  if (n_pairs >= k_bucket_pairs && n_pairs <= (1u << 18)) {
+  // Fewer pairs: the same where the ranks are spread (a median and an interval) and any exact
+  // method gives the same bits; two ranks side by side cost less by quickselect.
+  const bool small = n_pairs < k_bucket_pairs;
+  if (n_pairs <= (1u << 18) &&
+      (!small || (n_pairs >= k_small_bucket_pairs && count > 2 && one_pattern_per_value(x, y, n)))) {
     // Pivots a ≤ b from a sample; the slopes are formed keeping those in [a, b] and counting
     // those below a. When the ranks fall inside, they are selected among the kept ones only;
     // otherwise among every slope.
     const std::int64_t k_lo = ranks[order[0]], k_hi = ranks[order[count - 1]];
     double a = 0, b = 0;
-    sample_bracket(x, y, n, k_lo, k_hi, a, b);
+    if (small)
+      sample_bracket<k_small_sample>(x, y, n, k_lo, k_hi, a, b);
+    else
+      sample_bracket<128>(x, y, n, k_lo, k_hi, a, b);
     std::size_t nk = 0, below = 0;
     if (have_avx2()) {
       s.resize(n_pairs + 3);  // the vector pass writes whole lanes past the last kept slope
