@@ -117,15 +117,16 @@ void select_in_order(double* v, std::size_t m, const std::int64_t* ranks, const 
 template <std::size_t k_sample>
 void sample_bracket(const double* x, const double* y, int n, std::int64_t k_lo, std::int64_t k_hi, double& a,
                     double& b) {
-  std::array<double, k_sample> smp{}, dx{};
+  std::array<double, k_sample> smp, dx;  // every element written below
   Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
   for (std::size_t k = 0; k < k_sample; ++k) {
-    int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
+    const int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
     int j = static_cast<int>(mix.below(static_cast<std::uint64_t>(n - 1)));
-    if (j >= i) ++j;
-    if (j < i) std::swap(i, j);
-    smp[k] = y[j] - y[i];
-    dx[k] = x[j] - x[i];
+    j += j >= i;
+    // The pair's two ends in order without a jump (which way round is a coin toss).
+    const int lo = std::min(i, j), hi = std::max(i, j);
+    smp[k] = y[hi] - y[lo];
+    dx[k] = x[hi] - x[lo];
   }
   // Divided in a second loop, which the compiler turns into vector divisions (slope_of's).
   for (std::size_t k = 0; k < k_sample; ++k) smp[k] /= dx[k];
