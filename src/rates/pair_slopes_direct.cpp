@@ -2,8 +2,8 @@
 // ranks selected. Below a few hundred pairs a quickselect per rank, unless a median and an
 // interval are asked for from 180 pairs up; above, and then, the slopes are counted into
 // buckets between two values from a sample, and each rank is selected among the few slopes
-// of its own bucket. Where the processor has AVX2 the bracket pass goes four
-// pairs at a time (pair_slopes_avx2.cpp), with the same bits.
+// of its own bucket. Where the processor has AVX2 the bracket pass goes four pairs at a time
+// (pair_slopes_avx2.cpp), with the same bits.
 #include <algorithm>
 #include <array>
 #include <cmath>
