@@ -59,11 +59,17 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
 
 namespace {
 
-bool have_avx2() {
+// The bracket pass four pairs at a time where the processor has AVX2 (and the build has the
+// file compiled for it); false: the scalar loop. s has room for 3 slopes past the last pair.
+bool keep_in_bracket_vector(const double* x, const double* y, int n, double a, double b, std::vector<double>& s,
+                            std::size_t& nk, std::size_t& below) {
 #if defined(VZERO_PAIR_SLOPES_AVX2)
-  static const bool yes = __builtin_cpu_supports("avx2");
-  return yes;
+  static const bool avx2 = __builtin_cpu_supports("avx2");
+  if (!avx2) return false;
+  nk = keep_in_bracket_avx2(x, y, n, a, b, s.data(), below);
+  return true;
 #else
+  (void)x, (void)y, (void)n, (void)a, (void)b, (void)s, (void)nk, (void)below;
   return false;
 #endif
 }
@@ -235,7 +241,7 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
   thread_local std::vector<double> reused;
   std::vector<double> own;
   std::vector<double>& s = n_pairs <= (1u << 18) ? reused : own;
-  s.resize(n_pairs);
+  s.resize(n_pairs + 3);  // the vector pass writes whole lanes past the last kept slope
   // Fewer pairs: the same where the ranks are spread (a median and an interval) and any exact
   // method gives the same bits; two ranks side by side cost less by quickselect.
   const bool small = n_pairs < k_bucket_pairs;
@@ -251,10 +257,7 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
     else
       sample_bracket<128>(x, y, n, k_lo, k_hi, a, b);
     std::size_t nk = 0, below = 0;
-    if (have_avx2()) {
-      s.resize(n_pairs + 3);  // the vector pass writes whole lanes past the last kept slope
-      nk = keep_in_bracket_avx2(x, y, n, a, b, s.data(), below);
-    } else {
+    if (!keep_in_bracket_vector(x, y, n, a, b, s, nk, below)) {
       for (int i = 0; i < n; ++i) {
         for (int j = i + 1; j < n; ++j) {
           const double v = slope_of(x, y, i, j);
