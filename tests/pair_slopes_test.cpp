@@ -5,7 +5,9 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <random>
+#include <utility>
 #include <vector>
 
 #include "rates/pair_slopes.hpp"
@@ -22,6 +24,28 @@ std::vector<double> all_slopes_sorted(const std::vector<double>& x, const std::v
     for (std::size_t j = i + 1; j < x.size(); ++j) s.push_back((y[j] - y[i]) / (x[j] - x[i]));
   std::sort(s.begin(), s.end());
   return s;
+}
+
+// The ranks as pair_slope_ranks_direct selected them before the bucket methods: every slope
+// formed in pair order, then a quickselect per rank in ascending order, each in what is left
+// above the one before. Reference for which of +0 and −0 comes out when both are slopes.
+std::vector<double> quickselect_in_order(const std::vector<double>& x, const std::vector<double>& y,
+                                         std::vector<std::int64_t> ranks) {
+  std::vector<double> s;
+  for (std::size_t i = 0; i < x.size(); ++i)
+    for (std::size_t j = i + 1; j < x.size(); ++j) s.push_back((y[j] - y[i]) / (x[j] - x[i]));
+  std::vector<std::size_t> order(ranks.size());
+  for (std::size_t r = 0; r < order.size(); ++r) order[r] = r;
+  std::sort(order.begin(), order.end(), [&](std::size_t p, std::size_t q) { return ranks[p] < ranks[q]; });
+  std::vector<double> out(ranks.size());
+  std::size_t start = 0;
+  for (const std::size_t r : order) {
+    const auto local = static_cast<std::size_t>(ranks[r]);
+    vzero::detail::select_kth(s.data() + start, s.size() - start, local - start);
+    start = local;
+    out[r] = s[local];
+  }
+  return out;
 }
 
 // Checks a spread of ranks against the full sort, bit for bit.
@@ -148,7 +172,7 @@ TEST_CASE("ranks near the middle, as Theil–Sen asks, equal the full sort (sele
   // are those of a median and a Sen interval, so the direct method selects by buckets.
   std::mt19937_64 rng(20261203);
   std::normal_distribution<double> noise(0.0, 1.0);
-  for (int n : {35, 36, 47, 60, 121, 300, 649}) {
+  for (int n : {19, 20, 21, 25, 35, 36, 47, 60, 121, 300, 649}) {
     for (int kind = 0; kind < 4; ++kind) {
       std::vector<double> x, y;
       if (kind == 1) {
@@ -171,6 +195,105 @@ TEST_CASE("ranks near the middle, as Theil–Sen asks, equal the full sort (sele
         INFO("n = ", n, ", kind ", kind, ", rank ", ranks[k]);
         CHECK(got[k] == sorted[static_cast<std::size_t>(ranks[k])]);
       }
+    }
+  }
+}
+
+TEST_CASE("the AVX2 bracket pass keeps and counts what the scalar loop does, bit for bit") {
+  // Reference: the scalar loop of pair_slope_ranks_direct, written out here: every slope in
+  // pair order (i, then j), kept when a ≤ v ≤ b, counted below when v < a.
+#if defined(__x86_64__)
+  if (!__builtin_cpu_supports("avx2")) {
+    MESSAGE("no AVX2 on this processor: the vector pass is not used, nothing to compare");
+    return;
+  }
+  std::mt19937_64 rng(33);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (int n : {2, 3, 4, 5, 6, 8, 9, 20, 35, 36, 47, 121}) {
+    for (int kind = 0; kind < 4; ++kind) {
+      std::vector<double> x, y;
+      if (kind == 1) {
+        y = quantised_trace(n, x);  // many tied slopes
+      } else if (kind == 2) {
+        // ±0 in y (so −0 slopes), huge x and y (differences overflow: NaN, ±0 and ±inf
+        // slopes), x not increasing: the pass must match the loop outside the callers' range too.
+        for (int i = 0; i < n; ++i) {
+          x.push_back(i % 3 == 0 ? -1e308 + i * 1e292 : (i < n / 2 ? 1e-300 * i : 1e308 - (n - i) * 1e292));
+          const double ys[] = {-0.0, 0.0, 1.7e308, -2.5, -1.7e308};  // y_j − y_i overflows too
+          y.push_back(ys[i % 5]);
+        }
+      } else {
+        for (int i = 0; i < n; ++i) {
+          x.push_back(10.0 * i + (kind == 3 ? (i % 5) * 0.9 : 0.0));
+          y.push_back(0.1 + 2e-4 * x.back() + 0.002 * noise(rng) + (i % 11 == 4 ? 30.0 : 0.0));
+        }
+      }
+      std::vector<double> slopes;
+      for (int i = 0; i < n; ++i)
+        for (int j = i + 1; j < n; ++j) slopes.push_back((y[j] - y[i]) / (x[j] - x[i]));
+      std::vector<double> sorted = slopes;
+      std::sort(sorted.begin(), sorted.end(), [](double p, double q) { return p < q || (p == p && q != q); });
+      const auto m = sorted.size();
+      // Brackets: at slope values exactly (a = b too), between, unbounded on either side.
+      const std::vector<std::pair<double, double>> brackets = {{sorted[m / 4], sorted[(3 * m) / 4]},
+                                                               {sorted[m / 2], sorted[m / 2]},
+                                                               {-INFINITY, sorted[m / 3]},
+                                                               {sorted[m / 3], INFINITY},
+                                                               {-INFINITY, INFINITY},
+                                                               {sorted[0], sorted[m - 1]},
+                                                               {0.0, 0.0},
+                                                               {-0.0, 1e-3},
+                                                               {1e9, 2e9}};
+      for (const auto& [a, b] : brackets) {
+        std::vector<double> want(m);
+        std::size_t want_kept = 0, want_below = 0;
+        for (const double v : slopes) {
+          want[want_kept] = v;
+          want_kept += (v >= a) & (v <= b);
+          want_below += v < a;
+        }
+        std::vector<double> got(m + 3);
+        std::size_t below = 0;
+        const std::size_t kept = vzero::detail::keep_in_bracket_avx2(x.data(), y.data(), n, a, b, got.data(), below);
+        INFO("n = ", n, ", kind ", kind, ", bracket [", a, ", ", b, "]");
+        CHECK(kept == want_kept);
+        CHECK(below == want_below);
+        CHECK(std::memcmp(got.data(), want.data(), sizeof(double) * std::min(kept, want_kept)) == 0);
+      }
+    }
+  }
+#else
+  MESSAGE("not x86-64: no vector pass to compare");
+#endif
+}
+
+TEST_CASE("with −0 among the slopes, small windows give the bits they gave before") {
+  // Reference: quickselect_in_order, the method these sizes used before (a full sort cannot
+  // tell +0 from −0). y holds +0 and −0 (so +0 − −0 and −0 − +0 give slopes of both signs)
+  // and the ranks of a median and a Sen interval land on zero slopes; or y holds the least
+  // subnormals, whose differences over 10 s round to ±0.
+  for (int n : {19, 20, 25, 35}) {
+    for (const double tiny : {0.0, 4.9e-324}) {
+      std::vector<double> x, y;
+      for (int i = 0; i < n; ++i) {
+        x.push_back(10.0 * i);
+        const double zero = tiny > 0 ? (i % 2 == 0 ? tiny : -tiny) : (i % 3 == 0 ? -0.0 : 0.0);
+        y.push_back(i % 3 != 2 ? zero : (i % 2 == 0 ? 1e-3 : -1e-3));
+      }
+      const auto count = static_cast<std::int64_t>(n) * (n - 1) / 2;
+      const std::int64_t half = static_cast<std::int64_t>(1.96 * std::sqrt(n * (n - 1.0) * (2 * n + 5) / 18) / 2);
+      const std::vector<std::int64_t> ranks = {count / 2 - 1, count / 2, count / 2 - half, count / 2 + half};
+      const auto want = quickselect_in_order(x, y, ranks);
+      std::vector<double> got(ranks.size());
+      vzero::detail::pair_slope_ranks_direct(x.data(), y.data(), n, ranks.data(), static_cast<int>(ranks.size()),
+                                             got.data());
+      int zeros = 0;
+      for (std::size_t k = 0; k < ranks.size(); ++k) {
+        INFO("n = ", n, ", tiny ", tiny, ", rank ", ranks[k]);
+        CHECK(std::memcmp(&got[k], &want[k], sizeof(double)) == 0);
+        zeros += got[k] == 0;
+      }
+      CHECK(zeros > 0);  // else the case tests nothing
     }
   }
 }

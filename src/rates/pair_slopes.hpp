@@ -41,6 +41,11 @@ bool pair_slope_ranks_bracketed(const double* x, const double* y, int n, const s
 // From this many pairs up, pair_slope_ranks_direct selects by buckets (pair_slopes_direct.cpp):
 // fewer passes over the slopes than a quickselect per rank.
 constexpr std::size_t k_bucket_pairs = 600;
+// From this many pairs up to k_bucket_pairs the same with a sample of k_small_sample, for
+// more than two ranks (a median and an interval) where no slope can be −0 or NaN (then any
+// exact method gives the same bits); otherwise a quickselect per rank.
+constexpr std::size_t k_small_bucket_pairs = 180;
+constexpr std::size_t k_small_sample = 64;
 
 // Quickselect with a branch-free Lomuto partition (the comparison feeds an index, not a
 // jump): a[k] becomes the k-th smallest (0-based) of a[0, n), smaller ones before it, larger
@@ -51,5 +56,13 @@ void select_kth(double* a, std::size_t n, std::size_t k);
 // Forms every slope and selects (the reference; also the fallback).
 void pair_slope_ranks_direct(const double* x, const double* y, int n, const std::int64_t* ranks, int count,
                              double* out);
+
+// The bracket pass of pair_slope_ranks_direct four pairs at a time (pair_slopes_avx2.cpp;
+// call only where the processor has AVX2): every slope of a pair i < j formed as slope_of
+// does, those in [a, b] stored at kept[0, returned count) in the order i, then j, and those
+// below a counted in `below` — what the scalar loop gives, bit for bit (the comparisons are
+// IEEE ones, so a NaN slope is neither kept nor below). `kept` has room for n(n−1)/2 + 3.
+std::size_t keep_in_bracket_avx2(const double* x, const double* y, int n, double a, double b, double* kept,
+                                 std::size_t& below);
 
 }  // namespace vzero::detail

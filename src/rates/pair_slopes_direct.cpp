@@ -1,12 +1,15 @@
 // pair_slope_ranks_direct and select_kth (pair_slopes.hpp): every slope formed, then the
-// ranks selected. Below a few hundred pairs a quickselect per rank; above, the slopes are
-// counted into buckets between two values from a sample, and each rank is selected among
-// the few slopes of its own bucket.
+// ranks selected. Below a few hundred pairs a quickselect per rank, unless a median and an
+// interval are asked for from 180 pairs up; above, and then, the slopes are counted into
+// buckets between two values from a sample, and each rank is selected among the few slopes
+// of its own bucket. Where the processor has AVX2 the bracket pass goes four pairs at a time
+// (pair_slopes_avx2.cpp), with the same bits.
 #include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdint>
 #include <numeric>
+#include <utility>
 #include <vector>
 
 #include "rates/pair_slopes.hpp"
@@ -56,6 +59,36 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
 
 namespace {
 
+// The bracket pass four pairs at a time where the processor has AVX2 (and the build has the
+// file compiled for it); false: the scalar loop. s has room for 3 slopes past the last pair.
+bool keep_in_bracket_vector(const double* x, const double* y, int n, double a, double b, std::vector<double>& s,
+                            std::size_t& nk, std::size_t& below) {
+#if defined(VZERO_PAIR_SLOPES_AVX2)
+  static const bool avx2 = __builtin_cpu_supports("avx2");
+  if (!avx2) return false;
+  nk = keep_in_bracket_avx2(x, y, n, a, b, s.data(), below);
+  return true;
+#else
+  (void)x, (void)y, (void)n, (void)a, (void)b, (void)s, (void)nk, (void)below;
+  return false;
+#endif
+}
+
+// True when no slope of these points can be −0 or NaN (x strictly increasing and finite, y
+// finite, as pair_slope_ranks asks). Then slopes that compare equal have the same bits, so
+// every exact method gives the bits the full sort gives, whatever order it meets the slopes
+// in; otherwise only the method used before (which meets them in the same order) does.
+// Why it holds: x_j − x_i rounds into (0, 2^100]; every y is 0 or at least 2^−900 in size
+// and no y is −0, so y_j − y_i is +0 or a multiple of 2^−952 at least that large (the exact
+// difference of multiples of 2^−952, rounded monotonically), and the quotient is +0, ±inf,
+// or at least 2^−1052 > 2^−1075 in size: never rounded to −0.
+bool one_pattern_per_value(const double* x, const double* y, int n) {
+  if (!(x[n - 1] - x[0] <= 0x1p100)) return false;
+  bool bad = false;
+  for (int i = 0; i < n; ++i) bad |= (std::fabs(y[i]) < 0x1p-900) & ((y[i] != 0) | std::signbit(y[i]));
+  return !bad;
+}
+
 // The slopes from point 0 to points 1..m (a loop the compiler turns into vector divisions;
 // each slope is computed as slope_of does).
 void form_row(const double* __restrict x, const double* __restrict y, int m, double* __restrict row) {
@@ -85,19 +118,24 @@ void select_in_order(double* v, std::size_t m, const std::int64_t* ranks, const 
   }
 }
 
-// Values a ≤ b among the slopes of 128 pseudo-random pairs, 3 binomial SDs beyond the
+// Values a ≤ b among the slopes of k_sample pseudo-random pairs, 3 binomial SDs beyond the
 // expected places of the lowest and highest rank wanted; ±inf when beyond the sample.
+template <std::size_t k_sample>
 void sample_bracket(const double* x, const double* y, int n, std::int64_t k_lo, std::int64_t k_hi, double& a,
                     double& b) {
-  constexpr std::size_t k_sample = 128;
-  std::array<double, k_sample> smp{};
+  std::array<double, k_sample> smp, dx;  // every element written below
   Mix mix{0x51ede5ULL + static_cast<std::uint64_t>(n)};
-  for (auto& v : smp) {
-    int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
+  for (std::size_t k = 0; k < k_sample; ++k) {
+    const int i = static_cast<int>(mix.below(static_cast<std::uint64_t>(n)));
     int j = static_cast<int>(mix.below(static_cast<std::uint64_t>(n - 1)));
-    if (j >= i) ++j;
-    v = i < j ? slope_of(x, y, i, j) : slope_of(x, y, j, i);
+    j += j >= i;
+    // The pair's two ends in order without a jump (which way round is a coin toss).
+    const int lo = std::min(i, j), hi = std::max(i, j);
+    smp[k] = y[hi] - y[lo];
+    dx[k] = x[hi] - x[lo];
   }
+  // Divided in a second loop, which the compiler turns into vector divisions (slope_of's).
+  for (std::size_t k = 0; k < k_sample; ++k) smp[k] /= dx[k];
   const double ms = k_sample, big_n = static_cast<double>(n) * (n - 1) / 2;
   const double ql = static_cast<double>(k_lo) / big_n, qh = static_cast<double>(k_hi) / big_n;
   const double ia = std::floor(ql * ms - 3 * std::sqrt(ms * ql * (1 - ql)) - 1);
@@ -131,14 +169,27 @@ void select_by_buckets(const double* v, std::size_t m, double a, double b, const
   thread_local std::vector<unsigned char> wanted;
   thread_local std::vector<double> picked;
   bucket.resize(m);
-  first.assign(static_cast<std::size_t>(nb) + 1, 0);
+  std::uint16_t* __restrict bk = bucket.data();
   for (std::size_t k = 0; k < m; ++k) {
     double t = (v[k] - a) * scale;  // ≥ 0, finite
     t = t < top ? t : top;          // written so as to compile to minsd
-    const auto q = static_cast<std::uint16_t>(t);
-    bucket[k] = q;
-    ++first[q + 1u];
+    bk[k] = static_cast<std::uint16_t>(t);
   }
+  // Counted in four interleaved tallies: neighbouring slopes often share a bucket, and one
+  // tally would make each count wait for the one before it through memory.
+  const auto stride = static_cast<std::size_t>(nb) + 1;
+  first.assign(4 * stride, 0);
+  std::uint32_t* __restrict c = first.data();
+  std::size_t p = 0;
+  for (; p + 4 <= m; p += 4) {
+    ++c[bk[p] + 1u];
+    ++c[stride + bk[p + 1] + 1u];
+    ++c[2 * stride + bk[p + 2] + 1u];
+    ++c[3 * stride + bk[p + 3] + 1u];
+  }
+  for (; p < m; ++p) ++c[bk[p] + 1u];
+  for (std::size_t q = 1; q < stride; ++q) c[q] += c[stride + q] + c[2 * stride + q] + c[3 * stride + q];
+  first.resize(stride);
   for (std::size_t q = 1; q < first.size(); ++q) first[q] += first[q - 1];  // values below bucket q
   // The buckets holding a rank (at most 8 ranks), each given a stretch of `picked`;
   // wanted[q] is 1 + the first rank that bucket q holds.
@@ -190,21 +241,30 @@ void pair_slope_ranks_direct(const double* x, const double* y, int n, const std:
   thread_local std::vector<double> reused;
   std::vector<double> own;
   std::vector<double>& s = n_pairs <= (1u << 18) ? reused : own;
-  s.resize(n_pairs);
-  if (n_pairs >= k_bucket_pairs && n_pairs <= (1u << 18)) {
+  s.resize(n_pairs + 3);  // the vector pass writes whole lanes past the last kept slope
+  // Fewer pairs: the same where the ranks are spread (a median and an interval) and any exact
+  // method gives the same bits; two ranks side by side cost less by quickselect.
+  const bool small = n_pairs < k_bucket_pairs;
+  if (n_pairs <= (1u << 18) &&
+      (!small || (n_pairs >= k_small_bucket_pairs && count > 2 && one_pattern_per_value(x, y, n)))) {
     // Pivots a ≤ b from a sample; the slopes are formed keeping those in [a, b] and counting
     // those below a. When the ranks fall inside, they are selected among the kept ones only;
     // otherwise among every slope.
     const std::int64_t k_lo = ranks[order[0]], k_hi = ranks[order[count - 1]];
     double a = 0, b = 0;
-    sample_bracket(x, y, n, k_lo, k_hi, a, b);
+    if (small)
+      sample_bracket<k_small_sample>(x, y, n, k_lo, k_hi, a, b);
+    else
+      sample_bracket<128>(x, y, n, k_lo, k_hi, a, b);
     std::size_t nk = 0, below = 0;
-    for (int i = 0; i < n; ++i) {
-      for (int j = i + 1; j < n; ++j) {
-        const double v = slope_of(x, y, i, j);
-        s[nk] = v;
-        nk += (v >= a) & (v <= b);
-        below += v < a;
+    if (!keep_in_bracket_vector(x, y, n, a, b, s, nk, below)) {
+      for (int i = 0; i < n; ++i) {
+        for (int j = i + 1; j < n; ++j) {
+          const double v = slope_of(x, y, i, j);
+          s[nk] = v;
+          nk += (v >= a) & (v <= b);
+          below += v < a;
+        }
       }
     }
     const auto lo = static_cast<std::int64_t>(below);
