@@ -149,15 +149,26 @@ TEST_CASE("a rate too imprecise to trust is flagged imprecise") {
   CHECK(!has_flag(vzero::find_rate(tr.view(0.005), opt), "imprecise"));
 }
 
-TEST_CASE("the initial tangent needs enough reads for its second parameter") {
-  // y = 0.001·t − 2e-6·t² at 8 reads 10 s apart bends down exactly; tangent at 0 = 0.001.
-  // `always` takes it; `auto` does not with fewer than tangent_min_reads (10) reads.
+namespace {
+
+// y = 0.001·t − 2e-6·t² at 8 reads 10 s apart: a parabola bending down exactly, its tangent
+// at 0 is 0.001.
+Trace exact_parabola() {
   Trace tr;
   for (int i = 0; i < 8; ++i) {
     tr.t.push_back(10.0 * i);
     tr.y.push_back(0.001 * 10 * i - 2e-6 * 100.0 * i * i);
   }
   tr.st.assign(8, ReadStatus::ok);
+  return tr;
+}
+
+}  // namespace
+
+TEST_CASE("the initial tangent needs enough reads for its second parameter") {
+  // The exact parabola: `always` takes its tangent; `auto` does not with fewer than
+  // tangent_min_reads (10) reads.
+  const Trace tr = exact_parabola();
   vzero::RateOptions opt;
   opt.tangent = vzero::TangentMode::always;
   const auto a = vzero::find_rate(tr.view(1e-5), opt);
@@ -176,12 +187,7 @@ TEST_CASE("the initial tangent's interval is at least what the read noise gives 
   // the reads it used (worked here by Cramer's rule); the interval is at least 1.96 times that
   // on each side — or the straight line's own floor over the window's reads, 1.96·σ/√Σ(t − t̄)²,
   // if larger (the same rule for both).
-  Trace tr;
-  for (int i = 0; i < 8; ++i) {
-    tr.t.push_back(10.0 * i);
-    tr.y.push_back(0.001 * 10 * i - 2e-6 * 100.0 * i * i);
-  }
-  tr.st.assign(8, ReadStatus::ok);
+  const Trace tr = exact_parabola();
   vzero::RateOptions opt;
   opt.tangent = vzero::TangentMode::always;
   const double sd = 1e-5;
@@ -532,6 +538,8 @@ TEST_CASE("a lag too weak to skip widens the interval's upper side (note lag-pos
   CHECK(plain.slope == r.slope);
   CHECK(plain.ci_low == r.ci_low);
   CHECK(!has_flag(plain, "lag-possible"));
+  // The shape is fitted to the first half of the reads (no substrate, so no conversion limit
+  // to bound it: 30 reads) with τ up to a third of the run (1180 s / 3), as lag_search.cpp does.
   const auto shape = vzero::detail::fit_lag_shape(tr.t.data(), tr.y.data(), 30, 0.015, 1180.0 / 3);
   CHECK(shape.gain > 3.841458820694124);
   CHECK(shape.gain < 9);

@@ -6,6 +6,8 @@
 #include <utility>
 #include <vector>
 
+#include "core/stats.hpp"
+
 namespace vzero::detail {
 namespace {
 
@@ -197,7 +199,7 @@ const Clocks& clocks_for(const double* t, int n, double tau_min, double tau_max)
       for (std::size_t k = 0; k < kg; ++k) c.g[k][ui] = tb.g[k][j];
       continue;
     }
-    for (std::size_t k = 0; k < kg; ++k) c.g[k][ui] = u + tb.tau[k] * std::expm1(-u / tb.tau[k]);
+    for (std::size_t k = 0; k < kg; ++k) c.g[k][ui] = lag_clock(u, tb.tau[k]);
     if (j == tb.t.size()) {  // past every time kept: keep it (the times stay increasing)
       tb.t.push_back(t[i]);
       for (std::size_t k = 0; k < kg; ++k) tb.g[k].push_back(c.g[k][ui]);
@@ -318,6 +320,13 @@ LagShape fit_lag_shape(const double* t, const double* y, int n, double sd, doubl
   best.gain = (line.rss - best_rss) / (sd * sd);
   best.tau_high_s = tau_high(rss, *c.tau, best, best_rss, sd);
   return best;
+}
+
+double lag_clock_slope(const double* t, int n, double from, double tau) {
+  thread_local std::vector<double> g;  // scratch reused by each thread
+  g.clear();
+  for (int i = 0; i < n; ++i) g.push_back(lag_clock(t[i] - from, tau));
+  return least_squares_line(t, g.data(), n).slope;
 }
 
 }  // namespace vzero::detail

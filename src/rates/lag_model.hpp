@@ -20,6 +20,15 @@ struct LagShape {
 // likelihood interval of one parameter).
 inline constexpr double k_tau_band = 3.841458820694124;
 
+// The lag's stretched clock g_τ(u) = u − τ·(1 − e^(−u/τ)) (u = time since its start): the
+// product of a rate that climbs to 1 with time constant τ.
+inline double lag_clock(double u, double tau) { return u + tau * std::expm1(-u / tau); }
+
+// The least-squares slope of g_τ(t − from) against t over the n times t: the fraction of the
+// steady rate that a straight line through a lag curve read at those times measures (→ 1 as
+// τ → 0). NaN for fewer than two distinct times.
+double lag_clock_slope(const double* t, int n, double from, double tau);
+
 // Fits y = a + v·g_τ(t − t₀), g_τ(u) = u − τ·(1 − e^(−u/τ)), by linear least squares in
 // (a, v) for each τ of a log-spaced grid from half the median read interval to `tau_max_s`
 // (k_lag_grid values), keeping v > 0; returns the best τ against the straight line (τ → 0).

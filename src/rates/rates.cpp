@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cassert>
 
+#include "rates/lag_model.hpp"
 #include "rates/rate_window.hpp"
 #include "rates/robust.hpp"
 #include "vzero/error.hpp"
@@ -110,29 +111,6 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
   }
   kept.line_on_kept = with_interval && kept.pos == cpos;
   return kept;
-}
-
-// Least-squares slope of the lag clock g_τ(t − from) = (t − from) − τ·(1 − e^(−(t − from)/τ))
-// against t over the times `t`: the fraction of the steady rate a straight line through a lag
-// curve sampled there measures (1 when τ → 0).
-double lag_clock_slope(const std::vector<double>& t, double from, double tau) {
-  double mt = 0, mg = 0;
-  thread_local std::vector<double> g;
-  g.clear();
-  for (double x : t) {
-    const double u = x - from;
-    g.push_back(u + tau * std::expm1(-u / tau));
-    mt += x;
-    mg += g.back();
-  }
-  mt /= static_cast<double>(t.size());
-  mg /= static_cast<double>(t.size());
-  double stg = 0, stt = 0;
-  for (std::size_t i = 0; i < t.size(); ++i) {
-    stg += (t[i] - mt) * (g[i] - mg);
-    stt += (t[i] - mt) * (t[i] - mt);
-  }
-  return stt > 0 ? stg / stt : NAN;
 }
 
 // Widens r's 95 % interval to what the data support: each side at least 1.96 × the read
@@ -370,7 +348,8 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
     bias_up = c / (1 - c);
   }
   if (r.tangent == "slope" && r.slope > 0 && w.possible_lag_tau_s > 0 && !kt.empty()) {
-    const double ratio = lag_clock_slope(kt, w.possible_lag_from_s, w.possible_lag_tau_s);
+    const double ratio =
+        detail::lag_clock_slope(kt.data(), static_cast<int>(kt.size()), w.possible_lag_from_s, w.possible_lag_tau_s);
     if (ratio > 0 && ratio < 1) {
       bias_up = std::hypot(bias_up, 1 / ratio - 1);
       add_flag(r, "lag-possible");
