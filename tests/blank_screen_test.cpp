@@ -66,6 +66,20 @@ TEST_CASE("the bend all blanks share is found and taken off before their starts 
       CHECK(s.bend(i, k) == doctest::Approx(k < 2 ? d - e : d + e).epsilon(1e-9).scale(1e-3));
   }
   CHECK_REL(s.noise_sd, 1.4826 * 8 * k_sigma / std::sqrt(6.0), 1e-9);
+  // Each blank's scatter once its bend is off: its departure from its line, 2e, whose own line
+  // is 0 (e is already the noise less its line), so √(Σ(2e)²/(20 − 2)); about a straight line
+  // instead, the bend counts too: √(Σ(D ± e)²/18).
+  double see = 0, sdp = 0, sdm = 0;
+  for (int i = 0; i < 20; ++i) {
+    const double t = c.time_s[static_cast<std::size_t>(i)];
+    const double d = bend(t) - (mb + sxy / sxx * (t - mt));
+    const double e = (i % 2 ? -k_sigma : k_sigma) - sxn / sxx * (t - mt);
+    see += 4 * e * e, sdp += (d + e) * (d + e), sdm += (d - e) * (d - e);
+  }
+  for (int k = 0; k < 4; ++k) {
+    CHECK_REL(s.flat_sd[static_cast<std::size_t>(k)], std::sqrt(see / 18), 1e-6);
+    CHECK_REL(s.line[static_cast<std::size_t>(k)].resid_sd, std::sqrt((k < 2 ? sdp : sdm) / 18), 1e-9);
+  }
   for (int k = 0; k < 4; ++k) {
     CHECK(s.skip[static_cast<std::size_t>(k)] == 0);
     CHECK(s.spikes[static_cast<std::size_t>(k)] == 0);

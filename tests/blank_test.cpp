@@ -252,3 +252,51 @@ TEST_CASE("vzero rates flags blank-substrate and warns; matched by substrate it 
   CHECK(matched.err.empty());
   CHECK(test::slurp(dir / "rates.csv").find("blank-substrate") == std::string::npos);
 }
+
+TEST_CASE("the read noise a sample keeps: the blanks' scatter without the bend they share") {
+  // Four blanks B1–B4 = 0.05 + 0.001·k + 1e-5·(k + 1)·t + bend(t) ± n(t), with the plate's bend
+  // 0.01·(1 − e^(−t/50 s)) and n = ±σ alternating read by read (opposite signs in B3, B4);
+  // A1 = 0.05 + 0.001·t + bend(t). Worked here (as in blank_screen_test): each blank's bend is
+  // the median of the other three blanks' departures from their lines, and taken off it leaves
+  // each blank a line plus 2e (e: the noise less its least-squares line), scatter
+  // f = √(Σ(2e)²/18). Subtracting the blanks' reads takes the bend off A1 too, so A1 keeps
+  // read noise f (smooth: the blanks enter as line + bend and carry none of their own) or
+  // √(f² + 4f²/4²) (trace: the mean of four blanks read as they are carries f²/4). Subtracting
+  // only their rate leaves the bend in A1, and the blanks' scatter about straight lines,
+  // √((Σ(D + e)² + Σ(D − e)²)/2/18) (D: the bend less its line), stands.
+  constexpr double sigma = 0.0005;
+  const auto bend = [](double t) { return 0.01 * -std::expm1(-t / 50.0); };
+  const auto noise = [&](int i, int k) { return (i % 2 ? -sigma : sigma) * (k >= 2 ? -1 : 1); };
+  std::string text = "Time [s],A1,B1,B2,B3,B4\n";
+  for (int i = 0; i < 20; ++i) {
+    const double t = 10.0 * i;
+    text += fmt::format("{},{:.17g}", t, 0.05 + 0.001 * t + bend(t));
+    for (int k = 0; k < 4; ++k) text += fmt::format(",{:.17g}", 0.05 + 0.001 * k + 1e-5 * (k + 1) * t + bend(t) + noise(i, k));
+    text += "\n";
+  }
+  double mt = 0, mb = 0, sxx = 0, sxy = 0, sxn = 0;
+  for (int i = 0; i < 20; ++i) mt += 10.0 * i / 20, mb += bend(10.0 * i) / 20;
+  for (int i = 0; i < 20; ++i) {
+    const double t = 10.0 * i;
+    sxx += (t - mt) * (t - mt), sxy += (t - mt) * (bend(t) - mb), sxn += (t - mt) * noise(i, 0);
+  }
+  double see = 0, sdd = 0;
+  for (int i = 0; i < 20; ++i) {
+    const double t = 10.0 * i;
+    const double d = bend(t) - (mb + sxy / sxx * (t - mt)), e = noise(i, 0) - sxn / sxx * (t - mt);
+    see += 4 * e * e, sdd += ((d + e) * (d + e) + (d - e) * (d - e)) / 2;
+  }
+  const double f = std::sqrt(see / 18);
+  Run run = read_run_text("plate.csv", text, load_profile("wide-generic"));
+  const Channel& c = run.channels[0];
+  const PlateMap map =
+      parse_plate_map("map.csv", "well,role\nA1,sample\nB1,blank\nB2,blank\nB3,blank\nB4,blank\n");
+  const auto a1 = static_cast<std::size_t>(c.column_of(run.format.index(*parse_well("A1"))));
+  BlankOptions o;
+  o.mode = BlankMode::smooth;
+  CHECK_REL(apply_blank(c, map, run.format, o).wells[a1].blank_noise_sd, f, 1e-6);
+  o.mode = BlankMode::trace;
+  CHECK_REL(apply_blank(c, map, run.format, o).wells[a1].blank_noise_sd, f * std::sqrt(1.25), 1e-6);
+  o.mode = BlankMode::rate;
+  CHECK_REL(apply_blank(c, map, run.format, o).wells[a1].blank_noise_sd, std::sqrt(sdd / 18), 1e-6);
+}

@@ -8,6 +8,7 @@
 
 #include "core/start_screen.hpp"
 #include "rates/lag_model.hpp"
+#include "rates/rate_window.hpp"
 #include "test_support.hpp"
 #include "vzero/rates.hpp"
 
@@ -557,4 +558,41 @@ TEST_CASE("a lag too weak to skip widens the interval's upper side (note lag-pos
   Trace line = tr;
   for (std::size_t i = 0; i < line.t.size(); ++i) line.y[i] = 0.001 * line.t[i];
   CHECK(!has_flag(vzero::find_rate(line.view(0.015), opt), "lag-possible"));
+}
+
+TEST_CASE("the interval's read noise: the blanks', or the well's own scatter where larger on 14 reads or more") {
+  // 0.1 + 0.001·t at 10 s intervals plus ±s alternating read by read (s = 0.002 AU: noise of
+  // the well's own, as when it grows with the signal). The blanks claim s/10. The spike
+  // screen's robust scatter of the well (u.local_sd) is then far above the blanks' noise: on
+  // 20 reads the interval is judged on it, on 13 reads (fewer than two spike-screen
+  // neighbourhoods, where a curve would inflate it) on the blanks' noise.
+  constexpr double s = 0.002;
+  vzero::RateOptions opt;
+  opt.detect_disturbed = false;
+  opt.detect_lag = false;
+  const auto trace = [&](int n) {
+    Trace tr = disturbed_line(n, 10, 0.001, 0, 0);
+    for (int i = 0; i < n; ++i) tr.y[static_cast<std::size_t>(i)] += i % 2 ? -s : s;
+    return tr;
+  };
+  const Trace long_trace = trace(20), short_trace = trace(13);
+  const vzero::detail::Usable u20 = vzero::detail::usable_reads(long_trace.view(s / 10), opt);
+  const vzero::detail::Usable u13 = vzero::detail::usable_reads(short_trace.view(s / 10), opt);
+  REQUIRE(u20.local_sd > s / 2);
+  REQUIRE(u13.local_sd > s / 2);
+  CHECK(vzero::detail::interval_noise(u20, s / 10) == u20.local_sd);
+  CHECK(vzero::detail::interval_noise(u13, s / 10) == s / 10);
+  CHECK(vzero::detail::interval_noise(u20, 10 * s) == 10 * s);  // the blanks' noise when larger
+  CHECK(std::isnan(vzero::detail::interval_noise(u20, NAN)));   // no blanks: no floor of either kind
+  // The rate's interval on 20 reads: each side at least 1.96·local_sd/√Σ(t − t̄)² over the reads used.
+  const auto r = vzero::find_rate(long_trace.view(s / 10), opt);
+  std::vector<double> used_t;
+  for (std::size_t i = 0; i < long_trace.t.size(); ++i)
+    if (r.used[i]) used_t.push_back(long_trace.t[i]);
+  double mt = 0, stt = 0;
+  for (double t : used_t) mt += t / static_cast<double>(used_t.size());
+  for (double t : used_t) stt += (t - mt) * (t - mt);
+  const double floor = 1.959963984540054 * u20.local_sd / std::sqrt(stt);
+  CHECK(r.slope - r.ci_low >= floor * (1 - 1e-12));
+  CHECK(r.ci_high - r.slope >= floor * (1 - 1e-12));
 }

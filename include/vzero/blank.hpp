@@ -52,7 +52,10 @@ struct BlankOptions {
 struct WellBlank {
   std::string blank_wells;         // wells averaged for this well (well_set_text: "D1;D2", "A45:AF48"), "" when none
   double blank_rate = NAN;         // slope of the blank trace, signal units per second (OLS, all reads)
-  double blank_noise_sd = NAN;     // residual SD of the blank wells about their lines, signal units
+  double blank_noise_sd = NAN;     // read noise the well keeps after subtraction, signal units: for a blank
+                                   // well its own scatter about its line; for the others the blanks' scatter
+                                   // once their shared bend is off, plus what the subtracted mean carries
+                                   // (rate mode: their scatter about their straight lines)
   double blank_rate_sd = NAN;      // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
                                    // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank

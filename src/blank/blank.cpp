@@ -167,7 +167,7 @@ struct SharedBlank {
   Eigen::VectorXd mean;
   std::vector<ReadStatus> st;
   std::string names;       // well_set_text of the blanks
-  double noise_sd = NAN;   // pooled residual SD of the blanks
+  double noise_sd = NAN;   // read noise a sample keeps after subtraction (shared_blank)
   bool noisy = false;      // one of them is blank-noisy
   bool line = false;       // every one had a disturbed start: their disturbed reads are replaced
   bool spike = false;      // one of them had a read replaced as a spike
@@ -185,15 +185,26 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   ids.reserve(use.size());
   for (int b : use) ids.push_back(f.well(c.wells[static_cast<std::size_t>(b)]));
   sb.names = well_set_text(std::move(ids));
+  // The read noise a sample keeps after subtraction. Subtracting the blanks' reads takes the
+  // plate's shared bend off the sample too, so what is left is read noise about a line: the
+  // blanks' scatter once their bend is off (their scatter about a straight line counts the
+  // bend as noise — on a plate that warms, several times the read noise), pooled, plus what
+  // the subtracted mean carries: the read noise of each blank kept as read, over the number
+  // of blanks (a smoothed blank carries none). Subtracting only the blanks' rate leaves the
+  // bend in the sample, and their scatter about a straight line stands.
+  double carried = 0;
   for (int b : use) {
     const LineFit& l = bw.line(b);
-    if (!std::isnan(l.resid_sd)) {
-      var += l.resid_sd * l.resid_sd;
+    const std::size_t k = bw.slot[static_cast<std::size_t>(b)];
+    const double sd = o.mode == BlankMode::rate ? l.resid_sd : bw.screen.flat_sd[k];
+    if (!std::isnan(sd)) {
+      var += sd * sd;
       ++nsd;
+      if (o.mode != BlankMode::rate && !bw.screen.smoothed[k]) carried += sd * sd;
     }
     if (!std::isnan(bw.median_sd) && l.resid_sd > o.noisy_factor * bw.median_sd) sb.noisy = true;
   }
-  if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd);
+  if (nsd > 0) sb.noise_sd = std::sqrt(var / nsd + carried / (static_cast<double>(nsd) * nsd));
   sb.mean = Eigen::VectorXd::Constant(reads, NAN);
   sb.st.assign(static_cast<std::size_t>(reads), ReadStatus::excluded);
   std::vector<Eigen::Index> slots;  // each blank's column in screen.reads

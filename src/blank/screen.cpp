@@ -204,6 +204,7 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, boo
   s.spikes.assign(m, 0);
   s.smoothed.assign(m, 0);
   s.line.resize(m);
+  s.flat_sd.assign(m, NAN);
   s.reads = Eigen::MatrixXd::Constant(static_cast<Eigen::Index>(reads), static_cast<Eigen::Index>(m), NAN);
   // Step 1: each blank's usable reads (NaN elsewhere).
   std::vector<std::vector<double>> y(m, std::vector<double>(reads, NAN));
@@ -243,6 +244,7 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, boo
       from = 0;
     }
     s.line[k] = line_from(c.time_s, y[k], from);
+    s.flat_sd[k] = line_from(c.time_s, z[k], from).resid_sd;
     for (std::size_t i = 0; i < reads; ++i) {
       const auto ii = static_cast<Eigen::Index>(i);
       s.reads(ii, static_cast<Eigen::Index>(k)) =

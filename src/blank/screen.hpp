@@ -40,6 +40,7 @@ struct BlankScreen {
   std::vector<int> spikes;    // per blank: single reads replaced as spikes
   std::vector<int> smoothed;  // per blank: 1 when step 6 replaced its reads (0: as read, or it bends on its own)
   std::vector<LineFit> line;  // per blank: least-squares line of its ok reads after a disturbed start
+  std::vector<double> flat_sd;  // per blank: residual SD about its line once its shared bend is off (step 3)
   Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok
   Eigen::MatrixXd bend;       // reads × blanks: each blank's shared bend (0 with fewer than 3 others)
   double noise_sd = NAN;      // pooled read noise of the blanks, shared bend taken off

@@ -70,6 +70,12 @@ Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip) {
 
 double noise_estimate(const Usable& u, double noise_sd) { return std::isfinite(noise_sd) ? noise_sd : u.local_sd; }
 
+double interval_noise(const Usable& u, double noise_sd) {
+  if (!std::isfinite(noise_sd) || static_cast<int>(u.t.size()) < 2 * k_neighbourhood || !(u.local_sd > noise_sd))
+    return noise_sd;
+  return u.local_sd;
+}
+
 TangentFit fit_tangent(const Usable& u, const WindowChoice& w, const std::vector<int>& kept, const RateOptions& opt,
                        double sd_floor, double t_ref) {
   TangentFit f;

@@ -36,8 +36,18 @@ void screen_spikes(Usable& u, double k, double floor);
 // above `signal_ceiling`. NaN when there is none.
 double detector_plateau(const TraceView& tr, const RateOptions& opt);
 
+// Reads in the spike screen's neighbourhood of a read (the read and its six neighbours).
+inline constexpr int k_neighbourhood = 7;
+
 // The noise SD reported: the caller's noise_sd if given, else the spike screen's estimate.
 double noise_estimate(const Usable& u, double noise_sd);
+// The read noise a rate's interval is floored at and its `noise` test is judged on: the
+// blanks' (`noise_sd`, their scatter once the plate's shared bend is off) or, on a trace of
+// 2·k_neighbourhood reads or more, the well's own robust scatter from the spike screen when
+// that is larger — noise that grows with the signal, or that the subtraction adds, is the
+// well's own. On shorter traces a curve inflates that scatter, and the blanks' noise stands.
+// NaN when the caller gives no noise_sd.
+double interval_noise(const Usable& u, double noise_sd);
 // A floor for residual SDs when the caller gives no noise_sd: 1e-9 of the signal range, so
 // that noise-free (synthetic) traces do not make rounding errors look significant.
 double tiny_floor(const Usable& u);

@@ -328,8 +328,11 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   bool lag_depleted = false;
   const double mid_conversion =
       std::isfinite(limit_per_signal) ? conversion(u, w, line, tr, opt, t_ref, r, lag_depleted) : NAN;
+  // The interval's read noise: the blanks', or the well's own where it is larger.
+  TraceView judged = tr;
+  judged.noise_sd = detail::interval_noise(u, tr.noise_sd);
   if (opt.tangent != TangentMode::never && opt.window != WindowMethod::steepest)
-    take_tangent(u, w, kept, line, opt, sd_floor, t_ref, r);
+    take_tangent(u, w, kept, line, opt, std::isfinite(judged.noise_sd) ? judged.noise_sd : sd_floor, t_ref, r);
   // The initial tangent is the parabola's slope at reaction start: it answers for the
   // substrate the lag used, the straight line does not.
   if (lag_depleted && r.tangent != "parabola") add_flag(r, "depleted");
@@ -355,7 +358,7 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
       add_flag(r, "lag-possible");
     }
   }
-  if (std::isfinite(r.slope)) judge(tr, opt, kt, saturated, bias_up, r);
+  if (std::isfinite(r.slope)) judge(judged, opt, kt, saturated, bias_up, r);
   return r;
 }
 

@@ -15,9 +15,6 @@ namespace {
 // consecutive candidates: one significant test in a long sequence of tests is expected by
 // chance, three in a row are not.
 constexpr int k_confirm = 3;
-// Reads in the spike screen's neighbourhood of a read (the read and its six neighbours,
-// rate_window.cpp).
-constexpr int k_neighbourhood = 7;
 // Fewest reads on which the curvature test is run (2 residual degrees of freedom).
 constexpr int k_min_test_reads = 5;
 
