@@ -307,6 +307,7 @@ ChannelAnalysis analyse_channel(const Run& run, const Channel& raw_channel, cons
     }
     tv.noise_sd = wb.blank_noise_sd;
     tv.rate_sd = wb.blank_rate_sd;
+    tv.rate_sd_dof = wb.blank_rate_dof;
     row.rate = find_rate(tv, rate_options);
     // Corrections the finder made are notes; the rest withhold trust. Overflow and ceiling
     // reads are notes when the window simply leaves them out; a rate taken from reads at or

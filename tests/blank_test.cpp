@@ -125,9 +125,12 @@ TEST_CASE("well-to-well drift is the blanks' scatter within their own set, not b
   // One set of three: mean 2, Σ(x − x̄)² = 2 on 2 degrees of freedom: SD 1.
   CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}}), 1.0, 1e-12);
   // A set of three and a pair: (2 + (10 − 12)²/2) / (2 + 1) = 4/3.
-  CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}, {10.0, 12.0}}), std::sqrt(4.0 / 3.0), 1e-12);
+  int dof = -1;
+  CHECK_REL(within_set_rate_sd({{1.0, 2.0, 3.0}, {10.0, 12.0}}, &dof), std::sqrt(4.0 / 3.0), 1e-12);
+  CHECK(dof == 3);
   // Too few degrees of freedom (one pair, singletons): unknown, not zero.
-  CHECK(std::isnan(within_set_rate_sd({{1.0, 2.0}, {5.0}})));
+  CHECK(std::isnan(within_set_rate_sd({{1.0, 2.0}, {5.0}}, &dof)));
+  CHECK(dof == 0);
   CHECK(std::isnan(within_set_rate_sd({})));
 }
 

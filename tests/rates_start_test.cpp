@@ -288,6 +288,15 @@ TEST_CASE("the stated 95 % interval carries the read noise and the blanks' rate 
   CHECK(r.slope - r.ci_low == doctest::Approx(side).epsilon(1e-9));
   // side/slope = 9.9 %: precise enough at the default 15 %; twice the rate spread is not.
   CHECK(!has_flag(r, "imprecise"));
+  // A spread estimated on 8 degrees of freedom (the 8 blank pairs of a 96-well plate) takes
+  // Student's t quantile instead: t(0.975, 8) = 2.306 (NIST/SEMATECH e-Handbook of Statistical
+  // Methods, 1.3.6.7.2, table of critical values of the t distribution; to its 3 decimals).
+  v.rate_sd_dof = 8;
+  const auto r8 = vzero::find_rate(v, opt);
+  const double side8 = std::hypot(z * 0.002 / std::sqrt(66500.0), 2.306 * 5e-5);
+  CHECK(r8.ci_high - r8.slope == doctest::Approx(side8).epsilon(2e-4));
+  CHECK(r8.slope - r8.ci_low == doctest::Approx(side8).epsilon(2e-4));
+  v.rate_sd_dof = 0;
   v.rate_sd = 1e-4;
   CHECK(has_flag(vzero::find_rate(v, opt), "imprecise"));
   // Without a noise estimate the interval is the estimator's own (width 0 here).

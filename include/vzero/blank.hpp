@@ -58,6 +58,7 @@ struct WellBlank {
                                    // (rate mode: their scatter about their straight lines)
   double blank_rate_sd = NAN;      // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
                                    // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
+  int blank_rate_dof = 0;          // degrees of freedom of blank_rate_sd (0: none known)
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank
                                    // wells also "blank-disturbed" (its start jumps or decays)
   std::vector<std::string> notes;  // e.g. "blank-line": every blank used here had a disturbed start, so
@@ -109,7 +110,8 @@ struct BlankResult {
 // accuracy harness the pooled SD cut the unflagged artefact wells above 15 % (10/19/17/9 ->
 // 7/17/14/8 on four seed sets) and the clean wells flagged (2.7/1.7/2.2/1.7 -> 2.0/1.1/2.3/1.5 %).
 // A single blank far off its set now widens every interval of the channel: the safe side.
-double within_set_rate_sd(const std::vector<std::vector<double>>& sets);
+// `dof`, when given, receives the degrees of freedom, Σ(n − 1) (0 when too few).
+double within_set_rate_sd(const std::vector<std::vector<double>>& sets, int* dof = nullptr);
 
 BlankResult apply_blank(const Channel& channel, const PlateMap& map, PlateFormat format, const BlankOptions& options);
 

@@ -46,8 +46,10 @@
 //      the remaining reads with `estimator`.
 //   6. The initial tangent (`tangent`) may replace that slope for a curving well (below).
 //   7. The 95 % interval stated (ci_low, ci_high) is widened to what the data support: each
-//      side at least 1.96 × read noise / √Σ(t − t̄)² of the straight line, then 1.96 ×
-//      `rate_sd` added in quadrature; its upper side also carries the bias that the
+//      side at least 1.96 × read noise / √Σ(t − t̄)² of the straight line (the read noise:
+//      `noise_sd`, or the well's own robust scatter where larger on 14 reads or more), then
+//      t × `rate_sd` added in quadrature (t: Student's 97.5 % quantile on `rate_sd_dof`,
+//      1.96 when 0); its upper side also carries the bias that the
 //      substrate used by the window's middle, or a lag too weak to skip (note
 //      `lag-possible`), may give a straight line. `imprecise` when its half-width exceeds
 //      `precision_limit` of the rate.
@@ -187,6 +189,8 @@ struct TraceView {
   double rate_sd = NAN;          // how far apart wells' rates lie that read noise does not explain (the
                                  // blank wells' own rates scatter: well-to-well drift), signal units per
                                  // second; no rate is known better than this. NaN = none known
+  int rate_sd_dof = 0;           // degrees of freedom rate_sd was estimated on: the interval takes Student's
+                                 // t quantile on them for it (0 = known exactly: the normal quantile)
 };
 
 struct RateResult {

@@ -80,7 +80,7 @@ std::vector<int> blanks_for(const Channel& c, const PlateMap& map, PlateFormat f
 
 }  // namespace
 
-double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
+double within_set_rate_sd(const std::vector<std::vector<double>>& sets, int* dof_out) {
   double ss = 0;
   int dof = 0;
   for (const auto& set : sets) {
@@ -90,6 +90,7 @@ double within_set_rate_sd(const std::vector<std::vector<double>>& sets) {
     for (double x : set) ss += (x - mean) * (x - mean);
     dof += static_cast<int>(set.size()) - 1;
   }
+  if (dof_out) *dof_out = dof < 2 ? 0 : dof;
   return dof < 2 ? NAN : std::sqrt(ss / dof);
 }
 
@@ -114,6 +115,7 @@ struct BlankWells {
   bool disturbed(int b) const { return screen.skip[slot[static_cast<std::size_t>(b)]] > 0; }
   double median_sd = NAN;  // median scatter of the blanks (3 or more)
   double rate_sd = NAN;    // within_set_rate_sd of their rates
+  int rate_dof = 0;        // its degrees of freedom
 };
 
 BlankWells judge_blank_wells(const Channel& c, const std::vector<const WellInfo*>& infos, const BlankOptions& o) {
@@ -146,8 +148,8 @@ BlankWells judge_blank_wells(const Channel& c, const std::vector<const WellInfo*
   std::vector<std::vector<double>> sets;
   if (o.strategy == BlankStrategy::matched)
     for (auto& [match, rates] : by_set) sets.push_back(std::move(rates));
-  bw.rate_sd = within_set_rate_sd(sets);
-  if (std::isnan(bw.rate_sd) && every.size() >= 3) bw.rate_sd = within_set_rate_sd({every});
+  bw.rate_sd = within_set_rate_sd(sets, &bw.rate_dof);
+  if (std::isnan(bw.rate_sd) && every.size() >= 3) bw.rate_sd = within_set_rate_sd({every}, &bw.rate_dof);
   if (sds.size() >= 3) {
     std::sort(sds.begin(), sds.end());
     bw.median_sd = sds.size() % 2 ? sds[sds.size() / 2] : 0.5 * (sds[sds.size() / 2 - 1] + sds[sds.size() / 2]);
@@ -362,6 +364,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (sb.spike) wb.notes.emplace_back("blank-spike");
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(set->use.size()));
+    wb.blank_rate_dof = bw.rate_dof;
     wb.blank_rate = sb.rate;
     wb.substrate_mismatch = substrate_mismatch(r.substrate_trend, info, sb.substrate);
     r.substrate_trend.mismatched += std::isfinite(wb.substrate_mismatch) && wb.substrate_mismatch != 0;

@@ -115,7 +115,10 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
 
 // Widens r's 95 % interval to what the data support: each side at least 1.96 × the read
 // noise / √Σ(t − t̄)² of the straight line over the reads `t`, then the blanks' rate spread
-// (1.96 × rate_sd) added in quadrature. The interval's asymmetry is kept.
+// added in quadrature: t × rate_sd, t Student's 97.5 % quantile on the degrees of freedom
+// rate_sd was estimated on (an SD from the 8 blank pairs of a 96-well plate is itself
+// uncertain: with the normal quantile a well whose interval is mostly drift would hold the
+// truth 91 % of the time, not 95 %: common practice). The interval's asymmetry is kept.
 void widen_interval(RateResult& r, const TraceView& tr, const std::vector<double>& t, int n) {
   if (!std::isfinite(r.ci_low) || !std::isfinite(r.ci_high)) return;
   constexpr double z = 1.959963984540054;  // standard normal 97.5 % quantile
@@ -127,7 +130,8 @@ void widen_interval(RateResult& r, const TraceView& tr, const std::vector<double
     for (double x : t) stt += (x - mt) * (x - mt);
     if (stt > 0) floor = z * tr.noise_sd / std::sqrt(stt);
   }
-  const double drift = std::isfinite(tr.rate_sd) ? z * tr.rate_sd : 0.0;
+  const double q = tr.rate_sd_dof > 0 ? detail::student_t_quantile(0.975, tr.rate_sd_dof) : z;
+  const double drift = std::isfinite(tr.rate_sd) ? q * tr.rate_sd : 0.0;
   const double below = std::hypot(std::max(r.slope - r.ci_low, floor), drift);
   const double above = std::hypot(std::max(r.ci_high - r.slope, floor), drift);
   if (below > r.slope - r.ci_low) r.ci_low = r.slope - below;

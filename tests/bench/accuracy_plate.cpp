@@ -223,6 +223,7 @@ void run_plate(const PlateRun& run, Totals& tot) {
     const WellBlank& wb = blanks.result.wells[static_cast<std::size_t>(w)];
     tr.noise_sd = wb.blank_noise_sd;
     tr.rate_sd = wb.blank_rate_sd;
+    tr.rate_sd_dof = wb.blank_rate_dof;
     RateOptions options = run.options;
     if (run.give_reaction_start) options.time_zero_s = p.time_s.front() - p.dead_time_s;
     const RateResult r = find_rate(tr, options);
