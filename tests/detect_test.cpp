@@ -1,9 +1,16 @@
 // Profile detection when no built-in profile reads a file: the message names the nearest
 // profile, the line (and column) where it stops, what it expected and found, and a fix.
 // Inputs are the malformed-input suite's (tests/bad-inputs/), read in place; the whole
-// message is asserted.
+// message is asserted. Then the shortcut for the files of a batch (the profile chosen last
+// tried first): the same choice, reason and errors as detection from scratch.
+#include <algorithm>
+#include <filesystem>
 #include <string>
+#include <thread>
+#include <vector>
 
+#include "ingest/reader_common.hpp"
+#include "ingest/value_bound.hpp"
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
@@ -138,5 +145,125 @@ TEST_CASE("near misses do not disturb a file another profile reads, nor a plate 
     FAIL("expected an InputError");
   } catch (const vzero::InputError& e) {
     CHECK(e.message().rfind("no built-in profile reads this file; what each found:", 0) == 0);
+  }
+}
+
+namespace {
+
+// Every export of the demo, the fixtures and the malformed-input suite (and the plate maps
+// and odd files among them, which no profile reads), in name order.
+std::vector<std::string> detection_inputs() {
+  std::vector<std::string> out;
+  for (const char* dir : {"demo-data", "tests/data", "tests/bad-inputs"}) {
+    for (const auto& e : std::filesystem::directory_iterator(source(dir))) {
+      const std::string ext = e.path().extension().string();
+      if (ext == ".csv" || ext == ".txt" || ext == ".tsv" || ext == ".bin") out.push_back(e.path().string());
+    }
+  }
+  std::sort(out.begin(), out.end());
+  return out;
+}
+
+// What detection gives for a file: the profile, whether detected and why, or the error.
+std::string detection_of(const std::string& path) {
+  try {
+    const auto c = vzero::choose_profile(path, "");
+    return c.profile.name + " | " + (c.detected ? "detected" : "given") + " | " + c.reason;
+  } catch (const vzero::InputError& e) {
+    return "error: " + e.formatted();
+  }
+}
+
+// Detection on a thread of its own, after `before` (the file the thread chose for last; ""
+// for none: detection from scratch).
+std::string detection_after(const std::string& before, const std::string& path) {
+  std::string out;
+  std::thread t([&] {
+    if (!before.empty()) detection_of(before);
+    out = detection_of(path);
+  });
+  t.join();
+  return out;
+}
+
+long long ok_values(const vzero::Run& run) {
+  long long n = 0;
+  for (const auto& c : run.channels) n += (c.status.array() == vzero::ReadStatus::ok).count();
+  return n;
+}
+
+}  // namespace
+
+TEST_CASE("a profile reads no more values than its bound, on every export and malformed input") {
+  for (const auto& path : detection_inputs()) {
+    const std::string text = slurp(path);
+    for (const auto& name : vzero::builtin_profile_names()) {
+      CAPTURE(path);
+      CAPTURE(name);
+      const vzero::Profile p = *vzero::builtin_profile(name);
+      long long n = 0;
+      try {
+        n = ok_values(vzero::read_run_text(path, text, p));
+      } catch (const vzero::InputError&) {
+      }
+      CHECK(n <= vzero::detail::value_bound(vzero::detail::CompiledProfile(p), text));
+    }
+  }
+  // Each bound on a small wide export worked out by hand: 3 lines; 2 commas and 4 more per
+  // data row; no read label; no semicolon.
+  const std::string wide = "Time [s],A1,A2\n0,0.1,0.2\n30,0.2,0.3\n";
+  const auto bound = [&](const char* name) {
+    const vzero::Profile p = *vzero::builtin_profile(name);
+    return vzero::detail::value_bound(vzero::detail::CompiledProfile(p), wide);
+  };
+  CHECK(bound("long-generic") == 3);
+  CHECK(bound("wide-generic") == 3 + 6);
+  CHECK(bound("wide-semicolon-comma") == 3);
+  CHECK(bound("grid-generic") == 0);
+  CHECK(bound("grid-labels") == 0);
+  CHECK(vzero::detail::value_bound(vzero::detail::CompiledProfile(*vzero::builtin_profile("grid-generic")),
+                                   "Read 1 at 0:00:00\n") == vzero::detail::k_no_value_bound);
+}
+
+TEST_CASE("detection after another file gives what detection from scratch gives") {
+  // The shortcut tries the profile chosen for the thread's last file first; whatever that
+  // was (a file of each built-in profile, or one no profile reads), the next file's profile,
+  // reason and error are those of detection from scratch.
+  const auto inputs = detection_inputs();
+  std::vector<std::string> last;  // the first file each profile detects, and the first none reads
+  std::vector<std::string> seen;  // their profiles ("error" for none)
+  for (const auto& path : inputs) {
+    const std::string d = detection_after("", path);
+    const std::string key = d.rfind("error: ", 0) == 0 ? "error" : d.substr(0, d.find(" | "));
+    if (std::find(seen.begin(), seen.end(), key) != seen.end()) continue;
+    seen.push_back(key);
+    last.push_back(path);
+  }
+  CHECK(std::count(seen.begin(), seen.end(), "wide-generic") == 1);
+  CHECK(std::count(seen.begin(), seen.end(), "grid-generic") == 1);
+  CHECK(std::count(seen.begin(), seen.end(), "long-generic") == 1);
+  CHECK(std::count(seen.begin(), seen.end(), "wide-semicolon-comma") == 1);
+  CHECK(std::count(seen.begin(), seen.end(), "error") == 1);
+  for (const auto& path : inputs) {
+    const std::string fresh = detection_after("", path);
+    for (const auto& before : last) {
+      CAPTURE(before);
+      CAPTURE(path);
+      CHECK(detection_after(before, path) == fresh);
+    }
+  }
+}
+
+TEST_CASE("a wide export's later files are shown to keep the profile without trying the others") {
+  // The demo's wide export: wide-generic reads 96 wells × 61 reads in it, 39 of them "OVER"
+  // (as `vzero inspect` says); every other built-in profile's bound is below that, so the
+  // shortcut holds there.
+  const std::string text = slurp(source("demo-data/hydrolase_wide.csv"));
+  const long long n = ok_values(vzero::read_run_text("w", text, *vzero::builtin_profile("wide-generic")));
+  CHECK(n == 96 * 61 - 39);
+  for (const auto& name : vzero::builtin_profile_names()) {
+    if (name == "wide-generic") continue;
+    CAPTURE(name);
+    CHECK(vzero::detail::value_bound(vzero::detail::CompiledProfile(*vzero::builtin_profile(name)), text) < n);
   }
 }

@@ -1,7 +1,7 @@
 // Tests of what the rate finder's fits reuse from one well to the next on the same thread
 // (src/core/start_screen.cpp: the designs of the first reads' times; src/rates/lag_model.cpp:
 // the lag curve's stretched clocks; src/rates/spike_screen.cpp: the spike screen's residual
-// scales). Each fit is run after others that filled those stores
+// scales; src/rates/rate_window.cpp: the usable reads). Each fit is run after others that filled those stores
 // and again alone in a fresh thread (empty stores): the results must be the same bit for bit
 // (the determinism rule), and must match the closed forms the traces are built from.
 #include <cmath>
@@ -135,4 +135,51 @@ TEST_CASE("the spike screen gives the same numbers whatever read times the threa
     expected[12] = 1;
     CHECK(seq.spike == expected);
   }
+}
+
+TEST_CASE("usable reads filled into a Usable used before equal those of a new one") {
+  // The rate finder keeps one Usable per thread. A long trace that overflows at its end
+  // (truncated_by "overflow", a spike, a robust SD) is screened into it first; then short
+  // traces whose spike screen sets no SD (fewer than 7 reads) and whose end is clean: every
+  // field must be what a new Usable gets, worked out by hand for the short trace.
+  std::vector<double> t, y;
+  for (int i = 0; i < 30; ++i) {
+    t.push_back(10.0 * i);
+    y.push_back(0.1 + 0.001 * t.back());
+  }
+  y[12] += 0.5;
+  std::vector<vzero::ReadStatus> st(30, vzero::ReadStatus::ok);
+  st[29] = vzero::ReadStatus::overflow;
+  vzero::TraceView long_tr;
+  long_tr.time_s = t.data();
+  long_tr.y = y.data();
+  long_tr.status = st.data();
+  long_tr.n = 30;
+  long_tr.noise_sd = 0.001;
+  const vzero::RateOptions opt;
+  vzero::detail::Usable u;
+  vzero::detail::usable_reads_into(long_tr, opt, NAN, u);
+  REQUIRE(u.truncated_by == "overflow");
+  REQUIRE(u.any_overflow);
+  REQUIRE(std::isfinite(u.local_sd));
+  REQUIRE(u.t.size() == 29);
+  const std::vector<double> ts{0, 10, 20, 30, 40}, ys{0.1, 0.2, 0.3, 0.4, 0.5};
+  vzero::TraceView short_tr;
+  short_tr.time_s = ts.data();
+  short_tr.y = ys.data();
+  short_tr.n = 5;
+  vzero::detail::usable_reads_into(short_tr, opt, NAN, u);
+  const vzero::detail::Usable fresh = vzero::detail::usable_reads(short_tr, opt);
+  CHECK(u.idx == std::vector<int>{0, 1, 2, 3, 4});
+  CHECK(u.t == ts);
+  CHECK(u.y == ys);
+  CHECK(u.spike == std::vector<char>(5, 0));
+  CHECK(std::isnan(u.local_sd));
+  CHECK(!u.any_overflow);
+  CHECK(!u.any_ceiling);
+  CHECK(!u.any_saturated);
+  CHECK(u.truncated_by.empty());
+  CHECK(u.idx == fresh.idx);
+  CHECK(u.spike == fresh.spike);
+  CHECK(std::isnan(fresh.local_sd));
 }

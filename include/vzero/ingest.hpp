@@ -44,6 +44,10 @@ struct ProfileChoice {
 // size: the first 400 lines, no more than 64 KiB of them besides the longest, read from the
 // first MiB (further only when its lines run past it; a line is at most 16 MiB).
 // A workbook's sheet (`sheet`, as for read_run) is rendered as text and detected the same way.
+// The files of a batch are mostly of one family: a thread tries the built-in profile it chose
+// last first, and keeps it without running the other built-in profiles only when their
+// bounds (src/ingest/value_bound.hpp) show that they read fewer values; the choice, its
+// reason and any error are always those of trying every profile.
 ProfileChoice choose_profile(const std::string& path, const std::string& requested, const std::string& sheet = "");
 
 }  // namespace vzero

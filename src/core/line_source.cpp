@@ -262,6 +262,11 @@ LineSource::LineSource(const std::string& path, long long max_bytes) : LineSourc
   impl_->left = std::max(0LL, max_bytes);
 }
 
+LineSource::LineSource(const std::string& path, long long max_bytes, NoHash) : LineSource(path) {
+  if (max_bytes >= 0) impl_->left = max_bytes;
+  impl_->hashing = false;
+}
+
 bool LineSource::cut() const { return impl_->cut; }
 
 LineSource::LineSource(std::string name, std::string_view bytes, NoHash) : LineSource(std::move(name), bytes) {

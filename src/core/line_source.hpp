@@ -22,6 +22,9 @@ class LineSource {
   // The same without hashing (a quick look at bytes already read; sha256() is then empty).
   struct NoHash {};
   LineSource(std::string name, std::string_view bytes, NoHash);
+  // A file's first `max_bytes` bytes (or, with a negative `max_bytes`, the whole file) without
+  // hashing: profile detection's look at the start of a file, whose hash nothing uses.
+  LineSource(const std::string& path, long long max_bytes, NoHash);
   ~LineSource();
   LineSource(const LineSource&) = delete;
   LineSource& operator=(const LineSource&) = delete;

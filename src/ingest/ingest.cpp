@@ -5,6 +5,7 @@
 #include <optional>
 
 #include "ingest/reader_common.hpp"
+#include "ingest/value_bound.hpp"
 #include "ingest/xlsx.hpp"
 #include "vzero/error.hpp"
 
@@ -208,6 +209,35 @@ void try_profile(Trial& t, const Profile& p, const std::string& lines, ProfileCh
   }
 }
 
+// The built-in profile detection chose last on this thread (an index into builtin_profiles()),
+// −1 for none: the files of a batch are mostly of one family.
+thread_local int t_last_builtin = -1;
+
+// Detection's shortcut, when the user's profiles read nothing: the built-in profile chosen
+// last on this thread is tried first, and if it reads n > 0 values and every other built-in
+// profile can be shown (value_bound) to read fewer than n if tried before it, or at most n if
+// tried after it, the full loop would choose it too (the most values wins, ties the first
+// tried), with the same reason. Sets `choice` and `trial.best` then; false leaves both as they
+// were, for the full loop (whose messages, when nothing reads the file, need every profile).
+bool last_choice_holds(Trial& trial, const std::string& lines, ProfileChoice& choice) {
+  const int last = t_last_builtin;
+  const auto& all = builtin_profiles();
+  if (last < 0 || static_cast<std::size_t>(last) >= all.size()) return false;
+  Trial probe = trial;
+  ProfileChoice found;
+  try_profile(probe, all[static_cast<std::size_t>(last)], lines, found);
+  if (probe.best == 0) return false;
+  for (int i = 0; i < static_cast<int>(all.size()); ++i) {
+    if (i == last) continue;
+    const detail::CompiledProfile cp(all[static_cast<std::size_t>(i)]);
+    const long long bound = detail::value_bound(cp, trial.head);
+    if (i < last ? bound >= probe.best : bound > probe.best) return false;
+  }
+  choice = std::move(found);
+  trial.best = probe.best;
+  return true;
+}
+
 // choose_profile for a text export, or for a workbook's sheet rendered as text (`book`).
 ProfileChoice choose_in(const std::string& path, const std::string& requested, const detail::SheetText* book) {
   ProfileChoice choice;
@@ -258,9 +288,9 @@ ProfileChoice choose_in(const std::string& path, const std::string& requested, c
   } else {
     // The first MiB is read, not the whole file as a full LineSource does; only when the
     // lines run past it (lines of 100s of KiB) is the file read again without a limit.
-    detail::LineSource src(path, k_sniff_prefix_bytes);
+    detail::LineSource src(path, k_sniff_prefix_bytes, detail::LineSource::NoHash{});
     if (!sniff(src)) {
-      detail::LineSource whole(path);
+      detail::LineSource whole(path, -1, detail::LineSource::NoHash{});
       sniff(whole);
     }
   }
@@ -274,8 +304,13 @@ ProfileChoice choose_in(const std::string& path, const std::string& requested, c
   // The user's profile folders first: one of them that reads the file wins over the built-ins.
   const std::vector<Profile> own = folder_profiles();
   for (const auto& p : own) try_profile(trial, p, lines, choice);
-  if (trial.best == 0) {
-    for (const auto& p : builtin_profiles()) try_profile(trial, p, lines, choice);
+  if (trial.best == 0 && !last_choice_holds(trial, lines, choice)) {
+    const auto& all = builtin_profiles();
+    for (std::size_t i = 0; i < all.size(); ++i) {
+      const long long before = trial.best;
+      try_profile(trial, all[i], lines, choice);
+      if (trial.best > before) t_last_builtin = static_cast<int>(i);  // the one chosen so far
+    }
   }
   if (trial.best == 0) {
     throw no_profile_error(path, head, head_is_file ? "in the file" : fmt::format("in its first {} lines", sniffed),

@@ -355,10 +355,11 @@ PlateMap read_plate_map(const std::string& path, const MapColumnOptions& o) {
 
 void check_plate_map(const PlateMap& map, const Run& run) {
   for (const auto& [w, info] : map.wells) {
-    const Where where{map.source, info.line, info.column, info.line_text};
+    // Made only for an error: two strings copied per well add up over a batch.
+    const auto where = [&, &info = info] { return Where{map.source, info.line, info.column, info.line_text}; };
     if (!run.format.holds(w)) {
       throw InputError(
-          where,
+          where(),
           fmt::format("well {} is not on the {}-well plate (rows A–{}, columns 1–{}) read from {}", well_name(w),
                       run.format.wells(), row_label(run.format.rows - 1), run.format.columns, run.source),
           {"check the well name in the plate map, or set `plate` in the profile"});
@@ -366,7 +367,7 @@ void check_plate_map(const PlateMap& map, const Run& run) {
     bool read = false;
     for (const auto& c : run.channels) read |= c.column_of(run.format.index(w)) >= 0;
     if (!read) {
-      throw InputError(where,
+      throw InputError(where(),
                        fmt::format("well {} is in the plate map but {} has no reads for it", well_name(w), run.source),
                        {"remove the well from the map, or check that the map belongs to this export"});
     }

@@ -1,6 +1,7 @@
 #include "rates/rate_window.hpp"
 
 #include <algorithm>
+#include <utility>
 
 #include "core/stats.hpp"
 #include "rates/robust.hpp"
@@ -39,6 +40,24 @@ double detector_plateau(const TraceView& tr, const RateOptions& opt) {
 
 Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip) {
   Usable u;
+  usable_reads_into(tr, opt, clip, u);
+  return u;
+}
+
+void usable_reads_into(const TraceView& tr, const RateOptions& opt, double clip, Usable& u) {
+  {
+    // Every field as a new Usable has it, the vectors' storage kept.
+    Usable fresh;
+    std::swap(fresh.idx, u.idx);
+    std::swap(fresh.t, u.t);
+    std::swap(fresh.y, u.y);
+    std::swap(fresh.spike, u.spike);
+    u = std::move(fresh);
+    u.idx.clear();
+    u.t.clear();
+    u.y.clear();
+    u.spike.clear();
+  }
   u.idx.reserve(static_cast<std::size_t>(std::max(tr.n, 0)));
   u.t.reserve(u.idx.capacity());
   u.y.reserve(u.idx.capacity());
@@ -65,7 +84,6 @@ Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip) {
   }
   const double floor = std::isfinite(tr.noise_sd) ? tr.noise_sd : tiny_floor(u);
   screen_spikes(u, opt.outlier_k, floor);
-  return u;
 }
 
 double noise_estimate(const Usable& u, double noise_sd) { return std::isfinite(noise_sd) ? noise_sd : u.local_sd; }

@@ -25,6 +25,9 @@ struct Usable {
 // `clip` (NaN = none): the detector's plateau level; reads at or above it are treated like
 // ceiling reads (the window stops before them), named "saturated".
 Usable usable_reads(const TraceView& tr, const RateOptions& opt, double clip = NAN);
+// The same into `u`, whose vectors keep their storage (the rate finder keeps one per thread);
+// every field is set as usable_reads sets it.
+void usable_reads_into(const TraceView& tr, const RateOptions& opt, double clip, Usable& u);
 
 // The spike screen (src/rates/spike_screen.cpp): u.spike[i] = 1 for a read more than `k`
 // robust SDs off the Theil–Sen line through its six nearest other reads, and u.local_sd

@@ -71,8 +71,13 @@ struct Kept {
 // Outlier rule: residuals from the Theil–Sen line of the window's reads that passed the spike
 // screen; a read is out when |r| > k·max(1.4826·MAD of those reads' residuals, noise floor).
 // Never leaves fewer than 3 reads.
-Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor, bool with_interval) {
-  Kept kept;
+// `kept` is filled anew (its storage reused).
+void apply_outlier_rule(const detail::Usable& u, int first, int last, double k, double sd_floor, bool with_interval,
+                        Kept& kept) {
+  kept.pos.clear();
+  kept.outliers = 0;
+  kept.line = LineFit{};
+  kept.line_on_kept = false;
   thread_local std::vector<double> ct, cy, a;  // scratch reused by each thread
   thread_local std::vector<int> cpos;
   ct.clear();
@@ -110,7 +115,6 @@ Kept apply_outlier_rule(const detail::Usable& u, int first, int last, double k, 
     kept.outliers = 0;
   }
   kept.line_on_kept = with_interval && kept.pos == cpos;
-  return kept;
 }
 
 // Widens r's 95 % interval to what the data support: each side at least 1.96 × the read
@@ -147,14 +151,14 @@ namespace {
 // says it is not to be trusted. False (flag too-few-reads) when fewer than two are left.
 bool take_usable(const TraceView& tr, const RateOptions& opt, RateResult& r, detail::Usable& u, bool& saturated) {
   const double clip = detail::detector_plateau(tr, opt);
-  u = detail::usable_reads(tr, opt, clip);
+  detail::usable_reads_into(tr, opt, clip, u);
   saturated = false;
   if (u.t.size() < 2 && (u.any_ceiling || u.any_saturated)) {
     const bool ceiling = u.any_ceiling;
     saturated = u.any_saturated;
     RateOptions no_ceiling = opt;
     no_ceiling.signal_ceiling = NAN;
-    u = detail::usable_reads(tr, no_ceiling);
+    detail::usable_reads_into(tr, no_ceiling, NAN, u);
     u.any_ceiling = ceiling;
   }
   if (u.any_overflow) add_flag(r, "overflow");
@@ -186,7 +190,7 @@ void record_window(const detail::WindowChoice& w, const detail::StartScreen& sta
 LineFit fit_window(const detail::Usable& u, const detail::WindowChoice& w, const RateOptions& opt, double sd_floor,
                    RateResult& r, Kept& kept, std::vector<double>& kt) {
   const bool theil_sen = opt.estimator == Estimator::theil_sen;
-  kept = apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen);
+  apply_outlier_rule(u, w.first, w.last, opt.outlier_k, sd_floor, theil_sen, kept);
   thread_local std::vector<double> ky;  // scratch reused by each thread
   ky.clear();
   kt.reserve(kept.pos.size());
@@ -309,7 +313,12 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   r.lag_s = 0;
   r.used.assign(static_cast<std::size_t>(std::max(tr.n, 0)), 0);
   const double t_ref = std::isnan(opt.time_zero_s) ? (tr.n > 0 ? tr.time_s[0] : 0.0) : opt.time_zero_s;
-  detail::Usable u;
+  // Per-thread working storage (find_rate runs once per well): the usable reads, the reads
+  // the outlier rule keeps and their times, each filled anew below.
+  thread_local detail::Usable u;
+  thread_local Kept kept;
+  thread_local std::vector<double> kt;
+  kt.clear();
   bool saturated = false;
   if (!take_usable(tr, opt, r, u, saturated)) return r;
   r.noise_sd = detail::noise_estimate(u, tr.noise_sd);
@@ -326,8 +335,6 @@ RateResult find_rate(const TraceView& tr, const RateOptions& opt) {
   const detail::WindowChoice w =
       detail::choose_window(u, opt, sd_floor, limit_per_signal, t_ref, start.skip, tr.noise_sd);
   record_window(w, start, u, r);
-  Kept kept;
-  std::vector<double> kt;
   const LineFit line = fit_window(u, w, opt, sd_floor, r, kept, kt);
   bool lag_depleted = false;
   const double mid_conversion =

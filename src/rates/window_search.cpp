@@ -241,7 +241,8 @@ Growth grow_window(const Search& q, int s, int s0, int lag_max, const std::strin
   struct Count {
     int fails = 0, sign = 0, first_fail = -1;
   };
-  std::vector<Count> count(rules.size());
+  thread_local std::vector<Count> count;  // once per well: the storage kept per thread
+  count.assign(rules.size(), Count{});
   Growth g;
   int e = q.r.min_end(s);
   while (true) {
