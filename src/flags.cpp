@@ -40,8 +40,8 @@ constexpr std::array<MarkInfo, 28> k_marks{{
      "the window after a lag sits where more than half that limit is converted at its middle (no tangent): v0 at "
      "the starting substrate is underestimated"},
     {"noise", flag, "sample",
-     "the rate cannot be told from noise: its 95 % interval holds 0, or it is below 3 × the slope SD that the blank's "
-     "read noise alone would give"},
+     "the rate cannot be told from noise: its 95 % interval holds 0, or it is below 3 × the slope SD that the read "
+     "noise alone would give"},
     {"negative", flag, "sample", "the rate is below zero (in the reaction direction)"},
     {"rising", flag, "sample",
      "the rate still rises across the chosen window, a later stretch climbs faster, or the window starts inside a "
