@@ -56,8 +56,9 @@ struct WellBlank {
                                    // well its own scatter about its line; for the others the blanks' scatter
                                    // once their shared bend is off, plus what the subtracted mean carries
                                    // (rate mode: their scatter about their straight lines)
-  double blank_rate_sd = NAN;      // how far the channel's blank wells' own rates scatter (robust SD, 3 or more
-                                   // blanks), times √(1 + 1/blanks used): the well-to-well drift no rate beats
+  double blank_rate_sd = NAN;      // how far the channel's blank wells' own rates scatter (within_set_rate_sd:
+                                   // the pooled SD within their sets), times √(1 + 1/blanks used): the
+                                   // well-to-well drift no rate beats
   int blank_rate_dof = 0;          // degrees of freedom of blank_rate_sd (0: none known)
   std::vector<std::string> flags;  // "blank-missing" (no blank to subtract), "blank-noisy"; on blank
                                    // wells also "blank-disturbed" (its start jumps or decays)
