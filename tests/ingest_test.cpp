@@ -1,5 +1,8 @@
 // The three shape readers and the profile options, on the demo plate and small inputs.
+#include <algorithm>
 #include <cmath>
+#include <fstream>
+#include <iterator>
 #include <limits>
 
 #include "test_support.hpp"
@@ -80,6 +83,18 @@ TEST_CASE("the demo plate reads identically in every shape") {
   check_same(w, g);
   check_same(w, l);
   check_same(w, s);
+  {
+    // The same export from a decimal-comma spreadsheet's tab-separated text: every ';' a tab.
+    vzero::test::TempDir dir;
+    std::ifstream in(source("demo-data/hydrolase_wide_semicolon.csv"), std::ios::binary);
+    std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+    std::replace(text.begin(), text.end(), ';', '\t');
+    const std::string path = dir / "tabs.txt";
+    std::ofstream(path, std::ios::binary) << text;
+    const ProfileChoice c = choose_profile(path, "");
+    CHECK(c.profile.name == "wide-tab-comma");
+    check_same(w, read_run(path, c.profile));
+  }
   CHECK(w.metadata == g.metadata);
   CHECK(w.metadata.size() == 3);
   CHECK(w.metadata[0] == std::pair<std::string, std::string>{"Operator", "demo"});
@@ -103,6 +118,19 @@ TEST_CASE("profile options: delimiter, decimal mark, time units, tokens, tempera
     CHECK(c.status(0, bb) == ReadStatus::overflow);
     CHECK(c.status(1, a1) == ReadStatus::missing);
     CHECK(c.values(1, bb) == 1.5);
+  }
+  SUBCASE("a degree sign after T marks the temperature column, with or without a wavelength") {
+    // Common practice in exports: "T°", "T° 405" (the temperature logged with the 405 nm
+    // channel), "T°C"; a T with no degree sign, or a degree sign before other text, is not one.
+    for (const char* h : {"T\xc2\xb0", "T\xc2\xb0 405", "t\xc2\xb0 340 nm", "T \xc2\xb0" "C", "T\xc2\xba"}) {
+      Run r = wide(std::string("Time [s]\t") + h + "\tA1\n0\t37.0\t0.1\n30\t37.1\t0.2\n");
+      CAPTURE(h);
+      CHECK(r.channels[0].temperature_c == std::vector<double>{37.0, 37.1});
+    }
+    for (const char* h : {"T 405", "T\xc2\xb0 40", "T\xc2\xb0 405 AU", "Tx\xc2\xb0"}) {
+      CAPTURE(h);
+      CHECK_THROWS_AS(wide(std::string("Time [s]\t") + h + "\tA1\n0\t37.0\t0.1\n30\t37.1\t0.2\n"), InputError);
+    }
   }
   SUBCASE("clock times h:mm:ss and mm:ss") {
     Run r = wide("Time,A1\n0:00:00,1\n0:00:30,2\n1:00:30.5,3\n");

@@ -41,8 +41,31 @@ bool celsius(std::string_view unit) {
 }
 }  // namespace
 
+namespace {
+// "T°", "T°C", "T° 405", "T° 405 nm": the degree sign after a T marks a temperature; a
+// wavelength after it names the channel the temperature was logged with.
+bool degree_t(std::string_view h) {
+  if (h.size() < 2 || (h[0] != 'T' && h[0] != 't')) return false;
+  std::string_view rest = trim(h.substr(1));
+  bool degree = false;
+  for (const char* deg : {"\xc2\xb0", "\xc2\xba"})
+    if (rest.rfind(deg, 0) == 0) {
+      rest = trim(rest.substr(2));
+      degree = true;
+    }
+  if (!degree) return false;
+  if (rest.empty() || iequals(rest, "c")) return true;
+  std::size_t digits = 0;
+  while (digits < rest.size() && rest[digits] >= '0' && rest[digits] <= '9') ++digits;
+  if (digits < 3 || digits > 4) return false;
+  const std::string_view unit = trim(rest.substr(digits));
+  return unit.empty() || iequals(unit, "nm");
+}
+}  // namespace
+
 bool temperature_header(std::string_view header, const std::vector<std::string>& names) {
   const std::string_view h = trim(header);
+  if (degree_t(h)) return true;
   const auto named = [&](std::string_view stem, bool with_unit) {
     for (const auto& n : names)
       if (iequals(stem, n)) return true;

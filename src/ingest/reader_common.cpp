@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <map>
 #include <mutex>
@@ -266,10 +267,23 @@ void bad_value_error(const Profile& p, const std::string& file, int line, int co
   } else if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
     fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
   } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
-    std::string builtin = p.shape == Shape::long_form ? "long-semicolon-comma" : "wide-semicolon-comma";
+    // The built-in profile for this line's delimiter: tabs, else semicolons.
+    const bool tabs = line_text.find('\t') != std::string_view::npos;
+    const std::string builtin = std::string(p.shape == Shape::long_form ? "long-" : "wide-") +
+                                (tabs ? "tab-comma" : "semicolon-comma");
+    // A number written with '.' elsewhere on the line: more likely one mistyped cell than a
+    // decimal-comma file.
+    bool dots = false;
+    for (std::size_t i = 1; i + 1 < line_text.size(); ++i)
+      dots |= line_text[i] == '.' && std::isdigit(static_cast<unsigned char>(line_text[i - 1])) &&
+              std::isdigit(static_cast<unsigned char>(line_text[i + 1]));
+    if (dots)
+      fixes.push_back(fmt::format(
+          "other numbers on this line use '.': if \"{}\" is a slip, correct the cell or re-export the file", t));
     fixes.push_back(p.shape == Shape::grid
                         ? std::string("set decimal = \",\" (and delimiter = \";\" or \"tab\") in the profile")
-                        : "set decimal = \",\" (and delimiter = \";\") in the profile, or pass --profile " + builtin);
+                        : fmt::format("set decimal = \",\" (and delimiter = \"{}\") in the profile, or pass --profile {}",
+                                      tabs ? "tab" : ";", builtin));
   } else if (p.decimal == ',' && t.find('.') != std::string_view::npos) {
     fixes.push_back(
         "if only some cells use '.', the file mixes decimal marks: correct them or re-export the file; "
