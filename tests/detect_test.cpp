@@ -126,10 +126,10 @@ TEST_CASE("a long header without a value column is blamed on that header, at the
   CHECK(detection_message("fail_no_value_column_long.csv") ==
         "fail_no_value_column_long.csv:2:11: no built-in profile reads this file; the nearest, long-generic, stops here: "
         "expected a value column (\"value\", \"signal\", \"reading\") in this "
-        "header, found \"absorbance\"\n"
-        "  line 2: well,time,absorbance\n"
+        "header, found \"intensity\"\n"
+        "  line 2: well,time,intensity\n"
         "  possible fixes:\n"
-        "    - if \"absorbance\" holds the values, name it \"value\" in the header, or add it to `columns.value` in a "
+        "    - if \"intensity\" holds the values, name it \"value\" in the header, or add it to `columns.value` in a "
         "profile of your own (instrument-profiles/README.md)\n"
         "    - " + nearest_fix("long-generic"));
 }

@@ -5,6 +5,8 @@
 #include <iterator>
 #include <limits>
 
+#include <fmt/format.h>
+
 #include "test_support.hpp"
 #include "vzero/error.hpp"
 #include "vzero/ingest.hpp"
@@ -169,6 +171,33 @@ TEST_CASE("long shape: rows in any order, channel column, missing combinations")
   CHECK(c.time_s == std::vector<double>{0, 30});
   CHECK(c.status(1, c.column_of(0)) == ReadStatus::missing);  // A1 has no row at 30 s
   CHECK(c.values(1, c.column_of(1)) == 0.8);
+}
+
+TEST_CASE("long shape: a value column headed by the signal's name") {
+  // Long exports often head the values with the signal ("RFU", "OD (600 nm)") rather than
+  // "value": with no value column, the one other column whose header names a signal holds
+  // the values and names the channel (A + wavelength for absorbance, as section labels do).
+  Profile p = load_profile("long-generic");
+  const auto channel = [&](const std::string& header) {
+    Run r = read_run_text("l.csv", "well,time_s," + header + "\nA1,0,1.0\nA1,30,1.5\n", p);
+    REQUIRE(r.channels.size() == 1);
+    CHECK(r.channels[0].values(1, 0) == 1.5);
+    return fmt::format("{} {} {}", r.channels[0].name, to_string(r.channels[0].quantity), r.channels[0].unit);
+  };
+  CHECK(channel("RFU") == "RFU fluorescence RFU");
+  CHECK(channel("Fluorescence (RFU)") == "Fluorescence (RFU) fluorescence RFU");
+  CHECK(channel("RLU") == "RLU luminescence RLU");
+  CHECK(channel("OD (600 nm)") == "A600 absorbance AU");
+  CHECK(channel("A405") == "A405 absorbance AU");
+  CHECK(channel("Abs 340 nm") == "A340 absorbance AU");
+  CHECK(channel("Absorbance") == "Absorbance absorbance AU");
+  // Not a signal's name, two of them, or a unit that contradicts the word: no value column.
+  for (const char* header : {"Intensity", "RFU,RLU", "Fluorescence (AU)", "A12", "OD (mg)"}) {
+    CAPTURE(header);
+    const std::string text = std::string("well,time_s,") + header + "\nA1,0,1.0,1\nA1,30,1.5,1\n";
+    CHECK(message_of([&] { read_run_text("l.csv", text, p); }).find("expected a value column") !=
+          std::string::npos);
+  }
 }
 
 TEST_CASE("reader errors name file:line:column, what was expected and found, and the fix") {

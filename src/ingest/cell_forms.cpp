@@ -1,5 +1,7 @@
 // The written forms of cells every profile reads: times with their units ("0 min 20 s"),
-// temperature headers with a Celsius unit, and the overflow spellings (reader_common.hpp).
+// temperature headers with a Celsius unit, value headers that name a signal, and the
+// overflow spellings (reader_common.hpp).
+#include <algorithm>
 #include <cctype>
 
 #include "ingest/reader_common.hpp"
@@ -81,6 +83,50 @@ bool temperature_header(std::string_view header, const std::vector<std::string>&
   }
   const std::size_t space = h.rfind(' ');  // "Temp °C"
   return space != std::string_view::npos && celsius(h.substr(space + 1)) && named(trim(h.substr(0, space)), true);
+}
+
+std::optional<SectionStart> signal_header(std::string_view header) {
+  const std::string h = std::string(trim(header));
+  std::string l = lower(h);
+  std::string inner;  // a bracketed unit or wavelength: "(RFU)", "[AU]", "(405 nm)"
+  if (!l.empty() && (l.back() == ')' || l.back() == ']')) {
+    const std::size_t open = l.rfind(l.back() == ')' ? '(' : '[');
+    if (open == std::string::npos || open == 0) return std::nullopt;
+    inner = std::string(trim(std::string_view(l).substr(open + 1, l.size() - open - 2)));
+    l = std::string(trim(std::string_view(l).substr(0, open)));
+  }
+  // A wavelength of 3 or 4 digits, with or without "nm", after the stem or in the brackets.
+  const auto wavelength = [](std::string_view t) -> std::string {
+    t = trim(t);
+    if (t.size() > 2 && t.substr(t.size() - 2) == "nm") t = trim(t.substr(0, t.size() - 2));
+    const bool digits = t.size() >= 3 && t.size() <= 4 &&
+                        std::all_of(t.begin(), t.end(), [](char c) { return c >= '0' && c <= '9'; });
+    return digits ? std::string(t) : std::string();
+  };
+  std::string stem = l, wl;
+  for (const char* s : {"absorbance", "abs", "od", "a"}) {
+    const std::size_t n = std::char_traits<char>::length(s);
+    if (l.size() > n && l.rfind(s, 0) == 0 && !(wl = wavelength(std::string_view(l).substr(n))).empty()) {
+      stem = s;
+      break;
+    }
+  }
+  if (wl.empty() && !inner.empty()) wl = wavelength(inner);
+  SectionStart out;
+  const auto is = [&](std::initializer_list<const char*> words) {
+    return std::any_of(words.begin(), words.end(), [&](const char* w) { return stem == w; });
+  };
+  if (is({"absorbance", "abs", "od", "au"}) || (stem == "a" && !wl.empty())) {
+    if (!(inner.empty() || inner == "au" || !wl.empty())) return std::nullopt;
+    out = {wl.empty() ? h : "A" + wl, Quantity::absorbance, "AU"};
+  } else if (is({"fluorescence", "fluor", "rfu"}) && wl.empty() && (inner.empty() || inner == "rfu")) {
+    out = {h, Quantity::fluorescence, "RFU"};
+  } else if (is({"luminescence", "lum", "rlu"}) && wl.empty() && (inner.empty() || inner == "rlu")) {
+    out = {h, Quantity::luminescence, "RLU"};
+  } else {
+    return std::nullopt;
+  }
+  return out;
 }
 
 bool overflow_form(std::string_view text, char decimal) {

@@ -7,6 +7,7 @@
 #include <cmath>
 #include <cstdint>
 #include <new>
+#include <optional>
 #include <string>
 #include <unordered_map>
 #include <vector>
@@ -101,6 +102,8 @@ struct LongColumns {
   bool channel = false;      // a channel column names each row's channel
   bool temperature = false;  // a temperature column
   int header_line = 0;
+  std::optional<SectionStart> value_signal;  // no channel column: the value column's header names the signal
+  std::string value_header;                  // that header as written
 };
 
 // Lays the rows out as each channel's reads × wells matrices (reads in time order, wells in

@@ -26,6 +26,8 @@ using namespace long_rows;
 struct Columns {
   char delimiter = ',';
   int well = -1, time = -1, value = -1, channel = -1, temp = -1;
+  std::optional<SectionStart> value_signal;  // the value column is a signal's name ("RFU", "A405")
+  std::string value_header;                  // ... and its header as written
   std::size_t count = 0;
   TimeUnit time_unit = TimeUnit::seconds;
   int line = 0;
@@ -131,6 +133,32 @@ struct LongRead {
     in.info.saw_preamble(line, ln);
   }
 
+  // No column the profile calls a value: the one other column whose header names a signal
+  // ("RFU", "OD", "A405"; signal_header), if exactly one does, holds the values.
+  void signal_column(Columns& c) {
+    int found = -1, count = 0;
+    for (std::size_t i = 0; i < views.size(); ++i) {
+      const auto k = static_cast<int>(i);
+      if (k == c.well || k == c.time) continue;
+      const std::string_view name = trim(views[i].text);
+      const bool channel = std::any_of(p.channel_columns.begin(), p.channel_columns.end(),
+                                       [&](const std::string& n) { return iequals(name, n); });
+      if (channel || temperature_header(name, p.temperature_columns)) continue;
+      if (auto s = signal_header(name)) {
+        ++count;
+        found = k;
+        c.value_signal = std::move(s);
+        c.value_header = std::string(name);
+      }
+    }
+    if (count == 1) {
+      c.value = found;
+    } else {
+      c.value_signal.reset();
+      c.value_header.clear();
+    }
+  }
+
   // True when `line` names the well, time and value columns: they become the table's columns.
   bool try_header(std::string_view line, char d, int ln) {
     split_views_into(line, d, views, scratch);
@@ -140,6 +168,7 @@ struct LongRead {
     c.well = find_column(views, p.well_columns);
     if (c.well >= 0) c.time = find_column(views, p.time_columns);
     if (c.time >= 0) c.value = find_column(views, p.value_columns);
+    if (c.well >= 0 && c.time >= 0 && c.value < 0) signal_column(c);
     if (c.well < 0 || c.time < 0 || c.value < 0) {
       if (c.well >= 0 && !near) near = near_header(p, c, views, line, file, ln);
       return false;
@@ -230,7 +259,7 @@ struct LongRead {
     if (cols->channel < 0) {
       if (channels.empty()) {
         channels.emplace_back();
-        channels.back().name = p.signal_name;
+        channels.back().name = cols->value_signal ? cols->value_signal->name : p.signal_name;
       }
       return 0;
     }
@@ -362,7 +391,8 @@ Run read_long(ReaderInput in) {
   r.check_found();
   r.decide_plate();
   r.check_duplicates();
-  lay_out_channels(r.channels, r.rows, LongColumns{r.cols->channel >= 0, r.cols->temp >= 0, r.cols->line}, r.p,
+  lay_out_channels(r.channels, r.rows, LongColumns{r.cols->channel >= 0, r.cols->temp >= 0, r.cols->line, r.cols->value_signal,
+                                        r.cols->value_header}, r.p,
                    in.info, r.run);
   return std::move(r.run);
 }

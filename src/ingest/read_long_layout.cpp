@@ -28,6 +28,12 @@ void name_channel(const ChannelRows& cr, const LongColumns& cols, const Profile&
     guess_quantity(s.name, s.quantity, s.unit);
     if (s.quantity == Quantity::other) s.quantity = p.signal_quantity;
     info.channels.emplace_back(s.name, fmt::format("the channel column of the header at line {}", cols.header_line));
+  } else if (cols.value_signal) {
+    s = *cols.value_signal;
+    info.channels.emplace_back(
+        s.name, fmt::format("the value column's header \"{}\" at line {} (no column named as `columns.value` lists; "
+                            "the header names a signal)",
+                            cols.value_header, cols.header_line));
   } else {
     info.channels.emplace_back(s.name, channel_basis(s, p));
   }
