@@ -140,6 +140,25 @@ Conversion plan_conversion(const Run& run, const Channel& c, const PlateMap& map
   cv.conc_unit = o.conc_unit;
   const double per_unit = molar_per_unit(o.conc_unit);
   if (o.mode == ConvertMode::beer_lambert) {
+    // Beer–Lambert relates absorbance to concentration; an emission signal has no ε.
+    if (c.quantity == Quantity::fluorescence || c.quantity == Quantity::luminescence) {
+      std::string others;
+      for (const auto& ch : run.channels)
+        if (ch.quantity == Quantity::absorbance) others += (others.empty() ? "" : ",") + ch.name;
+      std::vector<std::string> fixes{
+          fmt::format("convert {} with a standard curve (--standards, standard wells in the plate map) or keep "
+                      "signal units (--signal-only)",
+                      to_string(c.quantity))};
+      if (!others.empty())
+        fixes.push_back(fmt::format("to convert only the absorbance channels, give --channel {}", others));
+      fixes.emplace_back(
+          "if the channel is in fact absorbance, set `signal.quantity = \"absorbance\"` (or a section's "
+          "`quantity`) in the profile");
+      throw InputError(Where{run.source},
+                       fmt::format("--epsilon converts absorbance by Beer–Lambert, but channel {} is {} ({})", c.name,
+                                   to_string(c.quantity), c.unit.empty() ? "no unit" : c.unit),
+                       std::move(fixes));
+    }
     if (!std::isnan(o.path_cm)) {
       cv.path_cm.assign(cols, o.path_cm);
       cv.path_source = "fixed";

@@ -154,6 +154,30 @@ TEST_CASE("conversion errors") {
           "found 0 wells, 0 concentrations\n"
           "  possible fix: mark standard wells with role = standard and their `standard_conc` in the plate map");
   }
+  {
+    // Beer–Lambert on an emission channel: refused, naming the absorbance channel to keep.
+    Run two = plate("Channel: A340\nTime [s],A1\n0,0.1\n30,0.2\nChannel: Ex485Em520\nTime [s],A1\n0,100\n30,200\n");
+    REQUIRE(two.channels.size() == 2);
+    REQUIRE(two.channels[1].quantity == Quantity::fluorescence);
+    ConvertOptions b;
+    b.mode = ConvertMode::beer_lambert;
+    b.epsilon_per_m_cm = 6220;
+    b.path_cm = 1;
+    CHECK_NOTHROW(plan_conversion(two, two.channels[0], map, b));
+    try {
+      plan_conversion(two, two.channels[1], map, b);
+      FAIL("expected an error");
+    } catch (const InputError& e) {
+      CHECK(e.formatted() ==
+            "plate.csv: --epsilon converts absorbance by Beer–Lambert, but channel Ex485Em520 is fluorescence (RFU)\n"
+            "  possible fixes:\n"
+            "    - convert fluorescence with a standard curve (--standards, standard wells in the plate map) or keep "
+            "signal units (--signal-only)\n"
+            "    - to convert only the absorbance channels, give --channel A340\n"
+            "    - if the channel is in fact absorbance, set `signal.quantity = \"absorbance\"` (or a section's "
+            "`quantity`) in the profile");
+    }
+  }
   std::vector<std::pair<double, double>> falling{{0, 300}, {1, 200}, {2, 100}};
   try {
     fit_standard_curve(falling, "map.csv");
