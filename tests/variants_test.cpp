@@ -134,6 +134,11 @@ TEST_CASE("grid read labels in other wordings: a counter, a clock or worded time
   auto tab = detect_and_read("variant_grid_tab_labels.txt");
   CHECK(tab.channels[0].time_s == std::vector<double>{0, 20, 40});  // 0 min 40 s = 40 s
   CHECK(tab.channels[0].temperature_c == std::vector<double>{37.0, 37.0, 37.1});
+  auto semi = detect_and_read("variant_grid_semicolon_labels.txt");
+  CHECK(semi.profile == "grid-labels");
+  CHECK(semi.channels[0].time_s == std::vector<double>{0, 30, 60});  // "time 30 s"
+  CHECK(semi.channels[0].temperature_c == std::vector<double>{37.0, 37.0, 37.2});
+  CHECK(semi.channels[0].values(2, 5) == 0.390);  // B3 of the third read
 }
 
 TEST_CASE("two channel sections labelled by wavelength, each with its own time column") {
