@@ -2,11 +2,13 @@
 // its table of window rules, the tangent's read count and the precision flag
 // (include/vzero/rates.hpp). Every trace is constructed here; the expected values are worked
 // out beside each check (closed forms, no outside data needed).
+#include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
 #include <vector>
 
 #include "core/start_screen.hpp"
+#include "core/stats.hpp"
 #include "rates/lag_model.hpp"
 #include "rates/rate_window.hpp"
 #include "test_support.hpp"
@@ -216,6 +218,79 @@ TEST_CASE("the initial tangent's interval is at least what the read noise gives 
   CHECK(r.ci_high - r.slope == doctest::Approx(half).epsilon(1e-6));
   CHECK(r.slope - r.ci_low == doctest::Approx(half).epsilon(1e-6));
   CHECK(parabola_half > line_half);  // here the parabola's own floor is the wider
+}
+
+namespace {
+
+// Least squares of y on (1, t/100, (t/100)², …) up to `degree`, by Householder QR (Eigen),
+// over the reads `used`: the slope at t = 0 and the factor v of Var(slope) = σ²·v.
+std::pair<double, double> poly_slope_at_0(const Trace& tr, const std::vector<unsigned char>& used, int degree) {
+  std::vector<double> ts, ys;
+  for (std::size_t i = 0; i < tr.t.size(); ++i)
+    if (used[i]) ts.push_back(tr.t[i] / 100), ys.push_back(tr.y[i]);
+  Eigen::MatrixXd x(static_cast<Eigen::Index>(ts.size()), degree + 1);
+  Eigen::VectorXd y(static_cast<Eigen::Index>(ts.size()));
+  for (Eigen::Index i = 0; i < x.rows(); ++i) {
+    for (int k = 0; k <= degree; ++k) x(i, k) = std::pow(ts[static_cast<std::size_t>(i)], k);
+    y(i) = ys[static_cast<std::size_t>(i)];
+  }
+  const Eigen::VectorXd b = x.householderQr().solve(y);
+  const Eigen::MatrixXd inv = (x.transpose() * x).inverse();
+  return {b(1) / 100, inv(1, 1) / 1e4};
+}
+
+}  // namespace
+
+TEST_CASE("the initial tangent's interval holds the parabola's own bias, judged by a cubic") {
+  // y = 0.001·t − 4e-6·t² + 1.2e-8·t³ at 20 reads 10 s apart (v0 = 0.001 at t = 0): no
+  // parabola passes through these reads, and the one fitted starts at another slope. With a
+  // read noise of 1e-7 its statistical interval is far narrower than that miss; the cubic over
+  // the same reads starts at exactly 0.001, so the difference d of the two slopes, less what
+  // noise alone would make of it (Var d = σ²·(v_cubic − v_parabola) for the nested fits, σ the
+  // read noise: the cubic's residuals vanish here), widens the interval to
+  // √(half² + d² − Var d), which holds v0.
+  Trace tr;
+  for (int i = 0; i < 20; ++i) {
+    const double t = 10.0 * i;
+    tr.t.push_back(t);
+    tr.y.push_back(0.001 * t - 4e-6 * t * t + 1.2e-8 * t * t * t);
+  }
+  tr.st.assign(20, ReadStatus::ok);
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::always;
+  opt.detect_lag = false;
+  const double sd = 1e-7;
+  const auto r = vzero::find_rate(tr.view(sd), opt);
+  REQUIRE(r.tangent == "parabola");
+  const auto [pslope, pv] = poly_slope_at_0(tr, r.used, 2);
+  const auto [cslope, cv] = poly_slope_at_0(tr, r.used, 3);
+  CHECK(r.slope == doctest::Approx(pslope).epsilon(1e-6));
+  CHECK(cslope == doctest::Approx(0.001).epsilon(1e-6));
+  // The parabola's residual SD, its statistical half-width (t(0.975, n − 3)·SE, the noise floor
+  // being smaller here) and the bias term.
+  int n = 0;
+  double rss = 0;
+  {
+    std::vector<double> ts, ys;
+    for (std::size_t i = 0; i < tr.t.size(); ++i)
+      if (r.used[i]) ts.push_back(tr.t[i] / 100), ys.push_back(tr.y[i]);
+    n = static_cast<int>(ts.size());
+    Eigen::MatrixXd x(n, 3);
+    Eigen::VectorXd y(n);
+    for (int i = 0; i < n; ++i) x.row(i) << 1, ts[static_cast<std::size_t>(i)], ts[static_cast<std::size_t>(i)] * ts[static_cast<std::size_t>(i)];
+    for (int i = 0; i < n; ++i) y(i) = ys[static_cast<std::size_t>(i)];
+    rss = (y - x * x.householderQr().solve(y)).squaredNorm();
+  }
+  const double s = std::sqrt(rss / (n - 3));
+  REQUIRE(s > sd);
+  const double stat_half = vzero::detail::student_t_quantile(0.975, n - 3) * s * std::sqrt(pv);
+  const double d = cslope - pslope;
+  const double bias = std::sqrt(d * d - sd * sd * (cv - pv));
+  CHECK(std::fabs(pslope - 0.001) > stat_half);  // the statistical interval alone misses v0
+  CHECK(r.ci_high - r.slope == doctest::Approx(std::hypot(stat_half, bias)).epsilon(1e-5));
+  CHECK(r.slope - r.ci_low == doctest::Approx(std::hypot(stat_half, bias)).epsilon(1e-5));
+  CHECK(r.ci_low <= 0.001);
+  CHECK(r.ci_high >= 0.001);
 }
 
 TEST_CASE("a window whose rate still rises is flagged rising") {

@@ -1,6 +1,7 @@
 // Tests of the rate finder (include/vzero/rates.hpp) and its estimators (src/rates/robust.hpp).
 // Reference values and their sources are in /work/shared/REFERENCES.md; each check names its
 // source beside it.
+#include <Eigen/Dense>
 #include <cstring>
 #include <thread>
 
@@ -439,6 +440,30 @@ TEST_CASE("prefix-sum window statistics agree with the two-pass fits") {
       CHECK_REL(w.curvature_se, q.c2_se, 1e-6);
     }
   }
+}
+
+TEST_CASE("the cubic's slope at a point, and its variance factor") {
+  // Through y = 2 + 3x − 0.5x² + 0.1x³ exactly (x = 0, 1, …, 6): the slope at x = 2 is
+  // 3 − 2·0.5·2 + 3·0.1·4 = 2.2 and the residuals vanish. Var(slope) = σ²·dᵀ(XᵀX)⁻¹d with
+  // d = (0, 1, 2x, 3x²), worked here from the raw design X = (1, x, x², x³) by Eigen's
+  // inverse — not from the centred, scaled design the function uses.
+  std::vector<double> x, y;
+  for (int i = 0; i <= 6; ++i) {
+    x.push_back(i);
+    y.push_back(2 + 3.0 * i - 0.5 * i * i + 0.1 * i * i * i);
+  }
+  const auto c = vzero::detail::cubic_slope(x.data(), y.data(), 7, 2.0);
+  CHECK(c.slope == doctest::Approx(2.2).epsilon(1e-12));
+  CHECK(c.resid_sd < 1e-12);
+  Eigen::Matrix4d xtx = Eigen::Matrix4d::Zero();
+  for (double v : x) {
+    const Eigen::Vector4d b(1, v, v * v, v * v * v);
+    xtx += b * b.transpose();
+  }
+  const Eigen::Vector4d d(0, 1, 4, 12);
+  CHECK(c.var_factor == doctest::Approx(d.dot(xtx.inverse() * d)).epsilon(1e-9));
+  // Four points cannot leave a residual: no answer.
+  CHECK(std::isnan(vzero::detail::cubic_slope(x.data(), y.data(), 4, 2.0).slope));
 }
 
 TEST_CASE("same input, same bits: repeated and concurrent calls agree") {

@@ -150,4 +150,39 @@ QuadFit quadratic(const double* x, const double* y, int n, double x_eval) {
   return q;
 }
 
+CubicSlope cubic_slope(const double* x, const double* y, int n, double x_eval) {
+  CubicSlope c;
+  if (n < 5) return c;
+  double mx = 0;
+  for (int i = 0; i < n; ++i) mx += x[i];
+  mx /= n;
+  double h = 0;
+  for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
+  if (!(h > 0)) return c;
+  // Normal equations over b = (1, z, z², z³), z = (x − x̄)/h.
+  Eigen::Matrix4d g = Eigen::Matrix4d::Zero();
+  Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
+  for (int i = 0; i < n; ++i) {
+    const double z = (x[i] - mx) / h;
+    const Eigen::Vector4d b(1.0, z, z * z, z * z * z);
+    g += b * b.transpose();
+    rhs += b * y[i];
+  }
+  const Eigen::FullPivLU<Eigen::Matrix4d> lu(g);
+  if (!lu.isInvertible()) return c;
+  const Eigen::Vector4d a = lu.solve(rhs);
+  const double ze = (x_eval - mx) / h;
+  const Eigen::Vector4d d(0.0, 1.0, 2 * ze, 3 * ze * ze);  // d/dz of b at ze
+  c.slope = d.dot(a) / h;
+  c.var_factor = d.dot(lu.solve(d)) / (h * h);
+  double rss = 0;
+  for (int i = 0; i < n; ++i) {
+    const double z = (x[i] - mx) / h;
+    const double e = y[i] - (a[0] + z * (a[1] + z * (a[2] + z * a[3])));
+    rss += e * e;
+  }
+  c.resid_sd = std::sqrt(rss / (n - 4));
+  return c;
+}
+
 }  // namespace vzero::detail

@@ -49,6 +49,13 @@ struct QuadFit {
   int n = 0;
 };
 QuadFit quadratic(const double* x, const double* y, int n, double x_eval);
+// The slope at x_eval of the least-squares cubic through the n points (n ≥ 5), the factor v
+// with Var(slope) = σ²·v for read noise σ, and the residual SD √(RSS/(n − 4)); NaN when the
+// points cannot fix a cubic.
+struct CubicSlope {
+  double slope = NAN, var_factor = NAN, resid_sd = NAN;
+};
+CubicSlope cubic_slope(const double* x, const double* y, int n, double x_eval);
 
 // Quantiles; NaN outside 0 < p < 1 or for df ≤ 0. The t quantile of the same (p, df) is
 // remembered per thread: the rate finder asks for the same few many times per well.
