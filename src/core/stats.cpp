@@ -2,6 +2,7 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
+#include <array>
 #include <boost/math/distributions/normal.hpp>
 #include <boost/math/distributions/students_t.hpp>
 #include <cmath>
@@ -159,26 +160,36 @@ CubicSlope cubic_slope(const double* x, const double* y, int n, double x_eval) {
   double h = 0;
   for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
   if (!(h > 0)) return c;
-  // Normal equations over b = (1, z, z², z³), z = (x − x̄)/h.
-  Eigen::Matrix4d g = Eigen::Matrix4d::Zero();
-  Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
+  // Normal equations over b = (1, z, z², z³), z = (x − x̄)/h: the sums of z⁰ … z⁶ and of
+  // z⁰v … z³v, v = y − ȳ (the intercept absorbs ȳ; the slope is unchanged); the matrix is
+  // symmetric positive definite when the points fix a cubic.
+  double my = 0;
+  for (int i = 0; i < n; ++i) my += y[i];
+  my /= n;
+  std::array<double, 7> sz{};
+  std::array<double, 4> szy{};
   for (int i = 0; i < n; ++i) {
-    const double z = (x[i] - mx) / h;
-    const Eigen::Vector4d b(1.0, z, z * z, z * z * z);
-    g += b * b.transpose();
-    rhs += b * y[i];
+    const double z = (x[i] - mx) / h, v = y[i] - my;
+    const double z2 = z * z, z3 = z2 * z;
+    sz[0] += 1, sz[1] += z, sz[2] += z2, sz[3] += z3, sz[4] += z2 * z2, sz[5] += z2 * z3, sz[6] += z3 * z3;
+    szy[0] += v, szy[1] += z * v, szy[2] += z2 * v, szy[3] += z3 * v;
   }
-  const Eigen::FullPivLU<Eigen::Matrix4d> lu(g);
-  if (!lu.isInvertible()) return c;
-  const Eigen::Vector4d a = lu.solve(rhs);
+  Eigen::Matrix4d g;
+  for (int r = 0; r < 4; ++r)
+    for (int k = 0; k < 4; ++k) g(r, k) = sz[static_cast<std::size_t>(r + k)];
+  const Eigen::Vector4d rhs(szy[0], szy[1], szy[2], szy[3]);
+  const Eigen::LDLT<Eigen::Matrix4d> ldlt(g);
+  if (ldlt.info() != Eigen::Success || !ldlt.isPositive() || !(ldlt.vectorD().minCoeff() > 1e-12 * g.trace()))
+    return c;
+  const Eigen::Vector4d a = ldlt.solve(rhs);
   const double ze = (x_eval - mx) / h;
   const Eigen::Vector4d d(0.0, 1.0, 2 * ze, 3 * ze * ze);  // d/dz of b at ze
   c.slope = d.dot(a) / h;
-  c.var_factor = d.dot(lu.solve(d)) / (h * h);
-  double rss = 0;
+  c.var_factor = d.dot(ldlt.solve(d)) / (h * h);
+  double rss = 0;  // from the residuals themselves: Σv² − aᵀXᵀv loses the digits of a close fit
   for (int i = 0; i < n; ++i) {
     const double z = (x[i] - mx) / h;
-    const double e = y[i] - (a[0] + z * (a[1] + z * (a[2] + z * a[3])));
+    const double e = (y[i] - my) - (a[0] + z * (a[1] + z * (a[2] + z * a[3])));
     rss += e * e;
   }
   c.resid_sd = std::sqrt(rss / (n - 4));
