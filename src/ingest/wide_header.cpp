@@ -1,0 +1,138 @@
+// The wide reader's header line (wide_header.hpp).
+#include "ingest/wide_header.hpp"
+
+#include <fmt/format.h>
+#include <algorithm>
+
+namespace vzero::detail {
+
+namespace {
+
+bool matches_any(std::string_view text, const std::vector<std::string>& names) {
+  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
+}
+
+// True when field i and every field after it are empty: the columns a spreadsheet adds at
+// the end of each line when it saves a CSV again.
+bool trailing_empty(const std::vector<Field>& fields, std::size_t i) {
+  for (std::size_t k = i; k < fields.size(); ++k)
+    if (!trim(fields[k].text).empty()) return false;
+  return true;
+}
+
+// Keeps in `near` a line of well columns that lacks only a time column: every field a well,
+// an empty field, a temperature or ignored column, but for at most one (a time column under
+// a name the profile does not know).
+void note_near_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
+                      const std::vector<Field>& fields, int wells, std::optional<InputError>& near) {
+  const Field* unknown = nullptr;
+  for (const auto& f : fields) {
+    const std::string_view name = trim(f.text);
+    if (name.empty() || parse_well(name) || temperature_header(name, p.temperature_columns) ||
+        matches_any(name, p.ignore_columns))
+      continue;
+    if (unknown) return;  // two fields that are neither: not a header of wells
+    unknown = &f;
+  }
+  near = missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)}, "time",
+                              p.time_columns, fmt::format("of {} well column{}", wells, wells == 1 ? "" : "s"),
+                              unknown ? trim(unknown->text) : std::string_view());
+}
+
+// Keeps in `near` a line with a time column whose other columns name no well as such, when
+// one of them holds a well name among other words ("Well A1", "A1 (405)"): the header, most
+// likely, with its well columns written another way.
+void note_decorated_wells(std::string_view line, const std::string& file, int line_no, const std::vector<Field>& fields,
+                          int time_col, std::optional<InputError>& near) {
+  for (std::size_t i = 0; i < fields.size(); ++i) {
+    if (static_cast<int>(i) == time_col) continue;
+    const std::string_view name = trim(fields[i].text);
+    std::size_t at = 0;
+    while (at < name.size()) {
+      const std::size_t end = name.find_first_of(" ()[]_-:/", at);
+      const std::string_view word = name.substr(at, end == std::string_view::npos ? std::string_view::npos : end - at);
+      if (!word.empty() && parse_well(word)) {
+        near = InputError(
+            Where{file, line_no, fields[i].column, std::string(line)},
+            fmt::format("expected well columns named by their wells alone (A1 … AF48) beside the time column \"{}\", "
+                        "found \"{}\"",
+                        trim(fields[static_cast<std::size_t>(time_col)].text), name),
+            {fmt::format("rename the well columns to the bare well names (\"{}\" → \"{}\") and read the file again",
+                         name, word)});
+        return;
+      }
+      if (end == std::string_view::npos) break;
+      at = end + 1;
+    }
+  }
+}
+
+}  // namespace
+
+std::optional<Header> try_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
+                                 std::vector<Field>& fields, std::optional<InputError>& near, char delimiter) {
+  char d = delimiter ? delimiter : guess_delimiter(line);
+  if (d == 0) return std::nullopt;
+  split_fields_into(line, d, fields);
+  int time_col = -1, wells = 0;
+  for (std::size_t i = 0; i < fields.size(); ++i) {
+    if (time_col < 0 && matches_any(fields[i].text, p.time_columns))
+      time_col = static_cast<int>(i);
+    else if (parse_well(fields[i].text))
+      ++wells;
+  }
+  if (time_col < 0 && wells > 0 && !near) note_near_header(p, line, file, line_no, fields, wells, near);
+  if (time_col >= 0 && wells == 0 && !near) note_decorated_wells(line, file, line_no, fields, time_col, near);
+  if (time_col < 0 || wells == 0) return std::nullopt;
+  Header h;
+  h.delimiter = d;
+  h.line = line_no;
+  h.time_col = time_col;
+  const Field& tf = fields[static_cast<std::size_t>(time_col)];
+  const auto stated = unit_in_header(tf.text);
+  const std::string time_header = fmt::format("the time header \"{}\"", trim(tf.text));
+  h.time_where = Where{file, line_no, tf.column, std::string(line)};
+  check_stated_unit(p, stated, h.time_where, time_header);
+  h.time_unit = stated.value_or(p.time_unit);
+  h.time_basis = stated ? time_header : p.time_unit_from;
+  std::vector<int> seen_at(32 * 48, 0);  // field where each well was first seen, 0 = not yet
+  const std::optional<PlateFormat> fixed = fixed_format(p);
+  for (std::size_t i = 0; i < fields.size(); ++i) {
+    std::string_view name = trim(fields[i].text);
+    int col = static_cast<int>(i);
+    if (col == time_col) {
+      h.roles.push_back(ColumnRole::time);
+      h.slot.push_back(-1);
+    } else if (h.temp_col < 0 && temperature_header(name, p.temperature_columns)) {
+      h.temp_col = col;
+      h.roles.push_back(ColumnRole::temperature);
+      h.slot.push_back(-1);
+    } else if (auto w = parse_well(name)) {
+      int& prev_field = seen_at[static_cast<std::size_t>(w->row * 48 + w->column)];
+      if (prev_field != 0) {
+        throw InputError(
+            Where{file, line_no, fields[i].column, std::string(line)},
+            fmt::format("well {} appears twice in the header (fields {} and {})", well_name(*w), prev_field, i + 1),
+            {"remove or rename the duplicated column"});
+      }
+      prev_field = static_cast<int>(i) + 1;
+      if (fixed && !fixed->holds(*w))
+        off_plate_error(*fixed, *w, Where{file, line_no, fields[i].column, std::string(line)});
+      h.roles.push_back(ColumnRole::well);
+      h.slot.push_back(static_cast<int>(h.wells.size()));
+      h.wells.push_back(*w);
+    } else if (matches_any(name, p.ignore_columns) || (name.empty() && trailing_empty(fields, i))) {
+      h.roles.push_back(name.empty() ? ColumnRole::padding : ColumnRole::ignored);
+      h.slot.push_back(-1);
+    } else {
+      throw InputError(
+          Where{file, line_no, fields[i].column, std::string(line)},
+          fmt::format("expected a well name (A1 … AF48) or a known column in the header, found \"{}\"", name),
+          {fmt::format("add \"{}\" to `columns.ignore` (or `columns.temperature`) in the profile", name)});
+    }
+  }
+  return h;
+}
+
+
+}  // namespace vzero::detail
