@@ -195,6 +195,9 @@ Conversion plan_conversion(const Run& run, const Channel& c, const PlateMap& map
                                  ? fmt::format("= ({} − {}) / {} per well", o.water_high, o.water_low, o.water_k_per_cm)
                                  : "= " + fmt::format("{:.6g}", cv.path_cm.empty() ? NAN : cv.path_cm[0]),
                              o.conc_unit);
+    // An inference, so said where the formula is recorded (datapackage.json, the report).
+    if (c.quantity == Quantity::other)
+      cv.formula += fmt::format("; channel {} states no quantity: its signal is taken as absorbance", c.name);
     return cv;
   }
   // Standard curve from this channel's standard wells.

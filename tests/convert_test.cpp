@@ -31,6 +31,12 @@ TEST_CASE("Beer–Lambert with NADH at 340 nm") {
   cv = plan_conversion(run, run.channels[0], map, o);
   CHECK_REL(0.0622 * cv.factor[0], 20.0, 1e-12);
   CHECK(cv.path_source == "fixed");
+  // The export names no quantity for its one channel: the formula recorded says it was
+  // taken as absorbance (an A340 section would not need saying).
+  CHECK(run.channels[0].quantity == Quantity::other);
+  CHECK(cv.formula ==
+        "c = A / (ε·l), ε = 6220 M⁻¹·cm⁻¹, l = 0.5 cm; in uM; channel signal states no quantity: its signal is "
+        "taken as absorbance");
   o.conc_unit = "mM";
   cv = plan_conversion(run, run.channels[0], map, o);
   CHECK_REL(0.0622 * cv.factor[0], 0.020, 1e-12);
