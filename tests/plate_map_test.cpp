@@ -51,6 +51,16 @@ TEST_CASE("plate map errors") {
       "map.csv:2:4: expected a role (sample, blank, standard, empty, full-activity or no-activity), found \"enzyme\"\n"
       "  line 2: A1,enzyme\n"
       "  possible fix: use one of the roles in the `role` column");
+  // A word labs write for a role: the likely role is offered, never assumed.
+  CHECK(message_of("well,role\nA1,Buffer\n") ==
+        "map.csv:2:4: expected a role (sample, blank, standard, empty, full-activity or no-activity), found "
+        "\"Buffer\"\n"
+        "  line 2: A1,Buffer\n"
+        "  possible fixes:\n"
+        "    - if \"Buffer\" means blank (a well with everything but the enzyme, or the substrate, whose signal is "
+        "subtracted), write that role\n"
+        "    - use one of the roles in the `role` column");
+  CHECK(message_of("well,role\nA1,pos\n").find("if \"pos\" means full-activity, write that role") != std::string::npos);
   CHECK(message_of("well,role,substrate\nA1,sample,-5\n") ==
         "map.csv:2:11: expected a concentration >= 0 in `substrate`, found -5\n"
         "  line 2: A1,sample,-5\n"

@@ -2,11 +2,14 @@
 #include "core/files.hpp"
 
 #include <fmt/format.h>
+#include <algorithm>
 #include <cerrno>
 #include <cmath>
 #include <cstring>
 #include <fstream>
 #include <sstream>
+#include <utility>
+#include <vector>
 
 #include "core/line_source.hpp"
 #include "plate_map/plate_map_columns.hpp"
@@ -63,13 +66,32 @@ struct Cell {
   std::string line_text;
 };
 
+// Words labs write for a role, and the role they most likely mean: offered as a fix, never
+// read as that role (a "control" may be either kind; the user says which).
+const char* likely_role(const std::string& l) {
+  static const std::vector<std::pair<std::vector<std::string>, const char*>> k_words = {
+      {{"buffer", "background", "bkg", "bg", "no enzyme", "no-enzyme", "no_enzyme", "reagent blank", "blk"},
+       "blank (a well with everything but the enzyme, or the substrate, whose signal is subtracted)"},
+      {{"std", "calibrator", "calibration", "cal"}, "standard (a known product concentration, in `standard_conc`)"},
+      {{"unknown", "unk", "test", "smp", "sample well"}, "sample"},
+      {{"none", "unused", "na", "n/a", "-", "x"}, "empty"},
+      {{"pos", "positive", "positive control", "max", "high control", "uninhibited"}, "full-activity"},
+      {{"neg", "negative", "negative control", "min", "low control", "inhibited"}, "no-activity"},
+  };
+  for (const auto& [words, role] : k_words)
+    if (std::find(words.begin(), words.end(), l) != words.end()) return role;
+  return nullptr;
+}
+
 Role parse_role(const std::string& file, const Cell& c) {
   const std::string l = detail::lower(detail::trim(c.text));
   for (const auto& w : role_table())
     if (l == w.word) return w.role;
+  std::vector<std::string> fixes;
+  if (const char* r = likely_role(l)) fixes.push_back(fmt::format("if \"{}\" means {}, write that role", c.text, r));
+  fixes.emplace_back("use one of the roles in the `role` column");
   throw InputError(Where{file, c.line, c.column, c.line_text},
-                   fmt::format("expected a role ({}), found \"{}\"", role_word_list(), c.text),
-                   {"use one of the roles in the `role` column"});
+                   fmt::format("expected a role ({}), found \"{}\"", role_word_list(), c.text), std::move(fixes));
 }
 
 // A concentration: empty (NaN) or a number >= 0. Zero is kept for every role: a sample at
