@@ -100,16 +100,25 @@ double median_step(const std::vector<double>& t) {
   return d[d.size() / 2];
 }
 
+namespace {
+// The centre x̄ and half-range h = max |x − x̄| the polynomial fits work in (z = (x − x̄)/h,
+// so the powers of z stay within ±1); false when the points do not spread.
+bool centre_and_scale(const double* x, int n, double& mx, double& h) {
+  mx = 0;
+  for (int i = 0; i < n; ++i) mx += x[i];
+  mx /= n;
+  h = 0;
+  for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
+  return h > 0;
+}
+}  // namespace
+
 QuadFit quadratic(const double* x, const double* y, int n, double x_eval) {
   QuadFit q;
   q.n = n;
   if (n < 3) return q;
-  double mx = 0;
-  for (int i = 0; i < n; ++i) mx += x[i];
-  mx /= n;
-  double h = 0;
-  for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
-  if (!(h > 0)) return q;
+  double mx = 0, h = 0;
+  if (!centre_and_scale(x, n, mx, h)) return q;
   // Normal equations over b = (1, z, z²): the six distinct sums of b_i·b_j and the three of
   // b_i·y, accumulated in point order (the same products and sums as g += b·bᵀ, rhs += b·y).
   double g01 = 0, g02 = 0, g11 = 0, g12 = 0, g22 = 0, g00 = 0, r0 = 0, r1 = 0, r2 = 0;
@@ -154,12 +163,8 @@ QuadFit quadratic(const double* x, const double* y, int n, double x_eval) {
 CubicSlope cubic_slope(const double* x, const double* y, int n, double x_eval) {
   CubicSlope c;
   if (n < 5) return c;
-  double mx = 0;
-  for (int i = 0; i < n; ++i) mx += x[i];
-  mx /= n;
-  double h = 0;
-  for (int i = 0; i < n; ++i) h = std::max(h, std::fabs(x[i] - mx));
-  if (!(h > 0)) return c;
+  double mx = 0, h = 0;
+  if (!centre_and_scale(x, n, mx, h)) return c;
   // Normal equations over b = (1, z, z², z³), z = (x − x̄)/h: the sums of z⁰ … z⁶ and of
   // z⁰v … z³v, v = y − ȳ (the intercept absorbs ȳ; the slope is unchanged); the matrix is
   // symmetric positive definite when the points fix a cubic.

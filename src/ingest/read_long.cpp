@@ -51,6 +51,11 @@ bool mentions_any(std::string_view line, const std::vector<std::string>& names) 
   return false;
 }
 
+// True when `name` is one of `names`, ignoring ASCII case.
+bool named(std::string_view name, const std::vector<std::string>& names) {
+  return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
+}
+
 int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names) {
   for (const auto& n : names)
     for (std::size_t i = 0; i < f.size(); ++i)
@@ -66,9 +71,6 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
   if (c.time < 0) c.value = find_column(views, p.value_columns);
   if (c.time < 0 && c.value < 0) return std::nullopt;
   // The one field that no column of the profile names, if there is one: the missing column.
-  const auto named = [](std::string_view name, const std::vector<std::string>& names) {
-    return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
-  };
   const FieldView* unknown = nullptr;
   int unknowns = 0;
   for (std::size_t i = 0; i < views.size(); ++i) {
@@ -141,9 +143,7 @@ struct LongRead {
       const auto k = static_cast<int>(i);
       if (k == c.well || k == c.time) continue;
       const std::string_view name = trim(views[i].text);
-      const bool channel = std::any_of(p.channel_columns.begin(), p.channel_columns.end(),
-                                       [&](const std::string& n) { return iequals(name, n); });
-      if (channel || temperature_header(name, p.temperature_columns)) continue;
+      if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
       if (auto s = signal_header(name)) {
         ++count;
         found = k;
@@ -391,9 +391,9 @@ Run read_long(ReaderInput in) {
   r.check_found();
   r.decide_plate();
   r.check_duplicates();
-  lay_out_channels(r.channels, r.rows, LongColumns{r.cols->channel >= 0, r.cols->temp >= 0, r.cols->line, r.cols->value_signal,
-                                        r.cols->value_header}, r.p,
-                   in.info, r.run);
+  const LongColumns cols{r.cols->channel >= 0, r.cols->temp >= 0, r.cols->line, r.cols->value_signal,
+                         r.cols->value_header};
+  lay_out_channels(r.channels, r.rows, cols, r.p, in.info, r.run);
   return std::move(r.run);
 }
 

@@ -141,13 +141,13 @@ std::optional<PlateFormat> fixed_format(const Profile& p);
 // Plate format from the profile or the wells read; InputError if a well does not fit.
 PlateFormat decide_format(const Profile& p, const std::vector<WellId>& wells, const std::string& file, bool& inferred);
 
-// Default channel when no section label was seen.
 // A column header that names a signal rather than saying "value": "RFU", "RLU", "OD",
 // "Absorbance", "Fluorescence (RFU)", "A405", "OD 600", "Abs (405 nm)". The channel it
 // gives: a wavelength makes an absorbance channel A405; otherwise the header, with the
 // quantity and unit the word implies. nullopt for anything else.
 std::optional<SectionStart> signal_header(std::string_view header);
 
+// Default channel when no section label was seen.
 SectionStart default_section(const Profile& p);
 
 // What a reader learns about a file beyond its values, turned into Run::read_facts by
