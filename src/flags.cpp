@@ -48,8 +48,8 @@ constexpr std::array<MarkInfo, 28> k_marks{{
      "lag's ramp: v0 is underestimated"},
     {"imprecise", flag, "sample",
      "the rate's 95 % interval (read noise over the window, the scatter of the blank wells' own rates, and how far "
-     "substrate used or a possible lag bends a straight line, or a parabola misses the curve) is wider than "
-     "`--precision-limit` (default ±15 %) of the rate"},
+     "substrate used or a possible lag bends a straight line, or a parabola misses the curve) reaches further "
+     "than `--precision-limit` (default ±15 %) of the rate on either side"},
     {"ceiling", flag, "sample, standard",
      "every read was at or above `--signal-ceiling` (or the absorbance limit), so the rate comes from reads beyond "
      "the linear range"},

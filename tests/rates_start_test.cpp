@@ -525,6 +525,41 @@ TEST_CASE("a straight line's depletion bias lies inside the interval's upper sid
   CHECK(b.ci_high < 0.1);
 }
 
+TEST_CASE("imprecise judges the interval's wider side, not its mean half-width") {
+  // The first-order progress curve of the case above (v0 = 0.1 µM/s, far below Km), read
+  // without noise, with the conversion limit raised to 30 % and the curvature test off: the window then runs to about
+  // 30 % converted and its line rates the reaction at about 15 % less substrate, so the
+  // interval's upper side carries c/(1 − c) ≈ 18 % of the line (c the conversion at the
+  // window's middle) while its lower side is the estimator's own, near zero. The mean of
+  // the two sides is under the 15 % limit, the upper side over it: "within ±15 %" does not
+  // hold, and the well is flagged.
+  Trace tr;
+  for (int i = 0; i < 60; ++i) {
+    tr.t.push_back(10.0 * i);
+    tr.y.push_back(100.0 * -std::expm1(-1e-3 * 10.0 * i));
+  }
+  tr.st.assign(tr.t.size(), ReadStatus::ok);
+  vzero::TraceView v = tr.view();
+  v.substrate = 100;
+  v.conc_per_signal = 1;
+  vzero::RateOptions opt;
+  opt.tangent = vzero::TangentMode::never;
+  opt.max_conversion = 0.3;
+  opt.linearity_alpha = 0;  // no curvature test: the conversion limit alone ends the window
+  const auto r = vzero::find_rate(v, opt);
+  REQUIRE(std::isfinite(r.conversion));
+  CHECK(r.window_end == "conversion");
+  const double c = 0.5 * r.conversion;
+  const double up = r.ci_high - r.slope, down = r.slope - r.ci_low;
+  CHECK(up >= r.slope * c / (1 - c) * (1 - 1e-12));
+  CHECK(up > 0.15 * r.slope);
+  CHECK(0.5 * (up + down) < 0.15 * r.slope);
+  CHECK(has_flag(r, "imprecise"));
+  // A limit above the wider side leaves the well unflagged.
+  opt.precision_limit = 1.01 * up / r.slope;
+  CHECK(!has_flag(vzero::find_rate(v, opt), "imprecise"));
+}
+
 TEST_CASE("an 8-read trace: a first read the spike screen holds out still opens a disturbed start") {
   // 8 reads 45 s apart (a screening plate), 2.8e-4 AU/s, and −0.03 AU · exp(−t/45 s): down to
   // 5 % after three reads (0.03·e^(−i) = 0.03, 0.0110, 0.00406, 0.00149 AU at reads 0…3).

@@ -51,8 +51,8 @@
 //      t × `rate_sd` added in quadrature (t: Student's 97.5 % quantile on `rate_sd_dof`,
 //      1.96 when 0); its upper side also carries the bias that the
 //      substrate used by the window's middle, or a lag too weak to skip (note
-//      `lag-possible`), may give a straight line. `imprecise` when its half-width exceeds
-//      `precision_limit` of the rate.
+//      `lag-possible`), may give a straight line. `imprecise` when either side reaches
+//      further than `precision_limit` of the rate.
 // Cost: the search is O(n) tests on prefix sums (n reads); Theil–Sen on the w reads of the
 // window is exact, O(w log w) above 650 reads and from all w(w−1)/2 slopes below, where that
 // is quicker (src/rates/pair_slopes.hpp).
@@ -140,7 +140,7 @@ struct RateOptions {
   double tangent_alpha = 0.05;    // one-sided significance the parabola's bend needs (tangent = auto)
   int tangent_min_reads = 10;     // fewest reads the parabola needs before its tangent may be used (tangent = auto)
   bool detect_disturbed = true;   // set aside a disturbed start (a jump or decay over the first reads)
-  double precision_limit = 0.15;  // relative 95 % half-width above which a rate is flagged `imprecise`; 0 = none
+  double precision_limit = 0.15;  // either side of the 95 % interval beyond this fraction of the rate: `imprecise`; 0 = none
   const std::vector<WindowRule>* window_rules = nullptr;  // the window search's rules; nullptr = default_window_rules()
 };
 

@@ -275,8 +275,9 @@ void take_tangent(const detail::Usable& u, const detail::WindowChoice& w, const 
 // Distinguishable from noise, of which sign, precise enough? The interval stated is the one
 // the data support: each side at least what the read noise alone gives the straight line
 // over the reads used, and the spread of the blanks' own rates (which the subtraction
-// carries into every sample) added in quadrature; its half-width relative to the rate
-// decides `imprecise`. A trace stuck at the detector's maximum says nothing about the rate's
+// carries into every sample) added in quadrature; its wider side relative to the rate
+// decides `imprecise` (the sides differ where a bias widens the upper one: a well
+// whose v0 may lie 25 % above its rate is not known to ±15 %, whatever its lower side). A trace stuck at the detector's maximum says nothing about the rate's
 // size or sign: it is `saturated`, never noise or negative.
 void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double>& kt, bool saturated, double bias_up,
            RateResult& r) {
@@ -297,7 +298,7 @@ void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double
   if (!saturated) widen_interval(r, tr, kt, nk);
   if (bias_up > 0 && std::isfinite(r.ci_high)) r.ci_high = r.slope + std::hypot(r.ci_high - r.slope, r.slope * bias_up);
   if (!noise_only && !saturated && opt.precision_limit > 0) {
-    const double half = 0.5 * (r.ci_high - r.ci_low);
+    const double half = std::max(r.ci_high - r.slope, r.slope - r.ci_low);
     if (!(half <= opt.precision_limit * std::fabs(r.slope))) add_flag(r, "imprecise");
   }
 }

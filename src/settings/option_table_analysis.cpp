@@ -188,8 +188,8 @@ void add_rate_finder_options(std::vector<OptionSpec>& t) {
       "and flag it; off: keep every read"));
   t.push_back(number(
       "precision-limit", k_rate, "15", "%", k_non_negative, [](S& s) { return &s.analysis.rates.precision_limit; },
-      "a rate whose 95 % interval half-width exceeds this percent of the rate is flagged imprecise "
-      "(0 = never)",
+      "a rate whose 95 % interval reaches further than this percent of the rate on either side is flagged "
+      "imprecise (0 = never)",
       100));
   t.push_back(number(
       "detection-factor", k_rate, "3", "", k_non_negative, [](S& s) { return &s.analysis.rates.lod_factor; },
