@@ -33,9 +33,12 @@ void sort_rate_words(const std::vector<std::string>& words, Role role, bool used
         break;  // nothing to judge
       case Role::blank:
         // A blank is judged as a blank: scatter (blank-noisy) and a disturbed start
-        // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts.
+        // (blank-disturbed) come from the blank stage; a blank whose trace bends drifts, one
+        // with too few reads for a rate says so.
         if (f == "nonlinear")
           add(flags, "blank-drift");
+        else if (f == "too-few-reads")
+          add(flags, "blank-too-few-reads");
         else if (note)
           add(notes, f);
         break;

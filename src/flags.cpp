@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 28> k_marks{{
+constexpr std::array<MarkInfo, 29> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -55,7 +55,8 @@ constexpr std::array<MarkInfo, 28> k_marks{{
      "the linear range"},
     {"saturated", flag, "sample, standard",
      "the trace sits at the detector's maximum (then overflows): its rate says nothing about the enzyme"},
-    {"blank-missing", flag, "sample", "the sample has no blank to subtract (no matched blank, or none on the plate)"},
+    {"blank-missing", flag, "sample",
+     "the sample has no blank to subtract (no matched blank, none on the plate, or none with 3 usable reads)"},
     {"blank-noisy", flag, "sample, blank", "a blank used scatters more than 3 × the median blank scatter"},
     {"blank-substrate", flag, "sample",
      "the blanks' rates change with their substrate and this sample's blanks sit at other levels, missing its own "
@@ -63,6 +64,9 @@ constexpr std::array<MarkInfo, 28> k_marks{{
     {"blank-disturbed", flag, "blank",
      "the blank's first reads jumped or decayed; it is left out of its set (its early reads replaced when all are)"},
     {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},
+    {"blank-too-few-reads", flag, "blank",
+     "the blank has fewer usable reads than `--min-points` (empty cells, missing or overflow marks); with fewer "
+     "than 3 it is left out of its set"},
     {"outside-standards", flag, "sample", "the sample's signal in the window leaves the standard curve's calibrated range"},
     {"no-path", flag, "any",
      "no valid path length for the well (e.g. a water-peak difference ≤ 0)"},
@@ -74,7 +78,8 @@ constexpr std::array<MarkInfo, 28> k_marks{{
     {"blank-line", note, "sample",
      "every blank of the set had a disturbed start: their disturbed reads were replaced (line plus shared bend)"},
     {"blank-left-out", note, "sample",
-     "a blank of the set had a disturbed start: it was left out and the set's other blanks subtracted"},
+     "a blank of the set had a disturbed start or fewer than 3 usable reads: it was left out and the set's other "
+     "blanks subtracted"},
     {"blank-spike", note, "sample", "a read of a blank used sat far off its neighbours: their line replaced it"},
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
     {"no-limit", note, "sample",

@@ -163,6 +163,47 @@ TEST_CASE("a disturbed blank is left out of a set that has a clean one") {
   CHECK(l.wells[static_cast<std::size_t>(a1)].notes == std::vector<std::string>{"blank-line"});
 }
 
+TEST_CASE("a blank with fewer than 3 usable reads is left out; alone, its samples have no blank") {
+  // A1 = 0.05 + 0.0011·t, B2 = 0.05 + 0.0002·t (exact), and B1 with one read and every
+  // other cell empty (worked here). B1 has no line: it is flagged and left out, so A1 − B2
+  // rises at 0.0009 /s at every read (B1's single read, averaged in at t = 0, would have
+  // moved the first corrected read), and the note says a blank was left out. With B1 the
+  // set's only blank, A1 keeps its reads uncorrected and is flagged blank-missing, not
+  // too-few-reads: its own reads are all there.
+  std::string text = "Time [s],A1,B1,B2\n";
+  for (int i = 0; i < 10; ++i) {
+    const double t = 10.0 * i;
+    text += fmt::format("{},{},{},{}\n", t, 0.05 + 0.0011 * t, i == 0 ? "0.07" : "", 0.05 + 0.0002 * t);
+  }
+  Run run = read_run_text("plate.csv", text, load_profile("wide-generic"));
+  const Channel& c = run.channels[0];
+  BlankOptions o;
+  o.strategy = BlankStrategy::matched;
+  const int a1 = c.column_of(run.format.index(*parse_well("A1")));
+  const int b1 = c.column_of(run.format.index(*parse_well("B1")));
+  PlateMap both = parse_plate_map("map.csv", "well,role,match\nA1,sample,x\nB1,blank,x\nB2,blank,x\n");
+  BlankResult r = apply_blank(c, both, run.format, o);
+  const WellBlank& wb = r.wells[static_cast<std::size_t>(a1)];
+  CHECK(wb.blank_wells == "B2");
+  CHECK(wb.notes == std::vector<std::string>{"blank-left-out"});
+  CHECK(wb.flags.empty());
+  CHECK(std::fabs(r.corrected(0, a1)) < 1e-12);
+  for (Eigen::Index i = 1; i < 10; ++i)
+    CHECK_REL(r.corrected(i, a1), 0.0009 * c.time_s[static_cast<std::size_t>(i)], 1e-9);
+  CHECK(r.wells[static_cast<std::size_t>(b1)].flags == std::vector<std::string>{"blank-too-few-reads"});
+  PlateMap alone = parse_plate_map("map.csv", "well,role,match\nA1,sample,x\nB1,blank,x\nB2,blank,y\n");
+  BlankResult l = apply_blank(c, alone, run.format, o);
+  const WellBlank& wl = l.wells[static_cast<std::size_t>(a1)];
+  CHECK(wl.flags == std::vector<std::string>{"blank-missing"});
+  CHECK(wl.blank_wells.empty());
+  for (Eigen::Index i = 0; i < 10; ++i) CHECK(l.corrected(i, a1) == c.values(i, a1));
+  // The plate blank: every blank in one set, B1 left out the same way.
+  o.strategy = BlankStrategy::plate;
+  BlankResult p = apply_blank(c, both, run.format, o);
+  CHECK(p.wells[static_cast<std::size_t>(a1)].blank_wells == "B2");
+  CHECK(p.wells[static_cast<std::size_t>(a1)].notes == std::vector<std::string>{"blank-left-out"});
+}
+
 // Blanks whose own rates rise with their substrate, and samples that subtract blanks of other
 // levels. Constructed exactly: blank B_k at S = 0, 100, 200, 300 µM rises at S·1e-6 AU/s
 // (0.05 + S·1e-6·t), samples A1 (S = 0) and A2 (S = 300) add 0.001 AU/s of enzyme to their

@@ -113,6 +113,9 @@ struct BlankWells {
   // A blank's line (its rate and scatter, after a disturbed start) and whether its start was disturbed.
   const LineFit& line(int b) const { return screen.line[slot[static_cast<std::size_t>(b)]]; }
   bool disturbed(int b) const { return screen.skip[slot[static_cast<std::size_t>(b)]] > 0; }
+  // Whether the blank has a line (3 usable reads or more): one without says nothing of the
+  // background and would take every read it lacks from its samples; it is left out of its set.
+  bool readable(int b) const { return std::isfinite(line(b).slope); }
   double median_sd = NAN;  // median scatter of the blanks (3 or more)
   double rate_sd = NAN;    // within_set_rate_sd of their rates
   int rate_dof = 0;        // its degrees of freedom
@@ -238,6 +241,7 @@ void judge_blank(const BlankWells& bw, const BlankOptions& o, int j, WellBlank& 
   const LineFit& l = bw.line(j);
   wb.blank_rate = l.slope;
   wb.blank_noise_sd = l.resid_sd;
+  if (!bw.readable(j)) wb.flags.emplace_back("blank-too-few-reads");
   if (!std::isnan(bw.median_sd) && l.resid_sd > o.noisy_factor * bw.median_sd) wb.flags.emplace_back("blank-noisy");
   if (bw.disturbed(j)) wb.flags.emplace_back("blank-disturbed");
 }
@@ -288,7 +292,8 @@ void subtract(const Channel& c, const SharedBlank& sb, Eigen::Index j, BlankResu
 // A set of blanks (every blank, or those of one match key) and what it gives each well that
 // uses it, worked out once, when a well first needs it.
 struct BlankSet {
-  std::vector<int> use;   // channel columns, in the order of BlankWells::all
+  std::vector<int> use;   // channel columns of its readable blanks, in the order of BlankWells::all
+  bool unread = false;    // a blank of the set was left out: fewer than 3 usable reads
   bool ready = false;     // `use` trimmed of disturbed blanks and `shared` worked out
   bool left_out = false;  // a blank with a disturbed start was left out of the set
   SharedBlank shared;
@@ -301,14 +306,22 @@ struct BlankSets {
   std::map<std::string_view, BlankSet> matched;  // keys view the plate map's entries
 };
 
+// A set whose blanks are all unreadable stays, empty: its samples have no blank.
 BlankSets blank_sets(const BlankWells& bw, const std::vector<const WellInfo*>& infos, const BlankOptions& o) {
   BlankSets sets;
-  if (o.strategy == BlankStrategy::plate) sets.plate.use = bw.all;
-  if (o.strategy == BlankStrategy::matched)
-    for (int b : bw.all) {
+  for (int b : bw.all) {
+    BlankSet* set = nullptr;
+    if (o.strategy == BlankStrategy::plate) set = &sets.plate;
+    if (o.strategy == BlankStrategy::matched) {
       const WellInfo* bi = infos[static_cast<std::size_t>(b)];
-      if (!bi->match.empty()) sets.matched[bi->match].use.push_back(b);
+      if (!bi->match.empty()) set = &sets.matched[bi->match];
     }
+    if (!set) continue;
+    if (bw.readable(b))
+      set->use.push_back(b);
+    else
+      set->unread = true;
+  }
   return sets;
 }
 
@@ -360,7 +373,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     wb.blank_wells = sb.names;
     if (sb.noisy) wb.flags.emplace_back("blank-noisy");
     if (sb.line) wb.notes.emplace_back("blank-line");
-    if (set->left_out) wb.notes.emplace_back("blank-left-out");
+    if (set->left_out || set->unread) wb.notes.emplace_back("blank-left-out");
     if (sb.spike) wb.notes.emplace_back("blank-spike");
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(set->use.size()));

@@ -162,7 +162,8 @@ Str per_file_block(const std::vector<RunAnalysis>& runs) {
 std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable& summary, const RunSettings& s,
                        const std::string& package_path) {
   int wells = 0, samples = 0, flagged = 0, blanks = 0, standards = 0, empty = 0, controls = 0;
-  std::map<Str, int> by_flag, by_note;
+  int blanks_flagged = 0, standards_flagged = 0;
+  std::map<Str, int> by_flag, by_note, blank_flags, standard_flags;
   for (const auto& ra : runs)
     for (const auto& ca : ra.channels)
       for (const auto& row : ca.rows) {
@@ -171,6 +172,12 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
         standards += row.role == Role::standard;
         empty += row.role == Role::empty;
         controls += is_control(row.role);
+        // Blanks and standards are judged by their own words (docs/outputs.md): counted apart.
+        if (row.role == Role::blank || row.role == Role::standard) {
+          auto& words = row.role == Role::blank ? blank_flags : standard_flags;
+          for (const auto& f : row.flags) ++words[f];
+          (row.role == Role::blank ? blanks_flagged : standards_flagged) += !row.flags.empty();
+        }
         if (row.role != Role::sample) continue;
         ++samples;
         for (const auto& f : row.flags) ++by_flag[f];
@@ -185,6 +192,12 @@ std::string run_digest(const std::vector<RunAnalysis>& runs, const SummaryTable&
   out += fmt::format("{} sample well{} flagged", flagged, flagged == 1 ? "" : "s");
   if (flagged) out += " (a well may have several reasons; meanings: vzero rates --help):\n  " + counts_line(by_flag, 2);
   out += "\n";
+  if (blanks_flagged)
+    out += fmt::format("{} blank well{} flagged: {}\n", blanks_flagged, blanks_flagged == 1 ? "" : "s",
+                       counts_line(blank_flags, 2));
+  if (standards_flagged)
+    out += fmt::format("{} standard well{} flagged: {}\n", standards_flagged, standards_flagged == 1 ? "" : "s",
+                       counts_line(standard_flags, 2));
   if (!by_note.empty())
     out += "corrections made (notes; these wells keep their rate):\n  " + counts_line(by_note, 2) + "\n";
   const bool per_plate = per_plate_digest(runs, condition_lines(summary).size());
