@@ -254,49 +254,6 @@ double temperature_cell(const CompiledProfile& cp, const Profile& p, const std::
   return k == CellKind::number ? v : std::nan("");
 }
 
-void bad_value_error(const Profile& p, const std::string& file, int line, int column, std::string_view line_text,
-                     std::string_view cell, const std::string& what_cell) {
-  std::string_view t = trim(cell);
-  std::vector<std::string> fixes;
-  std::string lowered = lower(t);
-  if (number_too_large(t, p.decimal)) {
-    fixes.push_back(
-        fmt::format("correct the cell; if the instrument writes \"{}\" for a saturated read, add it to "
-                    "the profile's `overflow` list",
-                    t));
-  } else if (lowered == "nan" || lowered == "inf" || lowered == "-inf" || lowered == "infinity" || lowered == "+inf") {
-    fixes.push_back(fmt::format("add \"{}\" to the profile's `missing` or `overflow` list", t));
-  } else if (p.decimal == '.' && t.find(',') != std::string_view::npos) {
-    // The built-in profile for this line's delimiter: tabs, else semicolons.
-    const bool tabs = line_text.find('\t') != std::string_view::npos;
-    const std::string builtin = std::string(p.shape == Shape::long_form ? "long-" : "wide-") +
-                                (tabs ? "tab-comma" : "semicolon-comma");
-    // A number written with '.' elsewhere on the line: more likely one mistyped cell than a
-    // decimal-comma file.
-    bool dots = false;
-    for (std::size_t i = 1; i + 1 < line_text.size(); ++i)
-      dots |= line_text[i] == '.' && std::isdigit(static_cast<unsigned char>(line_text[i - 1])) &&
-              std::isdigit(static_cast<unsigned char>(line_text[i + 1]));
-    if (dots)
-      fixes.push_back(fmt::format(
-          "other numbers on this line use '.': if \"{}\" is a slip, correct the cell or re-export the file", t));
-    fixes.push_back(p.shape == Shape::grid
-                        ? std::string("set decimal = \",\" (and delimiter = \";\" or \"tab\") in the profile")
-                        : fmt::format("set decimal = \",\" (and delimiter = \"{}\") in the profile, or pass --profile {}",
-                                      tabs ? "tab" : ";", builtin));
-  } else if (p.decimal == ',' && t.find('.') != std::string_view::npos) {
-    fixes.push_back(
-        "if only some cells use '.', the file mixes decimal marks: correct them or re-export the file; "
-        "if all do, set decimal = \".\" in the profile");
-  } else {
-    fixes.push_back(
-        fmt::format("add \"{}\" to the profile's `overflow` or `missing` list if it marks an unusable read", t));
-  }
-  throw InputError(Where{file, line, column, std::string(line_text)},
-                   fmt::format("expected a number for {}, found {}", what_cell, describe_found(t, p.decimal)),
-                   std::move(fixes));
-}
-
 ChannelBuilder::ChannelBuilder(SectionStart start, std::vector<WellId> wells)
     : start_(std::move(start)), wells_(std::move(wells)) {}
 
