@@ -31,7 +31,7 @@ constexpr MarkKind flag = MarkKind::flag;
 constexpr MarkKind note = MarkKind::note;
 
 // clang-format off
-constexpr std::array<MarkInfo, 29> k_marks{{
+constexpr std::array<MarkInfo, 30> k_marks{{
     {"too-few-reads", flag, "sample, standard",
      "fewer than `--min-points` usable reads (or a span shorter than `--min-span-s`); any rate given is from all usable reads"},
     {"nonlinear", flag, "sample", "even the shortest window is curved: no straight stretch long enough"},
@@ -65,8 +65,7 @@ constexpr std::array<MarkInfo, 29> k_marks{{
      "the blank's first reads jumped or decayed; it is left out of its set (its early reads replaced when all are)"},
     {"blank-drift", flag, "blank", "the blank's trace bends: no straight blank line describes it"},
     {"blank-too-few-reads", flag, "blank",
-     "the blank has fewer usable reads than `--min-points` (empty cells, missing or overflow marks); with fewer "
-     "than 3 it is left out of its set"},
+     "the blank has fewer usable reads than `--min-points`; with fewer than 3 it is left out of its set"},
     {"outside-standards", flag, "sample", "the sample's signal in the window leaves the standard curve's calibrated range"},
     {"no-path", flag, "any",
      "no valid path length for the well (e.g. a water-peak difference ≤ 0)"},
@@ -81,6 +80,8 @@ constexpr std::array<MarkInfo, 29> k_marks{{
      "a blank of the set had a disturbed start or fewer than 3 usable reads: it was left out and the set's other "
      "blanks subtracted"},
     {"blank-spike", note, "sample", "a read of a blank used sat far off its neighbours: their line replaced it"},
+    {"blank-filled", note, "sample",
+     "a blank used lacked reads (empty cells, missing marks): its line filled them"},
     {"empty", note, "empty", "the well is not in the plate map, or its role is `empty`"},
     {"no-limit", note, "sample",
      "no substrate concentration (or no concentration scale) for the sample: no conversion limit applied"},

@@ -1,5 +1,6 @@
 // Blank subtraction: plate, matched and none, read by read or by rate.
 #include <fmt/format.h>
+#include <algorithm>
 #include <cmath>
 
 #include "test_support.hpp"
@@ -202,6 +203,41 @@ TEST_CASE("a blank with fewer than 3 usable reads is left out; alone, its sample
   BlankResult p = apply_blank(c, both, run.format, o);
   CHECK(p.wells[static_cast<std::size_t>(a1)].blank_wells == "B2");
   CHECK(p.wells[static_cast<std::size_t>(a1)].notes == std::vector<std::string>{"blank-left-out"});
+}
+
+TEST_CASE("a read a blank lacks is filled by its line, so the set's mean does not step") {
+  // Two flat blanks at 0.040 and 0.060 (exact), A1 = 0.05 + 0.001·t, 10 reads 10 s apart;
+  // B1's cells at reads 3–5 are empty. Worked here: with B1's line filling them the mean
+  // blank is 0.050 at every read and A1 − blank = 0.001·t exactly; the mean of B2 alone
+  // there (0.060) would have dented A1 by 0.010 for three reads. An overflow mark is not a
+  // lack of a read: B1's "OVER" at read 7 stays unread, and that read's mean is B2's.
+  std::string text = "Time [s],A1,B1,B2\n";
+  for (int i = 0; i < 10; ++i) {
+    const double t = 10.0 * i;
+    const std::string b1 = (i >= 3 && i <= 5) ? "" : (i == 7 ? "OVER" : "0.040");
+    text += fmt::format("{},{},{},0.060\n", t, 0.05 + 0.001 * t, b1);
+  }
+  Run run = read_run_text("plate.csv", text, load_profile("wide-generic"));
+  const Channel& c = run.channels[0];
+  const int a1 = c.column_of(run.format.index(*parse_well("A1")));
+  const int b1 = c.column_of(run.format.index(*parse_well("B1")));
+  REQUIRE(c.status(7, b1) == ReadStatus::overflow);
+  REQUIRE(c.status(4, b1) == ReadStatus::missing);
+  PlateMap map = parse_plate_map("map.csv", "well,role\nA1,sample\nB1,blank\nB2,blank\n");
+  BlankOptions o;
+  o.strategy = BlankStrategy::plate;
+  o.mode = BlankMode::trace;
+  BlankResult r = apply_blank(c, map, run.format, o);
+  for (Eigen::Index i = 0; i < 10; ++i) {
+    if (i == 7) continue;
+    CHECK(r.blank(i, a1) == doctest::Approx(0.050).epsilon(1e-12));
+    CHECK(std::fabs(r.corrected(i, a1) - 0.001 * c.time_s[static_cast<std::size_t>(i)]) < 1e-12);
+  }
+  CHECK(r.blank(7, a1) == doctest::Approx(0.060).epsilon(1e-12));
+  const auto& notes = r.wells[static_cast<std::size_t>(a1)].notes;
+  CHECK(std::find(notes.begin(), notes.end(), "blank-filled") != notes.end());
+  // Rate mode fits the same filled mean: 0 over the blanks' window.
+  CHECK(std::fabs(blank_rate_between(c, map, run.format, o, r, a1, 0, 60)) < 1e-12);
 }
 
 // Blanks whose own rates rise with their substrate, and samples that subtract blanks of other

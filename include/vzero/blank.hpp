@@ -92,8 +92,9 @@ struct BlankResult {
   BlankSubstrateTrend substrate_trend;
   // The channel's blank wells (columns) and their reads as subtracted: each one's disturbed
   // first reads (blank_disturbed of them; 0 = clean) replaced by what it would have read
-  // undisturbed — its line after them plus the bend all blanks share (src/blank/screen.hpp);
-  // reads × blank_columns, NaN where not ok.
+  // undisturbed — its line after them plus the bend all blanks share (src/blank/screen.hpp),
+  // reads it lacked between its first and last filled the same way; reads × blank_columns,
+  // NaN where not ok and not filled.
   std::vector<int> blank_columns;
   std::vector<int> blank_disturbed;
   Eigen::MatrixXd blank_reads;

@@ -12,27 +12,6 @@
 namespace vzero {
 
 namespace {
-constexpr EnumName<BlankStrategy> k_strategies[] = {
-    {BlankStrategy::plate, "plate"}, {BlankStrategy::matched, "matched"}, {BlankStrategy::none, "none"}};
-constexpr EnumName<BlankMode> k_modes[] = {
-    {BlankMode::smooth, "smooth"}, {BlankMode::trace, "trace"}, {BlankMode::rate, "rate"}};
-}  // namespace
-
-template <>
-std::span<const EnumName<BlankStrategy>> enum_names<BlankStrategy>() {
-  return k_strategies;
-}
-template <>
-std::span<const EnumName<BlankMode>> enum_names<BlankMode>() {
-  return k_modes;
-}
-
-std::string_view to_string(BlankStrategy s) { return enum_text(s); }
-std::string_view to_string(BlankMode m) { return enum_text(m); }
-bool parse_blank_strategy(std::string_view t, BlankStrategy& out) { return parse_enum(t, out); }
-bool parse_blank_mode(std::string_view t, BlankMode& out) { return parse_enum(t, out); }
-
-namespace {
 
 using detail::LineFit;
 
@@ -176,6 +155,7 @@ struct SharedBlank {
   bool noisy = false;      // one of them is blank-noisy
   bool line = false;       // every one had a disturbed start: their disturbed reads are replaced
   bool spike = false;      // one of them had a read replaced as a spike
+  bool filled = false;     // one of them had reads it lacked filled by its line
   double rate = NAN;       // slope of the mean trace
   double substrate = NAN;  // mean plate-map substrate of the blanks (NaN when one has none)
 };
@@ -218,8 +198,9 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
     double s = 0;
     int n = 0;
     for (std::size_t u = 0; u < use.size(); ++u) {
-      if (c.status(i, use[u]) != ReadStatus::ok) continue;
-      s += bw.screen.reads(i, slots[u]);
+      const double v = bw.screen.reads(i, slots[u]);  // NaN where unread and not filled
+      if (!std::isfinite(v)) continue;
+      s += v;
       ++n;
     }
     if (n > 0) {
@@ -230,6 +211,7 @@ SharedBlank shared_blank(const Channel& c, PlateFormat f, const BlankOptions& o,
   for (int b : use) {
     sb.line |= bw.disturbed(b);
     sb.spike |= bw.screen.spikes[bw.slot[static_cast<std::size_t>(b)]] > 0;
+    sb.filled |= bw.screen.filled[bw.slot[static_cast<std::size_t>(b)]] > 0;
   }
   sb.rate = fit_line(c.time_s, sb.mean.data(), sb.st.data(), -INFINITY, INFINITY).slope;
   sb.substrate = mean_substrate(bw, use);
@@ -375,6 +357,7 @@ BlankResult apply_blank(const Channel& c, const PlateMap& map, PlateFormat f, co
     if (sb.line) wb.notes.emplace_back("blank-line");
     if (set->left_out || set->unread) wb.notes.emplace_back("blank-left-out");
     if (sb.spike) wb.notes.emplace_back("blank-spike");
+    if (sb.filled) wb.notes.emplace_back("blank-filled");
     wb.blank_noise_sd = sb.noise_sd;
     wb.blank_rate_sd = bw.rate_sd * std::sqrt(1.0 + 1.0 / static_cast<double>(set->use.size()));
     wb.blank_rate_dof = bw.rate_dof;
@@ -400,11 +383,12 @@ double blank_rate_between(const Channel& c, const PlateMap& map, PlateFormat f, 
   for (std::size_t i = 0; i < c.time_s.size(); ++i) {
     double s = 0;
     int n = 0;
-    for (int b : use)
-      if (c.status(static_cast<Eigen::Index>(i), b) == ReadStatus::ok) {
-        s += blanks.blank_reads(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(slot(b)));
-        ++n;
-      }
+    for (int b : use) {
+      const double v = blanks.blank_reads(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(slot(b)));
+      if (!std::isfinite(v)) continue;  // unread and not filled
+      s += v;
+      ++n;
+    }
     if (n > 0) {
       mean[i] = s / n;
       st[i] = ReadStatus::ok;

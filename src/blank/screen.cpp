@@ -195,6 +195,26 @@ bool smooth_reads(const std::vector<double>& t, const std::vector<double>& y, co
   return true;
 }
 
+// Step 7 for one blank (column k of `reads`; `y` its usable reads, NaN elsewhere; `zl` its
+// line with the bend off): the missing reads between its first and last usable one filled
+// by the line plus the bend. Reads marked overflow are left alone (the plate was beyond the
+// detector there, not unread). Returns how many.
+int fill_gaps(const Channel& c, int column, const std::vector<double>& y, const LineFit& zl, const Eigen::MatrixXd& bend,
+              std::size_t k, Eigen::MatrixXd& reads) {
+  if (!std::isfinite(zl.slope)) return 0;
+  std::size_t first = 0, last = y.size();
+  while (first < y.size() && !std::isfinite(y[first])) ++first;
+  while (last > first && !std::isfinite(y[last - 1])) --last;
+  int n = 0;
+  for (std::size_t i = first; i < last; ++i) {
+    const auto ii = static_cast<Eigen::Index>(i);
+    if (std::isfinite(y[i]) || c.status(ii, column) != ReadStatus::missing) continue;
+    reads(ii, static_cast<Eigen::Index>(k)) = zl.intercept + zl.slope * c.time_s[i] + bend(ii, static_cast<Eigen::Index>(k));
+    ++n;
+  }
+  return n;
+}
+
 }  // namespace
 
 BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, bool smooth) {
@@ -203,6 +223,7 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, boo
   s.skip.assign(m, 0);
   s.spikes.assign(m, 0);
   s.smoothed.assign(m, 0);
+  s.filled.assign(m, 0);
   s.line.resize(m);
   s.flat_sd.assign(m, NAN);
   s.reads = Eigen::MatrixXd::Constant(static_cast<Eigen::Index>(reads), static_cast<Eigen::Index>(m), NAN);
@@ -244,7 +265,8 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, boo
       from = 0;
     }
     s.line[k] = line_from(c.time_s, y[k], from);
-    s.flat_sd[k] = line_from(c.time_s, z[k], from).resid_sd;
+    const LineFit flat = line_from(c.time_s, z[k], from);
+    s.flat_sd[k] = flat.resid_sd;
     for (std::size_t i = 0; i < reads; ++i) {
       const auto ii = static_cast<Eigen::Index>(i);
       s.reads(ii, static_cast<Eigen::Index>(k)) =
@@ -255,6 +277,8 @@ BlankScreen screen_blanks(const Channel& c, const std::vector<int>& columns, boo
     // Step 5: single reads far off their neighbours, replaced by the neighbours' line.
     s.spikes[k] = replace_spikes(tt, zz, at, s.skip[k], s.noise_sd, s.bend, k, s.reads);
     if (smooth && m > k_bend_blanks) s.smoothed[k] = smooth_reads(c.time_s, y[k], z[k], from, s.bend, k, s.reads);
+    // Step 7: the reads it lacks, filled.
+    s.filled[k] = fill_gaps(c, columns[k], y[k], flat, s.bend, k, s.reads);
   }
   return s;
 }

@@ -24,7 +24,11 @@
 //      own read noise, and a disturbance below step 3's cut does not reach them either. A
 //      blank that, less its bend, still curves about its line (a t test on the (t − t̄)²
 //      term at 1 %: a background reaction of its own, which its samples share) keeps its
-//      reads as read.
+//      reads as read;
+//   7. a read a blank lacks (an empty cell or a missing mark) between its first and last
+//      usable reads is filled by its line (bend off) plus its bend, so the mean of a set
+//      keeps the same blanks at every read: a mean taken over fewer blanks at some reads
+//      steps by their difference in level, and the samples would carry that step.
 #pragma once
 
 #include <Eigen/Core>
@@ -39,9 +43,10 @@ struct BlankScreen {
   std::vector<int> skip;      // per blank (as listed): disturbed first ok reads replaced (0 = clean)
   std::vector<int> spikes;    // per blank: single reads replaced as spikes
   std::vector<int> smoothed;  // per blank: 1 when step 6 replaced its reads (0: as read, or it bends on its own)
+  std::vector<int> filled;    // per blank: reads it lacked, filled by step 7
   std::vector<LineFit> line;  // per blank: least-squares line of its ok reads after a disturbed start
   std::vector<double> flat_sd;  // per blank: residual SD about its line once its shared bend is off (step 3)
-  Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok
+  Eigen::MatrixXd reads;      // reads × blanks: the reads as subtracted; NaN where not ok and not filled
   Eigen::MatrixXd bend;       // reads × blanks: each blank's shared bend (0 with fewer than 3 others)
   double noise_sd = NAN;      // pooled read noise of the blanks, shared bend taken off
 };
