@@ -108,6 +108,31 @@ TEST_CASE("two channels with their own ε and direction give their true rates in
   CHECK(pkg.find("\"signal-ceiling\": \"0.2\"") != std::string::npos);
 }
 
+TEST_CASE("an ε in mM⁻¹·cm⁻¹ or a path in mm is warned of, with the value it likely means") {
+  // A340's ε written as 6.22 (NADH in mM⁻¹·cm⁻¹): its rates come out 1000 × the closed form
+  // above, as given, and the run says why and what to write instead; the warning is recorded
+  // in datapackage.json. A path of 5 (mm meant) is 10 × too long for a plate well. The run
+  // as it should be written warns of neither.
+  TempDir dir;
+  std::string slipped = k_method;
+  slipped.replace(slipped.find("epsilon = 6220"), 14, "epsilon = 6.22");
+  slipped.replace(slipped.find("path-cm = 0.5"), 13, "path-cm = 5");
+  TwoChannels r = run_two_channels(dir, slipped);
+  for (const auto& row : r.out.analyses.at(0).channels.at(0).rows)
+    if (row.role == Role::sample) CHECK(row.v0 == doctest::Approx(k_nadh_per_min * 1000 / 10).epsilon(1e-4));
+  const auto has = [&](const std::string& text) {
+    return std::any_of(r.out.warnings.begin(), r.out.warnings.end(),
+                       [&](const std::string& w) { return w.find(text) != std::string::npos; });
+  };
+  CHECK(has("ε = 6.22 M⁻¹·cm⁻¹ ([channel.A340] in "));
+  CHECK(has("give 6220;"));
+  CHECK(has("the path length 5 cm (--path-cm)"));
+  CHECK(has("if it is in mm, give 0.5;"));
+  CHECK(r.out.datapackage_json.find("give 6220;") != std::string::npos);
+  TempDir clean;
+  CHECK(run_two_channels(clean, k_method).out.warnings.empty());
+}
+
 TEST_CASE("the same run from the command line writes one rates.csv with both channels") {
   TempDir dir;
   spit(dir / "plate.csv", two_channel_export());

@@ -159,9 +159,47 @@ ScreenColumns screen_columns(const PlateMap& map, const RunSettings& s, Provenan
   return ScreenColumns{full && none, s.screen.hit_threshold_pct};
 }
 
+// A molar absorption coefficient or path length in another unit than the option's: ε in
+// mM⁻¹·cm⁻¹ (6.22 for NADH) makes every concentration 1000 × too large, a path in mm 10 ×
+// too small, and a run without `substrate` in the map has no conversion limit to show it.
+// The chromophores plate assays measure absorb with ε of about 10³–10⁵ M⁻¹·cm⁻¹ (NADH 6220
+// at 340 nm, the nitrophenolate and thiolate dyes 13,000–18,500; common practice) and a
+// plate well's path is at most about 1 cm: below 100 M⁻¹·cm⁻¹ or above 2 cm, a warning.
+void add_unit_slip_warnings(const RunSettings& s, RatesOutputs& out) {
+  std::vector<std::pair<std::string, const ConvertOptions*>> given{{"", &s.analysis.convert}};
+  for (const auto& cs : s.analysis.channel_settings)
+    given.emplace_back(fmt::format("[channel.{}] in {}", cs.channel, cs.file), &cs.convert);
+  const ConvertOptions& run = s.analysis.convert;
+  std::vector<std::string> said;  // a value the channel tables inherit is said once, of the option
+  const auto say = [&](std::string w) {
+    if (std::find(said.begin(), said.end(), w) == said.end()) said.push_back(std::move(w));
+  };
+  for (const auto& [table, c] : given) {
+    // The table names the value only when it is its own (not the run's, inherited).
+    const auto where = [&](const char* option, double value, double run_value) {
+      return table.empty() || value == run_value ? std::string(option) : table;
+    };
+    if (c->mode != ConvertMode::beer_lambert) continue;
+    if (c->epsilon_per_m_cm < 100)
+      say(fmt::format(
+          "ε = {:g} M⁻¹·cm⁻¹ ({}) is below what the chromophores of plate assays have (about 10³–10⁵; NADH "
+          "6220 at 340 nm): if it is in mM⁻¹·cm⁻¹, give {:g}; as given, every concentration and v0 is 1000 × "
+          "what that would give",
+          c->epsilon_per_m_cm, where("--epsilon", c->epsilon_per_m_cm, run.epsilon_per_m_cm),
+          c->epsilon_per_m_cm * 1000));
+    if (c->path_cm > 2)
+      say(fmt::format(
+          "the path length {:g} cm ({}) is longer than a plate well's (at most about 1 cm): if it is in mm, "
+          "give {:g}; as given, every concentration and v0 is a tenth of what that would give",
+          c->path_cm, where("--path-cm", c->path_cm, run.path_cm), c->path_cm / 10));
+  }
+  out.warnings.insert(out.warnings.end(), said.begin(), said.end());
+}
+
 // After the analyses: channels left unconverted when method tables convert others, and
 // samples without a substrate where a conversion limit was due.
 void add_run_notes(const RunSettings& s, bool unconverted, RatesOutputs& out) {
+  add_unit_slip_warnings(s, out);
   if (unconverted && !s.analysis.channel_settings.empty()) {
     std::set<std::string> left;
     for (const auto& ra : out.analyses)
