@@ -12,9 +12,10 @@ using vzero::test::run_vzero;
 
 namespace {
 
-// A 96-well wide export with a bare `Time` header, reads `step` apart, and its plate map.
-void write_plate(const vzero::test::TempDir& dir, double step) {
-  std::string s = "Time";
+// A 96-well wide export with a bare `Time` header (or `header`), reads `step` apart, and its
+// plate map.
+void write_plate(const vzero::test::TempDir& dir, double step, const std::string& header = "Time") {
+  std::string s = header;
   std::string map = "well,role\n";
   for (int w = 0; w < 96; ++w) {
     const std::string name = fmt::format("{}{}", static_cast<char>('A' + w / 12), w % 12 + 1);
@@ -70,4 +71,27 @@ TEST_CASE("minutes not stated: rates stops with the fix (exit 1); --time-unit mi
   CHECK(export_read(vzero::test::slurp(dir / "datapackage.json"))["time_unit"]["basis"] == "--time-unit min");
   const auto i = run_vzero("inspect plate.csv --time-unit min", dir.path.string());
   CHECK(i.out.find("reads   11, from 0 s to 300 s") != std::string::npos);  // 5 min = 300 s
+}
+
+TEST_CASE("seconds stated at steps no plate reader makes: read as stated, with a warning") {
+  // "Time [s]" over reads 0.5 apart for 96 wells (under the 1.92 s a reader needs, above): the
+  // header stands, so the rates are per the stated seconds, but the console, inspect and
+  // datapackage.json say that minutes would make them 60 × too fast. 30 s steps say nothing.
+  vzero::test::TempDir dir;
+  write_plate(dir, 0.5, "Time [s]");
+  const auto r = run_vzero("rates plate.csv --layout map.csv -o rates.csv", dir.path.string());
+  REQUIRE_MESSAGE(r.status == 0, r.describe());
+  const std::string said = "plate.csv: times read as seconds, as the time header \"Time [s]\" states, with a median "
+                           "step of 0.5 between reads of 96 wells";
+  CHECK(r.err.find("warning: " + said) != std::string::npos);
+  CHECK(r.err.find("60 × too fast") != std::string::npos);
+  const auto j = nlohmann::json::parse(vzero::test::slurp(dir / "datapackage.json"));
+  CHECK(j["vzero"]["warnings"].dump().find("times read as seconds, as the time header") != std::string::npos);
+  const auto i = run_vzero("inspect plate.csv", dir.path.string());
+  CHECK(i.out.find("  warning: times read as seconds") != std::string::npos);
+  vzero::test::TempDir calm;
+  write_plate(calm, 30, "Time [s]");
+  const auto c = run_vzero("rates plate.csv --layout map.csv -o rates.csv", calm.path.string());
+  REQUIRE_MESSAGE(c.status == 0, c.describe());
+  CHECK(c.err.find("warning") == std::string::npos);
 }

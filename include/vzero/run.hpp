@@ -110,6 +110,9 @@ struct Run {
   // read through rather than as data (a blank line inside a block, a comment line).
   std::vector<ReadFact> read_facts;
   std::vector<std::string> read_notes;
+  // What was read as stated but looks wrong (a header's seconds at steps no plate reader
+  // makes): `inspect` and `rates` print it as a warning, datapackage.json records it.
+  std::vector<std::string> read_warnings;
 
   const Channel* find_channel(std::string_view name) const;
 };

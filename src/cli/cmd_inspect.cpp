@@ -92,6 +92,7 @@ std::string describe_run(const Run& run, const ProfileChoice& choice) {
   for (const auto& f : run.read_facts)
     out += fmt::format("  {:<15} {}{}\n", f.name, f.value, f.basis.empty() ? "" : "  (" + f.basis + ")");
   for (const auto& n : run.read_notes) out += fmt::format("  note: {}\n", n);
+  for (const auto& w : run.read_warnings) out += fmt::format("  warning: {}\n", w);
   return out;
 }
 

@@ -58,6 +58,17 @@ std::string not_seconds(const Channel& c) {
 void settle_time_unit(Run& run, const ReadInfo& info) {
   if (!info.time_basis.empty()) {
     run.read_facts.push_back({"time_unit", std::string(to_string(info.time_unit)), info.time_basis});
+    // The stated unit stands, but seconds at steps no plate reader makes are said out loud:
+    // minutes written under a seconds header give rates 60 × too fast.
+    if (info.time_unit == TimeUnit::seconds)
+      for (const auto& c : run.channels)
+        if (const std::string why = not_seconds(c); !why.empty()) {
+          run.read_warnings.push_back(fmt::format(
+              "times read as seconds, as {} states, with {}: if they are minutes, every rate is 60 × too fast; "
+              "correct the header or re-export",
+              info.time_basis, why));
+          break;
+        }
     return;
   }
   if (!info.plain_times) {

@@ -310,6 +310,7 @@ void record_files(RatesOutputs& out) {
       if (fact.name == "time_unit" && fact.basis.rfind("no unit", 0) == 0)
         out.notes.push_back(fmt::format("{}: read times taken as seconds: {}", f.path, fact.basis));
     for (const auto& n : f.run->read_notes) out.notes.push_back(fmt::format("{}: {}", f.path, n));
+    for (const auto& w : f.run->read_warnings) out.warnings.push_back(fmt::format("{}: {}", f.path, w));
     if (f.choice.profile.source != "built-in" && profiles_listed.insert(f.choice.profile.source).second)
       prov.inputs.push_back({"profile", f.choice.profile.source, f.choice.profile.sha256, "", "", {}, {}});
     out.analyses.push_back(std::move(f.analysis));
