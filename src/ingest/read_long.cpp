@@ -69,6 +69,13 @@ int find_column(const std::vector<FieldView>& f, const std::vector<std::string>&
 std::optional<InputError> near_header(const Profile& p, Columns c, const std::vector<FieldView>& views,
                                       std::string_view line, const std::string& file, int line_no) {
   if (c.time < 0) c.value = find_column(views, p.value_columns);
+  // Or, as try_header would take it, the one column whose header names a signal ("OD405").
+  for (std::size_t i = 0, signals = 0; c.time < 0 && c.value < 0 && i < views.size(); ++i)
+    if (static_cast<int>(i) != c.well && signal_header(trim(views[i].text)) && ++signals == 1) {
+      for (std::size_t j = i + 1; j < views.size(); ++j)
+        if (static_cast<int>(j) != c.well && signal_header(trim(views[j].text))) ++signals;
+      if (signals == 1) c.value = static_cast<int>(i);
+    }
   if (c.time < 0 && c.value < 0) return std::nullopt;
   // The one field that no column of the profile names, if there is one: the missing column.
   const FieldView* unknown = nullptr;
