@@ -121,6 +121,27 @@ TEST_CASE("a header of wells without a time column is blamed on that header") {
         "    - " + nearest_fix("wide-generic"));
 }
 
+TEST_CASE("a read counter is not offered as the time column; a header that says time is") {
+  // "Kinetic read" numbers the reads: renaming it "Time [s]" would make every step one
+  // second, so the fix says to export the times. "Read time [s]" is a time column under a
+  // name the profile does not know: the usual rename is offered.
+  const auto message = [](const std::string& header) {
+    try {
+      vzero::read_run_text("plate.csv", header + ",A1,A2\n1,0.10,0.10\n2,0.12,0.11\n3,0.14,0.12\n",
+                           vzero::load_profile("wide-generic"));
+    } catch (const vzero::InputError& e) {
+      return e.formatted();
+    }
+    return std::string("no error");
+  };
+  const std::string counter = message("Kinetic read");
+  CHECK(counter.find("\"Kinetic read\" counts reads, it does not time them") != std::string::npos);
+  CHECK(counter.find("name it \"Time [s]\"") == std::string::npos);
+  const std::string timed = message("Read time [s]");
+  CHECK(timed.find("if \"Read time [s]\" holds the read times, name it \"Time [s]\"") != std::string::npos);
+  CHECK(timed.find("counts reads") == std::string::npos);
+}
+
 TEST_CASE("a long header without a value column is blamed on that header, at the unknown column") {
   // Before: "no built-in profile reads this file; what each found:", no line.
   CHECK(detection_message("fail_no_value_column_long.csv") ==

@@ -493,19 +493,27 @@ TEST_CASE("a window after a lag that used much of the substrate is flagged deple
   CHECK(!has_flag(vzero::find_rate(v, opt), "depleted"));
 }
 
-TEST_CASE("a straight line's depletion bias lies inside the interval's upper side") {
-  // First-order progress (far below Km, the bound's worst case; closed form worked here):
-  // P(t) = S0·(1 − e^(−kt)), S0 = 100 µM, k = 1e-3 /s, so v0 = k·S0 = 0.1 µM/s; 60 reads
-  // 10 s apart, signal in µM (conc_per_signal 1). 10 % is converted by −ln(0.9)/k = 105 s,
-  // so the window holds about the first 11 reads and its line rates the reaction at about
-  // 5 % less substrate: below v0. The interval's upper side carries line·c/(1 − c), c the
-  // conversion at the window's middle (at least half the conversion at its end).
+namespace {
+// First-order progress (far below Km, the depletion bound's worst case; closed form):
+// P(t) = S0·(1 − e^(−kt)), S0 = 100 µM, k = 1e-3 /s, so v0 = k·S0 = 0.1 µM/s; 60 reads 10 s
+// apart, noiseless.
+Trace first_order_trace() {
   Trace tr;
   for (int i = 0; i < 60; ++i) {
     tr.t.push_back(10.0 * i);
     tr.y.push_back(100.0 * -std::expm1(-1e-3 * 10.0 * i));
   }
   tr.st.assign(tr.t.size(), ReadStatus::ok);
+  return tr;
+}
+}  // namespace
+
+TEST_CASE("a straight line's depletion bias lies inside the interval's upper side") {
+  // first_order_trace (closed form worked there), signal in µM (conc_per_signal 1). 10 % is
+  // converted by −ln(0.9)/k = 105 s, so the window holds about the first 11 reads and its line
+  // rates the reaction at about 5 % less substrate: below v0. The interval's upper side carries line·c/(1 − c), c the
+  // conversion at the window's middle (at least half the conversion at its end).
+  const Trace tr = first_order_trace();
   vzero::TraceView v = tr.view();
   v.substrate = 100;
   v.conc_per_signal = 1;
@@ -526,19 +534,13 @@ TEST_CASE("a straight line's depletion bias lies inside the interval's upper sid
 }
 
 TEST_CASE("imprecise judges the interval's wider side, not its mean half-width") {
-  // The first-order progress curve of the case above (v0 = 0.1 µM/s, far below Km), read
-  // without noise, with the conversion limit raised to 30 % and the curvature test off: the window then runs to about
-  // 30 % converted and its line rates the reaction at about 15 % less substrate, so the
+  // first_order_trace (v0 = 0.1 µM/s, far below Km) with the conversion limit raised to 30 %
+  // and the curvature test off: the window then runs to about 30 % converted and its line rates the reaction at about 15 % less substrate, so the
   // interval's upper side carries c/(1 − c) ≈ 18 % of the line (c the conversion at the
   // window's middle) while its lower side is the estimator's own, near zero. The mean of
   // the two sides is under the 15 % limit, the upper side over it: "within ±15 %" does not
   // hold, and the well is flagged.
-  Trace tr;
-  for (int i = 0; i < 60; ++i) {
-    tr.t.push_back(10.0 * i);
-    tr.y.push_back(100.0 * -std::expm1(-1e-3 * 10.0 * i));
-  }
-  tr.st.assign(tr.t.size(), ReadStatus::ok);
+  const Trace tr = first_order_trace();
   vzero::TraceView v = tr.view();
   v.substrate = 100;
   v.conc_per_signal = 1;

@@ -103,8 +103,8 @@ struct RunAnalysis {
 // Sorts the words find_rate raised for a well of `role` into rates.csv's `flags` (trust
 // withheld) and `notes` (corrections made): lag, outliers, overflow, a disturbed start and
 // ceiling reads the window left out (`used_high` false) are notes; blanks are judged as
-// blanks (nonlinear becomes blank-drift, too-few-reads blank-too-few-reads), standards as levels (too-few-reads, ceiling,
-// saturated), empty wells not at all; no-activity controls as samples whose rate is expected
+// blanks (nonlinear becomes blank-drift, too-few-reads blank-too-few-reads), standards as
+// levels (too-few-reads, ceiling, saturated), empty wells not at all; no-activity controls as samples whose rate is expected
 // near zero (imprecise, noise and negative are notes). Words already present are not repeated.
 void sort_rate_words(const std::vector<std::string>& words, Role role, bool used_high, std::vector<std::string>& flags,
                      std::vector<std::string>& notes);

@@ -209,7 +209,8 @@ int fill_gaps(const Channel& c, int column, const std::vector<double>& y, const 
   for (std::size_t i = first; i < last; ++i) {
     const auto ii = static_cast<Eigen::Index>(i);
     if (std::isfinite(y[i]) || c.status(ii, column) != ReadStatus::missing) continue;
-    reads(ii, static_cast<Eigen::Index>(k)) = zl.intercept + zl.slope * c.time_s[i] + bend(ii, static_cast<Eigen::Index>(k));
+    const auto kk = static_cast<Eigen::Index>(k);
+    reads(ii, kk) = zl.intercept + zl.slope * c.time_s[i] + bend(ii, kk);
     ++n;
   }
   return n;

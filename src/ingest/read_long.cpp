@@ -63,6 +63,26 @@ int find_column(const std::vector<FieldView>& f, const std::vector<std::string>&
   return -1;
 }
 
+// No column the profile calls a value: the one other column (not `well` or `time`, nor a
+// channel or temperature column) whose header names a signal ("RFU", "OD", "A405";
+// signal_header), if exactly one does; -1 otherwise. `signal` gets what that header says.
+int lone_signal_column(const Profile& p, const std::vector<FieldView>& views, int well, int time,
+                       std::optional<SectionStart>* signal = nullptr) {
+  int found = -1, count = 0;
+  for (std::size_t i = 0; i < views.size(); ++i) {
+    const auto k = static_cast<int>(i);
+    if (k == well || k == time) continue;
+    const std::string_view name = trim(views[i].text);
+    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
+    if (auto s = signal_header(name)) {
+      ++count;
+      found = k;
+      if (signal) *signal = std::move(s);
+    }
+  }
+  return count == 1 ? found : -1;
+}
+
 // For a line naming the well column and one of the time and value columns but not the
 // other (the header, most likely, with that column under another name): the error to give
 // if no header is found.
@@ -70,12 +90,7 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
                                       std::string_view line, const std::string& file, int line_no) {
   if (c.time < 0) c.value = find_column(views, p.value_columns);
   // Or, as try_header would take it, the one column whose header names a signal ("OD405").
-  for (std::size_t i = 0, signals = 0; c.time < 0 && c.value < 0 && i < views.size(); ++i)
-    if (static_cast<int>(i) != c.well && signal_header(trim(views[i].text)) && ++signals == 1) {
-      for (std::size_t j = i + 1; j < views.size(); ++j)
-        if (static_cast<int>(j) != c.well && signal_header(trim(views[j].text))) ++signals;
-      if (signals == 1) c.value = static_cast<int>(i);
-    }
+  if (c.time < 0 && c.value < 0) c.value = lone_signal_column(p, views, c.well, c.time);
   if (c.time < 0 && c.value < 0) return std::nullopt;
   // The one field that no column of the profile names, if there is one: the missing column.
   const FieldView* unknown = nullptr;
@@ -142,28 +157,13 @@ struct LongRead {
     in.info.saw_preamble(line, ln);
   }
 
-  // No column the profile calls a value: the one other column whose header names a signal
-  // ("RFU", "OD", "A405"; signal_header), if exactly one does, holds the values.
+  // No column the profile calls a value: the lone signal-named column holds the values.
   void signal_column(Columns& c) {
-    int found = -1, count = 0;
-    for (std::size_t i = 0; i < views.size(); ++i) {
-      const auto k = static_cast<int>(i);
-      if (k == c.well || k == c.time) continue;
-      const std::string_view name = trim(views[i].text);
-      if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
-      if (auto s = signal_header(name)) {
-        ++count;
-        found = k;
-        c.value_signal = std::move(s);
-        c.value_header = std::string(name);
-      }
-    }
-    if (count == 1) {
-      c.value = found;
-    } else {
-      c.value_signal.reset();
-      c.value_header.clear();
-    }
+    std::optional<SectionStart> signal;
+    c.value = lone_signal_column(p, views, c.well, c.time, &signal);
+    if (c.value < 0) return;
+    c.value_signal = std::move(signal);
+    c.value_header = std::string(trim(views[static_cast<std::size_t>(c.value)].text));
   }
 
   // True when `line` names the well, time and value columns: they become the table's columns.

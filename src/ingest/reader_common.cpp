@@ -214,9 +214,11 @@ InputError missing_column_error(Where where, std::string_view what, const std::v
   std::string message = fmt::format("expected a {} column ({}) in this header{}, found ", what, quoted_list(names),
                                     context.empty() ? "" : fmt::format(" {}", context));
   message += unknown.empty() ? std::string("none") : fmt::format("\"{}\"", unknown);
-  // A cycle or read number counts reads; it is no clock, and renaming it would make one.
+  // A cycle or read number counts reads; it is no clock, and renaming it would make one. (A
+  // header that says time, "Read time [s]", is a time column under another name.)
   const std::string u = lower(unknown);
-  if (time && (u.rfind("cycle", 0) == 0 || u.rfind("read", 0) == 0 || u.rfind("kinetic", 0) == 0 || u == "#"))
+  const bool counts = u.rfind("cycle", 0) == 0 || u.rfind("read", 0) == 0 || u.rfind("kinetic", 0) == 0 || u == "#";
+  if (time && counts && u.find("time") == std::string::npos)
     return InputError(std::move(where), std::move(message),
                       {fmt::format("\"{}\" counts reads, it does not time them: export the read times with the data "
                                    "(a \"Time [s]\" column); renaming it would make every interval one second",

@@ -276,9 +276,10 @@ void take_tangent(const detail::Usable& u, const detail::WindowChoice& w, const 
 // the data support: each side at least what the read noise alone gives the straight line
 // over the reads used, and the spread of the blanks' own rates (which the subtraction
 // carries into every sample) added in quadrature; its wider side relative to the rate
-// decides `imprecise` (the sides differ where a bias widens the upper one: a well
-// whose v0 may lie 25 % above its rate is not known to ±15 %, whatever its lower side). A trace stuck at the detector's maximum says nothing about the rate's
-// size or sign: it is `saturated`, never noise or negative.
+// decides `imprecise` (the sides differ where a bias widens the upper one: a well whose v0
+// may lie 25 % above its rate is not known to ±15 %, whatever its lower side). A trace stuck
+// at the detector's maximum says nothing about the rate's size or sign: it is `saturated`,
+// never noise or negative.
 void judge(const TraceView& tr, const RateOptions& opt, const std::vector<double>& kt, bool saturated, double bias_up,
            RateResult& r) {
   const int nk = static_cast<int>(kt.size());
