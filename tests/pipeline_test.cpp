@@ -2,6 +2,9 @@
 // closed-form progress curve.
 #include <fmt/format.h>
 
+#include <algorithm>
+#include <cmath>
+
 #include "test_support.hpp"
 #include "vzero/analysis.hpp"
 #include "vzero/error.hpp"
@@ -173,4 +176,54 @@ TEST_CASE("a sample rising past the top standard is flagged outside-standards") 
   CHECK_REL(rows[4].v0, 0.3, 1e-9);
   CHECK(rows[4].flags.empty());
   CHECK(rows[5].flags == std::vector<std::string>{"outside-standards"});
+}
+
+namespace {
+// Absorbance read through stray light, a fraction s of the beam that reaches the detector
+// without passing through the sample: A_read = −log10((10^−A + s)/(1 + s)) (common practice:
+// the stray-light error of absorbance photometers; the form is checked below against a worked
+// example).
+double through_stray_light(double a, double s) { return -std::log10((std::pow(10.0, -a) + s) / (1 + s)); }
+}  // namespace
+
+TEST_CASE("the absorbance limit keeps stray light from flattening a rate unflagged") {
+  // The form against a worked example (T = 0.05, i.e. A = 1.301, with stray light 2 % of the
+  // incident beam reads 1.163): -log10((0.05 + 0.02)/(1 + 0.02)).
+  CHECK(through_stray_light(-std::log10(0.05), 0.02) == doctest::Approx(1.1635).epsilon(1e-4));
+  // s = 0.1 %. A rising trace is read at dA_read/dA = 1/(1 + s·10^A) of its slope: 0.9693 at
+  // 1.5 AU, 0.9091 at 2 AU. Well A2 climbs 1.00 → 1.40 AU (true slope 0.04 AU/min), so every
+  // read lies under the default limit and its rate is at most 2.5 % low (1/(1 + 10^−3·10^1.4)
+  // = 0.9755). Well A3 is a turbid well: 1.75 → 1.87 AU at 0.012 AU/min, read 5.3–6.9 % flat.
+  // A1 is the blank at 0.05 AU. Read noise ±0.0008 AU in a fixed pseudo-random pattern.
+  const double s = 1e-3;
+  const double noise[] = {0.6, -0.9, 0.2, 1.0, -0.4, -0.8, 0.7, 0.1, -1.0, 0.5, 0.9,
+                          -0.3, -0.7, 0.3, 0.8, -0.6, -0.1, 0.4, -0.9, 0.6, -0.2};
+  std::string text = "Channel: A405\nTime [s],A1,A2,A3\n";
+  for (int i = 0; i < 21; ++i) {
+    const double e = 0.0008 * noise[i], e_blank = 0.0008 * noise[20 - i];
+    text += fmt::format("{},{:.5f},{:.5f},{:.5f}\n", 30 * i, through_stray_light(0.05, s) + e_blank,
+                        through_stray_light(1.0 + 0.02 * i, s) + e, through_stray_light(1.75 + 0.006 * i, s) - e);
+  }
+  Run run = read_run_text("stray.csv", text, load_profile("wide-generic"));
+  REQUIRE(run.channels[0].quantity == Quantity::absorbance);
+  PlateMap map = parse_plate_map("map.csv", "well,role\nA1,blank\nA2,sample\nA3,sample\n");
+  AnalysisOptions o;
+  CHECK(o.rates.absorbance_limit == 1.5);
+  RunAnalysis a = analyse_run(run, map, o);
+  const auto& rows = a.channels[0].rows;
+  REQUIRE(rows.size() == 3);
+  CHECK(a.channels[0].v0_unit == "AU/min");
+  // A2: trusted, and between the compressed slope at 1.4 AU and the true one (noise allowed).
+  CHECK(rows[1].flags.empty());
+  CHECK(rows[1].v0 > 0.04 * 0.9755 * 0.99);
+  CHECK(rows[1].v0 < 0.04 * 1.01);
+  // A3: every read above the limit, so its rate is flagged, not reported 6 % low as trusted.
+  CHECK(std::find(rows[2].flags.begin(), rows[2].flags.end(), "ceiling") != rows[2].flags.end());
+  // What the earlier limit of 2 AU gave: A3 unflagged and more than 5 % low.
+  o.rates.absorbance_limit = 2;
+  RunAnalysis old = analyse_run(run, map, o);
+  const RateRow& a3 = old.channels[0].rows[2];
+  CHECK(a3.flags.empty());
+  CHECK(a3.v0 < 0.012 * 0.95);
+  CHECK(a3.v0 > 0.012 * 0.90);
 }

@@ -35,7 +35,7 @@ struct ChannelSettings {
   ConvertOptions convert;
   Direction direction = Direction::up;
   double signal_ceiling = NAN;
-  double absorbance_limit = 2;
+  double absorbance_limit = 1.5;
   std::vector<std::pair<std::string, std::string>> given;  // the table's keys and values as written
   std::string file;                                        // the method file and the table's first key
   int line = 0, column = 0;

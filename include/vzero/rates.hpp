@@ -125,7 +125,7 @@ struct RateOptions {
   double skip_s = 0.0;            // dead time after mixing: reads before it are not used, seconds
   double max_conversion = 0.10;   // fraction of `substrate` that may be converted in the window
   double signal_ceiling = NAN;    // detector linear limit in raw signal units; NaN = none
-  double absorbance_limit = 2.0;  // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
+  double absorbance_limit = 1.5;  // AU: absorbance channels' ceiling is the lower of this and signal_ceiling
                                   // (applied by the pipeline, src/analysis.cpp; not by find_rate)
   Estimator estimator = Estimator::theil_sen;
   WindowMethod window = WindowMethod::automatic;
