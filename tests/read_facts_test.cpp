@@ -233,3 +233,55 @@ TEST_CASE("grid: a plate layout block of text is no data; a header and rows with
   CHECK(e.where().line == 9);  // the header of column numbers of the read whose label is missing
   CHECK(std::string(e.message()).find("expected a read label") == 0);
 }
+
+TEST_CASE("well columns with a channel tag are read as one channel per tag, and the inference is recorded") {
+  // Two absorbance channels in one header: "A1 (340)" and "A1 (405 nm)"; the section label
+  // above names only one of them. Each value must land in its own channel and well.
+  const std::string text =
+      "Channel: A405\nTime [s],Temp [C],A1 (340),B2 (340),A1 (405 nm),B2 (405 nm)\n"
+      "0,25.0,0.10,0.20,0.30,OVER\n30,25.1,0.11,0.21,0.31,0.41\n";
+  const Run run = read_run_text("t.csv", text, load_profile("wide-generic"));
+  REQUIRE(run.channels.size() == 2);
+  const Channel& a340 = run.channels[0];
+  const Channel& a405 = run.channels[1];
+  CHECK(a340.name == "A340");
+  CHECK(a405.name == "A405");
+  CHECK(a340.quantity == Quantity::absorbance);
+  CHECK(a405.unit == "AU");
+  const int a1 = 0, b2 = run.format.index(WellId{1, 1});
+  CHECK(a340.values(0, a340.column_of(a1)) == 0.10);
+  CHECK(a340.values(1, a340.column_of(b2)) == 0.21);
+  CHECK(a405.values(1, a405.column_of(a1)) == 0.31);
+  CHECK(a405.status(0, a405.column_of(b2)) == ReadStatus::overflow);
+  CHECK(a405.values(1, a405.column_of(b2)) == 0.41);
+  CHECK(a340.temperature_c[1] == 25.1);
+  REQUIRE(run.read_notes.size() == 1);
+  CHECK(run.read_notes[0] ==
+        "line 2: well columns named with a channel tag (\"A1 (340)\" is well A1): read as A340, A405");
+  std::vector<std::string> bases;
+  for (const auto& f : run.read_facts)
+    if (f.name == "channel") bases.push_back(f.value + ": " + f.basis);
+  CHECK(bases == std::vector<std::string>{"A340: the tag \"340\" of the well columns in the header at line 2",
+                                          "A405: the tag \"405 nm\" of the well columns in the header at line 2"});
+}
+
+TEST_CASE("a word beside every well is no channel; fluorescence tags name theirs; mixed headers are refused") {
+  const Run well_word =
+      read_run_text("t.csv", "Channel: A405\nTime [s],Well A1,Well A2\n0,0.1,0.2\n30,0.2,0.3\n", load_profile("wide-generic"));
+  REQUIRE(well_word.channels.size() == 1);
+  CHECK(well_word.channels[0].name == "A405");  // the section label's, as with bare well names
+  CHECK(well_word.channels[0].wells.size() == 2);
+  CHECK(well_word.read_notes ==
+        std::vector<std::string>{"line 2: well columns named with a channel tag (\"Well A1\" is well A1): read as A405"});
+  const Run fl = read_run_text("t.csv", "Time [s],ex485/em520 A1,ex560/em590 A1\n0,100,200\n30,110,220\n",
+                               load_profile("wide-generic"));
+  REQUIRE(fl.channels.size() == 2);
+  CHECK(fl.channels[1].name == "ex560/em590");
+  CHECK(fl.channels[1].quantity == Quantity::fluorescence);
+  CHECK(fl.channels[1].values(1, 0) == 220);
+  const InputError mixed = read_error("Time [s],A1,A2 (405)\n0,0.1,0.2\n30,0.2,0.3\n", load_profile("wide-generic"));
+  CHECK(mixed.where().column == 13);
+  CHECK(std::string(mixed.message()).find("expected a bare well name like the header's other well columns") == 0);
+  const InputError twice = read_error("Time [s],A1 (340),A1 (340)\n0,0.1,0.2\n", load_profile("wide-generic"));
+  CHECK(std::string(twice.message()) == "well A1 tagged \"340\" appears twice in the header (fields 2 and 3)");
+}

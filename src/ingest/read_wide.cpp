@@ -15,6 +15,29 @@ namespace {
 // Detection reads the start of a file: a row cut short after a complete read ends it.
 struct CutShort {};
 
+// The channel of a tag on the well columns (open_block). A tag that names a signal ("A340",
+// "OD 600", "Abs (405 nm)") gives that channel; a bare wavelength ("340", "405 nm") an
+// absorbance channel A340 unless the block's label says another quantity; any other tag is the
+// channel's name as written when there are several tags, and the block's own channel when
+// there is one ("Well A1": the word is no channel).
+SectionStart tagged_channel(const SectionStart& block, const std::string& tag, bool several) {
+  if (auto s = signal_header(tag)) return *s;
+  std::string_view t = tag;
+  if (t.size() > 2 && t.substr(t.size() - 2) == "nm") t = trim(t.substr(0, t.size() - 2));
+  const bool wavelength =
+      t.size() >= 3 && t.size() <= 4 && std::all_of(t.begin(), t.end(), [](char ch) { return ch >= '0' && ch <= '9'; });
+  if (wavelength && (block.quantity == Quantity::absorbance || block.quantity == Quantity::other))
+    return SectionStart{"A" + std::string(t), Quantity::absorbance, "AU", 0};
+  if (!several) return block;
+  SectionStart s{tag, Quantity::other, "", 0};
+  guess_quantity(tag, s.quantity, s.unit);
+  if (s.quantity == Quantity::other) {
+    s.quantity = block.quantity;
+    s.unit = block.unit;
+  }
+  return s;
+}
+
 // The reading of one file: a header opens a block of data rows; a blank line inside it is
 // read through with a note, and a line of another kind closes it. A data row that would
 // belong to a closed block is an error at the line that closed it (nothing dropped).
@@ -40,7 +63,7 @@ class WideReader {
   std::vector<int> done_header_line_;  // header line of each finished channel, for messages
   std::optional<SectionStart> section_;
   std::optional<Header> header_;
-  std::optional<ChannelBuilder> current_;
+  std::vector<ChannelBuilder> current_;  // the open block's channels (one per tag), empty = none
   std::vector<int> blanks_;  // blank lines inside the open block, not yet followed by a row
   // The block a line of another kind closed, that line and its text: a data row of that
   // block further on is an error there.
@@ -59,8 +82,26 @@ void WideReader::open_block(Header h) {
   header_ = std::move(h);
   ended_.reset();
   const SectionStart s = section_ ? *section_ : default_section(p_);
-  in_.info.channels.emplace_back(s.name, channel_basis(s, p_));
-  current_.emplace(s, header_->wells);
+  current_.clear();
+  if (header_->tags.empty()) {
+    in_.info.channels.emplace_back(s.name, channel_basis(s, p_));
+    current_.emplace_back(s, header_->wells);
+  } else {
+    std::string names;
+    for (std::size_t k = 0; k < header_->tags.size(); ++k) {
+      const std::string& tag = header_->tags[k];
+      SectionStart c = tagged_channel(s, tag, header_->tags.size() > 1);
+      in_.info.channels.emplace_back(
+          c.name, c.name == s.name && c.line == s.line
+                      ? channel_basis(s, p_)
+                      : fmt::format("the tag \"{}\" of the well columns in the header at line {}", tag, header_->line));
+      names += (k ? ", " : "") + c.name;
+      current_.emplace_back(c, header_->tag_wells[k]);
+    }
+    in_.info.notes.push_back(fmt::format("line {}: well columns named with a channel tag (\"{}\" is well {}): read as {}",
+                                         header_->line, header_->tagged_example,
+                                         well_name(header_->tag_wells[0][0]), names));
+  }
   if (in_.info.delimiter == 0) {
     in_.info.delimiter = header_->delimiter;
     in_.info.delimiter_line = p_.delimiter ? 0 : header_->line;
@@ -71,16 +112,16 @@ void WideReader::open_block(Header h) {
 }
 
 void WideReader::close_block() {
-  if (current_) {
+  for (auto& c : current_) {
     for (const auto& d : done_)
-      if (d.name() == current_->name())
-        throw InputError(Where{file_, header_->line},
-                         fmt::format("channel {} appears twice in the file", current_->name()),
-                         {"give each channel section its own label, or split the file"});
-    done_.push_back(std::move(*current_));
+      if (d.name() == c.name())
+        throw InputError(Where{file_, header_->line}, fmt::format("channel {} appears twice in the file", c.name()),
+                         {header_->tags.empty() ? "give each channel section its own label, or split the file"
+                                                : "give the well columns of each channel their own tag"});
+    done_.push_back(std::move(c));
     done_header_line_.push_back(header_->line);
-    current_.reset();
   }
+  current_.clear();
   header_.reset();
   section_.reset();
   blanks_.clear();
@@ -149,7 +190,7 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
   std::size_t expected = header_->roles.size();
   if (fields_v_.size() == expected + 1 && trim(fields_v_.back().text).empty()) fields_v_.pop_back();
   if (fields_v_.size() != expected) {
-    if (in_.prefix_only && (current_->reads() > 0 || !done_.empty())) throw CutShort{};
+    if (in_.prefix_only && (current_.front().reads() > 0 || !done_.empty())) throw CutShort{};
     int col = fields_v_.size() > expected ? fields_v_[expected].column : static_cast<int>(line.size()) + 1;
     throw InputError(Where{file_, ln, col, std::string(line)},
                      fmt::format("expected {} fields as in the header at line {}, found {}", expected, header_->line,
@@ -167,7 +208,8 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
     const auto& f = fields_v_[static_cast<std::size_t>(header_->temp_col)];
     temp = temperature_cell(in_.cp, p_, file_, ln, f.column, line, f.text);
   }
-  int read = current_->add_read(t, temp, Where{file_, ln, fields_v_[tcol].column, std::string(line)});
+  int read = 0;
+  for (auto& c : current_) read = c.add_read(t, temp, Where{file_, ln, fields_v_[tcol].column, std::string(line)});
   if (in_.first_value && in_.first_value->line == 0) {
     for (std::size_t i = 0; i < fields_v_.size() && in_.first_value->line == 0; ++i)
       if (header_->roles[i] == ColumnRole::well)
@@ -181,21 +223,24 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
                        {"give the column a header (a well name, or a name listed in `columns.ignore`)"});
     }
     if (header_->roles[i] != ColumnRole::well) continue;
+    const int c = header_->chan[i];
+    ChannelBuilder& b = current_[static_cast<std::size_t>(c)];
     double v = 0;
     switch (read_cell(in_.cp, fields_v_[i].text, v)) {
       case CellKind::number:
-        current_->set(read, header_->slot[i], v, ReadStatus::ok);
+        b.set(read, header_->slot[i], v, ReadStatus::ok);
         break;
       case CellKind::overflow:
         in_.info.saw_overflow(fields_v_[i].text);
-        current_->set(read, header_->slot[i], 0, ReadStatus::overflow);
+        b.set(read, header_->slot[i], 0, ReadStatus::overflow);
         break;
       case CellKind::missing:
-        current_->set(read, header_->slot[i], 0, ReadStatus::missing);
+        b.set(read, header_->slot[i], 0, ReadStatus::missing);
         break;
       case CellKind::bad:
         bad_value_error(p_, file_, ln, fields_v_[i].column, line, fields_v_[i].text,
-                        "well " + well_name(header_->wells[static_cast<std::size_t>(header_->slot[i])]));
+                        "well " + well_name(header_->wells_of(c)[static_cast<std::size_t>(header_->slot[i])]) +
+                            (header_->tags.empty() ? "" : " of channel " + b.name()));
     }
   }
 }
