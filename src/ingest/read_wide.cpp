@@ -5,6 +5,7 @@
 #include <cmath>
 
 #include "ingest/reader_common.hpp"
+#include "ingest/wide_across.hpp"
 #include "ingest/wide_header.hpp"
 #include "vzero/error.hpp"
 
@@ -48,6 +49,9 @@ class WideReader {
 
  private:
   bool block_line(std::string_view line, int ln);
+  bool across_line(std::string_view line, int ln);
+  void close_across();
+  void keep_channel(ChannelBuilder b, int header_line, const char* fix);
   void data_row(std::string_view line, int ln, double t, std::size_t tcol);
   void outside_line(std::string_view line, int ln);
   void open_block(Header h);
@@ -63,6 +67,7 @@ class WideReader {
   std::vector<int> done_header_line_;  // header line of each finished channel, for messages
   std::optional<SectionStart> section_;
   std::optional<Header> header_;
+  std::optional<AcrossBlock> across_;  // an open block of one row per well
   std::vector<ChannelBuilder> current_;  // the open block's channels (one per tag), empty = none
   std::vector<int> blanks_;  // blank lines inside the open block, not yet followed by a row
   // The block a line of another kind closed, that line and its text: a data row of that
@@ -111,16 +116,19 @@ void WideReader::open_block(Header h) {
   }
 }
 
+void WideReader::keep_channel(ChannelBuilder b, int header_line, const char* fix) {
+  for (const auto& d : done_)
+    if (d.name() == b.name())
+      throw InputError(Where{file_, header_line}, fmt::format("channel {} appears twice in the file", b.name()), {fix});
+  done_.push_back(std::move(b));
+  done_header_line_.push_back(header_line);
+}
+
 void WideReader::close_block() {
-  for (auto& c : current_) {
-    for (const auto& d : done_)
-      if (d.name() == c.name())
-        throw InputError(Where{file_, header_->line}, fmt::format("channel {} appears twice in the file", c.name()),
-                         {header_->tags.empty() ? "give each channel section its own label, or split the file"
-                                                : "give the well columns of each channel their own tag"});
-    done_.push_back(std::move(c));
-    done_header_line_.push_back(header_->line);
-  }
+  for (auto& c : current_)
+    keep_channel(std::move(c), header_->line,
+                 header_->tags.empty() ? "give each channel section its own label, or split the file"
+                                       : "give the well columns of each channel their own tag");
   current_.clear();
   header_.reset();
   section_.reset();
@@ -245,6 +253,48 @@ void WideReader::data_row(std::string_view line, int ln, double t, std::size_t t
   }
 }
 
+// A line while a block of one row per well is open; false when it ends the block and must be
+// read as a line outside any block. Blank lines are held: a well's row after them is read
+// with a note, anything else ends the block before them.
+bool WideReader::across_line(std::string_view line, int ln) {
+  if (trim(line).empty()) {
+    blanks_.push_back(ln);
+    return true;
+  }
+  if (match_section(in_.cp, line)) {
+    close_across();
+    return false;
+  }
+  switch (across_->add(in_.cp, line, ln, file_, in_.info, in_.prefix_only, in_.first_value)) {
+    case AcrossBlock::Taken::yes:
+      for (int b : blanks_)
+        in_.info.notes.push_back(fmt::format("line {}: a blank line among the well rows of line {}, read through", b,
+                                             across_->header().line));
+      blanks_.clear();
+      return true;
+    case AcrossBlock::Taken::cut_short:
+      throw CutShort{};
+    case AcrossBlock::Taken::no:
+      break;
+  }
+  close_across();
+  return false;
+}
+
+void WideReader::close_across() {
+  const AcrossHeader& h = across_->header();
+  if (across_->empty())
+    throw InputError(h.where, fmt::format("expected a row per well (A1, A2, …) under the header of read times at line {}, "
+                                          "found none", h.line),
+                     {"name each row by its well in the first column"});
+  const SectionStart s = section_ ? *section_ : default_section(p_);
+  in_.info.channels.emplace_back(s.name, channel_basis(s, p_));
+  keep_channel(across_->finish(s, file_), h.line, "give each channel section its own label, or split the file");
+  across_.reset();
+  section_.reset();
+  blanks_.clear();
+}
+
 void WideReader::outside_line(std::string_view line, int ln) {
   if (trim(line).empty()) return;
   if (auto s = match_section(in_.cp, line)) {
@@ -254,6 +304,20 @@ void WideReader::outside_line(std::string_view line, int ln) {
   }
   if (auto h = try_header(p_, line, file_, ln, fields_, near_header_, p_.delimiter)) {
     open_block(std::move(*h));
+    return;
+  }
+  if (auto a = try_across_header(p_, line, file_, ln, p_.delimiter)) {
+    if (in_.info.delimiter == 0) {
+      in_.info.delimiter = a->delimiter;
+      in_.info.delimiter_line = p_.delimiter ? 0 : a->line;
+      in_.info.time_unit = a->time_unit;
+      in_.info.time_basis = a->time_basis;
+      in_.info.time_where = a->where;
+    }
+    in_.info.plain_times = in_.info.plain_times || a->plain_times;
+    in_.info.notes.push_back(
+        fmt::format("line {}: one row per well and the read times across the header: read as such", ln));
+    across_.emplace(std::move(*a));
     return;
   }
   if (p_.delimiter != 0 && !near_delim_ && !in_.prefix_only) {
@@ -296,11 +360,13 @@ Run WideReader::read() {
     const int ln = in_.src.line_number();
     try {
       if (header_ && block_line(line, ln)) continue;
+      if (across_ && across_line(line, ln)) continue;
     } catch (const CutShort&) {
       break;
     }
     outside_line(line, ln);
   }
+  if (across_) close_across();
   close_block();
   if (done_.empty() && near_delim_) throw *near_delim_;
   if (done_.empty() && near_header_) throw *near_header_;

@@ -8,8 +8,9 @@ namespace vzero::detail {
 // - long (read_long.cpp): every row is one line and records one cell; cells no row gave are
 //   missing (read_long_layout.cpp).
 // - wide (read_wide.cpp): values are set only by `data_row`, once per field of a well column
-//   of one line; its fields are split at the block header's delimiter (the profile's, else
-//   guess_delimiter's ',' ';' or tab; try_header refuses a line without one), and a split
+//   of one line, or by AcrossBlock::add (wide_across.cpp), once per field after a well row's
+//   first; fields are split at the block header's delimiter (the profile's, else
+//   guess_delimiter's ',' ';' or tab; try_header and try_across_header refuse a line without one), and a split
 //   (quoted or not) ends a field only at a delimiter, so a line has at most one field more than
 //   delimiters. Cells no row set are missing (ChannelBuilder::add_read).
 // - grid (read_grid.cpp): values are read only by `read_block`, after a line on which

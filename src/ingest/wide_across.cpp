@@ -1,0 +1,139 @@
+// The wide shape with one row per well (wide_across.hpp).
+#include "ingest/wide_across.hpp"
+
+#include <fmt/format.h>
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+
+namespace vzero::detail {
+
+namespace {
+
+bool named(std::string_view text, const std::vector<std::string>& names) {
+  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
+}
+
+// Fields of a split line without the empty ones at its end.
+template <class F>
+std::size_t without_trailing_empty(const std::vector<F>& f) {
+  std::size_t n = f.size();
+  while (n > 0 && trim(f[n - 1].text).empty()) --n;
+  return n;
+}
+
+}  // namespace
+
+std::optional<AcrossHeader> try_across_header(const Profile& p, std::string_view line, const std::string& file,
+                                              int line_no, char delimiter) {
+  const char d = delimiter ? delimiter : guess_delimiter(line);
+  if (d == 0) return std::nullopt;
+  std::vector<Field> f;
+  split_fields_into(line, d, f);
+  const std::size_t n = without_trailing_empty(f);
+  if (n < 3) return std::nullopt;
+  const std::string_view first = trim(f[0].text);
+  const bool by_time = named(first, p.time_columns);
+  if (!by_time && !named(first, p.well_columns)) return std::nullopt;
+  AcrossHeader h;
+  h.delimiter = d;
+  h.line = line_no;
+  h.fields = n;
+  const std::optional<TimeUnit> stated = by_time ? unit_in_header(first) : std::nullopt;
+  h.time_unit = stated.value_or(p.time_unit);
+  h.time_basis = stated ? fmt::format("the time header \"{}\"", first) : p.time_unit_from;
+  for (std::size_t i = 1; i < n; ++i) {
+    const auto t = parse_time(f[i].text, h.time_unit, p.decimal);
+    if (!t || (!h.time_s.empty() && !(*t > h.time_s.back()))) return std::nullopt;
+    h.time_s.push_back(*t);
+    h.time_column.push_back(f[i].column);
+    const std::string_view c = trim(f[i].text);
+    if (c.find(':') == std::string_view::npos && !std::isalpha(static_cast<unsigned char>(c.back())))
+      h.plain_times = true;
+  }
+  h.where = Where{file, line_no, f[1].column, std::string(line)};
+  if (stated) check_stated_unit(p, stated, Where{file, line_no, f[0].column, std::string(line)}, h.time_basis);
+  return h;
+}
+
+AcrossBlock::Taken AcrossBlock::add(const CompiledProfile& cp, std::string_view line, int ln, const std::string& file,
+                                    ReadInfo& info, bool prefix_only, Where* first_value) {
+  const Profile& p = cp.profile;
+  split_views_into(line, h_.delimiter, fields_, scratch_);
+  if (fields_.empty()) return Taken::no;
+  const std::string_view first = trim(fields_[0].text);
+  const std::optional<WellId> well = parse_well(first);
+  const bool temperature = !well && temperature_header(first, p.temperature_columns);
+  if (!well && !temperature && !named(first, p.ignore_columns)) return Taken::no;
+  std::size_t n = fields_.size();  // empty cells past the header's last read: a spreadsheet's padding
+  while (n > h_.fields && trim(fields_[n - 1].text).empty()) --n;
+  if (n != h_.fields) {
+    if (prefix_only && !wells_.empty()) return Taken::cut_short;
+    const int col = n > h_.fields ? fields_[h_.fields].column : static_cast<int>(line.size()) + 1;
+    throw InputError(Where{file, ln, col, std::string(line)},
+                     fmt::format("expected {} fields as in the header at line {} (the row's name and a value for "
+                                 "each of its {} reads), found {}",
+                                 h_.fields, h_.line, h_.time_s.size(), n),
+                     {"check for a truncated or extra field; a file cut off mid-row must be re-exported or the "
+                      "incomplete last line deleted"});
+  }
+  const std::size_t reads = h_.time_s.size();
+  if (temperature) {
+    if (!temperature_.empty())
+      throw InputError(Where{file, ln, fields_[0].column, std::string(line)},
+                       fmt::format("expected one temperature row under the header at line {}, found a second", h_.line),
+                       {"delete one of the two rows, or give the other a name listed in `columns.ignore`"});
+    for (std::size_t r = 0; r < reads; ++r)
+      temperature_.push_back(
+          temperature_cell(cp, p, file, ln, fields_[r + 1].column, line, fields_[r + 1].text));
+    return Taken::yes;
+  }
+  if (!well) return Taken::yes;  // a row of read numbers, cycles: no values of a well
+  for (std::size_t k = 0; k < wells_.size(); ++k)
+    if (wells_[k] == *well)
+      throw InputError(Where{file, ln, fields_[0].column, std::string(line)},
+                       fmt::format("well {} has two rows (lines {} and {})", well_name(*well), well_line_[k], ln),
+                       {"delete or rename the duplicated row"});
+  if (const auto fixed = fixed_format(p); fixed && !fixed->holds(*well))
+    off_plate_error(*fixed, *well, Where{file, ln, fields_[0].column, std::string(line)});
+  wells_.push_back(*well);
+  well_line_.push_back(ln);
+  for (std::size_t r = 0; r < reads; ++r) {
+    const FieldView& c = fields_[r + 1];
+    if (first_value && first_value->line == 0) *first_value = Where{file, ln, c.column, std::string(line)};
+    double v = 0;
+    ReadStatus s = ReadStatus::ok;
+    switch (read_cell(cp, c.text, v)) {
+      case CellKind::number:
+        break;
+      case CellKind::overflow:
+        s = ReadStatus::overflow;
+        v = 0;
+        info.saw_overflow(c.text);
+        break;
+      case CellKind::missing:
+        s = ReadStatus::missing;
+        v = 0;
+        break;
+      case CellKind::bad:
+        bad_value_error(p, file, ln, c.column, line, c.text, "well " + well_name(*well));
+    }
+    values_.push_back(v);
+    status_.push_back(s);
+  }
+  return Taken::yes;
+}
+
+ChannelBuilder AcrossBlock::finish(const SectionStart& s, const std::string& file) const {
+  ChannelBuilder b(s, wells_);
+  const std::size_t reads = h_.time_s.size();
+  for (std::size_t r = 0; r < reads; ++r) {
+    const int read = b.add_read(h_.time_s[r], temperature_.empty() ? std::nan("") : temperature_[r],
+                                Where{file, h_.line, h_.time_column[r], h_.where.text});
+    for (std::size_t w = 0; w < wells_.size(); ++w)
+      b.set(read, static_cast<int>(w), values_[w * reads + r], status_[w * reads + r]);
+  }
+  return b;
+}
+
+}  // namespace vzero::detail
