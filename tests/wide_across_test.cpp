@@ -92,6 +92,18 @@ TEST_CASE("across: bare numbers keep the time unit rule; rows that cannot be rea
         "expected 4 fields as in the header at line 1 (the row's name and a value for each of its 3 reads), found 3");
   const InputError bad = read_error("Well,0,30,60\nA1,0.1,x,0.3\n");
   CHECK(bad.where().column == 8);  // "A1,0.1," is 7 characters
+  const InputError unknown = read_error("Well,0,30,60\nA1,0.1,0.2,0.3\nAverage,0.1,0.2,0.3\n");
+  CHECK(unknown.where().line == 3);
+  CHECK(std::string(unknown.message()).find("expected a well name (A1 … AF48), a temperature row or a row name") == 0);
   const InputError none = read_error("Well,0,30,60\n\n");
   CHECK(std::string(none.message()).find("expected a row per well") == 0);
+}
+
+TEST_CASE("across: a read-number line above the times and a 'Temp. [C]' row") {
+  const Run run = read_run_text("t.csv",
+                                "Cycle Nr.,1,2,3\nTime [s],0,30,60\nTemp. [C],25.0,25.1,25.0\nA1,0.1,0.2,0.3\n",
+                                load_profile("wide-generic"));
+  REQUIRE(run.channels.size() == 1);
+  CHECK(run.channels[0].time_s == std::vector<double>{0, 30, 60});
+  CHECK(run.channels[0].temperature_c == std::vector<double>{25.0, 25.1, 25.0});
 }

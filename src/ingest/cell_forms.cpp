@@ -71,7 +71,8 @@ bool temperature_header(std::string_view header, const std::vector<std::string>&
   const auto named = [&](std::string_view stem, bool with_unit) {
     for (const auto& n : names)
       if (iequals(stem, n)) return true;
-    return with_unit && (iequals(stem, "t") || iequals(stem, "temp") || iequals(stem, "temperature"));
+    return with_unit &&
+           (iequals(stem, "t") || iequals(stem, "temp") || iequals(stem, "temp.") || iequals(stem, "temperature"));
   };
   if (named(h, false)) return true;
   if (h.size() < 2) return false;

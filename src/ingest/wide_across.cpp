@@ -64,9 +64,19 @@ AcrossBlock::Taken AcrossBlock::add(const CompiledProfile& cp, std::string_view 
   const std::string_view first = trim(fields_[0].text);
   const std::optional<WellId> well = parse_well(first);
   const bool temperature = !well && temperature_header(first, p.temperature_columns);
-  if (!well && !temperature && !named(first, p.ignore_columns)) return Taken::no;
   std::size_t n = fields_.size();  // empty cells past the header's last read: a spreadsheet's padding
   while (n > h_.fields && trim(fields_[n - 1].text).empty()) --n;
+  if (!well && !temperature && !named(first, p.ignore_columns)) {
+    // A row of the table's width under a name vzero does not know is refused, not skipped: it
+    // may be a well written another way. A line of another width ends the block.
+    if (n != h_.fields || (prefix_only && !wells_.empty())) return Taken::no;
+    throw InputError(Where{file, ln, fields_[0].column, std::string(line)},
+                     fmt::format("expected a well name (A1 … AF48), a temperature row or a row name listed in "
+                                 "`columns.ignore` first in this row of the table of line {}, found \"{}\"",
+                                 h_.line, first),
+                     {fmt::format("add \"{}\" to `columns.ignore` (or `columns.temperature`) in the profile", first),
+                      "end the table with an empty line before any text that follows it"});
+  }
   if (n != h_.fields) {
     if (prefix_only && !wells_.empty()) return Taken::cut_short;
     const int col = n > h_.fields ? fields_[h_.fields].column : static_cast<int>(line.size()) + 1;
