@@ -285,3 +285,18 @@ TEST_CASE("a word beside every well is no channel; fluorescence tags name theirs
   const InputError twice = read_error("Time [s],A1 (340),A1 (340)\n0,0.1,0.2\n", load_profile("wide-generic"));
   CHECK(std::string(twice.message()) == "well A1 tagged \"340\" appears twice in the header (fields 2 and 3)");
 }
+
+TEST_CASE("a long table's well column under another name: the one header with the word well, noted") {
+  const Run run = read_run_text("l.csv", "Well Position,Time (s),A405\nA1,0,0.1\nA1,30,0.2\nB2,0,0.3\nB2,30,0.5\n",
+                                load_profile("long-generic"));
+  REQUIRE(run.channels.size() == 1);
+  CHECK(run.channels[0].name == "A405");
+  CHECK(run.channels[0].wells.size() == 2);
+  CHECK(run.channels[0].values(1, 1) == 0.5);  // B2 at 30 s
+  CHECK(run.read_notes == std::vector<std::string>{"line 1: the well column is \"Well Position\", the one header with "
+                                                   "the word well (`columns.well` names none of this file's headers)"});
+  // Two headers with the word: neither is taken.
+  const InputError two =
+      read_error("Well Position,Well Type,Time (s),A405\nA1,sample,0,0.1\n", load_profile("long-generic"));
+  CHECK(two.where().line == 2);
+}

@@ -96,8 +96,8 @@ void settle_time_unit(Run& run, const ReadInfo& info) {
     const Channel& c = run.channels.front();
     basis = fmt::format(
         "no unit in the header or profile: read as seconds, a median step of {:.4g} s between reads of "
-        "{} wells being plausible for a plate reader (time unit rule, README.md)",
-        median_step(c.time_s), c.wells.size());
+        "{} well{} being plausible for a plate reader (time unit rule, README.md)",
+        median_step(c.time_s), c.wells.size(), c.wells.size() == 1 ? "" : "s");
   }
   run.read_facts.push_back({"time_unit", "s", basis});
 }

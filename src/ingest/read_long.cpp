@@ -13,6 +13,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "ingest/long_header.hpp"
 #include "ingest/long_rows.hpp"
 #include "ingest/reader_common.hpp"
 #include "vzero/error.hpp"
@@ -22,92 +23,7 @@ namespace vzero::detail {
 namespace {
 
 using namespace long_rows;
-
-struct Columns {
-  char delimiter = ',';
-  int well = -1, time = -1, value = -1, channel = -1, temp = -1;
-  std::optional<SectionStart> value_signal;  // the value column is a signal's name ("RFU", "A405")
-  std::string value_header;                  // ... and its header as written
-  std::size_t count = 0;
-  TimeUnit time_unit = TimeUnit::seconds;
-  int line = 0;
-};
-
-// True when one of `names` occurs in `line`, ignoring ASCII case: a line that lacks every
-// well-column name cannot be the header, and is passed over without splitting it (detection
-// tries this reader on every file, wide ones included).
-bool mentions_any(std::string_view line, const std::vector<std::string>& names) {
-  thread_local std::string lowered;
-  lowered.assign(line);
-  for (char& c : lowered)
-    if (c >= 'A' && c <= 'Z') c = static_cast<char>(c - 'A' + 'a');
-  for (const auto& n : names) {
-    std::string name(trim(n));
-    if (name.empty()) return true;  // an empty name matches an empty field: split to see
-    for (char& c : name)
-      if (c >= 'A' && c <= 'Z') c = static_cast<char>(c - 'A' + 'a');
-    if (lowered.find(name) != std::string::npos) return true;
-  }
-  return false;
-}
-
-// True when `name` is one of `names`, ignoring ASCII case.
-bool named(std::string_view name, const std::vector<std::string>& names) {
-  return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
-}
-
-int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names) {
-  for (const auto& n : names)
-    for (std::size_t i = 0; i < f.size(); ++i)
-      if (iequals(trim(f[i].text), n)) return static_cast<int>(i);
-  return -1;
-}
-
-// No column the profile calls a value: the one other column (not `well` or `time`, nor a
-// channel or temperature column) whose header names a signal ("RFU", "OD", "A405";
-// signal_header), if exactly one does; -1 otherwise. `signal` gets what that header says.
-int lone_signal_column(const Profile& p, const std::vector<FieldView>& views, int well, int time,
-                       std::optional<SectionStart>* signal = nullptr) {
-  int found = -1, count = 0;
-  for (std::size_t i = 0; i < views.size(); ++i) {
-    const auto k = static_cast<int>(i);
-    if (k == well || k == time) continue;
-    const std::string_view name = trim(views[i].text);
-    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
-    if (auto s = signal_header(name)) {
-      ++count;
-      found = k;
-      if (signal) *signal = std::move(s);
-    }
-  }
-  return count == 1 ? found : -1;
-}
-
-// For a line naming the well column and one of the time and value columns but not the
-// other (the header, most likely, with that column under another name): the error to give
-// if no header is found.
-std::optional<InputError> near_header(const Profile& p, Columns c, const std::vector<FieldView>& views,
-                                      std::string_view line, const std::string& file, int line_no) {
-  if (c.time < 0) c.value = find_column(views, p.value_columns);
-  // Or, as try_header would take it, the one column whose header names a signal ("OD405").
-  if (c.time < 0 && c.value < 0) c.value = lone_signal_column(p, views, c.well, c.time);
-  if (c.time < 0 && c.value < 0) return std::nullopt;
-  // The one field that no column of the profile names, if there is one: the missing column.
-  const FieldView* unknown = nullptr;
-  int unknowns = 0;
-  for (std::size_t i = 0; i < views.size(); ++i) {
-    const auto k = static_cast<int>(i);
-    const std::string_view name = trim(views[i].text);
-    if (name.empty() || k == c.well || k == c.time || k == c.value) continue;
-    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
-    unknown = &views[i];
-    ++unknowns;
-  }
-  if (unknowns != 1) unknown = nullptr;
-  return missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)},
-                              c.time < 0 ? "time" : "value", c.time < 0 ? p.time_columns : p.value_columns, "",
-                              unknown ? trim(unknown->text) : std::string_view());
-}
+using namespace long_header;
 
 // What the long reader keeps while it reads: the header's columns once found, the row
 // records, each channel's read times, and the errors held back in case no header is found.
@@ -173,6 +89,8 @@ struct LongRead {
     c.delimiter = d;
     // (in turn: a line of another table, say a 1536-well wide row, is dropped at the first)
     c.well = find_column(views, p.well_columns);
+    if (c.well < 0 && (c.well = lone_well_column(views)) >= 0)
+      c.well_header = std::string(trim(views[static_cast<std::size_t>(c.well)].text));
     if (c.well >= 0) c.time = find_column(views, p.time_columns);
     if (c.time >= 0) c.value = find_column(views, p.value_columns);
     if (c.well >= 0 && c.time >= 0 && c.value < 0) signal_column(c);
@@ -195,6 +113,10 @@ struct LongRead {
     in.info.time_where = at(ln, tf.column, line);
     in.info.delimiter = d;
     in.info.delimiter_line = p.delimiter ? 0 : ln;
+    if (!c.well_header.empty())
+      in.info.notes.push_back(fmt::format("line {}: the well column is \"{}\", the one header with the word well "
+                                          "(`columns.well` names none of this file's headers)",
+                                          ln, c.well_header));
     cols = c;
     return true;
   }
