@@ -27,14 +27,19 @@ bool trailing_empty(const std::vector<Field>& fields, std::size_t i) {
 void note_near_header(const Profile& p, std::string_view line, const std::string& file, int line_no,
                       const std::vector<Field>& fields, int wells, std::optional<InputError>& near) {
   const Field* unknown = nullptr;
+  const Field* counter = nullptr;  // an ignored column that numbers the reads ("Cycle"): no clock
   for (const auto& f : fields) {
     const std::string_view name = trim(f.text);
+    const std::string l = lower(name);
+    if (!counter && matches_any(name, p.ignore_columns) && (l.rfind("cycle", 0) == 0 || l.rfind("read", 0) == 0))
+      counter = &f;
     if (name.empty() || parse_well(name) || temperature_header(name, p.temperature_columns) ||
         matches_any(name, p.ignore_columns))
       continue;
     if (unknown) return;  // two fields that are neither: not a header of wells
     unknown = &f;
   }
+  if (!unknown) unknown = counter;  // missing_column_error says why a read number will not do
   near = missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)}, "time",
                               p.time_columns, fmt::format("of {} well column{}", wells, wells == 1 ? "" : "s"),
                               unknown ? trim(unknown->text) : std::string_view());
