@@ -300,3 +300,28 @@ TEST_CASE("a long table's well column under another name: the one header with th
       read_error("Well Position,Well Type,Time (s),A405\nA1,sample,0,0.1\n", load_profile("long-generic"));
   CHECK(two.where().line == 2);
 }
+
+TEST_CASE("time headers with a unit in brackets; clock times with one ':' that cannot be seconds stop") {
+  // "Time (minutes)": 0, 0.5, 1 are 0, 30, 60 s, and the header states it.
+  const Run minutes = read_run_text("t.csv", "Time (minutes),A1,A2\n0,0.1,0.2\n0.5,0.11,0.22\n1,0.12,0.24\n",
+                                    load_profile("wide-generic"));
+  CHECK(minutes.channels[0].time_s == std::vector<double>{0, 30, 60});
+  CHECK(fact(minutes, "time_unit")->basis == "the time header \"Time (minutes)\"");
+  const Run clock = read_run_text("t.csv", "Well,Time [hh:mm:ss],Value\nA1,0:00:00,0.1\nA1,0:01:00,0.2\n",
+                                  load_profile("long-generic"));
+  CHECK(clock.channels[0].time_s == std::vector<double>{0, 60});
+  // "[hh:mm]" is refused: "0:01" reads as 1 s, so a rename would make every rate 60 × too fast.
+  const InputError hm = read_error("Time [hh:mm],A1,A2\n0:00,0.1,0.2\n0:01,0.11,0.22\n", load_profile("wide-generic"));
+  REQUIRE(!hm.fixes().empty());
+  CHECK(hm.fixes()[0].find("holds hours and minutes, which vzero would read as minutes and seconds") !=
+        std::string::npos);
+  // 96 wells read at "0:00", "0:01", … one ':' and no hours: 1 s steps as m:ss, under the
+  // 1.92 s a plate reader needs for 96 wells (read_facts.cpp): not told apart, so it stops.
+  const InputError short_clock =
+      read_error(wide96("Time", {"0:00", "0:01", "0:02", "0:03"}), load_profile("wide-generic"));
+  CHECK(std::string(short_clock.message()).find("expected clock times that can be told apart") == 0);
+  // The same times with their hours are minutes apart, and read so.
+  const Run long_clock = read_run_text("t.csv", wide96("Time", {"0:00:00", "0:01:00", "0:02:00"}),
+                                       load_profile("wide-generic"));
+  CHECK(long_clock.channels[0].time_s == std::vector<double>{0, 60, 120});
+}

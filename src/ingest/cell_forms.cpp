@@ -86,6 +86,20 @@ bool temperature_header(std::string_view header, const std::vector<std::string>&
   return space != std::string_view::npos && celsius(h.substr(space + 1)) && named(trim(h.substr(0, space)), true);
 }
 
+bool time_header(std::string_view header, const std::vector<std::string>& names) {
+  const std::string_view h = trim(header);
+  if (std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(h, n); })) return true;
+  if (h.size() < 4 || (h.back() != ')' && h.back() != ']')) return false;
+  const std::size_t open = h.rfind(h.back() == ')' ? '(' : '[');
+  if (open == std::string_view::npos || open == 0) return false;
+  const std::string_view stem = trim(h.substr(0, open));
+  if (!std::any_of(names.begin(), names.end(),
+                   [&](const std::string& n) { return iequals(stem, n) && !unit_in_header(n); }))
+    return false;
+  const std::string unit = lower(trim(h.substr(open + 1, h.size() - open - 2)));
+  return unit_in_header(h).has_value() || unit == "hh:mm:ss" || unit == "h:mm:ss" || unit == "mm:ss";
+}
+
 std::optional<SectionStart> signal_header(std::string_view header) {
   const std::string h = std::string(trim(header));
   std::string l = lower(h);

@@ -83,6 +83,14 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
                               unknown ? trim(unknown->text) : std::string_view());
 }
 
+int find_time_column(const std::vector<FieldView>& f, const std::vector<std::string>& names) {
+  const int exact = find_column(f, names);
+  if (exact >= 0) return exact;
+  for (std::size_t i = 0; i < f.size(); ++i)
+    if (time_header(f[i].text, names)) return static_cast<int>(i);
+  return -1;
+}
+
 int lone_well_column(const std::vector<FieldView>& views) {
   int found = -1, count = 0;
   for (std::size_t i = 0; i < views.size(); ++i) {

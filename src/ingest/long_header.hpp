@@ -32,6 +32,9 @@ bool mentions_any(std::string_view line, const std::vector<std::string>& names);
 bool named(std::string_view name, const std::vector<std::string>& names);
 // The first field that one of `names` heads (names in order), or -1.
 int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names);
+// The time column: the first field one of `names` heads (names in order), else the first
+// that time_header takes ("Time [sec]"), or -1.
+int find_time_column(const std::vector<FieldView>& f, const std::vector<std::string>& names);
 // No column the profile calls a value: the one other column (not `well` or `time`, nor a
 // channel or temperature column) whose header names a signal ("RFU", "OD", "A405";
 // signal_header), if exactly one does; -1 otherwise. `signal` gets what that header says.

@@ -72,6 +72,18 @@ void settle_time_unit(Run& run, const ReadInfo& info) {
     return;
   }
   if (!info.plain_times) {
+    // Clock times with one ':' are read as minutes and seconds; when no time has hours and the
+    // steps are too short for seconds, they may be hours and minutes: 60 × too fast.
+    if (info.short_clock && !info.long_clock)
+      for (const auto& c : run.channels)
+        if (const std::string why = not_seconds(c); !why.empty())
+          throw InputError(
+              info.time_where,
+              fmt::format("expected clock times that can be told apart, found times with one ':' and no hours, read "
+                          "as minutes:seconds with {}: if they are hours:minutes, every rate would be 60 × too fast",
+                          why),
+              {"write the times as h:mm:ss (0:01:00), or as numbers under a header that states the unit, e.g. "
+               "\"Time [min]\""});
     run.read_facts.push_back({"time_unit", "clock", "every time is a clock time (h:mm:ss or mm:ss)"});
     return;
   }

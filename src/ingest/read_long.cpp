@@ -66,7 +66,7 @@ struct LongRead {
     if (!near_delim && !in.prefix_only && p.delimiter != 0 && guess_delimiter(line) != 0 &&
         guess_delimiter(line) != p.delimiter) {
       split_views_into(line, guess_delimiter(line), views, scratch);
-      if (find_column(views, p.well_columns) >= 0 && find_column(views, p.time_columns) >= 0)
+      if (find_column(views, p.well_columns) >= 0 && find_time_column(views, p.time_columns) >= 0)
         near_delim = delimiter_error(at(ln, 1, line), line, p.delimiter, views.size(), "header fields");
     }
     match_capture(in.cp, line, run.metadata);
@@ -91,7 +91,7 @@ struct LongRead {
     c.well = find_column(views, p.well_columns);
     if (c.well < 0 && (c.well = lone_well_column(views)) >= 0)
       c.well_header = std::string(trim(views[static_cast<std::size_t>(c.well)].text));
-    if (c.well >= 0) c.time = find_column(views, p.time_columns);
+    if (c.well >= 0) c.time = find_time_column(views, p.time_columns);
     if (c.time >= 0) c.value = find_column(views, p.value_columns);
     if (c.well >= 0 && c.time >= 0 && c.value < 0) signal_column(c);
     if (c.well < 0 || c.time < 0 || c.value < 0) {

@@ -314,7 +314,7 @@ void WideReader::outside_line(std::string_view line, int ln) {
       in_.info.time_basis = a->time_basis;
       in_.info.time_where = a->where;
     }
-    in_.info.plain_times = in_.info.plain_times || a->plain_times;
+    for (const auto& t : a->time_text) in_.info.saw_time(t);
     in_.info.notes.push_back(
         fmt::format("line {}: one row per well and the read times across the header: read as such", ln));
     across_.emplace(std::move(*a));

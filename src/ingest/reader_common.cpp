@@ -191,11 +191,11 @@ std::optional<TimeUnit> unit_in_header(std::string_view header) {
   auto ends = [&](std::string_view suffix) {
     return h.size() >= suffix.size() && h.compare(h.size() - suffix.size(), suffix.size(), suffix) == 0;
   };
-  for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s"})
+  for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s", "[secs]", "(secs)", "[seconds]", "(seconds)"})
     if (ends(s)) return TimeUnit::seconds;
-  for (auto s : {"[min]", "(min)", "_min", " min"})
+  for (auto s : {"[min]", "(min)", "_min", " min", "[mins]", "(mins)", "[minutes]", "(minutes)"})
     if (ends(s)) return TimeUnit::minutes;
-  for (auto s : {"[h]", "(h)", "_h", " h"})
+  for (auto s : {"[h]", "(h)", "_h", " h", "[hr]", "(hr)", "[hrs]", "(hrs)", "[hours]", "(hours)"})
     if (ends(s)) return TimeUnit::hours;
   return std::nullopt;
 }
@@ -222,6 +222,14 @@ InputError missing_column_error(Where where, std::string_view what, const std::v
     return InputError(std::move(where), std::move(message),
                       {fmt::format("\"{}\" counts reads, it does not time them: export the read times with the data "
                                    "(a \"Time [s]\" column); renaming it would make every interval one second",
+                                   unknown)});
+  // Clock times of hours and minutes only: "1:30" reads as mm:ss, so a rename would read them
+  // 60 times too short.
+  if (time && (u.find("hh:mm") != std::string::npos || u.find("h:mm") != std::string::npos) &&
+      u.find(":ss") == std::string::npos)
+    return InputError(std::move(where), std::move(message),
+                      {fmt::format("\"{}\" holds hours and minutes, which vzero would read as minutes and seconds: "
+                                   "write the times as h:mm:ss (0:01:00) or as minutes under \"Time [min]\"",
                                    unknown)});
   std::string fix = unknown.empty()
                         ? fmt::format("add the column of {} to the export, with a header such as {}", holds, suggested)

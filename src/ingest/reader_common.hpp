@@ -3,6 +3,7 @@
 
 #include <re2/re2.h>
 
+#include <algorithm>
 #include <cctype>
 #include <memory>
 #include <optional>
@@ -73,8 +74,13 @@ std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal,
 // range a fix about the time unit.
 [[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal, std::string_view what,
                                  std::vector<std::string> fixes);
-// The unit a time header names ("Time [min]", "time_s"), if any.
+// The unit a time header names ("Time [min]", "time_s", "Time (seconds)"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
+// True when a header names the time column: one of `names` (case-insensitive), or one of
+// them that states no unit followed by a unit in brackets: "Time (sec)", "Time [minutes]",
+// "Time [hh:mm:ss]" (cell_forms.cpp). A bracketed "hh:mm" is refused: "1:30" reads as
+// mm:ss, so such a column would be read 60 times too short.
+bool time_header(std::string_view header, const std::vector<std::string>& names);
 
 // True when a header names the temperature column: one of `names` (case-insensitive), or
 // one of them, "temp" or "t" with a unit of degrees Celsius after it ("Temperature (°C)",
@@ -171,9 +177,14 @@ struct ReadInfo {
   std::vector<Wavelength> wavelengths;
   void saw_preamble(std::string_view line, int ln);
   std::vector<std::string> notes;
+  // Clock times with one ':' (m:ss, or h:mm meant), and with two (h:mm:ss).
+  bool short_clock = false, long_clock = false;
   void saw_time(std::string_view text) {
     // A clock time (h:mm:ss) or a time with its units ("0 min 20 s") states its unit.
-    if (!plain_times && text.find(':') == std::string_view::npos &&
+    const auto colons = std::count(text.begin(), text.end(), ':');
+    if (colons == 1) short_clock = true;
+    if (colons == 2) long_clock = true;
+    if (!plain_times && colons == 0 &&
         (text.empty() || !std::isalpha(static_cast<unsigned char>(trim(text).empty() ? '0' : trim(text).back()))))
       plain_times = true;
   }

@@ -3,7 +3,6 @@
 
 #include <fmt/format.h>
 #include <algorithm>
-#include <cctype>
 #include <cmath>
 
 namespace vzero::detail {
@@ -33,7 +32,7 @@ std::optional<AcrossHeader> try_across_header(const Profile& p, std::string_view
   const std::size_t n = without_trailing_empty(f);
   if (n < 3) return std::nullopt;
   const std::string_view first = trim(f[0].text);
-  const bool by_time = named(first, p.time_columns);
+  const bool by_time = time_header(first, p.time_columns);
   if (!by_time && !named(first, p.well_columns)) return std::nullopt;
   AcrossHeader h;
   h.delimiter = d;
@@ -47,9 +46,7 @@ std::optional<AcrossHeader> try_across_header(const Profile& p, std::string_view
     if (!t || (!h.time_s.empty() && !(*t > h.time_s.back()))) return std::nullopt;
     h.time_s.push_back(*t);
     h.time_column.push_back(f[i].column);
-    const std::string_view c = trim(f[i].text);
-    if (c.find(':') == std::string_view::npos && !std::isalpha(static_cast<unsigned char>(c.back())))
-      h.plain_times = true;
+    h.time_text.emplace_back(trim(f[i].text));
   }
   h.where = Where{file, line_no, f[1].column, std::string(line)};
   if (stated) check_stated_unit(p, stated, Where{file, line_no, f[0].column, std::string(line)}, h.time_basis);

@@ -26,7 +26,7 @@ struct AcrossHeader {
   TimeUnit time_unit = TimeUnit::seconds;
   std::string time_basis;  // what states the unit; empty when nothing does
   Where where;             // the first time cell
-  bool plain_times = false;  // some time is a plain number (not a clock time, no unit of its own)
+  std::vector<std::string> time_text;  // each read's time cell as written
 };
 
 // The header, or nullopt when `line` is not one (`delimiter` 0: guessed from the line).

@@ -129,7 +129,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   split_fields_into(line, d, fields);
   int time_col = -1, wells = 0;
   for (std::size_t i = 0; i < fields.size(); ++i) {
-    if (time_col < 0 && matches_any(fields[i].text, p.time_columns))
+    if (time_col < 0 && time_header(fields[i].text, p.time_columns))
       time_col = static_cast<int>(i);
     else if (parse_well(fields[i].text))
       ++wells;
