@@ -2,6 +2,9 @@
 // program, byte for byte, with nothing written to disk by the library.
 #include "vzero/rates_run.hpp"
 
+#include <fmt/format.h>
+
+#include <algorithm>
 #include <map>
 
 #include "core/files.hpp"
@@ -64,4 +67,33 @@ TEST_CASE("a profile file read by several exports is one input") {
   for (const auto& in : r.provenance.inputs) profiles += in.kind == "profile";
   CHECK(profiles == 1);
   CHECK(r.analyses.size() == 2);
+}
+
+TEST_CASE("a plate whose sample rates are mostly negative is warned of, with the direction that fits") {
+  // Four samples whose signal falls 0.001 AU per read (as NADH used up at 340 nm) and a
+  // constant blank: under the default direction every rate is negative.
+  TempDir dir;
+  std::string text = "Channel: A340\nTime [s],A1,A2,A3,A4,B1\n";
+  for (int i = 0; i < 10; ++i)
+    text += fmt::format("{},{:.3f},{:.3f},{:.3f},{:.3f},0.100\n", 30 * i, 1.0 - 0.001 * i, 1.0 - 0.0011 * i,
+                        1.0 - 0.0012 * i, 1.0 - 0.0013 * i);
+  spit((dir.path / "nadh.csv").string(), text);
+  spit((dir.path / "map.csv").string(), "well,role\nA1,sample\nA2,sample\nA3,sample\nA4,sample\nB1,blank\n");
+  const auto run = [&](const std::string& direction) {
+    ResolvedSettings s = resolve_settings({{"layout", (dir.path / "map.csv").string()},
+                                           {"output", (dir.path / "rates.csv").string()},
+                                           {"signal-only", "true"},
+                                           {"direction", direction}});
+    s.settings.files = {(dir.path / "nadh.csv").string()};
+    StringSink sink;
+    return run_rates(s, sink).warnings;
+  };
+  const auto said = [](const std::vector<std::string>& w) {
+    return std::count_if(w.begin(), w.end(), [](const std::string& x) {
+      return x.find("4 of 4 sample wells have negative rates") != std::string::npos &&
+             x.find("pass --direction down") != std::string::npos;
+    });
+  };
+  CHECK(said(run("up")) == 1);
+  CHECK(said(run("down")) == 0);  // the rates are positive then
 }

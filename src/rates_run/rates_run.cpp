@@ -391,6 +391,7 @@ RatesOutputs run_rates(const ResolvedSettings& resolved, OutputSink& sink,
   // records each verdict.
   if (screen.normalised) detail::add_quality_warnings(s, out);
   detail::add_blank_trend_warnings(s, out);
+  detail::add_direction_warnings(out);
   const std::vector<PackagedTable> tables = package_tables(s, dir, with_activity, with_specific, screen, out);
   out.datapackage_path = (dir / "datapackage.json").string();
   out.datapackage_json = datapackage_json(tables, out.provenance, out.analyses);

@@ -87,4 +87,30 @@ void add_blank_trend_warnings(const RunSettings& s, RatesOutputs& out) {
         lines.size() - shown, flagged_all));
 }
 
+void add_direction_warnings(RatesOutputs& out) {
+  constexpr double k_share = 0.75;  // of the rated sample wells: more than a plate of inhibitors gives
+  constexpr int k_least = 4;        // (their noise-only rates fall either way)
+  std::vector<std::string> lines;
+  for (const auto& ra : out.analyses)
+    for (const auto& ca : ra.channels) {
+      int rated = 0, negative = 0;
+      for (const auto& row : ca.rows) {
+        if (row.role != Role::sample || !std::isfinite(row.v0)) continue;
+        ++rated;
+        negative += std::find(row.flags.begin(), row.flags.end(), "negative") != row.flags.end();
+      }
+      if (rated < k_least || negative < k_share * rated) continue;
+      const bool up = ca.direction_sign > 0;
+      lines.push_back(fmt::format(
+          "{}, channel {}: {} of {} sample wells have negative rates (their signal {} as the reaction runs): if the "
+          "reaction {} what is read{}, pass --direction {} (or `direction` in a method file)",
+          ra.run->source, ca.channel->name, negative, rated, up ? "falls" : "rises", up ? "uses up" : "makes",
+          up ? " (NADH or NADPH at 340 nm)" : "", up ? "down" : "up"));
+    }
+  const std::size_t shown = lines.size() > 3 ? 2 : lines.size();
+  for (std::size_t i = 0; i < shown; ++i) out.warnings.push_back(lines[i]);
+  if (lines.size() > shown)
+    out.warnings.push_back(fmt::format("{} more exports have mostly negative rates the same way", lines.size() - shown));
+}
+
 }  // namespace vzero::detail

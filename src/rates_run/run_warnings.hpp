@@ -17,4 +17,9 @@ void add_quality_warnings(const RunSettings& s, RatesOutputs& out);
 // 1 % of a rate, the first three in full, the rest counted.
 void add_blank_trend_warnings(const RunSettings& s, RatesOutputs& out);
 
+// Channels where three quarters or more of the rated sample wells (at least 4) have negative
+// rates: the reaction most likely runs the other way from --direction. One line each, the
+// first three in full, the rest counted.
+void add_direction_warnings(RatesOutputs& out);
+
 }  // namespace vzero::detail
