@@ -263,6 +263,13 @@ TEST_CASE("CLI: bad usage exits 2, a missing column exits 1 naming the column an
     CHECK_FALSE(std::filesystem::exists(dir.path / "fit.csv"));
   }
   {
+    // The name with a unit after it is the column most likely meant.
+    const CommandResult r = run_vzero("fit rates.csv --x substrate", dir.path.string());
+    CHECK(r.status == 1);
+    CHECK(r.err.find("  possible fixes:\n    - did you mean \"substrate_ppm\"? Give that name (in quotes) where you "
+                     "gave \"substrate\"\n") != std::string::npos);
+  }
+  {
     const CommandResult r = run_vzero("fit --help", dir.path.string());
     CHECK(r.status == 0);
     CHECK(r.out.find("--weight") != std::string::npos);

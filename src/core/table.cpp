@@ -33,6 +33,18 @@ int Table::require_column(std::string_view name, std::string_view fix_hint) cons
   std::string found;
   for (const auto& h : header) found += (found.empty() ? "" : ", ") + h;
   std::vector<std::string> fixes;
+  // A column that is the name with a unit or a word after it ("Substrate [mM]" for
+  // "substrate"), or one typing slip away: the likely one meant.
+  const std::string want = detail::lower(detail::trim(name));
+  for (const auto& h : header) {
+    const std::string l = detail::lower(detail::trim(h));
+    const bool extended = l.size() > want.size() && l.compare(0, want.size(), want) == 0 &&
+                          std::string_view(" [(_").find(l[want.size()]) != std::string_view::npos;
+    if (extended || (want.size() >= 4 && detail::edit_distance(l, want) == 1)) {
+      fixes.push_back(fmt::format("did you mean \"{}\"? Give that name (in quotes) where you gave \"{}\"", h, name));
+      break;
+    }
+  }
   if (!fix_hint.empty()) fixes.emplace_back(fix_hint);
   throw InputError(Where{source, 1}, fmt::format("expected a column named \"{}\"; found: {}", name, found),
                    std::move(fixes));
