@@ -325,3 +325,13 @@ TEST_CASE("time headers with a unit in brackets; clock times with one ':' that c
                                        load_profile("wide-generic"));
   CHECK(long_clock.channels[0].time_s == std::vector<double>{0, 60, 120});
 }
+
+TEST_CASE("milliseconds in the time header are read; a unit vzero does not read is not renamed away") {
+  const Run ms = read_run_text("t.csv", "Time [ms],A1,A2\n0,0.1,0.2\n30000,0.11,0.22\n60000,0.12,0.24\n",
+                               load_profile("wide-generic"));
+  CHECK(ms.channels[0].time_s == std::vector<double>{0, 30, 60});  // 1 ms = 0.001 s (SI)
+  CHECK(fact(ms, "time_unit")->value == "ms");
+  const InputError days = read_error("Time [days],A1,A2\n0,0.1,0.2\n1,0.11,0.22\n", load_profile("wide-generic"));
+  REQUIRE(!days.fixes().empty());
+  CHECK(days.fixes()[0].find("convert them to s, min, h or ms") != std::string::npos);
+}

@@ -24,7 +24,7 @@ std::string_view to_string(Shape s);
 
 // Unit of read times written as plain numbers. Text with ':' is always clock time
 // ("h:mm:ss", "mm:ss", "h:mm:ss.s"), whatever the unit.
-enum class TimeUnit { seconds, minutes, hours };
+enum class TimeUnit { seconds, minutes, hours, milliseconds };
 std::string_view to_string(TimeUnit t);
 
 // A line matching `label` starts a channel section; capture group 1, when the regex has

@@ -104,7 +104,7 @@ int cmd_inspect(const Args& args) {
                      "instrument profile: a built-in name or a .toml path (default: detect)")(
       "sheet", po::value(&sheet), "sheet of an .xlsx workbook, by name (default: the first sheet)")(
       "time-unit", po::value(&time_unit),
-      "unit of plain-number read times when the time header names none: s, min or h (as vzero rates)")(
+      "unit of plain-number read times when the time header names none: s, min, h or ms (as vzero rates)")(
       "help,h", "show this help");
   auto vm = parse_with_file(args, opts, file);
   if (vm.count("help")) {

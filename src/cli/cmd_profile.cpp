@@ -104,7 +104,7 @@ int cmd_profile(const Args& args) {
   po::options_description opts(k_usage);
   opts.add_options()("profile,p", po::value(&profile), "check: the profile to read FILE with (name or .toml path)")(
       "sheet", po::value(&sheet), "check: sheet of an .xlsx workbook (default: the first sheet)")(
-      "time-unit", po::value(&time_unit), "check: unit of plain-number read times, s, min or h (as vzero rates)")(
+      "time-unit", po::value(&time_unit), "check: unit of plain-number read times, s, min, h or ms (as vzero rates)")(
       "help,h", "show this help");
   po::options_description hidden;
   hidden.add_options()("action", po::value(&action))("name", po::value(&name));

@@ -37,6 +37,8 @@ std::string_view to_string(TimeUnit t) {
       return "min";
     case TimeUnit::hours:
       return "h";
+    case TimeUnit::milliseconds:
+      return "ms";
   }
   return "s";
 }
@@ -142,8 +144,10 @@ class ProfileParser {
         p.time_unit = TimeUnit::minutes;
       else if (*v == "h")
         p.time_unit = TimeUnit::hours;
+      else if (*v == "ms")
+        p.time_unit = TimeUnit::milliseconds;
       else
-        bad_value(root_, "time_unit", *v, "\"s\", \"min\" or \"h\"");
+        bad_value(root_, "time_unit", *v, "\"s\", \"min\", \"h\" or \"ms\"");
       p.time_unit_from = "profile " + source_;
     }
   }
@@ -349,8 +353,10 @@ void state_time_unit(Profile& p, const std::string& unit) {
     p.time_unit = TimeUnit::minutes;
   else if (unit == "h")
     p.time_unit = TimeUnit::hours;
+  else if (unit == "ms")
+    p.time_unit = TimeUnit::milliseconds;
   else
-    throw UsageError(fmt::format("--time-unit is \"{}\"; use s, min or h", unit));
+    throw UsageError(fmt::format("--time-unit is \"{}\"; use s, min, h or ms", unit));
   p.time_unit_from = "--time-unit " + unit;
 }
 

@@ -145,6 +145,9 @@ std::optional<double> parse_time(std::string_view text, TimeUnit unit, char deci
     case TimeUnit::hours:
       s *= 3600;
       break;
+    case TimeUnit::milliseconds:
+      s /= 1000;
+      break;
   }
   if (!(std::fabs(s) <= k_max_time_s)) return std::nullopt;
   return s;
@@ -191,6 +194,8 @@ std::optional<TimeUnit> unit_in_header(std::string_view header) {
   auto ends = [&](std::string_view suffix) {
     return h.size() >= suffix.size() && h.compare(h.size() - suffix.size(), suffix.size(), suffix) == 0;
   };
+  for (auto s : {"[ms]", "(ms)", "_ms", " ms"})
+    if (ends(s)) return TimeUnit::milliseconds;
   for (auto s : {"[s]", "(s)", "_s", "[sec]", "(sec)", " s", "[secs]", "(secs)", "[seconds]", "(seconds)"})
     if (ends(s)) return TimeUnit::seconds;
   for (auto s : {"[min]", "(min)", "_min", " min", "[mins]", "(mins)", "[minutes]", "(minutes)"})
@@ -230,6 +235,14 @@ InputError missing_column_error(Where where, std::string_view what, const std::v
     return InputError(std::move(where), std::move(message),
                       {fmt::format("\"{}\" holds hours and minutes, which vzero would read as minutes and seconds: "
                                    "write the times as h:mm:ss (0:01:00) or as minutes under \"Time [min]\"",
+                                   unknown)});
+  // A time header with a unit vzero does not read ("Time [days]", "Time [µs]"): renaming it
+  // would keep the numbers in their own unit.
+  if (time && u.rfind("time", 0) == 0 && (u.back() == ']' || u.back() == ')'))
+    return InputError(std::move(where), std::move(message),
+                      {fmt::format("if \"{}\" holds the read times in a unit vzero does not read, convert them to s, "
+                                   "min, h or ms and name that unit in the header (\"Time [s]\"); renaming the "
+                                   "header alone would read the numbers in the wrong unit",
                                    unknown)});
   std::string fix = unknown.empty()
                         ? fmt::format("add the column of {} to the export, with a header such as {}", holds, suggested)

@@ -44,7 +44,7 @@ void add_input_options(std::vector<OptionSpec>& t) {
       "instrument profile for every FILE: built-in name or .toml path (default: detect per file)"));
   {
     OptionSpec o = choice(
-        "time-unit", k_io, "", {"s", "min", "h"},
+        "time-unit", k_io, "", {"s", "min", "h", "ms"},
         [](S& s, const V& v) {
           s.time_unit = v.text;
           return std::string();
