@@ -331,6 +331,15 @@ TEST_CASE("milliseconds in the time header are read; a unit vzero does not read 
                                load_profile("wide-generic"));
   CHECK(ms.channels[0].time_s == std::vector<double>{0, 30, 60});  // 1 ms = 0.001 s (SI)
   CHECK(fact(ms, "time_unit")->value == "ms");
+  CHECK(ms.read_warnings.empty());
+  // The same numbers as seconds are 8.3 h apart: read as stated, but said out loud.
+  for (const char* header : {"Time [s]", "Time"}) {
+    const Run s = read_run_text("t.csv", std::string(header) + ",A1,A2\n0,0.1,0.2\n30000,0.11,0.22\n60000,0.12,0.24\n",
+                                load_profile("wide-generic"));
+    REQUIRE(s.read_warnings.size() == 1);
+    CHECK(s.read_warnings[0].find("a median step of 8.33 h between reads: if they are milliseconds, every rate is "
+                                  "1000 × too slow") != std::string::npos);
+  }
   const InputError days = read_error("Time [days],A1,A2\n0,0.1,0.2\n1,0.11,0.22\n", load_profile("wide-generic"));
   REQUIRE(!days.fixes().empty());
   CHECK(days.fixes()[0].find("convert them to s, min, h or ms") != std::string::npos);

@@ -55,9 +55,26 @@ std::string not_seconds(const Channel& c) {
   return "";
 }
 
+// Seconds (stated or inferred) more than an hour apart between reads: milliseconds read as
+// seconds give rates 1000 × too slow, and an enzyme kinetic read hours apart is rare enough to
+// say out loud (common practice: kinetic plate reads are seconds to minutes apart).
+constexpr double k_long_step_s = 3600;
+void warn_long_steps(Run& run, std::string_view basis, std::string_view fix) {
+  for (const auto& c : run.channels)
+    if (c.reads() > 1 && median_step(c.time_s) > k_long_step_s) {
+      run.read_warnings.push_back(fmt::format(
+          "times read as seconds ({}), with a median step of {:.3g} h between reads: if they are milliseconds, "
+          "every rate is 1000 × too slow; {}",
+          basis, median_step(c.time_s) / 3600, fix));
+      return;
+    }
+}
+
 void settle_time_unit(Run& run, const ReadInfo& info) {
   if (!info.time_basis.empty()) {
     run.read_facts.push_back({"time_unit", std::string(to_string(info.time_unit)), info.time_basis});
+    if (info.time_unit == TimeUnit::seconds)
+      warn_long_steps(run, fmt::format("as {} states", info.time_basis), "correct it or re-export");
     // The stated unit stands, but seconds at steps no plate reader makes are said out loud:
     // minutes written under a seconds header give rates 60 × too fast.
     if (info.time_unit == TimeUnit::seconds)
@@ -112,6 +129,8 @@ void settle_time_unit(Run& run, const ReadInfo& info) {
         median_step(c.time_s), c.wells.size(), c.wells.size() == 1 ? "" : "s");
   }
   run.read_facts.push_back({"time_unit", "s", basis});
+  warn_long_steps(run, "no unit stated",
+                  "pass --time-unit ms, set `time_unit` in a profile, or name it in the time header (\"Time [ms]\")");
 }
 
 }  // namespace
