@@ -212,6 +212,9 @@ TEST_CASE("a grid read label's unit (\"at 30 s\") states the unit; a bare number
   const InputError e = read_error(bare, load_profile("grid-generic"));
   CHECK(e.where().line == 1);  // the first read label
   CHECK(std::string(e.message()).find("not seconds") != std::string::npos);
+  const Run ms = read_run_text("g.txt", "Read 1 at 0 ms\n\t1\nA\t0.1\n\nRead 2 at 30000 ms\n\t1\nA\t0.2\n",
+                               load_profile("grid-generic"));
+  CHECK(ms.channels[0].time_s == std::vector<double>{0, 30});  // 1 ms = 0.001 s (SI)
 }
 
 TEST_CASE("--time-unit that contradicts the unit in the time header is refused, not overridden in silence") {

@@ -21,6 +21,7 @@ std::optional<TimeUnit> unit_after(std::string_view rest) {
   if (word("s") || word("sec")) return TimeUnit::seconds;
   if (word("min")) return TimeUnit::minutes;
   if (word("h")) return TimeUnit::hours;
+  if (word("ms")) return TimeUnit::milliseconds;
   return std::nullopt;
 }
 
