@@ -290,18 +290,22 @@ TEST_CASE("a word beside every well is no channel; fluorescence tags name theirs
 }
 
 TEST_CASE("a long table's well column under another name: the one header with the word well, noted") {
-  const Run run = read_run_text("l.csv", "Well Position,Time (s),A405\nA1,0,0.1\nA1,30,0.2\nB2,0,0.3\nB2,30,0.5\n",
+  const Run run = read_run_text("l.csv", "Well ID,Time (s),A405\nA1,0,0.1\nA1,30,0.2\nB2,0,0.3\nB2,30,0.5\n",
                                 load_profile("long-generic"));
   REQUIRE(run.channels.size() == 1);
   CHECK(run.channels[0].name == "A405");
   CHECK(run.channels[0].wells.size() == 2);
   CHECK(run.channels[0].values(1, 1) == 0.5);  // B2 at 30 s
-  CHECK(run.read_notes == std::vector<std::string>{"line 1: the well column is \"Well Position\", the one header with "
+  CHECK(run.read_notes == std::vector<std::string>{"line 1: the well column is \"Well ID\", the one header with "
                                                    "the word well (`columns.well` names none of this file's headers)"});
   // Two headers with the word: neither is taken.
   const InputError two =
-      read_error("Well Position,Well Type,Time (s),A405\nA1,sample,0,0.1\n", load_profile("long-generic"));
+      read_error("Well ID,Well type,Time (s),A405\nA1,sample,0,0.1\n", load_profile("long-generic"));
   CHECK(two.where().line == 2);
+  // "Well A1" names a well: a wide table's column, never a long table's well column.
+  const InputError wide =
+      read_error("Time [s],Well A1,Foo\n0,0.1,0.2\n", load_profile("long-generic"));
+  CHECK(std::string(wide.message()) == "found no header naming the well, time and value columns");
 }
 
 TEST_CASE("time headers with a unit in brackets; clock times with one ':' that cannot be seconds stop") {

@@ -101,7 +101,7 @@ TEST_CASE("across: bare numbers keep the time unit rule; rows that cannot be rea
 
 TEST_CASE("across: a read-number line above the times and a 'Temp. [C]' row") {
   const Run run = read_run_text("t.csv",
-                                "Cycle Nr.,1,2,3\nTime [s],0,30,60\nTemp. [C],25.0,25.1,25.0\nA1,0.1,0.2,0.3\n",
+                                "Cycle,1,2,3\nTime [s],0,30,60\nTemp. [C],25.0,25.1,25.0\nA1,0.1,0.2,0.3\n",
                                 load_profile("wide-generic"));
   REQUIRE(run.channels.size() == 1);
   CHECK(run.channels[0].time_s == std::vector<double>{0, 30, 60});

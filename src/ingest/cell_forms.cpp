@@ -86,9 +86,21 @@ bool temperature_header(std::string_view header, const std::vector<std::string>&
   return space != std::string_view::npos && celsius(h.substr(space + 1)) && named(trim(h.substr(0, space)), true);
 }
 
+bool named_in(std::string_view text, const std::vector<std::string>& names) {
+  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
+}
+
+std::string bare_wavelength(std::string_view text) {
+  std::string_view t = trim(text);
+  if (t.size() > 2 && iequals(t.substr(t.size() - 2), "nm")) t = trim(t.substr(0, t.size() - 2));
+  const bool digits =
+      t.size() >= 3 && t.size() <= 4 && std::all_of(t.begin(), t.end(), [](char c) { return c >= '0' && c <= '9'; });
+  return digits ? std::string(t) : std::string();
+}
+
 bool time_header(std::string_view header, const std::vector<std::string>& names) {
   const std::string_view h = trim(header);
-  if (std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(h, n); })) return true;
+  if (named_in(h, names)) return true;
   if (h.size() < 4 || (h.back() != ')' && h.back() != ']')) return false;
   const std::size_t open = h.rfind(h.back() == ')' ? '(' : '[');
   if (open == std::string_view::npos || open == 0) return false;
@@ -111,13 +123,7 @@ std::optional<SectionStart> signal_header(std::string_view header) {
     l = std::string(trim(std::string_view(l).substr(0, open)));
   }
   // A wavelength of 3 or 4 digits, with or without "nm", after the stem or in the brackets.
-  const auto wavelength = [](std::string_view t) -> std::string {
-    t = trim(t);
-    if (t.size() > 2 && t.substr(t.size() - 2) == "nm") t = trim(t.substr(0, t.size() - 2));
-    const bool digits = t.size() >= 3 && t.size() <= 4 &&
-                        std::all_of(t.begin(), t.end(), [](char c) { return c >= '0' && c <= '9'; });
-    return digits ? std::string(t) : std::string();
-  };
+  const auto wavelength = [](std::string_view t) { return bare_wavelength(t); };
   std::string stem = l, wl;
   for (const char* s : {"absorbance", "abs", "od", "a"}) {
     const std::size_t n = std::char_traits<char>::length(s);

@@ -25,11 +25,6 @@ bool mentions_any(std::string_view line, const std::vector<std::string>& names) 
   return false;
 }
 
-// True when `name` is one of `names`, ignoring ASCII case.
-bool named(std::string_view name, const std::vector<std::string>& names) {
-  return std::any_of(names.begin(), names.end(), [&](const std::string& n) { return iequals(name, n); });
-}
-
 int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names) {
   for (const auto& n : names)
     for (std::size_t i = 0; i < f.size(); ++i)
@@ -47,7 +42,7 @@ int lone_signal_column(const Profile& p, const std::vector<FieldView>& views, in
     const auto k = static_cast<int>(i);
     if (k == well || k == time) continue;
     const std::string_view name = trim(views[i].text);
-    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
+    if (named_in(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
     if (auto s = signal_header(name)) {
       ++count;
       found = k;
@@ -73,7 +68,7 @@ std::optional<InputError> near_header(const Profile& p, Columns c, const std::ve
     const auto k = static_cast<int>(i);
     const std::string_view name = trim(views[i].text);
     if (name.empty() || k == c.well || k == c.time || k == c.value) continue;
-    if (named(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
+    if (named_in(name, p.channel_columns) || temperature_header(name, p.temperature_columns)) continue;
     unknown = &views[i];
     ++unknowns;
   }
@@ -95,15 +90,19 @@ int lone_well_column(const std::vector<FieldView>& views) {
   int found = -1, count = 0;
   for (std::size_t i = 0; i < views.size(); ++i) {
     const std::string_view name = trim(views[i].text);
-    bool has = false;
-    for (std::size_t at = 0; at < name.size() && !has;) {
-      while (at < name.size() && !std::isalpha(static_cast<unsigned char>(name[at]))) ++at;
+    // Words of letters and digits; a word that is a well ("Well A1") makes the cell a wide
+    // table's well column, not a long table's.
+    bool has = false, names_a_well = false;
+    for (std::size_t at = 0; at < name.size();) {
+      while (at < name.size() && !std::isalnum(static_cast<unsigned char>(name[at]))) ++at;
       std::size_t end = at;
-      while (end < name.size() && std::isalpha(static_cast<unsigned char>(name[end]))) ++end;
-      has = iequals(name.substr(at, end - at), "well");
+      while (end < name.size() && std::isalnum(static_cast<unsigned char>(name[end]))) ++end;
+      const std::string_view word = name.substr(at, end - at);
+      has = has || iequals(word, "well");
+      names_a_well = names_a_well || (!word.empty() && parse_well(word));
       at = end;
     }
-    if (has) {
+    if (has && !names_a_well) {
       ++count;
       found = static_cast<int>(i);
     }

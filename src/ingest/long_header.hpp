@@ -28,8 +28,6 @@ struct Columns {
 // well-column name cannot be the header, and is passed over without splitting it (detection
 // tries this reader on every file, wide ones included).
 bool mentions_any(std::string_view line, const std::vector<std::string>& names);
-// True when `name` is one of `names`, ignoring ASCII case.
-bool named(std::string_view name, const std::vector<std::string>& names);
 // The first field that one of `names` heads (names in order), or -1.
 int find_column(const std::vector<FieldView>& f, const std::vector<std::string>& names);
 // The time column: the first field one of `names` heads (names in order), else the first
@@ -41,7 +39,8 @@ int find_time_column(const std::vector<FieldView>& f, const std::vector<std::str
 int lone_signal_column(const Profile& p, const std::vector<FieldView>& views, int well, int time,
                        std::optional<SectionStart>* signal = nullptr);
 // No column the profile calls the well's: the one field whose header has the word "well"
-// among its words ("Well Position", "Well ID", "well_name"), if exactly one has; -1 otherwise.
+// among its words ("Well ID", "Plate well", "well_name") and no well name ("Well A1" heads a
+// wide table's column), if exactly one has; -1 otherwise.
 int lone_well_column(const std::vector<FieldView>& views);
 // For a line naming the well column and one of the time and value columns but not the
 // other (the header, most likely, with that column under another name): the error to give

@@ -23,12 +23,9 @@ struct CutShort {};
 // there is one ("Well A1": the word is no channel).
 SectionStart tagged_channel(const SectionStart& block, const std::string& tag, bool several) {
   if (auto s = signal_header(tag)) return *s;
-  std::string_view t = tag;
-  if (t.size() > 2 && t.substr(t.size() - 2) == "nm") t = trim(t.substr(0, t.size() - 2));
-  const bool wavelength =
-      t.size() >= 3 && t.size() <= 4 && std::all_of(t.begin(), t.end(), [](char ch) { return ch >= '0' && ch <= '9'; });
-  if (wavelength && (block.quantity == Quantity::absorbance || block.quantity == Quantity::other))
-    return SectionStart{"A" + std::string(t), Quantity::absorbance, "AU", 0};
+  const std::string wl = bare_wavelength(tag);
+  if (!wl.empty() && (block.quantity == Quantity::absorbance || block.quantity == Quantity::other))
+    return SectionStart{"A" + wl, Quantity::absorbance, "AU", 0};
   if (!several) return block;
   SectionStart s{tag, Quantity::other, "", 0};
   guess_quantity(tag, s.quantity, s.unit);

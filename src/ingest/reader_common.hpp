@@ -74,6 +74,12 @@ std::string bad_time_message(std::string_view text, TimeUnit unit, char decimal,
 // range a fix about the time unit.
 [[noreturn]] void bad_time_error(Where where, std::string_view text, TimeUnit unit, char decimal, std::string_view what,
                                  std::vector<std::string> fixes);
+// True when `text` (trimmed) is one of `names`, ignoring ASCII case: a header the profile
+// names.
+bool named_in(std::string_view text, const std::vector<std::string>& names);
+// A wavelength of 3 or 4 digits, with or without "nm" after it ("405", "405 nm", "340nm"):
+// its digits, or "" for any other text.
+std::string bare_wavelength(std::string_view text);
 // The unit a time header names ("Time [min]", "time_s", "Time (seconds)"), if any.
 std::optional<TimeUnit> unit_in_header(std::string_view header);
 // True when a header names the time column: one of `names` (case-insensitive), or one of

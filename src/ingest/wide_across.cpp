@@ -9,18 +9,6 @@ namespace vzero::detail {
 
 namespace {
 
-bool named(std::string_view text, const std::vector<std::string>& names) {
-  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
-}
-
-// Fields of a split line without the empty ones at its end.
-template <class F>
-std::size_t without_trailing_empty(const std::vector<F>& f) {
-  std::size_t n = f.size();
-  while (n > 0 && trim(f[n - 1].text).empty()) --n;
-  return n;
-}
-
 }  // namespace
 
 std::optional<AcrossHeader> try_across_header(const Profile& p, std::string_view line, const std::string& file,
@@ -29,11 +17,12 @@ std::optional<AcrossHeader> try_across_header(const Profile& p, std::string_view
   if (d == 0) return std::nullopt;
   std::vector<Field> f;
   split_fields_into(line, d, f);
-  const std::size_t n = without_trailing_empty(f);
+  std::size_t n = f.size();  // empty fields at the end left out
+  while (n > 0 && trim(f[n - 1].text).empty()) --n;
   if (n < 3) return std::nullopt;
   const std::string_view first = trim(f[0].text);
   const bool by_time = time_header(first, p.time_columns);
-  if (!by_time && !named(first, p.well_columns)) return std::nullopt;
+  if (!by_time && !named_in(first, p.well_columns)) return std::nullopt;
   AcrossHeader h;
   h.delimiter = d;
   h.line = line_no;
@@ -63,7 +52,7 @@ AcrossBlock::Taken AcrossBlock::add(const CompiledProfile& cp, std::string_view 
   const bool temperature = !well && temperature_header(first, p.temperature_columns);
   std::size_t n = fields_.size();  // empty cells past the header's last read: a spreadsheet's padding
   while (n > h_.fields && trim(fields_[n - 1].text).empty()) --n;
-  if (!well && !temperature && !named(first, p.ignore_columns)) {
+  if (!well && !temperature && !named_in(first, p.ignore_columns)) {
     // A row of the table's width under a name vzero does not know is refused, not skipped: it
     // may be a well written another way. A line of another width ends the block.
     if (n != h_.fields || (prefix_only && !wells_.empty())) return Taken::no;

@@ -9,10 +9,6 @@ namespace vzero::detail {
 
 namespace {
 
-bool matches_any(std::string_view text, const std::vector<std::string>& names) {
-  return std::any_of(names.begin(), names.end(), [t = trim(text)](const std::string& n) { return iequals(t, n); });
-}
-
 // True when field i and every field after it are empty: the columns a spreadsheet adds at
 // the end of each line when it saves a CSV again.
 bool trailing_empty(const std::vector<Field>& fields, std::size_t i) {
@@ -31,10 +27,10 @@ void note_near_header(const Profile& p, std::string_view line, const std::string
   for (const auto& f : fields) {
     const std::string_view name = trim(f.text);
     const std::string l = lower(name);
-    if (!counter && matches_any(name, p.ignore_columns) && (l.rfind("cycle", 0) == 0 || l.rfind("read", 0) == 0))
+    if (!counter && named_in(name, p.ignore_columns) && (l.rfind("cycle", 0) == 0 || l.rfind("read", 0) == 0))
       counter = &f;
     if (name.empty() || parse_well(name) || temperature_header(name, p.temperature_columns) ||
-        matches_any(name, p.ignore_columns))
+        named_in(name, p.ignore_columns))
       continue;
     if (unknown) return;  // two fields that are neither: not a header of wells
     unknown = &f;
@@ -43,34 +39,6 @@ void note_near_header(const Profile& p, std::string_view line, const std::string
   near = missing_column_error(Where{file, line_no, unknown ? unknown->column : 1, std::string(line)}, "time",
                               p.time_columns, fmt::format("of {} well column{}", wells, wells == 1 ? "" : "s"),
                               unknown ? trim(unknown->text) : std::string_view());
-}
-
-// Keeps in `near` a line with a time column whose other columns name no well as such, when
-// one of them holds a well name among other words ("Well A1", "A1 (405)"): the header, most
-// likely, with its well columns written another way.
-void note_decorated_wells(std::string_view line, const std::string& file, int line_no, const std::vector<Field>& fields,
-                          int time_col, std::optional<InputError>& near) {
-  for (std::size_t i = 0; i < fields.size(); ++i) {
-    if (static_cast<int>(i) == time_col) continue;
-    const std::string_view name = trim(fields[i].text);
-    std::size_t at = 0;
-    while (at < name.size()) {
-      const std::size_t end = name.find_first_of(" ()[]_-:/", at);
-      const std::string_view word = name.substr(at, end == std::string_view::npos ? std::string_view::npos : end - at);
-      if (!word.empty() && parse_well(word)) {
-        near = InputError(
-            Where{file, line_no, fields[i].column, std::string(line)},
-            fmt::format("expected well columns named by their wells alone (A1 … AF48) beside the time column \"{}\", "
-                        "found \"{}\"",
-                        trim(fields[static_cast<std::size_t>(time_col)].text), name),
-            {fmt::format("rename the well columns to the bare well names (\"{}\" → \"{}\") and read the file again",
-                         name, word)});
-        return;
-      }
-      if (end == std::string_view::npos) break;
-      at = end + 1;
-    }
-  }
 }
 
 // A well column named by its well and a channel tag: "A1 (340)", "A1 [405 nm]", "A1_340",
@@ -105,6 +73,28 @@ std::optional<std::pair<WellId, std::string>> tagged_well(std::string_view name)
   return std::make_pair(*well, std::string(tag));
 }
 
+// Keeps in `near` a line with a time column whose other columns name no well as such, when
+// one of them holds a well name among other words ("Well A1", "A1 (405)") but not every well
+// column does (try_header reads those): the header, most likely, with its well columns
+// written another way.
+void note_decorated_wells(std::string_view line, const std::string& file, int line_no, const std::vector<Field>& fields,
+                          int time_col, std::optional<InputError>& near) {
+  for (std::size_t i = 0; i < fields.size(); ++i) {
+    if (static_cast<int>(i) == time_col) continue;
+    const std::string_view name = trim(fields[i].text);
+    if (auto tw = tagged_well(name)) {
+      near = InputError(
+          Where{file, line_no, fields[i].column, std::string(line)},
+          fmt::format("expected well columns named by their wells alone (A1 … AF48) beside the time column \"{}\", "
+                      "found \"{}\"",
+                      trim(fields[static_cast<std::size_t>(time_col)].text), name),
+          {fmt::format("rename the well columns to the bare well names (\"{}\" → \"{}\") and read the file again",
+                       name, well_name(tw->first))});
+      return;
+    }
+  }
+}
+
 // True when every column but the time, temperature, ignored and empty ones is a tagged well
 // column (and there is one).
 bool all_tagged(const Profile& p, const std::vector<Field>& fields, int time_col) {
@@ -112,7 +102,7 @@ bool all_tagged(const Profile& p, const std::vector<Field>& fields, int time_col
   for (std::size_t i = 0; i < fields.size(); ++i) {
     const std::string_view name = trim(fields[i].text);
     if (static_cast<int>(i) == time_col || name.empty() || temperature_header(name, p.temperature_columns) ||
-        matches_any(name, p.ignore_columns))
+        named_in(name, p.ignore_columns))
       continue;
     if (!tagged_well(name)) return false;
     ++tagged;
@@ -152,26 +142,26 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
   std::vector<std::vector<int>> seen_at(1, std::vector<int>(32 * 48, 0));  // per channel: field where each
                                                                            // well was first seen, 0 = not yet
   const std::optional<PlateFormat> fixed = fixed_format(p);
+  // A well column's well and channel (0 when untagged); a tag seen first gets its channel.
+  int c = 0;
+  const auto well_of = [&](std::string_view name) -> std::optional<WellId> {
+    c = 0;
+    if (!tagged) return parse_well(name);
+    auto tw = tagged_well(name);
+    if (!tw) return std::nullopt;
+    const auto known = std::find(h.tags.begin(), h.tags.end(), tw->second);
+    c = static_cast<int>(known - h.tags.begin());
+    if (known == h.tags.end()) {
+      h.tags.push_back(tw->second);
+      h.tag_wells.emplace_back();
+      if (c > 0) seen_at.emplace_back(32 * 48, 0);
+    }
+    if (h.tagged_example.empty()) h.tagged_example = std::string(name);
+    return tw->first;
+  };
   for (std::size_t i = 0; i < fields.size(); ++i) {
     std::string_view name = trim(fields[i].text);
     int col = static_cast<int>(i);
-    std::optional<WellId> w;
-    int c = 0;  // the column's channel
-    if (col != time_col && (h.temp_col >= 0 || !temperature_header(name, p.temperature_columns))) {
-      if (!tagged) {
-        w = parse_well(name);
-      } else if (auto tw = tagged_well(name)) {
-        w = tw->first;
-        const auto known = std::find(h.tags.begin(), h.tags.end(), tw->second);
-        c = static_cast<int>(known - h.tags.begin());
-        if (known == h.tags.end()) {
-          h.tags.push_back(tw->second);
-          h.tag_wells.emplace_back();
-          if (c > 0) seen_at.emplace_back(32 * 48, 0);
-        }
-        if (h.tagged_example.empty()) h.tagged_example = std::string(name);
-      }
-    }
     if (col == time_col) {
       h.roles.push_back(ColumnRole::time);
       h.slot.push_back(-1);
@@ -181,7 +171,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.roles.push_back(ColumnRole::temperature);
       h.slot.push_back(-1);
       h.chan.push_back(-1);
-    } else if (w) {
+    } else if (auto w = well_of(name)) {
       int& prev_field = seen_at[static_cast<std::size_t>(c)][static_cast<std::size_t>(w->row * 48 + w->column)];
       if (prev_field != 0) {
         throw InputError(Where{file, line_no, fields[i].column, std::string(line)},
@@ -198,7 +188,7 @@ std::optional<Header> try_header(const Profile& p, std::string_view line, const 
       h.slot.push_back(static_cast<int>(channel_wells.size()));
       h.chan.push_back(c);
       channel_wells.push_back(*w);
-    } else if (matches_any(name, p.ignore_columns) || (name.empty() && trailing_empty(fields, i))) {
+    } else if (named_in(name, p.ignore_columns) || (name.empty() && trailing_empty(fields, i))) {
       h.roles.push_back(name.empty() ? ColumnRole::padding : ColumnRole::ignored);
       h.slot.push_back(-1);
       h.chan.push_back(-1);
